@@ -1,0 +1,11 @@
+"""letdown: steady-state flowsheets for natural-gas pressure let-down stations and chilling trains."""
+from .errors import ConvergenceError, InputError, LetdownError, ModelError, TopologyError  # noqa: F401
+from .fluid import Fluid, State, States  # noqa: F401
+
+__version__ = "0.1.0"
+
+
+def load(path):
+    """Load a flowsheet file into a :class:`letdown.sheet.Sheet` (see the README for the format)."""
+    from .sheet.solve import load as _load
+    return _load(path)

@@ -1,0 +1,485 @@
+"""Batch state calculations on a cubic equation of state: PT, PH, PS flashes and saturation points.
+
+This is the engine behind :class:`letdown.Fluid` for the cubic models. Everything is vectorised over
+cases: T, P, h, s of shape (n,) and compositions of shape (n, nc).
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from . import flash as fl
+from .components import P_REF, R, ComponentSet
+from .cubic import CubicEOS
+from .state import States
+
+#: Temperature step for the effective two-phase heat capacity and Joule-Thomson coefficient [K];
+#: central differences with warm-started flashes (truncation error ~1e-6 relative).
+TWO_PHASE_DT = 0.01
+#: Pressure step (relative) for the two-phase Joule-Thomson coefficient [-].
+TWO_PHASE_DP_REL = 1e-5
+#: Grid for locating phase boundaries by the stability test.
+SAT_GRID_POINTS = 48
+SAT_BISECTIONS = 48
+
+
+class CubicEngine:
+    """Flash calculations for one component set on one cubic EOS.
+
+    Parameters
+    ----------
+    comps : ComponentSet
+    eos : CubicEOS
+    volume_shift : bool
+        Report volumes and densities with the Peneloux translation.
+    """
+
+    def __init__(self, comps: ComponentSet, eos: CubicEOS, volume_shift: bool = False):
+        self.comps = comps
+        self.eos = eos
+        self.volume_shift = volume_shift
+        self.model = eos.kind.name
+
+    # ----------------------------------------------------------------- phase properties
+    def _phase(self, T, P, xs, code):
+        """All properties of phases with compositions xs, root code (+1 V, -1 L, 0 stable)."""
+        c = self.comps
+        p = self.eos.properties(T, P, xs, code)
+        h0 = np.einsum("ij,ij->i", xs, c.h0(T))
+        with np.errstate(divide="ignore", invalid="ignore"):
+            mix = np.sum(np.where(xs > 0, xs * np.log(xs), 0.0), axis=1)
+        s0 = np.einsum("ij,ij->i", xs, c.s0(T)) - R * np.log(P / P_REF) - R * mix
+        cp0 = np.einsum("ij,ij->i", xs, c.cp0(T))
+        h = h0 + p["h_res"]
+        s = s0 + p["s_res"]
+        cv = cp0 - R + p["cv_res"]
+        dvdT = -p["dPdT"] / p["dPdv"]
+        cp = cv - T * p["dPdT"] * dvdT
+        v = p["v"]
+        M = xs @ c.Ms
+        jt = (T * dvdT - v) / cp
+        with np.errstate(invalid="ignore"):
+            w = np.sqrt(-v * v * (cp / cv) * p["dPdv"] / M)
+        v_rep = v - p["c_shift"] if self.volume_shift else v
+        return {"h": h, "s": s, "cp": cp, "cv": cv, "jt": jt, "w": w, "v": v_rep,
+                "Z": P * v_rep / (R * T), "density": M / v_rep, "molar_mass": M}
+
+    def _assemble(self, T, P, zs, split: fl.PTSplit, extra_conv=None, K=None):
+        n = T.shape[0]
+        two = split.n_phases == 2
+        beta = split.beta
+        codeA = np.where(two, 1, 0)
+        A = self._phase(T, P, np.where(two[:, None], split.ys, zs), codeA)
+        out = {k: A[k].copy() for k in ("h", "s", "cp", "cv", "jt", "w", "Z", "density")}
+        nan = np.full(n, np.nan)
+        vap = {k: np.where(beta > 0, A[k], nan) for k in ("Z", "density", "h", "s", "molar_mass")}
+        liq = {k: np.where(beta < 1, A[k], nan) for k in ("Z", "density", "h", "s", "molar_mass")}
+        if two.any():
+            i = np.nonzero(two)[0]
+            L = self._phase(T[i], P[i], split.xs[i], -1)
+            b = beta[i]
+            out["h"][i] = b * A["h"][i] + (1 - b) * L["h"]
+            out["s"][i] = b * A["s"][i] + (1 - b) * L["s"]
+            v = b * A["v"][i] + (1 - b) * L["v"]
+            Mz = zs[i] @ self.comps.Ms
+            out["Z"][i] = P[i] * v / (R * T[i])
+            out["density"][i] = Mz / v
+            for k in ("Z", "density", "h", "s", "molar_mass"):
+                liq[k][i] = L[k]
+                vap[k][i] = A[k][i]
+            cp, jt = self._two_phase_derivatives(T[i], P[i], zs[i], split, i, out["h"][i])
+            out["cp"][i] = cp
+            out["jt"][i] = jt
+            out["cv"][i] = np.nan
+            out["w"][i] = np.nan
+        conv = split.report.converged.copy()
+        if extra_conv is not None:
+            conv &= extra_conv
+        M = zs @ self.comps.Ms
+        res = States(T=T.copy(), P=P.copy(), h=out["h"], s=out["s"], Z=out["Z"], cp=out["cp"],
+                     cv=out["cv"], jt=out["jt"], w=out["w"], density=out["density"],
+                     molar_mass=M, vapour_fraction=beta.copy(), zs=zs.copy(), ys=split.ys.copy(),
+                     xs=split.xs.copy(), n_phases=split.n_phases.copy(), converged=conv,
+                     vapour=vap, liquid=liq, components=self.comps.names, model=self.model, K=K)
+        return _blank_unconverged(res)
+
+    def _two_phase_derivatives(self, T, P, zs, split, i, h):
+        """Effective cp = (dh/dT)_P and jt = -(dh/dP)_T / cp across a two-phase state, by central
+        differences of warm-started flashes."""
+        with np.errstate(divide="ignore", invalid="ignore"):
+            K = np.where(split.xs[i] > 0, split.ys[i] / split.xs[i], 1.0)
+        hs = []
+        for dT, dP in ((TWO_PHASE_DT, 0.0), (-TWO_PHASE_DT, 0.0), (0.0, TWO_PHASE_DP_REL),
+                       (0.0, -TWO_PHASE_DP_REL)):
+            Tn = T + dT
+            Pn = P * (1.0 + dP)
+            sp = fl.flash_PT(self.eos, Tn, Pn, zs, K_init=K, assume=np.full(T.shape, 2))
+            hs.append(self._h_of_split(Tn, Pn, zs, sp))
+        cp = (hs[0] - hs[1]) / (2 * TWO_PHASE_DT)
+        dhdP = (hs[2] - hs[3]) / (2 * TWO_PHASE_DP_REL * P)
+        return cp, -dhdP / cp
+
+    def _h_of_split(self, T, P, zs, sp):
+        """Enthalpy of a split [J/mol], no other properties."""
+        return self._hs_of_split(T, P, zs, sp)[0]
+
+    def _hs_of_split(self, T, P, zs, sp):
+        """Enthalpy [J/mol], entropy [J/(mol K)] and single-phase cp (NaN for two phases)."""
+        c = self.comps
+        two = sp.n_phases == 2
+        code = np.where(two, 1, 0)
+        xa = np.where(two[:, None], sp.ys, zs)
+        pA = self.eos.properties(T, P, xa, code)
+        h0 = c.h0(T)
+        s0 = c.s0(T)
+        cp0 = c.cp0(T)
+
+        def hs(x, p):
+            with np.errstate(divide="ignore", invalid="ignore"):
+                mix = np.sum(np.where(x > 0, x * np.log(x), 0.0), axis=1)
+            hh = np.einsum("ij,ij->i", x, h0) + p["h_res"]
+            ss = (np.einsum("ij,ij->i", x, s0) - R * np.log(P / P_REF) - R * mix + p["s_res"])
+            return hh, ss
+
+        hA, sA = hs(xa, pA)
+        cpA = np.einsum("ij,ij->i", xa, cp0) - R + pA["cv_res"]
+        dvdT = -pA["dPdT"] / pA["dPdv"]
+        cpA = cpA - T * pA["dPdT"] * dvdT
+        h, s, cp = hA, sA, cpA
+        if two.any():
+            pL = self.eos.properties(T, P, sp.xs, -1)
+            hL, sL = hs(sp.xs, pL)
+            b = sp.beta
+            h = np.where(two, b * hA + (1 - b) * hL, hA)
+            s = np.where(two, b * sA + (1 - b) * sL, sA)
+            cp = np.where(two, np.nan, cpA)
+        return h, s, cp
+
+    # ----------------------------------------------------------------- flashes
+    def flash_TP(self, T, P, zs) -> States:
+        """Isothermal flash of a batch."""
+        _check_TP(T, P)
+        split = fl.flash_PT(self.eos, T, P, zs)
+        return self._assemble(T, P, zs, split)
+
+    def flash_PH(self, P, h, zs, T_guess=None) -> States:
+        """Isenthalpic flash of a batch (h in J/mol)."""
+        return self._flash_P_X(P, h, zs, "h", T_guess)
+
+    def flash_PS(self, P, s, zs, T_guess=None) -> States:
+        """Isentropic flash of a batch (s in J/(mol K))."""
+        return self._flash_P_X(P, s, zs, "s", T_guess)
+
+    def _flash_P_X(self, P, target, zs, which, T_guess):
+        n = P.shape[0]
+        _check_TP(np.full(n, 300.0), P)
+        pure, ip = fl._pure_index(zs)
+        T = np.empty(n)
+        conv = np.zeros(n, dtype=bool)
+        split_beta = np.full(n, np.nan)
+        out_split = None
+        if (~pure).any():
+            idx = np.nonzero(~pure)[0]
+            Tg = None if T_guess is None else T_guess[idx]
+            Ti, ok, sp = self._solve_T_mixture(P[idx], target[idx], zs[idx], which, Tg)
+            T[idx] = Ti
+            conv[idx] = ok
+            out_split = (idx, sp)
+        beta = np.empty(n)
+        xs = zs.copy()
+        ys = zs.copy()
+        nph = np.ones(n, dtype=int)
+        if out_split is not None:
+            idx, sp = out_split
+            beta[idx] = sp.beta
+            xs[idx] = sp.xs
+            ys[idx] = sp.ys
+            nph[idx] = sp.n_phases
+        if pure.any():
+            idx = np.nonzero(pure)[0]
+            Ti, bi, ok = self._solve_T_pure(P[idx], target[idx], zs[idx], ip[idx], which, T_guess)
+            T[idx] = Ti
+            beta[idx] = bi
+            conv[idx] = ok
+            nph[idx] = np.where((bi > 0) & (bi < 1), 2, 1)
+        split = fl.PTSplit(beta, xs, ys, nph, beta >= 1,
+                           fl.SolveReport(conv, np.zeros(n, int), np.zeros(n), f"P{which} flash"))
+        st = self._assemble(T, P, zs, split)
+        if pure.any():
+            st = self._fix_pure_two_phase(st, pure)
+        return st
+
+    def _fix_pure_two_phase(self, st: States, pure):
+        """For a pure fluid in its dome, phases share the composition; recompute both phases."""
+        i = np.nonzero(pure & (st.n_phases == 2))[0]
+        if i.size == 0:
+            return st
+        T, P, zs = st.T[i], st.P[i], st.zs[i]
+        V = self._phase(T, P, zs, 1)
+        L = self._phase(T, P, zs, -1)
+        b = st.vapour_fraction[i]
+        h = st.h.copy(); s = st.s.copy(); Z = st.Z.copy(); rho = st.density.copy()
+        cp = st.cp.copy(); cv = st.cv.copy(); jt = st.jt.copy(); w = st.w.copy()
+        h[i] = b * V["h"] + (1 - b) * L["h"]
+        s[i] = b * V["s"] + (1 - b) * L["s"]
+        v = b * V["v"] + (1 - b) * L["v"]
+        Z[i] = P * v / (R * T)
+        rho[i] = V["molar_mass"] / v
+        cp[i] = np.inf   # a pure fluid boils at constant T: (dh/dT)_P is unbounded
+        cv[i] = np.nan
+        w[i] = np.nan
+        # Clausius-Clapeyron: (dT/dP)_sat = T dv / dh, and along an isenthalp inside the dome T
+        # follows the saturation line
+        jt[i] = T * (V["v"] - L["v"]) / (V["h"] - L["h"])
+        vap = {k: a.copy() for k, a in st.vapour.items()}
+        liq = {k: a.copy() for k, a in st.liquid.items()}
+        for k in ("Z", "density", "h", "s", "molar_mass"):
+            vap[k][i] = V[k]
+            liq[k][i] = L[k]
+        from dataclasses import replace
+        return replace(st, h=h, s=s, Z=Z, density=rho, cp=cp, cv=cv, jt=jt, w=w, vapour=vap,
+                       liquid=liq)
+
+    def _solve_T_mixture(self, P, target, zs, which, T_guess):
+        """Safeguarded Newton on T for h(T, P) = target or s(T, P) = target.
+
+        Every iterate is a true equilibrium state: single-phase iterates come from a flash with a
+        stability test, two-phase iterates from a warm-started split (a split that collapses is
+        re-tested next pass). h(T) at fixed P is then continuous and increasing, so the bracket
+        [lo, hi] built from the signs of the residual always holds the answer. Slopes: the analytic
+        cp in one phase; a secant (or, on a first two-phase step, a forward difference) in two.
+        """
+        n = P.shape[0]
+        eos = self.eos
+        T = self._initial_T(P, target, zs, which) if T_guess is None else T_guess.astype(float).copy()
+        lo = np.full(n, fl.T_LOW)
+        hi = np.full(n, fl.T_HIGH)
+        assume = np.zeros(n, dtype=int)
+        K = np.ones(zs.shape)
+        conv = np.zeros(n, dtype=bool)
+        prev_T = np.full(n, np.nan)
+        prev_f = np.full(n, np.nan)
+        beta = np.ones(n)
+        xs = zs.copy()
+        ys = zs.copy()
+        nph = np.ones(n, dtype=int)
+        for it in range(fl.PH_MAX_ITER):
+            if conv.all():
+                break
+            i = np.nonzero(~conv)[0]
+            Ti, Pi, zi = T[i], P[i], zs[i]
+            sp = fl.flash_PT(eos, Ti, Pi, zi, K_init=K[i], assume=assume[i])
+            h, s, cp = self._hs_of_split(Ti, Pi, zi, sp)
+            f = (h if which == "h" else s) - target[i]
+            two = sp.n_phases == 2
+            beta[i], xs[i], ys[i], nph[i] = sp.beta, sp.xs, sp.ys, sp.n_phases
+            with np.errstate(divide="ignore", invalid="ignore"):
+                K[i] = np.where(two[:, None], sp.ys / sp.xs, K[i])
+            assume[i] = np.where(two, 2, 0)
+            lo[i] = np.where(f < 0, Ti, lo[i])
+            hi[i] = np.where(f > 0, Ti, hi[i])
+            slope = cp if which == "h" else cp / Ti
+            with np.errstate(divide="ignore", invalid="ignore"):
+                secant = (f - prev_f[i]) / (Ti - prev_T[i])
+            need_fd = two & ~(np.isfinite(secant) & (secant > 0))
+            if need_fd.any():
+                j = np.nonzero(need_fd)[0]
+                dT = 1e-3
+                sp2 = fl.flash_PT(eos, Ti[j] + dT, Pi[j], zi[j], K_init=K[i[j]],
+                                  assume=np.full(j.size, 2))
+                h2, s2, _ = self._hs_of_split(Ti[j] + dT, Pi[j], zi[j], sp2)
+                secant[j] = ((h2 if which == "h" else s2) - target[i[j]] - f[j]) / dT
+            slope = np.where(two, secant, slope)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                Tn = Ti - f / slope
+            bad = ~np.isfinite(Tn) | (Tn <= lo[i]) | (Tn >= hi[i])
+            Tn = np.where(bad, _bisect(lo[i], hi[i], Ti, f), Tn)
+            scale = np.where(np.isfinite(cp) & (cp > 0), cp, 100.0)
+            if which == "s":
+                scale = scale / Ti
+            done = (np.abs(Tn - Ti) < fl.PH_TOL_T) | (np.abs(f) < 1e-11 * scale)
+            prev_T[i] = Ti
+            prev_f[i] = f
+            T[i] = np.where(done, Ti, Tn)
+            conv[i] = done
+        split = fl.PTSplit(beta, xs, ys, nph, beta >= 1,
+                           fl.SolveReport(conv, np.zeros(n, int), np.zeros(n), ""))
+        return T, conv, split
+
+    def _initial_T(self, P, target, zs, which):
+        """Ideal-gas temperature with the target enthalpy (entropy), a few Newton steps."""
+        c = self.comps
+        T = np.full(P.shape, 300.0)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            mix = np.sum(np.where(zs > 0, zs * np.log(zs), 0.0), axis=1)
+        for _ in range(8):
+            cp0 = np.einsum("ij,ij->i", zs, c.cp0(T))
+            if which == "h":
+                f = np.einsum("ij,ij->i", zs, c.h0(T)) - target
+                T = T - f / cp0
+            else:
+                s0 = np.einsum("ij,ij->i", zs, c.s0(T)) - R * np.log(P / P_REF) - R * mix
+                T = T - (s0 - target) * T / cp0
+            T = np.clip(T, fl.T_LOW + 1.0, fl.T_HIGH - 1.0)
+        return T
+
+    def _solve_T_pure(self, P, target, zs, ip, which, T_guess):
+        """PH/PS for pure components: saturated when the target lies between the saturated
+        liquid and vapour values, otherwise a single-phase Newton on the proper side."""
+        n = P.shape[0]
+        Tsat = fl.pure_saturation_T(self.eos, P, ip)
+        has = np.isfinite(Tsat)
+        beta = np.full(n, -1.0)
+        T = np.full(n, np.nan)
+        conv = np.zeros(n, dtype=bool)
+        Tl = np.full(n, fl.T_LOW)
+        Th = np.full(n, fl.T_HIGH)
+        if has.any():
+            j = np.nonzero(has)[0]
+            V = self._phase(Tsat[j], P[j], zs[j], 1)
+            L = self._phase(Tsat[j], P[j], zs[j], -1)
+            xV, xL = V[which], L[which]
+            t = target[j]
+            inside = (t >= xL) & (t <= xV)
+            beta[j[inside]] = (t[inside] - xL[inside]) / (xV[inside] - xL[inside])
+            T[j[inside]] = Tsat[j[inside]]
+            conv[j[inside]] = True
+            Tl[j] = np.where(t > xV, Tsat[j], Tl[j])
+            Th[j] = np.where(t < xL, Tsat[j], Th[j])
+        rest = ~conv
+        if rest.any():
+            i = np.nonzero(rest)[0]
+            Ti = self._initial_T(P[i], target[i], zs[i], which)
+            Ti = np.clip(Ti, Tl[i] + 1e-6, Th[i] - 1e-6)
+            lo, hi = Tl[i].copy(), Th[i].copy()
+            # side of the dome decides the root: above Tsat vapour, below liquid
+            code = np.where(np.isfinite(Tsat[i]) & (hi <= Tsat[i] + 1e-12), -1,
+                            np.where(np.isfinite(Tsat[i]), 1, 0))
+            ok = np.zeros(i.size, dtype=bool)
+            for _ in range(fl.PH_MAX_ITER):
+                if ok.all():
+                    break
+                ph = self._phase(Ti, P[i], zs[i], code)
+                f = ph[which] - target[i]
+                slope = ph["cp"] if which == "h" else ph["cp"] / Ti
+                lo = np.where(f < 0, Ti, lo)
+                hi = np.where(f > 0, Ti, hi)
+                Tn = Ti - f / slope
+                bad = ~np.isfinite(Tn) | (Tn <= lo) | (Tn >= hi)
+                Tn = np.where(bad, _bisect(lo, hi, Ti, f), Tn)
+                ok = ok | (np.abs(Tn - Ti) < fl.PH_TOL_T)
+                Ti = np.where(ok, Ti, Tn)
+            T[i] = Ti
+            conv[i] = ok
+            beta[i] = np.where(code < 0, 0.0, 1.0)
+            # supercritical pressure: name by temperature
+            sc = code == 0
+            beta[i[sc]] = np.where(Ti[sc] > self.comps.Tcs[ip[i[sc]]], 1.0, 0.0)
+        return T, beta, conv
+
+    # ----------------------------------------------------------------- saturation
+    def saturation_T(self, P, zs, kind):
+        """Dew ('dew': highest T with a second phase) or bubble ('bubble': lowest T) temperature."""
+        return self._boundary(P, zs, kind, axis="T")
+
+    def saturation_P(self, T, zs, kind):
+        """Dew ('dew': lowest P with a second phase) or upper ('bubble': highest P) boundary."""
+        return self._boundary(T, zs, kind, axis="P")
+
+    def _unstable(self, T, P, zs):
+        pure, ip = fl._pure_index(zs)
+        res = np.zeros(T.shape, dtype=bool)
+        if (~pure).any():
+            i = np.nonzero(~pure)[0]
+            st = fl.stability(self.eos, T[i], P[i], zs[i], early_exit=True)
+            res[i] = st.unstable
+        return res
+
+    def _boundary(self, fixed, zs, kind, axis):
+        n = fixed.shape[0]
+        pure, ip = fl._pure_index(zs)
+        out = np.full(n, np.nan)
+        if pure.any():
+            i = np.nonzero(pure)[0]
+            if axis == "T":
+                out[i] = fl.pure_saturation_T(self.eos, fixed[i], ip[i])
+            else:
+                out[i] = fl.pure_saturation_P(self.eos, fixed[i], ip[i])[0]
+        m = np.nonzero(~pure)[0]
+        if m.size == 0:
+            return out
+        Tcs = self.comps.Tcs
+        if axis == "T":
+            lo_v = np.full(m.size, 0.3 * np.min(np.where(zs[m] > 0, Tcs, np.inf), axis=1))
+            hi_v = np.full(m.size, 1.6 * np.max(np.where(zs[m] > 0, Tcs, -np.inf), axis=1))
+            grid = np.linspace(0.0, 1.0, SAT_GRID_POINTS)[None, :] * (hi_v - lo_v)[:, None] + lo_v[:, None]
+        else:
+            grid = np.exp(np.linspace(np.log(1e4), np.log(5e7), SAT_GRID_POINTS))[None, :].repeat(m.size, 0)
+        G = grid.size // m.size
+        fx = np.repeat(fixed[m], G)
+        gv = grid.ravel()
+        zz = np.repeat(zs[m], G, axis=0)
+        if axis == "T":
+            uns = self._unstable(gv, fx, zz).reshape(m.size, G)
+        else:
+            uns = self._unstable(fx, gv, zz).reshape(m.size, G)
+        upper = (kind == "dew") if axis == "T" else (kind == "bubble")
+        a = np.full(m.size, np.nan)
+        b = np.full(m.size, np.nan)
+        for r in range(m.size):
+            u = np.nonzero(uns[r])[0]
+            if u.size == 0:
+                continue
+            if upper:
+                k = u[-1]
+                if k + 1 < G:
+                    a[r], b[r] = grid[r, k], grid[r, k + 1]     # a unstable, b stable
+            else:
+                k = u[0]
+                if k > 0:
+                    a[r], b[r] = grid[r, k], grid[r, k - 1]
+        ok = np.isfinite(a)
+        for _ in range(SAT_BISECTIONS):
+            if not ok.any():
+                break
+            mid = 0.5 * (a + b) if axis == "T" else np.sqrt(a * b)
+            j = np.nonzero(ok)[0]
+            if axis == "T":
+                u = self._unstable(mid[j], fixed[m[j]], zs[m[j]])
+            else:
+                u = self._unstable(fixed[m[j]], mid[j], zs[m[j]])
+            a[j] = np.where(u, mid[j], a[j])
+            b[j] = np.where(u, b[j], mid[j])
+        out[m] = np.where(ok, 0.5 * (a + b) if axis == "T" else np.sqrt(a * b), np.nan)
+        return out
+
+
+def _bisect(lo, hi, T, f):
+    """Bisection inside the bracket; where one side is still the global bound, step by 20 %."""
+    open_lo = lo <= fl.T_LOW
+    open_hi = hi >= fl.T_HIGH
+    mid = 0.5 * (lo + hi)
+    mid = np.where(open_hi & ~open_lo, np.minimum(T * 1.2, 0.5 * (T + hi)), mid)
+    mid = np.where(open_lo & ~open_hi, np.maximum(T * 0.8, 0.5 * (T + lo)), mid)
+    return mid
+
+
+def _check_TP(T, P):
+    from ..errors import InputError
+    if np.any(~np.isfinite(T)) or np.any(T <= 0):
+        raise InputError(f"temperature must be a positive number of kelvin (got {T[~(T > 0)][:3]})")
+    if np.any(~np.isfinite(P)) or np.any(P <= 0):
+        raise InputError(f"pressure must be positive (got {P[~(P > 0)][:3]} Pa)")
+
+
+def _blank_unconverged(st: States) -> States:
+    if st.converged.all():
+        return st
+    bad = ~st.converged
+    from dataclasses import replace
+    upd = {}
+    for k in ("h", "s", "Z", "cp", "cv", "jt", "w", "density", "vapour_fraction"):
+        a = getattr(st, k).copy()
+        a[bad] = np.nan
+        upd[k] = a
+    T = st.T.copy()
+    return replace(st, **upd)

@@ -1,0 +1,584 @@
+"""Vapour-liquid flash for cubic equations of state, vectorised over cases.
+
+Algorithms (Michelsen & Mollerup, *Thermodynamic Models: Fundamentals and Computational Aspects*,
+2nd ed., 2007, chapters 9-12; Michelsen, Fluid Phase Equilib. 9 (1982) 1 and 21):
+
+* **Stability**: tangent-plane distance minimised by successive substitution from several trial
+  phases at once -- Wilson vapour-like (z K), Wilson liquid-like (z / K), nearly pure heaviest and
+  nearly pure lightest component present -- so that trace heavies are not missed. The modified
+  tangent-plane distance ``tm = 1 + sum W_i (ln W_i + ln phi_i(w) - d_i - 1)`` below ``-TM_UNSTABLE``
+  proves instability.
+* **Two-phase PT flash**: successive substitution on K with a bounded Rachford-Rice solve, accelerated
+  by the dominant-eigenvalue extrapolation (GDEM, Crowe & Nishio 1975) every ``ACCELERATE_EVERY``
+  steps, then a Newton finish on ln K with a finite-difference Jacobian for the cases still
+  unconverged. A split is accepted only if its Gibbs energy is below the single phase's.
+* **PH / PS**: a safeguarded Newton iteration on T (bracketed; bisection when a step leaves the
+  bracket), with the PT flash inside; a pure component inside its dome sits at its saturation
+  temperature with the vapour fraction from the lever rule.
+* **Dew and bubble points**: the boundary of the unstable region, located by a grid scan of the
+  stability test and refined by bisection on the sign of the tangent-plane distance (robust at
+  trace-heavy compositions where Newton on the dew-point equations is fragile).
+
+Every kernel returns a :class:`SolveReport` with per-case convergence flags; public entry points
+decide whether to raise.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .components import R
+from .cubic import CubicEOS
+
+#: Tangent-plane distance below which a mixture is declared unstable. Above round-off of tm
+#: (~1e-14) with margin, and far below any physically meaningful second phase amount.
+TM_UNSTABLE = -1e-9
+#: Converged when the largest change in ln W (stability) or in ln K (flash) is below this.
+LN_TOL = 1e-11
+#: Trial compositions closer than this (sum of squared differences) to the feed are trivial.
+TRIVIAL_DIST = 1e-7
+STABILITY_MAX_ITER = 200
+FLASH_SS_MAX_ITER = 200
+#: Apply GDEM extrapolation every this many successive-substitution steps.
+ACCELERATE_EVERY = 5
+NEWTON_MAX_ITER = 30
+#: Rachford-Rice: Newton with bisection, converged when the bracket or step is below this.
+RR_TOL = 1e-15
+RR_MAX_ITER = 100
+#: Temperature bracket for PH/PS flashes [K]: below the normal boiling point of every component
+#: except H2/He/N2 and above any let-down or chilling duty.
+T_LOW = 40.0
+T_HIGH = 2000.0
+PH_MAX_ITER = 100
+#: PH/PS convergence: relative enthalpy (entropy) residual and absolute temperature step [K].
+PH_TOL_REL = 1e-12
+PH_TOL_T = 1e-9
+
+
+@dataclass(frozen=True)
+class SolveReport:
+    """Outcome of an iterative solve, the same fields for every solver in letdown.
+
+    Attributes
+    ----------
+    converged : ndarray of bool (n,)
+    iterations : ndarray of int (n,)
+    residual : ndarray (n,)
+        Final residual in the solver's own measure.
+    message : str
+    """
+
+    converged: np.ndarray
+    iterations: np.ndarray
+    residual: np.ndarray
+    message: str = ""
+
+    @property
+    def all_converged(self) -> bool:
+        return bool(np.all(self.converged))
+
+    def __repr__(self):
+        n = len(self.converged)
+        return (f"SolveReport({int(self.converged.sum())}/{n} converged, "
+                f"max iterations {int(self.iterations.max(initial=0))}, "
+                f"max residual {float(np.nanmax(self.residual, initial=0.0)):.3g}; {self.message})")
+
+
+# ------------------------------------------------------------------------------------------------
+def wilson_K(eos: CubicEOS, T, P):
+    """Wilson (1968) K-value estimate, shape (n, nc) [-]."""
+    c = eos.comps
+    return (c.Pcs / P[:, None]) * np.exp(5.373 * (1.0 + c.omegas) * (1.0 - c.Tcs / T[:, None]))
+
+
+def rachford_rice(zs, Ks):
+    """Vapour fraction from the Rachford-Rice equation, restricted to [0, 1].
+
+    sum_i z_i (K_i - 1) / (1 + beta (K_i - 1)) = 0, solved by Newton steps kept inside a shrinking
+    bracket (bisection when a step leaves it). Where the function has no root in [0, 1] the bound is
+    returned (all liquid / all vapour).
+
+    Returns
+    -------
+    beta : ndarray (n,) [-]
+    """
+    Km1 = Ks - 1.0
+    f0 = np.sum(zs * Km1, axis=1)
+    f1 = np.sum(zs * Km1 / Ks, axis=1)
+    beta = np.full(zs.shape[0], 0.5)
+    lo = np.zeros_like(beta)
+    hi = np.ones_like(beta)
+    # tighter bounds from the asymptotes (Whitson & Michelsen 1989)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        lo_w = np.max(np.where(Ks > 1.0, (Ks * zs - 1.0) / Km1, 0.0), axis=1)
+        hi_w = np.min(np.where(Ks < 1.0, (1.0 - zs) / (1.0 - Ks), 1.0), axis=1)
+    lo = np.clip(np.maximum(lo, lo_w), 0.0, 1.0)
+    hi = np.clip(np.minimum(hi, hi_w), 0.0, 1.0)
+    beta = 0.5 * (lo + hi)
+    active = (f0 > 0.0) & (f1 < 0.0)
+    for _ in range(RR_MAX_ITER):
+        if not active.any():
+            break
+        den = 1.0 + beta[:, None] * Km1
+        t = zs * Km1 / den
+        f = t.sum(axis=1)
+        df = -(t * Km1 / den).sum(axis=1)
+        lo = np.where(active & (f > 0.0), beta, lo)
+        hi = np.where(active & (f < 0.0), beta, hi)
+        step = f / df
+        new = beta - step
+        bad = (new <= lo) | (new >= hi) | ~np.isfinite(new)
+        new = np.where(bad, 0.5 * (lo + hi), new)
+        done = (np.abs(new - beta) < RR_TOL) | (hi - lo < RR_TOL)
+        beta = np.where(active, new, beta)
+        active &= ~done
+    beta = np.where(f0 <= 0.0, 0.0, np.where(f1 >= 0.0, 1.0, beta))
+    return beta
+
+
+def _phase_compositions(zs, Ks, beta):
+    den = 1.0 + beta[:, None] * (Ks - 1.0)
+    xs = zs / den
+    ys = Ks * xs
+    xs = xs / xs.sum(axis=1, keepdims=True)
+    ys = ys / ys.sum(axis=1, keepdims=True)
+    return xs, ys
+
+
+# ------------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class StabilityResult:
+    """Outcome of the stability test for a batch of feeds.
+
+    Attributes
+    ----------
+    tm : ndarray (n,)
+        Most negative modified tangent-plane distance found [-] (0 where every trial was trivial).
+    unstable : ndarray of bool (n,)
+    ws : ndarray (n, nc)
+        Composition of the most unstable trial phase.
+    trial_is_vapour : ndarray of bool (n,)
+        True where that trial is lighter (larger Z) than the feed.
+    """
+
+    tm: np.ndarray
+    unstable: np.ndarray
+    ws: np.ndarray
+    trial_is_vapour: np.ndarray
+
+
+def stability(eos: CubicEOS, T, P, zs, *, lnphis_z=None, Z_z=None, early_exit=False):
+    """Tangent-plane stability test of feeds ``zs`` at (T, P), several trials per feed at once.
+
+    Parameters
+    ----------
+    T, P : ndarray (n,)
+        [K], [Pa].
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+    early_exit : bool
+        Stop a trial as soon as it proves instability (for yes/no questions such as dew-point
+        bracketing); the returned composition is then only approximate.
+    """
+    n, nc = zs.shape
+    if lnphis_z is None:
+        lnphis_z, Z_z = eos.lnphi(T, P, zs, "stable")
+    with np.errstate(divide="ignore"):
+        lnz = np.log(zs)
+    present = zs > 0.0
+    d = np.where(present, lnz + lnphis_z, -np.inf)
+    K = wilson_K(eos, T, P)
+    Tcs = eos.comps.Tcs
+    heavy = np.argmax(np.where(present, Tcs, -np.inf), axis=1)
+    light = np.argmin(np.where(present, Tcs, np.inf), axis=1)
+    trials = [zs * K, zs / K]
+    for idx in (heavy, light):
+        W = np.where(present, 1e-3 * zs, 0.0)
+        W[np.arange(n), idx] = 1.0
+        trials.append(W)
+    nt = len(trials)
+    W = np.concatenate(trials, axis=0)                          # (nt*n, nc)
+    Tt = np.tile(T, nt)
+    Pt = np.tile(P, nt)
+    dt = np.tile(d, (nt, 1))
+    zt = np.tile(zs, (nt, 1))
+    pres = np.tile(present, (nt, 1))
+    lnW = np.where(pres, np.log(np.where(pres, W, 1.0)), -np.inf)
+    active = np.ones(nt * n, dtype=bool)
+    tm = np.zeros(nt * n)
+    Zw = np.zeros(nt * n)
+    for it in range(STABILITY_MAX_ITER):
+        idx = np.nonzero(active)[0]
+        if idx.size == 0:
+            break
+        lw = lnW[idx]
+        Wa = np.exp(lw)
+        w = Wa / Wa.sum(axis=1, keepdims=True)
+        lnph, Z = eos.lnphi(Tt[idx], Pt[idx], w, "stable")
+        Zw[idx] = Z
+        new = np.where(pres[idx], dt[idx] - lnph, -np.inf)
+        with np.errstate(invalid="ignore"):
+            tmi = 1.0 + np.sum(np.where(pres[idx], Wa * (lw + lnph - dt[idx] - 1.0), 0.0), axis=1)
+        tm[idx] = tmi
+        step = np.max(np.where(pres[idx], np.abs(new - lw), 0.0), axis=1)
+        lnW[idx] = new
+        trivial = np.sum((w - zt[idx]) ** 2, axis=1) < TRIVIAL_DIST
+        done = (step < LN_TOL) | trivial
+        if early_exit:
+            done |= tmi < -1e-6
+        tm[idx] = np.where(trivial, 0.0, tmi)
+        active[idx[done]] = False
+    tm = tm.reshape(nt, n)
+    best = np.argmin(tm, axis=0)
+    tm_min = tm[best, np.arange(n)]
+    Wb = np.exp(lnW.reshape(nt, n, nc)[best, np.arange(n)])
+    wb = Wb / Wb.sum(axis=1, keepdims=True)
+    Zb = Zw.reshape(nt, n)[best, np.arange(n)]
+    return StabilityResult(tm_min, tm_min < TM_UNSTABLE, wb, Zb > Z_z)
+
+
+# ------------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class TwoPhase:
+    """Converged two-phase split (arrays over the flashed cases)."""
+
+    beta: np.ndarray       # vapour fraction [-]
+    xs: np.ndarray         # liquid composition
+    ys: np.ndarray         # vapour composition
+    report: SolveReport
+
+
+def _residual(eos, T, P, xs, ys, Ks):
+    lnphL, _ = eos.lnphi(T, P, xs, "liquid")
+    lnphV, _ = eos.lnphi(T, P, ys, "vapour")
+    return lnphL - lnphV
+
+
+def two_phase_flash(eos: CubicEOS, T, P, zs, Ks):
+    """Converge a two-phase split from initial K-values (successive substitution, GDEM, Newton).
+
+    Returns
+    -------
+    TwoPhase
+    """
+    n, nc = zs.shape
+    present = zs > 0.0
+    lnK = np.where(present, np.log(Ks), 0.0)
+    conv = np.zeros(n, dtype=bool)
+    iters = np.zeros(n, dtype=int)
+    resid = np.full(n, np.inf)
+    hist = []  # recent ln K for GDEM
+    beta = np.full(n, 0.5)
+    for it in range(FLASH_SS_MAX_ITER):
+        act = ~conv
+        if not act.any():
+            break
+        idx = np.nonzero(act)[0]
+        K = np.exp(lnK[idx])
+        b = rachford_rice(zs[idx], K)
+        xs, ys = _phase_compositions(zs[idx], K, b)
+        lnphL, _ = eos.lnphi(T[idx], P[idx], xs, "liquid")
+        lnphV, _ = eos.lnphi(T[idx], P[idx], ys, "vapour")
+        new = np.where(present[idx], lnphL - lnphV, 0.0)
+        err = np.max(np.abs(new - lnK[idx]), axis=1)
+        resid[idx] = err
+        iters[idx] += 1
+        beta[idx] = b
+        lnK[idx] = new
+        conv[idx] = err < LN_TOL
+        hist.append(lnK.copy())
+        if len(hist) > 3:
+            hist.pop(0)
+        if (it + 1) % ACCELERATE_EVERY == 0 and len(hist) == 3:
+            lnK = _gdem(hist, lnK, ~conv)
+            hist = []
+        # K collapsing onto 1 (trivial solution) is not a split
+        trivial = np.max(np.abs(lnK), axis=1) < 1e-4
+        if trivial.any():
+            conv |= trivial
+            resid[trivial] = np.inf
+    # Newton finish for cases not converged by substitution
+    left = ~conv | ~np.isfinite(resid)
+    left &= np.max(np.abs(lnK), axis=1) >= 1e-4
+    if left.any():
+        idx = np.nonzero(left)[0]
+        lnK_i, ok, res, nit = _newton_lnK(eos, T[idx], P[idx], zs[idx], lnK[idx])
+        lnK[idx] = lnK_i
+        conv[idx] = ok
+        resid[idx] = res
+        iters[idx] += nit
+    K = np.exp(lnK)
+    beta = rachford_rice(zs, K)
+    xs, ys = _phase_compositions(zs, K, beta)
+    trivial = np.max(np.abs(lnK), axis=1) < 1e-4
+    conv &= ~trivial
+    return TwoPhase(beta, xs, ys, SolveReport(conv, iters, resid, "two-phase PT flash"))
+
+
+def _gdem(hist, lnK, mask):
+    """Dominant-eigenvalue extrapolation of the substitution sequence (Crowe & Nishio 1975)."""
+    d1 = hist[1] - hist[0]
+    d2 = hist[2] - hist[1]
+    num = np.sum(d2 * d2, axis=1)
+    den = np.sum(d1 * d2, axis=1)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        lam = den / np.sum(d1 * d1, axis=1)
+    ok = mask & np.isfinite(lam) & (lam > 0.0) & (lam < 0.98) & (num > 0)
+    factor = np.where(ok, lam / (1.0 - lam), 0.0)
+    return lnK + factor[:, None] * d2
+
+
+def _newton_lnK(eos, T, P, zs, lnK):
+    """Newton iterations on F(ln K) = ln K + ln phi_V(y) - ln phi_L(x) = 0 with a forward-difference
+    Jacobian (step 1e-7), for the few cases substitution leaves near a critical point."""
+    n, nc = zs.shape
+    ok = np.zeros(n, dtype=bool)
+    res = np.full(n, np.inf)
+    nit = np.zeros(n, dtype=int)
+
+    def F(lk, idx):
+        K = np.exp(lk)
+        b = rachford_rice(zs[idx], K)
+        xs, ys = _phase_compositions(zs[idx], K, b)
+        return lk - _residual(eos, T[idx], P[idx], xs, ys, K)
+
+    h = 1e-7
+    for _ in range(NEWTON_MAX_ITER):
+        idx = np.nonzero(~ok)[0]
+        if idx.size == 0:
+            break
+        lk = lnK[idx]
+        F0 = F(lk, idx)
+        res[idx] = np.max(np.abs(F0), axis=1)
+        done = res[idx] < LN_TOL
+        ok[idx[done]] = True
+        idx, lk, F0 = idx[~done], lk[~done], F0[~done]
+        if idx.size == 0:
+            break
+        J = np.empty((idx.size, nc, nc))
+        for j in range(nc):
+            lp = lk.copy()
+            lp[:, j] += h
+            J[:, :, j] = (F(lp, idx) - F0) / h
+        try:
+            dx = np.linalg.solve(J, -F0[..., None])[..., 0]
+        except np.linalg.LinAlgError:
+            break
+        dx = np.clip(dx, -1.0, 1.0)
+        lnK[idx] = lk + dx
+        nit[idx] += 1
+    return lnK, ok, res, nit
+
+
+# ------------------------------------------------------------------------------------------------
+@dataclass(frozen=True)
+class PTSplit:
+    """Phase split at given T, P for a batch.
+
+    Attributes
+    ----------
+    beta : (n,) vapour fraction; 1 or 0 for a single phase
+    xs, ys : (n, nc) liquid and vapour compositions (equal to zs where that phase is absent)
+    n_phases : (n,) int
+    single_is_vapour : (n,) bool, for single-phase cases, whether the phase is called vapour
+    report : SolveReport
+    """
+
+    beta: np.ndarray
+    xs: np.ndarray
+    ys: np.ndarray
+    n_phases: np.ndarray
+    single_is_vapour: np.ndarray
+    report: SolveReport
+
+
+def _pure_index(zs):
+    nz = np.count_nonzero(zs > 0.0, axis=1)
+    return nz == 1, np.argmax(zs, axis=1)
+
+
+def is_vapour_like(eos: CubicEOS, T, zs):
+    """Label a single phase 'vapour' when T exceeds the Kay's-rule pseudo-critical temperature
+    sum_i z_i Tc_i (common practice for single-phase naming; it does not affect any number)."""
+    return T > zs @ eos.comps.Tcs
+
+
+def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None):
+    """Isothermal flash of a batch.
+
+    Parameters
+    ----------
+    T, P : ndarray (n,)
+    zs : ndarray (n, nc)
+    K_init : ndarray (n, nc), optional
+        Warm-start K-values (skips the stability test for the cases where ``assume`` is 2).
+    assume : ndarray of int (n,), optional
+        Phase count expected from a previous solve (1 or 2); 0 or None means test stability.
+
+    Returns
+    -------
+    PTSplit
+    """
+    n, nc = zs.shape
+    beta = np.where(is_vapour_like(eos, T, zs), 1.0, 0.0)
+    xs = zs.copy()
+    ys = zs.copy()
+    nph = np.ones(n, dtype=int)
+    conv = np.ones(n, dtype=bool)
+    iters = np.zeros(n, dtype=int)
+    resid = np.zeros(n)
+    pure, ipure = _pure_index(zs)
+    if assume is None:
+        assume = np.zeros(n, dtype=int)
+    test = (~pure) & (assume == 0)
+    two = (~pure) & (assume == 2)
+    Ks = np.ones((n, nc)) if K_init is None else K_init.copy()
+    if test.any():
+        idx = np.nonzero(test)[0]
+        lnph, Zz = eos.lnphi(T[idx], P[idx], zs[idx], "stable")
+        st = stability(eos, T[idx], P[idx], zs[idx], lnphis_z=lnph, Z_z=Zz)
+        u = st.unstable
+        if u.any():
+            w = st.ws[u]
+            z = zs[idx[u]]
+            with np.errstate(divide="ignore", invalid="ignore"):
+                Kv = np.where(z > 0, w / z, 1.0)
+                Kl = np.where(w > 0, z / w, 1.0)
+            Ks[idx[u]] = np.where(st.trial_is_vapour[u][:, None], Kv, Kl)
+            two[idx[u]] = True
+    if two.any():
+        idx = np.nonzero(two)[0]
+        Kst = Ks[idx]
+        bad = ~np.all(np.isfinite(Kst) & (Kst > 0), axis=1)
+        Kst[bad] = wilson_K(eos, T[idx[bad]], P[idx[bad]])
+        tp = two_phase_flash(eos, T[idx], P[idx], zs[idx], np.clip(Kst, 1e-300, 1e300))
+        ok = tp.report.converged & (tp.beta > 0.0) & (tp.beta < 1.0)
+        # accept a split only when it lowers the Gibbs energy
+        if ok.any():
+            g_split = _gibbs_split(eos, T[idx], P[idx], tp)
+            lnz, Zz = eos.lnphi(T[idx], P[idx], zs[idx], "stable")
+            with np.errstate(divide="ignore", invalid="ignore"):
+                g_single = np.sum(np.where(zs[idx] > 0, zs[idx] * (np.log(zs[idx]) + lnz), 0.0), axis=1)
+            ok &= g_split < g_single + 1e-12 * np.abs(g_single)
+        # where substitution/Newton failed on a case that stability said is unstable, say so
+        failed = ~tp.report.converged & ~(np.max(np.abs(np.log(np.clip(tp.ys / tp.xs, 1e-300, 1e300))),
+                                                 axis=1) < 1e-4)
+        sel = idx[ok]
+        beta[sel] = tp.beta[ok]
+        xs[sel] = tp.xs[ok]
+        ys[sel] = tp.ys[ok]
+        nph[sel] = 2
+        iters[idx] = tp.report.iterations
+        resid[idx] = np.where(ok, tp.report.residual, 0.0)
+        conv[idx[failed & (assume[idx] == 0)]] = False
+    if pure.any():
+        idx = np.nonzero(pure)[0]
+        beta[idx] = _pure_single_label(eos, T[idx], P[idx], zs[idx], ipure[idx])
+    single_v = beta >= 1.0
+    return PTSplit(beta, xs, ys, nph, single_v, SolveReport(conv, iters, resid, "PT flash"))
+
+
+def _pure_single_label(eos, T, P, zs, ip):
+    """Vapour (1) or liquid (0) for a pure component: below Tc, compare P with Psat(T); above,
+    call it vapour."""
+    Tc = eos.comps.Tcs[ip]
+    beta = np.ones(T.shape)
+    sub = T < Tc
+    if sub.any():
+        Psat, ok = pure_saturation_P(eos, T[sub], ip[sub])
+        beta[sub] = np.where(P[sub] < Psat, 1.0, 0.0)
+    return beta
+
+
+def _gibbs_split(eos, T, P, tp: TwoPhase):
+    lnL, _ = eos.lnphi(T, P, tp.xs, "liquid")
+    lnV, _ = eos.lnphi(T, P, tp.ys, "vapour")
+    with np.errstate(divide="ignore", invalid="ignore"):
+        gL = np.sum(np.where(tp.xs > 0, tp.xs * (np.log(tp.xs) + lnL), 0.0), axis=1)
+        gV = np.sum(np.where(tp.ys > 0, tp.ys * (np.log(tp.ys) + lnV), 0.0), axis=1)
+    return tp.beta * gV + (1.0 - tp.beta) * gL
+
+
+# ------------------------------------------------------------------------------------------------
+# Pure-component saturation
+PURE_SAT_MAX_ITER = 60
+PURE_SAT_TOL = 1e-12
+
+
+def _pure_zs(nc, ip):
+    z = np.zeros((ip.size, nc))
+    z[np.arange(ip.size), ip] = 1.0
+    return z
+
+
+def pure_saturation_T(eos: CubicEOS, P, ip):
+    """Saturation temperature of pure component ``ip`` at P [K] (NaN at or above Pc).
+
+    Newton on F(T) = ln phi_L - ln phi_V with dF/dT = (h_V - h_L)/(R T^2), safeguarded by a
+    bracket [0.3 Tc, Tc].
+    """
+    c = eos.comps
+    Tc, Pc, om = c.Tcs[ip], c.Pcs[ip], c.omegas[ip]
+    zs = _pure_zs(c.n, ip)
+    ok_range = P < Pc
+    Pr = np.where(ok_range, P / Pc, 0.5)
+    T = Tc / (1.0 - np.log(Pr) / (5.373 * (1.0 + om)))     # Wilson inverse
+    T = np.clip(T, 0.35 * Tc, 0.999 * Tc)
+    lo = np.full(T.shape, 0.2) * Tc
+    hi = Tc.copy()
+    conv = ~ok_range
+    for _ in range(PURE_SAT_MAX_ITER):
+        if conv.all():
+            break
+        pL = eos.properties(T, P, zs, "liquid")
+        pV = eos.properties(T, P, zs, "vapour")
+        same = np.abs(pV["Z"] - pL["Z"]) < 1e-9 * pV["Z"]
+        # with one root, decide the side by its volume (b = B RT/P; v/b large means vapour)
+        vap_only = same & (pV["v"] / (zs @ eos.bs) > 2.0)
+        F = (pL["g_res_RT"] - pV["g_res_RT"])
+        F = np.where(same, np.where(vap_only, 1.0, -1.0), F)
+        lo = np.where(~conv & (F < 0), T, lo)
+        hi = np.where(~conv & (F > 0), T, hi)
+        dF = (pV["h_res"] - pL["h_res"]) / (R * T * T)
+        Tn = np.where(same | (dF <= 0), 0.5 * (lo + hi), T - F / np.where(dF > 0, dF, 1.0))
+        Tn = np.where((Tn <= lo) | (Tn >= hi), 0.5 * (lo + hi), Tn)
+        done = (np.abs(F) < PURE_SAT_TOL) & ~same
+        conv |= done
+        T = np.where(conv, T, Tn)
+    return np.where(ok_range & conv, T, np.nan)
+
+
+def pure_saturation_P(eos: CubicEOS, T, ip):
+    """Saturation pressure of pure component ``ip`` at T [Pa] (NaN at or above Tc).
+
+    Newton on ln P: d(ln phi_L - ln phi_V)/d ln P = (Z_L - Z_V).
+    """
+    c = eos.comps
+    Tc, Pc, om = c.Tcs[ip], c.Pcs[ip], c.omegas[ip]
+    zs = _pure_zs(c.n, ip)
+    sub = T < Tc
+    lnP = np.log(Pc) + 5.373 * (1.0 + om) * (1.0 - Tc / np.where(sub, T, 0.5 * Tc))
+    lo = np.full(T.shape, np.log(1e-10))
+    hi = np.log(Pc)
+    conv = ~sub
+    for _ in range(PURE_SAT_MAX_ITER):
+        if conv.all():
+            break
+        P = np.exp(lnP)
+        pL = eos.properties(T, P, zs, "liquid")
+        pV = eos.properties(T, P, zs, "vapour")
+        same = np.abs(pV["Z"] - pL["Z"]) < 1e-9 * pV["Z"]
+        vap_only = same & (pV["v"] / (zs @ eos.bs) > 2.0)
+        F = pL["g_res_RT"] - pV["g_res_RT"]  # ln f_L - ln f_V of the pure component
+        F = np.where(same, np.where(vap_only, 1.0, -1.0), F)
+        # F > 0: the liquid has the higher fugacity, so the vapour is stable: P is below Psat
+        lo = np.where(~conv & (F > 0), lnP, lo)
+        hi = np.where(~conv & (F < 0), lnP, hi)
+        dF = pL["Z"] - pV["Z"]
+        n_ = np.where(same | (dF >= 0), 0.5 * (lo + hi), lnP - F / np.where(dF < 0, dF, -1.0))
+        n_ = np.where((n_ <= lo) | (n_ >= hi), 0.5 * (lo + hi), n_)
+        done = (np.abs(F) < PURE_SAT_TOL) & ~same
+        conv |= done
+        lnP = np.where(conv, lnP, n_)
+    return np.where(sub & conv, np.exp(lnP), np.nan), conv

@@ -1,0 +1,299 @@
+"""The public :class:`Fluid`: one composition, one model, flashes by any two of T, P, h, s."""
+from __future__ import annotations
+
+import csv
+from functools import lru_cache
+from importlib import resources
+
+import numpy as np
+
+from ..errors import ConvergenceError, InputError, ModelError
+from .components import ComponentSet, canonical_name
+from .cubic import KINDS, CubicEOS
+from .cubic_fluid import CubicEngine
+from .state import State, States
+
+#: Accepted model names (and spellings) -> canonical model name.
+MODEL_NAMES = {
+    "peng-robinson": "peng-robinson", "pr": "peng-robinson", "pr76": "peng-robinson",
+    "peng-robinson-1978": "peng-robinson-1978", "pr78": "peng-robinson-1978",
+    "soave-redlich-kwong": "soave-redlich-kwong", "srk": "soave-redlich-kwong",
+    "gerg-2008": "gerg-2008", "gerg2008": "gerg-2008", "gerg": "gerg-2008",
+}
+
+#: Tolerance on the sum of mole fractions before normalising is refused.
+SUM_TOLERANCE = 1e-6
+
+
+@lru_cache(maxsize=1)
+def _kij_table():
+    """{(a, b): (kij, source)} from the packaged table (see ``data/kij_pr.csv`` header)."""
+    table = {}
+    text = resources.files("letdown.fluid").joinpath("data/kij_pr.csv").read_text()
+    rows = csv.reader(line for line in text.splitlines() if not line.startswith("#"))
+    next(rows)
+    for a, b, k, src in rows:
+        table[(a, b)] = (float(k), src)
+        table[(b, a)] = (float(k), src)
+    return table
+
+
+def canonical_model(model: str) -> str:
+    """Canonical model name; raises InputError for an unknown model."""
+    key = str(model).strip().lower().replace("_", "-").replace(" ", "-")
+    if key not in MODEL_NAMES:
+        raise InputError(f"unknown model '{model}' (known: peng-robinson, peng-robinson-1978, "
+                         f"soave-redlich-kwong, gerg-2008)")
+    return MODEL_NAMES[key]
+
+
+class Fluid:
+    """A gas or liquid of fixed components, its default composition and one thermodynamic model.
+
+    Parameters
+    ----------
+    composition : dict
+        {component: mole fraction}. Names may be aliases (C1, nC4, CO2, MeOH, ...).
+    model : str
+        ``peng-robinson`` (1976), ``peng-robinson-1978``, ``soave-redlich-kwong`` or ``gerg-2008``
+        (optional extra ``letdown[gerg]``; single-phase states only).
+    kij : None, "zero" or dict
+        Interaction parameters: None uses the library table (Peng-Robinson values, also used for
+        SRK -- see the README); "zero" switches them off; a dict {(a, b): k} overrides pairs.
+    normalise : bool
+        Scale fractions that do not sum to 1; otherwise a sum off by more than 1e-6 is an error.
+    volume_shift : bool
+        Report volumes and densities with the Peneloux translation (phase equilibrium and
+        enthalpies unchanged).
+
+    Raises
+    ------
+    InputError
+        Unknown component or model, negative fractions, fractions that do not sum to 1.
+
+    Examples
+    --------
+    >>> gas = Fluid({"methane": 0.9, "ethane": 0.1})
+    >>> s = gas.flash(T=283.15, P=70e5)
+    >>> round(s.Z, 3)
+    0.834
+    """
+
+    def __init__(self, composition, model="peng-robinson", kij=None, normalise=False,
+                 volume_shift=False):
+        if not isinstance(composition, dict) or not composition:
+            raise InputError("composition must be a non-empty mapping of component to mole fraction")
+        names = []
+        fracs = []
+        for k, v in composition.items():
+            name = canonical_name(k)
+            if name in names:
+                raise InputError(f"component '{k}' is listed twice (as '{name}')")
+            try:
+                x = float(v)
+            except (TypeError, ValueError):
+                raise InputError(f"mole fraction of '{k}' is not a number: {v!r}") from None
+            if not np.isfinite(x) or x < 0:
+                raise InputError(f"mole fraction of '{k}' must be zero or positive (got {v!r})")
+            names.append(name)
+            fracs.append(x)
+        zs = np.array(fracs)
+        total = zs.sum()
+        if total <= 0:
+            raise InputError("mole fractions sum to zero")
+        if abs(total - 1.0) > SUM_TOLERANCE and not normalise:
+            raise InputError(f"mole fractions sum to {total:.6g}, not 1 (set normalise: true to "
+                             f"scale them)")
+        self._zs = zs / total
+        self.components = tuple(names)
+        self.model = canonical_model(model)
+        self._kij_spec = kij
+        self.volume_shift = bool(volume_shift)
+        self._comps = ComponentSet(names)
+        self.kijs, self.kij_sources, self.missing_kij = self._build_kij(kij)
+        self._engine = self._make_engine()
+
+    # ----------------------------------------------------------------- construction helpers
+    def _build_kij(self, kij):
+        nc = len(self.components)
+        K = np.zeros((nc, nc))
+        src = {}
+        missing = []
+        table = _kij_table()
+        if isinstance(kij, str):
+            if kij.strip().lower() != "zero":
+                raise InputError(f"kij must be 'zero', a mapping of pairs, or omitted (got '{kij}')")
+            return K, {}, []
+        for i in range(nc):
+            for j in range(i + 1, nc):
+                a, b = self.components[i], self.components[j]
+                if (a, b) in table:
+                    K[i, j] = K[j, i] = table[(a, b)][0]
+                    src[(a, b)] = table[(a, b)][1]
+                else:
+                    missing.append((a, b))
+        if kij:
+            items = kij.items() if isinstance(kij, dict) else kij
+            for pair, value in items:
+                if isinstance(pair, str):
+                    parts = [p for p in pair.replace(",", " ").replace("/", " ").split() if p]
+                    if len(parts) != 2:
+                        raise InputError(f"interaction-parameter pair '{pair}' must name two components")
+                    pair = parts
+                a, b = (canonical_name(p) for p in pair)
+                if a not in self.components or b not in self.components:
+                    raise InputError(f"interaction parameter for {a}-{b}: component not in the gas")
+                i, j = self.components.index(a), self.components.index(b)
+                K[i, j] = K[j, i] = float(value)
+                src[(a, b)] = "user"
+                missing = [m for m in missing if set(m) != {a, b}]
+        return K, src, missing
+
+    def _make_engine(self):
+        if self.model == "gerg-2008":
+            from .gerg import GergEngine
+            return GergEngine(self._comps)
+        eos = CubicEOS(self._comps, KINDS[self.model], self.kijs)
+        return CubicEngine(self._comps, eos, self.volume_shift)
+
+    # ----------------------------------------------------------------- attributes
+    @property
+    def zs(self) -> np.ndarray:
+        """Default composition in component order [-]."""
+        return self._zs.copy()
+
+    @property
+    def n_components(self) -> int:
+        return len(self.components)
+
+    @property
+    def molar_masses(self) -> np.ndarray:
+        """Molar mass of each component [kg/mol]."""
+        return self._comps.Ms.copy()
+
+    @property
+    def molar_mass(self) -> float:
+        """Molar mass of the default composition [kg/mol]."""
+        return float(self._zs @ self._comps.Ms)
+
+    @property
+    def engine(self):
+        """The model engine (batch kernels; for studies and tests)."""
+        return self._engine
+
+    def composition(self) -> dict:
+        """The default composition as {component: mole fraction}."""
+        return dict(zip(self.components, map(float, self._zs)))
+
+    def with_model(self, model: str) -> "Fluid":
+        """The same gas (components, composition, interaction parameters) on another model."""
+        return Fluid(self.composition(), model=model, kij=self._kij_spec,
+                     volume_shift=self.volume_shift)
+
+    def with_composition(self, zs) -> "Fluid":
+        """The same components and model with another default composition (component order)."""
+        zs = np.asarray(zs, dtype=float)
+        return Fluid(dict(zip(self.components, zs)), model=self.model, kij=self._kij_spec,
+                     normalise=True, volume_shift=self.volume_shift)
+
+    def __repr__(self) -> str:
+        comp = ", ".join(f"{n}: {x:.4g}" for n, x in zip(self.components, self._zs))
+        return f"Fluid({{{comp}}}, model='{self.model}')"
+
+    # ----------------------------------------------------------------- flashes
+    def flash(self, T=None, P=None, h=None, s=None, zs=None, T_guess=None):
+        """Equilibrium state from any two of T [K], P [Pa], h [J/mol], s [J/(mol K)].
+
+        Scalars give a :class:`State`; arrays of shape (n,) (or ``zs`` of shape (n, nc)) give a
+        :class:`States` batch computed in one vectorised pass.
+
+        Parameters
+        ----------
+        T, P, h, s : float or ndarray
+            Exactly two of them. Supported pairs: (T, P), (P, h), (P, s).
+        zs : ndarray, optional
+            Composition override, (nc,) or (n, nc), component order of :attr:`components`.
+        T_guess : float or ndarray, optional
+            Starting temperature for P-h and P-s flashes [K].
+
+        Raises
+        ------
+        InputError
+            Not exactly two specifications, an unsupported pair, a non-positive T or P.
+        ConvergenceError
+            A scalar flash did not converge (a batch marks such cases ``converged=False``).
+        ModelError
+            The model cannot represent the state (GERG-2008 asked for two phases).
+        """
+        given = {k: v for k, v in (("T", T), ("P", P), ("h", h), ("s", s)) if v is not None}
+        if len(given) != 2:
+            raise InputError(f"flash needs exactly two of T, P, h, s (got {sorted(given) or 'none'})")
+        scalar = all(np.ndim(v) == 0 for v in given.values()) and (zs is None or np.ndim(zs) == 1)
+        arrays = [np.atleast_1d(np.asarray(v, dtype=float)) for v in given.values()]
+        Z = self._zs if zs is None else np.asarray(zs, dtype=float)
+        n = max([a.shape[0] for a in arrays] + [Z.shape[0] if Z.ndim == 2 else 1])
+        arrays = [np.broadcast_to(a, (n,)).copy() for a in arrays]
+        Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
+        _check_composition(Zb, self.n_components)
+        spec = dict(zip(given, arrays))
+        eng = self._engine
+        Tg = None if T_guess is None else np.broadcast_to(np.asarray(T_guess, float), (n,)).copy()
+        if set(spec) == {"T", "P"}:
+            st = eng.flash_TP(spec["T"], spec["P"], Zb)
+        elif set(spec) == {"P", "h"}:
+            st = eng.flash_PH(spec["P"], spec["h"], Zb, Tg)
+        elif set(spec) == {"P", "s"}:
+            st = eng.flash_PS(spec["P"], spec["s"], Zb, Tg)
+        else:
+            raise InputError(f"the pair ({', '.join(sorted(spec))}) is not supported; give P with "
+                             f"T, h or s")
+        if scalar:
+            one = st[0]
+            if not one.converged:
+                raise ConvergenceError(
+                    f"flash at {', '.join(f'{k}={float(v):.6g}' for k, v in given.items())} did not "
+                    f"converge ({self.model})", result=st)
+            return one
+        return st
+
+    def dew_point(self, P=None, T=None, zs=None):
+        """Dew point: temperature [K] at pressure P (the highest T at which liquid exists), or
+        pressure [Pa] at temperature T (the lowest P at which liquid exists). NaN where the gas
+        never forms a liquid. Array inputs give arrays."""
+        return self._saturation("dew", P, T, zs)
+
+    def bubble_point(self, P=None, T=None, zs=None):
+        """Bubble point: temperature [K] at P (the lowest T at which vapour exists), or pressure
+        [Pa] at T (the highest P at which vapour exists; above the critical temperature this is the
+        upper, retrograde dew point)."""
+        return self._saturation("bubble", P, T, zs)
+
+    def _saturation(self, kind, P, T, zs):
+        if (P is None) == (T is None):
+            raise InputError(f"{kind} point needs exactly one of P or T")
+        if self.model == "gerg-2008":
+            raise ModelError("GERG-2008 is used for single-phase states only here; use a cubic "
+                             "model (peng-robinson, soave-redlich-kwong) for dew and bubble points")
+        x = P if T is None else T
+        scalar = np.ndim(x) == 0 and (zs is None or np.ndim(zs) == 1)
+        xa = np.atleast_1d(np.asarray(x, dtype=float))
+        Z = self._zs if zs is None else np.asarray(zs, dtype=float)
+        n = max(xa.shape[0], Z.shape[0] if Z.ndim == 2 else 1)
+        xa = np.broadcast_to(xa, (n,)).copy()
+        Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
+        _check_composition(Zb, self.n_components)
+        if T is None:
+            out = self._engine.saturation_T(xa, Zb, kind)
+        else:
+            out = self._engine.saturation_P(xa, Zb, kind)
+        return float(out[0]) if scalar else out
+
+
+def _check_composition(zs, nc):
+    if zs.shape[-1] != nc:
+        raise InputError(f"composition has {zs.shape[-1]} entries, the fluid has {nc} components")
+    if np.any(~np.isfinite(zs)) or np.any(zs < 0):
+        raise InputError("compositions must be finite and non-negative")
+    tot = zs.sum(axis=1)
+    if np.any(np.abs(tot - 1.0) > SUM_TOLERANCE):
+        raise InputError(f"compositions must sum to 1 (got {tot[np.abs(tot - 1) > SUM_TOLERANCE][:3]})")

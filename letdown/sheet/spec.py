@@ -1,0 +1,139 @@
+"""The parsed flowsheet: plain, immutable data handed from the loader to the graph and the solver.
+
+Everything here is SI (K, Pa, mol/s, W, ...). The loader (``letdown.sheet.loader``) fills it from a
+YAML file and records where each field came from, so that later stages (graph validation, the solver,
+goals) can raise :class:`letdown.errors.InputError` naming the file and line.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Any, Mapping
+
+
+@dataclass(frozen=True)
+class Where:
+    """Where a field came from: file and 1-based line (either may be unknown)."""
+
+    file: str | None = None
+    line: int | None = None
+
+
+@dataclass(frozen=True)
+class GasSpec:
+    """The ``gas`` section: one shared fluid for the whole flowsheet.
+
+    Attributes
+    ----------
+    model : str
+        Model name accepted by :class:`letdown.Fluid` (``peng-robinson``, ``peng-robinson-1978``,
+        ``soave-redlich-kwong``, ``gerg-2008``).
+    composition : Mapping[str, float]
+        Canonical component name -> mole fraction [-], summing to 1 (normalised by the loader when
+        the file says ``normalise: true``).
+    kij : Mapping[tuple[str, str], float] | str | None
+        Interaction-parameter overrides (pairs of canonical names), ``"zero"``, or None for the
+        library table.
+    """
+
+    model: str
+    composition: Mapping[str, float]
+    kij: Any = None
+
+
+@dataclass(frozen=True)
+class FeedSpec:
+    """One feed stream: T [K], P [Pa], molar flow [mol/s], optional own composition."""
+
+    name: str
+    T: float
+    P: float
+    flow: float
+    composition: Mapping[str, float] | None = None
+    where: Where = Where()
+
+
+@dataclass(frozen=True)
+class BlockSpec:
+    """One unit block.
+
+    Attributes
+    ----------
+    name : str
+        The block's name (key under ``equipment``).
+    kind : str
+        Block kind (``throttle``, ``heater``, ``cooler``, ``separator``, ``compressor``,
+        ``expander``, ``mixer``, ``splitter``, ``exchanger``).
+    inlets : Mapping[str, str]
+        Port name -> stream name. Single-inlet blocks use port ``in``; a mixer uses ``in0``, ``in1``,
+        ...; an exchanger ``hot`` and ``cold``.
+    outlets : Mapping[str, str]
+        Port name -> stream name. Single-outlet blocks use ``out``; a separator ``vapour``,
+        ``liquid`` (and ``water``); a splitter one port per outlet stream (the stream name); an
+        exchanger ``hot`` and ``cold``.
+    params : Mapping[str, Any]
+        Parameters in SI (``P_out`` [Pa], ``dP`` [Pa], ``T_out`` [K], ``duty`` [W], ``efficiency`` [-],
+        splitter ``fractions`` {stream: fraction or "rest"}, ...).
+    where : Where
+        Location of the block in the file.
+    field_where : Mapping[str, Where]
+        Location of each parameter (key as in ``params``).
+    """
+
+    name: str
+    kind: str
+    inlets: Mapping[str, str]
+    outlets: Mapping[str, str]
+    params: Mapping[str, Any]
+    where: Where = Where()
+    field_where: Mapping[str, Where] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class GoalSpec:
+    """Hold ``hold`` (e.g. ``network.T``) at ``target`` by varying ``by`` (e.g. ``preheat.T_out``)
+    inside ``within`` = (low, high), all SI."""
+
+    hold: str
+    target: float
+    by: str
+    within: tuple[float, float]
+    where: Where = Where()
+
+
+@dataclass(frozen=True)
+class SolverSpec:
+    """Loop and goal tolerances and iteration caps (defaults are the library's)."""
+
+    loop_tolerance: float = 1e-8      # relative change of tear-stream variables
+    loop_max_iterations: int = 100
+    goal_tolerance: float = 1e-6      # absolute, in SI units of the held quantity
+    goal_max_iterations: int = 60
+
+
+@dataclass(frozen=True)
+class Flowsheet:
+    """A parsed flowsheet file.
+
+    Attributes
+    ----------
+    title : str
+    gas : GasSpec
+    feeds : Mapping[str, FeedSpec]
+    blocks : Mapping[str, BlockSpec]
+    goals : tuple[GoalSpec, ...]
+    limits : Mapping[str, float]
+        ``min_T`` [K], ``hydrate_margin`` [K], ... (SI).
+    solver : SolverSpec
+    source : str | None
+        The file it was read from.
+    """
+
+    title: str
+    gas: GasSpec
+    feeds: Mapping[str, FeedSpec]
+    blocks: Mapping[str, BlockSpec]
+    goals: tuple = ()
+    limits: Mapping[str, float] = field(default_factory=dict)
+    solver: SolverSpec = SolverSpec()
+    source: str | None = None
+    extra: Mapping[str, Any] = field(default_factory=dict)
