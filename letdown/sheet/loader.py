@@ -1,0 +1,614 @@
+"""Read a flowsheet file (YAML) into a :class:`letdown.sheet.spec.Flowsheet`, keeping line numbers.
+
+Three passes, each raising :class:`letdown.errors.InputError` with ``file:line: field: message``:
+
+1. **YAML** -- parsed with PyYAML's node API so every mapping key keeps its line; broken YAML reports
+   the line the parser gives; a key written twice in one mapping is an error (plain YAML loaders keep
+   the last one silently).
+2. **Schema** -- the published JSON Schema ``flowsheet.schema.json`` (beside this module; editors can
+   use it for completion) checks the shape: known sections, required fields, block kinds and their
+   parameters, ports. jsonschema's errors are mapped back to the file's lines.
+3. **Meaning** -- components are known (nearest names suggested), fractions sum to 1 within
+   :data:`SUM_TOLERANCE` unless ``gas.normalise`` is true, quantities parse with their units
+   (:mod:`letdown.quantities`), flows and pressures are positive, each block has exactly one of its
+   alternative specifications, goals name existing streams and block parameters.
+
+The graph checks (a stream produced twice, never produced, a feed nobody takes) follow in
+:func:`letdown.sheet.graph.build_graph`, which :func:`load` runs before returning.
+"""
+from __future__ import annotations
+
+import difflib
+import json
+import math
+from dataclasses import dataclass
+from importlib import resources
+from pathlib import Path
+
+import jsonschema
+import yaml
+
+from ..errors import InputError
+from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
+from .spec import BlockSpec, FeedSpec, Flowsheet, GasSpec, GoalSpec, SolverSpec, Where
+
+#: Mole fractions must sum to 1 within this, unless ``normalise: true`` [-].
+SUM_TOLERANCE = 1e-6
+
+#: Block kinds and, for each, its numeric parameters and their quantity kinds
+#: (see :mod:`letdown.quantities`). The schema documents the same set.
+PARAMETERS: dict[str, dict[str, str]] = {
+    "throttle": {"P_out": "pressure", "dP": "pressure_difference"},
+    "heater": {"T_out": "temperature", "duty": "power", "dP": "pressure_difference"},
+    "cooler": {"T_out": "temperature", "duty": "power", "dP": "pressure_difference"},
+    "separator": {"dP": "pressure_difference"},
+    "compressor": {"P_out": "pressure", "efficiency": "fraction"},
+    "expander": {"P_out": "pressure", "efficiency": "fraction"},
+    "mixer": {"P_out": "pressure"},
+    "splitter": {},
+    "exchanger": {"hot_T_out": "temperature", "cold_T_out": "temperature", "duty": "power",
+                  "min_approach": "temperature_difference", "UA": "ua",
+                  "hot_dP": "pressure_difference", "cold_dP": "pressure_difference"},
+}
+
+#: For each kind, groups of alternative specifications of which exactly one must be given
+#: (in the file or as the parameter a goal varies).
+EXACTLY_ONE: dict[str, tuple[tuple[str, ...], ...]] = {
+    "throttle": (("P_out", "dP"),),
+    "heater": (("T_out", "duty"),),
+    "cooler": (("T_out", "duty"),),
+    "exchanger": (("hot_T_out", "cold_T_out", "duty", "min_approach", "UA"),),
+}
+
+#: Quantities a goal may hold: on a stream, and on a block.
+STREAM_GOAL_ATTRIBUTES = {"T": "temperature", "P": "pressure", "vapour_fraction": "fraction",
+                          "flow": "flow"}
+BLOCK_GOAL_ATTRIBUTES = {"duty": "power", "power": "power", "min_approach": "temperature_difference"}
+
+KINDS = tuple(PARAMETERS)
+MODELS = ("peng-robinson", "peng-robinson-1978", "soave-redlich-kwong", "gerg-2008")
+
+
+def schema() -> dict:
+    """The flowsheet JSON Schema (draft 2020-12) as a dict."""
+    text = resources.files(__package__).joinpath("flowsheet.schema.json").read_text("utf-8")
+    return json.loads(text)
+
+
+def schema_path() -> Path:
+    """Path of the published schema file."""
+    return Path(__file__).with_name("flowsheet.schema.json")
+
+
+# ---------------------------------------------------------------------------------------------
+# Pass 1: YAML with positions
+# ---------------------------------------------------------------------------------------------
+
+@dataclass
+class _Doc:
+    """Plain data of the file plus the line of every path (key line; value line)."""
+
+    data: object
+    key_lines: dict
+    value_lines: dict
+    file: str
+
+    def line(self, path, key=True):
+        """Line of ``path`` (tuple of keys/indices), falling back to the nearest parent."""
+        path = tuple(path)
+        table = self.key_lines if key else self.value_lines
+        while path:
+            if path in table:
+                return table[path]
+            if path in self.key_lines:
+                return self.key_lines[path]
+            path = path[:-1]
+        return 1
+
+    def err(self, message, path, key=True):
+        return InputError(message, file=self.file, line=self.line(path, key), field=_dotted(path))
+
+
+def _dotted(path) -> str | None:
+    out = ""
+    for p in path:
+        out += f"[{p}]" if isinstance(p, int) else (f".{p}" if out else str(p))
+    return out or None
+
+
+def _read_yaml(text: str, file: str) -> _Doc:
+    loader = yaml.SafeLoader(text)
+    try:
+        try:
+            node = loader.get_single_node()
+        except yaml.MarkedYAMLError as exc:
+            mark = exc.problem_mark or exc.context_mark
+            line = mark.line + 1 if mark is not None else None
+            what = " ".join(p for p in (exc.context, exc.problem) if p)
+            raise InputError(f"broken YAML: {what or exc}", file=file, line=line) from None
+        except yaml.YAMLError as exc:
+            raise InputError(f"broken YAML: {exc}", file=file) from None
+        if node is None:
+            raise InputError("the file is empty", file=file, line=1)
+        key_lines: dict = {}
+        value_lines: dict = {}
+
+        def build(n, path):
+            value_lines[path] = n.start_mark.line + 1
+            if isinstance(n, yaml.MappingNode):
+                loader.flatten_mapping(n)
+                out = {}
+                for k_node, v_node in n.value:
+                    if not isinstance(k_node, yaml.ScalarNode):
+                        raise InputError("a mapping key must be a plain name", file=file,
+                                         line=k_node.start_mark.line + 1, field=_dotted(path))
+                    key = k_node.value
+                    if key in out:
+                        raise InputError(f"key '{key}' is written twice (first on line "
+                                         f"{key_lines[path + (key,)]})", file=file,
+                                         line=k_node.start_mark.line + 1,
+                                         field=_dotted(path + (key,)))
+                    key_lines[path + (key,)] = k_node.start_mark.line + 1
+                    out[key] = build(v_node, path + (key,))
+                return out
+            if isinstance(n, yaml.SequenceNode):
+                out = []
+                for i, item in enumerate(n.value):
+                    key_lines[path + (i,)] = item.start_mark.line + 1
+                    out.append(build(item, path + (i,)))
+                return out
+            try:
+                return loader.construct_object(n, deep=True)
+            except yaml.YAMLError as exc:
+                raise InputError(f"broken YAML value: {exc}", file=file,
+                                 line=n.start_mark.line + 1, field=_dotted(path)) from None
+
+        data = build(node, ())
+    finally:
+        loader.dispose()
+    if not isinstance(data, dict):
+        raise InputError("a flowsheet file is a mapping (title:, gas:, feeds:, equipment:, ...)",
+                         file=file, line=1)
+    return _Doc(data, key_lines, value_lines, file)
+
+
+# ---------------------------------------------------------------------------------------------
+# Pass 2: schema
+# ---------------------------------------------------------------------------------------------
+
+def _nearest(word, choices):
+    near = difflib.get_close_matches(str(word), list(choices), n=2, cutoff=0.6)
+    return f"; did you mean {' or '.join(repr(n) for n in near)}?" if near else ""
+
+
+def _schema_error_message(error, doc: _Doc) -> InputError:
+    path = tuple(error.absolute_path)
+    v = error.validator
+    inst = error.instance
+    if v == "additionalProperties" and isinstance(inst, dict):
+        allowed = error.schema.get("properties", {})
+        extras = [k for k in inst if k not in allowed]
+        if extras:
+            k = extras[0]
+            known = ", ".join(allowed)
+            return doc.err(f"unknown field '{k}'{_nearest(k, allowed)} (known here: {known})",
+                           path + (k,))
+    if v == "required":
+        missing = error.message.split("'")[1] if "'" in error.message else error.message
+        what = "port" if missing in ("from", "to", "hot", "cold", "vapour", "liquid") else "field"
+        return doc.err(f"missing {what} '{missing}'", path)
+    if v == "enum" and path and path[-1] == "kind":
+        return doc.err(f"unknown block kind '{inst}'{_nearest(inst, KINDS)} "
+                       f"(known: {', '.join(KINDS)})", path, key=False)
+    if v == "enum" and path and path[-1] == "model":
+        return doc.err(f"unknown model '{inst}'{_nearest(inst, MODELS)} "
+                       f"(known: {', '.join(MODELS)})", path, key=False)
+    if v == "pattern" and isinstance(inst, str):
+        if path and path[-1] in ("hold", "by"):
+            return doc.err(f"'{inst}' should read name.attribute (e.g. network.T, preheat.T_out)",
+                           path, key=False)
+        return doc.err(f"'{inst}' is not a valid name (letters, digits, '_' and '-', starting "
+                       f"with a letter)", path, key=False)
+    if v == "propertyNames":
+        return doc.err(f"invalid name: {error.message}", path)
+    if v == "type":
+        want = error.validator_value
+        want = " or ".join(want) if isinstance(want, list) else want
+        word = {"object": "a mapping", "array": "a list", "string": "a text value"}.get(want, want)
+        return doc.err(f"expected {word}, got {inst!r}", path, key=False)
+    if v in ("minProperties", "minItems"):
+        return doc.err(f"needs at least {error.validator_value} entries", path)
+    if v == "maxItems":
+        return doc.err(f"takes at most {error.validator_value} entries", path)
+    if v == "const" and path and path[-1] != "kind":
+        return doc.err(f"expected {error.validator_value!r}, got {inst!r}", path, key=False)
+    return doc.err(error.message, path, key=False)
+
+
+def _validate_schema(doc: _Doc) -> None:
+    validator = jsonschema.Draft202012Validator(schema())
+    errors = list(validator.iter_errors(doc.data))
+    if not errors:
+        return
+    # the first problem in file order; among equals the deepest (most specific) one
+    errors.sort(key=lambda e: (doc.line(tuple(e.absolute_path)), -len(e.absolute_path)))
+    raise _schema_error_message(errors[0], doc)
+
+
+# ---------------------------------------------------------------------------------------------
+# Pass 3: meaning
+# ---------------------------------------------------------------------------------------------
+
+def _composition(doc: _Doc, comp: dict, path, normalise: bool, allowed=None) -> dict:
+    from ..fluid.components import canonical_name  # the fluid layer owns component names
+    out: dict = {}
+    first: dict = {}
+    for name, frac in comp.items():
+        try:
+            canon = canonical_name(name)
+        except InputError as exc:
+            raise doc.err(exc.message, path + (name,)) from None
+        if canon in out:
+            raise doc.err(f"'{name}' is the same component as '{first[canon]}'", path + (name,))
+        if allowed is not None and canon not in allowed:
+            raise doc.err(f"component '{name}' is not listed under gas.composition (list it there, "
+                          f"a zero fraction is fine)", path + (name,))
+        first[canon] = name
+        out[canon] = float(frac)
+    total = math.fsum(out.values())
+    if total <= 0.0:
+        raise doc.err("the mole fractions are all zero", path)
+    if abs(total - 1.0) > SUM_TOLERANCE:
+        if not normalise:
+            raise doc.err(f"mole fractions sum to {total:.9g}, not 1 (within {SUM_TOLERANCE:g}); "
+                          f"correct them or set gas.normalise: true", path)
+    out = {k: v / total for k, v in out.items()}
+    if allowed is not None:
+        out = {k: out.get(k, 0.0) for k in allowed}
+    return out
+
+
+def _molar_mass(composition: dict) -> float:
+    from ..fluid.components import COMPONENTS
+    return math.fsum(x * COMPONENTS[c].M for c, x in composition.items())
+
+
+def _kij(doc: _Doc, raw, components) -> object:
+    from ..fluid.components import canonical_name
+    if raw is None or raw == "zero":
+        return raw
+    out = {}
+    for a, row in raw.items():
+        for b, value in row.items():
+            path = ("gas", "kij", a, b)
+            try:
+                ca, cb = canonical_name(a), canonical_name(b)
+            except InputError as exc:
+                raise doc.err(exc.message, path) from None
+            for c, name in ((ca, a), (cb, b)):
+                if c not in components:
+                    raise doc.err(f"component '{name}' is not listed under gas.composition", path)
+            if ca == cb:
+                raise doc.err("an interaction parameter needs two different components", path)
+            pair = tuple(sorted((ca, cb)))
+            if pair in out:
+                raise doc.err(f"the pair {pair[0]}/{pair[1]} is given twice", path)
+            out[pair] = float(value)
+    return out
+
+
+class _Quantities:
+    """Parse quantities of one document with its atmosphere, raising located errors."""
+
+    def __init__(self, doc: _Doc, atmosphere: float):
+        self.doc = doc
+        self.atmosphere = atmosphere
+
+    def __call__(self, text, kind, path, *, bare=None):
+        return parse_quantity(text, kind, atmosphere=self.atmosphere, bare=bare,
+                              field=_dotted(path), file=self.doc.file,
+                              line=self.doc.line(path, key=False))
+
+
+def _where(doc: _Doc, path) -> Where:
+    return Where(doc.file, doc.line(path))
+
+
+def _feeds(doc: _Doc, q: _Quantities, gas: GasSpec, normalise: bool,
+           section: str = "feeds") -> dict:
+    feeds = {}
+    for name, raw in (doc.data.get(section) or {}).items():
+        path = (section, name)
+        T = q(raw["T"], "temperature", path + ("T",))
+        P = q(raw["P"], "pressure", path + ("P",))
+        composition = None
+        if "composition" in raw:
+            composition = _composition(doc, raw["composition"], path + ("composition",),
+                                       normalise, allowed=tuple(gas.composition))
+        flow = q(raw["flow"], "flow", path + ("flow",))
+        if isinstance(flow, MassFlow):
+            value, flow = flow.kg_s, flow.to_molar(_molar_mass(composition or gas.composition))
+        else:
+            value = flow
+        if value < 0.0:
+            raise doc.err(f"negative flow {raw['flow']!r}; a flow must be positive",
+                          path + ("flow",), key=False)
+        if value == 0.0:
+            raise doc.err("zero flow; a flow must be positive", path + ("flow",), key=False)
+        feeds[name] = FeedSpec(name=name, T=T, P=P, flow=flow, composition=composition,
+                               where=_where(doc, path))
+    return feeds
+
+
+def _ports(kind: str, raw: dict):
+    """(inlets, outlets) port maps of a block, from its from/to/hot/cold fields."""
+    if kind == "exchanger":
+        return ({"hot": raw["hot"]["from"], "cold": raw["cold"]["from"]},
+                {"hot": raw["hot"]["to"], "cold": raw["cold"]["to"]})
+    if kind == "mixer":
+        return {f"in{i}": s for i, s in enumerate(raw["from"])}, {"out": raw["to"]}
+    if kind == "separator":
+        return {"in": raw["from"]}, dict(raw["to"])
+    if kind == "splitter":
+        return {"in": raw["from"]}, {s: s for s in raw["to"]}
+    return {"in": raw["from"]}, {"out": raw["to"]}
+
+
+def _port_where(doc: _Doc, kind: str, path) -> dict:
+    """Where each port was written: keys ``in:PORT`` and ``out:PORT`` (port names as in the spec)."""
+    w = {}
+    raw = doc.data["equipment"][path[-1]]
+    if kind == "exchanger":
+        for side in ("hot", "cold"):
+            w[f"in:{side}"] = _where(doc, path + (side, "from"))
+            w[f"out:{side}"] = _where(doc, path + (side, "to"))
+        return w
+    if kind == "mixer":
+        for i in range(len(raw["from"])):
+            w[f"in:in{i}"] = _where(doc, path + ("from", i))
+        w["out:out"] = _where(doc, path + ("to",))
+        return w
+    w["in:in"] = _where(doc, path + ("from",))
+    if kind in ("separator", "splitter"):
+        for port in raw["to"]:
+            w[f"out:{port}"] = _where(doc, path + ("to", port))
+    else:
+        w["out:out"] = _where(doc, path + ("to",))
+    return w
+
+
+def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
+    blocks = {}
+    for name, raw in doc.data["equipment"].items():
+        path = ("equipment", name)
+        kind = raw["kind"]
+        inlets, outlets = _ports(kind, raw)
+        params: dict = {}
+        field_where: dict = _port_where(doc, kind, path)
+        for key, qkind in PARAMETERS[kind].items():
+            if key in raw:
+                value = q(raw[key], qkind, path + (key,))
+                params[key] = value
+                field_where[key] = _where(doc, path + (key,))
+                _check_parameter(doc, kind, key, value, raw[key], path + (key,))
+        if kind == "compressor":
+            params["efficiency_kind"] = raw.get("efficiency_kind", "isentropic")
+        if kind == "splitter":
+            params["fractions"] = _fractions(doc, q, raw["to"], path + ("to",))
+            field_where["fractions"] = _where(doc, path + ("to",))
+        for group in EXACTLY_ONE.get(kind, ()):
+            given = [k for k in group if k in params]
+            varied = [k for k in group if (name, k) in goal_params and k not in params]
+            if len(given) + len(varied) > 1:
+                both = " and ".join(f"'{k}'" + (" (varied by a goal)" if k in varied else "")
+                                    for k in given + varied)
+                raise doc.err(f"a {kind} takes exactly one of {', '.join(group)}; this one has "
+                              f"{both}", path)
+            if not given and not varied:
+                raise doc.err(f"a {kind} needs one of {', '.join(group)}", path)
+        blocks[name] = BlockSpec(name=name, kind=kind, inlets=inlets, outlets=outlets,
+                                 params=params, where=_where(doc, path), field_where=field_where)
+    return blocks
+
+
+def _check_parameter(doc, kind, key, value, text, path):
+    if key in ("dP", "hot_dP", "cold_dP", "duty", "UA", "min_approach") and value < 0.0:
+        extra = ""
+        if key == "duty" and kind in ("heater", "cooler"):
+            extra = f" (a {kind} duty is the heat {'added' if kind == 'heater' else 'removed'}; "\
+                    f"use a {'cooler' if kind == 'heater' else 'heater'} for the other way)"
+        raise doc.err(f"{key} must not be negative, got {text!r}{extra}", path, key=False)
+    if key in ("UA", "min_approach") and value == 0.0:
+        raise doc.err(f"{key} must be positive, got {text!r}", path, key=False)
+    if key == "efficiency" and not 0.0 < value <= 1.0:
+        raise doc.err(f"efficiency must lie in (0, 1], got {text!r}", path, key=False)
+
+
+def _fractions(doc: _Doc, q: _Quantities, raw: dict, path) -> dict:
+    out = {}
+    rest = [k for k, v in raw.items() if v == "rest"]
+    if len(rest) > 1:
+        raise doc.err(f"only one outlet may take the 'rest' ({', '.join(rest)} do)",
+                      path + (rest[1],), key=False)
+    for stream, text in raw.items():
+        if text == "rest":
+            out[stream] = "rest"
+            continue
+        value = q(text, "fraction", path + (stream,))
+        if not 0.0 <= value <= 1.0:
+            raise doc.err(f"a split fraction lies in [0, 1], got {text!r}", path + (stream,),
+                          key=False)
+        out[stream] = value
+    total = math.fsum(v for v in out.values() if v != "rest")
+    if rest and total > 1.0 + SUM_TOLERANCE:
+        raise doc.err(f"split fractions sum to {total:.9g}, leaving nothing for the rest", path)
+    if not rest and abs(total - 1.0) > SUM_TOLERANCE:
+        raise doc.err(f"split fractions sum to {total:.9g}, not 1 (or let one outlet take "
+                      f"'rest')", path)
+    return out
+
+
+def _split_ref(text):
+    name, _, attribute = text.partition(".")
+    return name, attribute
+
+
+def _goal_targets(doc: _Doc) -> dict:
+    """(block, parameter) -> goal index, for the exactly-one checks."""
+    out = {}
+    for i, g in enumerate(doc.data.get("goals") or ()):
+        block, param = _split_ref(g["by"])
+        if (block, param) in out:
+            raise doc.err(f"{g['by']} is already varied by goal {out[(block, param)] + 1}",
+                          ("goals", i, "by"), key=False)
+        out[(block, param)] = i
+    return out
+
+
+def _goals(doc: _Doc, q: _Quantities, blocks: dict, feeds: dict) -> tuple:
+    streams = set(feeds)
+    for b in blocks.values():
+        streams.update(b.outlets.values())
+    goals = []
+    held = {}
+    for i, g in enumerate(doc.data.get("goals") or ()):
+        path = ("goals", i)
+        obj, attr = _split_ref(g["hold"])
+        if obj in blocks:
+            table = BLOCK_GOAL_ATTRIBUTES
+        elif obj in streams:
+            table = STREAM_GOAL_ATTRIBUTES
+        else:
+            raise doc.err(f"'{obj}' is neither a stream nor a block{_nearest(obj, streams | set(blocks))}",
+                          path + ("hold",), key=False)
+        if attr not in table:
+            raise doc.err(f"cannot hold '{attr}' of '{obj}' (can hold: {', '.join(table)})",
+                          path + ("hold",), key=False)
+        if g["hold"] in held:
+            raise doc.err(f"{g['hold']} is already held by goal {held[g['hold']] + 1}",
+                          path + ("hold",), key=False)
+        held[g["hold"]] = i
+        target = q(g["at"], table[attr], path + ("at",))
+        if isinstance(target, MassFlow):
+            raise doc.err("hold a flow as a molar or standard-volume flow, not a mass flow",
+                          path + ("at",), key=False)
+        bname, param = _split_ref(g["by"])
+        if bname not in blocks:
+            raise doc.err(f"unknown block '{bname}'{_nearest(bname, blocks)}", path + ("by",),
+                          key=False)
+        block = blocks[bname]
+        kinds = PARAMETERS[block.kind]
+        if param not in kinds:
+            raise doc.err(f"a {block.kind} has no parameter '{param}' to vary "
+                          f"(it has: {', '.join(kinds) or 'none'})", path + ("by",), key=False)
+        lo = q(g["within"][0], kinds[param], path + ("within", 0))
+        hi = q(g["within"][1], kinds[param], path + ("within", 1))
+        if not lo < hi:
+            raise doc.err(f"the bracket [{g['within'][0]}, {g['within'][1]}] must go from low to "
+                          f"high", path + ("within",), key=False)
+        goals.append(GoalSpec(hold=g["hold"], target=target, by=g["by"], within=(lo, hi),
+                              where=_where(doc, path)))
+        if param not in block.params:
+            # the varied parameter starts in the middle of its bracket
+            params = dict(block.params)
+            params[param] = 0.5 * (lo + hi)
+            fw = dict(block.field_where)
+            fw[param] = _where(doc, path + ("by",))
+            blocks[bname] = BlockSpec(block.name, block.kind, block.inlets, block.outlets, params,
+                                      block.where, fw)
+    return tuple(goals)
+
+
+def _limits(doc: _Doc, q: _Quantities) -> dict:
+    raw = doc.data.get("limits") or {}
+    out = {}
+    if "min_T" in raw:
+        out["min_T"] = q(raw["min_T"], "temperature", ("limits", "min_T"))
+    if "hydrate_margin" in raw:
+        out["hydrate_margin"] = q(raw["hydrate_margin"], "temperature_difference",
+                                  ("limits", "hydrate_margin"))
+    return out
+
+
+def loads(text: str, source: str = "<text>") -> Flowsheet:
+    """Parse flowsheet YAML text.
+
+    Parameters
+    ----------
+    text : str
+        The YAML document.
+    source : str
+        Name used in error messages (the file path).
+
+    Returns
+    -------
+    Flowsheet
+        Everything in SI; ``extra`` holds ``atmosphere`` [Pa] and ``normalise`` (bool).
+
+    Raises
+    ------
+    InputError
+        Broken YAML, a field the schema refuses, an unknown component, unit or block kind,
+        fractions that do not sum to 1, a negative flow, ... (with file, line and field).
+    TopologyError
+        A stream produced twice, consumed twice or never produced, a feed nobody takes.
+    """
+    doc = _read_yaml(text, source)
+    _validate_schema(doc)
+    data = doc.data
+    atmosphere = STANDARD_ATMOSPHERE
+    if "atmosphere" in data:
+        raw_atm = data["atmosphere"]
+        if isinstance(raw_atm, str) and raw_atm.strip().lower().endswith(
+                ("barg", "psig", "kpag", "mpag")):
+            raise doc.err("the atmosphere must be an absolute pressure", ("atmosphere",),
+                          key=False)
+        atmosphere = _Quantities(doc, STANDARD_ATMOSPHERE)(raw_atm, "pressure", ("atmosphere",))
+    q = _Quantities(doc, atmosphere)
+
+    gas_raw = data["gas"]
+    normalise = bool(gas_raw.get("normalise", False))
+    composition = _composition(doc, gas_raw["composition"], ("gas", "composition"), normalise)
+    gas = GasSpec(model=gas_raw.get("model", "peng-robinson"), composition=composition,
+                  kij=_kij(doc, gas_raw.get("kij"), composition))
+    feeds = _feeds(doc, q, gas, normalise)
+    goal_params = _goal_targets(doc)
+    blocks = _blocks(doc, q, goal_params)
+    goals = _goals(doc, q, blocks, feeds)
+    guesses = _feeds(doc, q, gas, normalise, section="guesses")
+    solver_raw = data.get("solver") or {}
+    solver = SolverSpec(**solver_raw)
+    title = data.get("title") or Path(source).stem
+    fs = Flowsheet(title=title, gas=gas, feeds=feeds, blocks=blocks, goals=goals,
+                   limits=_limits(doc, q), solver=solver, source=source,
+                   extra={"atmosphere": atmosphere, "normalise": normalise}, guesses=guesses)
+    from .graph import build_graph
+    build_graph(fs)     # raises TopologyError with file:line
+    return fs
+
+
+def load(path) -> Flowsheet:
+    """Read a flowsheet file.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        The YAML file.
+
+    Returns
+    -------
+    Flowsheet
+
+    Raises
+    ------
+    InputError
+        If the file cannot be read or is not a valid flowsheet (see :func:`loads`).
+    """
+    name = str(path)
+    try:
+        text = Path(path).read_text(encoding="utf-8")
+    except FileNotFoundError:
+        raise InputError("no such file", file=name) from None
+    except (OSError, UnicodeDecodeError) as exc:
+        raise InputError(f"cannot read the file: {exc}", file=name) from None
+    return loads(text, source=name)
