@@ -1,0 +1,61 @@
+"""Mixer: several streams joined adiabatically.
+
+Outlet pressure: the lowest inlet pressure unless ``P_out`` is given (which may not exceed any
+inlet's). Outlet composition and enthalpy are the flow-weighted means; the outlet is a P-h flash::
+
+    F = sum F_k,   F z_i = sum F_k z_k,i,   F h = sum F_k h_k
+"""
+from __future__ import annotations
+
+import numpy as np
+
+from ..errors import InputError
+from .common import TINY_FLOW, array_param, case_text, field_name, finish
+from .stream import flash_stream
+
+
+def run(fluid, name: str, inlets, params):
+    """Mix a batch of inlets.
+
+    Parameters
+    ----------
+    fluid : letdown.fluid.Fluid
+    name : str
+        Block name (for error messages).
+    inlets : Mapping[str, StreamBatch]
+        Port name (``in0``, ``in1``, ...) -> stream; one or more.
+    params : Mapping
+        Optional ``P_out`` [Pa].
+
+    Returns
+    -------
+    BlockOutcome
+        ``outlets={"out": ...}``, ``dP`` [Pa] (lowest inlet pressure - outlet pressure).
+
+    Raises
+    ------
+    InputError
+        If ``P_out`` is above an inlet's pressure.
+    """
+    streams = list(inlets.values())
+    n = streams[0].n_cases
+    P_low = np.min([s.P for s in streams], axis=0)
+    P_out = array_param(params, "P_out", n, name)
+    if P_out is None:
+        P_out = P_low
+    above = P_out > P_low
+    if np.any(above):
+        i = int(np.flatnonzero(above)[0])
+        raise InputError(f"outlet pressure {P_out[i]:.6g} Pa is above the lowest inlet pressure "
+                         f"{P_low[i]:.6g} Pa{case_text(i, n)}", field=field_name(name, "P_out"))
+    flow = sum(s.flow for s in streams)
+    component_flows = sum(s.component_flows for s in streams)
+    empty = flow <= TINY_FLOW
+    F = np.maximum(flow, TINY_FLOW)
+    # an all-empty case takes the plain mean of the inlets (any state will do for no flow)
+    zs = np.where(empty[:, None], np.mean([s.zs for s in streams], axis=0),
+                  component_flows / F[:, None])
+    h = np.where(empty, np.mean([s.h for s in streams], axis=0),
+                 sum(s.enthalpy_flow for s in streams) / F)
+    out = flash_stream(fluid, flow, zs, P=P_out, h=h)
+    return finish(inlets, {"out": out}, 0.0, dP=P_low - P_out)
