@@ -1,0 +1,272 @@
+"""Stream and equipment tables built from a solved result: pure functions, no printing.
+
+A result is read through a few attributes only (the solver's ``Result`` provides them):
+``result.streams`` ({name: stream with ``T`` [K], ``P`` [Pa], ``flow`` [mol/s], ``mass_flow``
+[kg/s], ``vapour_fraction`` [-], ``zs`` ({component: mole fraction} or an array in the order of
+``result.components``), ``h`` [J/mol], ``s`` [J/(mol K)], ``Z`` [-], ``density`` [kg/m3],
+``molar_mass`` [kg/mol]}) and ``result.equipment`` ({name: {"kind", "duty_W" or "power_W",
+"dP_Pa", ...}}). A stream value may be a float or an array over cases; ``case`` picks one.
+
+Tables are :class:`Table` values; :func:`render` lays one out for a terminal, :func:`csv_text`
+writes it as CSV (numbers in the same display units, full precision).
+"""
+from __future__ import annotations
+
+import csv
+import io
+from dataclasses import dataclass
+from typing import Any, Mapping
+
+import numpy as np
+
+from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
+
+#: Width the terminal layout aims for [characters]; wider tables are split into column groups.
+DEFAULT_WIDTH = 110
+
+
+@dataclass(frozen=True)
+class Table:
+    """A titled table: one header row, then rows of cells (str or float).
+
+    Attributes
+    ----------
+    title : str
+    header : tuple of str
+    rows : tuple of tuple
+        Each row has ``len(header)`` cells. Numbers are floats in the display unit named in the
+        header or in the row's first cell.
+    """
+
+    title: str
+    header: tuple
+    rows: tuple
+
+
+def pick(value, case: int = 0):
+    """One case of a value that may be a float or an array over cases.
+
+    >>> pick(np.array([1.0, 2.0]), 1)
+    2.0
+    >>> pick(3.5)
+    3.5
+    """
+    if value is None:
+        return None
+    if isinstance(value, (str, bool)):
+        return value
+    arr = np.asarray(value)
+    if arr.ndim == 0:
+        return arr.item()
+    flat = arr.reshape(-1)
+    return flat[case].item() if flat.size > case else None
+
+
+def _get(obj, name, default=None):
+    if isinstance(obj, Mapping):
+        return obj.get(name, default)
+    return getattr(obj, name, default)
+
+
+def _composition(stream, components, case) -> dict:
+    zs = _get(stream, "zs")
+    if zs is None:
+        return {}
+    if isinstance(zs, Mapping):
+        return {k: pick(v, case) for k, v in zs.items()}
+    arr = np.asarray(zs, dtype=float)
+    if arr.ndim == 2:
+        arr = arr[case]
+    names = components or [f"component {i + 1}" for i in range(arr.size)]
+    return dict(zip(names, arr.tolist()))
+
+
+def stream_table(result, units: str = "si", *, case: int = 0, atmosphere: float | None = None
+                 ) -> Table:
+    """The stream table: streams as columns, properties and composition as rows.
+
+    Parameters
+    ----------
+    result : object
+        A solved result (see the module docstring).
+    units : {"si", "field"}
+        Display units (:func:`letdown.quantities.unit_system`).
+    case : int
+        Which case of a batch to show.
+    atmosphere : float, optional
+        Atmosphere for gauge pressures [Pa]; default ``result.atmosphere`` or 101325 Pa.
+
+    Returns
+    -------
+    Table
+        First column the quantity with its unit; one column per stream.
+    """
+    atm = atmosphere if atmosphere is not None else _get(result, "atmosphere", STANDARD_ATMOSPHERE)
+    u = unit_system(units, atm if atm is not None else STANDARD_ATMOSPHERE)
+    streams = dict(_get(result, "streams", {}) or {})
+    names = list(streams)
+
+    def row(label, key, unit_key=None, from_flow=False):
+        cells = []
+        for n in names:
+            s = streams[n]
+            v = pick(_get(s, "flow" if from_flow else key), case)
+            if v is None:
+                cells.append(None)
+                continue
+            cells.append(u[unit_key](v) if unit_key else v)
+        shown = f"{label} [{u[unit_key].label}]" if unit_key else f"{label} [-]"
+        return (shown, *cells)
+
+    rows = [
+        row("Temperature", "T", "T"),
+        row("Pressure", "P", "P"),
+        row("Vapour fraction", "vapour_fraction"),
+        row("Molar flow", "flow", "flow"),
+        row("Mass flow", "mass_flow", "mass_flow"),
+        row("Standard gas flow", "flow", "std_flow", from_flow=True),
+        row("Density", "density", "density"),
+        row("Z", "Z"),
+        row("Molar mass", "molar_mass", "molar_mass"),
+        row("Enthalpy", "h", "h"),
+        row("Entropy", "s", "s"),
+    ]
+    components = list(_get(result, "components", None) or [])
+    comps = [_composition(streams[n], components, case) for n in names]
+    order: list = []
+    for c in comps:
+        order.extend(k for k in c if k not in order)
+    if order:
+        rows.append(("Mole fractions", *([""] * len(names))))
+        for k in order:
+            rows.append((f"  {k}", *[c.get(k, 0.0) for c in comps]))
+    return Table("Streams", ("", *names), tuple(rows))
+
+
+#: Equipment result keys shown in their own column, with the display unit kind.
+_EQUIPMENT_COLUMNS = (("duty_W", "Duty", "duty"), ("power_W", "Power", "power"),
+                      ("dP_Pa", "Pressure drop", "dP"))
+_HIDDEN = {"kind"}
+
+
+def _detail(key: str, value, u) -> str:
+    """Format one further equipment number, converting by the unit in its key."""
+    if isinstance(value, (str, bool)) or value is None:
+        return f"{key}={value}"
+    v = pick(value)
+    if v is None:
+        return f"{key}=-"
+    if isinstance(v, bool):
+        return f"{key}={v}"
+    for suffix, kind in (("_W_K", "ua"), ("_W", "duty"), ("_Pa", None), ("_K", None)):
+        if key.endswith(suffix):
+            base = key[: -len(suffix)]
+            if suffix == "_Pa":
+                kind = "dP" if "dP" in base or base.startswith("d") else "P"
+            elif suffix == "_K":
+                kind = "dT" if ("approach" in base or base.startswith(("dT", "delta"))
+                                or "margin" in base) else "T"
+            return f"{base}={format_number(u[kind](v))} {u[kind].label}"
+    return f"{key}={format_number(v)}"
+
+
+def equipment_table(result, units: str = "si", *, case: int = 0,
+                    atmosphere: float | None = None) -> Table:
+    """The equipment table: one row per block with its kind, duty, power, pressure drop and
+    further numbers.
+
+    Parameters
+    ----------
+    result : object
+        A solved result (``result.equipment``: {name: dict}).
+    units : {"si", "field"}
+    case : int
+        Which case of a batch to show.
+    atmosphere : float, optional
+        Atmosphere for gauge pressures [Pa].
+
+    Returns
+    -------
+    Table
+    """
+    atm = atmosphere if atmosphere is not None else _get(result, "atmosphere", STANDARD_ATMOSPHERE)
+    u = unit_system(units, atm if atm is not None else STANDARD_ATMOSPHERE)
+    header = ("Block", "Kind", *(f"{label} [{u[k].label}]" for _, label, k in _EQUIPMENT_COLUMNS),
+              "Other")
+    rows = []
+    for name, data in dict(_get(result, "equipment", {}) or {}).items():
+        data = dict(data) if isinstance(data, Mapping) else dict(vars(data))
+        cells: list[Any] = [name, str(data.get("kind", ""))]
+        for key, _, k in _EQUIPMENT_COLUMNS:
+            v = pick(data.get(key), case)
+            cells.append(None if v is None else u[k](v))
+        other = [_detail(k, pick(v, case) if not isinstance(v, (str, list, dict)) else v, u)
+                 for k, v in data.items()
+                 if k not in _HIDDEN and k not in {c[0] for c in _EQUIPMENT_COLUMNS}
+                 and not isinstance(v, (list, dict))]
+        cells.append("; ".join(other))
+        rows.append(tuple(cells))
+    return Table("Equipment", header, tuple(rows))
+
+
+def _cell_text(cell) -> str:
+    if cell is None:
+        return "-"
+    if isinstance(cell, str):
+        return cell
+    if isinstance(cell, bool):
+        return "yes" if cell else "no"
+    return format_number(cell)
+
+
+def render(table: Table, width: int = DEFAULT_WIDTH) -> str:
+    """Lay a table out in fixed-width text; columns past ``width`` go into further blocks that
+    repeat the first column.
+
+    Returns
+    -------
+    str
+        The table, title first, without a trailing newline.
+    """
+    texts = [[_cell_text(c) for c in r] for r in table.rows]
+    header = [str(h) for h in table.header]
+    ncol = len(header)
+    widths = [max([len(header[j])] + [len(r[j]) for r in texts if j < len(r)]) for j in range(ncol)]
+    groups: list[list[int]] = []
+    current: list[int] = []
+    used = widths[0] if ncol else 0
+    for j in range(1, ncol):
+        if current and used + 2 + widths[j] > width:
+            groups.append(current)
+            current, used = [], widths[0]
+        current.append(j)
+        used += 2 + widths[j]
+    if current or not groups:
+        groups.append(current)
+    lines = [table.title]
+    numeric = [all(not isinstance(r[j], str) for r in table.rows if j < len(r) and r[j] != "")
+               for j in range(ncol)]
+    for g, cols in enumerate(groups):
+        if g:
+            lines.append("")
+        cols = [0] + cols
+
+        def fmt(cells, j):
+            text = cells[j] if j < len(cells) else ""
+            return text.rjust(widths[j]) if numeric[j] and j else text.ljust(widths[j])
+
+        lines.append("  ".join(fmt(header, j) for j in cols).rstrip())
+        lines.append("  ".join("-" * widths[j] for j in cols))
+        for r in texts:
+            lines.append("  ".join(fmt(r, j) for j in cols).rstrip())
+    return "\n".join(lines)
+
+
+def csv_text(table: Table) -> str:
+    """The table as CSV text (numbers with 10 significant digits, empty cell for a missing one)."""
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(table.header)
+    for r in table.rows:
+        w.writerow(["" if c is None else (f"{c:.10g}" if isinstance(c, float) else c) for c in r])
+    return buf.getvalue()

@@ -1,0 +1,140 @@
+"""The terminal report of a solved flowsheet: header, stream table, equipment table, loops, goals,
+warnings, the reference conditions used and the engineering caution. Pure functions returning text.
+
+Goals, loops and warnings are read as in the JSON contract (``result.goals``: [{"hold", "target",
+"achieved", "by", "value", "met"}], ``result.loops``: [{"tears", "iterations", "residual"}],
+``result.warnings``: [{"where", "what"}]); entries may be dicts or objects with those attributes.
+"""
+from __future__ import annotations
+
+from typing import Mapping
+
+from ..quantities import (STANDARD_ATMOSPHERE, STANDARD_CONDITIONS, format_number, unit_system)
+from .tables import DEFAULT_WIDTH, equipment_table, pick, render, stream_table
+
+#: Printed under every report that sizes equipment or judges freezing (project rule).
+CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
+           "licensed staff.")
+
+#: Unit kind of a held stream or block quantity / a varied block parameter (by attribute name).
+_ATTRIBUTE_UNIT = {
+    "T": "T", "P": "P", "flow": "flow", "duty": "duty", "power": "power",
+    "min_approach": "dT", "T_out": "T", "hot_T_out": "T", "cold_T_out": "T", "P_out": "P",
+    "dP": "dP", "hot_dP": "dP", "cold_dP": "dP", "UA": "ua",
+}
+
+
+def _get(obj, name, default=None):
+    if isinstance(obj, Mapping):
+        return obj.get(name, default)
+    return getattr(obj, name, default)
+
+
+def _show(value, attribute, u) -> str:
+    kind = _ATTRIBUTE_UNIT.get(attribute)
+    v = pick(value)
+    if v is None or isinstance(v, str):
+        return "-" if v is None else v
+    if kind is None:
+        return format_number(v)
+    return f"{format_number(u[kind](v))} {u[kind].label}"
+
+
+def goals_text(result, units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:
+    """One line per goal: what is held, the target and what was achieved, by which parameter."""
+    u = unit_system(units, atmosphere)
+    lines = []
+    for g in _get(result, "goals", None) or ():
+        hold = str(_get(g, "hold", "?"))
+        by = str(_get(g, "by", "?"))
+        attr = hold.rpartition(".")[2]
+        battr = by.rpartition(".")[2]
+        met = pick(_get(g, "met"))
+        state = "met" if met else "NOT MET"
+        line = (f"  {hold} = {_show(_get(g, 'achieved'), attr, u)} (target "
+                f"{_show(_get(g, 'target'), attr, u)}) by {by} = {_show(_get(g, 'value'), battr, u)}"
+                f": {state}")
+        message = _get(g, "message")
+        if message and not met:
+            line += f" -- {message}"
+        lines.append(line)
+    return "\n".join(["Goals"] + lines) if lines else ""
+
+
+def loops_text(result) -> str:
+    """One line per converged (or not) loop: tear streams, iterations, final residual."""
+    lines = []
+    for lp in _get(result, "loops", None) or ():
+        tears = ", ".join(str(t) for t in (_get(lp, "tears") or ()))
+        it = pick(_get(lp, "iterations"))
+        res = pick(_get(lp, "residual"))
+        conv = _get(lp, "converged")
+        tail = "" if conv is None or pick(conv) else " (NOT converged)"
+        lines.append(f"  tear {tears}: {it} iterations, residual {format_number(res, 3)}{tail}")
+    return "\n".join(["Loops"] + lines) if lines else ""
+
+
+def warnings_text(result) -> str:
+    """One line per warning: where, what."""
+    lines = []
+    for w in _get(result, "warnings", None) or ():
+        where = _get(w, "where", "")
+        what = _get(w, "what", w if isinstance(w, str) else "")
+        lines.append(f"  {where}: {what}" if where else f"  {what}")
+    return "\n".join(["Warnings"] + lines) if lines else ""
+
+
+def conditions_text(units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:
+    """The reference conditions behind gauge pressures and standard volumes, as stated in the
+    report."""
+    if units == "si":
+        cond = STANDARD_CONDITIONS["sm3"]
+        std = (f"Sm3 at 15 degC and 101.325 kPa (ISO 13443), ideal-gas molar volume "
+               f"{cond.molar_volume * 1000.0:.4f} dm3/mol")
+        gauge = "barg"
+    else:
+        cond = STANDARD_CONDITIONS["scf"]
+        per_lbmol = cond.molar_volume * 453.59237 / cond.volume
+        std = (f"MMscf = 1e6 scf at 60 degF and 14.696 psia (common practice), ideal-gas molar "
+               f"volume {per_lbmol:.2f} scf/lbmol")
+        gauge = "psig"
+    return (f"Gauge pressures ({gauge}) relative to an atmosphere of "
+            f"{atmosphere / 1000.0:.6g} kPa. Standard gas volumes: {std}; the real "
+            f"gas's Z of about 0.998 at those conditions is not applied.")
+
+
+def report_text(result, units: str = "si", *, case: int = 0, atmosphere: float | None = None,
+                width: int = DEFAULT_WIDTH) -> str:
+    """The whole terminal report.
+
+    Parameters
+    ----------
+    result : object
+        A solved result.
+    units : {"si", "field"}
+    case : int
+        Which case of a batch to show.
+    atmosphere : float, optional
+        Atmosphere for gauge pressures [Pa]; default ``result.atmosphere`` or 101325 Pa.
+    width : int
+        Target width of the tables [characters].
+
+    Returns
+    -------
+    str
+    """
+    atm = atmosphere if atmosphere is not None else _get(result, "atmosphere", None)
+    atm = STANDARD_ATMOSPHERE if atm is None else atm
+    title = _get(result, "title", "") or "(untitled)"
+    model = _get(result, "model", "?")
+    converged = pick(_get(result, "converged", None))
+    state = "converged" if converged else "NOT converged"
+    parts = [f"{title}\nmodel: {model}; {state}"]
+    parts.append(render(stream_table(result, units, case=case, atmosphere=atm), width))
+    parts.append(render(equipment_table(result, units, case=case, atmosphere=atm), width))
+    for section in (loops_text(result), goals_text(result, units, atm), warnings_text(result)):
+        if section:
+            parts.append(section)
+    parts.append(conditions_text(units, atm))
+    parts.append(CAUTION)
+    return "\n\n".join(parts)
