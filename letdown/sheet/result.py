@@ -1,0 +1,315 @@
+"""Results of a flowsheet solve: one case (:class:`Result`) or a batch of cases (:class:`BatchResult`).
+
+Both are values (frozen). A :class:`BatchResult` keeps every stream as a
+:class:`letdown.equipment.StreamBatch` (arrays over the cases) for studies; ``batch.case(i)`` gives
+the :class:`Result` of one case, whose numbers are plain floats and whose :meth:`Result.to_dict` /
+:meth:`Result.to_json` give the JSON contract of DESIGN.md (SI values, the unit in each key).
+
+Every result checks its balances when it is made: each block's mole balance must close to
+``MOLE_CLOSURE`` and its energy balance to ``ENERGY_CLOSURE`` (relative, see
+:func:`letdown.equipment.closures`), recomputed here from the stored streams, not taken from the
+blocks' own reports.
+"""
+from __future__ import annotations
+
+import json
+import math
+from dataclasses import dataclass, field
+from typing import Mapping
+
+import numpy as np
+
+from ..equipment import StreamBatch, closures
+from ..errors import ConvergenceError
+
+#: Largest relative mole-balance closure accepted for any block (DESIGN.md requirement).
+MOLE_CLOSURE = 1e-9
+#: Largest relative energy-balance closure accepted for any block (DESIGN.md requirement).
+ENERGY_CLOSURE = 1e-6
+
+
+@dataclass(frozen=True)
+class StreamResult:
+    """One stream of one case (SI, molar unless the name says otherwise).
+
+    Attributes
+    ----------
+    name : str
+    T : float  temperature [K]
+    P : float  pressure [Pa]
+    flow : float  molar flow [mol/s]
+    mass_flow : float  [kg/s]
+    vapour_fraction : float  molar [-]
+    zs : dict  overall composition, component -> mole fraction [-]
+    ys, xs : dict  vapour and liquid compositions [-] (equal to ``zs`` where the phase is absent)
+    h : float  molar enthalpy [J/mol]
+    s : float  molar entropy [J/(mol K)]
+    Z : float  compressibility factor [-]
+    density : float  [kg/m3]
+    molar_mass : float  [kg/mol]
+    """
+
+    name: str
+    T: float
+    P: float
+    flow: float
+    mass_flow: float
+    vapour_fraction: float
+    zs: Mapping[str, float]
+    ys: Mapping[str, float]
+    xs: Mapping[str, float]
+    h: float
+    s: float
+    Z: float
+    density: float
+    molar_mass: float
+
+    @classmethod
+    def from_batch(cls, name: str, stream: StreamBatch, i: int, components) -> "StreamResult":
+        """Case ``i`` of a stream batch."""
+        def comp(a):
+            return {c: float(a[i, k]) for k, c in enumerate(components)}
+        return cls(name=name, T=float(stream.T[i]), P=float(stream.P[i]), flow=float(stream.flow[i]),
+                   mass_flow=float(stream.mass_flow[i]),
+                   vapour_fraction=float(stream.vapour_fraction[i]), zs=comp(stream.zs),
+                   ys=comp(stream.ys), xs=comp(stream.xs), h=float(stream.h[i]),
+                   s=float(stream.s[i]), Z=float(stream.Z[i]), density=float(stream.density[i]),
+                   molar_mass=float(stream.molar_mass[i]))
+
+    def to_dict(self) -> dict:
+        """The stream's entry of the JSON contract."""
+        def comp(d):
+            return {c: _num(v) for c, v in d.items()}
+        return {"T_K": _num(self.T), "P_Pa": _num(self.P), "flow_mol_s": _num(self.flow),
+                "mass_flow_kg_s": _num(self.mass_flow),
+                "vapour_fraction": _num(self.vapour_fraction), "composition": comp(self.zs),
+                "h_J_mol": _num(self.h), "s_J_molK": _num(self.s), "Z": _num(self.Z),
+                "density_kg_m3": _num(self.density), "molar_mass_kg_mol": _num(self.molar_mass),
+                "vapour_composition": comp(self.ys), "liquid_composition": comp(self.xs)}
+
+
+@dataclass(frozen=True)
+class EquipmentBatch:
+    """One block over the cases: what it is, its ports and its numbers.
+
+    Attributes
+    ----------
+    kind : str
+    inlets, outlets : Mapping[str, str]
+        Port -> stream name.
+    energy_in : ndarray (n,)
+        Net heat plus work into the streams [W] (see :mod:`letdown.equipment.common`).
+    duty, power, dP : ndarray (n,) or None
+        [W], [W], [Pa].
+    details : Mapping[str, ndarray]
+        Further numbers keyed with their unit.
+    flags : Mapping[str, ndarray of bool]
+    """
+
+    kind: str
+    inlets: Mapping[str, str]
+    outlets: Mapping[str, str]
+    energy_in: np.ndarray
+    duty: np.ndarray | None = None
+    power: np.ndarray | None = None
+    dP: np.ndarray | None = None
+    details: Mapping[str, np.ndarray] = field(default_factory=dict)
+    flags: Mapping[str, np.ndarray] = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class LoopRecord:
+    """How one loop converged (all cases together).
+
+    Attributes
+    ----------
+    blocks, tears : tuple of str
+    iterations : ndarray of int (n,)
+        Iterations each case took.
+    residual : ndarray (n,)
+        Final relative change of the tear variables per case [-].
+    history : tuple of float
+        Largest residual over the active cases at each iteration [-].
+    converged : ndarray of bool (n,)
+    """
+
+    blocks: tuple
+    tears: tuple
+    iterations: np.ndarray
+    residual: np.ndarray
+    history: tuple
+    converged: np.ndarray
+
+
+@dataclass(frozen=True)
+class GoalRecord:
+    """One goal over the cases: hold ``hold`` at ``target`` by varying ``by``.
+
+    Attributes
+    ----------
+    hold, by : str
+    target : float  (SI)
+    value : ndarray (n,)  the varied parameter at the end (SI)
+    achieved : ndarray (n,)  the held quantity at the end (SI)
+    met : ndarray of bool (n,)
+    iterations : ndarray of int (n,)
+    """
+
+    hold: str
+    target: float
+    by: str
+    value: np.ndarray
+    achieved: np.ndarray
+    met: np.ndarray
+    iterations: np.ndarray
+
+
+@dataclass(frozen=True)
+class WarningRecord:
+    """A condition people should know about, and the cases it concerns."""
+
+    where: str
+    what: str
+    cases: tuple = (0,)
+
+
+def _num(x) -> float | None:
+    """A JSON number (None for NaN or infinity, which JSON cannot hold)."""
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+@dataclass(frozen=True)
+class BatchResult:
+    """A flowsheet solved for ``n`` cases at once.
+
+    Attributes
+    ----------
+    title, model : str
+    components : tuple of str
+    streams : Mapping[str, StreamBatch]
+    equipment : Mapping[str, EquipmentBatch]
+    goals : tuple of GoalRecord
+    loops : tuple of LoopRecord
+    warnings : tuple of WarningRecord
+    converged : ndarray of bool (n,)
+        Each case's loops and goals converged.
+    """
+
+    title: str
+    model: str
+    components: tuple
+    streams: Mapping[str, StreamBatch]
+    equipment: Mapping[str, EquipmentBatch]
+    goals: tuple = ()
+    loops: tuple = ()
+    warnings: tuple = ()
+    converged: np.ndarray | None = None
+
+    def __post_init__(self):
+        if self.converged is None:
+            object.__setattr__(self, "converged", np.ones(self.n_cases, dtype=bool))
+
+    @property
+    def n_cases(self) -> int:
+        """Number of cases."""
+        return next(iter(self.streams.values())).n_cases
+
+    def balance_closures(self) -> dict:
+        """Block name -> (mole, energy) relative closures (n,), recomputed from the streams."""
+        out = {}
+        for name, eq in self.equipment.items():
+            ins = [self.streams[s] for s in eq.inlets.values()]
+            outs = [self.streams[s] for s in eq.outlets.values()]
+            out[name] = closures(ins, outs, eq.energy_in)
+        return out
+
+    def check_balances(self) -> None:
+        """Raise unless every converged case closes every block's balances.
+
+        Raises
+        ------
+        ConvergenceError
+            Naming the block, the closure and the limit.
+        """
+        for name, (mole, energy) in self.balance_closures().items():
+            for what, closure, limit in (("mole", mole, MOLE_CLOSURE),
+                                         ("energy", energy, ENERGY_CLOSURE)):
+                bad = self.converged & ~(closure <= limit)
+                if np.any(bad):
+                    i = int(np.flatnonzero(bad)[0])
+                    raise ConvergenceError(f"block '{name}': {what} balance closes only to "
+                                           f"{closure[i]:.3g} (limit {limit:g})"
+                                           + (f" in case {i}" if self.n_cases > 1 else ""))
+
+    def case(self, i: int) -> "Result":
+        """The result of case ``i`` with plain numbers."""
+        closure = self.balance_closures()
+        equipment = {}
+        for name, eq in self.equipment.items():
+            entry = {"kind": eq.kind}
+            if eq.duty is not None:
+                entry["duty_W"] = _num(eq.duty[i])
+            if eq.power is not None:
+                entry["power_W"] = _num(eq.power[i])
+            if eq.dP is not None:
+                entry["dP_Pa"] = _num(eq.dP[i])
+            for key, values in eq.details.items():
+                entry[key] = _num(values[i])
+            for key, values in eq.flags.items():
+                entry[key] = bool(values[i])
+            entry["mole_balance_closure"] = _num(closure[name][0][i])
+            entry["energy_balance_closure"] = _num(closure[name][1][i])
+            entry["inlets"] = dict(eq.inlets)
+            entry["outlets"] = dict(eq.outlets)
+            equipment[name] = entry
+        goals = [{"hold": g.hold, "target": g.target, "achieved": _num(g.achieved[i]), "by": g.by,
+                  "value": _num(g.value[i]), "met": bool(g.met[i]),
+                  "iterations": int(g.iterations[i])} for g in self.goals]
+        loops = [{"blocks": list(lp.blocks), "tears": list(lp.tears),
+                  "iterations": int(lp.iterations[i]), "residual": _num(lp.residual[i]),
+                  "residual_history": [_num(r) for r in lp.history],
+                  "converged": bool(lp.converged[i])} for lp in self.loops]
+        warnings = [{"where": w.where, "what": w.what} for w in self.warnings if i in w.cases]
+        streams = {name: StreamResult.from_batch(name, s, i, self.components)
+                   for name, s in self.streams.items()}
+        return Result(title=self.title, model=self.model, converged=bool(self.converged[i]),
+                      streams=streams, equipment=equipment, goals=goals, loops=loops,
+                      warnings=warnings)
+
+
+@dataclass(frozen=True)
+class Result:
+    """A flowsheet solved for one case (plain numbers, SI).
+
+    Attributes
+    ----------
+    title, model : str
+    converged : bool
+    streams : dict  name -> :class:`StreamResult`
+    equipment : dict  name -> {"kind", "duty_W" or "power_W", "dP_Pa", details, balance closures}
+    goals : list of dict  {"hold", "target", "achieved", "by", "value", "met", "iterations"}
+    loops : list of dict  {"blocks", "tears", "iterations", "residual", "residual_history"}
+    warnings : list of dict  {"where", "what"}
+    """
+
+    title: str
+    model: str
+    converged: bool
+    streams: Mapping[str, StreamResult]
+    equipment: Mapping[str, dict]
+    goals: list
+    loops: list
+    warnings: list
+
+    def to_dict(self) -> dict:
+        """The JSON contract of DESIGN.md as plain Python objects (SI, unit in each key)."""
+        return {"title": self.title, "model": self.model, "converged": self.converged,
+                "streams": {n: s.to_dict() for n, s in self.streams.items()},
+                "equipment": {n: dict(e) for n, e in self.equipment.items()},
+                "goals": [dict(g) for g in self.goals], "loops": [dict(lp) for lp in self.loops],
+                "warnings": [dict(w) for w in self.warnings]}
+
+    def to_json(self, indent: int | None = 2) -> str:
+        """The JSON contract of DESIGN.md as text (NaN written as null)."""
+        return json.dumps(self.to_dict(), indent=indent, allow_nan=False)

@@ -1,0 +1,566 @@
+"""Solve a flowsheet: every block over a batch of cases, loops by Wegstein, goals by bracketing.
+
+The order comes from :func:`letdown.sheet.graph.solve_order`: strongly connected components in
+topological order, each loop with its fewest tear streams. A plain solve is a batch of one case;
+``cases`` lets a study vary feed conditions and block parameters over a leading case axis, and
+every block, loop and goal then works on all cases at once.
+
+Loops
+    Each tear stream is described by its component flows, pressure and enthalpy. The loop's blocks
+    map a guess ``x`` to ``g(x)``; the guess is updated per variable by Wegstein's method (Wegstein,
+    Commun. ACM 1 (1958) 9)::
+
+        s = (g_k - g_{k-1}) / (x_k - x_{k-1}),  q = s / (s - 1) bounded to [Q_MIN, Q_MAX],
+        x_{k+1} = q x_k + (1 - q) g_k
+
+    starting with one plain substitution. Cases that have converged are masked out; the others go on.
+Goals
+    A goal varies one block parameter inside its bracket until a held quantity meets its target: the
+    two bracket ends are evaluated together (one batch of ``2 n`` cases), then all cases iterate
+    with the Illinois root finder of :mod:`letdown.equipment.rootfind`. Several goals nest, the
+    first outermost.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..equipment import KINDS, StreamBatch, flash_stream
+from ..equipment.common import TINY_FLOW
+from ..equipment.rootfind import bracketed_root
+from ..errors import ConvergenceError, InputError
+from ..fluid import Fluid
+from ..fluid.components import R
+from .graph import build_graph, solve_order
+from .result import (BatchResult, EquipmentBatch, GoalRecord, LoopRecord, Result,
+                     WarningRecord)
+from .spec import Flowsheet, Where
+
+#: Wegstein's factor ``q`` is bounded to [Q_MIN, Q_MAX]: -5 allows up to six-fold acceleration of a
+#: slowly converging variable, 0.9 damps an oscillating one without freezing it (common practice
+#: puts the lower bound between -5 and -20; a bounded q keeps a noisy secant from running away).
+WEGSTEIN_Q_MIN = -5.0
+WEGSTEIN_Q_MAX = 0.9
+
+#: Component flows of tear streams must settle to this relative change [-] whatever the solver's
+#: loop tolerance, so that every block's mole balance closes to 1e-9 (DESIGN.md).
+FLOW_TOLERANCE = 1e-10
+
+#: A goal is met within ``max(goal_tolerance, GOAL_RELATIVE_FLOOR * |target|)``: below this the
+#: flash's own rounding (about 1e-12 relative) would make a large target unreachable.
+GOAL_RELATIVE_FLOOR = 1e-10
+
+#: A vapour fraction strictly inside these bounds counts as two phases [-].
+TWO_PHASE_BOUNDS = (1e-9, 1.0 - 1e-9)
+
+#: SI units of the quantities goals hold or vary (for messages).
+UNITS = {"T": "K", "P": "Pa", "flow": "mol/s", "vapour_fraction": "", "duty": "W", "power": "W",
+         "min_approach": "K", "T_out": "K", "P_out": "Pa", "dP": "Pa", "hot_T_out": "K",
+         "cold_T_out": "K", "UA": "W/K", "efficiency": "", "hot_dP": "Pa", "cold_dP": "Pa"}
+
+FEED_FIELDS = ("T", "P", "flow")
+
+
+# ------------------------------------------------------------------------------------------------
+# public entry points
+# ------------------------------------------------------------------------------------------------
+def make_fluid(fs: Flowsheet, model: str | None = None) -> Fluid:
+    """The flowsheet's shared fluid (``fs.gas``), optionally on another model.
+
+    Raises
+    ------
+    InputError
+        If the model or composition is not accepted (located at the ``gas`` section).
+    """
+    try:
+        return Fluid(dict(fs.gas.composition), model=model or fs.gas.model, kij=fs.gas.kij)
+    except InputError as exc:
+        raise exc.located(file=fs.source, field="gas" if model is None else "model") from None
+
+
+def solve(fs: Flowsheet, model: str | None = None) -> Result:
+    """Solve a flowsheet for its one case.
+
+    Parameters
+    ----------
+    fs : Flowsheet
+        From :func:`letdown.sheet.loader.load`.
+    model : str, optional
+        Thermodynamic model overriding ``fs.gas.model``.
+
+    Returns
+    -------
+    Result
+
+    Raises
+    ------
+    InputError
+        A block asked for the impossible (a throttle raising pressure, ...) or a goal whose bracket
+        holds no solution (with the held values at both ends), located in the file.
+    ConvergenceError
+        A loop or a goal did not converge, a flash failed, or a balance does not close.
+    """
+    return solve_cases(fs, None, model=model).case(0)
+
+
+def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
+                strict: bool = True) -> BatchResult:
+    """Solve a flowsheet for many cases at once.
+
+    Parameters
+    ----------
+    fs : Flowsheet
+    cases : Mapping[str, array_like], optional
+        ``"<feed>.T"`` [K], ``"<feed>.P"`` [Pa], ``"<feed>.flow"`` [mol/s] or
+        ``"<block>.<parameter>"`` (SI) -> values over the cases; all of one length ``n`` (or
+        scalars). None: one case, as in the file.
+    model : str, optional
+        Thermodynamic model overriding ``fs.gas.model``.
+    strict : bool
+        True: any case whose loop or goal fails raises. False: such cases are marked in
+        ``converged`` (and their warnings) and the others are returned.
+
+    Returns
+    -------
+    BatchResult
+
+    Raises
+    ------
+    InputError
+        An unknown case key, arrays of different lengths, or (see :func:`solve`).
+    ConvergenceError
+        See :func:`solve` (with ``strict``).
+    """
+    fluid = make_fluid(fs, model)
+    base, n = _case_arrays(fs, cases)
+    engine = _Engine(fs, fluid, base, n, strict)
+    ev = engine.evaluate(np.arange(n), {}, tuple(enumerate(fs.goals)))
+    return engine.result(ev)
+
+
+def load(path) -> "Sheet":
+    """Read a flowsheet file into a :class:`Sheet`.
+
+    Raises
+    ------
+    InputError
+        If the file is not a valid flowsheet (file, line and field in the message).
+    """
+    from .loader import load as load_flowsheet
+    return Sheet(load_flowsheet(path))
+
+
+class Sheet:
+    """A loaded flowsheet, ready to solve.
+
+    Parameters
+    ----------
+    flowsheet : Flowsheet
+    """
+
+    def __init__(self, flowsheet: Flowsheet):
+        self.flowsheet = flowsheet
+
+    @property
+    def title(self) -> str:
+        """The flowsheet's title."""
+        return self.flowsheet.title
+
+    def solve(self, model: str | None = None) -> Result:
+        """Solve the one case of the file (see :func:`solve`)."""
+        return solve(self.flowsheet, model=model)
+
+    def solve_cases(self, cases=None, model: str | None = None, *, strict: bool = True):
+        """Solve many cases at once (see :func:`solve_cases`)."""
+        return solve_cases(self.flowsheet, cases, model=model, strict=strict)
+
+    def __repr__(self) -> str:
+        fs = self.flowsheet
+        return (f"Sheet({fs.title!r}, {len(fs.feeds)} feeds, {len(fs.blocks)} blocks, "
+                f"{len(fs.goals)} goals)")
+
+
+# ------------------------------------------------------------------------------------------------
+# cases
+# ------------------------------------------------------------------------------------------------
+def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
+    """Check the case keys and broadcast their values to one length."""
+    if not cases:
+        return {}, 1
+    arrays = {}
+    for key, values in cases.items():
+        name, _, attr = str(key).partition(".")
+        if name in fs.feeds:
+            ok = attr in FEED_FIELDS
+        elif name in fs.blocks:
+            ok = bool(attr) and attr != "fractions"
+        else:
+            ok = False
+        if not ok:
+            raise InputError(f"unknown case variable '{key}' (use <feed>.T, <feed>.P, <feed>.flow "
+                             "or <block>.<parameter>)", field=f"cases.{key}")
+        arrays[key] = np.atleast_1d(np.asarray(values, dtype=float))
+    lengths = {a.shape[0] for a in arrays.values() if a.shape[0] != 1}
+    if len(lengths) > 1:
+        raise InputError(f"case arrays have different lengths {sorted(lengths)}", field="cases")
+    n = lengths.pop() if lengths else 1
+    return {k: np.broadcast_to(a, (n,)).copy() for k, a in arrays.items()}, n
+
+
+# ------------------------------------------------------------------------------------------------
+# the engine
+# ------------------------------------------------------------------------------------------------
+@dataclass
+class _Evaluation:
+    """Everything one pass over (a subset of) the cases produced."""
+
+    streams: dict
+    outcomes: dict
+    loops: list = field(default_factory=list)
+    goals: list = field(default_factory=list)
+    ok: np.ndarray | None = None
+
+
+class _Engine:
+    """Runs the blocks of one flowsheet over batches of cases.
+
+    ``sel`` (integer array) picks cases from the ``n`` base cases, repeats allowed; ``over`` holds
+    further overrides (arrays aligned with ``sel``) -- how goals try values of their parameter.
+    """
+
+    def __init__(self, fs: Flowsheet, fluid: Fluid, base: dict, n: int, strict: bool):
+        self.fs, self.fluid, self.base, self.n, self.strict = fs, fluid, base, n, strict
+        self.G = build_graph(fs)
+        self.steps = solve_order(self.G)
+        self.components = tuple(fluid.components)
+        self.nc = len(self.components)
+        self.source = fs.source
+        self.feed_zs = {name: self._zs(f.composition, f.where, f"feeds.{name}")
+                        for name, f in fs.feeds.items()}
+        self.guess_zs = {name: self._zs(g.composition, g.where, f"guesses.{name}")
+                         for name, g in fs.guesses.items()}
+        self.producer = {s: b for b, spec in fs.blocks.items() for s in spec.outlets.values()}
+
+    # -- small helpers ----------------------------------------------------------------------------
+    def _zs(self, composition, where: Where, field_path: str) -> np.ndarray:
+        """A composition mapping (or None for the gas's) as an array in component order."""
+        if composition is None:
+            return np.asarray(self.fluid.zs, dtype=float)
+        unknown = [c for c in composition if c not in self.components]
+        if unknown:
+            raise InputError(f"component '{unknown[0]}' is not in the gas composition (the "
+                             f"flowsheet's components are {', '.join(self.components)})",
+                             file=where.file or self.source, line=where.line, field=field_path)
+        zs = np.array([float(composition.get(c, 0.0)) for c in self.components])
+        return zs / zs.sum()
+
+    def _value(self, key: str, sel, over, default):
+        if key in over:
+            return over[key]
+        if key in self.base:
+            return self.base[key][sel]
+        return default
+
+    def _params(self, name: str, sel, over) -> dict:
+        params = dict(self.fs.blocks[name].params)
+        prefix = name + "."
+        for key in list(self.base) + list(over):
+            if key.startswith(prefix):
+                params[key[len(prefix):]] = self._value(key, sel, over, None)
+        return params
+
+    def _locate(self, exc: InputError, name: str) -> InputError:
+        spec = self.fs.blocks[name]
+        key = (exc.field or "").split(".", 2)[-1].split(".")[0]
+        where = spec.field_where.get(key) or spec.where
+        return exc.located(file=where.file or self.source, line=where.line,
+                           field=f"equipment.{name}")
+
+    # -- passes -----------------------------------------------------------------------------------
+    def evaluate(self, sel, over, goals) -> _Evaluation:
+        """Solve the cases ``sel`` with overrides ``over``, meeting ``goals`` (index, GoalSpec)."""
+        if goals:
+            return self._goal(goals[0], goals[1:], sel, over)
+        return self._flow(sel, over)
+
+    def _flow(self, sel, over) -> _Evaluation:
+        m = len(sel)
+        streams: dict = {}
+        for name, feed in self.fs.feeds.items():
+            T = self._value(f"{name}.T", sel, over, feed.T)
+            P = self._value(f"{name}.P", sel, over, feed.P)
+            flow = self._value(f"{name}.flow", sel, over, feed.flow)
+            zs = np.tile(self.feed_zs[name], (m, 1))
+            streams[name] = flash_stream(self.fluid, np.broadcast_to(flow, (m,)), zs,
+                                         T=np.broadcast_to(T, (m,)), P=np.broadcast_to(P, (m,)))
+        ev = _Evaluation(streams=streams, outcomes={}, ok=np.ones(m, dtype=bool))
+        for step in self.steps:
+            if step.is_loop:
+                self._loop(step, ev, sel, over)
+            else:
+                self._run_block(step.blocks[0], ev.streams, ev.outcomes, sel, over)
+        return ev
+
+    def _run_block(self, name, streams, outcomes, sel, over):
+        spec = self.fs.blocks[name]
+        inlets = {port: streams[s] for port, s in spec.inlets.items()}
+        try:
+            outcome = KINDS[spec.kind](self.fluid, name, inlets, self._params(name, sel, over))
+        except InputError as exc:
+            raise self._locate(exc, name) from None
+        for port, stream in spec.outlets.items():
+            streams[stream] = outcome.outlets[port]
+        outcomes[name] = outcome
+
+    # -- loops ------------------------------------------------------------------------------------
+    def _guess(self, tear: str, step, streams, sel) -> StreamBatch:
+        """Starting value of a tear stream: its ``guesses`` entry, else the loop's main inlet."""
+        m = len(sel)
+        if tear in self.fs.guesses:
+            g = self.fs.guesses[tear]
+            return flash_stream(self.fluid, np.full(m, g.flow), np.tile(self.guess_zs[tear], (m, 1)),
+                                T=np.full(m, g.T), P=np.full(m, g.P))
+        inside = set(step.blocks)
+        external = [streams[s] for b in step.blocks for s in self.fs.blocks[b].inlets.values()
+                    if self.producer.get(s) not in inside and s in streams]
+        if not external:
+            spec = self.fs.blocks[step.blocks[0]]
+            raise InputError(f"the loop through {', '.join(step.blocks)} needs a starting value: "
+                             f"add tear stream '{tear}' under 'guesses'",
+                             file=spec.where.file or self.source, line=spec.where.line,
+                             field="guesses")
+        flows = np.stack([s.flow for s in external])
+        main = np.argmax(flows, axis=0)
+        pick = np.arange(m)
+        T = np.stack([s.T for s in external])[main, pick]
+        P = np.stack([s.P for s in external])[main, pick]
+        zs = np.stack([s.zs for s in external])[main, pick]
+        return flash_stream(self.fluid, flows.sum(axis=0), zs, T=T, P=P)
+
+    def _pack(self, tears) -> np.ndarray:
+        """Tear streams -> variables (m, n_tears * (nc + 2)): component flows, P, h."""
+        return np.concatenate([np.column_stack([s.component_flows, s.P, s.h]) for s in tears], axis=1)
+
+    def _unpack(self, x, zs_fallback) -> list:
+        """Variables -> tear streams (P-h flashes); zs kept from ``zs_fallback`` where empty."""
+        nc, out = self.nc, []
+        for t, zs0 in enumerate(zs_fallback):
+            block = x[:, t * (nc + 2):(t + 1) * (nc + 2)]
+            comp = np.maximum(block[:, :nc], 0.0)
+            flow = comp.sum(axis=1)
+            zs = np.where((flow > TINY_FLOW)[:, None], comp / np.maximum(flow, TINY_FLOW)[:, None], zs0)
+            out.append(flash_stream(self.fluid, flow, zs, P=block[:, nc], h=block[:, nc + 1]))
+        return out
+
+    def _scales(self, tears) -> tuple[np.ndarray, np.ndarray]:
+        """Per-variable scales for the residual, and a mask of the flow variables."""
+        cols, flow_cols = [], []
+        for s in tears:
+            cols.append(np.column_stack([np.repeat(np.maximum(s.flow, TINY_FLOW)[:, None], self.nc,
+                                                   axis=1), s.P, np.abs(s.h) + R * s.T]))
+            flow_cols.append(np.r_[np.ones(self.nc, dtype=bool), False, False])
+        return np.concatenate(cols, axis=1), np.concatenate(flow_cols)
+
+    def _loop(self, step, ev: _Evaluation, sel, over) -> None:
+        tol = self.fs.solver.loop_tolerance
+        flow_tol = min(tol, FLOW_TOLERANCE)
+        m = len(sel)
+        tears = step.tears
+        guesses = [self._guess(t, step, ev.streams, sel) for t in tears]
+        zs_fallback = [g.zs for g in guesses]
+        x = self._pack(guesses)
+        x_prev = np.full_like(x, np.nan)
+        g_prev = np.full_like(x, np.nan)
+        inside = set(step.blocks)
+        needed = {s for b in step.blocks for s in self.fs.blocks[b].inlets.values()
+                  if self.producer.get(s) not in inside or s in tears}
+        outside = {s: ev.streams[s] for s in needed if s in ev.streams and s not in tears}
+        iterations = np.zeros(m, dtype=int)
+        residual = np.full(m, np.inf)
+        active = np.ones(m, dtype=bool)
+        history = []
+        for _ in range(self.fs.solver.loop_max_iterations):
+            a = np.flatnonzero(active)
+            if a.size == 0:
+                break
+            over_a = {k: v[a] for k, v in over.items()}
+            streams = {s: b.take(a) for s, b in outside.items()}
+            streams.update(zip(tears, self._unpack(x[a], [z[a] for z in zs_fallback])))
+            outcomes: dict = {}
+            for name in step.blocks:
+                self._run_block(name, streams, outcomes, sel[a], over_a)
+            produced = [streams[t] for t in tears]
+            g = self._pack(produced)
+            scale, is_flow = self._scales(produced)
+            change = np.abs(g - x[a]) / scale
+            r_all = np.max(change, axis=1)
+            r_flow = np.max(change[:, is_flow], axis=1)
+            r_all = np.where(np.isfinite(r_all), r_all, np.inf)
+            iterations[a] += 1
+            residual[a] = r_all
+            history.append(float(np.max(r_all)))
+            done = (r_all <= tol) & (r_flow <= flow_tol)
+            # Wegstein step for the cases still going
+            xa, xp, gp = x[a], x_prev[a], g_prev[a]
+            dx = xa - xp
+            with np.errstate(divide="ignore", invalid="ignore"):
+                s = (g - gp) / dx
+                q = s / (s - 1.0)
+            q = np.where(np.isfinite(q) & (np.abs(dx) > 1e-14 * scale), q, 0.0)
+            q = np.clip(q, WEGSTEIN_Q_MIN, WEGSTEIN_Q_MAX)
+            x_new = q * xa + (1.0 - q) * g
+            x_prev[a], g_prev[a] = xa, g
+            x[a] = np.where(done[:, None], xa, x_new)
+            active[a[done]] = False
+        converged = ~active
+        record = LoopRecord(blocks=tuple(step.blocks), tears=tuple(tears), iterations=iterations,
+                            residual=residual, history=tuple(history), converged=converged)
+        if not np.all(converged) and self.strict:
+            bad = np.flatnonzero(~converged)
+            i = int(bad[0])
+            raise ConvergenceError(
+                f"the loop through {', '.join(step.blocks)} (tears: {', '.join(tears)}) did not "
+                f"converge in {self.fs.solver.loop_max_iterations} iterations: residual "
+                f"{residual[i]:.3g} (tolerance {tol:g})"
+                + (f" in {bad.size} of {m} cases" if m > 1 else "")
+                + "; last residuals " + ", ".join(f"{r:.3g}" for r in history[-5:]),
+                result=record)
+        # final pass over every case from the converged tear values
+        ev.streams.update(zip(tears, self._unpack(x, zs_fallback)))
+        for name in step.blocks:
+            self._run_block(name, ev.streams, ev.outcomes, sel, over)
+        ev.loops.append(record)
+        ev.ok &= converged
+
+    # -- goals ------------------------------------------------------------------------------------
+    def _held(self, goal, ev: _Evaluation) -> np.ndarray:
+        name, _, attr = goal.hold.partition(".")
+        if name in ev.streams and name not in self.fs.blocks:
+            return np.asarray(getattr(ev.streams[name], attr), dtype=float)
+        outcome = ev.outcomes[name]
+        if attr == "min_approach":
+            return outcome.details["min_approach_K"]
+        return np.asarray(getattr(outcome, attr), dtype=float)
+
+    def _goal(self, indexed_goal, rest, sel, over) -> _Evaluation:
+        number, goal = indexed_goal
+        m = len(sel)
+        lo, hi = goal.within
+        tol = max(self.fs.solver.goal_tolerance, GOAL_RELATIVE_FLOOR * abs(goal.target))
+
+        def run(local, x):
+            o = {k: v[local] for k, v in over.items()}
+            o[goal.by] = np.asarray(x, dtype=float)
+            return self.evaluate(sel[local], o, rest)
+
+        every = np.arange(m)
+        ends = run(np.r_[every, every], np.r_[np.full(m, lo), np.full(m, hi)])
+        held = self._held(goal, ends)
+        f_lo, f_hi = held[:m] - goal.target, held[m:] - goal.target
+        at_lo, at_hi = np.abs(f_lo) <= tol, np.abs(f_hi) <= tol
+        no_root = ~(at_lo | at_hi) & ~(np.sign(f_lo) != np.sign(f_hi))
+        no_root |= ~(np.isfinite(f_lo) & np.isfinite(f_hi)) & ~(at_lo | at_hi)
+        if np.any(no_root) and self.strict:
+            i = int(np.flatnonzero(no_root)[0])
+            raise self._no_solution(number, goal, held[i], held[m + i],
+                                    f" (case {i})" if m > 1 else "")
+        x = np.where(at_lo, lo, np.where(at_hi, hi, np.where(np.abs(f_lo) <= np.abs(f_hi), lo, hi)))
+        iterations = np.zeros(m, dtype=int)
+        search = np.flatnonzero(~no_root & ~at_lo & ~at_hi)
+        if search.size:
+            report = bracketed_root(
+                lambda xs, i: self._held(goal, run(search[i], xs)) - goal.target,
+                np.full(search.size, lo), np.full(search.size, hi), f_lo[search], f_hi[search],
+                ftol=tol, max_iterations=self.fs.solver.goal_max_iterations)
+            x[search] = report.x
+            iterations[search] = report.iterations
+        final = run(every, x)
+        achieved = self._held(goal, final)
+        met = np.abs(achieved - goal.target) <= tol
+        if not np.all(met | no_root) and self.strict:
+            i = int(np.flatnonzero(~met)[0])
+            raise ConvergenceError(
+                f"goal {number + 1} ({goal.hold} at {goal.target:.6g} by {goal.by}) did not converge "
+                f"in {self.fs.solver.goal_max_iterations} iterations: {goal.hold} = "
+                f"{achieved[i]:.6g} at {goal.by} = {x[i]:.6g}")
+        final.goals.insert(0, GoalRecord(hold=goal.hold, target=goal.target, by=goal.by, value=x,
+                                         achieved=achieved, met=met, iterations=iterations))
+        final.ok &= met
+        return final
+
+    def _no_solution(self, number, goal, at_lo, at_hi, case) -> InputError:
+        held_unit = UNITS.get(goal.hold.partition(".")[2], "")
+        by_unit = UNITS.get(goal.by.partition(".")[2], "")
+        lo, hi = goal.within
+
+        def q(v, unit):
+            return f"{v:.6g} {unit}".rstrip()
+        where = goal.where
+        return InputError(
+            f"goal {number + 1}: no {goal.by} within [{q(lo, by_unit)}, {q(hi, by_unit)}] brings "
+            f"{goal.hold} to {q(goal.target, held_unit)}{case}: {goal.hold} is "
+            f"{q(at_lo, held_unit)} at {q(lo, by_unit)} and {q(at_hi, held_unit)} at "
+            f"{q(hi, by_unit)}", file=where.file or self.source, line=where.line,
+            field=f"goals[{number}].within")
+
+    # -- the result -------------------------------------------------------------------------------
+    def result(self, ev: _Evaluation) -> BatchResult:
+        """Assemble, warn about and check the final evaluation."""
+        warnings = []
+        n = self.n
+        for name, stream in ev.streams.items():
+            bad = ~stream.converged
+            if np.any(bad):
+                if self.strict:
+                    i = int(np.flatnonzero(bad)[0])
+                    raise ConvergenceError(f"stream '{name}': the flash did not converge"
+                                           + (f" in case {i}" if n > 1 else ""))
+                ev.ok &= ~bad
+                warnings.append(WarningRecord(name, "the flash did not converge",
+                                              tuple(np.flatnonzero(bad).tolist())))
+        min_T = self.fs.limits.get("min_T")
+        if min_T is not None:
+            for name, stream in ev.streams.items():
+                cold = stream.T < min_T
+                if np.any(cold):
+                    i = int(np.flatnonzero(cold)[0])
+                    warnings.append(WarningRecord(
+                        name, f"temperature {stream.T[i]:.2f} K is below limits.min_T "
+                              f"{min_T:.2f} K", tuple(np.flatnonzero(cold).tolist())))
+        texts = {"two_phase_outlet": "throttle outlet is in two phases",
+                 "temperature_cross": "temperature cross inside the exchanger",
+                 "spec_unmet": "the specification cannot be met with these inlet temperatures"}
+        for name, outcome in ev.outcomes.items():
+            for flag, values in outcome.flags.items():
+                if np.any(values):
+                    what = texts.get(flag, flag)
+                    if flag == "temperature_cross":
+                        i = int(np.flatnonzero(values)[0])
+                        what += (f" (smallest approach {outcome.details['min_approach_K'][i]:.2f} K "
+                                 f"at {100 * outcome.details['min_approach_at'][i]:.0f} % of the "
+                                 "duty from the hot end)")
+                    warnings.append(WarningRecord(name, what, tuple(np.flatnonzero(values).tolist())))
+        equipment = {}
+        for name, outcome in ev.outcomes.items():
+            spec = self.fs.blocks[name]
+            equipment[name] = EquipmentBatch(
+                kind=spec.kind, inlets=dict(spec.inlets), outlets=dict(spec.outlets),
+                energy_in=outcome.energy_in, duty=outcome.duty, power=outcome.power, dP=outcome.dP,
+                details=dict(outcome.details), flags=dict(outcome.flags))
+        order = [s for s in self._stream_order() if s in ev.streams]
+        result = BatchResult(title=self.fs.title, model=self.fluid.model,
+                             components=self.components,
+                             streams={s: ev.streams[s] for s in order}, equipment=equipment,
+                             goals=tuple(ev.goals), loops=tuple(ev.loops),
+                             warnings=tuple(warnings), converged=ev.ok.copy())
+        result.check_balances()
+        return result
+
+    def _stream_order(self) -> list:
+        """Streams in calculation order: feeds, then each block's outlets."""
+        out = list(self.fs.feeds)
+        for step in self.steps:
+            for b in step.blocks:
+                out.extend(s for s in self.fs.blocks[b].outlets.values() if s not in out)
+        return out
