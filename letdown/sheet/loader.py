@@ -32,8 +32,13 @@ from ..errors import InputError
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
 from .spec import BlockSpec, FeedSpec, Flowsheet, GasSpec, GoalSpec, SolverSpec, Where
 
-#: Mole fractions must sum to 1 within this, unless ``normalise: true`` [-].
+#: Mole fractions must sum to 1 within this, unless ``normalise: true`` [-] (allows fractions
+#: copied with six decimals; common practice).
 SUM_TOLERANCE = 1e-6
+
+#: Splitter fractions without a ``rest`` must sum to 1 within this [-] (decimal rounding only; the
+#: same limit as the splitter block, :data:`letdown.equipment.splitter.SUM_TOLERANCE`).
+SPLIT_SUM_TOLERANCE = 1e-9
 
 #: Block kinds and, for each, its numeric parameters and their quantity kinds
 #: (see :mod:`letdown.quantities`). The schema documents the same set.
@@ -440,9 +445,9 @@ def _fractions(doc: _Doc, q: _Quantities, raw: dict, path) -> dict:
                           key=False)
         out[stream] = value
     total = math.fsum(v for v in out.values() if v != "rest")
-    if rest and total > 1.0 + SUM_TOLERANCE:
+    if rest and total > 1.0 + SPLIT_SUM_TOLERANCE:
         raise doc.err(f"split fractions sum to {total:.9g}, leaving nothing for the rest", path)
-    if not rest and abs(total - 1.0) > SUM_TOLERANCE:
+    if not rest and abs(total - 1.0) > SPLIT_SUM_TOLERANCE:
         raise doc.err(f"split fractions sum to {total:.9g}, not 1 (or let one outlet take "
                       f"'rest')", path)
     return out

@@ -1,0 +1,296 @@
+"""The ``letdown`` command line. The only module that prints or sets exit codes.
+
+Verbs::
+
+    letdown solve FILE [--json] [--csv DIR] [--model M] [--units si|field] [--debug]
+    letdown check FILE [--debug]
+    letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
+
+Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
+:class:`ModelError`); 1 a failed solve (:class:`ConvergenceError`, or a result that did not
+converge); 3 an internal error (a bug: please report it with the ``--debug`` traceback).
+Errors are one line on stderr, ``letdown: FILE:LINE: field: message``; ``--debug`` adds the
+traceback. With ``--json`` stdout holds only the JSON object; messages for people go to stderr.
+``--csv DIR`` writes ``streams.csv`` and ``equipment.csv`` only after a successful solve (into a
+temporary directory first, then moved into place), so a failure leaves nothing behind.
+"""
+from __future__ import annotations
+
+import argparse
+import json
+import os
+import shutil
+import sys
+import tempfile
+import traceback
+from pathlib import Path
+
+from .errors import ConvergenceError, InputError, LetdownError, ModelError
+
+EXIT_OK = 0
+EXIT_FAILED_SOLVE = 1
+EXIT_BAD_INPUT = 2
+EXIT_INTERNAL = 3
+
+
+class _ArgumentError(Exception):
+    """argparse refused the command line (its message is already in the text)."""
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):  # noqa: D102 - argparse hook: raise instead of exiting
+        raise _ArgumentError(f"{self.prog}: {message}")
+
+
+def _parser() -> argparse.ArgumentParser:
+    common = argparse.ArgumentParser(add_help=False)
+    common.add_argument("--debug", action="store_true", help="show the traceback of an error")
+    p = _Parser(prog="letdown", description="Steady-state flowsheets for natural-gas let-down "
+                "stations and gas chilling trains.", parents=[common])
+    sub = p.add_subparsers(dest="verb", metavar="VERB", parser_class=_Parser)
+    sub.required = True
+
+    s = sub.add_parser("solve", parents=[common], help="solve a flowsheet file and report it")
+    s.add_argument("file", metavar="FILE")
+    s.add_argument("--json", action="store_true", help="print only the JSON result on stdout")
+    s.add_argument("--csv", metavar="DIR", help="also write streams.csv and equipment.csv to DIR")
+    s.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+    s.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+
+    c = sub.add_parser("check", parents=[common], help="validate a flowsheet file without solving")
+    c.add_argument("file", metavar="FILE")
+
+    st = sub.add_parser("state", parents=[common], help="one fluid state from two of T, P, h, s")
+    st.add_argument("--T", help="temperature, e.g. 10degC")
+    st.add_argument("--P", help="pressure, e.g. 70barg")
+    st.add_argument("--h", help="molar enthalpy, e.g. -1200 J/mol (plain number: J/mol)")
+    st.add_argument("--s", help="molar entropy, e.g. -20 J/(mol*K) (plain number: J/(mol K))")
+    st.add_argument("--gas", required=True, help='composition, e.g. "methane=0.9,ethane=0.1"')
+    st.add_argument("--model", default="peng-robinson", help="thermodynamic model")
+    st.add_argument("--normalise", action="store_true", help="scale fractions to sum to 1")
+    st.add_argument("--atmosphere", default="101.325 kPa", help="atmosphere for gauge pressures")
+    st.add_argument("--json", action="store_true", help="print the state as JSON")
+    st.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+    return p
+
+
+def main(argv=None) -> int:
+    """Run the command line; return the exit code (the console script exits with it)."""
+    argv = list(sys.argv[1:] if argv is None else argv)
+    debug = "--debug" in argv
+    try:
+        args = _parser().parse_args(argv)
+    except _ArgumentError as exc:
+        print(str(exc), file=sys.stderr)
+        return EXIT_BAD_INPUT
+    except SystemExit as exc:      # --help prints and exits 0
+        return int(exc.code or 0)
+    where = getattr(args, "file", None)
+    try:
+        if args.verb == "solve":
+            return _solve(args)
+        if args.verb == "check":
+            return _check(args)
+        return _state(args)
+    except (InputError, ModelError) as exc:
+        _error(exc, where, debug)
+        return EXIT_BAD_INPUT
+    except ConvergenceError as exc:
+        _error(exc, where, debug)
+        return EXIT_FAILED_SOLVE
+    except LetdownError as exc:
+        _error(exc, where, debug)
+        return EXIT_FAILED_SOLVE
+    except KeyboardInterrupt:
+        print("letdown: interrupted", file=sys.stderr)
+        return 130
+    except Exception as exc:  # a bug: one line, traceback only on request
+        if debug:
+            traceback.print_exc()
+        print(f"letdown: internal error: {type(exc).__name__}: {exc} (run with --debug for the "
+              f"traceback)", file=sys.stderr)
+        return EXIT_INTERNAL
+
+
+def _error(exc, file, debug) -> None:
+    if debug:
+        traceback.print_exc()
+    text = str(exc)
+    if isinstance(exc, InputError):
+        if not exc.file and file:
+            text = f"{file}: {text}"
+    elif file:
+        text = f"{file}: {text}"
+    print(f"letdown: {text}", file=sys.stderr)
+
+
+# ---------------------------------------------------------------------------------------------
+
+def _csv_target(path: str) -> Path:
+    """Check ``--csv DIR`` before solving: a directory (existing or to be made) we can write."""
+    target = Path(path)
+    if target.exists() and not target.is_dir():
+        raise InputError(f"'{path}' exists and is not a directory", field="--csv")
+    parent = target.resolve().parent
+    if not parent.is_dir():
+        raise InputError(f"the parent directory of '{path}' does not exist", field="--csv")
+    return target
+
+
+def _write_csv(target: Path, files: dict) -> None:
+    """Write ``files`` {name: text} into ``target`` through a temporary directory beside it."""
+    parent = target.resolve().parent
+    tmp = Path(tempfile.mkdtemp(prefix=".letdown-csv-", dir=parent))
+    try:
+        for name, text in files.items():
+            (tmp / name).write_text(text, encoding="utf-8")
+        if target.is_dir():
+            for name in files:
+                os.replace(tmp / name, target / name)
+        else:
+            os.replace(tmp, target)
+    finally:
+        if tmp.exists():
+            shutil.rmtree(tmp, ignore_errors=True)
+
+
+def _solve(args) -> int:
+    import letdown
+
+    from .report.tables import csv_text, equipment_table, stream_table
+    from .report.text import report_text
+
+    target = _csv_target(args.csv) if args.csv else None
+    from .sheet.loader import load as load_spec
+    atmosphere = load_spec(args.file).extra.get("atmosphere")
+    sheet = letdown.load(args.file)
+    result = sheet.solve(model=args.model) if args.model else sheet.solve()
+    if hasattr(result, "case") and not hasattr(result, "to_json"):
+        result = result.case(0)
+    converged = bool(getattr(result, "converged", True))
+    if args.json:
+        print(result.to_json())
+        for w in getattr(result, "warnings", None) or ():
+            where = w.get("where") if isinstance(w, dict) else getattr(w, "where", "")
+            what = w.get("what") if isinstance(w, dict) else getattr(w, "what", w)
+            print(f"letdown: warning: {where}: {what}", file=sys.stderr)
+    else:
+        print(report_text(result, args.units, atmosphere=atmosphere))
+    if not converged:
+        print(f"letdown: {args.file}: the solve did not converge (see the loops and goals above);"
+              f" no CSV written", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
+    if target is not None:
+        _write_csv(target, {
+            "streams.csv": csv_text(stream_table(result, args.units, atmosphere=atmosphere)),
+            "equipment.csv": csv_text(equipment_table(result, args.units, atmosphere=atmosphere)),
+        })
+        print(f"letdown: wrote {target / 'streams.csv'} and {target / 'equipment.csv'}",
+              file=sys.stderr)
+    return EXIT_OK
+
+
+def _check(args) -> int:
+    from .fluid import Fluid
+    from .sheet.graph import build_graph, solve_order
+    from .sheet.loader import load
+
+    fs = load(args.file)
+    steps = solve_order(build_graph(fs))
+    zs = dict(fs.gas.composition)
+    try:
+        Fluid(zs, model=fs.gas.model, kij=fs.gas.kij)
+    except (InputError, ModelError) as exc:
+        raise InputError(str(exc.message if isinstance(exc, InputError) else exc),
+                         file=fs.source, field="gas") from exc
+    loops = [s for s in steps if s.is_loop]
+    tears = "; ".join(", ".join(s.tears) for s in loops)
+    print(f"{args.file}: ok -- {len(fs.feeds)} feed(s), {len(fs.blocks)} block(s), "
+          f"{len(fs.goals)} goal(s), {len(loops)} loop(s)" + (f" (tears: {tears})" if loops else ""))
+    return EXIT_OK
+
+
+def _gas_argument(text: str, normalise: bool) -> dict:
+    from .fluid.components import canonical_name
+    out: dict = {}
+    for part in text.split(","):
+        if not part.strip():
+            continue
+        name, sep, value = part.partition("=")
+        if not sep:
+            raise InputError(f"'{part.strip()}' should read name=fraction", field="--gas")
+        try:
+            canon = canonical_name(name.strip())
+        except InputError as exc:
+            raise InputError(exc.message, field="--gas") from None
+        try:
+            x = float(value)
+        except ValueError:
+            raise InputError(f"'{value.strip()}' is not a number", field="--gas") from None
+        if x < 0.0 or x != x:
+            raise InputError(f"fraction of {name.strip()} must not be negative", field="--gas")
+        if canon in out:
+            raise InputError(f"'{name.strip()}' is listed twice", field="--gas")
+        out[canon] = x
+    total = sum(out.values())
+    if not out or total <= 0.0:
+        raise InputError("no component with a positive fraction", field="--gas")
+    if abs(total - 1.0) > 1e-6 and not normalise:
+        raise InputError(f"fractions sum to {total:.9g}, not 1; correct them or add --normalise",
+                         field="--gas")
+    return {k: v / total for k, v in out.items()}
+
+
+def _state(args) -> int:
+    from .fluid import Fluid
+    from .quantities import STANDARD_ATMOSPHERE, format_number, parse_quantity, unit_system
+
+    atm = parse_quantity(args.atmosphere, "pressure", field="--atmosphere")
+    spec = {}
+    kinds = {"T": "temperature", "P": "pressure", "h": "molar_enthalpy", "s": "molar_entropy"}
+    bare = {"h": "J/mol", "s": "J/(mol*K)"}
+    for key, kind in kinds.items():
+        text = getattr(args, key)
+        if text is not None:
+            spec[key] = parse_quantity(text, kind, atmosphere=atm, bare=bare.get(key),
+                                       field=f"--{key}")
+    if len(spec) != 2:
+        raise InputError(f"give exactly two of --T, --P, --h, --s (got {len(spec)})",
+                         field="state")
+    gas = Fluid(_gas_argument(args.gas, args.normalise), model=args.model)
+    st = gas.flash(**spec)
+    props = {"T_K": st.T, "P_Pa": st.P, "vapour_fraction": st.vapour_fraction,
+             "h_J_mol": st.h, "s_J_molK": st.s, "Z": st.Z, "density_kg_m3": st.density,
+             "molar_mass_kg_mol": st.molar_mass}
+    for extra in ("cp", "cv", "jt", "w"):
+        if hasattr(st, extra):
+            unit = {"cp": "cp_J_molK", "cv": "cv_J_molK", "jt": "jt_K_Pa", "w": "w_m_s"}[extra]
+            props[unit] = getattr(st, extra)
+    props = {k: float(v) for k, v in props.items()}
+    if args.json:
+        print(json.dumps({"model": gas.model,
+                          "composition": dict(zip(gas.components, map(float, gas.zs))),
+                          **{k: (v if v == v else None) for k, v in props.items()}}, indent=2))
+        return EXIT_OK
+    u = unit_system(args.units, atm if atm else STANDARD_ATMOSPHERE)
+    rows = [("Temperature", u["T"](st.T), u["T"].label), ("Pressure", u["P"](st.P), u["P"].label),
+            ("Vapour fraction", st.vapour_fraction, "-"),
+            ("Enthalpy", u["h"](st.h), u["h"].label), ("Entropy", u["s"](st.s), u["s"].label),
+            ("Z", st.Z, "-"), ("Density", u["density"](st.density), u["density"].label),
+            ("Molar mass", u["molar_mass"](st.molar_mass), u["molar_mass"].label)]
+    if "cp_J_molK" in props:
+        rows.append(("cp", u["s"](props["cp_J_molK"]), u["s"].label))
+    if "jt_K_Pa" in props:
+        rows.append(("Joule-Thomson coefficient", props["jt_K_Pa"] * 1e5, "K/bar"))
+    if "w_m_s" in props:
+        rows.append(("Speed of sound", props["w_m_s"], "m/s"))
+    print(f"{gas.model}: " + ", ".join(f"{c}={format_number(x, 4)}"
+                                       for c, x in zip(gas.components, gas.zs)))
+    width = max(len(r[0]) for r in rows)
+    for label, value, unit in rows:
+        print(f"  {label.ljust(width)}  {format_number(value).rjust(12)}  {unit}")
+    return EXIT_OK
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(main())
