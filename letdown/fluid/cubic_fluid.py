@@ -53,7 +53,7 @@ class CubicEngine:
         s = s0 + p["s_res"]
         cv = cp0 - R + p["cv_res"]
         dvdT = -p["dPdT"] / p["dPdv"]
-        cp = cv - T * p["dPdT"] * dvdT
+        cp = cv + T * p["dPdT"] * dvdT
         v = p["v"]
         M = xs @ c.Ms
         jt = (T * dvdT - v) / cp
@@ -143,7 +143,7 @@ class CubicEngine:
         hA, sA = hs(xa, pA)
         cpA = np.einsum("ij,ij->i", xa, cp0) - R + pA["cv_res"]
         dvdT = -pA["dPdT"] / pA["dPdv"]
-        cpA = cpA - T * pA["dPdT"] * dvdT
+        cpA = cpA + T * pA["dPdT"] * dvdT
         h, s, cp = hA, sA, cpA
         if two.any():
             pL = self.eos.properties(T, P, sp.xs, -1)
@@ -242,11 +242,14 @@ class CubicEngine:
     def _solve_T_mixture(self, P, target, zs, which, T_guess):
         """Safeguarded Newton on T for h(T, P) = target or s(T, P) = target.
 
-        Every iterate is a true equilibrium state: single-phase iterates come from a flash with a
-        stability test, two-phase iterates from a warm-started split (a split that collapses is
+        The first iterate is flashed with a stability test. While a case stays single-phase, its
+        next iterates trust that phase count (no stability test) and the converged temperature is
+        verified by a stability test; if that finds a second phase the case restarts its bracket
+        and from then on every iterate is a true equilibrium state: single-phase iterates tested
+        for stability, two-phase iterates from a warm-started split (a split that collapses is
         re-tested next pass). h(T) at fixed P is then continuous and increasing, so the bracket
-        [lo, hi] built from the signs of the residual always holds the answer. Slopes: the analytic
-        cp in one phase; a secant (or, on a first two-phase step, a forward difference) in two.
+        [lo, hi] built from the signs of the residual holds the answer. Slopes: the analytic cp in
+        one phase; a secant (or, on a first two-phase step, a forward difference) in two.
         """
         n = P.shape[0]
         eos = self.eos
@@ -254,6 +257,8 @@ class CubicEngine:
         lo = np.full(n, fl.T_LOW)
         hi = np.full(n, fl.T_HIGH)
         assume = np.zeros(n, dtype=int)
+        trust = np.ones(n, dtype=bool)          # skip stability tests on single-phase iterates
+        verified = np.zeros(n, dtype=bool)
         K = np.ones(zs.shape)
         conv = np.zeros(n, dtype=bool)
         prev_T = np.full(n, np.nan)
@@ -263,18 +268,34 @@ class CubicEngine:
         ys = zs.copy()
         nph = np.ones(n, dtype=int)
         for it in range(fl.PH_MAX_ITER):
-            if conv.all():
+            if verified.all():
                 break
-            i = np.nonzero(~conv)[0]
+            i = np.nonzero(~verified)[0]
             Ti, Pi, zi = T[i], P[i], zs[i]
-            sp = fl.flash_PT(eos, Ti, Pi, zi, K_init=K[i], assume=assume[i])
-            h, s, cp = self._hs_of_split(Ti, Pi, zi, sp)
-            f = (h if which == "h" else s) - target[i]
+            check = conv[i]                      # converged on trust: this pass verifies
+            a = np.where(check, 0, assume[i])
+            sp = fl.flash_PT(eos, Ti, Pi, zi, K_init=K[i], assume=a)
             two = sp.n_phases == 2
             beta[i], xs[i], ys[i], nph[i] = sp.beta, sp.xs, sp.ys, sp.n_phases
             with np.errstate(divide="ignore", invalid="ignore"):
                 K[i] = np.where(two[:, None], sp.ys / sp.xs, K[i])
-            assume[i] = np.where(two, 2, 0)
+            flipped = check & two & (assume[i] != 2)
+            verified[i] = check & ~flipped
+            if flipped.any():
+                # the trusted single phase was metastable: its residuals said nothing about the
+                # true h(T); restart the bracket and test every iterate from now on
+                fi = i[flipped]
+                lo[fi], hi[fi] = fl.T_LOW, fl.T_HIGH
+                prev_T[fi], prev_f[fi] = np.nan, np.nan
+                trust[fi] = False
+                conv[fi] = False
+            assume[i] = np.where(two, 2, np.where(trust[i], 1, 0))
+            keep = ~verified[i]
+            if not keep.any():
+                break
+            i, Ti, Pi, zi, sp, two = i[keep], Ti[keep], Pi[keep], zi[keep], _take(sp, keep), two[keep]
+            h, s, cp = self._hs_of_split(Ti, Pi, zi, sp)
+            f = (h if which == "h" else s) - target[i]
             lo[i] = np.where(f < 0, Ti, lo[i])
             hi[i] = np.where(f > 0, Ti, hi[i])
             slope = cp if which == "h" else cp / Ti
@@ -301,9 +322,11 @@ class CubicEngine:
             prev_f[i] = f
             T[i] = np.where(done, Ti, Tn)
             conv[i] = done
+            # two-phase iterates and untrusting cases are true states: converged means done
+            verified[i] = done & ((assume[i] == 2) | ~trust[i])
         split = fl.PTSplit(beta, xs, ys, nph, beta >= 1,
-                           fl.SolveReport(conv, np.zeros(n, int), np.zeros(n), ""))
-        return T, conv, split
+                           fl.SolveReport(verified, np.zeros(n, int), np.zeros(n), ""))
+        return T, verified, split
 
     def _initial_T(self, P, target, zs, which):
         """Ideal-gas temperature with the target enthalpy (entropy), a few Newton steps."""
@@ -451,6 +474,12 @@ class CubicEngine:
             b[j] = np.where(u, b[j], mid[j])
         out[m] = np.where(ok, 0.5 * (a + b) if axis == "T" else np.sqrt(a * b), np.nan)
         return out
+
+
+def _take(sp: fl.PTSplit, m) -> fl.PTSplit:
+    r = sp.report
+    return fl.PTSplit(sp.beta[m], sp.xs[m], sp.ys[m], sp.n_phases[m], sp.single_is_vapour[m],
+                      fl.SolveReport(r.converged[m], r.iterations[m], r.residual[m], r.message))
 
 
 def _bisect(lo, hi, T, f):

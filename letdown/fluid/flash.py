@@ -43,8 +43,9 @@ FLASH_SS_MAX_ITER = 200
 #: Apply GDEM extrapolation every this many successive-substitution steps.
 ACCELERATE_EVERY = 5
 NEWTON_MAX_ITER = 30
-#: Rachford-Rice: Newton with bisection, converged when the bracket or step is below this.
-RR_TOL = 1e-15
+#: Rachford-Rice: Newton with bisection, converged when the relative step or the bracket is below
+#: this (a few ulps: the material balance then closes to ~1e-15).
+RR_TOL = 4e-16
 RR_MAX_ITER = 100
 #: Temperature bracket for PH/PS flashes [K]: below the normal boiling point of every component
 #: except H2/He/N2 and above any let-down or chilling duty.
@@ -117,6 +118,12 @@ def rachford_rice(zs, Ks):
     hi = np.clip(np.minimum(hi, hi_w), 0.0, 1.0)
     beta = 0.5 * (lo + hi)
     active = (f0 > 0.0) & (f1 < 0.0)
+    # Leibovici & Neoschil (Fluid Phase Equilib. 74 (1992) 303): Newton on
+    # H(beta) = (beta - a)(b - beta) f(beta), a = 1/(1 - Kmax), b = 1/(1 - Kmin), which removes the
+    # two poles next to the solution window and stays near-linear when a phase is a trace.
+    with np.errstate(divide="ignore"):
+        a_ = 1.0 / (1.0 - np.max(Ks, axis=1))
+        b_ = 1.0 / (1.0 - np.min(Ks, axis=1))
     for _ in range(RR_MAX_ITER):
         if not active.any():
             break
@@ -126,11 +133,18 @@ def rachford_rice(zs, Ks):
         df = -(t * Km1 / den).sum(axis=1)
         lo = np.where(active & (f > 0.0), beta, lo)
         hi = np.where(active & (f < 0.0), beta, hi)
-        step = f / df
-        new = beta - step
-        bad = (new <= lo) | (new >= hi) | ~np.isfinite(new)
+        pa = beta - a_
+        pb = b_ - beta
+        H = pa * pb * f
+        dH = (pb - pa) * f + pa * pb * df
+        with np.errstate(divide="ignore", invalid="ignore"):
+            new = beta - H / dH
+        # converged when the Newton step itself is a few ulps (test before the bracket check: a
+        # zero step sits on the bracket end)
+        done = (np.abs(new - beta) <= RR_TOL * np.maximum(beta, 1e-300)) | (hi - lo < RR_TOL) | (f == 0.0)
+        bad = ((new <= lo) | (new >= hi) | ~np.isfinite(new)) & ~done
         new = np.where(bad, 0.5 * (lo + hi), new)
-        done = (np.abs(new - beta) < RR_TOL) | (hi - lo < RR_TOL)
+        new = np.where(done, beta, new)
         beta = np.where(active, new, beta)
         active &= ~done
     beta = np.where(f0 <= 0.0, 0.0, np.where(f1 >= 0.0, 1.0, beta))

@@ -152,7 +152,7 @@ class Fluid:
     def _make_engine(self):
         if self.model == "gerg-2008":
             from .gerg import GergEngine
-            return GergEngine(self._comps)
+            return GergEngine(self._comps, self.kijs)
         eos = CubicEOS(self._comps, KINDS[self.model], self.kijs)
         return CubicEngine(self._comps, eos, self.volume_shift)
 
