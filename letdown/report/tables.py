@@ -146,18 +146,21 @@ def stream_table(result, units: str = "si", *, case: int = 0, atmosphere: float 
 #: Equipment result keys shown in their own column, with the display unit kind.
 _EQUIPMENT_COLUMNS = (("duty_W", "Duty", "duty"), ("power_W", "Power", "power"),
                       ("dP_Pa", "Pressure drop", "dP"))
+#: Balance closures get columns of their own (relative, [-]).
+_CLOSURE_COLUMNS = (("mole_balance_closure", "Mole closure [-]"),
+                    ("energy_balance_closure", "Energy closure [-]"))
 _HIDDEN = {"kind"}
 
 
 def _detail(key: str, value, u) -> str:
     """Format one further equipment number, converting by the unit in its key."""
-    if isinstance(value, (str, bool)) or value is None:
+    if isinstance(value, str) or value is None:
         return f"{key}={value}"
     v = pick(value)
     if v is None:
         return f"{key}=-"
     if isinstance(v, bool):
-        return f"{key}={v}"
+        return key.replace("_", " ")      # a flag that is set (unset flags are left out)
     for suffix, kind in (("_W_K", "ua"), ("_W", "duty"), ("_Pa", None), ("_K", None)):
         if key.endswith(suffix):
             base = key[: -len(suffix)]
@@ -192,7 +195,8 @@ def equipment_table(result, units: str = "si", *, case: int = 0,
     atm = atmosphere if atmosphere is not None else _get(result, "atmosphere", STANDARD_ATMOSPHERE)
     u = unit_system(units, atm if atm is not None else STANDARD_ATMOSPHERE)
     header = ("Block", "Kind", *(f"{label} [{u[k].label}]" for _, label, k in _EQUIPMENT_COLUMNS),
-              "Other")
+              *(label for _, label in _CLOSURE_COLUMNS), "Other")
+    shown = {c[0] for c in _EQUIPMENT_COLUMNS} | {c[0] for c in _CLOSURE_COLUMNS} | _HIDDEN
     rows = []
     for name, data in dict(_get(result, "equipment", {}) or {}).items():
         data = dict(data) if isinstance(data, Mapping) else dict(vars(data))
@@ -200,10 +204,12 @@ def equipment_table(result, units: str = "si", *, case: int = 0,
         for key, _, k in _EQUIPMENT_COLUMNS:
             v = pick(data.get(key), case)
             cells.append(None if v is None else u[k](v))
-        other = [_detail(k, pick(v, case) if not isinstance(v, (str, list, dict)) else v, u)
+        for key, _ in _CLOSURE_COLUMNS:
+            cells.append(pick(data.get(key), case))
+        other = [_detail(k, v if isinstance(v, str) else pick(v, case), u)
                  for k, v in data.items()
-                 if k not in _HIDDEN and k not in {c[0] for c in _EQUIPMENT_COLUMNS}
-                 and not isinstance(v, (list, dict))]
+                 if k not in shown and not isinstance(v, (list, dict, tuple))
+                 and not (isinstance(pick(v, case), bool) and not pick(v, case))]
         cells.append("; ".join(other))
         rows.append(tuple(cells))
     return Table("Equipment", header, tuple(rows))
