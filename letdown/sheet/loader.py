@@ -130,6 +130,9 @@ def _read_yaml(text: str, file: str) -> _Doc:
             mark = exc.problem_mark or exc.context_mark
             line = mark.line + 1 if mark is not None else None
             what = " ".join(p for p in (exc.context, exc.problem) if p)
+            ctx = exc.context_mark
+            if ctx is not None and mark is not None and ctx.line != mark.line:
+                what += f" (it began on line {ctx.line + 1})"
             raise InputError(f"broken YAML: {what or exc}", file=file, line=line) from None
         except yaml.YAMLError as exc:
             raise InputError(f"broken YAML: {exc}", file=file) from None
