@@ -41,10 +41,21 @@ APPROACH_TOLERANCE = 1e-6
 UA_RELATIVE_TOLERANCE = 1e-9
 #: Cap on profile evaluations per root search (Illinois needs about 10-20).
 MAX_ROOT_ITERATIONS = 100
+#: The surrogate profile for min_approach and UA: T-P flashes at this many temperatures spanning
+#: the inlet temperatures widened by SURROGATE_MARGIN [K] on each side (pressure drop and
+#: Joule-Thomson effects can carry an outlet slightly outside them).
+SURROGATE_POINTS = 81
+SURROGATE_MARGIN = 5.0
+#: Secant steps on the exact profile after the surrogate (two or three usually settle it), and the
+#: relative duty step of the surrogate's slope estimate.
+MAX_POLISH_STEPS = 8
+POLISH_STEP = 1e-4
 
 
-def _profile(fluid, hot: StreamBatch, cold: StreamBatch, Q, P_hot_out, P_cold_out):
+def _profile(fluid, hot: StreamBatch, cold: StreamBatch, Q, P_hot_out, P_cold_out, guess=None):
     """Both streams at the ``SLICES + 1`` slice boundaries for duty ``Q`` (n,) [W].
+
+    ``guess``, if given, is a pair of (n, N+1) temperature arrays [K] that start the P-h flashes.
 
     Returns
     -------
@@ -64,8 +75,9 @@ def _profile(fluid, hot: StreamBatch, cold: StreamBatch, Q, P_hot_out, P_cold_ou
     m = SLICES + 1
     zs = np.concatenate([np.repeat(hot.zs, m, axis=0), np.repeat(cold.zs, m, axis=0)])
     flow = np.concatenate([np.repeat(hot.flow, m), np.repeat(cold.flow, m)])
+    T_guess = None if guess is None else np.concatenate([guess[0].ravel(), guess[1].ravel()])
     states = flash_stream(fluid, flow, zs, P=np.concatenate([P_hot.ravel(), P_cold.ravel()]),
-                          h=np.concatenate([h_hot.ravel(), h_cold.ravel()]))
+                          h=np.concatenate([h_hot.ravel(), h_cold.ravel()]), T_guess=T_guess)
     T = states.T.reshape(2, n, m)
     return states, T[0], T[1]
 
@@ -130,6 +142,7 @@ def run(fluid, name: str, inlets, params):
     P_cold_out = outlet_pressure({"dP": params.get("cold_dP", 0.0)}, cold, name, required=True)
     value = array_param(params, spec, n, name)
     unmet = np.zeros(n, dtype=bool)
+    guess = None
     if spec == "duty":
         Q = value
     elif spec == "hot_T_out":
@@ -137,9 +150,11 @@ def run(fluid, name: str, inlets, params):
     elif spec == "cold_T_out":
         Q = cold.flow * (flash_stream(fluid, cold.flow, cold.zs, T=value, P=P_cold_out).h - cold.h)
     else:
-        Q, unmet = _solve_duty(fluid, hot, cold, P_hot_out, P_cold_out, spec, value)
+        Q, unmet, model = _solve_duty(fluid, hot, cold, P_hot_out, P_cold_out, spec, value)
     Q = np.where((hot.flow > 0) & (cold.flow > 0), Q, 0.0)
-    states, T_hot, T_cold = _profile(fluid, hot, cold, Q, P_hot_out, P_cold_out)
+    if spec in ("min_approach", "UA"):
+        guess = model(Q, np.arange(n))
+    states, T_hot, T_cold = _profile(fluid, hot, cold, Q, P_hot_out, P_cold_out, guess)
     min_dT, where, UA = _approach_and_ua(Q, T_hot, T_cold)
     m = SLICES + 1
     hot_out = states.take(np.arange(n) * m + SLICES)
@@ -152,37 +167,126 @@ def run(fluid, name: str, inlets, params):
                   flags={"temperature_cross": cross, "spec_unmet": unmet})
 
 
+def _interp_rows(x, xp, fp):
+    """Row-wise linear interpolation: ``x`` (n, k) in the increasing rows of ``xp`` (n, G) -> (n, k).
+
+    Clamped at the ends, like :func:`numpy.interp`.
+    """
+    G = xp.shape[1]
+    j = np.clip(np.sum(xp[:, None, :] < x[:, :, None], axis=2), 1, G - 1)
+    rows = np.arange(x.shape[0])[:, None]
+    x0, x1 = xp[rows, j - 1], xp[rows, j]
+    y0, y1 = fp[rows, j - 1], fp[rows, j]
+    with np.errstate(divide="ignore", invalid="ignore"):
+        t = np.clip(np.where(x1 > x0, (x - x0) / (x1 - x0), 0.0), 0.0, 1.0)
+    return y0 + t * (y1 - y0)
+
+
+def _surrogate(fluid, hot, cold, P_hot_out, P_cold_out):
+    """Cheap profile model: each stream's h(T) on a grid of T-P flashes at its mean pressure.
+
+    Returns a function ``Q (n,) -> (T_hot, T_cold)`` at the slice boundaries (no flash).
+    """
+    n = hot.n_cases
+    T_low = np.minimum(hot.T, cold.T) - SURROGATE_MARGIN
+    T_high = np.maximum(hot.T, cold.T) + SURROGATE_MARGIN
+    grid = T_low[:, None] + (T_high - T_low)[:, None] * np.linspace(0.0, 1.0, SURROGATE_POINTS)
+    G = SURROGATE_POINTS
+    states = flash_stream(fluid, np.zeros(2 * n * G),
+                          np.concatenate([np.repeat(hot.zs, G, axis=0), np.repeat(cold.zs, G, axis=0)]),
+                          T=np.concatenate([grid.ravel(), grid.ravel()]),
+                          P=np.concatenate([np.repeat(0.5 * (hot.P + P_hot_out), G),
+                                            np.repeat(0.5 * (cold.P + P_cold_out), G)]))
+    h = states.h.reshape(2, n, G)
+    # enthalpy rises with temperature at fixed pressure; keep the rows increasing against noise
+    h_hot, h_cold = np.maximum.accumulate(h[0], axis=1), np.maximum.accumulate(h[1], axis=1)
+    frac = np.linspace(0.0, 1.0, SLICES + 1)[None, :]
+
+    def model(Q, idx):
+        q_hot = np.where(hot.flow[idx] > 0, Q / np.maximum(hot.flow[idx], TINY_FLOW), 0.0)[:, None]
+        q_cold = np.where(cold.flow[idx] > 0, Q / np.maximum(cold.flow[idx], TINY_FLOW), 0.0)[:, None]
+        T_hot = _interp_rows(hot.h[idx, None] - frac * q_hot, h_hot[idx], grid[idx])
+        T_cold = _interp_rows(cold.h[idx, None] + (1.0 - frac) * q_cold, h_cold[idx], grid[idx])
+        return T_hot, T_cold
+    return model
+
+
 def _solve_duty(fluid, hot, cold, P_hot_out, P_cold_out, spec, target):
-    """Duty meeting a minimum approach or a UA, all cases together; returns (Q, unmet)."""
+    """Duty meeting a minimum approach or a UA, all cases together.
+
+    Returns ``(Q, unmet, model)``: duty [W], cases whose specification cannot be met, and the
+    surrogate profile ``model(Q, idx) -> (T_hot, T_cold)`` (its temperatures start P-h flashes).
+
+    First on the cheap surrogate profile (T-P grid, interpolation; no P-h flash), then polished by
+    secant steps on the exact slice profile; cases the polish does not settle fall back to the
+    bracketed root finder on the exact profile.
+    """
     n = hot.n_cases
     Q_max = _max_duty(fluid, hot, cold, P_hot_out, P_cold_out)
+    every = np.arange(n)
 
-    def f(Q, idx):
-        _, T_hot, T_cold = _profile(fluid, hot.take(idx), cold.take(idx), Q,
-                                    P_hot_out[idx], P_cold_out[idx])
+    def residual(T_hot, T_cold, Q, idx):
         min_dT, _, UA = _approach_and_ua(Q, T_hot, T_cold)
         return (min_dT - target[idx]) if spec == "min_approach" else (UA - target[idx])
 
-    every = np.arange(n)
-    f_lo = f(np.zeros(n), every)
-    f_hi = f(Q_max, every)
-    # min approach: f falls with Q; met at Q = 0 only if the inlets are target apart at most.
-    # UA: f rises from -UA at Q = 0 to +inf at Q_max.
+    model = _surrogate(fluid, hot, cold, P_hot_out, P_cold_out)
+
+    def exact(Q, idx):
+        _, T_hot, T_cold = _profile(fluid, hot.take(idx), cold.take(idx), Q,
+                                    P_hot_out[idx], P_cold_out[idx], model(Q, idx))
+        return residual(T_hot, T_cold, Q, idx)
+
+    def cheap(Q, idx):
+        return residual(*model(Q, idx), Q, idx)
+
     if spec == "min_approach":
-        unmet = (f_lo < 0.0) | (Q_max <= 0.0)
-        at_max = f_hi >= 0.0          # even the largest duty keeps the approach: take it
-        ftol = APPROACH_TOLERANCE
+        ftol = np.full(n, APPROACH_TOLERANCE)
+    else:
+        ftol = UA_RELATIVE_TOLERANCE * np.abs(target)
+    # the surrogate's own root: min approach falls with Q; UA rises from 0 to +inf at Q_max
+    s_lo, s_hi = cheap(np.zeros(n), every), cheap(Q_max, every)
+    if spec == "min_approach":
+        unmet = (s_lo < 0.0) | (Q_max <= 0.0)
+        at_max = s_hi >= 0.0          # even the largest duty keeps the approach: take it
     else:
         unmet = (Q_max <= 0.0) | ~(target > 0.0)
         at_max = np.zeros(n, dtype=bool)
-        ftol = UA_RELATIVE_TOLERANCE * np.abs(target)
     Q = np.where(at_max & ~unmet, Q_max, 0.0)
     search = np.flatnonzero(~unmet & ~at_max)
-    if search.size:
-        report = bracketed_root(lambda q, i: f(q, search[i]), np.zeros(search.size), Q_max[search],
-                                f_lo[search], f_hi[search],
-                                ftol=ftol if np.ndim(ftol) == 0 else ftol[search],
-                                max_iterations=MAX_ROOT_ITERATIONS)
-        Q[search] = report.x
-        unmet[search] = ~report.converged
-    return Q, unmet
+    if search.size == 0:
+        return Q, unmet, model
+    rough = bracketed_root(lambda q, i: cheap(q, search[i]), np.zeros(search.size), Q_max[search],
+                           s_lo[search], s_hi[search], ftol=0.01 * ftol[search],
+                           max_iterations=MAX_ROOT_ITERATIONS)
+    # secant polish on the exact profile, starting from the surrogate root and its slope
+    q0 = rough.x
+    dq = POLISH_STEP * np.maximum(Q_max[search], TINY_FLOW)
+    slope = (cheap(q0 + dq, search) - cheap(q0 - dq, search)) / (2.0 * dq)
+    q, f = q0, exact(q0, search)
+    settled = np.abs(f) <= ftol[search]
+    for _ in range(MAX_POLISH_STEPS):
+        go = np.flatnonzero(~settled)
+        if go.size == 0:
+            break
+        with np.errstate(divide="ignore", invalid="ignore"):
+            q_new = q[go] - f[go] / slope[go]
+        ok = np.isfinite(q_new) & (q_new > 0.0) & (q_new < Q_max[search[go]])
+        go = go[ok]
+        if go.size == 0:
+            break
+        f_new = exact(q_new[ok], search[go])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            new_slope = (f_new - f[go]) / (q_new[ok] - q[go])
+        slope[go] = np.where(np.isfinite(new_slope) & (new_slope != 0.0), new_slope, slope[go])
+        q[go], f[go] = q_new[ok], f_new
+        settled[go] = np.abs(f_new) <= ftol[search[go]]
+    Q[search] = q
+    rest = search[~settled]
+    if rest.size:
+        e_lo, e_hi = exact(np.zeros(rest.size), rest), exact(Q_max[rest], rest)
+        bracketed = np.sign(e_lo) != np.sign(e_hi)
+        report = bracketed_root(lambda x, i: exact(x, rest[i]), np.zeros(rest.size), Q_max[rest],
+                                e_lo, e_hi, ftol=ftol[rest], max_iterations=MAX_ROOT_ITERATIONS)
+        Q[rest] = report.x
+        unmet[rest] = ~(report.converged & bracketed)
+    return Q, unmet, model

@@ -186,7 +186,7 @@ def _replace(stream: StreamBatch, **changes) -> StreamBatch:
     return StreamBatch(**values)
 
 
-def flash_stream(fluid, flow, zs, **spec) -> StreamBatch:
+def flash_stream(fluid, flow, zs, T_guess=None, **spec) -> StreamBatch:
     """Flash a batch and wrap it as a stream.
 
     Parameters
@@ -197,6 +197,8 @@ def flash_stream(fluid, flow, zs, **spec) -> StreamBatch:
         Molar flow [mol/s].
     zs : array_like (n, nc)
         Overall mole fractions [-].
+    T_guess : array_like (n,), optional
+        Starting temperature of a P-h or P-s flash [K] (a close guess saves most of its work).
     **spec
         Two of ``T`` [K], ``P`` [Pa], ``h`` [J/mol], ``s`` [J/(mol K)], each of shape (n,).
 
@@ -207,5 +209,7 @@ def flash_stream(fluid, flow, zs, **spec) -> StreamBatch:
     zs = np.atleast_2d(np.asarray(zs, dtype=float))
     n = zs.shape[0]
     arrays = {k: np.broadcast_to(np.asarray(v, dtype=float), (n,)).copy() for k, v in spec.items()}
+    if T_guess is not None and "T" not in arrays:
+        arrays["T_guess"] = np.broadcast_to(np.asarray(T_guess, dtype=float), (n,)).copy()
     states = fluid.flash(zs=zs, **arrays)
     return StreamBatch.from_states(states, flow)
