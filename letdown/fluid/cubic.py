@@ -175,7 +175,7 @@ class CubicEOS:
         arg = np.clip(3.0 * q / (2.0 * pn) * np.sqrt(-3.0 / pn), -1.0, 1.0)
         phi = np.arccos(arg) / 3.0
         tmax = rad * np.cos(phi)
-        tmin = rad * np.cos(phi - 2.0 * np.pi / 3.0)
+        tmin = rad * np.cos(phi + 2.0 * np.pi / 3.0)   # k = 2: the smallest of the three
         Zmax = np.where(one, t1, tmax) + shift
         Zmin = np.where(one, t1, tmin) + shift
         # only roots above B are physical (v > b)

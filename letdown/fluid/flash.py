@@ -93,12 +93,22 @@ def wilson_K(eos: CubicEOS, T, P):
     return (c.Pcs / P[:, None]) * np.exp(5.373 * (1.0 + c.omegas) * (1.0 - c.Tcs / T[:, None]))
 
 
-def rachford_rice(zs, Ks):
-    """Vapour fraction from the Rachford-Rice equation, restricted to [0, 1].
+def rachford_rice(zs, Ks, negative=False):
+    """Vapour fraction from the Rachford-Rice equation.
 
-    sum_i z_i (K_i - 1) / (1 + beta (K_i - 1)) = 0, solved by Newton steps kept inside a shrinking
-    bracket (bisection when a step leaves it). Where the function has no root in [0, 1] the bound is
-    returned (all liquid / all vapour).
+    sum_i z_i (K_i - 1) / (1 + beta (K_i - 1)) = 0, solved by Newton steps on the Leibovici &
+    Neoschil (Fluid Phase Equilib. 74 (1992) 303) form H = (beta - a)(b - beta) f, a = 1/(1 - Kmax),
+    b = 1/(1 - Kmin), which removes the two poles next to the solution and stays near-linear when a
+    phase is a trace; steps are kept inside a shrinking bracket (bisection when one leaves it). The
+    starting bracket is the Whitson & Michelsen (1989) window.
+
+    Parameters
+    ----------
+    zs, Ks : ndarray (n, nc)
+    negative : bool
+        Solve over the whole window between the poles ("negative flash", beta may leave [0, 1]), as
+        the successive-substitution iterations need; otherwise beta is restricted to [0, 1] and the
+        bound is returned where the root lies outside.
 
     Returns
     -------
@@ -107,23 +117,21 @@ def rachford_rice(zs, Ks):
     Km1 = Ks - 1.0
     f0 = np.sum(zs * Km1, axis=1)
     f1 = np.sum(zs * Km1 / Ks, axis=1)
-    beta = np.full(zs.shape[0], 0.5)
-    lo = np.zeros_like(beta)
-    hi = np.ones_like(beta)
-    # tighter bounds from the asymptotes (Whitson & Michelsen 1989)
     with np.errstate(divide="ignore", invalid="ignore"):
-        lo_w = np.max(np.where(Ks > 1.0, (Ks * zs - 1.0) / Km1, 0.0), axis=1)
-        hi_w = np.min(np.where(Ks < 1.0, (1.0 - zs) / (1.0 - Ks), 1.0), axis=1)
-    lo = np.clip(np.maximum(lo, lo_w), 0.0, 1.0)
-    hi = np.clip(np.minimum(hi, hi_w), 0.0, 1.0)
-    beta = 0.5 * (lo + hi)
-    active = (f0 > 0.0) & (f1 < 0.0)
-    # Leibovici & Neoschil (Fluid Phase Equilib. 74 (1992) 303): Newton on
-    # H(beta) = (beta - a)(b - beta) f(beta), a = 1/(1 - Kmax), b = 1/(1 - Kmin), which removes the
-    # two poles next to the solution window and stays near-linear when a phase is a trace.
-    with np.errstate(divide="ignore"):
+        lo = np.max(np.where(Ks > 1.0, (Ks * zs - 1.0) / Km1, -np.inf), axis=1)
+        hi = np.min(np.where(Ks < 1.0, (1.0 - zs) / (1.0 - Ks), np.inf), axis=1)
         a_ = 1.0 / (1.0 - np.max(Ks, axis=1))
         b_ = 1.0 / (1.0 - np.min(Ks, axis=1))
+    straddle = (np.max(Ks, axis=1) > 1.0) & (np.min(Ks, axis=1) < 1.0)
+    if negative:
+        active = straddle.copy()
+    else:
+        lo = np.maximum(lo, 0.0)
+        hi = np.minimum(hi, 1.0)
+        active = (f0 > 0.0) & (f1 < 0.0)
+    lo = np.where(active, lo, 0.0)
+    hi = np.where(active, hi, 1.0)
+    beta = 0.5 * (lo + hi)
     for _ in range(RR_MAX_ITER):
         if not active.any():
             break
@@ -141,14 +149,16 @@ def rachford_rice(zs, Ks):
             new = beta - H / dH
         # converged when the Newton step itself is a few ulps (test before the bracket check: a
         # zero step sits on the bracket end)
-        done = (np.abs(new - beta) <= RR_TOL * np.maximum(beta, 1e-300)) | (hi - lo < RR_TOL) | (f == 0.0)
+        done = (np.abs(new - beta) <= RR_TOL * np.maximum(np.abs(beta), 1e-300)) \
+            | (hi - lo < RR_TOL) | (f == 0.0)
         bad = ((new <= lo) | (new >= hi) | ~np.isfinite(new)) & ~done
         new = np.where(bad, 0.5 * (lo + hi), new)
         new = np.where(done, beta, new)
         beta = np.where(active, new, beta)
         active &= ~done
-    beta = np.where(f0 <= 0.0, 0.0, np.where(f1 >= 0.0, 1.0, beta))
-    return beta
+    if negative:
+        return np.where(straddle, beta, np.where(np.max(Ks, axis=1) <= 1.0, 0.0, 1.0))
+    return np.where(f0 <= 0.0, 0.0, np.where(f1 >= 0.0, 1.0, beta))
 
 
 def _phase_compositions(zs, Ks, beta):
@@ -290,7 +300,7 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks):
             break
         idx = np.nonzero(act)[0]
         K = np.exp(lnK[idx])
-        b = rachford_rice(zs[idx], K)
+        b = rachford_rice(zs[idx], K, negative=True)
         xs, ys = _phase_compositions(zs[idx], K, b)
         lnphL, _ = eos.lnphi(T[idx], P[idx], xs, "liquid")
         lnphV, _ = eos.lnphi(T[idx], P[idx], ys, "vapour")
@@ -323,7 +333,7 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks):
         resid[idx] = res
         iters[idx] += nit
     K = np.exp(lnK)
-    beta = rachford_rice(zs, K)
+    beta = rachford_rice(zs, K, negative=True)
     xs, ys = _phase_compositions(zs, K, beta)
     trivial = np.max(np.abs(lnK), axis=1) < 1e-4
     conv &= ~trivial
@@ -353,7 +363,7 @@ def _newton_lnK(eos, T, P, zs, lnK):
 
     def F(lk, idx):
         K = np.exp(lk)
-        b = rachford_rice(zs[idx], K)
+        b = rachford_rice(zs[idx], K, negative=True)
         xs, ys = _phase_compositions(zs[idx], K, b)
         return lk - _residual(eos, T[idx], P[idx], xs, ys, K)
 
