@@ -161,9 +161,9 @@ def _solve(args) -> int:
     from .report.text import report_text
 
     target = _csv_target(args.csv) if args.csv else None
-    from .sheet.loader import load as load_spec
-    atmosphere = load_spec(args.file).extra.get("atmosphere")
     sheet = letdown.load(args.file)
+    spec = getattr(sheet, "flowsheet", None)
+    atmosphere = spec.extra.get("atmosphere") if spec is not None else None
     result = sheet.solve(model=args.model) if args.model else sheet.solve()
     if hasattr(result, "case") and not hasattr(result, "to_json"):
         result = result.case(0)

@@ -2,7 +2,7 @@
 
 Everything inside letdown is SI (K, Pa, mol/s, J/mol, W). This module is the one place (with the
 flowsheet loader and the report) that knows about units. It keeps one shared pint registry,
-:data:`ureg`, and adds what pint does not have:
+:func:`registry`, and adds what pint does not have:
 
 * **Gauge pressures** ``barg``, ``psig``, ``kPag``, ``MPag``: absolute = gauge + atmosphere. The
   atmosphere is stated (default :data:`STANDARD_ATMOSPHERE` = 101.325 kPa) and may be overridden by a
@@ -42,8 +42,6 @@ import math
 import re
 from dataclasses import dataclass
 
-import pint
-
 from .errors import InputError
 
 #: Molar gas constant [J/(mol K)] (CODATA 2018; exact since the 2019 SI redefinition).
@@ -55,11 +53,62 @@ STANDARD_ATMOSPHERE = 101325.0
 #: One psi in pascal [Pa/psi]: 1 lbf/in2 = 6894.757293168 Pa (NIST SP 811, 2008, appendix B.8).
 PSI = 6894.757293168361
 
-#: The shared unit registry. Use it; never create another one (pint quantities from two registries
-#: do not mix).
-ureg = pint.UnitRegistry()
-ureg.define("lbmol = 453.59237 * mol = lb_mol")   # pound-mole: 1 lb = 0.45359237 kg exactly (NIST SP 811)
-ureg.define("MMBtu = 1e6 * Btu")                   # million British thermal units (IT)
+_REGISTRY = None
+
+
+def registry():
+    """The shared pint unit registry (made on first use: building it takes about 0.3 s, and the
+    common units of flowsheet files are converted without it, see :data:`FAST_UNITS`). Use it;
+    never create another one (quantities from two registries do not mix)."""
+    global _REGISTRY
+    if _REGISTRY is None:
+        import pint
+        reg = pint.UnitRegistry()
+        reg.define("lbmol = 453.59237 * mol = lb_mol")  # 1 lb = 0.45359237 kg exactly (NIST SP 811)
+        reg.define("MMBtu = 1e6 * Btu")                  # million British thermal units (IT)
+        _REGISTRY = reg
+    return _REGISTRY
+
+
+def __getattr__(name):
+    # ``letdown.quantities.ureg`` stays available, built lazily
+    if name == "ureg":
+        return registry()
+    raise AttributeError(f"module {__name__!r} has no attribute {name!r}")
+
+
+#: Units converted without pint: text -> (quantity kind, scale, offset), SI = value * scale +
+#: offset. The same factors as pint's definitions (NIST SP 811); ``test_quantities`` checks every
+#: entry against pint. Anything not listed goes through the pint registry.
+FAST_UNITS: dict[str, tuple[str, float, float]] = {
+    "degC": ("temperature", 1.0, 273.15), "K": ("temperature", 1.0, 0.0),
+    "degF": ("temperature", 1.0 / 1.8, 459.67 / 1.8), "degR": ("temperature", 1.0 / 1.8, 0.0),
+    "Pa": ("pressure", 1.0, 0.0), "kPa": ("pressure", 1e3, 0.0), "MPa": ("pressure", 1e6, 0.0),
+    "bar": ("pressure", 1e5, 0.0), "mbar": ("pressure", 100.0, 0.0), "psi": ("pressure", PSI, 0.0),
+    "delta_degC": ("temperature_difference", 1.0, 0.0),
+    "delta_degF": ("temperature_difference", 1.0 / 1.8, 0.0),
+    "W": ("power", 1.0, 0.0), "kW": ("power", 1e3, 0.0), "MW": ("power", 1e6, 0.0),
+    "mol/s": ("molar_flow", 1.0, 0.0), "kmol/s": ("molar_flow", 1e3, 0.0),
+    "mol/h": ("molar_flow", 1.0 / 3600.0, 0.0), "kmol/h": ("molar_flow", 1e3 / 3600.0, 0.0),
+    "kmol/d": ("molar_flow", 1e3 / 86400.0, 0.0),
+    "lbmol/h": ("molar_flow", 453.59237 / 3600.0, 0.0),
+    "kg/s": ("mass_flow", 1.0, 0.0), "kg/h": ("mass_flow", 1.0 / 3600.0, 0.0),
+    "t/h": ("mass_flow", 1e3 / 3600.0, 0.0), "t/d": ("mass_flow", 1e3 / 86400.0, 0.0),
+    "lb/h": ("mass_flow", 0.45359237 / 3600.0, 0.0),
+    "W/K": ("ua", 1.0, 0.0), "kW/K": ("ua", 1e3, 0.0),
+    "J/mol": ("molar_enthalpy", 1.0, 0.0), "kJ/mol": ("molar_enthalpy", 1e3, 0.0),
+    "kJ/kmol": ("molar_enthalpy", 1.0, 0.0),
+    "J/(mol*K)": ("molar_entropy", 1.0, 0.0), "J/(mol K)": ("molar_entropy", 1.0, 0.0),
+    "percent": ("fraction", 0.01, 0.0),
+}
+
+#: Which FAST_UNITS kinds each quantity kind accepts (a plain ``K`` is also a difference).
+_FAST_ACCEPTS = {
+    "temperature": ("temperature",), "temperature_difference": ("temperature_difference",),
+    "pressure": ("pressure",), "pressure_difference": ("pressure",),
+    "power": ("power",), "ua": ("ua",), "molar_enthalpy": ("molar_enthalpy",),
+    "molar_entropy": ("molar_entropy",), "fraction": ("fraction",),
+}
 
 
 @dataclass(frozen=True)
@@ -195,9 +244,10 @@ def _split(text, kind, field, file, line):
 
 def _pint_units(unit, kind, field, file, line):
     """Parse a unit string with the shared registry; ``m3`` -> ``m**3``."""
+    import pint
     spelled = re.sub(r"(?<=[A-Za-z])([23])(?![\d*])", r"**\1", unit)
     try:
-        return ureg.parse_units(spelled)
+        return registry().parse_units(spelled)
     except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError,
             TypeError, ValueError, SyntaxError) as exc:
         raise _fail(f"unknown unit '{unit}' (for a {kind.replace('_', ' ')} use for example "
@@ -205,9 +255,13 @@ def _pint_units(unit, kind, field, file, line):
 
 
 def _convert(value, unit, to, kind, field, file, line):
+    fast = FAST_UNITS.get(unit)
+    if fast is not None and fast[0] in _FAST_ACCEPTS.get(kind, ()):
+        return value * fast[1] + fast[2]
+    import pint
     units = _pint_units(unit, kind, field, file, line)
     try:
-        return float(ureg.Quantity(value, units).to(to).magnitude)
+        return float(registry().Quantity(value, units).to(to).magnitude)
     except pint.errors.DimensionalityError as exc:
         raise _fail(f"'{unit}' is not a unit of {kind.replace('_', ' ')} "
                     f"(for example {_EXAMPLES[kind]})", field, file, line) from exc
@@ -296,6 +350,14 @@ def parse_quantity(text, kind: str, *, atmosphere: float = STANDARD_ATMOSPHERE,
 
 
 def _temperature(value, unit, field, file, line):
+    fast = FAST_UNITS.get(unit)
+    if fast is not None and fast[0] == "temperature":
+        T = value * fast[1] + fast[2]
+        if T <= 0.0:
+            raise _fail(f"temperature {value:g} {unit} is at or below absolute zero", field, file,
+                        line)
+        return T
+    ureg = registry()
     units = _pint_units(unit, "temperature", field, file, line)
     if units.dimensionality != ureg.kelvin.dimensionality:
         raise _fail(f"'{unit}' is not a unit of temperature (for example "
@@ -310,6 +372,9 @@ def _temperature(value, unit, field, file, line):
 
 
 def _temperature_difference(value, unit, field, file, line):
+    if unit in ("K", "delta_degC", "delta_degF"):
+        return value * (1.0 if unit != "delta_degF" else 1.0 / 1.8)
+    ureg = registry()
     units = _pint_units(unit, "temperature_difference", field, file, line)
     if units.dimensionality != ureg.kelvin.dimensionality:
         raise _fail(f"'{unit}' is not a unit of temperature difference (for example "
@@ -334,6 +399,9 @@ def _pressure(value, unit, atmosphere, field, file, line):
     return P
 
 
+_SECONDS = {"s": 1.0, "min": 60.0, "h": 3600.0, "hr": 3600.0, "d": 86400.0, "day": 86400.0}
+
+
 def standard_flow_unit(unit: str):
     """Split a standard-volume flow unit into (StandardConditions, seconds per time unit).
 
@@ -343,7 +411,12 @@ def standard_flow_unit(unit: str):
     if not m:
         return None
     cond = STANDARD_CONDITIONS[m.group("vol").lower()]
-    per = "d" if m.group("d") else m.group("per")
+    per = "d" if m.group("d") else m.group("per").strip()
+    seconds = _SECONDS.get(per)
+    if seconds is not None:
+        return cond, seconds
+    import pint
+    ureg = registry()
     try:
         seconds = float(ureg.Quantity(1.0, ureg.parse_units(per)).to("s").magnitude)
     except (pint.errors.UndefinedUnitError, pint.errors.DimensionalityError, AttributeError,
@@ -357,6 +430,12 @@ def _flow(value, unit, field, file, line):
     if std is not None:
         cond, seconds = std
         return value * cond.mol_per_unit / seconds
+    fast = FAST_UNITS.get(unit)
+    if fast is not None and fast[0] == "molar_flow":
+        return value * fast[1]
+    if fast is not None and fast[0] == "mass_flow":
+        return MassFlow(value * fast[1])
+    ureg = registry()
     units = _pint_units(unit, "flow", field, file, line)
     dim = units.dimensionality
     q = ureg.Quantity(value, units)

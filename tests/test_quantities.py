@@ -148,3 +148,16 @@ def test_degC_round_trip(t):
     T = parse_quantity(f"{t!r} degC", "temperature")
     assert unit_system("si")["T"](T) == pytest.approx(t, abs=1e-9)
     assert math.isclose(T, t + 273.15, abs_tol=1e-9)
+
+
+def test_fast_units_agree_with_pint():
+    # the units converted without pint must give pint's numbers (pint follows NIST SP 811)
+    from letdown.quantities import FAST_UNITS, registry
+    ureg = registry()
+    si = {"temperature": "K", "pressure": "Pa", "temperature_difference": "K", "power": "W",
+          "molar_flow": "mol/s", "mass_flow": "kg/s", "ua": "W/K", "molar_enthalpy": "J/mol",
+          "molar_entropy": "J/(mol*K)", "fraction": "dimensionless"}
+    for unit, (kind, scale, offset) in FAST_UNITS.items():
+        for value in (-40.0, 1.0, 123.456):
+            expected = ureg.Quantity(value, ureg.parse_units(unit.replace(" K", "*K"))).to(si[kind])
+            assert value * scale + offset == pytest.approx(expected.magnitude, rel=1e-12, abs=1e-12), unit
