@@ -126,6 +126,12 @@ class Flowsheet:
     solver : SolverSpec
     source : str | None
         The file it was read from.
+    extra : Mapping[str, Any]
+        ``atmosphere`` [Pa] used for gauge pressures, ``normalise`` (bool).
+    guesses : Mapping[str, FeedSpec]
+        Starting values of streams inside loops, by stream name (the ``guesses`` section). A
+        closed loop (no feed reaches it) needs one: its tear streams are chosen among the guessed
+        streams, and the guessed flow is the circulation. Added by the loader helper.
     """
 
     title: str
@@ -137,3 +143,4 @@ class Flowsheet:
     solver: SolverSpec = SolverSpec()
     source: str | None = None
     extra: Mapping[str, Any] = field(default_factory=dict)
+    guesses: Mapping[str, FeedSpec] = field(default_factory=dict)
