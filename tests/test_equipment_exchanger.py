@@ -2,7 +2,7 @@
 import numpy as np
 import pytest
 
-from blocks import assert_balanced, feed, fluid
+from tests.blocks import assert_balanced, feed, fluid
 from letdown.equipment import exchanger, flash_stream
 from letdown.errors import InputError
 

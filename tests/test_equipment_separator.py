@@ -2,7 +2,7 @@
 import numpy as np
 import pytest
 
-from blocks import MOLE_LIMIT, assert_balanced, feed, fluid
+from tests.blocks import MOLE_LIMIT, assert_balanced, feed, fluid
 from letdown.equipment import separator
 
 
