@@ -137,11 +137,9 @@ def test_just_above_dew_point_is_one_phase_just_below_is_two():
     assert below.n_phases == 2 and below.vapour_fraction > 0.999
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "bug: single-phase states are named by Kay's-rule pseudo-critical temperature, so a vapour "
-    "below it is reported with vapour_fraction 0 -- propane/n-butane 50/50 at 300 K, 1 bar "
-    "(41 K above its dew point of 259 K, Z 0.979) gives vapour_fraction 0.0; thermo gives VF 1"))
 def test_superheated_vapour_has_vapour_fraction_one():
+    """Regression: single phases were named by Kay's-rule pseudo-critical temperature, so this vapour
+    (41 K above its dew point) came out with vapour_fraction 0."""
     gas = letdown.Fluid({"propane": 0.5, "n-butane": 0.5})
     flasher = thermo_flasher(gas)
     ref = flasher.flash(T=300.0, P=1 * BAR, zs=gas.zs.tolist())

@@ -42,10 +42,6 @@ REFUSED_ROWS = {("4", "180", "25"), ("4", "220", "25"), ("5", "150", "30"), ("5"
                 ("6", "180", "10"), ("6", "250", "10"), ("6", "300", "25"), ("6", "400", "5")}
 #: The dense row where the gas-phase density solver finds a second, wrong root (232.49 kg/m3).
 WRONG_ROOT_ROW = ("2", "180", "13")
-#: Rows whose mass density misses the printed digit only through molar masses: components.py rounds
-#: the molar masses to 4 decimals in g/mol (methane 16.0425 vs GERG-2008's 16.04246). Molar-basis
-#: density agrees (test_iso_20765_2_molar_density_to_printed_digits).
-MOLAR_MASS_ROUNDING_ROWS = {("2", "220", "11"), ("4", "400", "10")}
 
 PROPERTIES = ("rho", "Z", "cv", "cp", "w", "jt")
 CHECKED_ROWS = [r for r in ISO_20765_2_ROWS if tuple(r[:3]) not in REFUSED_ROWS | {WRONG_ROOT_ROW}]
@@ -83,14 +79,9 @@ def _iso_params():
     out = []
     for row in CHECKED_ROWS:
         for i, prop in enumerate(PROPERTIES):
-            marks = []
-            if prop == "rho" and tuple(row[:3]) in MOLAR_MASS_ROUNDING_ROWS:
-                marks = [pytest.mark.xfail(strict=True, reason=(
-                    "bug: letdown's molar masses are rounded to 4 decimals (methane 16.0425 vs "
-                    "GERG-2008/chemicals 16.04246 g/mol); the mass density then misses the ISO "
-                    "printed digit (gas 2 220 K: 452.065 vs 452.06; gas 4 400 K: 54.9065 vs "
-                    "54.906)"))]
-            out.append(pytest.param(row, prop, row[3 + i], marks=marks,
+            # regression: with molar masses rounded to 4 decimals (methane 16.0425 instead of
+            # 16.04246 g/mol) gas 2 at 220 K and gas 4 at 400 K missed the printed density digit
+            out.append(pytest.param(row, prop, row[3 + i],
                                     id=f"gas{row[0]}-{row[1]}K-{row[2]}MPa-{prop}"))
     return out
 
@@ -119,11 +110,9 @@ def test_iso_rows_left_out_are_refused_not_guessed(row):
         gas.fluid("gerg-2008").flash(T=float(row[1]), P=float(row[2]) * 1e6)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "bug: ISO 20765-2 gas 2 at 180 K, 13 MPa: the engine returns the gas-solver root (232.49 "
-    "kg/m3, Z 1.003) where the printed single-phase state is the dense root (548.61 kg/m3, "
-    "Z 0.42502) -- a silent wrong number; expected the right root or a ModelError"))
 def test_iso_gas2_dense_state_is_right_or_refused():
+    """Regression: the binding's fast gas solver returned a spurious root here (232.49 kg/m3,
+    Z 1.003, cp 7e4 J/(mol K)) where the printed single-phase state is the dense root."""
     row = next(r for r in ISO_20765_2_ROWS if tuple(r[:3]) == WRONG_ROOT_ROW)
     gas = ISO_GASES[2]
     try:
@@ -170,11 +159,8 @@ def test_nist_gerg_reference_point(nist_state, prop):
     assert value == pytest.approx(NIST_AGA8_GERG[prop], rel=1e-9)
 
 
-@pytest.mark.xfail(strict=True, reason=(
-    "bug: GERG entropy is shifted by a constant computed with letdown's R (8.314462618) although "
-    "the NIST code's entropy already has the reference state ideal gas at 298.15 K, 101.325 kPa "
-    "(with GERG's R = 8.314472): s = -38.576020 vs NIST -38.575904 J/(mol K) (1.2e-4 off)"))
 def test_nist_gerg_reference_point_entropy(nist_state):
+    """Regression: a constant shift computed with letdown's R left s 1.2e-4 J/(mol K) off."""
     assert nist_state.s == pytest.approx(NIST_AGA8_GERG["s"], rel=1e-9)
 
 

@@ -2,9 +2,11 @@
 
 Sources (one primary source per constant; choices where sources disagree are documented here):
 
-* **Tc, Pc, acentric factor, molar mass** -- the reference-equation fluid-file constants collected by
+* **Tc, Pc, acentric factor** -- the reference-equation fluid-file constants collected by
   Huber, Lemmon, Bell & McLinden, Ind. Eng. Chem. Res. 61 (2022) 15449, as distributed in the
-  ``chemicals`` package 1.5.2 (its default ``Tc``/``Pc``/``omega``/``MW`` for each CAS number).
+  ``chemicals`` package 1.5.2 (its default ``Tc``/``Pc``/``omega`` for each CAS number).
+* **Molar mass** -- ``chemicals`` 1.5.2 ``MW`` (IUPAC atomic weights), to full precision: the same
+  values GERG-2008 and ISO 6976 use (methane 16.04246 g/mol).
   Exception: **ethylene glycol** takes Perry's Chemical Engineers' Handbook, 8th ed. (Green & Perry
   2008), Table 2-141 (DIPPR-based: 720 K, 82.0 bar, omega 0.5068), because the reference fluid file's
   Pc = 105.1 bar and omega = 0.619 are 28 % and 0.11 away from every experimental compilation.
@@ -90,37 +92,37 @@ _MONATOMIC = (2.5, 0.0, 0.0, 0.0, 0.0)  # cp/R = 5/2 (Perry Table 2-155: 20786 J
 #: The component table. Columns: name, CAS, Tc [K], Pc [bar], omega, M [g/mol], Aly-Lee (Perry 2-156,
 #: J/(kmol K) and K) or Poling polynomial (cp/R), Z_RA (COSTALD file; None = Yamada-Gunn).
 COMPONENTS: dict[str, Component] = {c.name: c for c in (
-    _c("methane", "74-82-8", 190.564, 45.992, 0.01142, 16.0425,
+    _c("methane", "74-82-8", 190.564, 45.992, 0.01142, 16.04246,
        aly=(33298, 79933, 2086.9, 41602, 991.96), Z_RA=0.2892),
-    _c("ethane", "74-84-0", 305.322, 48.722, 0.0995, 30.069,
+    _c("ethane", "74-84-0", 305.322, 48.722, 0.0995, 30.06904,
        aly=(40326, 134220, 1655.5, 73223, 752.87), Z_RA=0.2808),
-    _c("propane", "74-98-6", 369.89, 42.512, 0.1521, 44.0956,
+    _c("propane", "74-98-6", 369.89, 42.512, 0.1521, 44.09562,
        aly=(51920, 192450, 1626.5, 116800, 723.6), Z_RA=0.2766),
     _c("isobutane", "75-28-5", 407.81, 36.29, 0.184, 58.1222,
        aly=(65490, 247760, 1587, 157500, 706.99), Z_RA=0.2754),
     _c("n-butane", "106-97-8", 425.125, 37.96, 0.201, 58.1222,
        aly=(71340, 243000, 1630, 150330, 730.42), Z_RA=0.273),
-    _c("isopentane", "78-78-4", 460.35, 33.78, 0.2274, 72.1488,
+    _c("isopentane", "78-78-4", 460.35, 33.78, 0.2274, 72.14878,
        aly=(74600, 326500, 1545, 192300, 666.7), Z_RA=0.2717),
-    _c("n-pentane", "109-66-0", 469.7, 33.675, 0.251, 72.1488,
+    _c("n-pentane", "109-66-0", 469.7, 33.675, 0.251, 72.14878,
        aly=(88050, 301100, 1650.2, 189200, 747.6), Z_RA=0.2684),
     _c("neopentane", "463-82-1", 433.74, 31.96, 0.1961, 72.14878,
        poly=(-11.428, 0.156037, -0.00033383, 4.0127e-7, -1.7806e-10), Z_RA=0.2756),
-    _c("n-hexane", "110-54-3", 507.82, 30.441, 0.3, 86.1754,
+    _c("n-hexane", "110-54-3", 507.82, 30.441, 0.3, 86.17536,
        aly=(104400, 352300, 1694.6, 236900, 761.6), Z_RA=0.2635),
-    _c("n-heptane", "142-82-5", 540.2, 27.357, 0.349, 100.2019,
+    _c("n-heptane", "142-82-5", 540.2, 27.357, 0.349, 100.20194,
        aly=(120150, 400100, 1676.6, 274000, 756.4), Z_RA=0.2604),
-    _c("n-octane", "111-65-9", 568.74, 24.836, 0.398, 114.2285,
+    _c("n-octane", "111-65-9", 568.74, 24.836, 0.398, 114.22852,
        aly=(135540, 443100, 1635.6, 305400, 746.4), Z_RA=0.2571),
     _c("n-nonane", "111-84-2", 594.55, 22.81, 0.4433, 128.2551,
        aly=(151750, 491500, 1644.8, 347000, 749.6), Z_RA=0.2543),
-    _c("n-decane", "124-18-5", 617.7, 21.03, 0.4884, 142.2817,
+    _c("n-decane", "124-18-5", 617.7, 21.03, 0.4884, 142.28168,
        aly=(167200, 535300, 1614.1, 378200, 742), Z_RA=0.2501),
     _c("nitrogen", "7727-37-9", 126.192, 33.958, 0.0372, 28.0134,
        aly=(29105, 8614.9, 1701.6, 103.47, 909.79), Z_RA=0.29),
     _c("carbon-dioxide", "124-38-9", 304.128, 73.773, 0.2239, 44.0095,
        aly=(29370, 34540, 1428, 26400, 588), Z_RA=0.2722),
-    _c("hydrogen-sulfide", "7783-06-4", 373.1, 90.0, 0.1005, 34.0809,
+    _c("hydrogen-sulfide", "7783-06-4", 373.1, 90.0, 0.1005, 34.08088,
        aly=(33288, 26086, 913.4, -17979, 949.4)),
     _c("hydrogen", "1333-74-0", 33.145, 12.964, -0.219, 2.01588,
        poly=(2.883, 0.003681, -7.72e-06, 6.92e-09, -2.13e-12), Z_RA=0.306),
@@ -134,7 +136,7 @@ COMPONENTS: dict[str, Component] = {c.name: c for c in (
        aly=(33363, 26790, 2610.5, 8896, 1169), Z_RA=0.2338),
     _c("methanol", "67-56-1", 513.38, 82.159, 0.5625, 32.04186,
        aly=(39252, 87900, 1916.5, 53654, 896.7), Z_RA=0.2334),
-    _c("ethylene-glycol", "107-21-1", 720.0, 82.0, 0.5068, 62.0678,
+    _c("ethylene-glycol", "107-21-1", 720.0, 82.0, 0.5068, 62.06784,
        aly=(63012, 145840, 1673, 97296, 773.65), Z_RA=0.2488),
 )}
 

@@ -271,6 +271,32 @@ class CubicEOS:
         }
 
 
+def phase_identification(eos: "CubicEOS", T, P, xs):
+    """Phase identification parameter of a single phase on its lowest-Gibbs root.
+
+    Pi = v [ (d2P/dT dv) / (dP/dT)_v - (d2P/dv2)_T / (dP/dv)_T ]; Pi > 1 names a liquid (or a
+    liquid-like dense fluid), Pi <= 1 a vapour (Venkatarathnam & Oellrich, Fluid Phase Equilib. 301
+    (2011) 225). The ideal gas has Pi = 1.
+
+    Returns
+    -------
+    Pi : ndarray (n,) [-]
+    """
+    a, b, psi, da, d2a = eos.mix(T, xs, derivatives=True)
+    RT = R * T
+    A = a * P / (RT * RT)
+    B = b * P / RT
+    Z = eos.choose_root(A, B, "stable")
+    v = Z * RT / P
+    D = (v + eos.d1 * b) * (v + eos.d2 * b)
+    dD = 2.0 * v + eos.u * b
+    P_v = -RT / (v - b) ** 2 + a * dD / D ** 2
+    P_vv = 2.0 * RT / (v - b) ** 3 + a * (2.0 / D ** 2 - 2.0 * dD ** 2 / D ** 3)
+    P_T = R / (v - b) - da / D
+    P_Tv = -R / (v - b) ** 2 + da * dD / D ** 2
+    return v * (P_Tv / P_T - P_vv / P_v)
+
+
 def _newton_cubic(Z, c2, c1, c0):
     f = ((Z + c2) * Z + c1) * Z + c0
     df = (3.0 * Z + 2.0 * c2) * Z + c1

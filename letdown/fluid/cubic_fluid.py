@@ -19,6 +19,9 @@ TWO_PHASE_DT = 0.01
 TWO_PHASE_DP_REL = 1e-5
 #: Grid for locating phase boundaries by the stability test.
 SAT_GRID_POINTS = 48
+#: P-h/P-s iterations allowed on a trusted single phase before every iterate is stability-tested
+#: (Newton from the ideal-gas guess needs 3-5 in one phase).
+TRUST_ITERATIONS = 8
 SAT_BISECTIONS = 48
 
 
@@ -67,15 +70,14 @@ class CubicEngine:
         n = T.shape[0]
         two = split.n_phases == 2
         beta = split.beta
-        codeA = np.where(two, 1, 0)
-        A = self._phase(T, P, np.where(two[:, None], split.ys, zs), codeA)
+        A = self._phase(T, P, np.where(two[:, None], split.ys, zs), 0)
         out = {k: A[k].copy() for k in ("h", "s", "cp", "cv", "jt", "w", "Z", "density")}
         nan = np.full(n, np.nan)
         vap = {k: np.where(beta > 0, A[k], nan) for k in ("Z", "density", "h", "s", "molar_mass")}
         liq = {k: np.where(beta < 1, A[k], nan) for k in ("Z", "density", "h", "s", "molar_mass")}
         if two.any():
             i = np.nonzero(two)[0]
-            L = self._phase(T[i], P[i], split.xs[i], -1)
+            L = self._phase(T[i], P[i], split.xs[i], 0)
             b = beta[i]
             out["h"][i] = b * A["h"][i] + (1 - b) * L["h"]
             out["s"][i] = b * A["s"][i] + (1 - b) * L["s"]
@@ -105,8 +107,7 @@ class CubicEngine:
     def _two_phase_derivatives(self, T, P, zs, split, i, h):
         """Effective cp = (dh/dT)_P and jt = -(dh/dP)_T / cp across a two-phase state, by central
         differences of warm-started flashes."""
-        with np.errstate(divide="ignore", invalid="ignore"):
-            K = np.where(split.xs[i] > 0, split.ys[i] / split.xs[i], 1.0)
+        K = _k_values(split.ys[i], split.xs[i])
         hs = []
         for dT, dP in ((TWO_PHASE_DT, 0.0), (-TWO_PHASE_DT, 0.0), (0.0, TWO_PHASE_DP_REL),
                        (0.0, -TWO_PHASE_DP_REL)):
@@ -126,9 +127,8 @@ class CubicEngine:
         """Enthalpy [J/mol], entropy [J/(mol K)] and single-phase cp (NaN for two phases)."""
         c = self.comps
         two = sp.n_phases == 2
-        code = np.where(two, 1, 0)
         xa = np.where(two[:, None], sp.ys, zs)
-        pA = self.eos.properties(T, P, xa, code)
+        pA = self.eos.properties(T, P, xa, 0)
         h0 = c.h0(T)
         s0 = c.s0(T)
         cp0 = c.cp0(T)
@@ -146,7 +146,7 @@ class CubicEngine:
         cpA = cpA + T * pA["dPdT"] * dvdT
         h, s, cp = hA, sA, cpA
         if two.any():
-            pL = self.eos.properties(T, P, sp.xs, -1)
+            pL = self.eos.properties(T, P, sp.xs, 0)
             hL, sL = hs(sp.xs, pL)
             b = sp.beta
             h = np.where(two, b * hA + (1 - b) * hL, hA)
@@ -277,8 +277,7 @@ class CubicEngine:
             sp = fl.flash_PT(eos, Ti, Pi, zi, K_init=K[i], assume=a)
             two = sp.n_phases == 2
             beta[i], xs[i], ys[i], nph[i] = sp.beta, sp.xs, sp.ys, sp.n_phases
-            with np.errstate(divide="ignore", invalid="ignore"):
-                K[i] = np.where(two[:, None], sp.ys / sp.xs, K[i])
+            K[i] = np.where(two[:, None], _k_values(sp.ys, sp.xs), K[i])
             flipped = check & two & (assume[i] != 2)
             verified[i] = check & ~flipped
             if flipped.any():
@@ -289,6 +288,13 @@ class CubicEngine:
                 prev_T[fi], prev_f[fi] = np.nan, np.nan
                 trust[fi] = False
                 conv[fi] = False
+            if it == TRUST_ITERATIONS:
+                # still going after a few trusted steps: the single phase may be metastable (its
+                # h(T) can jump between roots); restart those cases on true equilibrium states
+                slow = i[trust[i] & ~conv[i]]
+                lo[slow], hi[slow] = fl.T_LOW, fl.T_HIGH
+                prev_T[slow], prev_f[slow] = np.nan, np.nan
+                trust[slow] = False
             assume[i] = np.where(two, 2, np.where(trust[i], 1, 0))
             keep = ~verified[i]
             if not keep.any():
@@ -474,6 +480,12 @@ class CubicEngine:
             b[j] = np.where(u, b[j], mid[j])
         out[m] = np.where(ok, 0.5 * (a + b) if axis == "T" else np.sqrt(a * b), np.nan)
         return out
+
+
+def _k_values(ys, xs):
+    """K = y/x, 1 for components absent from both phases."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where((xs > 0) & (ys > 0), ys / np.where(xs > 0, xs, 1.0), 1.0)
 
 
 def _take(sp: fl.PTSplit, m) -> fl.PTSplit:

@@ -29,7 +29,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from .components import R
-from .cubic import CubicEOS
+from .cubic import CubicEOS, phase_identification
 
 #: Tangent-plane distance below which a mixture is declared unstable. Above round-off of tm
 #: (~1e-14) with margin, and far below any physically meaningful second phase amount.
@@ -274,8 +274,8 @@ class TwoPhase:
 
 
 def _residual(eos, T, P, xs, ys, Ks):
-    lnphL, _ = eos.lnphi(T, P, xs, "liquid")
-    lnphV, _ = eos.lnphi(T, P, ys, "vapour")
+    lnphL, _ = eos.lnphi(T, P, xs, "stable")
+    lnphV, _ = eos.lnphi(T, P, ys, "stable")
     return lnphL - lnphV
 
 
@@ -302,8 +302,11 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks):
         K = np.exp(lnK[idx])
         b = rachford_rice(zs[idx], K, negative=True)
         xs, ys = _phase_compositions(zs[idx], K, b)
-        lnphL, _ = eos.lnphi(T[idx], P[idx], xs, "liquid")
-        lnphV, _ = eos.lnphi(T[idx], P[idx], ys, "vapour")
+        # each phase on its own lowest-Gibbs root: near a critical point the phases may swap
+        # character during the iterations, and forcing "liquid"/"vapour" roots would then give
+        # the wrong fugacities; the phases are named by density at the end
+        lnphL, _ = eos.lnphi(T[idx], P[idx], xs, "stable")
+        lnphV, _ = eos.lnphi(T[idx], P[idx], ys, "stable")
         new = np.where(present[idx], lnphL - lnphV, 0.0)
         err = np.max(np.abs(new - lnK[idx]), axis=1)
         resid[idx] = err
@@ -337,6 +340,13 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks):
     xs, ys = _phase_compositions(zs, K, beta)
     trivial = np.max(np.abs(lnK), axis=1) < 1e-4
     conv &= ~trivial
+    # name the phases by molar volume: "vapour" is the lighter one
+    _, Zx = eos.lnphi(T, P, xs, "stable")
+    _, Zy = eos.lnphi(T, P, ys, "stable")
+    swap = Zy < Zx
+    if swap.any():
+        xs, ys = np.where(swap[:, None], ys, xs), np.where(swap[:, None], xs, ys)
+        beta = np.where(swap, 1.0 - beta, beta)
     return TwoPhase(beta, xs, ys, SolveReport(conv, iters, resid, "two-phase PT flash"))
 
 
@@ -422,10 +432,11 @@ def _pure_index(zs):
     return nz == 1, np.argmax(zs, axis=1)
 
 
-def is_vapour_like(eos: CubicEOS, T, zs):
-    """Label a single phase 'vapour' when T exceeds the Kay's-rule pseudo-critical temperature
-    sum_i z_i Tc_i (common practice for single-phase naming; it does not affect any number)."""
-    return T > zs @ eos.comps.Tcs
+def is_vapour_like(eos: CubicEOS, T, P, zs):
+    """Name a single phase 'vapour' when its phase identification parameter is at most 1
+    (Venkatarathnam & Oellrich 2011; see :func:`letdown.fluid.cubic.phase_identification`). The
+    name decides which separator outlet a single phase leaves by; it changes no property."""
+    return phase_identification(eos, T, P, zs) <= 1.0
 
 
 def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None):
@@ -445,7 +456,7 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None):
     PTSplit
     """
     n, nc = zs.shape
-    beta = np.where(is_vapour_like(eos, T, zs), 1.0, 0.0)
+    beta = np.where(is_vapour_like(eos, T, P, zs), 1.0, 0.0)
     xs = zs.copy()
     ys = zs.copy()
     nph = np.ones(n, dtype=int)
@@ -473,7 +484,7 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None):
             two[idx[u]] = True
     if two.any():
         idx = np.nonzero(two)[0]
-        Kst = Ks[idx]
+        Kst = np.where(zs[idx] > 0, Ks[idx], 1.0)
         bad = ~np.all(np.isfinite(Kst) & (Kst > 0), axis=1)
         Kst[bad] = wilson_K(eos, T[idx[bad]], P[idx[bad]])
         tp = two_phase_flash(eos, T[idx], P[idx], zs[idx], np.clip(Kst, 1e-300, 1e300))
@@ -516,8 +527,8 @@ def _pure_single_label(eos, T, P, zs, ip):
 
 
 def _gibbs_split(eos, T, P, tp: TwoPhase):
-    lnL, _ = eos.lnphi(T, P, tp.xs, "liquid")
-    lnV, _ = eos.lnphi(T, P, tp.ys, "vapour")
+    lnL, _ = eos.lnphi(T, P, tp.xs, "stable")
+    lnV, _ = eos.lnphi(T, P, tp.ys, "stable")
     with np.errstate(divide="ignore", invalid="ignore"):
         gL = np.sum(np.where(tp.xs > 0, tp.xs * (np.log(tp.xs) + lnL), 0.0), axis=1)
         gV = np.sum(np.where(tp.ys > 0, tp.ys * (np.log(tp.ys) + lnV), 0.0), axis=1)

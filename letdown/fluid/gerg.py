@@ -6,10 +6,8 @@ only: each state is checked with a Peng-Robinson tangent-plane stability test, a
 split into two phases is refused (a batch marks it unconverged) with a message to use a cubic model.
 
 Units of the binding: pressure kPa, density mol/dm3, enthalpy J/mol, entropy J/(mol K), Joule-Thomson
-K/kPa. Enthalpy is zero for the ideal gas at 298.15 K, as in letdown's cubic models. The binding's
-entropy has another pressure reference; letdown shifts it so that the ideal gas at 298.15 K and
-101325 Pa has s = 0 (the shift is found per composition at 298.15 K and 1 Pa, where the residual part
-is below 1e-8 J/(mol K)).
+K/kPa. Its reference state is letdown's: the ideal gas at 298.15 K and 101.325 kPa has h = 0 and
+s = 0 (the binding uses GERG-2008's own gas constant, 8.314472 J/(mol K)).
 """
 from __future__ import annotations
 
@@ -17,7 +15,7 @@ import numpy as np
 
 from ..errors import ModelError
 from . import flash as fl
-from .components import P_REF, R, T_REF, ComponentSet
+from .components import ComponentSet
 from .cubic import PR, CubicEOS
 from .state import States
 
@@ -35,6 +33,9 @@ GERG_NAMES = {
 T_RANGE = (90.0, 450.0)
 P_MAX = 35e6
 PH_MAX_ITER = 60
+#: Density solver modes of the AGA8 reference code tried in turn: 1 = safe mode (checks for
+#: two-phase and spurious roots), 2 = liquid-root search.
+DENSITY_FLAGS = (1, 2)
 
 
 def _import():
@@ -74,26 +75,27 @@ class GergEngine:
                 setattr(c, a, float(x))
             self._g.set_composition(c)
             self._last = key
-            self._s_shift = self._entropy_shift(z)
-
-    def _entropy_shift(self, z):
-        g = self._g
-        g.temperature = T_REF
-        g.pressure = 1e-3     # 1 Pa in kPa
-        g.calc_density(0)
-        g.calc_properties()
-        with np.errstate(divide="ignore", invalid="ignore"):
-            mix = float(np.sum(np.where(z > 0, z * np.log(z), 0.0)))
-        s_ideal = -R * np.log(1.0 / P_REF) - R * mix
-        return g.s - s_ideal
 
     def _tp(self, T, P):
+        """Properties at (T, P), or None where no trustworthy density root is found.
+
+        The binding's fast gas-phase solver (flag 0) can land on a spurious root: ISO 20765-2 gas 2
+        at 180 K, 13 MPa gives 232 kg/m3 with cp = 7e4 J/(mol K), where the printed state is the
+        dense root at 548.61 kg/m3. The reference code's safe mode (flag 1, which checks for
+        two-phase and spurious roots) is used instead; where it refuses, its liquid search (flag 2)
+        is tried; where both refuse, the state is not answered.
+        """
         g = self._g
         g.temperature = float(T)
         g.pressure = float(P) / 1000.0
-        g.calc_density(0)
-        g.calc_properties()
-        return g
+        for flag in DENSITY_FLAGS:
+            try:
+                g.calc_density(flag)
+            except RuntimeError:
+                continue
+            g.calc_properties()
+            return g
+        return None
 
     # ----------------------------------------------------------------- batch API
     def _guard_two_phase(self, T, P, zs):
@@ -115,8 +117,10 @@ class GergEngine:
                 continue
             self._set(zs[k])
             g = self._tp(T[k], P[k])
+            if g is None:
+                continue
             out["h"][k] = g.h
-            out["s"][k] = g.s - self._s_shift
+            out["s"][k] = g.s
             out["Z"][k] = g.z
             out["cp"][k] = g.cp
             out["cv"][k] = g.cv
@@ -128,7 +132,7 @@ class GergEngine:
     def _states(self, T, P, zs, ok):
         out = self._collect(T, P, zs, ok)
         n = T.shape[0]
-        beta = np.where(fl.is_vapour_like(self._guard, T, zs), 1.0, 0.0)
+        beta = np.where(fl.is_vapour_like(self._guard, T, P, zs), 1.0, 0.0)
         nan = np.full(n, np.nan)
         ph = {"Z": out["Z"], "density": out["density"], "h": out["h"], "s": out["s"],
               "molar_mass": zs @ self.comps.Ms}
@@ -169,7 +173,9 @@ class GergEngine:
             lo, hi = fl.T_LOW, fl.T_HIGH
             for _ in range(PH_MAX_ITER):
                 g = self._tp(t, P[k])
-                val = g.h if which == "h" else g.s - self._s_shift
+                if g is None:
+                    break
+                val = g.h if which == "h" else g.s
                 f = val - target[k]
                 slope = g.cp if which == "h" else g.cp / t
                 if f < 0:
