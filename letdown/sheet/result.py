@@ -15,6 +15,7 @@ from __future__ import annotations
 import json
 import math
 from dataclasses import dataclass, field
+from functools import cached_property
 from typing import Mapping
 
 import numpy as np
@@ -217,6 +218,11 @@ class BatchResult:
 
     def balance_closures(self) -> dict:
         """Block name -> (mole, energy) relative closures (n,), recomputed from the streams."""
+        return self._closures
+
+    @cached_property
+    def _closures(self) -> dict:
+        # computed once: case(i) over thousands of cases must not redo it (the result is a value)
         out = {}
         for name, eq in self.equipment.items():
             ins = [self.streams[s] for s in eq.inlets.values()]
