@@ -52,9 +52,6 @@ FLOW_TOLERANCE = 1e-10
 #: flash's own rounding (about 1e-12 relative) would make a large target unreachable.
 GOAL_RELATIVE_FLOOR = 1e-10
 
-#: A vapour fraction strictly inside these bounds counts as two phases [-].
-TWO_PHASE_BOUNDS = (1e-9, 1.0 - 1e-9)
-
 #: SI units of the quantities goals hold or vary (for messages).
 UNITS = {"T": "K", "P": "Pa", "flow": "mol/s", "vapour_fraction": "", "duty": "W", "power": "W",
          "min_approach": "K", "T_out": "K", "P_out": "Pa", "dP": "Pa", "hot_T_out": "K",
