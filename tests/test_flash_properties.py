@@ -1,7 +1,8 @@
 """Invariants of the cubic flash over random natural gases (property-based, hypothesis).
 
 Each hypothesis example is a batch of cases through the vectorised flash, so a run covers thousands of
-states: random compositions of the natural-gas components, 150-500 K and 0.5-200 bar.
+states: random natural-gas compositions (methane with up to 15 % ethane, N2 and CO2 and the heavier
+alkanes in decreasing amounts to 0.3 % n-octane), 150-500 K and 0.5-200 bar.
 
 Checked for every case: no exception, no NaN; P-h and P-s flashes invert the P-T flash to 1e-6 K;
 two-phase results meet fugacity equality (1e-9 relative) and the material balance (1e-12); a chosen
@@ -21,17 +22,22 @@ MODELS = ("peng-robinson", "soave-redlich-kwong")
 FLUIDS = {m: letdown.Fluid({c: 1.0 / len(POOL) for c in POOL}, model=m) for m in MODELS}
 
 
+#: Upper bounds of each component's mole fraction in the random gases (methane takes the rest):
+#: the spread of pipeline, associated and raw natural gases (common practice; e.g. the compositions
+#: of AGA Report No. 8 and ISO 20765-2 test gases lie inside these bounds).
+UPPER = {"ethane": 0.15, "propane": 0.08, "isobutane": 0.02, "n-butane": 0.03,
+         "isopentane": 0.01, "n-pentane": 0.01, "n-hexane": 0.008, "n-heptane": 0.005,
+         "n-octane": 0.003, "nitrogen": 0.15, "carbon-dioxide": 0.15}
+
+
 def random_gases(rng, n):
-    """Natural-gas-like compositions: methane 50-98 %, the rest spread with a heavy tail."""
-    nc = len(POOL)
-    zs = rng.dirichlet(np.full(nc - 1, 0.3), size=n) * rng.uniform(0.02, 0.5, size=(n, 1))
+    """Natural-gas compositions: each component uniform below its bound, some left out entirely,
+    methane the balance."""
+    ub = np.array([UPPER[c] for c in POOL[1:]])
+    zs = rng.uniform(0.0, 1.0, size=(n, len(ub))) * ub
+    zs = np.where(rng.random(zs.shape) < 0.25, 0.0, zs)
     c1 = 1.0 - zs.sum(axis=1, keepdims=True)
-    zs = np.concatenate([c1, zs], axis=1)
-    # knock out some components entirely (zero fractions must be handled)
-    drop = rng.random((n, nc)) < 0.25
-    drop[:, 0] = False
-    zs = np.where(drop, 0.0, zs)
-    return zs / zs.sum(axis=1, keepdims=True)
+    return np.concatenate([c1, zs], axis=1)
 
 
 def batch(seed):
@@ -80,6 +86,21 @@ def test_pt_flash_is_finite_and_balanced(model, seed):
         assert np.all(bb * gV + (1 - bb) * gL <= g1 + 1e-12 * np.abs(g1))
 
 
+def three_phase(fluid, T, P, s):
+    """Cases where the vapour-liquid split is not the equilibrium: one of its phases is itself
+    unstable, so the mixture wants a third phase (below about 190 K methane and the C6+ alkanes
+    form two liquids). letdown's flash is vapour-liquid only (three phases come with free water
+    in the hydrate work), so P-h cannot be expected to invert P-T there."""
+    from letdown.fluid.flash import stability
+    out = np.zeros(len(T), dtype=bool)
+    two = np.nonzero(s.n_phases == 2)[0]
+    if two.size:
+        eos = fluid.engine.eos
+        out[two] = (stability(eos, T[two], P[two], s.xs[two]).unstable
+                    | stability(eos, T[two], P[two], s.ys[two]).unstable)
+    return out
+
+
 @pytest.mark.parametrize("model", MODELS)
 @SETTINGS
 @given(seed=st.integers(0, 2**32 - 1))
@@ -87,11 +108,15 @@ def test_ph_and_ps_invert_pt(model, seed):
     fluid = FLUIDS[model]
     zs, T, P = batch(seed)
     s = fluid.flash(T=T, P=P, zs=zs)
+    vl = ~three_phase(fluid, T, P, s)
+    # three-phase states are rare and cold in this domain
+    assert vl.sum() >= 0.95 * len(T)
+    assert np.all(T[~vl] < 200.0)
     back_h = fluid.flash(P=P, h=s.h, zs=zs)
-    assert back_h.converged.all(), f"P-h unconverged at T={T[~back_h.converged]}"
-    assert np.max(np.abs(back_h.T - T)) < 1e-6
+    assert back_h.converged[vl].all(), f"P-h unconverged at T={T[vl & ~back_h.converged]}"
+    assert np.max(np.abs(back_h.T - T)[vl]) < 1e-6
     back_s = fluid.flash(P=P, s=s.s, zs=zs)
-    assert back_s.converged.all(), f"P-s unconverged at T={T[~back_s.converged]}"
-    assert np.max(np.abs(back_s.T - T)) < 1e-6
+    assert back_s.converged[vl].all(), f"P-s unconverged at T={T[vl & ~back_s.converged]}"
+    assert np.max(np.abs(back_s.T - T)[vl]) < 1e-6
     # the vapour fraction found from h agrees with the P-T flash
-    assert np.max(np.abs(back_h.vapour_fraction - s.vapour_fraction)) < 1e-6
+    assert np.max(np.abs(back_h.vapour_fraction - s.vapour_fraction)[vl]) < 1e-6

@@ -288,10 +288,13 @@ class CubicEngine:
                 prev_T[fi], prev_f[fi] = np.nan, np.nan
                 trust[fi] = False
                 conv[fi] = False
+            restart = np.zeros(i.size, dtype=bool)
             if it == TRUST_ITERATIONS:
                 # still going after a few trusted steps: the single phase may be metastable (its
-                # h(T) can jump between roots); restart those cases on true equilibrium states
-                slow = i[trust[i] & ~conv[i]]
+                # h(T) can jump between roots); restart those cases on true equilibrium states,
+                # re-evaluating the current temperature with a stability test
+                restart = trust[i] & ~conv[i] & (a == 1)
+                slow = i[restart]
                 lo[slow], hi[slow] = fl.T_LOW, fl.T_HIGH
                 prev_T[slow], prev_f[slow] = np.nan, np.nan
                 trust[slow] = False
@@ -300,10 +303,12 @@ class CubicEngine:
             if not keep.any():
                 break
             i, Ti, Pi, zi, sp, two = i[keep], Ti[keep], Pi[keep], zi[keep], _take(sp, keep), two[keep]
+            restart = restart[keep]
             h, s, cp = self._hs_of_split(Ti, Pi, zi, sp)
             f = (h if which == "h" else s) - target[i]
-            lo[i] = np.where(f < 0, Ti, lo[i])
-            hi[i] = np.where(f > 0, Ti, hi[i])
+            # an iterate that may be metastable says nothing about the bracket
+            lo[i] = np.where((f < 0) & ~restart, Ti, lo[i])
+            hi[i] = np.where((f > 0) & ~restart, Ti, hi[i])
             slope = cp if which == "h" else cp / Ti
             with np.errstate(divide="ignore", invalid="ignore"):
                 secant = (f - prev_f[i]) / (Ti - prev_T[i])
@@ -323,9 +328,10 @@ class CubicEngine:
             scale = np.where(np.isfinite(cp) & (cp > 0), cp, 100.0)
             if which == "s":
                 scale = scale / Ti
-            done = (np.abs(Tn - Ti) < fl.PH_TOL_T) | (np.abs(f) < 1e-11 * scale)
-            prev_T[i] = Ti
-            prev_f[i] = f
+            done = ((np.abs(Tn - Ti) < fl.PH_TOL_T) | (np.abs(f) < 1e-11 * scale)) & ~restart
+            Tn = np.where(restart, Ti, Tn)
+            prev_T[i] = np.where(restart, np.nan, Ti)
+            prev_f[i] = np.where(restart, np.nan, f)
             T[i] = np.where(done, Ti, Tn)
             conv[i] = done
             # two-phase iterates and untrusting cases are true states: converged means done

@@ -42,11 +42,18 @@ STABILITY_MAX_ITER = 200
 FLASH_SS_MAX_ITER = 200
 #: Apply GDEM extrapolation every this many successive-substitution steps.
 ACCELERATE_EVERY = 5
+#: GDEM is applied only for a dominant eigenvalue below this, and moves ln K by at most this.
+GDEM_MAX_LAMBDA = 0.95
+GDEM_MAX_STEP = 1.0
 NEWTON_MAX_ITER = 30
 #: Rachford-Rice: Newton with bisection, converged when the relative step or the bracket is below
 #: this (a few ulps: the material balance then closes to ~1e-15).
 RR_TOL = 4e-16
 RR_MAX_ITER = 100
+#: Range of the vapour fraction allowed inside the substitution iterations ("negative flash"): far
+#: enough past [0, 1] that a barely unstable feed does not stall at the trial-phase fixed point,
+#: close enough that K-values near 1 (window edges at +-1e9) cannot throw the iterate away.
+NEGATIVE_FLASH_BOUNDS = (-0.5, 1.5)
 #: Temperature bracket for PH/PS flashes [K]: below the normal boiling point of every component
 #: except H2/He/N2 and above any let-down or chilling duty.
 T_LOW = 40.0
@@ -157,6 +164,7 @@ def rachford_rice(zs, Ks, negative=False):
         beta = np.where(active, new, beta)
         active &= ~done
     if negative:
+        beta = np.clip(beta, NEGATIVE_FLASH_BOUNDS[0], NEGATIVE_FLASH_BOUNDS[1])
         return np.where(straddle, beta, np.where(np.max(Ks, axis=1) <= 1.0, 0.0, 1.0))
     return np.where(f0 <= 0.0, 0.0, np.where(f1 >= 0.0, 1.0, beta))
 
@@ -315,9 +323,9 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks):
         lnK[idx] = new
         conv[idx] = err < LN_TOL
         hist.append(lnK.copy())
-        if len(hist) > 3:
+        if len(hist) > 4:
             hist.pop(0)
-        if (it + 1) % ACCELERATE_EVERY == 0 and len(hist) == 3:
+        if (it + 1) % ACCELERATE_EVERY == 0 and len(hist) == 4:
             lnK = _gdem(hist, lnK, ~conv)
             hist = []
         # K collapsing onto 1 (trivial solution) is not a split
@@ -351,16 +359,22 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks):
 
 
 def _gdem(hist, lnK, mask):
-    """Dominant-eigenvalue extrapolation of the substitution sequence (Crowe & Nishio 1975)."""
+    """Dominant-eigenvalue extrapolation of the substitution sequence (Crowe & Nishio, AIChE J. 21
+    (1975) 528): lnK + lambda/(1 - lambda) * (last step), applied only where two successive
+    estimates of the eigenvalue lambda agree (a single dominant mode), with the jump capped."""
     d1 = hist[1] - hist[0]
     d2 = hist[2] - hist[1]
-    num = np.sum(d2 * d2, axis=1)
-    den = np.sum(d1 * d2, axis=1)
+    d3 = hist[3] - hist[2]
     with np.errstate(divide="ignore", invalid="ignore"):
-        lam = den / np.sum(d1 * d1, axis=1)
-    ok = mask & np.isfinite(lam) & (lam > 0.0) & (lam < 0.98) & (num > 0)
-    factor = np.where(ok, lam / (1.0 - lam), 0.0)
-    return lnK + factor[:, None] * d2
+        lam1 = np.sum(d1 * d2, axis=1) / np.sum(d1 * d1, axis=1)
+        lam2 = np.sum(d2 * d3, axis=1) / np.sum(d2 * d2, axis=1)
+    ok = (mask & np.isfinite(lam1) & np.isfinite(lam2) & (lam2 > 0.0) & (lam2 < GDEM_MAX_LAMBDA)
+          & (np.abs(lam1 - lam2) < 0.05 * lam2))
+    factor = np.where(ok, lam2 / (1.0 - lam2), 0.0)
+    step = factor[:, None] * d3
+    big = np.max(np.abs(step), axis=1)
+    step *= np.where(big > GDEM_MAX_STEP, GDEM_MAX_STEP / np.where(big > 0, big, 1.0), 1.0)[:, None]
+    return lnK + step
 
 
 def _newton_lnK(eos, T, P, zs, lnK):
@@ -466,9 +480,43 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None):
     pure, ipure = _pure_index(zs)
     if assume is None:
         assume = np.zeros(n, dtype=int)
+
+    def split(idx, K):
+        """Converge splits for cases idx from K; store the accepted ones; return the mask of
+        cases whose split was accepted and of those whose iterations failed."""
+        K = np.where(zs[idx] > 0, K, 1.0)
+        bad = ~np.all(np.isfinite(K) & (K > 0), axis=1)
+        K[bad] = wilson_K(eos, T[idx[bad]], P[idx[bad]])
+        tp = two_phase_flash(eos, T[idx], P[idx], zs[idx], np.clip(K, 1e-300, 1e300))
+        ok = tp.report.converged & (tp.beta > 0.0) & (tp.beta < 1.0)
+        if ok.any():
+            # accept a split only when it lowers the Gibbs energy
+            g_split = _gibbs_split(eos, T[idx], P[idx], tp)
+            lnz, _ = eos.lnphi(T[idx], P[idx], zs[idx], "stable")
+            with np.errstate(divide="ignore", invalid="ignore"):
+                g_single = np.sum(np.where(zs[idx] > 0, zs[idx] * (np.log(zs[idx]) + lnz), 0.0),
+                                  axis=1)
+            ok &= g_split < g_single + 1e-12 * np.abs(g_single)
+        sel = idx[ok]
+        beta[sel] = tp.beta[ok]
+        xs[sel] = tp.xs[ok]
+        ys[sel] = tp.ys[ok]
+        nph[sel] = 2
+        iters[idx] += tp.report.iterations
+        resid[idx] = np.where(ok, tp.report.residual, 0.0)
+        failed = ~tp.report.converged & ~(np.max(np.abs(np.log(np.clip(tp.ys / tp.xs, 1e-300,
+                                                                         1e300))), axis=1) < 1e-4)
+        return ok, failed
+
     test = (~pure) & (assume == 0)
-    two = (~pure) & (assume == 2)
-    Ks = np.ones((n, nc)) if K_init is None else K_init.copy()
+    warm = (~pure) & (assume == 2)
+    if warm.any() and K_init is not None:
+        idx = np.nonzero(warm)[0]
+        ok, _ = split(idx, K_init[idx].copy())
+        # a warm start that does not give a split proves nothing: test stability
+        test[idx[~ok]] = True
+    elif warm.any():
+        test |= warm
     if test.any():
         idx = np.nonzero(test)[0]
         lnph, Zz = eos.lnphi(T[idx], P[idx], zs[idx], "stable")
@@ -480,33 +528,10 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None):
             with np.errstate(divide="ignore", invalid="ignore"):
                 Kv = np.where(z > 0, w / z, 1.0)
                 Kl = np.where(w > 0, z / w, 1.0)
-            Ks[idx[u]] = np.where(st.trial_is_vapour[u][:, None], Kv, Kl)
-            two[idx[u]] = True
-    if two.any():
-        idx = np.nonzero(two)[0]
-        Kst = np.where(zs[idx] > 0, Ks[idx], 1.0)
-        bad = ~np.all(np.isfinite(Kst) & (Kst > 0), axis=1)
-        Kst[bad] = wilson_K(eos, T[idx[bad]], P[idx[bad]])
-        tp = two_phase_flash(eos, T[idx], P[idx], zs[idx], np.clip(Kst, 1e-300, 1e300))
-        ok = tp.report.converged & (tp.beta > 0.0) & (tp.beta < 1.0)
-        # accept a split only when it lowers the Gibbs energy
-        if ok.any():
-            g_split = _gibbs_split(eos, T[idx], P[idx], tp)
-            lnz, Zz = eos.lnphi(T[idx], P[idx], zs[idx], "stable")
-            with np.errstate(divide="ignore", invalid="ignore"):
-                g_single = np.sum(np.where(zs[idx] > 0, zs[idx] * (np.log(zs[idx]) + lnz), 0.0), axis=1)
-            ok &= g_split < g_single + 1e-12 * np.abs(g_single)
-        # where substitution/Newton failed on a case that stability said is unstable, say so
-        failed = ~tp.report.converged & ~(np.max(np.abs(np.log(np.clip(tp.ys / tp.xs, 1e-300, 1e300))),
-                                                 axis=1) < 1e-4)
-        sel = idx[ok]
-        beta[sel] = tp.beta[ok]
-        xs[sel] = tp.xs[ok]
-        ys[sel] = tp.ys[ok]
-        nph[sel] = 2
-        iters[idx] = tp.report.iterations
-        resid[idx] = np.where(ok, tp.report.residual, 0.0)
-        conv[idx[failed & (assume[idx] == 0)]] = False
+            K = np.where(st.trial_is_vapour[u][:, None], Kv, Kl)
+            ok, failed = split(idx[u], K)
+            # stability proved a second phase but the split did not converge: say so
+            conv[idx[u][failed & ~ok]] = False
     if pure.any():
         idx = np.nonzero(pure)[0]
         beta[idx] = _pure_single_label(eos, T[idx], P[idx], zs[idx], ipure[idx])
