@@ -46,9 +46,9 @@ from .components import R, ComponentSet
 
 SQRT2 = np.sqrt(2.0)
 
-#: Newton polishing steps applied to the analytic cubic roots (each squares the relative error; two
-#: take the trigonometric-form error of ~1e-12 to machine precision).
-ROOT_POLISH_STEPS = 2
+#: Newton polishing steps applied to the analytic cubic roots (each squares the relative error: one
+#: takes the closed-form error of ~1e-12 to machine precision).
+ROOT_POLISH_STEPS = 1
 
 
 @dataclass(frozen=True)

@@ -13,15 +13,22 @@ from .cubic import CubicEOS
 from .state import States
 
 #: Temperature step for the effective two-phase heat capacity and Joule-Thomson coefficient [K];
-#: central differences with warm-started flashes (truncation error ~1e-6 relative).
+#: forward differences with warm-started flashes (truncation error ~1e-4 relative, well inside
+#: what these effective properties are used for).
 TWO_PHASE_DT = 0.01
 #: Pressure step (relative) for the two-phase Joule-Thomson coefficient [-].
 TWO_PHASE_DP_REL = 1e-5
+#: Split tolerance for those neighbouring flashes: h differences of ~0.3 J/mol need ~1e-9 in ln K.
+TWO_PHASE_DERIV_TOL = 1e-10
 #: Grid for locating phase boundaries by the stability test.
 SAT_GRID_POINTS = 48
 #: P-h/P-s iterations allowed on a trusted single phase before every iterate is stability-tested
 #: (Newton from the ideal-gas guess needs 3-5 in one phase).
 TRUST_ITERATIONS = 8
+#: Split tolerance on ln K for P-h/P-s iterates while the temperature steps exceed
+#: LOOSE_UNTIL_STEP [K]: the outer Newton needs no more; the last iterates use the full tolerance.
+LOOSE_TOL = 1e-7
+LOOSE_UNTIL_STEP = 0.05
 SAT_BISECTIONS = 48
 
 
@@ -108,15 +115,16 @@ class CubicEngine:
         """Effective cp = (dh/dT)_P and jt = -(dh/dP)_T / cp across a two-phase state, by central
         differences of warm-started flashes."""
         K = _k_values(split.ys[i], split.xs[i])
-        hs = []
-        for dT, dP in ((TWO_PHASE_DT, 0.0), (-TWO_PHASE_DT, 0.0), (0.0, TWO_PHASE_DP_REL),
-                       (0.0, -TWO_PHASE_DP_REL)):
-            Tn = T + dT
-            Pn = P * (1.0 + dP)
-            sp = fl.flash_PT(self.eos, Tn, Pn, zs, K_init=K, assume=np.full(T.shape, 2))
-            hs.append(self._h_of_split(Tn, Pn, zs, sp))
-        cp = (hs[0] - hs[1]) / (2 * TWO_PHASE_DT)
-        dhdP = (hs[2] - hs[3]) / (2 * TWO_PHASE_DP_REL * P)
+        m = T.shape[0]
+        # both neighbours in one batch: (T + dT, P) and (T, P (1 + dP))
+        T2 = np.concatenate([T + TWO_PHASE_DT, T])
+        P2 = np.concatenate([P, P * (1.0 + TWO_PHASE_DP_REL)])
+        z2 = np.concatenate([zs, zs])
+        sp = fl.flash_PT(self.eos, T2, P2, z2, K_init=np.concatenate([K, K]),
+                         assume=np.full(2 * m, 2), tol=TWO_PHASE_DERIV_TOL)
+        h2 = self._h_of_split(T2, P2, z2, sp)
+        cp = (h2[:m] - h) / TWO_PHASE_DT
+        dhdP = (h2[m:] - h) / (TWO_PHASE_DP_REL * P)
         return cp, -dhdP / cp
 
     def _h_of_split(self, T, P, zs, sp):
@@ -258,6 +266,7 @@ class CubicEngine:
         hi = np.full(n, fl.T_HIGH)
         assume = np.zeros(n, dtype=int)
         trust = np.ones(n, dtype=bool)          # skip stability tests on single-phase iterates
+        loose = np.ones(n, dtype=bool)          # two-phase iterates converged loosely while far
         verified = np.zeros(n, dtype=bool)
         K = np.ones(zs.shape)
         conv = np.zeros(n, dtype=bool)
@@ -274,7 +283,7 @@ class CubicEngine:
             Ti, Pi, zi = T[i], P[i], zs[i]
             check = conv[i]                      # converged on trust: this pass verifies
             a = np.where(check, 0, assume[i])
-            sp = fl.flash_PT(eos, Ti, Pi, zi, K_init=K[i], assume=a)
+            sp = _flash_PT_mixed_tol(eos, Ti, Pi, zi, K[i], a, loose[i])
             two = sp.n_phases == 2
             beta[i], xs[i], ys[i], nph[i] = sp.beta, sp.xs, sp.ys, sp.n_phases
             K[i] = np.where(two[:, None], _k_values(sp.ys, sp.xs), K[i])
@@ -317,7 +326,7 @@ class CubicEngine:
                 j = np.nonzero(need_fd)[0]
                 dT = 1e-3
                 sp2 = fl.flash_PT(eos, Ti[j] + dT, Pi[j], zi[j], K_init=K[i[j]],
-                                  assume=np.full(j.size, 2))
+                                  assume=np.full(j.size, 2), tol=LOOSE_TOL)
                 h2, s2, _ = self._hs_of_split(Ti[j] + dT, Pi[j], zi[j], sp2)
                 secant[j] = ((h2 if which == "h" else s2) - target[i[j]] - f[j]) / dT
             slope = np.where(two, secant, slope)
@@ -329,6 +338,11 @@ class CubicEngine:
             if which == "s":
                 scale = scale / Ti
             done = ((np.abs(Tn - Ti) < fl.PH_TOL_T) | (np.abs(f) < 1e-11 * scale)) & ~restart
+            # a split converged only loosely cannot end the iteration: near the answer, switch to
+            # the full tolerance and take the step
+            near = (np.abs(Tn - Ti) < LOOSE_UNTIL_STEP) & loose[i] & two
+            loose[i[near]] = False
+            done &= ~(near | (loose[i] & two))
             Tn = np.where(restart, Ti, Tn)
             prev_T[i] = np.where(restart, np.nan, Ti)
             prev_f[i] = np.where(restart, np.nan, f)
@@ -486,6 +500,30 @@ class CubicEngine:
             b[j] = np.where(u, b[j], mid[j])
         out[m] = np.where(ok, 0.5 * (a + b) if axis == "T" else np.sqrt(a * b), np.nan)
         return out
+
+
+def _flash_PT_mixed_tol(eos, T, P, zs, K, assume, loose):
+    """flash_PT on a batch where some cases take the loose split tolerance, the rest the full one."""
+    if loose.all() or not loose.any():
+        tol = LOOSE_TOL if loose.all() else fl.LN_TOL
+        return fl.flash_PT(eos, T, P, zs, K_init=K, assume=assume, tol=tol)
+    parts = []
+    for m, tol in ((loose, LOOSE_TOL), (~loose, fl.LN_TOL)):
+        parts.append((m, fl.flash_PT(eos, T[m], P[m], zs[m], K_init=K[m], assume=assume[m],
+                                     tol=tol)))
+    n = T.shape[0]
+    beta = np.empty(n)
+    xs = np.empty_like(zs)
+    ys = np.empty_like(zs)
+    nph = np.empty(n, dtype=int)
+    sv = np.empty(n, dtype=bool)
+    conv = np.empty(n, dtype=bool)
+    iters = np.empty(n, dtype=int)
+    res = np.empty(n)
+    for m, sp in parts:
+        beta[m], xs[m], ys[m], nph[m], sv[m] = sp.beta, sp.xs, sp.ys, sp.n_phases, sp.single_is_vapour
+        conv[m], iters[m], res[m] = sp.report.converged, sp.report.iterations, sp.report.residual
+    return fl.PTSplit(beta, xs, ys, nph, sv, fl.SolveReport(conv, iters, res, "PT flash"))
 
 
 def _k_values(ys, xs):
