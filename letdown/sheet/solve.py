@@ -37,6 +37,13 @@ from .result import (BatchResult, EquipmentBatch, GoalRecord, LoopRecord, Result
                      WarningRecord)
 from .spec import Flowsheet, Where
 
+#: GERG-2008 normal range of validity (Kunz & Wagner, J. Chem. Eng. Data 57 (2012) 3032).
+GERG_T_RANGE = (90.0, 450.0)   # [K]
+GERG_P_MAX = 35e6               # [Pa]
+#: Hydrogen mole fraction above which letdown warns that the cubic models leave their tested range
+#: (common practice for blends; Peng-Robinson's hydrogen Joule-Thomson sign is wrong at ambient).
+CUBIC_H2_LIMIT = 0.10
+
 #: Wegstein's factor ``q`` is bounded to [Q_MIN, Q_MAX] = [-5, 0], the classical bounds (common
 #: practice): up to six-fold acceleration of a slowly converging variable, never damping. On the
 #: cold-separation loop of tests/test_solve.py damping (Q_MAX = 0.9) took 28 iterations and plain
@@ -530,8 +537,9 @@ class _Engine:
                 if np.any(cold):
                     i = int(np.flatnonzero(cold)[0])
                     warnings.append(WarningRecord(
-                        name, f"temperature {stream.T[i]:.2f} K is below limits.min_T "
-                              f"{min_T:.2f} K", tuple(np.flatnonzero(cold).tolist())))
+                        name, f"temperature {stream.T[i] - 273.15:.2f} degC is below limits.min_T "
+                              f"{min_T - 273.15:.2f} degC", tuple(np.flatnonzero(cold).tolist())))
+        warnings.extend(self._model_warnings(ev))
         texts = {"two_phase_outlet": "throttle outlet is in two phases",
                  "temperature_cross": "temperature cross inside the exchanger",
                  "spec_unmet": "the specification cannot be met with these inlet temperatures"}
@@ -560,6 +568,31 @@ class _Engine:
                              warnings=tuple(warnings), converged=ev.ok.copy())
         result.check_balances()
         return result
+
+    def _model_warnings(self, ev) -> list:
+        """Where the model's data or tested range does not cover the flowsheet."""
+        out = []
+        fluid = self.fluid
+        if fluid.missing_kij and fluid.model != "gerg-2008":
+            pairs = ", ".join(f"{a}-{b}" for a, b in fluid.missing_kij)
+            out.append(WarningRecord("gas", f"no published interaction parameter for {pairs}; "
+                                            "taken as zero (set gas.kij to override)"))
+        for name, stream in ev.streams.items():
+            if fluid.model == "gerg-2008":
+                off = (stream.T < GERG_T_RANGE[0]) | (stream.T > GERG_T_RANGE[1]) | (stream.P > GERG_P_MAX)
+                if np.any(off):
+                    out.append(WarningRecord(name, "outside the GERG-2008 normal range (90-450 K, up "
+                                                   "to 35 MPa)", tuple(np.flatnonzero(off).tolist())))
+            elif "hydrogen" in self.components:
+                x_h2 = stream.zs[:, self.components.index("hydrogen")]
+                rich = (x_h2 > CUBIC_H2_LIMIT) & (stream.flow > 0)
+                if np.any(rich):
+                    out.append(WarningRecord(
+                        name, f"hydrogen fraction above {CUBIC_H2_LIMIT:.0%}: the cubic models are not "
+                              "validated for hydrogen-rich gas (Peng-Robinson even gives hydrogen the "
+                              "wrong Joule-Thomson sign at ambient temperature); compare with "
+                              "gerg-2008", tuple(np.flatnonzero(rich).tolist())))
+        return out
 
     def _stream_order(self) -> list:
         """Streams in calculation order: feeds, then each block's outlets."""

@@ -1,0 +1,42 @@
+"""Warnings where the model's data or tested range does not cover a flowsheet."""
+import letdown
+
+STATION = """title: warning check (demo)
+gas:
+  model: {model}
+  composition: {composition}
+feeds:
+  supply: {{T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}}
+equipment:
+  preheat:   {{kind: heater,   from: supply, to: warm,    T_out: 40 degC}}
+  regulator: {{kind: throttle, from: warm,   to: network, P_out: 17 barg}}
+"""
+
+
+def solve(tmp_path, composition, model="peng-robinson"):
+    path = tmp_path / "station.yaml"
+    path.write_text(STATION.format(model=model, composition=composition))
+    return letdown.load(str(path)).solve()
+
+
+def test_missing_interaction_parameters_are_reported(tmp_path):
+    # helium has no pair in the packaged table (data/kij_pr.csv): say so, never silently zero
+    res = solve(tmp_path, "{methane: 0.95, nitrogen: 0.04, helium: 0.01}")
+    texts = [w["what"] for w in res.warnings if w["where"] == "gas"]
+    assert len(texts) == 1
+    assert "methane-helium" in texts[0] and "nitrogen-helium" in texts[0]
+    assert "methane-nitrogen" not in texts[0]
+
+
+def test_hydrogen_rich_gas_warns_on_cubic_model_only(tmp_path):
+    comp = "{methane: 0.78, ethane: 0.02, hydrogen: 0.20}"
+    res = solve(tmp_path, comp)
+    flagged = {w["where"] for w in res.warnings if "hydrogen fraction" in w["what"]}
+    assert flagged == {"supply", "warm", "network"}
+    res_gerg = solve(tmp_path, comp, model="gerg-2008")
+    assert not [w for w in res_gerg.warnings if "hydrogen fraction" in w["what"]]
+
+
+def test_lean_gas_has_no_model_warning(tmp_path):
+    res = solve(tmp_path, "{methane: 0.92, ethane: 0.05, nitrogen: 0.02, carbon-dioxide: 0.01}")
+    assert not res.warnings
