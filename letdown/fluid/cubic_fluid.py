@@ -478,13 +478,17 @@ class CubicEngine:
             u = np.nonzero(uns[r])[0]
             if u.size == 0:
                 continue
+            # the two-phase run that reaches highest on the grid: the dew curve at the top in T
+            # (the bubble curve at the top in P); its lower end is the other boundary, and a run
+            # that reaches the end of the grid has no boundary there
+            top = u[-1]
             if upper:
-                k = u[-1]
-                if k + 1 < G:
-                    a[r], b[r] = grid[r, k], grid[r, k + 1]     # a unstable, b stable
+                if top + 1 < G:
+                    a[r], b[r] = grid[r, top], grid[r, top + 1]     # a unstable, b stable
             else:
-                k = u[0]
-                if k > 0:
+                stable_below = np.nonzero(~uns[r, :top])[0]
+                if stable_below.size:
+                    k = stable_below[-1] + 1
                     a[r], b[r] = grid[r, k], grid[r, k - 1]
         ok = np.isfinite(a)
         for _ in range(SAT_BISECTIONS):
