@@ -28,6 +28,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from . import native
 from .components import R
 from .cubic import CubicEOS, phase_identification
 
@@ -218,6 +219,14 @@ def stability(eos: CubicEOS, T, P, zs, *, lnphis_z=None, Z_z=None, early_exit=Fa
         bracketing); the returned composition is then only approximate.
     """
     n, nc = zs.shape
+    if native.AVAILABLE:
+        # the same iterations in compiled code (letdown/fluid/_flashkernels.c)
+        if lnphis_z is None:
+            lnphis_z, Z_z = native.lnphi(eos, T, P, zs)
+        tm_min, wb, Zb = native.stability_trials(
+            eos, T, P, zs, lnphis_z, wilson_K(eos, T, P), ln_tol=LN_TOL, trivial_dist=TRIVIAL_DIST,
+            max_iter=STABILITY_MAX_ITER, early_tm=native.EARLY_EXIT_TM, early_exit=early_exit)
+        return StabilityResult(tm_min, tm_min < TM_UNSTABLE, wb, Zb > Z_z)
     if lnphis_z is None:
         lnphis_z, Z_z = eos.lnphi(T, P, zs, "stable")
     with np.errstate(divide="ignore"):
@@ -305,47 +314,53 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks, tol=LN_TOL):
     TwoPhase
     """
     n, nc = zs.shape
-    present = zs > 0.0
-    lnK = np.where(present, np.log(Ks), 0.0)
-    conv = np.zeros(n, dtype=bool)
-    iters = np.zeros(n, dtype=int)
-    resid = np.full(n, np.inf)
-    hist = []  # recent ln K for GDEM
-    beta = np.full(n, np.nan)
-    for it in range(FLASH_SS_MAX_ITER):
-        act = ~conv
-        if not act.any():
-            break
-        idx = np.nonzero(act)[0]
-        m = idx.size
-        K = np.exp(lnK[idx])
-        b = rachford_rice(zs[idx], K, negative=True, beta0=beta[idx])
-        xs, ys = _phase_compositions(zs[idx], K, b)
-        # each phase on its own lowest-Gibbs root: near a critical point the phases may swap
-        # character during the iterations, and forcing "liquid"/"vapour" roots would then give
-        # the wrong fugacities; the phases are named by density at the end. Both phases go
-        # through one call (rows stacked) to halve the per-call overhead.
-        T2 = np.concatenate([T[idx], T[idx]])
-        P2 = np.concatenate([P[idx], P[idx]])
-        lnph, _ = eos.lnphi(T2, P2, np.concatenate([xs, ys]), "stable")
-        new = np.where(present[idx], lnph[:m] - lnph[m:], 0.0)
-        err = np.max(np.abs(new - lnK[idx]), axis=1)
-        resid[idx] = err
-        iters[idx] += 1
-        beta[idx] = b
-        lnK[idx] = new
-        conv[idx] = err < tol
-        hist.append(lnK.copy())
-        if len(hist) > 4:
-            hist.pop(0)
-        if (it + 1) % ACCELERATE_EVERY == 0 and len(hist) == 4:
-            lnK = _gdem(hist, lnK, ~conv)
-            hist = []
-        # K collapsing onto 1 (trivial solution) is not a split
-        trivial = np.max(np.abs(lnK), axis=1) < 1e-4
-        if trivial.any():
-            conv |= trivial
-            resid[trivial] = np.inf
+    use_native = native.AVAILABLE
+    if use_native:
+        # the substitution loop in compiled code (letdown/fluid/_flashkernels.c), case by case
+        cfg = _native_split_constants(tol)
+        lnK, beta, conv, iters, resid = native.two_phase_ss(eos, T, P, zs, Ks, **cfg)
+    else:
+        present = zs > 0.0
+        lnK = np.where(present, np.log(Ks), 0.0)
+        conv = np.zeros(n, dtype=bool)
+        iters = np.zeros(n, dtype=int)
+        resid = np.full(n, np.inf)
+        hist = []  # recent ln K for GDEM
+        beta = np.full(n, np.nan)
+        for it in range(FLASH_SS_MAX_ITER):
+            act = ~conv
+            if not act.any():
+                break
+            idx = np.nonzero(act)[0]
+            m = idx.size
+            K = np.exp(lnK[idx])
+            b = rachford_rice(zs[idx], K, negative=True, beta0=beta[idx])
+            xs, ys = _phase_compositions(zs[idx], K, b)
+            # each phase on its own lowest-Gibbs root: near a critical point the phases may swap
+            # character during the iterations, and forcing "liquid"/"vapour" roots would then give
+            # the wrong fugacities; the phases are named by density at the end. Both phases go
+            # through one call (rows stacked) to halve the per-call overhead.
+            T2 = np.concatenate([T[idx], T[idx]])
+            P2 = np.concatenate([P[idx], P[idx]])
+            lnph, _ = eos.lnphi(T2, P2, np.concatenate([xs, ys]), "stable")
+            new = np.where(present[idx], lnph[:m] - lnph[m:], 0.0)
+            err = np.max(np.abs(new - lnK[idx]), axis=1)
+            resid[idx] = err
+            iters[idx] += 1
+            beta[idx] = b
+            lnK[idx] = new
+            conv[idx] = err < tol
+            hist.append(lnK.copy())
+            if len(hist) > 4:
+                hist.pop(0)
+            if (it + 1) % ACCELERATE_EVERY == 0 and len(hist) == 4:
+                lnK = _gdem(hist, lnK, ~conv)
+                hist = []
+            # K collapsing onto 1 (trivial solution) is not a split
+            trivial = np.max(np.abs(lnK), axis=1) < 1e-4
+            if trivial.any():
+                conv |= trivial
+                resid[trivial] = np.inf
     # Newton finish for cases not converged by substitution
     left = ~conv | ~np.isfinite(resid)
     left &= np.max(np.abs(lnK), axis=1) >= 1e-4
@@ -356,19 +371,31 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks, tol=LN_TOL):
         conv[idx] = ok
         resid[idx] = res
         iters[idx] += nit
-    K = np.exp(lnK)
-    beta = rachford_rice(zs, K, negative=True)
-    xs, ys = _phase_compositions(zs, K, beta)
+    if use_native:
+        beta, xs, ys, Zx, Zy = native.split_finish(eos, T, P, zs, lnK, **cfg)
+    else:
+        K = np.exp(lnK)
+        beta = rachford_rice(zs, K, negative=True)
+        xs, ys = _phase_compositions(zs, K, beta)
     trivial = np.max(np.abs(lnK), axis=1) < 1e-4
     conv &= ~trivial
     # name the phases by molar volume: "vapour" is the lighter one
-    _, Zx = eos.lnphi(T, P, xs, "stable")
-    _, Zy = eos.lnphi(T, P, ys, "stable")
+    if not use_native:
+        _, Zx = eos.lnphi(T, P, xs, "stable")
+        _, Zy = eos.lnphi(T, P, ys, "stable")
     swap = Zy < Zx
     if swap.any():
         xs, ys = np.where(swap[:, None], ys, xs), np.where(swap[:, None], xs, ys)
         beta = np.where(swap, 1.0 - beta, beta)
     return TwoPhase(beta, xs, ys, SolveReport(conv, iters, resid, "two-phase PT flash"))
+
+
+def _native_split_constants(tol):
+    """The constants of the substitution loop, for the compiled kernels."""
+    return dict(tol=tol, max_iter=FLASH_SS_MAX_ITER, accelerate_every=ACCELERATE_EVERY,
+                gdem_max_lambda=GDEM_MAX_LAMBDA, gdem_max_step=GDEM_MAX_STEP,
+                gdem_agree=native.GDEM_AGREE, trivial_lnK=native.TRIVIAL_LNK, rr_tol=RR_TOL,
+                rr_max_iter=RR_MAX_ITER, neg_bounds=NEGATIVE_FLASH_BOUNDS)
 
 
 def _gdem(hist, lnK, mask):

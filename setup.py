@@ -1,0 +1,38 @@
+"""Build of the compiled flash kernels; all project metadata lives in pyproject.toml.
+
+``letdown/fluid/_flashkernels.c`` is plain C (libm only). It is built as an extension module so that
+``pip install`` compiles it; letdown loads its functions with ctypes (``letdown.fluid.native``) and
+falls back to numpy when the module is missing. A failed compilation does not fail the install.
+"""
+from setuptools import Extension, setup
+from setuptools.command.build_ext import build_ext
+
+
+class OptionalBuildExt(build_ext):
+    """Build the kernels if a C compiler works; otherwise warn and install without them."""
+
+    def run(self):
+        try:
+            super().run()
+        except Exception as exc:  # noqa: BLE001 - any compiler failure means "no kernels"
+            self.warn(f"letdown: flash kernels not compiled ({exc}); numpy will be used")
+
+    def build_extension(self, ext):
+        try:
+            super().build_extension(ext)
+        except Exception as exc:  # noqa: BLE001
+            self.warn(f"letdown: flash kernels not compiled ({exc}); numpy will be used")
+
+
+setup(
+    ext_modules=[
+        Extension(
+            "letdown.fluid._flashkernels",
+            sources=["letdown/fluid/_flashkernels.c"],
+            define_macros=[("LETDOWN_WITH_PYTHON_MODULE", "1")],
+            extra_compile_args=["-O2"],
+            libraries=["m"],
+        )
+    ],
+    cmdclass={"build_ext": OptionalBuildExt},
+)
