@@ -48,6 +48,20 @@ def test_lnphi_matches_numpy(model, code):
 
 
 @pytest.mark.parametrize("model", MODELS)
+@pytest.mark.parametrize("code", [0, 1, -1, "vapour", "liquid", "stable"])
+def test_properties_match_numpy(model, code):
+    eos = FLUIDS[model].engine.eos
+    zs, T, P = batch(12)
+    phase = code if isinstance(code, str) else np.full(T.shape, code)
+    ref = eos.properties(T, P, zs, phase)
+    got = native.properties(eos, T, P, zs, phase)
+    assert set(got) == set(ref)
+    for key in ref:
+        scale = np.maximum(np.abs(ref[key]), 1e-300)
+        assert np.max(np.abs(got[key] - ref[key]) / scale) < 1e-11, key
+
+
+@pytest.mark.parametrize("model", MODELS)
 @pytest.mark.parametrize("seed", SEEDS)
 @pytest.mark.parametrize("early_exit", [False, True])
 def test_stability_matches_numpy(model, seed, early_exit, monkeypatch):

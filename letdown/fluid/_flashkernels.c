@@ -9,6 +9,7 @@
  *   lf_two_phase_ss the successive-substitution loop of flash.two_phase_flash
  *   lf_split_finish the final negative-flash Rachford-Rice, phase compositions and stable-root Z of
  *                   both phases (the end of flash.two_phase_flash)
+ *   lf_properties   CubicEOS.properties (residual and derivative properties of one phase)
  *
  * The functions are loaded with ctypes by letdown/fluid/native.py. The file is built as a Python
  * extension module only so that the ordinary packaging tools compile it at install time; the
@@ -17,7 +18,8 @@
  * Parameter block `par` (built by native.py from a CubicEOS), nc components:
  *   par[0] R [J/(mol K)], par[1] delta1, par[2] delta2, par[3] relative root separation below which
  *   the two roots count as one, par[4] Newton polishing steps on each root, par[5..7] unused,
- *   then sqrt(a_c), m, sqrt(Tc), b, Tc, Pc, omega (nc each) and (1 - k_ij) (nc x nc, row major).
+ *   then sqrt(a_c), m, sqrt(Tc), b, Tc, Pc, omega (nc each), (1 - k_ij) (nc x nc, row major) and
+ *   the Peneloux shifts c (nc).
  */
 #include <math.h>
 #include <stdlib.h>
@@ -42,7 +44,7 @@ typedef struct {
     int nc;
     double R, d1, d2, u, w, dd, distinct;
     int polish;
-    const double *sqrt_ac, *ms, *sqrt_Tc, *bs, *Tcs, *Pcs, *omegas, *omk;
+    const double *sqrt_ac, *ms, *sqrt_Tc, *bs, *Tcs, *Pcs, *omegas, *omk, *cs;
 } eos_t;
 
 static eos_t eos_view(int nc, const double *par)
@@ -65,6 +67,7 @@ static eos_t eos_view(int nc, const double *par)
     e.Pcs = e.Tcs + nc;
     e.omegas = e.Pcs + nc;
     e.omk = e.omegas + nc;
+    e.cs = e.omk + (size_t)nc * nc;
     return e;
 }
 
@@ -530,6 +533,66 @@ LF_EXPORT int lf_split_finish(int n, int nc, const double *par, const double *T,
         beta_out[i] = b;
         Zx_out[i] = z_one(&e, T[i], P[i], x, 0, work);
         Zy_out[i] = z_one(&e, T[i], P[i], y, 0, work);
+    }
+    free(buf);
+    return 0;
+}
+
+/* ---------------------------------------------------------------- properties */
+/* CubicEOS.properties for n phases; out is 9 x n, rows Z, v, h_res, s_res, cv_res, dPdT, dPdv,
+ * g_res_RT, c_shift. code may be NULL (lowest Gibbs energy). */
+LF_EXPORT int lf_properties(int n, int nc, const double *par, const double *T, const double *P,
+                            const double *xs, const int *code, double *out)
+{
+    eos_t e = eos_view(nc, par);
+    double *buf = malloc((size_t)(3 * nc) * sizeof(double));
+    double *r, *rp, *rpp;
+    int i, j, k;
+    if (!buf) return -1;
+    r = buf; rp = r + nc; rpp = rp + nc;
+    for (i = 0; i < n; i++) {
+        const double *x = xs + (size_t)i * nc;
+        double Ti = T[i], Pi = P[i], sT = sqrt(Ti);
+        double a = 0.0, b = 0.0, da = 0.0, d2a1 = 0.0, d2a2 = 0.0, d2a, cshift = 0.0;
+        double RT, A, B, Z, v, L, bdd, v1, v2;
+        for (k = 0; k < nc; k++) {
+            r[k] = e.sqrt_ac[k] * (1.0 + e.ms[k] * (1.0 - sT / e.sqrt_Tc[k]));
+            rp[k] = -e.sqrt_ac[k] * e.ms[k] / (2.0 * sT * e.sqrt_Tc[k]);
+            rpp[k] = e.sqrt_ac[k] * e.ms[k] / (4.0 * sT * sT * sT * e.sqrt_Tc[k]);
+        }
+        for (j = 0; j < nc; j++) {
+            double S = 0.0, Sp = 0.0;
+            for (k = 0; k < nc; k++) {
+                S += x[k] * r[k] * e.omk[k * nc + j];
+                Sp += x[k] * rp[k] * e.omk[k * nc + j];
+            }
+            a += x[j] * r[j] * S;
+            da += x[j] * rp[j] * S;
+            d2a1 += x[j] * rpp[j] * S;
+            d2a2 += x[j] * rp[j] * Sp;
+            b += x[j] * e.bs[j];
+            cshift += x[j] * e.cs[j];
+        }
+        da *= 2.0;
+        d2a = 2.0 * (d2a1 + d2a2);
+        RT = e.R * Ti;
+        A = a * Pi / (RT * RT);
+        B = b * Pi / RT;
+        Z = choose_root(&e, A, B, code ? code[i] : 0);
+        v = Z * RT / Pi;
+        L = log((Z + e.d1 * B) / (Z + e.d2 * B));
+        bdd = b * e.dd;
+        v1 = v + e.d1 * b;
+        v2 = v + e.d2 * b;
+        out[i] = Z;
+        out[n + i] = v;
+        out[2 * (size_t)n + i] = RT * (Z - 1.0) + (Ti * da - a) / bdd * L;
+        out[3 * (size_t)n + i] = e.R * log(Z - B) + da / bdd * L;
+        out[4 * (size_t)n + i] = Ti * d2a / bdd * L;
+        out[5 * (size_t)n + i] = e.R / (v - b) - da / (v1 * v2);
+        out[6 * (size_t)n + i] = -RT / ((v - b) * (v - b)) + a * (2.0 * v + e.u * b) / ((v1 * v2) * (v1 * v2));
+        out[7 * (size_t)n + i] = Z - 1.0 - log(Z - B) - A / (B * e.dd) * L;
+        out[8 * (size_t)n + i] = cshift;
     }
     free(buf);
     return 0;

@@ -11,7 +11,8 @@ for, case by case, with the constants passed in from :mod:`letdown.fluid.flash` 
 * :func:`stability_trials` -- the trial iterations of :func:`letdown.fluid.flash.stability`;
 * :func:`two_phase_ss` -- the successive-substitution loop of
   :func:`letdown.fluid.flash.two_phase_flash`;
-* :func:`split_finish` -- its final Rachford-Rice solve, phase compositions and phase Z.
+* :func:`split_finish` -- its final Rachford-Rice solve, phase compositions and phase Z;
+* :func:`properties` -- :meth:`CubicEOS.properties <letdown.fluid.cubic.CubicEOS.properties>`.
 
 ``AVAILABLE`` is False (and every caller keeps to numpy) when the compiled module is missing or the
 environment variable ``LETDOWN_PURE_NUMPY`` is set to ``1``.
@@ -58,6 +59,7 @@ def _load():
         "lf_stability": [i, i, p, p, p, p, p, p, p, i, p, p, p],
         "lf_two_phase_ss": [i, i, p, p, p, p, p, p, p, p, p, p, p],
         "lf_split_finish": [i, i, p, p, p, p, p, p, p, p, p, p, p],
+        "lf_properties": [i, i, p, p, p, p, p, p],
     }
     try:
         for name, args in sigs.items():
@@ -86,7 +88,7 @@ def _pack(eos):
         head[:5] = (R, eos.d1, eos.d2, ROOT_DISTINCT_REL, ROOT_POLISH_STEPS)
         par = np.ascontiguousarray(np.concatenate([
             head, eos.sqrt_ac, eos.ms, eos.sqrt_Tc, eos.bs, c.Tcs, c.Pcs, c.omegas,
-            np.asarray(eos.omk, dtype=float).ravel()]), dtype=np.float64)
+            np.asarray(eos.omk, dtype=float).ravel(), eos.cs]), dtype=np.float64)
         _PACKS[eos] = par
     return par
 
@@ -95,24 +97,50 @@ def _f(a):
     return np.ascontiguousarray(a, dtype=np.float64)
 
 
+_byref = ctypes.byref
+_char_at = ctypes.c_char.from_buffer
+
+
+def _ptr(a):
+    """Address of a contiguous array's data (by a ctypes reference: cheaper than ``a.ctypes``)."""
+    try:
+        return _byref(_char_at(a))
+    except (TypeError, ValueError):      # read-only or empty array
+        return a.ctypes.data
+
+
 def _check(rc):
     if rc != 0:
         raise MemoryError("flash kernel could not allocate its work space")
 
 
+_CODES = {"vapour": 1, "liquid": -1, "stable": 0}
+
+
+def _codes(code, n):
+    """Root codes as an int32 array and its pointer (None: lowest Gibbs energy everywhere)."""
+    if code is None or (isinstance(code, str) and code == "stable"):
+        return None, None
+    if isinstance(code, str):
+        code = np.full(n, _CODES[code], dtype=np.int32)
+    else:
+        code = np.asarray(code)
+        code = np.ascontiguousarray(code if code.shape == (n,) else np.broadcast_to(code, (n,)),
+                                    dtype=np.int32)
+    return code, _ptr(code)
+
+
 def lnphi(eos, T, P, xs, code=None):
-    """ln phi (n, nc) and Z (n,) as :meth:`CubicEOS.lnphi`; ``code`` an int array (+1 largest root,
-    -1 smallest, 0 lowest Gibbs energy) or None for the lowest Gibbs energy everywhere."""
+    """ln phi (n, nc) and Z (n,) as :meth:`CubicEOS.lnphi`; ``code`` as its ``phase`` ('vapour',
+    'liquid', 'stable' or an int array: +1 largest root, -1 smallest, 0 lowest Gibbs energy), None
+    for the lowest Gibbs energy everywhere."""
     T, P, xs = _f(T), _f(P), _f(xs)
     n, nc = xs.shape
     out = np.empty((n, nc))
     Z = np.empty(n)
-    cp = None
-    if code is not None:
-        code = np.ascontiguousarray(np.broadcast_to(code, (n,)), dtype=np.int32)
-        cp = code.ctypes.data
-    _check(_LIB.lf_lnphi(n, nc, _pack(eos).ctypes.data, T.ctypes.data, P.ctypes.data,
-                         xs.ctypes.data, cp, out.ctypes.data, Z.ctypes.data))
+    code, cp = _codes(code, n)
+    _check(_LIB.lf_lnphi(n, nc, _ptr(_pack(eos)), _ptr(T), _ptr(P),
+                         _ptr(xs), cp, _ptr(out), _ptr(Z)))
     return out, Z
 
 
@@ -132,10 +160,10 @@ def stability_trials(eos, T, P, zs, lnphis_z, K, *, ln_tol, trivial_dist, max_it
     tm = np.empty(n)
     ws = np.empty((n, nc))
     Z = np.empty(n)
-    _check(_LIB.lf_stability(n, nc, _pack(eos).ctypes.data, T.ctypes.data, P.ctypes.data,
-                             zs.ctypes.data, lnphis_z.ctypes.data, K.ctypes.data, cfg.ctypes.data,
-                             1 if early_exit else 0, tm.ctypes.data, ws.ctypes.data,
-                             Z.ctypes.data))
+    _check(_LIB.lf_stability(n, nc, _ptr(_pack(eos)), _ptr(T), _ptr(P),
+                             _ptr(zs), _ptr(lnphis_z), _ptr(K), _ptr(cfg),
+                             1 if early_exit else 0, _ptr(tm), _ptr(ws),
+                             _ptr(Z)))
     return tm, ws, Z
 
 
@@ -164,10 +192,10 @@ def two_phase_ss(eos, T, P, zs, Ks, **cfg):
     conv = np.empty(n, dtype=np.int32)
     iters = np.empty(n, dtype=np.int32)
     resid = np.empty(n)
-    _check(_LIB.lf_two_phase_ss(n, nc, _pack(eos).ctypes.data, T.ctypes.data, P.ctypes.data,
-                                zs.ctypes.data, Ks.ctypes.data, c.ctypes.data, lnK.ctypes.data,
-                                beta.ctypes.data, conv.ctypes.data, iters.ctypes.data,
-                                resid.ctypes.data))
+    _check(_LIB.lf_two_phase_ss(n, nc, _ptr(_pack(eos)), _ptr(T), _ptr(P),
+                                _ptr(zs), _ptr(Ks), _ptr(c), _ptr(lnK),
+                                _ptr(beta), _ptr(conv), _ptr(iters),
+                                _ptr(resid)))
     return lnK, beta, conv.astype(bool), iters.astype(int), resid
 
 
@@ -187,7 +215,22 @@ def split_finish(eos, T, P, zs, lnK, **cfg):
     ys = np.empty((n, nc))
     Zx = np.empty(n)
     Zy = np.empty(n)
-    _check(_LIB.lf_split_finish(n, nc, _pack(eos).ctypes.data, T.ctypes.data, P.ctypes.data,
-                                zs.ctypes.data, lnK.ctypes.data, c.ctypes.data, beta.ctypes.data,
-                                xs.ctypes.data, ys.ctypes.data, Zx.ctypes.data, Zy.ctypes.data))
+    _check(_LIB.lf_split_finish(n, nc, _ptr(_pack(eos)), _ptr(T), _ptr(P),
+                                _ptr(zs), _ptr(lnK), _ptr(c), _ptr(beta),
+                                _ptr(xs), _ptr(ys), _ptr(Zx), _ptr(Zy)))
     return beta, xs, ys, Zx, Zy
+
+
+_PROPERTY_ROWS = ("Z", "v", "h_res", "s_res", "cv_res", "dPdT", "dPdv", "g_res_RT", "c_shift")
+
+
+def properties(eos, T, P, xs, code=None):
+    """Residual and derivative properties of phases, as :meth:`CubicEOS.properties` (same keys and
+    units); ``code`` as in :func:`lnphi`."""
+    T, P, xs = _f(T), _f(P), _f(xs)
+    n, nc = xs.shape
+    out = np.empty((len(_PROPERTY_ROWS), n))
+    code, cp = _codes(code, n)
+    _check(_LIB.lf_properties(n, nc, _ptr(_pack(eos)), _ptr(T), _ptr(P),
+                              _ptr(xs), cp, _ptr(out)))
+    return dict(zip(_PROPERTY_ROWS, out))
