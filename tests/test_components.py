@@ -57,8 +57,8 @@ def test_unknown_name_in_fluid_is_input_error():
 
 
 # --------------------------------------------------------------------------- critical constants
-# Primary source named in components.py: the chemicals 1.5.2 defaults (REFPROP-10 fluid-file
-# constants, Huber et al. 2022). The table in components.py is a transcription; the tolerances are
+# Primary source named in components.py: the chemicals 1.5.2 defaults (NIST reference-equation
+# fluid-file constants, Huber et al. 2022). The table in components.py is a transcription; the tolerances are
 # the rounding of that transcription (Tc to 1 mK, Pc to 5 significant digits in bar, i.e. <= 2e-5
 # relative, omega to 4 decimals).
 @pytest.mark.parametrize("name", [n for n in ALL if n != "ethylene-glycol"])
@@ -67,14 +67,14 @@ def test_critical_constants_match_cited_source(name):
     assert c.Tc == pytest.approx(chemicals.Tc(c.cas), abs=1e-3)
     assert c.Pc == pytest.approx(chemicals.Pc(c.cas), rel=2e-5)  # n-heptane 27.357 vs 27.3573 bar
     assert c.omega == pytest.approx(chemicals.omega(c.cas), abs=5e-5)
-    # molar masses: components.py rounds chemicals' values to 4 decimals in g/mol (methane 16.0425
-    # vs 16.04246, 2.5e-6 relative); see test_gerg.py for where that rounding becomes visible
-    assert c.M * 1000 == pytest.approx(chemicals.MW(c.cas), rel=5e-6)
+    # molar masses: chemicals' values to full precision (a 4-decimal rounding once made GERG mass
+    # densities miss ISO 20765-2 printed digits, see test_gerg.py)
+    assert c.M * 1000 == pytest.approx(chemicals.MW(c.cas), rel=1e-12)
 
 
 def test_ethylene_glycol_constants_are_perry_not_library_default():
     """MEG: Perry's Handbook 8th ed. Table 2-141 (720.0 K, 82.0 bar, omega 0.5068; EOS_DATA §1),
-    NOT the chemicals default (REFPROP EGLYCOL file: Pc 105.09 bar, omega 0.619), which is 28 % and
+    NOT the chemicals default (reference fluid file for ethylene glycol: Pc 105.09 bar, omega 0.619), which is 28 % and
     0.11 away from every experimental compilation (EOS_DATA §1.1)."""
     meg = COMPONENTS[canonical_name("MEG")]
     assert meg.Tc == pytest.approx(720.0, abs=1e-9)
