@@ -104,6 +104,12 @@ def main(argv=None) -> int:
     except KeyboardInterrupt:
         print("letdown: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:
+        # the reader went away (``letdown solve ... | head``): not an error of ours; stop quietly
+        # and keep the interpreter from complaining about stdout at exit
+        import os
+        os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+        return 0
     except Exception as exc:  # a bug: one line, traceback only on request
         if debug:
             traceback.print_exc()

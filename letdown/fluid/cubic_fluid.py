@@ -29,6 +29,9 @@ TRUST_ITERATIONS = 8
 #: LOOSE_UNTIL_STEP [K]: the outer Newton needs no more; the last iterates use the full tolerance.
 LOOSE_TOL = 1e-7
 LOOSE_UNTIL_STEP = 0.05
+#: A P-h (P-s) answer must meet its target to the enthalpy (entropy) of this temperature error [K]
+#: at the local slope; a bracket that closes with a larger residual marks the case unconverged.
+PH_RESIDUAL_K = 1e-6
 SAT_BISECTIONS = 48
 
 
@@ -270,6 +273,7 @@ class CubicEngine:
         verified = np.zeros(n, dtype=bool)
         K = np.ones(zs.shape)
         conv = np.zeros(n, dtype=bool)
+        failed = np.zeros(n, dtype=bool)
         prev_T = np.full(n, np.nan)
         prev_f = np.full(n, np.nan)
         beta = np.ones(n)
@@ -337,7 +341,16 @@ class CubicEngine:
             scale = np.where(np.isfinite(cp) & (cp > 0), cp, 100.0)
             if which == "s":
                 scale = scale / Ti
-            done = ((np.abs(Tn - Ti) < fl.PH_TOL_T) | (np.abs(f) < 1e-11 * scale)) & ~restart
+            # the residual must vanish too: a bracket can also close on a jump of h(T) (a
+            # vapour-liquid split is not the equilibrium inside a three-phase region), and that is
+            # a failure, not an answer
+            slope_abs = np.where(np.isfinite(slope) & (slope > 0), slope, scale)
+            small_f = np.abs(f) <= PH_RESIDUAL_K * slope_abs
+            stuck = (np.abs(Tn - Ti) < fl.PH_TOL_T) & ~small_f & ~restart
+            if stuck.any():
+                failed[i[stuck]] = True
+            done = (((np.abs(Tn - Ti) < fl.PH_TOL_T) & small_f) | (np.abs(f) < 1e-11 * scale)) \
+                & ~restart
             # a split converged only loosely cannot end the iteration: near the answer, switch to
             # the full tolerance and take the step
             near = (np.abs(Tn - Ti) < LOOSE_UNTIL_STEP) & loose[i] & two
@@ -350,9 +363,11 @@ class CubicEngine:
             conv[i] = done
             # two-phase iterates and untrusting cases are true states: converged means done
             verified[i] = done & ((assume[i] == 2) | ~trust[i])
+            verified |= failed          # stop iterating those; reported unconverged below
+        ok = verified & ~failed
         split = fl.PTSplit(beta, xs, ys, nph, beta >= 1,
-                           fl.SolveReport(verified, np.zeros(n, int), np.zeros(n), ""))
-        return T, verified, split
+                           fl.SolveReport(ok, np.zeros(n, int), np.zeros(n), ""))
+        return T, ok, split
 
     def _initial_T(self, P, target, zs, which):
         """Ideal-gas temperature with the target enthalpy (entropy), a few Newton steps."""

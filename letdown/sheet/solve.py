@@ -573,6 +573,10 @@ class _Engine:
         """Where the model's data or tested range does not cover the flowsheet."""
         out = []
         fluid = self.fluid
+        if "hydrate_margin" in self.fs.limits:
+            out.append(WarningRecord("limits", "hydrate_margin is not evaluated: this version has "
+                                               "no hydrate prediction; check hydrate conditions by "
+                                               "other means"))
         if fluid.missing_kij and fluid.model != "gerg-2008":
             pairs = ", ".join(f"{a}-{b}" for a, b in fluid.missing_kij)
             out.append(WarningRecord("gas", f"no published interaction parameter for {pairs}; "
