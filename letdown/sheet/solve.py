@@ -32,17 +32,12 @@ from ..equipment.rootfind import bracketed_root
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
+from ..fluid.models import out_of_range
 from .graph import build_graph, solve_order
 from .result import (BatchResult, EquipmentBatch, GoalRecord, LoopRecord, Result,
                      WarningRecord)
 from .spec import Flowsheet, Where
 
-#: GERG-2008 normal range of validity (Kunz & Wagner, J. Chem. Eng. Data 57 (2012) 3032).
-GERG_T_RANGE = (90.0, 450.0)   # [K]
-GERG_P_MAX = 35e6               # [Pa]
-#: Hydrogen mole fraction above which letdown warns that the cubic models leave their tested range
-#: (common practice for blends; Peng-Robinson's hydrogen Joule-Thomson sign is wrong at ambient).
-CUBIC_H2_LIMIT = 0.10
 
 #: Wegstein's factor ``q`` is bounded to [Q_MIN, Q_MAX] = [-5, 0], the classical bounds (common
 #: practice): up to six-fold acceleration of a slowly converging variable, never damping. On the
@@ -582,20 +577,12 @@ class _Engine:
             out.append(WarningRecord("gas", f"no published interaction parameter for {pairs}; "
                                             "taken as zero (set gas.kij to override)"))
         for name, stream in ev.streams.items():
-            if fluid.model == "gerg-2008":
-                off = (stream.T < GERG_T_RANGE[0]) | (stream.T > GERG_T_RANGE[1]) | (stream.P > GERG_P_MAX)
-                if np.any(off):
-                    out.append(WarningRecord(name, "outside the GERG-2008 normal range (90-450 K, up "
-                                                   "to 35 MPa)", tuple(np.flatnonzero(off).tolist())))
-            elif "hydrogen" in self.components:
-                x_h2 = stream.zs[:, self.components.index("hydrogen")]
-                rich = (x_h2 > CUBIC_H2_LIMIT) & (stream.flow > 0)
-                if np.any(rich):
-                    out.append(WarningRecord(
-                        name, f"hydrogen fraction above {CUBIC_H2_LIMIT:.0%}: the cubic models are not "
-                              "validated for hydrogen-rich gas (Peng-Robinson even gives hydrogen the "
-                              "wrong Joule-Thomson sign at ambient temperature); compare with "
-                              "gerg-2008", tuple(np.flatnonzero(rich).tolist())))
+            flowing = stream.flow > 0
+            for reason, cases in out_of_range(fluid.model, stream.T, stream.P, stream.zs,
+                                              self.components):
+                cases = cases & flowing
+                if cases.any():
+                    out.append(WarningRecord(name, reason, tuple(np.flatnonzero(cases).tolist())))
         return out
 
     def _stream_order(self) -> list:
