@@ -60,6 +60,13 @@ def _parser() -> argparse.ArgumentParser:
     c = sub.add_parser("check", parents=[common], help="validate a flowsheet file without solving")
     c.add_argument("file", metavar="FILE")
 
+    x = sub.add_parser("crosscheck", parents=[common],
+                       help="solve a flowsheet with every applicable model and compare")
+    x.add_argument("file", metavar="FILE")
+    x.add_argument("--models", metavar="M,M", help="comma-separated models (default: all that apply)")
+    x.add_argument("--json", action="store_true", help="print only the JSON comparison on stdout")
+    x.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+
     st = sub.add_parser("state", parents=[common], help="one fluid state from two of T, P, h, s")
     st.add_argument("--T", help="temperature, e.g. 10degC")
     st.add_argument("--P", help="pressure, e.g. 70barg")
@@ -91,6 +98,8 @@ def main(argv=None) -> int:
             return _solve(args)
         if args.verb == "check":
             return _check(args)
+        if args.verb == "crosscheck":
+            return _crosscheck(args)
         return _state(args)
     except (InputError, ModelError) as exc:
         _error(exc, where, debug)
@@ -193,6 +202,29 @@ def _solve(args) -> int:
         })
         print(f"letdown: wrote {target / 'streams.csv'} and {target / 'equipment.csv'}",
               file=sys.stderr)
+    return EXIT_OK
+
+
+def _crosscheck(args) -> int:
+    import json
+
+    from .fluid.fluid import canonical_model
+    from .report.crosscheck import crosscheck_text
+    from .sheet.loader import load
+    from .study.crosscheck import crosscheck
+
+    fs = load(args.file)
+    models = None
+    if args.models:
+        models = [canonical_model(m) for m in args.models.split(",") if m.strip()]
+    cc = crosscheck(fs, models)
+    if args.json:
+        print(json.dumps(cc.to_dict(), indent=2))
+    else:
+        print(crosscheck_text(cc, args.units))
+    if not any(m not in cc.failures for m in cc.models):
+        print(f"letdown: {args.file}: no model could solve the flowsheet", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
     return EXIT_OK
 
 

@@ -1,0 +1,54 @@
+"""Text report of a model cross-check (:class:`letdown.study.crosscheck.CrossCheck`): pure function."""
+from __future__ import annotations
+
+from ..quantities import STANDARD_ATMOSPHERE, unit_system
+from .tables import Table, render
+
+#: Short column names for the models.
+SHORT = {"peng-robinson": "PR", "peng-robinson-1978": "PR78", "soave-redlich-kwong": "SRK",
+         "gerg-2008": "GERG-2008"}
+
+
+def crosscheck_text(cc, units: str = "si") -> str:
+    """The comparison as text: one row per quantity, one column per model, spread and flag."""
+    u = unit_system(units, STANDARD_ATMOSPHERE)
+    header = ("Result", "Unit", *(SHORT.get(m, m) for m in cc.models), "Spread", "")
+    rows = []
+    for r in cc.rows:
+        if r.kind == "T":
+            conv, diff, unit = u["T"], u["dT"], u["T"].label
+        elif r.kind == "energy":
+            conv = diff = u["duty"]
+            unit = u["duty"].label
+        else:
+            conv = diff = None
+            unit = "-" if r.kind == "vapour_fraction" else r.unit
+        vals = [None if v != v else (conv(v) if conv else v) for v in (r.values[m] for m in cc.models)]
+        spread = None if r.spread != r.spread else (diff(r.spread) if diff else r.spread)
+        rows.append((r.what, unit, *vals, spread, "<- spread" if r.flagged else ""))
+    lines = [f"{cc.title}", "Second opinion: the same flowsheet with each model", "",
+             render(Table("Results by model", header, tuple(rows)))]
+    n_flag = len(cc.flagged)
+    lines.append("")
+    lines.append(f"{n_flag} result(s) spread more than the thresholds (1 K, 0.01 vapour fraction, "
+                 f"5 % of duty or power)." if n_flag else
+                 "No result spreads more than the thresholds (1 K, 0.01 vapour fraction, 5 % of "
+                 "duty or power).")
+    if cc.failures:
+        lines += ["", "Models that could not solve it"]
+        lines += [f"  {m}: {why}" for m, why in cc.failures.items()]
+    if cc.skipped:
+        lines += ["", "Models left out"]
+        lines += [f"  {m}: {why}" for m, why in cc.skipped.items()]
+    flagged_models = {m: ws for m, ws in cc.warnings.items() if ws}
+    if flagged_models:
+        lines += ["", "Warnings by model"]
+        for m, ws in flagged_models.items():
+            lines += [f"  {m}: {where}: {what}" for where, what in ws]
+    from ..fluid.models import MODELS
+    lines += ["", "Model assumptions"]
+    lines += [f"  {m}: {MODELS[m].assumptions}" for m in cc.models]
+    lines += ["", "Engineering estimates; designs must follow local codes and be checked by "
+                  "qualified, licensed staff."]
+    return "\n".join(lines)
+
