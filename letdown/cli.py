@@ -67,6 +67,17 @@ def _parser() -> argparse.ArgumentParser:
     x.add_argument("--json", action="store_true", help="print only the JSON comparison on stdout")
     x.add_argument("--units", choices=("si", "field"), default="si", help="display units")
 
+    w = sub.add_parser("sweep", parents=[common],
+                       help="solve a flowsheet over a list, range or grid of input values")
+    w.add_argument("file", metavar="FILE")
+    w.add_argument("--vary", action="append", required=True, metavar="PATH=VALUES",
+                   help="e.g. supply.T=0degC:20degC:5, blend.hydrogen=0:0.3:7, goal1.at=2degC,5degC")
+    w.add_argument("--zip", action="store_true", help="take the variables together, not as a grid")
+    w.add_argument("--outputs", metavar="A,B", help="output columns, e.g. network.T,preheat.duty")
+    w.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+    w.add_argument("--out", metavar="DIR", help="write sweep.csv, run.json (and plots) to DIR")
+    w.add_argument("--plot", metavar="X:Y[,Y]", help="plot outputs Y against input X into DIR")
+
     st = sub.add_parser("state", parents=[common], help="one fluid state from two of T, P, h, s")
     st.add_argument("--T", help="temperature, e.g. 10degC")
     st.add_argument("--P", help="pressure, e.g. 70barg")
@@ -100,6 +111,8 @@ def main(argv=None) -> int:
             return _check(args)
         if args.verb == "crosscheck":
             return _crosscheck(args)
+        if args.verb == "sweep":
+            return _sweep(args)
         return _state(args)
     except (InputError, ModelError) as exc:
         _error(exc, where, debug)
@@ -158,7 +171,10 @@ def _write_csv(target: Path, files: dict) -> None:
     tmp = Path(tempfile.mkdtemp(prefix=".letdown-csv-", dir=parent))
     try:
         for name, text in files.items():
-            (tmp / name).write_text(text, encoding="utf-8")
+            if isinstance(text, bytes):
+                (tmp / name).write_bytes(text)
+            else:
+                (tmp / name).write_text(text, encoding="utf-8")
         if target.is_dir():
             for name in files:
                 os.replace(tmp / name, target / name)
@@ -202,6 +218,35 @@ def _solve(args) -> int:
         })
         print(f"letdown: wrote {target / 'streams.csv'} and {target / 'equipment.csv'}",
               file=sys.stderr)
+    return EXIT_OK
+
+
+def _sweep(args) -> int:
+    from .report.sweep import sweep_files
+    from .sheet.loader import load
+    from .study.sweep import parse_variable, sweep
+
+    fs = load(args.file)
+    variables = [parse_variable(fs, v) for v in args.vary]
+    outputs = [o.strip() for o in args.outputs.split(",")] if args.outputs else None
+    target = _csv_target(args.out) if args.out else None
+    if args.plot and target is None:
+        raise InputError("--plot needs --out DIR to write the pictures into", field="--plot")
+    table = sweep(fs, variables, mode="zip" if args.zip else "grid", model=args.model,
+                  outputs=outputs)
+    if target is not None:
+        files = sweep_files(table, source=args.file, variables=args.vary,
+                            mode="zip" if args.zip else "grid", plot=args.plot)
+        _write_csv(target, files)
+        print(f"letdown: wrote {', '.join(str(target / f) for f in files)}", file=sys.stderr)
+    else:
+        sys.stdout.write(table.csv_text())
+    failed = sum(1 for r in table.rows if not r[-2])
+    if failed:
+        print(f"letdown: {failed} of {len(table.rows)} cases failed (see the reason column)",
+              file=sys.stderr)
+    print("letdown: engineering estimates; designs must follow local codes and be checked by "
+          "qualified, licensed staff.", file=sys.stderr)
     return EXIT_OK
 
 

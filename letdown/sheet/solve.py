@@ -112,9 +112,10 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
     ----------
     fs : Flowsheet
     cases : Mapping[str, array_like], optional
-        ``"<feed>.T"`` [K], ``"<feed>.P"`` [Pa], ``"<feed>.flow"`` [mol/s] or
-        ``"<block>.<parameter>"`` (SI) -> values over the cases; all of one length ``n`` (or
-        scalars). None: one case, as in the file.
+        ``"<feed>.T"`` [K], ``"<feed>.P"`` [Pa], ``"<feed>.flow"`` [mol/s], ``"<feed>.zs"``
+        (compositions, shape (n, nc) in the gas's component order) or ``"<block>.<parameter>"``
+        (SI) -> values over the cases; all of one length ``n`` (or one value for all). None: one
+        case, as in the file.
     model : str, optional
         Thermodynamic model overriding ``fs.gas.model``.
     strict : bool
@@ -192,20 +193,27 @@ def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
     for key, values in cases.items():
         name, _, attr = str(key).partition(".")
         if name in fs.feeds:
-            ok = attr in FEED_FIELDS
+            ok = attr in FEED_FIELDS or attr == "zs"
         elif name in fs.blocks:
             ok = bool(attr) and attr != "fractions"
         else:
             ok = False
         if not ok:
-            raise InputError(f"unknown case variable '{key}' (use <feed>.T, <feed>.P, <feed>.flow "
-                             "or <block>.<parameter>)", field=f"cases.{key}")
-        arrays[key] = np.atleast_1d(np.asarray(values, dtype=float))
+            raise InputError(f"unknown case variable '{key}' (use <feed>.T, <feed>.P, <feed>.flow, "
+                             "<feed>.zs or <block>.<parameter>)", field=f"cases.{key}")
+        if attr == "zs":
+            a = np.atleast_2d(np.asarray(values, dtype=float))
+            if np.any(a < 0) or np.any(np.abs(a.sum(axis=1) - 1.0) > 1e-6):
+                raise InputError(f"case compositions '{key}' must be non-negative and sum to 1",
+                                 field=f"cases.{key}")
+            arrays[key] = a
+        else:
+            arrays[key] = np.atleast_1d(np.asarray(values, dtype=float))
     lengths = {a.shape[0] for a in arrays.values() if a.shape[0] != 1}
     if len(lengths) > 1:
         raise InputError(f"case arrays have different lengths {sorted(lengths)}", field="cases")
     n = lengths.pop() if lengths else 1
-    return {k: np.broadcast_to(a, (n,)).copy() for k, a in arrays.items()}, n
+    return {k: np.broadcast_to(a, (n,) + a.shape[1:]).copy() for k, a in arrays.items()}, n
 
 
 # ------------------------------------------------------------------------------------------------
@@ -291,7 +299,13 @@ class _Engine:
             T = self._value(f"{name}.T", sel, over, feed.T)
             P = self._value(f"{name}.P", sel, over, feed.P)
             flow = self._value(f"{name}.flow", sel, over, feed.flow)
-            zs = np.tile(self.feed_zs[name], (m, 1))
+            zs = self._value(f"{name}.zs", sel, over, None)
+            if zs is None:
+                zs = np.tile(self.feed_zs[name], (m, 1))
+            elif zs.shape[-1] != self.nc:
+                raise InputError(f"case compositions for feed '{name}' have {zs.shape[-1]} "
+                                 f"entries; the gas has {self.nc} components",
+                                 field=f"cases.{name}.zs")
             streams[name] = flash_stream(self.fluid, np.broadcast_to(flow, (m,)), zs,
                                          T=np.broadcast_to(T, (m,)), P=np.broadcast_to(P, (m,)))
         ev = _Evaluation(streams=streams, outcomes={}, ok=np.ones(m, dtype=bool))

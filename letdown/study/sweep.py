@@ -1,0 +1,315 @@
+"""What-if sweeps: one flowsheet over a list, range or grid of input values, as a tidy table.
+
+A swept variable is named by its path in the flowsheet file:
+
+* ``<feed>.T``, ``<feed>.P``, ``<feed>.flow`` -- a feed's state;
+* ``<block>.<parameter>`` -- any numeric block parameter (``preheat.T_out``, ``regulator.P_out``);
+* ``goal<k>.at`` -- the target of the k-th goal (1-based);
+* ``blend.<component>`` -- the mole fraction of a component blended into every feed (``blend.hydrogen``
+  from 0 to 0.3 gives the hydrogen blends of the supply gas: z = (1 - x) z_feed + x e_component).
+
+Values are written with units as in the file (``0 degC:20 degC:5`` is a range of 5 values, ``0 degC,
+5 degC`` a list; fractions may be plain numbers or percentages). Several variables make a grid (every
+combination) or, with ``mode="zip"``, go together case by case. All cases are solved together through
+the batch solver (one vectorised pass per distinct goal target); a case that fails is kept in its row
+with the reason, never dropped.
+"""
+from __future__ import annotations
+
+import dataclasses
+import itertools
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import InputError
+from ..fluid.components import canonical_name
+from ..quantities import parse_quantity
+from ..sheet.solve import FEED_FIELDS, solve_cases
+from ..sheet.spec import Flowsheet
+
+FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
+SI_UNITS = {"temperature": "K", "pressure": "Pa", "flow": "mol/s", "power": "W",
+            "pressure_difference": "Pa", "temperature_difference": "K", "fraction": "-",
+            "ua": "W/K"}
+
+
+@dataclass(frozen=True)
+class Variable:
+    """One swept input: its path, the quantity kind and the values in SI."""
+
+    path: str
+    kind: str
+    values: np.ndarray
+
+    @property
+    def unit(self) -> str:
+        return SI_UNITS.get(self.kind, "SI")
+
+
+@dataclass(frozen=True)
+class SweepTable:
+    """The tidy result: one row per case.
+
+    Attributes
+    ----------
+    columns : tuple of str
+        Input columns (the variable paths with SI unit), then output columns, then ``converged`` and
+        ``reason``.
+    rows : tuple of tuple
+    model : str
+    """
+
+    columns: tuple
+    rows: tuple
+    model: str
+
+    def column(self, name) -> np.ndarray:
+        i = self.columns.index(name)
+        return np.array([r[i] for r in self.rows], dtype=object if name == "reason" else float)
+
+    def csv_text(self) -> str:
+        import csv
+        import io
+        buf = io.StringIO()
+        w = csv.writer(buf, lineterminator="\n")
+        w.writerow(self.columns)
+        for r in self.rows:
+            w.writerow(["" if (isinstance(v, float) and not np.isfinite(v)) else
+                        (f"{v:.10g}" if isinstance(v, float) else v) for v in r])
+        return buf.getvalue()
+
+
+def parse_variable(fs: Flowsheet, spec: str) -> Variable:
+    """``path=values`` into a :class:`Variable` (values: ``a:b:n`` range or ``a,b,c`` list).
+
+    Raises
+    ------
+    InputError
+        Unknown path, unit of the wrong kind, an empty or malformed value list.
+    """
+    path, sep, text = str(spec).partition("=")
+    path, text = path.strip(), text.strip()
+    if not sep or not text:
+        raise InputError(f"sweep variable '{spec}' must read PATH=VALUES, e.g. supply.T=0degC:20degC:5",
+                         field="vary")
+    kind = variable_kind(fs, path)
+    atm = fs.extra.get("atmosphere") if fs.extra else None
+    kw = {"atmosphere": atm} if atm else {}
+
+    def q(t):
+        return float(parse_quantity(t.strip(), kind, field=f"vary.{path}", **kw))
+
+    if ":" in text and "," not in text:
+        parts = text.split(":")
+        if len(parts) != 3:
+            raise InputError(f"range '{text}' must read START:STOP:COUNT", field=f"vary.{path}")
+        try:
+            count = int(parts[2])
+        except ValueError:
+            raise InputError(f"range '{text}': the count '{parts[2]}' is not a whole number",
+                             field=f"vary.{path}") from None
+        if count < 1:
+            raise InputError(f"range '{text}': the count must be at least 1", field=f"vary.{path}")
+        values = np.linspace(q(parts[0]), q(parts[1]), count)
+    else:
+        values = np.array([q(t) for t in text.split(",") if t.strip()])
+    if values.size == 0:
+        raise InputError(f"no values for '{path}'", field=f"vary.{path}")
+    if kind == "fraction" and (np.any(values < 0) or np.any(values >= 1)):
+        raise InputError(f"blend fractions must lie in [0, 1) (got {values.min()}..{values.max()})",
+                         field=f"vary.{path}")
+    return Variable(path, kind, values)
+
+
+def variable_kind(fs: Flowsheet, path: str) -> str:
+    """Quantity kind of a sweepable path (see the module docstring)."""
+    from ..sheet.loader import PARAMETERS
+    name, _, attr = path.partition(".")
+    if name == "blend":
+        canonical_name(attr)            # raises with suggestions for an unknown component
+        return "fraction"
+    if name in fs.feeds and attr in FEED_FIELDS:
+        return FEED_KINDS[attr]
+    if name in fs.blocks:
+        kinds = PARAMETERS.get(fs.blocks[name].kind, {})
+        if attr in kinds and kinds[attr] not in ("text",):
+            return kinds[attr]
+    if name.startswith("goal") and name[4:].isdigit() and attr == "at":
+        k = int(name[4:])
+        if 1 <= k <= len(fs.goals):
+            return _held_kind(fs, fs.goals[k - 1].hold)
+    raise InputError(f"cannot sweep '{path}': use <feed>.T|P|flow, <block>.<parameter>, "
+                     f"goal<k>.at or blend.<component>", field=f"vary.{path}")
+
+
+def _held_kind(fs, hold: str) -> str:
+    _, _, attr = hold.partition(".")
+    return {"T": "temperature", "P": "pressure", "flow": "flow", "duty": "power", "power": "power",
+            "vapour_fraction": "fraction", "min_approach": "temperature_difference"}.get(attr, "fraction")
+
+
+def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = None,
+          outputs=None) -> SweepTable:
+    """Solve ``fs`` for every case of the swept variables.
+
+    Parameters
+    ----------
+    fs : Flowsheet
+    variables : sequence of Variable
+    mode : {"grid", "zip"}
+        Every combination, or the variables' values taken together (equal lengths).
+    model : str, optional
+        Overrides the file's model.
+    outputs : sequence of str, optional
+        Output columns (``stream.T|P|flow|vapour_fraction``, ``block.duty|power``, ``goal<k>``);
+        default: every stream's T, P and vapour fraction, every duty and power, every goal's value.
+
+    Returns
+    -------
+    SweepTable
+    """
+    variables = list(variables)
+    if not variables:
+        raise InputError("nothing to sweep: give at least one variable", field="vary")
+    if mode == "grid":
+        combos = list(itertools.product(*[range(v.values.size) for v in variables]))
+        cols = {v.path: np.array([v.values[c[j]] for c in combos]) for j, v in enumerate(variables)}
+    elif mode == "zip":
+        sizes = {v.values.size for v in variables}
+        if len(sizes) != 1:
+            raise InputError(f"zip sweep needs variables of equal length (got {sorted(sizes)})",
+                             field="vary")
+        cols = {v.path: v.values.copy() for v in variables}
+    else:
+        raise InputError(f"unknown sweep mode '{mode}' (grid or zip)", field="mode")
+    n = next(iter(cols.values())).size
+    fs2 = _with_blend_components(fs, [v.path.split(".", 1)[1] for v in variables
+                                      if v.path.startswith("blend.")])
+    cases, goal_targets = _cases(fs2, cols, n)
+    out_rows = [None] * n
+    columns = None
+    # one vectorised solve per distinct set of goal targets
+    keys = [tuple(goal_targets[k][i] for k in sorted(goal_targets)) for i in range(n)]
+    for key in sorted(set(keys)):
+        idx = np.array([i for i in range(n) if keys[i] == key])
+        fsk = fs2
+        if goal_targets:
+            goals = list(fs2.goals)
+            for k, target in zip(sorted(goal_targets), key):
+                goals[k] = dataclasses.replace(goals[k], target=float(target))
+            fsk = dataclasses.replace(fs2, goals=tuple(goals))
+        sub = {k: v[idx] for k, v in cases.items()}
+        res = solve_cases(fsk, sub or None, model=model, strict=False)
+        names, values = _outputs(res, fsk, outputs, idx.size)
+        reasons = _reasons(res, idx.size)
+        inputs = tuple(f"{v.path} [{v.unit}]" for v in variables)
+        keep = [c for c, nm in enumerate(names) if nm not in inputs]
+        names = [names[c] for c in keep]
+        values = [values[c] for c in keep]
+        if columns is None:
+            columns = inputs + tuple(names) + ("converged", "reason")
+        for j, i in enumerate(idx):
+            ok = bool(res.converged[j])
+            outs = tuple(float(values[c][j]) if ok else float("nan") for c in range(len(names)))
+            out_rows[i] = (tuple(float(cols[v.path][i]) for v in variables) + outs
+                           + (ok, "" if ok else reasons[j]))
+    return SweepTable(columns, tuple(out_rows), res.model)
+
+
+def _with_blend_components(fs, comps):
+    """The flowsheet with blended components added to the gas at zero where missing."""
+    comps = [canonical_name(c) for c in comps]
+    missing = [c for c in comps if c not in fs.gas.composition]
+    if not missing:
+        return fs
+    composition = dict(fs.gas.composition)
+    for c in missing:
+        composition[c] = 0.0
+    return dataclasses.replace(fs, gas=dataclasses.replace(fs.gas, composition=composition))
+
+
+def _cases(fs, cols, n):
+    cases, goal_targets = {}, {}
+    names = list(fs.gas.composition)
+    base = np.array([fs.gas.composition[c] for c in names], dtype=float)
+    base = base / base.sum()
+    blend = np.zeros((n, len(names)))
+    x_total = np.zeros(n)
+    for path, values in cols.items():
+        head, _, attr = path.partition(".")
+        if head == "blend":
+            j = names.index(canonical_name(attr))
+            blend[:, j] += values
+            x_total += values
+        elif head.startswith("goal") and head[4:].isdigit():
+            goal_targets[int(head[4:]) - 1] = values
+        else:
+            cases[path] = values
+    if np.any(x_total > 0):
+        if np.any(x_total >= 1):
+            raise InputError("blend fractions add up to 1 or more", field="vary")
+        for feed_name, feed in fs.feeds.items():
+            z = base
+            if feed.composition is not None:
+                z = np.array([feed.composition.get(c, 0.0) for c in names], dtype=float)
+                z = z / z.sum()
+            cases[f"{feed_name}.zs"] = (1.0 - x_total)[:, None] * z[None, :] + blend
+    return cases, goal_targets
+
+
+def _outputs(res, fs, outputs, m):
+    avail = {}
+    for name, st in res.streams.items():
+        avail[f"{name}.T [K]"] = st.T
+        avail[f"{name}.P [Pa]"] = st.P
+        avail[f"{name}.flow [mol/s]"] = st.flow
+        avail[f"{name}.vapour_fraction [-]"] = st.vapour_fraction
+    for name, eq in res.equipment.items():
+        if eq.duty is not None:
+            avail[f"{name}.duty [W]"] = eq.duty
+        if eq.power is not None:
+            avail[f"{name}.power [W]"] = eq.power
+    for k, g in enumerate(res.goals):
+        value = g["value"] if isinstance(g, dict) else getattr(g, "value")
+        avail[f"goal{k + 1} [SI]"] = value
+    if outputs:
+        names = []
+        for o in outputs:
+            match = [a for a in avail if a.split(" [")[0] == o]
+            if not match:
+                raise InputError(f"unknown output '{o}' (available: "
+                                 f"{', '.join(a.split(' [')[0] for a in avail)})", field="outputs")
+            names.append(match[0])
+    else:
+        names = [a for a in avail if not a.split(" [")[0].endswith(".flow")]
+    values = [np.broadcast_to(np.asarray(avail[nm], dtype=float), (m,)) for nm in names]
+    return names, values
+
+
+def _reasons(res, m):
+    """Why each failed case failed: unmet goals, unconverged loops, failed flashes."""
+    reasons = [[] for _ in range(m)]
+    for k, g in enumerate(res.goals):
+        met = np.broadcast_to(np.asarray(g.met, dtype=bool), (m,))
+        for c in np.flatnonzero(~met):
+            reasons[c].append(f"goal {k + 1} ({g.hold} at {g.target:.6g} by {g.by}) not met")
+    for lp in res.loops:
+        conv = np.broadcast_to(np.asarray(lp.converged, dtype=bool), (m,))
+        for c in np.flatnonzero(~conv):
+            reasons[c].append(f"loop through {', '.join(lp.blocks)} did not converge")
+    for w in res.warnings:
+        what = w["what"] if isinstance(w, dict) else w.what
+        where = w["where"] if isinstance(w, dict) else w.where
+        cases = w.get("cases", ()) if isinstance(w, dict) else getattr(w, "cases", ())
+        if "did not converge" in what:
+            for c in cases:
+                if c < m:
+                    reasons[c].append(f"{where}: {what}")
+    out = []
+    for c in range(m):
+        if res.converged[c]:
+            out.append("")
+        else:
+            out.append("; ".join(reasons[c]) or "did not converge")
+    return out
