@@ -256,6 +256,24 @@ class Fluid:
             return one
         return st
 
+    def quality(self, combustion_T: float = 288.15, metering_T: float = 288.15, zs=None):
+        """Gas quality by ISO 6976:2016: calorific values, Wobbe indices, relative density, density
+        and compression factor at the reference conditions (see :mod:`letdown.fluid.quality`).
+
+        Parameters
+        ----------
+        combustion_T, metering_T : float
+            Reference temperatures [K] (defaults 15 degC / 15 degC; metering at 101.325 kPa).
+        zs : ndarray, optional
+            Compositions (nc,) or (n, nc) instead of the fluid's.
+
+        Returns
+        -------
+        letdown.fluid.quality.GasQuality
+        """
+        from .quality import quality
+        return quality(self.components, self._zs if zs is None else zs, combustion_T, metering_T)
+
     def dew_point(self, P=None, T=None, zs=None):
         """Dew point: temperature [K] at pressure P (the highest T at which liquid exists), or
         pressure [Pa] at temperature T (the lowest P at which liquid exists). NaN where the gas
