@@ -77,6 +77,22 @@ def _parser() -> argparse.ArgumentParser:
     w.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
     w.add_argument("--out", metavar="DIR", help="write sweep.csv, run.json (and plots) to DIR")
     w.add_argument("--plot", metavar="X:Y[,Y]", help="plot outputs Y against input X into DIR")
+    w.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
+    w.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")
+
+    y = sub.add_parser("year", parents=[common],
+                       help="solve every hour of an operating profile with the goals held")
+    y.add_argument("file", metavar="FILE")
+    y.add_argument("--profile", required=True, metavar="CSV",
+                   help="hourly profile: time,flow [unit],T_in [unit],P_in [unit][,P_out][,ground_T]")
+    y.add_argument("--efficiency", type=float, default=0.75,
+                   help="heater efficiency on the gross calorific value (default 0.75, assumed)")
+    y.add_argument("--feed", metavar="NAME", help="the feed the profile drives (default: the only one)")
+    y.add_argument("--outlet", metavar="BLOCK", help="the throttle whose P_out the profile sets")
+    y.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+    y.add_argument("--out", metavar="DIR", help="write hourly.csv, summary.json, run.json, plots")
+    y.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
+    y.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")
 
     st = sub.add_parser("state", parents=[common], help="one fluid state from two of T, P, h, s")
     st.add_argument("--T", help="temperature, e.g. 10degC")
@@ -113,6 +129,8 @@ def main(argv=None) -> int:
             return _crosscheck(args)
         if args.verb == "sweep":
             return _sweep(args)
+        if args.verb == "year":
+            return _year(args)
         return _state(args)
     except (InputError, ModelError) as exc:
         _error(exc, where, debug)
@@ -232,8 +250,13 @@ def _sweep(args) -> int:
     target = _csv_target(args.out) if args.out else None
     if args.plot and target is None:
         raise InputError("--plot needs --out DIR to write the pictures into", field="--plot")
-    table = sweep(fs, variables, mode="zip" if args.zip else "grid", model=args.model,
-                  outputs=outputs)
+    from .study.executors import make_executor
+    executor = make_executor(args.workers, args.dask)
+    try:
+        table = sweep(fs, variables, mode="zip" if args.zip else "grid", model=args.model,
+                      outputs=outputs, executor=executor)
+    finally:
+        executor.close()
     if target is not None:
         files = sweep_files(table, source=args.file, variables=args.vary,
                             mode="zip" if args.zip else "grid", plot=args.plot)
@@ -247,6 +270,30 @@ def _sweep(args) -> int:
               file=sys.stderr)
     print("letdown: engineering estimates; designs must follow local codes and be checked by "
           "qualified, licensed staff.", file=sys.stderr)
+    return EXIT_OK
+
+
+def _year(args) -> int:
+    from .report.year import year_files, year_text
+    from .sheet.loader import load
+    from .study.executors import make_executor
+    from .study.year import read_profile, year
+
+    fs = load(args.file)
+    atm = fs.extra.get("atmosphere") if fs.extra else None
+    profile = read_profile(args.profile, atmosphere=atm)
+    target = _csv_target(args.out) if args.out else None
+    executor = make_executor(args.workers, args.dask)
+    try:
+        res = year(fs, profile, efficiency=args.efficiency, feed=args.feed,
+                   outlet_block=args.outlet, model=args.model, executor=executor)
+    finally:
+        executor.close()
+    print(year_text(res))
+    if target is not None:
+        files = year_files(res, flowsheet=args.file)
+        _write_csv(target, files)
+        print(f"letdown: wrote {', '.join(str(target / f) for f in files)}", file=sys.stderr)
     return EXIT_OK
 
 

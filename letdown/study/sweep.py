@@ -150,7 +150,7 @@ def _held_kind(fs, hold: str) -> str:
 
 
 def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = None,
-          outputs=None) -> SweepTable:
+          outputs=None, executor=None) -> SweepTable:
     """Solve ``fs`` for every case of the swept variables.
 
     Parameters
@@ -164,6 +164,8 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
     outputs : sequence of str, optional
         Output columns (``stream.T|P|flow|vapour_fraction``, ``block.duty|power``, ``goal<k>``);
         default: every stream's T, P and vapour fraction, every duty and power, every goal's value.
+    executor : optional
+        A :mod:`letdown.study.executors` executor; the cases are split into one chunk per worker.
 
     Returns
     -------
@@ -189,32 +191,48 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
     cases, goal_targets = _cases(fs2, cols, n)
     out_rows = [None] * n
     columns = None
-    # one vectorised solve per distinct set of goal targets
+    # one vectorised solve per distinct set of goal targets, split into chunks for the executor
+    from .executors import Serial, chunks
+    executor = executor or Serial()
     keys = [tuple(goal_targets[k][i] for k in sorted(goal_targets)) for i in range(n)]
+    tasks, owners = [], []
     for key in sorted(set(keys)):
-        idx = np.array([i for i in range(n) if keys[i] == key])
+        group = np.array([i for i in range(n) if keys[i] == key])
         fsk = fs2
         if goal_targets:
             goals = list(fs2.goals)
             for k, target in zip(sorted(goal_targets), key):
                 goals[k] = dataclasses.replace(goals[k], target=float(target))
             fsk = dataclasses.replace(fs2, goals=tuple(goals))
-        sub = {k: v[idx] for k, v in cases.items()}
-        res = solve_cases(fsk, sub or None, model=model, strict=False)
-        names, values = _outputs(res, fsk, outputs, idx.size)
-        reasons = _reasons(res, idx.size)
-        inputs = tuple(f"{v.path} [{v.unit}]" for v in variables)
+        for part in chunks(group.size, executor.workers):
+            idx = group[part]
+            tasks.append((fsk, {k: v[idx] for k, v in cases.items()}, model, outputs, idx.size))
+            owners.append(idx)
+    inputs = tuple(f"{v.path} [{v.unit}]" for v in variables)
+    out_rows = [None] * n
+    columns = None
+    model_name = None
+    for idx, (names, values, converged, reasons, model_name) in zip(owners,
+                                                                      executor.map(_sweep_chunk, tasks)):
         keep = [c for c, nm in enumerate(names) if nm not in inputs]
         names = [names[c] for c in keep]
         values = [values[c] for c in keep]
         if columns is None:
             columns = inputs + tuple(names) + ("converged", "reason")
         for j, i in enumerate(idx):
-            ok = bool(res.converged[j])
+            ok = bool(converged[j])
             outs = tuple(float(values[c][j]) if ok else float("nan") for c in range(len(names)))
             out_rows[i] = (tuple(float(cols[v.path][i]) for v in variables) + outs
                            + (ok, "" if ok else reasons[j]))
-    return SweepTable(columns, tuple(out_rows), res.model)
+    return SweepTable(columns, tuple(out_rows), model_name)
+
+
+def _sweep_chunk(task):
+    """Solve one chunk of cases (top level, so process pools and Dask can ship it)."""
+    fs, cases, model, outputs, m = task
+    res = solve_cases(fs, cases or None, model=model, strict=False)
+    names, values = _outputs(res, fs, outputs, m)
+    return names, [np.asarray(v) for v in values], np.asarray(res.converged), _reasons(res, m), res.model
 
 
 def _with_blend_components(fs, comps):

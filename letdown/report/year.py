@@ -1,0 +1,104 @@
+"""Report of a year of operation (:class:`letdown.study.year.YearResult`): text, files, plots."""
+from __future__ import annotations
+
+import csv
+import hashlib
+import io
+import json
+from datetime import datetime, timezone
+from pathlib import Path
+
+import numpy as np
+
+CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
+           "licensed staff.")
+
+
+def year_text(res) -> str:
+    """The year's figures for a terminal."""
+    s = res.summary()
+    lines = [f"A year of operation: {s['hours']} hours from {res.profile.source} "
+             f"(model {s['model']})", ""]
+    for name, mwh in s["heat_MWh"].items():
+        peak = s["peak"].get(name)
+        pk = f"; peak {peak['duty_W'] / 1e3:.1f} kW at {peak['time']}" if peak else ""
+        lines.append(f"  {name}: {mwh:,.1f} MWh of heat{pk}")
+    lines.append(f"  fuel gas: {s['fuel_Sm3']:,.0f} Sm3 at a heater efficiency of "
+                 f"{s['heater_efficiency']:.0%} (gross calorific value "
+                 f"{s['gross_cv_J_Sm3'] / 1e6:.3f} MJ/Sm3, ISO 6976:2016, 15 degC / 15 degC)")
+    lo, hi = s["outlet_T_K"]["min"] - 273.15, s["outlet_T_K"]["max"] - 273.15
+    lines.append(f"  {s['outlet']} temperature: {lo:.2f} to {hi:.2f} degC")
+    if s["min_T_K"] is not None:
+        lines.append(f"  hours with a stream below limits.min_T ({s['min_T_K'] - 273.15:.1f} degC): "
+                     f"{s['hours_below_min_T']}")
+    lines.append(f"  failed hours: {s['failed_hours']}")
+    if s["failed_hours"]:
+        bad = np.flatnonzero(~res.converged)[:5]
+        for i in bad:
+            lines.append(f"    {res.profile.time[i]}: {res.reasons[i]}")
+    lines += ["", "Standard volumes at 15 degC and 101.325 kPa (ISO 13443).", CAUTION]
+    return "\n".join(lines)
+
+
+def year_files(res, *, flowsheet: str, plot: bool = True) -> dict:
+    """{file name: content}: hourly.csv, summary.json, run.json and (with matplotlib) year.png/svg."""
+    import letdown
+    buf = io.StringIO()
+    w = csv.writer(buf, lineterminator="\n")
+    heaters = list(res.heater_duty)
+    streams = list(res.stream_T)
+    w.writerow(["time", *(f"{n}.duty [W]" for n in heaters), *(f"{n}.T [K]" for n in streams),
+                "converged", "reason"])
+    for i, t in enumerate(res.profile.time):
+        w.writerow([t, *(_num(res.heater_duty[n][i]) for n in heaters),
+                    *(_num(res.stream_T[n][i]) for n in streams), bool(res.converged[i]),
+                    res.reasons[i]])
+    files = {"hourly.csv": buf.getvalue(),
+             "summary.json": json.dumps(res.summary(), indent=2) + "\n",
+             "run.json": json.dumps({
+                 "flowsheet": flowsheet,
+                 "flowsheet_sha256": hashlib.sha256(Path(flowsheet).read_bytes()).hexdigest(),
+                 "profile": res.profile.source,
+                 "profile_sha256": hashlib.sha256(Path(res.profile.source).read_bytes()).hexdigest(),
+                 "model": res.model, "heater_efficiency": res.efficiency,
+                 "letdown_version": letdown.__version__,
+                 "written_utc": datetime.now(timezone.utc).isoformat(timespec="seconds")},
+                 indent=2) + "\n"}
+    if plot:
+        files.update(_plots(res))
+    return files
+
+
+def _num(x) -> str:
+    return "" if not np.isfinite(x) else f"{x:.10g}"
+
+
+def _plots(res) -> dict:
+    try:
+        import matplotlib
+        matplotlib.use("Agg")
+        import matplotlib.pyplot as plt
+    except ImportError:
+        return {}
+    t = np.arange(res.profile.n) / 24.0
+    fig, (a1, a2) = plt.subplots(2, 1, figsize=(9, 6), sharex=True)
+    for name, d in res.heater_duty.items():
+        a1.plot(t, d / 1e3, lw=0.6, label=f"{name} duty")
+    a1.set_ylabel("duty [kW]")
+    a1.legend(loc="upper right")
+    a1.grid(True, alpha=0.3)
+    a2.plot(t, res.stream_T[res.outlet] - 273.15, lw=0.6, color="tab:red", label=res.outlet)
+    if res.min_T is not None:
+        a2.axhline(res.min_T - 273.15, color="k", ls="--", lw=0.8, label="limits.min_T")
+    a2.set_ylabel("temperature [degC]")
+    a2.set_xlabel("day of the year")
+    a2.legend(loc="upper right")
+    a2.grid(True, alpha=0.3)
+    fig.suptitle("A year of operation (engineering estimates)")
+    out = {}
+    for ext in ("png", "svg"):
+        b = io.BytesIO()
+        fig.savefig(b, format=ext, dpi=110, bbox_inches="tight")
+        out[f"year.{ext}"] = b.getvalue()
+    plt.close(fig)
+    return out

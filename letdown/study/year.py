@@ -1,0 +1,236 @@
+"""A year of operation: the flowsheet solved for every hour of a profile, goals held.
+
+The profile is a CSV file with a header ``time,flow [unit],T_in [unit],P_in [unit]`` and optionally
+``P_out [unit]`` (the let-down set point) and ``ground_T [unit]`` (used as the inlet temperature
+where ``T_in`` is absent: buried supply lines bring the gas to the ground temperature -- common
+practice). Units are those of the flowsheet file (``Sm3/h``, ``degC``, ``barg``...).
+
+Reported: the heat each heater delivers over the year [MWh], the fuel gas it burns at a stated
+heater efficiency (standard m3 at 15 degC / 101.325 kPa, with the gross calorific value of the feed
+gas by ISO 6976:2016, 15 degC combustion), the peak duty and its hour, the hours in which a stream is
+below ``limits.min_T``, the outlet temperature range, and the hours that failed (with the reason).
+"""
+from __future__ import annotations
+
+import csv
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import InputError
+from ..quantities import parse_quantity
+from ..sheet.solve import solve_cases
+from ..sheet.spec import Flowsheet
+from .executors import Serial, chunks
+from .sweep import _reasons
+
+#: Profile columns and the quantity kind of each.
+COLUMNS = {"flow": "flow", "T_in": "temperature", "P_in": "pressure", "P_out": "pressure",
+           "ground_T": "temperature"}
+#: Hours per profile row [h].
+HOURS_PER_ROW = 1.0
+#: Cases per chunk handed to an executor: large enough to keep the batch flash efficient.
+CHUNK_CASES = 2190
+
+
+@dataclass(frozen=True)
+class Profile:
+    """An hourly profile in SI: ``time`` strings and arrays per column."""
+
+    time: tuple
+    values: dict
+    source: str
+
+    @property
+    def n(self) -> int:
+        return len(self.time)
+
+
+def read_profile(path, atmosphere=None) -> Profile:
+    """Read a profile CSV (see the module docstring).
+
+    Raises
+    ------
+    InputError
+        A missing file or column, an unknown column or unit, a value that is not a number (file,
+        line and column named).
+    """
+    try:
+        with open(path, newline="", encoding="utf-8") as fh:
+            rows = list(csv.reader(fh))
+    except OSError as exc:
+        raise InputError(f"cannot read the profile: {exc.strerror}", file=str(path)) from None
+    if len(rows) < 2:
+        raise InputError("the profile has no data rows", file=str(path), line=1)
+    header = [h.strip() for h in rows[0]]
+    if not header or header[0] != "time":
+        raise InputError("the first column must be 'time'", file=str(path), line=1, field="time")
+    cols = {}
+    for j, h in enumerate(header[1:], start=1):
+        name, _, unit = h.partition("[")
+        name, unit = name.strip(), unit.rstrip("]").strip()
+        if name not in COLUMNS:
+            raise InputError(f"unknown profile column '{name}' (known: {', '.join(COLUMNS)})",
+                             file=str(path), line=1, field=name)
+        if not unit:
+            raise InputError(f"column '{name}' needs a unit in brackets, e.g. '{name} [degC]'",
+                             file=str(path), line=1, field=name)
+        cols[name] = (j, unit)
+    if "flow" not in cols or "P_in" not in cols or not ({"T_in", "ground_T"} & set(cols)):
+        raise InputError("the profile needs flow, P_in and T_in (or ground_T) columns",
+                         file=str(path), line=1)
+    kw = {"atmosphere": atmosphere} if atmosphere else {}
+    values = {}
+    for name, (j, unit) in cols.items():
+        out = np.empty(len(rows) - 1)
+        for i, row in enumerate(rows[1:]):
+            text = row[j].strip() if j < len(row) else ""
+            try:
+                v = parse_quantity(f"{text} {unit}", COLUMNS[name], field=name, file=str(path),
+                                   line=i + 2, **kw)
+            except InputError as exc:
+                raise exc.located(file=str(path), line=i + 2, field=name) from None
+            out[i] = float(v) if not hasattr(v, "kg_s") else np.nan
+            if hasattr(v, "kg_s"):
+                raise InputError("mass flows are not supported in profiles; give a molar or "
+                                 "standard-volume flow", file=str(path), line=i + 2, field=name)
+        values[name] = out
+    return Profile(tuple(r[0] for r in rows[1:]), values, str(path))
+
+
+def _solve_chunk(task):
+    """Solve one chunk of hours (top level, so process pools and Dask can ship it)."""
+    fs, cases, model = task
+    res = solve_cases(fs, cases, model=model, strict=False)
+    m = res.n_cases
+    heaters = {n: np.where(res.converged, e.duty, np.nan) for n, e in res.equipment.items()
+               if e.kind in ("heater",) and e.duty is not None}
+    streams_T = {n: np.where(res.converged, s.T, np.nan) for n, s in res.streams.items()}
+    return {"converged": np.asarray(res.converged, dtype=bool), "reasons": _reasons(res, m),
+            "heaters": heaters, "T": streams_T, "model": res.model}
+
+
+@dataclass(frozen=True)
+class YearResult:
+    """Hour-by-hour results and the year's totals."""
+
+    profile: Profile
+    model: str
+    converged: np.ndarray
+    reasons: tuple
+    heater_duty: dict          # heater -> W per hour
+    stream_T: dict             # stream -> K per hour
+    outlet: str
+    efficiency: float
+    gross_cv: float            # J per standard m3 (15 degC, 101.325 kPa), ISO 6976
+    min_T: float | None
+
+    @property
+    def energy_MWh(self) -> dict:
+        return {n: float(np.nansum(d)) * HOURS_PER_ROW / 1e6 for n, d in self.heater_duty.items()}
+
+    @property
+    def fuel_Sm3(self) -> float:
+        heat_J = sum(float(np.nansum(d)) * HOURS_PER_ROW * 3600.0 for d in self.heater_duty.values())
+        return heat_J / self.efficiency / self.gross_cv
+
+    @property
+    def hours_below_min_T(self) -> int:
+        if self.min_T is None:
+            return 0
+        cold = np.zeros(self.profile.n, dtype=bool)
+        for T in self.stream_T.values():
+            cold |= np.nan_to_num(T, nan=np.inf) < self.min_T
+        return int(cold.sum())
+
+    def summary(self) -> dict:
+        """The year's figures in SI (and MWh, Sm3), JSON-ready."""
+        peak = {}
+        for n, d in self.heater_duty.items():
+            if np.all(np.isnan(d)):
+                continue
+            i = int(np.nanargmax(d))
+            peak[n] = {"duty_W": float(d[i]), "time": self.profile.time[i]}
+        T_out = self.stream_T[self.outlet]
+        return {"model": self.model, "hours": self.profile.n,
+                "failed_hours": int((~self.converged).sum()),
+                "heat_MWh": self.energy_MWh, "fuel_Sm3": self.fuel_Sm3,
+                "heater_efficiency": self.efficiency, "gross_cv_J_Sm3": self.gross_cv,
+                "peak": peak, "hours_below_min_T": self.hours_below_min_T,
+                "min_T_K": self.min_T, "outlet": self.outlet,
+                "outlet_T_K": {"min": float(np.nanmin(T_out)), "max": float(np.nanmax(T_out))}}
+
+
+def year(fs: Flowsheet, profile: Profile, *, efficiency: float = 0.75, feed: str | None = None,
+         outlet_block: str | None = None, model: str | None = None, executor=None) -> YearResult:
+    """Solve every hour of ``profile`` on ``fs`` with its goals held.
+
+    Parameters
+    ----------
+    fs : Flowsheet
+    profile : Profile
+    efficiency : float
+        Heater efficiency on the gross calorific value [-] (water-bath heaters run about 0.5-0.8;
+        common practice). The default 0.75 is an assumption the report states.
+    feed : str, optional
+        The feed the profile drives (default: the flowsheet's only feed).
+    outlet_block : str, optional
+        The throttle whose ``P_out`` the profile's ``P_out`` column sets (default: the only throttle
+        whose outlet is a product).
+    model : str, optional
+    executor : optional
+        :mod:`letdown.study.executors` executor (default: this process).
+
+    Raises
+    ------
+    InputError
+        An ambiguous or unknown feed or outlet block, an efficiency outside (0, 1].
+    """
+    if not 0.0 < float(efficiency) <= 1.0:
+        raise InputError(f"heater efficiency must lie in (0, 1] (got {efficiency})",
+                         field="--efficiency")
+    feed = _only(feed, list(fs.feeds), "feed")
+    consumed = {s for b in fs.blocks.values() for s in b.inlets.values()}
+    throttles = [n for n, b in fs.blocks.items() if b.kind == "throttle"
+                 and any(s not in consumed for s in b.outlets.values())]
+    v = profile.values
+    cases = {f"{feed}.flow": v["flow"], f"{feed}.P": v["P_in"],
+             f"{feed}.T": v["T_in"] if "T_in" in v else v["ground_T"]}
+    outlet_stream = None
+    if "P_out" in v or outlet_block:
+        outlet_block = _only(outlet_block, throttles, "outlet throttle")
+        if "P_out" in v:
+            cases[f"{outlet_block}.P_out"] = v["P_out"]
+    if outlet_block:
+        outlet_stream = next(iter(fs.blocks[outlet_block].outlets.values()))
+    elif throttles:
+        outlet_stream = next(iter(fs.blocks[throttles[-1]].outlets.values()))
+    executor = executor or Serial()
+    parts = chunks(profile.n, max(executor.workers, int(np.ceil(profile.n / CHUNK_CASES))))
+    tasks = [(fs, {k: a[idx] for k, a in cases.items()}, model) for idx in parts]
+    outs = executor.map(_solve_chunk, tasks)
+    conv = np.concatenate([o["converged"] for o in outs])
+    reasons = tuple(r for o in outs for r in o["reasons"])
+    heaters = {n: np.concatenate([o["heaters"][n] for o in outs]) for n in outs[0]["heaters"]}
+    temps = {n: np.concatenate([o["T"][n] for o in outs]) for n in outs[0]["T"]}
+    if outlet_stream is None:
+        outlet_stream = list(temps)[-1]
+    from ..fluid.quality import quality
+    comps = list(fs.gas.composition)
+    feed_comp = fs.feeds[feed].composition or fs.gas.composition
+    z = np.array([feed_comp.get(c, 0.0) for c in comps], dtype=float)
+    cv = float(quality(comps, z / z.sum(), 288.15, 288.15).gross_volumetric)
+    return YearResult(profile, outs[0]["model"], conv, reasons, heaters, temps, outlet_stream,
+                      float(efficiency), cv, fs.limits.get("min_T"))
+
+
+def _only(name, options, what):
+    if name is not None:
+        if name not in options:
+            raise InputError(f"unknown {what} '{name}' (this flowsheet has: {', '.join(options) or 'none'})",
+                             field=f"--{what.split()[-1]}")
+        return name
+    if len(options) != 1:
+        raise InputError(f"the flowsheet has {len(options)} candidates for the {what} "
+                         f"({', '.join(options) or 'none'}); name one", field=f"--{what.split()[-1]}")
+    return options[0]
