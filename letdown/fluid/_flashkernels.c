@@ -10,6 +10,12 @@
  *   lf_split_finish the final negative-flash Rachford-Rice, phase compositions and stable-root Z of
  *                   both phases (the end of flash.two_phase_flash)
  *   lf_properties   CubicEOS.properties (residual and derivative properties of one phase)
+ *   lf_flash_pt     the whole of flash.flash_PT for mixtures (phase naming by the phase
+ *                   identification parameter, warm start and re-test, stability, split with its
+ *                   Newton finish, Gibbs-energy acceptance, phases named by molar volume)
+ *   lf_hs_of_split  CubicEngine._hs_of_split (ideal-gas h0, s0, cp0 plus residual parts)
+ *   lf_phase        CubicEngine._phase (all properties of one phase)
+ *   lf_solve_T      the P-h / P-s temperature iteration CubicEngine._solve_T_mixture
  *
  * The functions are loaded with ctypes by letdown/fluid/native.py. The file is built as a Python
  * extension module only so that the ordinary packaging tools compile it at install time; the
@@ -20,6 +26,10 @@
  *   the two roots count as one, par[4] Newton polishing steps on each root, par[5..7] unused,
  *   then sqrt(a_c), m, sqrt(Tc), b, Tc, Pc, omega (nc each), (1 - k_ij) (nc x nc, row major) and
  *   the Peneloux shifts c (nc).
+ *
+ * The flash constants (block `fc`), the P-h constants (block `sv`) and the ideal-gas block `ig`
+ * are laid out as the FP_*, SV_* enumerations and ig_view below; native.py fills them from
+ * flash.py, cubic_fluid.py and components.py.
  */
 #include <math.h>
 #include <stdlib.h>
@@ -95,12 +105,15 @@ static void mixture(const eos_t *e, double T, const double *x, double *psi, doub
     for (i = 0; i < nc; i++) {
         r[i] = e->sqrt_ac[i] * (1.0 + e->ms[i] * (1.0 - sT / e->sqrt_Tc[i]));
         xr[i] = x[i] * r[i];
+        psi[i] = 0.0;
     }
-    for (j = 0; j < nc; j++) {
-        double S = 0.0;
-        for (i = 0; i < nc; i++) S += xr[i] * e->omk[i * nc + j];
-        psi[j] = r[j] * S;
+    /* psi_j = r_j sum_i xr_i (1 - k_ij), summed over i in order, rows read contiguously */
+    for (i = 0; i < nc; i++) {
+        const double *row = e->omk + (size_t)i * nc;
+        double xi = xr[i];
+        for (j = 0; j < nc; j++) psi[j] += xi * row[j];
     }
+    for (j = 0; j < nc; j++) psi[j] *= r[j];
     for (i = 0; i < nc; i++) {
         aa += x[i] * psi[i];
         bb += x[i] * e->bs[i];
@@ -168,12 +181,8 @@ static double choose_root(const eos_t *e, double A, double B, int code)
     z_roots(e, A, B, &Zmin, &Zmax);
     if (code > 0) return Zmax;
     if (code < 0) return Zmin;
-    {
-        int differ = Zmax - Zmin > e->distinct * Zmax;
-        double gmin = g_res_RT(e, Zmin, A, B);
-        double gmax = g_res_RT(e, Zmax, A, B);
-        return (differ && gmin < gmax) ? Zmin : Zmax;
-    }
+    if (!(Zmax - Zmin > e->distinct * Zmax)) return Zmax;
+    return (g_res_RT(e, Zmin, A, B) < g_res_RT(e, Zmax, A, B)) ? Zmin : Zmax;
 }
 
 /* CubicEOS.lnphi for one phase; returns Z; work needs 3 nc doubles */
@@ -226,7 +235,8 @@ LF_EXPORT int lf_lnphi(int n, int nc, const double *par, const double *T, const 
 /* cfg: [0] LN_TOL, [1] TRIVIAL_DIST, [2] STABILITY_MAX_ITER, [3] early-exit tm threshold */
 enum { ST_LN_TOL, ST_TRIVIAL_DIST, ST_MAX_ITER, ST_EARLY_TM, ST_NCFG };
 
-/* One trial phase: iterate ln W in place; returns tm (0 for a trivial trial), sets *Zw. */
+/* One trial phase: iterate ln W in place; returns tm (0 for a trivial trial), sets *Zw.
+ * work: 6 nc */
 static double stability_trial(const eos_t *e, double T, double P, const double *z, const double *d,
                               double *lnW, const double *cfg, int early_exit, double *Zw,
                               double *work)
@@ -268,6 +278,49 @@ static double stability_trial(const eos_t *e, double T, double P, const double *
     return tm;
 }
 
+/* Stability test of one feed (all four trials); returns the most negative tm and writes that
+ * trial's composition ws and Z. work: 11 nc */
+static double stability_case(const eos_t *e, double T, double P, const double *z, const double *lz,
+                             const double *Ki, const double *cfg, int early_exit, double *ws,
+                             double *Zbest, double *work)
+{
+    const int nt = 4;
+    int nc = e->nc, k, t, heavy = 0, light = 0, best = 0;
+    double *d = work, *tw = work + nc, *lnW = work + 7 * nc;
+    double tms[4], Zs[4], best_tm, sW = 0.0, hv = -INFINITY, lv = INFINITY;
+    for (k = 0; k < nc; k++) {
+        int pres = z[k] > 0.0;
+        d[k] = pres ? log(z[k]) + lz[k] : -INFINITY;
+        if (pres && e->Tcs[k] > hv) { hv = e->Tcs[k]; heavy = k; }
+        if (pres && e->Tcs[k] < lv) { lv = e->Tcs[k]; light = k; }
+    }
+    for (t = 0; t < nt; t++) {
+        double *lw = lnW + t * nc;
+        for (k = 0; k < nc; k++) {
+            double W;
+            if (t == 0) W = z[k] * Ki[k];
+            else if (t == 1) W = z[k] / Ki[k];
+            else W = (z[k] > 0.0) ? 1e-3 * z[k] : 0.0;
+            if (t == 2 && k == heavy) W = 1.0;
+            if (t == 3 && k == light) W = 1.0;
+            lw[k] = (z[k] > 0.0) ? log(W) : -INFINITY;
+        }
+        Zs[t] = 0.0;
+        tms[t] = stability_trial(e, T, P, z, d, lw, cfg, early_exit, &Zs[t], tw);
+    }
+    /* first minimum; a NaN wins (as numpy's argmin) */
+    best_tm = tms[0];
+    for (t = 1; t < nt && !isnan(best_tm); t++)
+        if (isnan(tms[t]) || tms[t] < best_tm) { best_tm = tms[t]; best = t; }
+    for (k = 0; k < nc; k++) {
+        ws[k] = exp(lnW[best * nc + k]);
+        sW += ws[k];
+    }
+    for (k = 0; k < nc; k++) ws[k] /= sW;
+    *Zbest = Zs[best];
+    return best_tm;
+}
+
 /* Stability test of n feeds at (T, P) with ln phi of the feed lnphis_z and Wilson K-values K
  * (n x nc): trials z K, z / K, nearly pure heaviest and nearly pure lightest component present.
  * Output per feed: the most negative tm, the composition of that trial and its Z. */
@@ -277,53 +330,15 @@ LF_EXPORT int lf_stability(int n, int nc, const double *par, const double *T, co
                            double *Z_out)
 {
     eos_t e = eos_view(nc, par);
-    const int nt = 4;
-    double *buf = malloc((size_t)(7 * nc + nt * nc) * sizeof(double));
-    double *d, *work, *lnW;
-    int i, k, t;
-    if (!buf) return -1;
-    d = buf;
-    work = buf + nc;            /* 6 nc */
-    lnW = buf + 7 * nc;         /* nt x nc */
+    double *work = malloc((size_t)(11 * nc) * sizeof(double));
+    int i;
+    if (!work) return -1;
     for (i = 0; i < n; i++) {
-        const double *z = zs + (size_t)i * nc, *Ki = K + (size_t)i * nc;
-        const double *lz = lnphis_z + (size_t)i * nc;
-        double tms[4], Zs[4], best_tm, sW = 0.0;
-        int heavy = 0, light = 0, best = 0;
-        double hv = -INFINITY, lv = INFINITY;
-        for (k = 0; k < nc; k++) {
-            int pres = z[k] > 0.0;
-            d[k] = pres ? log(z[k]) + lz[k] : -INFINITY;
-            if (pres && e.Tcs[k] > hv) { hv = e.Tcs[k]; heavy = k; }
-            if (pres && e.Tcs[k] < lv) { lv = e.Tcs[k]; light = k; }
-        }
-        for (t = 0; t < nt; t++) {
-            double *lw = lnW + t * nc;
-            for (k = 0; k < nc; k++) {
-                double W;
-                if (t == 0) W = z[k] * Ki[k];
-                else if (t == 1) W = z[k] / Ki[k];
-                else W = (z[k] > 0.0) ? 1e-3 * z[k] : 0.0;
-                if (t == 2 && k == heavy) W = 1.0;
-                if (t == 3 && k == light) W = 1.0;
-                lw[k] = (z[k] > 0.0) ? log(W) : -INFINITY;
-            }
-            Zs[t] = 0.0;
-            tms[t] = stability_trial(&e, T[i], P[i], z, d, lw, cfg, early_exit, &Zs[t], work);
-        }
-        /* first minimum; a NaN wins (as numpy's argmin) */
-        best_tm = tms[0];
-        for (t = 1; t < nt && !isnan(best_tm); t++)
-            if (isnan(tms[t]) || tms[t] < best_tm) { best_tm = tms[t]; best = t; }
-        for (k = 0; k < nc; k++) {
-            ws_out[(size_t)i * nc + k] = exp(lnW[best * nc + k]);
-            sW += ws_out[(size_t)i * nc + k];
-        }
-        for (k = 0; k < nc; k++) ws_out[(size_t)i * nc + k] /= sW;
-        tm_out[i] = best_tm;
-        Z_out[i] = Zs[best];
+        size_t o = (size_t)i * nc;
+        tm_out[i] = stability_case(&e, T[i], P[i], zs + o, lnphis_z + o, K + o, cfg, early_exit,
+                                   ws_out + o, &Z_out[i], work);
     }
-    free(buf);
+    free(work);
     return 0;
 }
 
@@ -364,10 +379,10 @@ static double rr_negative(int nc, const double *z, const double *K, const double
         double f = 0.0, df = 0.0, pa, pb, H, dH, nw;
         int done, bad;
         for (k = 0; k < nc; k++) {
-            double den = 1.0 + beta * Km1[k];
-            double t = z[k] * Km1[k] / den;
+            double inv = 1.0 / (1.0 + beta * Km1[k]);
+            double t = z[k] * Km1[k] * inv;
             f += t;
-            df += t * Km1[k] / den;
+            df += t * Km1[k] * inv;
         }
         df = -df;
         if (f > 0.0) lo = beta;
@@ -437,6 +452,63 @@ static void gdem(int nc, const double *hist, double *lnK, const double *cfg, dou
     for (k = 0; k < nc; k++) lnK[k] += step[k];
 }
 
+/* Successive substitution of one case from K-values Ks; writes lnK. work: 14 nc */
+static void ss_case(const eos_t *e, double T, double P, const double *z, const double *Ks,
+                    const double *cfg, double *lnK, double *beta_out, int *conv_out,
+                    int *iters_out, double *resid_out, double *work)
+{
+    int nc = e->nc, max_iter = (int)cfg[TP_MAX_ITER], every = (int)cfg[TP_ACCEL_EVERY];
+    double *K = work, *Km1 = K + nc, *x = Km1 + nc, *y = x + nc, *lx = y + nc, *ly = lx + nc;
+    double *w3 = ly + nc, *hist = w3 + 3 * nc, *step = hist + 4 * nc;
+    double beta = NAN, resid = INFINITY;
+    int conv = 0, iters = 0, it, nh = 0, k;
+    for (k = 0; k < nc; k++) lnK[k] = (z[k] > 0.0) ? log(Ks[k]) : 0.0;
+    for (it = 0; it < max_iter && !conv; it++) {
+        double err = 0.0, b;
+        int nan_err = 0;
+        for (k = 0; k < nc; k++) {
+            K[k] = exp(lnK[k]);
+            Km1[k] = K[k] - 1.0;
+        }
+        b = rr_negative(nc, z, K, Km1, beta, cfg);
+        phase_compositions(nc, z, K, b, x, y);
+        lnphi_one(e, T, P, x, 0, lx, w3);
+        lnphi_one(e, T, P, y, 0, ly, w3);
+        for (k = 0; k < nc; k++) {
+            double nw = (z[k] > 0.0) ? lx[k] - ly[k] : 0.0;
+            double s = fabs(nw - lnK[k]);
+            if (isnan(s)) nan_err = 1;
+            else if (s > err) err = s;
+            lnK[k] = nw;
+        }
+        if (nan_err) err = NAN;
+        resid = err;
+        iters += 1;
+        beta = b;
+        conv = err < cfg[TP_TOL];
+        /* history of the last 4 iterates for the extrapolation */
+        if (nh == 4) {
+            memmove(hist, hist + nc, 3 * (size_t)nc * sizeof(double));
+            nh = 3;
+        }
+        memcpy(hist + (size_t)nh * nc, lnK, (size_t)nc * sizeof(double));
+        nh++;
+        if ((it + 1) % every == 0 && nh == 4) {
+            if (!conv) gdem(nc, hist, lnK, cfg, step);
+            nh = 0;
+        }
+        /* K collapsing onto 1 (trivial solution) is not a split */
+        if (absmax(nc, lnK) < cfg[TP_TRIVIAL_LNK]) {
+            conv = 1;
+            resid = INFINITY;
+        }
+    }
+    *beta_out = beta;
+    *conv_out = conv;
+    *iters_out = iters;
+    *resid_out = resid;
+}
+
 /* Successive substitution of flash.two_phase_flash for n cases from K-values Ks. Output: lnK
  * (n x nc), beta (last Rachford-Rice solution), conv, iters, resid. */
 LF_EXPORT int lf_two_phase_ss(int n, int nc, const double *par, const double *T, const double *P,
@@ -444,67 +516,15 @@ LF_EXPORT int lf_two_phase_ss(int n, int nc, const double *par, const double *T,
                               double *beta_out, int *conv_out, int *iters_out, double *resid_out)
 {
     eos_t e = eos_view(nc, par);
-    int max_iter = (int)cfg[TP_MAX_ITER], every = (int)cfg[TP_ACCEL_EVERY];
-    double *buf = malloc((size_t)(16 * nc) * sizeof(double));
-    double *K, *Km1, *x, *y, *lx, *ly, *work, *hist, *step;
-    int i, k;
-    if (!buf) return -1;
-    K = buf; Km1 = K + nc; x = Km1 + nc; y = x + nc; lx = y + nc; ly = lx + nc;
-    work = ly + nc;         /* 3 nc */
-    hist = work + 3 * nc;   /* 4 nc */
-    step = hist + 4 * nc;   /* nc */
+    double *work = malloc((size_t)(14 * nc) * sizeof(double));
+    int i;
+    if (!work) return -1;
     for (i = 0; i < n; i++) {
-        const double *z = zs + (size_t)i * nc;
-        double *lnK = lnK_out + (size_t)i * nc;
-        double beta = NAN, resid = INFINITY;
-        int conv = 0, iters = 0, it, nh = 0;
-        for (k = 0; k < nc; k++) lnK[k] = (z[k] > 0.0) ? log(Ks[(size_t)i * nc + k]) : 0.0;
-        for (it = 0; it < max_iter && !conv; it++) {
-            double err = 0.0, b;
-            int nan_err = 0;
-            for (k = 0; k < nc; k++) {
-                K[k] = exp(lnK[k]);
-                Km1[k] = K[k] - 1.0;
-            }
-            b = rr_negative(nc, z, K, Km1, beta, cfg);
-            phase_compositions(nc, z, K, b, x, y);
-            lnphi_one(&e, T[i], P[i], x, 0, lx, work);
-            lnphi_one(&e, T[i], P[i], y, 0, ly, work);
-            for (k = 0; k < nc; k++) {
-                double nw = (z[k] > 0.0) ? lx[k] - ly[k] : 0.0;
-                double s = fabs(nw - lnK[k]);
-                if (isnan(s)) nan_err = 1;
-                else if (s > err) err = s;
-                lnK[k] = nw;
-            }
-            if (nan_err) err = NAN;
-            resid = err;
-            iters += 1;
-            beta = b;
-            conv = err < cfg[TP_TOL];
-            /* history of the last 4 iterates for the extrapolation */
-            if (nh == 4) {
-                memmove(hist, hist + nc, 3 * (size_t)nc * sizeof(double));
-                nh = 3;
-            }
-            memcpy(hist + (size_t)nh * nc, lnK, (size_t)nc * sizeof(double));
-            nh++;
-            if ((it + 1) % every == 0 && nh == 4) {
-                if (!conv) gdem(nc, hist, lnK, cfg, step);
-                nh = 0;
-            }
-            /* K collapsing onto 1 (trivial solution) is not a split */
-            if (absmax(nc, lnK) < cfg[TP_TRIVIAL_LNK]) {
-                conv = 1;
-                resid = INFINITY;
-            }
-        }
-        beta_out[i] = beta;
-        conv_out[i] = conv;
-        iters_out[i] = iters;
-        resid_out[i] = resid;
+        size_t o = (size_t)i * nc;
+        ss_case(&e, T[i], P[i], zs + o, Ks + o, cfg, lnK_out + o, &beta_out[i], &conv_out[i],
+                &iters_out[i], &resid_out[i], work);
     }
-    free(buf);
+    free(work);
     return 0;
 }
 
@@ -539,62 +559,773 @@ LF_EXPORT int lf_split_finish(int n, int nc, const double *par, const double *T,
 }
 
 /* ---------------------------------------------------------------- properties */
+enum { PR_Z, PR_V, PR_HRES, PR_SRES, PR_CVRES, PR_DPDT, PR_DPDV, PR_GRES, PR_CSHIFT, PR_N };
+
+/* CubicEOS.properties of one phase into out[PR_N]; work: 5 nc */
+static void props_one(const eos_t *e, double Ti, double Pi, const double *x, int code, double *out,
+                      double *work)
+{
+    int nc = e->nc, j, k;
+    double *r = work, *rp = r + nc, *rpp = rp + nc, *S = rpp + nc, *Sp = S + nc;
+    double sT = sqrt(Ti);
+    double a = 0.0, b = 0.0, da = 0.0, d2a1 = 0.0, d2a2 = 0.0, d2a, cshift = 0.0;
+    double RT, A, B, Z, v, L, bdd, v1, v2;
+    for (k = 0; k < nc; k++) {
+        r[k] = e->sqrt_ac[k] * (1.0 + e->ms[k] * (1.0 - sT / e->sqrt_Tc[k]));
+        rp[k] = -e->sqrt_ac[k] * e->ms[k] / (2.0 * sT * e->sqrt_Tc[k]);
+        rpp[k] = e->sqrt_ac[k] * e->ms[k] / (4.0 * sT * sT * sT * e->sqrt_Tc[k]);
+        S[k] = 0.0;
+        Sp[k] = 0.0;
+    }
+    for (k = 0; k < nc; k++) {
+        const double *row = e->omk + (size_t)k * nc;
+        double xr = x[k] * r[k], xrp = x[k] * rp[k];
+        for (j = 0; j < nc; j++) {
+            S[j] += xr * row[j];
+            Sp[j] += xrp * row[j];
+        }
+    }
+    for (j = 0; j < nc; j++) {
+        a += x[j] * r[j] * S[j];
+        da += x[j] * rp[j] * S[j];
+        d2a1 += x[j] * rpp[j] * S[j];
+        d2a2 += x[j] * rp[j] * Sp[j];
+        b += x[j] * e->bs[j];
+        cshift += x[j] * e->cs[j];
+    }
+    da *= 2.0;
+    d2a = 2.0 * (d2a1 + d2a2);
+    RT = e->R * Ti;
+    A = a * Pi / (RT * RT);
+    B = b * Pi / RT;
+    Z = choose_root(e, A, B, code);
+    v = Z * RT / Pi;
+    L = log((Z + e->d1 * B) / (Z + e->d2 * B));
+    bdd = b * e->dd;
+    v1 = v + e->d1 * b;
+    v2 = v + e->d2 * b;
+    out[PR_Z] = Z;
+    out[PR_V] = v;
+    out[PR_HRES] = RT * (Z - 1.0) + (Ti * da - a) / bdd * L;
+    out[PR_SRES] = e->R * log(Z - B) + da / bdd * L;
+    out[PR_CVRES] = Ti * d2a / bdd * L;
+    out[PR_DPDT] = e->R / (v - b) - da / (v1 * v2);
+    out[PR_DPDV] = -RT / ((v - b) * (v - b)) + a * (2.0 * v + e->u * b) / ((v1 * v2) * (v1 * v2));
+    out[PR_GRES] = Z - 1.0 - log(Z - B) - A / (B * e->dd) * L;
+    out[PR_CSHIFT] = cshift;
+}
+
 /* CubicEOS.properties for n phases; out is 9 x n, rows Z, v, h_res, s_res, cv_res, dPdT, dPdv,
  * g_res_RT, c_shift. code may be NULL (lowest Gibbs energy). */
 LF_EXPORT int lf_properties(int n, int nc, const double *par, const double *T, const double *P,
                             const double *xs, const int *code, double *out)
 {
     eos_t e = eos_view(nc, par);
-    double *buf = malloc((size_t)(3 * nc) * sizeof(double));
-    double *r, *rp, *rpp;
-    int i, j, k;
-    if (!buf) return -1;
-    r = buf; rp = r + nc; rpp = rp + nc;
+    double *work = malloc((size_t)(5 * nc) * sizeof(double));
+    double row[PR_N];
+    int i, k;
+    if (!work) return -1;
     for (i = 0; i < n; i++) {
-        const double *x = xs + (size_t)i * nc;
-        double Ti = T[i], Pi = P[i], sT = sqrt(Ti);
-        double a = 0.0, b = 0.0, da = 0.0, d2a1 = 0.0, d2a2 = 0.0, d2a, cshift = 0.0;
-        double RT, A, B, Z, v, L, bdd, v1, v2;
-        for (k = 0; k < nc; k++) {
-            r[k] = e.sqrt_ac[k] * (1.0 + e.ms[k] * (1.0 - sT / e.sqrt_Tc[k]));
-            rp[k] = -e.sqrt_ac[k] * e.ms[k] / (2.0 * sT * e.sqrt_Tc[k]);
-            rpp[k] = e.sqrt_ac[k] * e.ms[k] / (4.0 * sT * sT * sT * e.sqrt_Tc[k]);
+        props_one(&e, T[i], P[i], xs + (size_t)i * nc, code ? code[i] : 0, row, work);
+        for (k = 0; k < PR_N; k++) out[(size_t)k * n + i] = row[k];
+    }
+    free(work);
+    return 0;
+}
+
+/* cubic.phase_identification of one phase on its lowest-Gibbs root; work: 3 nc */
+static double phase_id(const eos_t *e, double T, double P, const double *x, double *work)
+{
+    int nc = e->nc, j, k;
+    double *r = work, *rp = r + nc, *S = rp + nc;
+    double sT = sqrt(T), a = 0.0, b = 0.0, da = 0.0, RT, Z, v, D, dD, vb, P_v, P_vv, P_T, P_Tv;
+    for (k = 0; k < nc; k++) {
+        r[k] = e->sqrt_ac[k] * (1.0 + e->ms[k] * (1.0 - sT / e->sqrt_Tc[k]));
+        rp[k] = -e->sqrt_ac[k] * e->ms[k] / (2.0 * sT * e->sqrt_Tc[k]);
+        S[k] = 0.0;
+    }
+    for (k = 0; k < nc; k++) {
+        const double *row = e->omk + (size_t)k * nc;
+        double xr = x[k] * r[k];
+        for (j = 0; j < nc; j++) S[j] += xr * row[j];
+    }
+    for (j = 0; j < nc; j++) {
+        a += x[j] * r[j] * S[j];
+        da += x[j] * rp[j] * S[j];
+        b += x[j] * e->bs[j];
+    }
+    da *= 2.0;
+    RT = e->R * T;
+    Z = choose_root(e, a * P / (RT * RT), b * P / RT, 0);
+    v = Z * RT / P;
+    D = (v + e->d1 * b) * (v + e->d2 * b);
+    dD = 2.0 * v + e->u * b;
+    vb = v - b;
+    P_v = -RT / (vb * vb) + a * dD / (D * D);
+    P_vv = 2.0 * RT / (vb * vb * vb) + a * (2.0 / (D * D) - 2.0 * dD * dD / (D * D * D));
+    P_T = e->R / vb - da / D;
+    P_Tv = -e->R / (vb * vb) + da * dD / (D * D);
+    return v * (P_Tv / P_T - P_vv / P_v);
+}
+
+/* ---------------------------------------------------------------- the P-T flash (flash.flash_PT) */
+/* Constants of flash.py, in this order (native.py builds the block) */
+enum {
+    FP_LN_TOL, FP_TRIVIAL_DIST, FP_ST_MAX_ITER, FP_EARLY_TM, FP_SS_MAX_ITER, FP_ACCEL_EVERY,
+    FP_GDEM_MAX_LAMBDA, FP_GDEM_MAX_STEP, FP_GDEM_AGREE, FP_TRIVIAL_LNK, FP_RR_TOL, FP_RR_MAX_ITER,
+    FP_NEG_LO, FP_NEG_HI, FP_TM_UNSTABLE, FP_WILSON, FP_NEWTON_MAX_ITER, FP_NEWTON_FD_STEP,
+    FP_NEWTON_MAX_STEP, FP_GIBBS_REL, FP_K_MIN, FP_K_MAX, FP_PHASE_ID_LIQUID, FP_NCFG
+};
+
+/* flash.wilson_K for one case */
+static void wilson(const eos_t *e, const double *fc, double T, double P, double *K)
+{
+    int k;
+    for (k = 0; k < e->nc; k++)
+        K[k] = (e->Pcs[k] / P) * exp(fc[FP_WILSON] * (1.0 + e->omegas[k]) * (1.0 - e->Tcs[k] / T));
+}
+
+/* Gaussian elimination with partial pivoting, A (n x n, row major) x = rhs in place; 1 if a pivot
+ * is exactly zero (numpy's solve raises there). */
+static int solve_dense(int n, double *A, double *rhs)
+{
+    int i, j, k;
+    for (k = 0; k < n; k++) {
+        int p = k;
+        double best = fabs(A[k * n + k]);
+        for (i = k + 1; i < n; i++)
+            if (fabs(A[i * n + k]) > best) { best = fabs(A[i * n + k]); p = i; }
+        if (A[p * n + k] == 0.0) return 1;
+        if (p != k) {
+            double t;
+            for (j = 0; j < n; j++) { t = A[k * n + j]; A[k * n + j] = A[p * n + j]; A[p * n + j] = t; }
+            t = rhs[k]; rhs[k] = rhs[p]; rhs[p] = t;
+        }
+        for (i = k + 1; i < n; i++) {
+            double f = A[i * n + k] / A[k * n + k];
+            if (f == 0.0) continue;
+            for (j = k; j < n; j++) A[i * n + j] -= f * A[k * n + j];
+            rhs[i] -= f * rhs[k];
+        }
+    }
+    for (k = n - 1; k >= 0; k--) {
+        double s = rhs[k];
+        for (j = k + 1; j < n; j++) s -= A[k * n + j] * rhs[j];
+        rhs[k] = s / A[k * n + k];
+    }
+    return 0;
+}
+
+/* F(ln K) = ln K - (ln phi_L(x) - ln phi_V(y)) of flash._newton_lnK; work: 9 nc */
+static void newton_F(const eos_t *e, const double *tp, double T, double P, const double *z,
+                     const double *lk, double *F, double *work)
+{
+    int nc = e->nc, k;
+    double *K = work, *Km1 = K + nc, *x = Km1 + nc, *y = x + nc, *lx = y + nc, *ly = lx + nc;
+    double *w3 = ly + nc, b;
+    for (k = 0; k < nc; k++) {
+        K[k] = exp(lk[k]);
+        Km1[k] = K[k] - 1.0;
+    }
+    b = rr_negative(nc, z, K, Km1, NAN, tp);
+    phase_compositions(nc, z, K, b, x, y);
+    lnphi_one(e, T, P, x, 0, lx, w3);
+    lnphi_one(e, T, P, y, 0, ly, w3);
+    for (k = 0; k < nc; k++) F[k] = lk[k] - (lx[k] - ly[k]);
+}
+
+/* flash._newton_lnK for one case (forward-difference Jacobian); work: 13 nc + nc^2 */
+static void newton_case(const eos_t *e, const double *fc, const double *tp, double T, double P,
+                        const double *z, double *lnK, int *ok, double *res, int *nit, double *work)
+{
+    int nc = e->nc, it, i, j, max_iter = (int)fc[FP_NEWTON_MAX_ITER];
+    double h = fc[FP_NEWTON_FD_STEP], mx = fc[FP_NEWTON_MAX_STEP], tol = tp[TP_TOL];
+    double *F0 = work, *Fp = F0 + nc, *lp = Fp + nc, *dx = lp + nc, *J = dx + nc;
+    double *w9 = J + (size_t)nc * nc;
+    *ok = 0;
+    *res = INFINITY;
+    *nit = 0;
+    for (it = 0; it < max_iter; it++) {
+        newton_F(e, tp, T, P, z, lnK, F0, w9);
+        *res = absmax(nc, F0);
+        if (*res < tol) {
+            *ok = 1;
+            break;
         }
         for (j = 0; j < nc; j++) {
-            double S = 0.0, Sp = 0.0;
-            for (k = 0; k < nc; k++) {
-                S += x[k] * r[k] * e.omk[k * nc + j];
-                Sp += x[k] * rp[k] * e.omk[k * nc + j];
-            }
-            a += x[j] * r[j] * S;
-            da += x[j] * rp[j] * S;
-            d2a1 += x[j] * rpp[j] * S;
-            d2a2 += x[j] * rp[j] * Sp;
-            b += x[j] * e.bs[j];
-            cshift += x[j] * e.cs[j];
+            memcpy(lp, lnK, (size_t)nc * sizeof(double));
+            lp[j] += h;
+            newton_F(e, tp, T, P, z, lp, Fp, w9);
+            for (i = 0; i < nc; i++) J[i * nc + j] = (Fp[i] - F0[i]) / h;
         }
-        da *= 2.0;
-        d2a = 2.0 * (d2a1 + d2a2);
-        RT = e.R * Ti;
-        A = a * Pi / (RT * RT);
-        B = b * Pi / RT;
-        Z = choose_root(&e, A, B, code ? code[i] : 0);
-        v = Z * RT / Pi;
-        L = log((Z + e.d1 * B) / (Z + e.d2 * B));
-        bdd = b * e.dd;
-        v1 = v + e.d1 * b;
-        v2 = v + e.d2 * b;
-        out[i] = Z;
-        out[n + i] = v;
-        out[2 * (size_t)n + i] = RT * (Z - 1.0) + (Ti * da - a) / bdd * L;
-        out[3 * (size_t)n + i] = e.R * log(Z - B) + da / bdd * L;
-        out[4 * (size_t)n + i] = Ti * d2a / bdd * L;
-        out[5 * (size_t)n + i] = e.R / (v - b) - da / (v1 * v2);
-        out[6 * (size_t)n + i] = -RT / ((v - b) * (v - b)) + a * (2.0 * v + e.u * b) / ((v1 * v2) * (v1 * v2));
-        out[7 * (size_t)n + i] = Z - 1.0 - log(Z - B) - A / (B * e.dd) * L;
-        out[8 * (size_t)n + i] = cshift;
+        for (i = 0; i < nc; i++) dx[i] = -F0[i];
+        if (solve_dense(nc, J, dx)) break;
+        for (i = 0; i < nc; i++) {
+            double d = dx[i];
+            if (d > mx) d = mx;
+            else if (d < -mx) d = -mx;
+            lnK[i] += d;
+        }
+        *nit += 1;
     }
-    free(buf);
+}
+
+/* flash.two_phase_flash for one case: substitution, Newton finish, final split, phases named by
+ * molar volume. work: 17 nc + nc^2 */
+static void two_phase_case(const eos_t *e, const double *fc, double T, double P, const double *z,
+                           const double *K0, double tol, double *beta, double *x, double *y,
+                           int *conv, int *iters, double *resid, double *work)
+{
+    int nc = e->nc, k, cv, it;
+    double tp[TP_NCFG], b, res, Zx, Zy;
+    double *lnK = work, *rest = work + nc;
+    tp[TP_TOL] = tol;
+    tp[TP_MAX_ITER] = fc[FP_SS_MAX_ITER];
+    tp[TP_ACCEL_EVERY] = fc[FP_ACCEL_EVERY];
+    tp[TP_GDEM_MAX_LAMBDA] = fc[FP_GDEM_MAX_LAMBDA];
+    tp[TP_GDEM_MAX_STEP] = fc[FP_GDEM_MAX_STEP];
+    tp[TP_GDEM_AGREE] = fc[FP_GDEM_AGREE];
+    tp[TP_TRIVIAL_LNK] = fc[FP_TRIVIAL_LNK];
+    tp[TP_RR_TOL] = fc[FP_RR_TOL];
+    tp[TP_RR_MAX_ITER] = fc[FP_RR_MAX_ITER];
+    tp[TP_NEG_LO] = fc[FP_NEG_LO];
+    tp[TP_NEG_HI] = fc[FP_NEG_HI];
+    ss_case(e, T, P, z, K0, tp, lnK, &b, &cv, &it, &res, rest);
+    if ((!cv || !isfinite(res)) && absmax(nc, lnK) >= tp[TP_TRIVIAL_LNK]) {
+        int ok, nit;
+        double r2;
+        newton_case(e, fc, tp, T, P, z, lnK, &ok, &r2, &nit, rest);
+        cv = ok;
+        res = r2;
+        it += nit;
+    }
+    {
+        double *K = rest, *Km1 = rest + nc, *w3 = rest + 2 * nc;
+        for (k = 0; k < nc; k++) {
+            K[k] = exp(lnK[k]);
+            Km1[k] = K[k] - 1.0;
+        }
+        b = rr_negative(nc, z, K, Km1, NAN, tp);
+        phase_compositions(nc, z, K, b, x, y);
+        if (absmax(nc, lnK) < tp[TP_TRIVIAL_LNK]) cv = 0;
+        Zx = z_one(e, T, P, x, 0, w3);
+        Zy = z_one(e, T, P, y, 0, w3);
+    }
+    if (Zy < Zx) {
+        for (k = 0; k < nc; k++) {
+            double t = x[k];
+            x[k] = y[k];
+            y[k] = t;
+        }
+        b = 1.0 - b;
+    }
+    *beta = b;
+    *conv = cv;
+    *iters = it;
+    *resid = res;
+}
+
+/* sum_i x_i (ln x_i + ln phi_i(x)) on the lowest-Gibbs root; work 4 nc */
+static double g_mix(const eos_t *e, double T, double P, const double *x, double *work)
+{
+    int k;
+    double g = 0.0, *lp = work;
+    lnphi_one(e, T, P, x, 0, lp, work + e->nc);
+    for (k = 0; k < e->nc; k++)
+        if (x[k] > 0.0) g += x[k] * (log(x[k]) + lp[k]);
+    return g;
+}
+
+typedef struct {
+    double beta, resid;
+    int nph, conv, iters;
+} pt_t;
+
+/* split() of flash.flash_PT for one case: converge from K (work copy), accept by the Gibbs energy,
+ * store into x, y, r. work: 20 nc + nc^2 */
+static void split_case(const eos_t *e, const double *fc, double T, double P, const double *z,
+                       const double *Kin, double tol, double *x, double *y, pt_t *r, int *ok_out,
+                       int *failed_out, double *work)
+{
+    int nc = e->nc, k, bad = 0, conv, iters, ok;
+    double *K = work, *xt = K + nc, *yt = xt + nc, *rest = yt + nc, beta, resid, big;
+    for (k = 0; k < nc; k++) {
+        K[k] = (z[k] > 0.0) ? Kin[k] : 1.0;
+        if (!(isfinite(K[k]) && K[k] > 0.0)) bad = 1;
+    }
+    if (bad) wilson(e, fc, T, P, K);
+    for (k = 0; k < nc; k++) {
+        if (K[k] < fc[FP_K_MIN]) K[k] = fc[FP_K_MIN];
+        else if (K[k] > fc[FP_K_MAX]) K[k] = fc[FP_K_MAX];
+    }
+    two_phase_case(e, fc, T, P, z, K, tol, &beta, xt, yt, &conv, &iters, &resid, rest);
+    ok = conv && (beta > 0.0) && (beta < 1.0);
+    if (ok) {
+        /* accept a split only when it lowers the Gibbs energy */
+        double gL = g_mix(e, T, P, xt, rest), gV = g_mix(e, T, P, yt, rest);
+        double g_split = beta * gV + (1.0 - beta) * gL;
+        double g_single = g_mix(e, T, P, z, rest);
+        ok = g_split < g_single + fc[FP_GIBBS_REL] * fabs(g_single);
+    }
+    if (ok) {
+        r->beta = beta;
+        memcpy(x, xt, (size_t)nc * sizeof(double));
+        memcpy(y, yt, (size_t)nc * sizeof(double));
+        r->nph = 2;
+    }
+    r->iters += iters;
+    r->resid = ok ? resid : 0.0;
+    /* the iterations failed unless K collapsed onto 1 */
+    for (k = 0; k < nc; k++) {
+        double q = yt[k] / xt[k];
+        if (q < fc[FP_K_MIN]) q = fc[FP_K_MIN];
+        else if (q > fc[FP_K_MAX]) q = fc[FP_K_MAX];
+        K[k] = log(q);
+    }
+    big = absmax(nc, K);
+    *failed_out = !conv && !(big < fc[FP_TRIVIAL_LNK]);
+    *ok_out = ok;
+}
+
+#define PT_WORK(nc) (40 * (size_t)(nc) + (size_t)(nc) * (nc))
+
+/* flash.flash_PT for one case (mixtures; a pure component is left with x = y = z, one phase,
+ * beta NaN, for the caller to name). Kin may be NULL. work: PT_WORK(nc) */
+static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, const double *z,
+                          const double *Kin, int assume, double tol, double *x, double *y, pt_t *r,
+                          double *work)
+{
+    int nc = e->nc, k, npres = 0, test, ok, failed;
+    memcpy(x, z, (size_t)nc * sizeof(double));
+    memcpy(y, z, (size_t)nc * sizeof(double));
+    r->nph = 1;
+    r->conv = 1;
+    r->iters = 0;
+    r->resid = 0.0;
+    for (k = 0; k < nc; k++) npres += z[k] > 0.0;
+    if (npres == 1) {
+        r->beta = NAN;
+        return;
+    }
+    r->beta = (phase_id(e, T, P, z, work) <= fc[FP_PHASE_ID_LIQUID]) ? 1.0 : 0.0;
+    test = (assume == 0);
+    if (assume == 2) {
+        if (Kin) {
+            split_case(e, fc, T, P, z, Kin, tol, x, y, r, &ok, &failed, work);
+            /* a warm start that does not give a split proves nothing: test stability */
+            if (!ok) test = 1;
+        } else {
+            test = 1;
+        }
+    }
+    if (test) {
+        double st[ST_NCFG], Zz, Zw, tm;
+        double *lz = work, *Kw = lz + nc, *wt = Kw + nc, *K = wt + nc, *rest = K + nc;
+        st[ST_LN_TOL] = fc[FP_LN_TOL];
+        st[ST_TRIVIAL_DIST] = fc[FP_TRIVIAL_DIST];
+        st[ST_MAX_ITER] = fc[FP_ST_MAX_ITER];
+        st[ST_EARLY_TM] = fc[FP_EARLY_TM];
+        Zz = lnphi_one(e, T, P, z, 0, lz, rest);
+        wilson(e, fc, T, P, Kw);
+        tm = stability_case(e, T, P, z, lz, Kw, st, 0, wt, &Zw, rest);
+        if (tm < fc[FP_TM_UNSTABLE]) {
+            int vap = Zw > Zz;
+            for (k = 0; k < nc; k++) {
+                if (vap) K[k] = (z[k] > 0.0) ? wt[k] / z[k] : 1.0;
+                else K[k] = (wt[k] > 0.0) ? z[k] / wt[k] : 1.0;
+            }
+            split_case(e, fc, T, P, z, K, tol, x, y, r, &ok, &failed, rest);
+            /* stability proved a second phase but the split did not converge: say so */
+            if (failed && !ok) r->conv = 0;
+        }
+    }
+}
+
+/* flash.flash_PT over n cases; Kin (n x nc) and assume (n) may be NULL; tol per case. */
+LF_EXPORT int lf_flash_pt(int n, int nc, const double *par, const double *fc, const double *T,
+                          const double *P, const double *zs, const double *Kin, const int *assume,
+                          const double *tol, double *beta, double *xs, double *ys, int *nph,
+                          int *conv, int *iters, double *resid)
+{
+    eos_t e = eos_view(nc, par);
+    double *work = malloc(PT_WORK(nc) * sizeof(double));
+    int i;
+    if (!work) return -1;
+    for (i = 0; i < n; i++) {
+        size_t o = (size_t)i * nc;
+        pt_t r;
+        flash_pt_case(&e, fc, T[i], P[i], zs + o, Kin ? Kin + o : NULL, assume ? assume[i] : 0,
+                      tol[i], xs + o, ys + o, &r, work);
+        beta[i] = r.beta;
+        nph[i] = r.nph;
+        conv[i] = r.conv;
+        iters[i] = r.iters;
+        resid[i] = r.resid;
+    }
+    free(work);
+    return 0;
+}
+
+/* ---------------------------------------------------------------- ideal gas (components.py) */
+/* Block ig: [0] P_REF [Pa], [1..7] unused, then C1, C2, C3, C4, C5 (Aly-Lee), a0..a4 (cp/R
+ * polynomial), H(T_REF), S(T_REF), M (nc each). */
+#define IG_HEADER 8
+typedef struct {
+    double Pref;
+    const double *C1, *C2, *C3, *C4, *C5, *a0, *a1, *a2, *a3, *a4, *Href, *Sref, *Ms;
+} ig_t;
+
+static ig_t ig_view(int nc, const double *g)
+{
+    ig_t v;
+    const double *p = g + IG_HEADER;
+    v.Pref = g[0];
+    v.C1 = p; v.C2 = p + nc; v.C3 = p + 2 * nc; v.C4 = p + 3 * nc; v.C5 = p + 4 * nc;
+    v.a0 = p + 5 * nc; v.a1 = p + 6 * nc; v.a2 = p + 7 * nc; v.a3 = p + 8 * nc; v.a4 = p + 9 * nc;
+    v.Href = p + 10 * nc; v.Sref = p + 11 * nc; v.Ms = p + 12 * nc;
+    return v;
+}
+
+/* ComponentSet.h0, s0, cp0 of every component at T (any output may be NULL). The hyperbolic
+ * functions of x = C3/T and y = C5/T come from one exponential each (x, y > 0); a term whose
+ * coefficient is zero is skipped (numpy multiplies it by zero). Above 20, ln sinh and ln cosh are
+ * x - ln 2 to double precision, as in components._log_sinh. */
+static void hyperbolic(double x, int is_sinh, double *th, double *q, double *lnf)
+{
+    /* tanh x, x / sinh x (or x / cosh x) and ln sinh x (or ln cosh x) for x > 0 */
+    if (x > 20.0) {
+        *th = 1.0;
+        *q = 2.0 * x * exp(-x);
+        *lnf = x - log(2.0);
+    } else {
+        double ex = exp(x), emx = 1.0 / ex, f = 0.5 * (is_sinh ? ex - emx : ex + emx);
+        *th = (ex - emx) / (ex + emx);
+        *q = x / f;
+        *lnf = log(f);
+    }
+}
+
+static void ideal_gas(const ig_t *g, int nc, double R, double T, double *h0, double *s0,
+                      double *cp0)
+{
+    int k;
+    double lnT = log(T);
+    for (k = 0; k < nc; k++) {
+        double cp = g->C1[k], H = g->C1[k] * T, S = g->C1[k] * lnT;
+        if (g->C2[k] != 0.0) {
+            double x = g->C3[k] / T, th, q, lsh;
+            hyperbolic(x, 1, &th, &q, &lsh);
+            cp += g->C2[k] * q * q;
+            H += g->C2[k] * g->C3[k] / th;
+            S += g->C2[k] * (x / th - lsh);
+        }
+        if (g->C4[k] != 0.0) {
+            double y = g->C5[k] / T, th, q, lch;
+            hyperbolic(y, 0, &th, &q, &lch);
+            cp += g->C4[k] * q * q;
+            H -= g->C4[k] * g->C5[k] * th;
+            S -= g->C4[k] * (y * th - lch);
+        }
+        if (cp0)
+            cp0[k] = cp + R * (g->a0[k] + T * (g->a1[k] + T * (g->a2[k] + T * (g->a3[k]
+                                                                           + T * g->a4[k]))));
+        if (h0) {
+            H += R * T * (g->a0[k] + T * (g->a1[k] / 2 + T * (g->a2[k] / 3 + T * (g->a3[k] / 4
+                                                                               + T * g->a4[k] / 5))));
+            h0[k] = H - g->Href[k];
+        }
+        if (s0) {
+            S += R * (g->a0[k] * lnT + T * (g->a1[k] + T * (g->a2[k] / 2 + T * (g->a3[k] / 3
+                                                                             + T * g->a4[k] / 4))));
+            s0[k] = S - g->Sref[k];
+        }
+    }
+}
+
+static double mix_entropy_sum(int nc, const double *x)
+{
+    double m = 0.0;
+    int k;
+    for (k = 0; k < nc; k++)
+        if (x[k] > 0.0) m += x[k] * log(x[k]);
+    return m;
+}
+
+/* h, s and cp of one phase (CubicEngine._hs_of_split's hs and cp); work 5 nc; h0, s0, cp0 given
+ * (s0 may be NULL: s is then not computed; cp0 NULL: cp not computed) */
+static void hs_phase(const eos_t *e, const ig_t *g, double T, double P, const double *x,
+                     const double *h0, const double *s0, const double *cp0, double *h, double *s,
+                     double *cp, double *work)
+{
+    int nc = e->nc, k;
+    double p[PR_N], sh = 0.0, ss = 0.0, sc = 0.0, dvdT;
+    props_one(e, T, P, x, 0, p, work);
+    for (k = 0; k < nc; k++) {
+        sh += x[k] * h0[k];
+        if (s0) ss += x[k] * s0[k];
+        if (cp0) sc += x[k] * cp0[k];
+    }
+    *h = sh + p[PR_HRES];
+    if (s0) *s = ss - e->R * log(P / g->Pref) - e->R * mix_entropy_sum(nc, x) + p[PR_SRES];
+    if (cp) {
+        dvdT = -p[PR_DPDT] / p[PR_DPDV];
+        *cp = sc - e->R + p[PR_CVRES] + T * p[PR_DPDT] * dvdT;
+    }
+}
+
+/* CubicEngine._hs_of_split for one case (with_s 0: s is not computed, left NaN); work 8 nc */
+static void hs_of_split_case(const eos_t *e, const ig_t *g, double T, double P, const double *z,
+                             int nph, double beta, const double *x, const double *y, int with_s,
+                             double *h, double *s, double *cp, double *work)
+{
+    int nc = e->nc, two = nph == 2;
+    double *h0 = work, *s0 = with_s ? work + nc : NULL, *cp0 = work + 2 * nc, *w5 = work + 3 * nc;
+    double hA, sA = NAN, cpA;
+    ideal_gas(g, nc, e->R, T, h0, s0, cp0);
+    hs_phase(e, g, T, P, two ? y : z, h0, s0, cp0, &hA, &sA, &cpA, w5);
+    if (two) {
+        double hL, sL = NAN;
+        hs_phase(e, g, T, P, x, h0, s0, NULL, &hL, &sL, NULL, w5);
+        *h = beta * hA + (1.0 - beta) * hL;
+        *s = beta * sA + (1.0 - beta) * sL;
+        *cp = NAN;
+    } else {
+        *h = hA;
+        *s = sA;
+        *cp = cpA;
+    }
+}
+
+/* CubicEngine._hs_of_split over n cases */
+LF_EXPORT int lf_hs_of_split(int n, int nc, const double *par, const double *ig, const double *T,
+                             const double *P, const double *zs, const int *nph,
+                             const double *beta, const double *xs, const double *ys, double *h,
+                             double *s, double *cp)
+{
+    eos_t e = eos_view(nc, par);
+    ig_t g = ig_view(nc, ig);
+    double *work = malloc((size_t)(8 * nc) * sizeof(double));
+    int i;
+    if (!work) return -1;
+    for (i = 0; i < n; i++) {
+        size_t o = (size_t)i * nc;
+        hs_of_split_case(&e, &g, T[i], P[i], zs + o, nph[i], beta[i], xs + o, ys + o, 1, &h[i],
+                         &s[i], &cp[i], work);
+    }
+    free(work);
+    return 0;
+}
+
+/* CubicEngine._phase over n phases: out is 10 x n, rows h, s, cp, cv, jt, w, v, Z, density,
+ * molar_mass; code may be NULL; vshift: report volumes with the Peneloux shift. */
+LF_EXPORT int lf_phase(int n, int nc, const double *par, const double *ig, const double *T,
+                       const double *P, const double *xs, const int *code, int vshift,
+                       double *out)
+{
+    eos_t e = eos_view(nc, par);
+    ig_t g = ig_view(nc, ig);
+    double *work = malloc((size_t)(8 * nc) * sizeof(double));
+    double *h0 = work, *s0 = work + nc, *cp0 = work + 2 * nc, *w3 = work + 3 * nc;
+    int i, k;
+    if (!work) return -1;
+    for (i = 0; i < n; i++) {
+        const double *x = xs + (size_t)i * nc;
+        double p[PR_N], Ti = T[i], Pi = P[i], sh = 0.0, ss = 0.0, sc = 0.0, M = 0.0;
+        double h, s, cv, cp, dvdT, v, jt, w, vr;
+        ideal_gas(&g, nc, e.R, Ti, h0, s0, cp0);
+        props_one(&e, Ti, Pi, x, code ? code[i] : 0, p, w3);
+        for (k = 0; k < nc; k++) {
+            sh += x[k] * h0[k];
+            ss += x[k] * s0[k];
+            sc += x[k] * cp0[k];
+            M += x[k] * g.Ms[k];
+        }
+        h = sh + p[PR_HRES];
+        s = ss - e.R * log(Pi / g.Pref) - e.R * mix_entropy_sum(nc, x) + p[PR_SRES];
+        cv = sc - e.R + p[PR_CVRES];
+        dvdT = -p[PR_DPDT] / p[PR_DPDV];
+        cp = cv + Ti * p[PR_DPDT] * dvdT;
+        v = p[PR_V];
+        jt = (Ti * dvdT - v) / cp;
+        w = sqrt(-v * v * (cp / cv) * p[PR_DPDV] / M);
+        vr = vshift ? v - p[PR_CSHIFT] : v;
+        out[i] = h;
+        out[(size_t)n + i] = s;
+        out[2 * (size_t)n + i] = cp;
+        out[3 * (size_t)n + i] = cv;
+        out[4 * (size_t)n + i] = jt;
+        out[5 * (size_t)n + i] = w;
+        out[6 * (size_t)n + i] = vr;
+        out[7 * (size_t)n + i] = Pi * vr / (e.R * Ti);
+        out[8 * (size_t)n + i] = M / vr;
+        out[9 * (size_t)n + i] = M;
+    }
+    free(work);
+    return 0;
+}
+
+/* ---------------------------------------------------------------- P-h / P-s (cubic_fluid.py) */
+/* Constants of cubic_fluid.py and flash.py, in this order (native.py builds the block) */
+enum {
+    SV_MAX_ITER, SV_TRUST_ITERATIONS, SV_LOOSE_TOL, SV_LOOSE_UNTIL_STEP, SV_RESIDUAL_K, SV_TOL_T,
+    SV_T_LOW, SV_T_HIGH, SV_FD_STEP, SV_F_TINY_REL, SV_SLOPE_FALLBACK, SV_BRACKET_GROW,
+    SV_BRACKET_SHRINK, SV_IG_T_START, SV_IG_STEPS, SV_IG_T_MARGIN, SV_NCFG
+};
+
+/* CubicEngine._initial_T for one case */
+static double initial_T(const eos_t *e, const ig_t *g, const double *sv, double P, double target,
+                        const double *z, int is_s, double *work)
+{
+    int nc = e->nc, it, k, steps = (int)sv[SV_IG_STEPS];
+    double T = sv[SV_IG_T_START], mix = mix_entropy_sum(nc, z);
+    double *h0 = work, *s0 = work + nc, *cp0 = work + 2 * nc;
+    double Tmin = sv[SV_T_LOW] + sv[SV_IG_T_MARGIN], Tmax = sv[SV_T_HIGH] - sv[SV_IG_T_MARGIN];
+    for (it = 0; it < steps; it++) {
+        double c = 0.0, f = 0.0;
+        ideal_gas(g, nc, e->R, T, is_s ? NULL : h0, is_s ? s0 : NULL, cp0);
+        for (k = 0; k < nc; k++) c += z[k] * cp0[k];
+        if (!is_s) {
+            for (k = 0; k < nc; k++) f += z[k] * h0[k];
+            f -= target;
+            T = T - f / c;
+        } else {
+            double s = 0.0;
+            for (k = 0; k < nc; k++) s += z[k] * s0[k];
+            s = s - e->R * log(P / g->Pref) - e->R * mix;
+            T = T - (s - target) * T / c;
+        }
+        if (T < Tmin) T = Tmin;
+        else if (T > Tmax) T = Tmax;
+    }
+    return T;
+}
+
+/* cubic_fluid._bisect */
+static double bisect_T(const double *sv, double lo, double hi, double T)
+{
+    int open_lo = lo <= sv[SV_T_LOW], open_hi = hi >= sv[SV_T_HIGH];
+    double mid = 0.5 * (lo + hi);
+    if (open_hi && !open_lo) {
+        double a = T * sv[SV_BRACKET_GROW], b = 0.5 * (T + hi);
+        mid = a < b ? a : b;
+    }
+    if (open_lo && !open_hi) {
+        double a = T * sv[SV_BRACKET_SHRINK], b = 0.5 * (T + lo);
+        mid = a > b ? a : b;
+    }
+    return mid;
+}
+
+/* CubicEngine._solve_T_mixture for one case (see its docstring for the strategy).
+ * work: 3 nc + PT_WORK(nc) */
+static void solve_T_case(const eos_t *e, const ig_t *g, const double *fc, const double *sv,
+                         double P, double target, const double *z, int is_s, int has_guess,
+                         double Tg, double *T_out, int *ok_out, double *beta_out, double *x,
+                         double *y, int *nph_out, double *work)
+{
+    int nc = e->nc, k, it, max_iter = (int)sv[SV_MAX_ITER], trust_it = (int)sv[SV_TRUST_ITERATIONS];
+    double *K = work, *x2 = K + nc, *y2 = x2 + nc, *rest = y2 + nc;
+    double T, lo = sv[SV_T_LOW], hi = sv[SV_T_HIGH], prev_T = NAN, prev_f = NAN, beta = 1.0;
+    int assume = 0, trust = 1, loose = 1, verified = 0, conv = 0, failed = 0, nph = 1;
+    T = has_guess ? Tg : initial_T(e, g, sv, P, target, z, is_s, rest);
+    for (k = 0; k < nc; k++) K[k] = 1.0;
+    memcpy(x, z, (size_t)nc * sizeof(double));
+    memcpy(y, z, (size_t)nc * sizeof(double));
+    for (it = 0; it < max_iter && !verified; it++) {
+        int check = conv, a = check ? 0 : assume, two, flipped, restart = 0, small_f, done, near;
+        double h, s, cp, f, slope, secant, Tn, scale, slope_abs, dTa;
+        pt_t r;
+        flash_pt_case(e, fc, T, P, z, K, a, loose ? sv[SV_LOOSE_TOL] : fc[FP_LN_TOL], x, y, &r,
+                      rest);
+        two = r.nph == 2;
+        beta = r.beta;
+        nph = r.nph;
+        if (two)
+            for (k = 0; k < nc; k++) K[k] = (x[k] > 0.0 && y[k] > 0.0) ? y[k] / x[k] : 1.0;
+        flipped = check && two && (assume != 2);
+        verified = check && !flipped;
+        if (flipped) {
+            /* the trusted single phase was metastable: restart the bracket, test every iterate */
+            lo = sv[SV_T_LOW];
+            hi = sv[SV_T_HIGH];
+            prev_T = prev_f = NAN;
+            trust = 0;
+            conv = 0;
+        }
+        if (it == trust_it) {
+            restart = trust && !conv && (a == 1);
+            if (restart) {
+                lo = sv[SV_T_LOW];
+                hi = sv[SV_T_HIGH];
+                prev_T = prev_f = NAN;
+                trust = 0;
+            }
+        }
+        assume = two ? 2 : (trust ? 1 : 0);
+        if (verified) break;
+        hs_of_split_case(e, g, T, P, z, nph, beta, x, y, is_s, &h, &s, &cp, rest);
+        f = (is_s ? s : h) - target;
+        /* an iterate that may be metastable says nothing about the bracket */
+        if (!restart) {
+            if (f < 0.0) lo = T;
+            if (f > 0.0) hi = T;
+        }
+        slope = is_s ? cp / T : cp;
+        secant = (f - prev_f) / (T - prev_T);
+        if (two && !(isfinite(secant) && secant > 0.0)) {
+            double dT = sv[SV_FD_STEP], h2, s2, cp2;
+            pt_t r2;
+            flash_pt_case(e, fc, T + dT, P, z, K, 2, sv[SV_LOOSE_TOL], x2, y2, &r2, rest);
+            hs_of_split_case(e, g, T + dT, P, z, r2.nph, r2.beta, x2, y2, is_s, &h2, &s2, &cp2,
+                             rest);
+            secant = ((is_s ? s2 : h2) - target - f) / dT;
+        }
+        if (two) slope = secant;
+        Tn = T - f / slope;
+        if (!isfinite(Tn) || Tn <= lo || Tn >= hi) Tn = bisect_T(sv, lo, hi, T);
+        scale = (isfinite(cp) && cp > 0.0) ? cp : sv[SV_SLOPE_FALLBACK];
+        if (is_s) scale = scale / T;
+        /* the residual must vanish too: a bracket closing on a jump of h(T) is a failure */
+        slope_abs = (isfinite(slope) && slope > 0.0) ? slope : scale;
+        small_f = fabs(f) <= sv[SV_RESIDUAL_K] * slope_abs;
+        dTa = fabs(Tn - T);
+        if (dTa < sv[SV_TOL_T] && !small_f && !restart) failed = 1;
+        done = ((dTa < sv[SV_TOL_T] && small_f) || fabs(f) < sv[SV_F_TINY_REL] * scale) && !restart;
+        /* a loosely converged split cannot end the iteration: near the answer, tighten it */
+        near = (dTa < sv[SV_LOOSE_UNTIL_STEP]) && loose && two;
+        if (near) loose = 0;
+        done = done && !(near || (loose && two));
+        if (restart) Tn = T;
+        prev_T = restart ? NAN : T;
+        prev_f = restart ? NAN : f;
+        if (!done) T = Tn;
+        conv = done;
+        verified = done && (assume == 2 || !trust);
+        if (failed) verified = 1;
+    }
+    *T_out = T;
+    *ok_out = verified && !failed;
+    *beta_out = beta;
+    *nph_out = nph;
+}
+
+/* CubicEngine._solve_T_mixture over n mixtures; Tg may be NULL (ideal-gas start). */
+LF_EXPORT int lf_solve_T(int n, int nc, const double *par, const double *ig, const double *fc,
+                         const double *sv, const double *P, const double *target,
+                         const double *zs, int is_s, const double *Tg, double *T, int *ok,
+                         double *beta, double *xs, double *ys, int *nph)
+{
+    eos_t e = eos_view(nc, par);
+    ig_t g = ig_view(nc, ig);
+    double *work = malloc((3 * (size_t)nc + PT_WORK(nc)) * sizeof(double));
+    int i;
+    if (!work) return -1;
+    for (i = 0; i < n; i++) {
+        size_t o = (size_t)i * nc;
+        solve_T_case(&e, &g, fc, sv, P[i], target[i], zs + o, is_s, Tg != NULL,
+                     Tg ? Tg[i] : 0.0, &T[i], &ok[i], &beta[i], xs + o, ys + o, &nph[i], work);
+    }
+    free(work);
     return 0;
 }
 

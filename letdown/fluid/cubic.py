@@ -42,6 +42,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from . import native
 from .components import R, ComponentSet
 
 SQRT2 = np.sqrt(2.0)
@@ -228,6 +229,9 @@ class CubicEOS:
         lnphis : ndarray (n, nc) [-]
         Z : ndarray (n,) [-]
         """
+        if native.AVAILABLE:
+            # the same formulae in compiled code (letdown/fluid/_flashkernels.c)
+            return native.lnphi(self, T, P, xs, phase)
         a, b, psi = self.mix(T, xs)
         RT = R * T
         A = a * P / (RT * RT)
@@ -249,6 +253,8 @@ class CubicEOS:
         cv_res [J/(mol K)], dPdT [Pa/K] (at constant v), dPdv [Pa mol/m3] (at constant T),
         g_res_RT [-], c_shift [m3/mol] (Peneloux shift of this composition).
         """
+        if native.AVAILABLE:
+            return native.properties(self, T, P, xs, phase)
         a, b, psi, da, d2a = self.mix(T, xs, derivatives=True)
         RT = R * T
         A = a * P / (RT * RT)

@@ -8,6 +8,7 @@ from __future__ import annotations
 import numpy as np
 
 from . import flash as fl
+from . import native
 from .components import P_REF, R, ComponentSet
 from .cubic import CubicEOS
 from .state import States
@@ -33,6 +34,31 @@ LOOSE_UNTIL_STEP = 0.05
 #: at the local slope; a bracket that closes with a larger residual marks the case unconverged.
 PH_RESIDUAL_K = 1e-6
 SAT_BISECTIONS = 48
+#: Temperature step of the forward difference that gives the slope on a first two-phase P-h
+#: iterate [K].
+PH_FD_STEP = 1e-3
+#: A P-h (P-s) residual below this fraction of the slope scale ends the iteration at once.
+PH_F_TINY_REL = 1e-11
+#: Slope scale where there is no single-phase cp (two phases) [J/(mol K)].
+PH_SLOPE_FALLBACK = 100.0
+#: Bracket still open on one side: step the temperature by these factors (at most half-way).
+BRACKET_GROW = 1.2
+BRACKET_SHRINK = 0.8
+#: Ideal-gas starting temperature: Newton steps from IDEAL_T_START [K], kept IDEAL_T_MARGIN [K]
+#: inside the P-h bracket.
+IDEAL_T_START = 300.0
+IDEAL_T_STEPS = 8
+IDEAL_T_MARGIN = 1.0
+
+
+def native_solve_constants():
+    """The constants of the P-h / P-s iteration, for the compiled version (one source of truth)."""
+    return dict(max_iter=fl.PH_MAX_ITER, trust_iterations=TRUST_ITERATIONS, loose_tol=LOOSE_TOL,
+                loose_until_step=LOOSE_UNTIL_STEP, residual_K=PH_RESIDUAL_K, tol_T=fl.PH_TOL_T,
+                T_low=fl.T_LOW, T_high=fl.T_HIGH, fd_step_T=PH_FD_STEP, f_tiny_rel=PH_F_TINY_REL,
+                slope_fallback=PH_SLOPE_FALLBACK, bracket_grow=BRACKET_GROW,
+                bracket_shrink=BRACKET_SHRINK, ideal_T_start=IDEAL_T_START,
+                ideal_T_steps=IDEAL_T_STEPS, ideal_T_margin=IDEAL_T_MARGIN)
 
 
 class CubicEngine:
@@ -55,6 +81,8 @@ class CubicEngine:
     # ----------------------------------------------------------------- phase properties
     def _phase(self, T, P, xs, code):
         """All properties of phases with compositions xs, root code (+1 V, -1 L, 0 stable)."""
+        if native.AVAILABLE:
+            return native.phase(self.eos, T, P, xs, code, self.volume_shift)
         c = self.comps
         p = self.eos.properties(T, P, xs, code)
         h0 = np.einsum("ij,ij->i", xs, c.h0(T))
@@ -136,6 +164,8 @@ class CubicEngine:
 
     def _hs_of_split(self, T, P, zs, sp):
         """Enthalpy [J/mol], entropy [J/(mol K)] and single-phase cp (NaN for two phases)."""
+        if native.AVAILABLE:
+            return native.hs_of_split(self.eos, T, P, zs, sp.n_phases, sp.beta, sp.xs, sp.ys)
         c = self.comps
         two = sp.n_phases == 2
         xa = np.where(two[:, None], sp.ys, zs)
@@ -264,6 +294,15 @@ class CubicEngine:
         """
         n = P.shape[0]
         eos = self.eos
+        if native.AVAILABLE:
+            # the same iteration, case by case, in compiled code (letdown/fluid/_flashkernels.c)
+            Tg = None if T_guess is None else T_guess.astype(float)
+            T, ok, beta, xs, ys, nph = native.solve_T(eos, P, target, zs, which == "s", Tg,
+                                                      fl.native_flash_constants,
+                                                      native_solve_constants)
+            split = fl.PTSplit(beta, xs, ys, nph, beta >= 1,
+                               fl.SolveReport(ok, np.zeros(n, int), np.zeros(n), ""))
+            return T, ok, split
         T = self._initial_T(P, target, zs, which) if T_guess is None else T_guess.astype(float).copy()
         lo = np.full(n, fl.T_LOW)
         hi = np.full(n, fl.T_HIGH)
@@ -328,7 +367,7 @@ class CubicEngine:
             need_fd = two & ~(np.isfinite(secant) & (secant > 0))
             if need_fd.any():
                 j = np.nonzero(need_fd)[0]
-                dT = 1e-3
+                dT = PH_FD_STEP
                 sp2 = fl.flash_PT(eos, Ti[j] + dT, Pi[j], zi[j], K_init=K[i[j]],
                                   assume=np.full(j.size, 2), tol=LOOSE_TOL)
                 h2, s2, _ = self._hs_of_split(Ti[j] + dT, Pi[j], zi[j], sp2)
@@ -338,7 +377,7 @@ class CubicEngine:
                 Tn = Ti - f / slope
             bad = ~np.isfinite(Tn) | (Tn <= lo[i]) | (Tn >= hi[i])
             Tn = np.where(bad, _bisect(lo[i], hi[i], Ti, f), Tn)
-            scale = np.where(np.isfinite(cp) & (cp > 0), cp, 100.0)
+            scale = np.where(np.isfinite(cp) & (cp > 0), cp, PH_SLOPE_FALLBACK)
             if which == "s":
                 scale = scale / Ti
             # the residual must vanish too: a bracket can also close on a jump of h(T) (a
@@ -349,7 +388,7 @@ class CubicEngine:
             stuck = (np.abs(Tn - Ti) < fl.PH_TOL_T) & ~small_f & ~restart
             if stuck.any():
                 failed[i[stuck]] = True
-            done = (((np.abs(Tn - Ti) < fl.PH_TOL_T) & small_f) | (np.abs(f) < 1e-11 * scale)) \
+            done = (((np.abs(Tn - Ti) < fl.PH_TOL_T) & small_f) | (np.abs(f) < PH_F_TINY_REL * scale)) \
                 & ~restart
             # a split converged only loosely cannot end the iteration: near the answer, switch to
             # the full tolerance and take the step
@@ -372,10 +411,10 @@ class CubicEngine:
     def _initial_T(self, P, target, zs, which):
         """Ideal-gas temperature with the target enthalpy (entropy), a few Newton steps."""
         c = self.comps
-        T = np.full(P.shape, 300.0)
+        T = np.full(P.shape, IDEAL_T_START)
         with np.errstate(divide="ignore", invalid="ignore"):
             mix = np.sum(np.where(zs > 0, zs * np.log(zs), 0.0), axis=1)
-        for _ in range(8):
+        for _ in range(IDEAL_T_STEPS):
             cp0 = np.einsum("ij,ij->i", zs, c.cp0(T))
             if which == "h":
                 f = np.einsum("ij,ij->i", zs, c.h0(T)) - target
@@ -383,7 +422,7 @@ class CubicEngine:
             else:
                 s0 = np.einsum("ij,ij->i", zs, c.s0(T)) - R * np.log(P / P_REF) - R * mix
                 T = T - (s0 - target) * T / cp0
-            T = np.clip(T, fl.T_LOW + 1.0, fl.T_HIGH - 1.0)
+            T = np.clip(T, fl.T_LOW + IDEAL_T_MARGIN, fl.T_HIGH - IDEAL_T_MARGIN)
         return T
 
     def _solve_T_pure(self, P, target, zs, ip, which, T_guess):
@@ -562,8 +601,8 @@ def _bisect(lo, hi, T, f):
     open_lo = lo <= fl.T_LOW
     open_hi = hi >= fl.T_HIGH
     mid = 0.5 * (lo + hi)
-    mid = np.where(open_hi & ~open_lo, np.minimum(T * 1.2, 0.5 * (T + hi)), mid)
-    mid = np.where(open_lo & ~open_hi, np.maximum(T * 0.8, 0.5 * (T + lo)), mid)
+    mid = np.where(open_hi & ~open_lo, np.minimum(T * BRACKET_GROW, 0.5 * (T + hi)), mid)
+    mid = np.where(open_lo & ~open_hi, np.maximum(T * BRACKET_SHRINK, 0.5 * (T + lo)), mid)
     return mid
 
 

@@ -63,6 +63,26 @@ PH_MAX_ITER = 100
 #: PH/PS convergence: relative enthalpy (entropy) residual and absolute temperature step [K].
 PH_TOL_REL = 1e-12
 PH_TOL_T = 1e-9
+#: Wilson (1968) K-value correlation: ln K = ln(Pc/P) + WILSON_C (1 + omega)(1 - Tc/T).
+WILSON_C = 5.373
+#: A trial stops early (``early_exit``) once its tangent-plane distance is below this: instability
+#: is then proved with margin over round-off.
+EARLY_EXIT_TM = -1e-6
+#: Largest |ln K| at which a split has collapsed onto the feed (the trivial solution) [-].
+TRIVIAL_LNK = 1e-4
+#: GDEM needs its two successive eigenvalue estimates to agree to this (relative).
+GDEM_AGREE = 0.05
+#: Newton finish: forward-difference step on ln K and the largest step taken per iteration.
+NEWTON_FD_STEP = 1e-7
+NEWTON_MAX_STEP = 1.0
+#: A split is accepted when its Gibbs energy is below the single phase's by more than round-off
+#: (this fraction of |g|).
+GIBBS_MARGIN_REL = 1e-12
+#: Bounds put on K-values before the split iterations (finite logarithms).
+K_CLIP = (1e-300, 1e300)
+#: Phase identification parameter above which a single phase is called liquid (Venkatarathnam &
+#: Oellrich 2011: the ideal gas has 1).
+PHASE_ID_LIQUID = 1.0
 
 
 @dataclass(frozen=True)
@@ -98,7 +118,7 @@ class SolveReport:
 def wilson_K(eos: CubicEOS, T, P):
     """Wilson (1968) K-value estimate, shape (n, nc) [-]."""
     c = eos.comps
-    return (c.Pcs / P[:, None]) * np.exp(5.373 * (1.0 + c.omegas) * (1.0 - c.Tcs / T[:, None]))
+    return (c.Pcs / P[:, None]) * np.exp(WILSON_C * (1.0 + c.omegas) * (1.0 - c.Tcs / T[:, None]))
 
 
 def rachford_rice(zs, Ks, negative=False, beta0=None):
@@ -225,7 +245,7 @@ def stability(eos: CubicEOS, T, P, zs, *, lnphis_z=None, Z_z=None, early_exit=Fa
             lnphis_z, Z_z = native.lnphi(eos, T, P, zs)
         tm_min, wb, Zb = native.stability_trials(
             eos, T, P, zs, lnphis_z, wilson_K(eos, T, P), ln_tol=LN_TOL, trivial_dist=TRIVIAL_DIST,
-            max_iter=STABILITY_MAX_ITER, early_tm=native.EARLY_EXIT_TM, early_exit=early_exit)
+            max_iter=STABILITY_MAX_ITER, early_tm=EARLY_EXIT_TM, early_exit=early_exit)
         return StabilityResult(tm_min, tm_min < TM_UNSTABLE, wb, Zb > Z_z)
     if lnphis_z is None:
         lnphis_z, Z_z = eos.lnphi(T, P, zs, "stable")
@@ -271,7 +291,7 @@ def stability(eos: CubicEOS, T, P, zs, *, lnphis_z=None, Z_z=None, early_exit=Fa
         trivial = np.sum((w - zt[idx]) ** 2, axis=1) < TRIVIAL_DIST
         done = (step < LN_TOL) | trivial
         if early_exit:
-            done |= tmi < -1e-6
+            done |= tmi < EARLY_EXIT_TM
         tm[idx] = np.where(trivial, 0.0, tmi)
         active[idx[done]] = False
     tm = tm.reshape(nt, n)
@@ -357,13 +377,13 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks, tol=LN_TOL):
                 lnK = _gdem(hist, lnK, ~conv)
                 hist = []
             # K collapsing onto 1 (trivial solution) is not a split
-            trivial = np.max(np.abs(lnK), axis=1) < 1e-4
+            trivial = np.max(np.abs(lnK), axis=1) < TRIVIAL_LNK
             if trivial.any():
                 conv |= trivial
                 resid[trivial] = np.inf
     # Newton finish for cases not converged by substitution
     left = ~conv | ~np.isfinite(resid)
-    left &= np.max(np.abs(lnK), axis=1) >= 1e-4
+    left &= np.max(np.abs(lnK), axis=1) >= TRIVIAL_LNK
     if left.any():
         idx = np.nonzero(left)[0]
         lnK_i, ok, res, nit = _newton_lnK(eos, T[idx], P[idx], zs[idx], lnK[idx], tol)
@@ -377,7 +397,7 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks, tol=LN_TOL):
         K = np.exp(lnK)
         beta = rachford_rice(zs, K, negative=True)
         xs, ys = _phase_compositions(zs, K, beta)
-    trivial = np.max(np.abs(lnK), axis=1) < 1e-4
+    trivial = np.max(np.abs(lnK), axis=1) < TRIVIAL_LNK
     conv &= ~trivial
     # name the phases by molar volume: "vapour" is the lighter one
     if not use_native:
@@ -394,7 +414,7 @@ def _native_split_constants(tol):
     """The constants of the substitution loop, for the compiled kernels."""
     return dict(tol=tol, max_iter=FLASH_SS_MAX_ITER, accelerate_every=ACCELERATE_EVERY,
                 gdem_max_lambda=GDEM_MAX_LAMBDA, gdem_max_step=GDEM_MAX_STEP,
-                gdem_agree=native.GDEM_AGREE, trivial_lnK=native.TRIVIAL_LNK, rr_tol=RR_TOL,
+                gdem_agree=GDEM_AGREE, trivial_lnK=TRIVIAL_LNK, rr_tol=RR_TOL,
                 rr_max_iter=RR_MAX_ITER, neg_bounds=NEGATIVE_FLASH_BOUNDS)
 
 
@@ -409,7 +429,7 @@ def _gdem(hist, lnK, mask):
         lam1 = np.sum(d1 * d2, axis=1) / np.sum(d1 * d1, axis=1)
         lam2 = np.sum(d2 * d3, axis=1) / np.sum(d2 * d2, axis=1)
     ok = (mask & np.isfinite(lam1) & np.isfinite(lam2) & (lam2 > 0.0) & (lam2 < GDEM_MAX_LAMBDA)
-          & (np.abs(lam1 - lam2) < 0.05 * lam2))
+          & (np.abs(lam1 - lam2) < GDEM_AGREE * lam2))
     factor = np.where(ok, lam2 / (1.0 - lam2), 0.0)
     step = factor[:, None] * d3
     big = np.max(np.abs(step), axis=1)
@@ -431,7 +451,7 @@ def _newton_lnK(eos, T, P, zs, lnK, tol=LN_TOL):
         xs, ys = _phase_compositions(zs[idx], K, b)
         return lk - _residual(eos, T[idx], P[idx], xs, ys, K)
 
-    h = 1e-7
+    h = NEWTON_FD_STEP
     for _ in range(NEWTON_MAX_ITER):
         idx = np.nonzero(~ok)[0]
         if idx.size == 0:
@@ -453,7 +473,7 @@ def _newton_lnK(eos, T, P, zs, lnK, tol=LN_TOL):
             dx = np.linalg.solve(J, -F0[..., None])[..., 0]
         except np.linalg.LinAlgError:
             break
-        dx = np.clip(dx, -1.0, 1.0)
+        dx = np.clip(dx, -NEWTON_MAX_STEP, NEWTON_MAX_STEP)
         lnK[idx] = lk + dx
         nit[idx] += 1
     return lnK, ok, res, nit
@@ -490,7 +510,7 @@ def is_vapour_like(eos: CubicEOS, T, P, zs):
     """Name a single phase 'vapour' when its phase identification parameter is at most 1
     (Venkatarathnam & Oellrich 2011; see :func:`letdown.fluid.cubic.phase_identification`). The
     name decides which separator outlet a single phase leaves by; it changes no property."""
-    return phase_identification(eos, T, P, zs) <= 1.0
+    return phase_identification(eos, T, P, zs) <= PHASE_ID_LIQUID
 
 
 def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL):
@@ -512,6 +532,8 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL):
     PTSplit
     """
     n, nc = zs.shape
+    if native.AVAILABLE:
+        return _flash_PT_native(eos, T, P, zs, K_init, assume, tol)
     beta = np.where(is_vapour_like(eos, T, P, zs), 1.0, 0.0)
     xs = zs.copy()
     ys = zs.copy()
@@ -529,7 +551,7 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL):
         K = np.where(zs[idx] > 0, K, 1.0)
         bad = ~np.all(np.isfinite(K) & (K > 0), axis=1)
         K[bad] = wilson_K(eos, T[idx[bad]], P[idx[bad]])
-        tp = two_phase_flash(eos, T[idx], P[idx], zs[idx], np.clip(K, 1e-300, 1e300), tol)
+        tp = two_phase_flash(eos, T[idx], P[idx], zs[idx], np.clip(K, *K_CLIP), tol)
         ok = tp.report.converged & (tp.beta > 0.0) & (tp.beta < 1.0)
         if ok.any():
             # accept a split only when it lowers the Gibbs energy
@@ -538,7 +560,7 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL):
             with np.errstate(divide="ignore", invalid="ignore"):
                 g_single = np.sum(np.where(zs[idx] > 0, zs[idx] * (np.log(zs[idx]) + lnz), 0.0),
                                   axis=1)
-            ok &= g_split < g_single + 1e-12 * np.abs(g_single)
+            ok &= g_split < g_single + GIBBS_MARGIN_REL * np.abs(g_single)
         sel = idx[ok]
         beta[sel] = tp.beta[ok]
         xs[sel] = tp.xs[ok]
@@ -546,8 +568,9 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL):
         nph[sel] = 2
         iters[idx] += tp.report.iterations
         resid[idx] = np.where(ok, tp.report.residual, 0.0)
-        failed = ~tp.report.converged & ~(np.max(np.abs(np.log(np.clip(tp.ys / tp.xs, 1e-300,
-                                                                         1e300))), axis=1) < 1e-4)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            lnK_end = np.log(np.clip(tp.ys / tp.xs, *K_CLIP))
+        failed = ~tp.report.converged & ~(np.max(np.abs(lnK_end), axis=1) < TRIVIAL_LNK)
         return ok, failed
 
     test = (~pure) & (assume == 0)
@@ -579,6 +602,31 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL):
         beta[idx] = _pure_single_label(eos, T[idx], P[idx], zs[idx], ipure[idx])
     single_v = beta >= 1.0
     return PTSplit(beta, xs, ys, nph, single_v, SolveReport(conv, iters, resid, "PT flash"))
+
+
+def native_flash_constants():
+    """The constants of this module that the compiled P-T flash uses (one source of truth)."""
+    return dict(ln_tol=LN_TOL, trivial_dist=TRIVIAL_DIST, stability_max_iter=STABILITY_MAX_ITER,
+                early_tm=EARLY_EXIT_TM, ss_max_iter=FLASH_SS_MAX_ITER,
+                accelerate_every=ACCELERATE_EVERY, gdem_max_lambda=GDEM_MAX_LAMBDA,
+                gdem_max_step=GDEM_MAX_STEP, gdem_agree=GDEM_AGREE, trivial_lnK=TRIVIAL_LNK,
+                rr_tol=RR_TOL, rr_max_iter=RR_MAX_ITER, neg_lo=NEGATIVE_FLASH_BOUNDS[0],
+                neg_hi=NEGATIVE_FLASH_BOUNDS[1], tm_unstable=TM_UNSTABLE, wilson_c=WILSON_C,
+                newton_max_iter=NEWTON_MAX_ITER, newton_fd_step=NEWTON_FD_STEP,
+                newton_max_step=NEWTON_MAX_STEP, gibbs_margin_rel=GIBBS_MARGIN_REL,
+                k_min=K_CLIP[0], k_max=K_CLIP[1], phase_id_liquid=PHASE_ID_LIQUID)
+
+
+def _flash_PT_native(eos, T, P, zs, K_init, assume, tol):
+    """flash_PT through the compiled driver (letdown/fluid/_flashkernels.c, one case at a time);
+    pure components are named here, as in the numpy path."""
+    beta, xs, ys, nph, conv, iters, resid = native.flash_pt(
+        eos, T, P, zs, K_init, assume, tol, native_flash_constants)
+    pure, ipure = _pure_index(zs)
+    if pure.any():
+        idx = np.nonzero(pure)[0]
+        beta[idx] = _pure_single_label(eos, T[idx], P[idx], zs[idx], ipure[idx])
+    return PTSplit(beta, xs, ys, nph, beta >= 1.0, SolveReport(conv, iters, resid, "PT flash"))
 
 
 def _pure_single_label(eos, T, P, zs, ip):
@@ -625,7 +673,7 @@ def pure_saturation_T(eos: CubicEOS, P, ip):
     zs = _pure_zs(c.n, ip)
     ok_range = P < Pc
     Pr = np.where(ok_range, P / Pc, 0.5)
-    T = Tc / (1.0 - np.log(Pr) / (5.373 * (1.0 + om)))     # Wilson inverse
+    T = Tc / (1.0 - np.log(Pr) / (WILSON_C * (1.0 + om)))     # Wilson inverse
     T = np.clip(T, 0.35 * Tc, 0.999 * Tc)
     lo = np.full(T.shape, 0.2) * Tc
     hi = Tc.copy()
@@ -660,7 +708,7 @@ def pure_saturation_P(eos: CubicEOS, T, ip):
     Tc, Pc, om = c.Tcs[ip], c.Pcs[ip], c.omegas[ip]
     zs = _pure_zs(c.n, ip)
     sub = T < Tc
-    lnP = np.log(Pc) + 5.373 * (1.0 + om) * (1.0 - Tc / np.where(sub, T, 0.5 * Tc))
+    lnP = np.log(Pc) + WILSON_C * (1.0 + om) * (1.0 - Tc / np.where(sub, T, 0.5 * Tc))
     lo = np.full(T.shape, np.log(1e-10))
     hi = np.log(Pc)
     conv = ~sub

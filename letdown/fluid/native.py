@@ -12,7 +12,14 @@ for, case by case, with the constants passed in from :mod:`letdown.fluid.flash` 
 * :func:`two_phase_ss` -- the successive-substitution loop of
   :func:`letdown.fluid.flash.two_phase_flash`;
 * :func:`split_finish` -- its final Rachford-Rice solve, phase compositions and phase Z;
-* :func:`properties` -- :meth:`CubicEOS.properties <letdown.fluid.cubic.CubicEOS.properties>`.
+* :func:`properties` -- :meth:`CubicEOS.properties <letdown.fluid.cubic.CubicEOS.properties>`;
+* :func:`flash_pt` -- the whole :func:`letdown.fluid.flash.flash_PT` for mixtures;
+* :func:`hs_of_split` and :func:`phase` -- the ideal-gas plus residual properties of
+  :class:`letdown.fluid.cubic_fluid.CubicEngine` (``_hs_of_split``, ``_phase``);
+* :func:`solve_T` -- the P-h / P-s temperature iteration ``CubicEngine._solve_T_mixture``.
+
+:meth:`CubicEOS.lnphi` and :meth:`CubicEOS.properties`, :func:`letdown.fluid.flash.flash_PT` and
+the engine's P-h / P-s iteration dispatch here when ``AVAILABLE``.
 
 ``AVAILABLE`` is False (and every caller keeps to numpy) when the compiled module is missing or the
 environment variable ``LETDOWN_PURE_NUMPY`` is set to ``1``.
@@ -30,14 +37,19 @@ from .components import R
 
 #: Relative separation below which the two cubic roots count as one, as in CubicEOS.choose_root.
 ROOT_DISTINCT_REL = 1e-12
-#: Literals of the numpy code, passed to the kernels: the early-exit tangent-plane distance of
-#: flash.stability, the ln K below which flash.two_phase_flash calls a split trivial, and the
-#: agreement of the two eigenvalue estimates that flash._gdem requires (relative).
-EARLY_EXIT_TM = -1e-6
-TRIVIAL_LNK = 1e-4
-GDEM_AGREE = 0.05
-#: Length of the header of the parameter block (see the C file).
+#: Length of the header of the parameter block and of the ideal-gas block (see the C file).
 _HEADER = 8
+#: Order of the flash constants (FP_* in the C file); values from flash.native_flash_constants.
+_FP_ORDER = ("ln_tol", "trivial_dist", "stability_max_iter", "early_tm", "ss_max_iter",
+             "accelerate_every", "gdem_max_lambda", "gdem_max_step", "gdem_agree", "trivial_lnK",
+             "rr_tol", "rr_max_iter", "neg_lo", "neg_hi", "tm_unstable", "wilson_c",
+             "newton_max_iter", "newton_fd_step", "newton_max_step", "gibbs_margin_rel", "k_min",
+             "k_max", "phase_id_liquid")
+#: Order of the P-h / P-s constants (SV_* in the C file); values from cubic_fluid.
+_SV_ORDER = ("max_iter", "trust_iterations", "loose_tol", "loose_until_step", "residual_K",
+             "tol_T", "T_low", "T_high", "fd_step_T", "f_tiny_rel", "slope_fallback",
+             "bracket_grow", "bracket_shrink", "ideal_T_start", "ideal_T_steps",
+             "ideal_T_margin")
 
 
 def _load():
@@ -60,6 +72,10 @@ def _load():
         "lf_two_phase_ss": [i, i, p, p, p, p, p, p, p, p, p, p, p],
         "lf_split_finish": [i, i, p, p, p, p, p, p, p, p, p, p, p],
         "lf_properties": [i, i, p, p, p, p, p, p],
+        "lf_flash_pt": [i, i, p, p, p, p, p, p, p, p, p, p, p, p, p, p, p],
+        "lf_hs_of_split": [i, i, p, p, p, p, p, p, p, p, p, p, p, p],
+        "lf_phase": [i, i, p, p, p, p, p, p, i, p],
+        "lf_solve_T": [i, i, p, p, p, p, p, p, p, i, p, p, p, p, p, p, p],
     }
     try:
         for name, args in sigs.items():
@@ -130,11 +146,23 @@ def _codes(code, n):
     return code, _ptr(code)
 
 
+def _cases(T, P, xs):
+    """T, P (n,) and xs (n, nc) as contiguous float arrays (T and P broadcast to n)."""
+    xs = _f(xs)
+    n = xs.shape[0]
+    T, P = _f(T), _f(P)
+    if T.shape != (n,):
+        T = _f(np.broadcast_to(T, (n,)))
+    if P.shape != (n,):
+        P = _f(np.broadcast_to(P, (n,)))
+    return T, P, xs
+
+
 def lnphi(eos, T, P, xs, code=None):
     """ln phi (n, nc) and Z (n,) as :meth:`CubicEOS.lnphi`; ``code`` as its ``phase`` ('vapour',
     'liquid', 'stable' or an int array: +1 largest root, -1 smallest, 0 lowest Gibbs energy), None
     for the lowest Gibbs energy everywhere."""
-    T, P, xs = _f(T), _f(P), _f(xs)
+    T, P, xs = _cases(T, P, xs)
     n, nc = xs.shape
     out = np.empty((n, nc))
     Z = np.empty(n)
@@ -227,10 +255,139 @@ _PROPERTY_ROWS = ("Z", "v", "h_res", "s_res", "cv_res", "dPdT", "dPdv", "g_res_R
 def properties(eos, T, P, xs, code=None):
     """Residual and derivative properties of phases, as :meth:`CubicEOS.properties` (same keys and
     units); ``code`` as in :func:`lnphi`."""
-    T, P, xs = _f(T), _f(P), _f(xs)
+    T, P, xs = _cases(T, P, xs)
     n, nc = xs.shape
     out = np.empty((len(_PROPERTY_ROWS), n))
     code, cp = _codes(code, n)
     _check(_LIB.lf_properties(n, nc, _ptr(_pack(eos)), _ptr(T), _ptr(P),
                               _ptr(xs), cp, _ptr(out)))
     return dict(zip(_PROPERTY_ROWS, out))
+
+
+# ------------------------------------------------------------------------------------------------
+_BLOCKS: dict = {}
+
+
+def _block(order, constants):
+    """A constant block in the order of the C enumeration, from a function returning a dict
+    (cached: the constants are module-level and do not change)."""
+    blk = _BLOCKS.get(constants)
+    if blk is None:
+        values = constants()
+        blk = np.array([float(values[k]) for k in order], dtype=np.float64)
+        _BLOCKS[constants] = blk
+    return blk
+
+
+_IG_PACKS: "weakref.WeakKeyDictionary" = weakref.WeakKeyDictionary()
+
+
+def _ideal_gas_pack(comps):
+    """Ideal-gas block of a ComponentSet: P_REF, the Aly-Lee and polynomial coefficients, H and S
+    at the reference temperature, molar masses (see ``ig_view`` in the C file)."""
+    blk = _IG_PACKS.get(comps)
+    if blk is None:
+        from .components import P_REF
+        head = np.zeros(_HEADER)
+        head[0] = P_REF
+        poly = np.asarray(comps._poly, dtype=float)
+        blk = np.ascontiguousarray(np.concatenate([
+            head, comps._C1, comps._C2, comps._C3, comps._C4, comps._C5,
+            poly[:, 0], poly[:, 1], poly[:, 2], poly[:, 3], poly[:, 4],
+            comps._H0, comps._S0, comps.Ms]), dtype=np.float64)
+        _IG_PACKS[comps] = blk
+    return blk
+
+
+def flash_pt(eos, T, P, zs, K_init, assume, tol, constants):
+    """The P-T flash of :func:`letdown.fluid.flash.flash_PT` for every mixture of a batch
+    (pure components come back as one phase with vapour fraction NaN, for the caller to name).
+
+    Parameters
+    ----------
+    K_init : (n, nc) or None
+    assume : (n,) int or None
+    tol : float or (n,) [-]
+    constants : callable returning the dict of flash constants (``flash.native_flash_constants``)
+
+    Returns
+    -------
+    beta (n,), xs (n, nc), ys (n, nc), n_phases (n,) int, converged (n,) bool, iterations (n,) int,
+    residual (n,)
+    """
+    T, P, zs = _cases(T, P, zs)
+    n, nc = zs.shape
+    fc = _block(_FP_ORDER, constants)
+    tol = np.ascontiguousarray(np.broadcast_to(np.asarray(tol, dtype=np.float64), (n,)))
+    K = None if K_init is None else _f(K_init)
+    a = None if assume is None else np.ascontiguousarray(assume, dtype=np.int32)
+    beta = np.empty(n)
+    xs = np.empty((n, nc))
+    ys = np.empty((n, nc))
+    nph = np.empty(n, dtype=np.int32)
+    conv = np.empty(n, dtype=np.int32)
+    iters = np.empty(n, dtype=np.int32)
+    resid = np.empty(n)
+    _check(_LIB.lf_flash_pt(n, nc, _ptr(_pack(eos)), _ptr(fc), _ptr(T), _ptr(P), _ptr(zs),
+                            None if K is None else _ptr(K), None if a is None else _ptr(a),
+                            _ptr(tol), _ptr(beta), _ptr(xs), _ptr(ys), _ptr(nph), _ptr(conv),
+                            _ptr(iters), _ptr(resid)))
+    return beta, xs, ys, nph.astype(int), conv.astype(bool), iters.astype(int), resid
+
+
+def hs_of_split(eos, T, P, zs, n_phases, beta, xs, ys):
+    """Enthalpy [J/mol], entropy [J/(mol K)] and single-phase cp [J/(mol K)] (NaN for two phases)
+    of P-T splits, as ``CubicEngine._hs_of_split``."""
+    T, P, zs = _cases(T, P, zs)
+    n, nc = zs.shape
+    nph = np.ascontiguousarray(n_phases, dtype=np.int32)
+    beta, xs, ys = _f(beta), _f(xs), _f(ys)
+    h = np.empty(n)
+    s = np.empty(n)
+    cp = np.empty(n)
+    _check(_LIB.lf_hs_of_split(n, nc, _ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)), _ptr(T),
+                               _ptr(P), _ptr(zs), _ptr(nph), _ptr(beta), _ptr(xs), _ptr(ys),
+                               _ptr(h), _ptr(s), _ptr(cp)))
+    return h, s, cp
+
+
+_PHASE_ROWS = ("h", "s", "cp", "cv", "jt", "w", "v", "Z", "density", "molar_mass")
+
+
+def phase(eos, T, P, xs, code, volume_shift):
+    """All properties of phases, as ``CubicEngine._phase`` (same keys and units); ``code`` as in
+    :func:`lnphi`; ``volume_shift`` reports volumes with the Peneloux translation."""
+    T, P, xs = _cases(T, P, xs)
+    n, nc = xs.shape
+    out = np.empty((len(_PHASE_ROWS), n))
+    code, cp = _codes(code, n)
+    _check(_LIB.lf_phase(n, nc, _ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)), _ptr(T),
+                         _ptr(P), _ptr(xs), cp, 1 if volume_shift else 0, _ptr(out)))
+    return dict(zip(_PHASE_ROWS, out))
+
+
+def solve_T(eos, P, target, zs, is_s, T_guess, flash_constants, solve_constants):
+    """The P-h (``is_s`` False) or P-s temperature iteration of ``CubicEngine._solve_T_mixture``
+    for a batch of mixtures.
+
+    Returns
+    -------
+    T (n,) [K], converged (n,) bool, beta (n,), xs (n, nc), ys (n, nc), n_phases (n,) int
+    """
+    zs = _f(zs)
+    n, nc = zs.shape
+    P, target = _f(P), _f(target)
+    fc = _block(_FP_ORDER, flash_constants)
+    sv = _block(_SV_ORDER, solve_constants)
+    Tg = None if T_guess is None else _f(T_guess)
+    T = np.empty(n)
+    ok = np.empty(n, dtype=np.int32)
+    beta = np.empty(n)
+    xs = np.empty((n, nc))
+    ys = np.empty((n, nc))
+    nph = np.empty(n, dtype=np.int32)
+    _check(_LIB.lf_solve_T(n, nc, _ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)), _ptr(fc),
+                           _ptr(sv), _ptr(P), _ptr(target), _ptr(zs), 1 if is_s else 0,
+                           None if Tg is None else _ptr(Tg), _ptr(T), _ptr(ok), _ptr(beta),
+                           _ptr(xs), _ptr(ys), _ptr(nph)))
+    return T, ok.astype(bool), beta, xs, ys, nph.astype(int)
