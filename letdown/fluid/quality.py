@@ -171,7 +171,7 @@ def quality(components, zs, combustion_T: float = 288.15, metering_T: float = 28
     Z = 1.0 - (zs @ si) ** 2
     v = Z * R_ISO * METERING_TS[im] / P_ISO
     G = (M / M_AIR) * (Z_AIRS[im] / Z)
-    sq = (lambda a: a) if zs.shape[0] > 1 else (lambda a: a[0])
+    sq = (lambda a: a) if zs.shape[0] > 1 else (lambda a: float(a[0]))
     return GasQuality(gross_molar=sq(Hc), net_molar=sq(Hn), gross_volumetric=sq(Hc / v),
                       net_volumetric=sq(Hn / v), wobbe_gross=sq(Hc / v / np.sqrt(G)),
                       wobbe_net=sq(Hn / v / np.sqrt(G)), relative_density=sq(G),
