@@ -21,6 +21,12 @@ import numpy as np
 
 from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
 
+#: Fixed decimals of the stream table's rows in the terminal (an engineer's stream table: 0.01 K,
+#: 0.01 bar, whole kg/h and Sm3/h); CSV keeps full precision.
+STREAM_DECIMALS = {"Temperature": 2, "Pressure": 2, "Vapour fraction": 4, "Molar flow": 1,
+                   "Mass flow": 0, "Standard gas flow": 0, "Density": 3, "Z": 5, "Molar mass": 3,
+                   "Enthalpy": 1, "Entropy": 3}
+
 #: Width the terminal layout aims for [characters]; wider tables are split into column groups.
 DEFAULT_WIDTH = 110
 
@@ -41,6 +47,7 @@ class Table:
     title: str
     header: tuple
     rows: tuple
+    decimals: tuple = ()      # per row: fixed decimals for the terminal, or None (significant figures)
 
 
 def pick(value, case: int = 0):
@@ -140,7 +147,9 @@ def stream_table(result, units: str = "si", *, case: int = 0, atmosphere: float 
         rows.append(("Mole fractions", *([""] * len(names))))
         for k in order:
             rows.append((f"  {k}", *[c.get(k, 0.0) for c in comps]))
-    return Table("Streams", ("", *names), tuple(rows))
+    decimals = tuple(STREAM_DECIMALS.get(r[0].split(" [")[0], 5 if r[0].startswith("  ") else None)
+                     for r in rows)
+    return Table("Streams", ("", *names), tuple(rows), decimals)
 
 
 #: Equipment result keys shown in their own column, with the display unit kind.
@@ -215,13 +224,15 @@ def equipment_table(result, units: str = "si", *, case: int = 0,
     return Table("Equipment", header, tuple(rows))
 
 
-def _cell_text(cell) -> str:
+def _cell_text(cell, decimals=None) -> str:
     if cell is None:
         return "-"
     if isinstance(cell, str):
         return cell
     if isinstance(cell, bool):
         return "yes" if cell else "no"
+    if decimals is not None and np.isfinite(cell):
+        return f"{cell:.{decimals}f}"
     return format_number(cell)
 
 
@@ -234,7 +245,8 @@ def render(table: Table, width: int = DEFAULT_WIDTH) -> str:
     str
         The table, title first, without a trailing newline.
     """
-    texts = [[_cell_text(c) for c in r] for r in table.rows]
+    decimals = tuple(table.decimals) + (None,) * (len(table.rows) - len(table.decimals))
+    texts = [[_cell_text(c, d) for c in r] for r, d in zip(table.rows, decimals)]
     header = [str(h) for h in table.header]
     ncol = len(header)
     widths = [max([len(header[j])] + [len(r[j]) for r in texts if j < len(r)]) for j in range(ncol)]
