@@ -215,8 +215,9 @@ def _schema_error_message(error, doc: _Doc) -> InputError:
                        f"(known: {', '.join(MODELS)})", path, key=False)
     if v == "pattern" and isinstance(inst, str):
         if path and path[-1] in ("hold", "by", "at"):
-            return doc.err(f"'{inst}' should read name.attribute (e.g. network.T, preheat.T_out)",
-                           path, key=False)
+            example = "network.T, preheat.duty" if path[-1] == "at" else "network.T, preheat.T_out"
+            return doc.err(f"'{inst}' should read name.attribute (e.g. {example})", path,
+                           key=False)
         return doc.err(f"'{inst}' is not a valid name (letters, digits, '_' and '-', starting "
                        f"with a letter)", path, key=False)
     if v == "propertyNames":
