@@ -53,6 +53,15 @@ def test_heater_fuel_is_duty_over_efficiency():
     assert out["fuel_W"] == pytest.approx(1300e3, rel=1e-14)
 
 
+def test_heater_efficiency_outside_zero_to_one_is_refused():
+    fired = loads(FIRED, "fired.yaml")
+    with pytest.raises(InputError, match=r"efficiency must lie in \(0, 1\], got 1.2") as err:
+        solve_cases(fired, {"preheat.efficiency": [0.8, 1.2]})
+    assert err.value.file == "fired.yaml" and err.value.line == 8
+    with pytest.raises(InputError, match="efficiency must lie in"):
+        loads(FIRED.replace("efficiency: 0.75", "efficiency: 120 %"), "fired.yaml")
+
+
 def test_heater_fuel_without_efficiency_is_a_located_error():
     text = FIRED.replace(", efficiency: 0.75", "")
     with pytest.raises(InputError, match="needs its efficiency") as err:
@@ -273,6 +282,12 @@ def test_fit_parameters_that_cannot_be_fitted():
     # nothing measured depends on the efficiency of a heater given its outlet temperature
     with pytest.raises(InputError, match="no measurement depends on preheat.efficiency"):
         compare(fs, models=["peng-robinson"], fit="preheat.efficiency", within=(0.5, 1.0))
+    with pytest.raises(InputError, match="an efficiency lies in"):
+        compare(fs, models=["peng-robinson"], fit="preheat.efficiency", within=(0.5, 1.1))
+    # a bracket that makes the regulator raise the pressure fails the fit of that model, located
+    raised = compare(fs, models=["peng-robinson"], fit="regulator.P_out", within=(65e5, 80e5))
+    failure = raised.results["peng-robinson"].fit_failure
+    assert raised.results["peng-robinson"].fit is None and "above the inlet pressure" in failure
     with pytest.raises(InputError, match="no measurements to compare"):
         compare(load(GATE))
 

@@ -408,6 +408,12 @@ def compare(fs: Flowsheet, measurements=None, models=None, fit: str | None = Non
                 fitted = fit_parameter(fs, measurements, m, fit, within)
             except (ModelError, ConvergenceError) as exc:
                 failure = str(exc)
+            except InputError as exc:
+                if exc.field in ("--fit", "--within"):
+                    raise
+                # a state this model refuses somewhere inside the bracket (GERG-2008 in two
+                # phases, a throttle asked to raise pressure): this model's fit fails
+                failure = str(exc)
         results[m] = ModelComparison(m, res, Score.of([r.normalised for r in res]), fitted,
                                      failure, warnings)
     return Comparison(fs.title, tuple(models), results, failures, skipped, fit)
