@@ -4,6 +4,8 @@ Verbs::
 
     letdown solve FILE [--json] [--csv DIR] [--model M] [--units si|field] [--debug]
     letdown check FILE [--debug]
+    letdown crosscheck FILE [--models M,M] [--json] [--units si|field]
+    letdown compare FILE [--data CSV] [--fit block.parameter --within LO HI] [--models M,M] [--json]
     letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
 
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
@@ -93,6 +95,18 @@ def _parser() -> argparse.ArgumentParser:
     y.add_argument("--out", metavar="DIR", help="write hourly.csv, summary.json, run.json, plots")
     y.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
     y.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")
+    cm = sub.add_parser("compare", parents=[common],
+                        help="compare a flowsheet with plant measurements, per model; fit one "
+                             "parameter")
+    cm.add_argument("file", metavar="FILE")
+    cm.add_argument("--data", metavar="CSV",
+                    help="measurements (columns at,value,uncertainty[,note]) added to the file's")
+    cm.add_argument("--fit", metavar="BLOCK.PARAMETER", help="fit one block parameter")
+    cm.add_argument("--within", nargs=2, metavar=("LO", "HI"),
+                    help="bracket of the fitted parameter, with units (e.g. 0.6 0.95, 900kW 1400kW)")
+    cm.add_argument("--models", metavar="M,M", help="comma-separated models (default: all that apply)")
+    cm.add_argument("--json", action="store_true", help="print only the JSON comparison on stdout")
+    cm.add_argument("--units", choices=("si", "field"), default="si", help="display units")
 
     st = sub.add_parser("state", parents=[common], help="one fluid state from two of T, P, h, s")
     st.add_argument("--T", help="temperature, e.g. 10degC")
@@ -131,6 +145,8 @@ def main(argv=None) -> int:
             return _sweep(args)
         if args.verb == "year":
             return _year(args)
+        if args.verb == "compare":
+            return _compare(args)
         return _state(args)
     except (InputError, ModelError) as exc:
         _error(exc, where, debug)
@@ -316,6 +332,41 @@ def _crosscheck(args) -> int:
         print(crosscheck_text(cc, args.units))
     if not any(m not in cc.failures for m in cc.models):
         print(f"letdown: {args.file}: no model could solve the flowsheet", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
+    return EXIT_OK
+
+
+def _compare(args) -> int:
+    from .fluid.fluid import canonical_model
+    from .report.compare import compare_text
+    from .sheet.loader import load
+    from .sheet.measurements import parse_fit, read_csv, with_measurements
+    from .study.compare import compare
+
+    if args.within and not args.fit:
+        raise InputError("--within goes with --fit", field="--within")
+    fs = load(args.file)
+    if args.data:
+        fs = with_measurements(fs, read_csv(args.data, fs))
+    fit, within = (None, None)
+    if args.fit:
+        if not args.within:
+            raise InputError(f"fitting {args.fit} needs a bracket: --within LO HI", field="--within")
+        fit, within = parse_fit(fs, args.fit, args.within)
+    models = None
+    if args.models:
+        models = [canonical_model(m) for m in args.models.split(",") if m.strip()]
+    cmp = compare(fs, models=models, fit=fit, within=within)
+    if args.json:
+        print(json.dumps(cmp.to_dict(), indent=2, allow_nan=False))
+    else:
+        print(compare_text(cmp, args.units, atmosphere=fs.extra.get("atmosphere")))
+    if not cmp.results:
+        print(f"letdown: {args.file}: no model could solve the flowsheet", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
+    failed = [m for m, c in cmp.results.items() if fit and c.fit is None]
+    if failed and len(failed) == len(cmp.results):
+        print(f"letdown: {args.file}: the fit failed with every model", file=sys.stderr)
         return EXIT_FAILED_SOLVE
     return EXIT_OK
 

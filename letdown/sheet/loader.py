@@ -11,7 +11,8 @@ Three passes, each raising :class:`letdown.errors.InputError` with ``file:line: 
 3. **Meaning** -- components are known (nearest names suggested), fractions sum to 1 within
    :data:`SUM_TOLERANCE` unless ``gas.normalise`` is true, quantities parse with their units
    (:mod:`letdown.quantities`), flows and pressures are positive, each block has exactly one of its
-   alternative specifications, goals name existing streams and block parameters.
+   alternative specifications, goals name existing streams and block parameters, measurements
+   name measurable quantities of existing streams and blocks (:mod:`letdown.sheet.measurements`).
 
 The graph checks (a stream produced twice, never produced, a feed nobody takes) follow in
 :func:`letdown.sheet.graph.build_graph`, which :func:`load` runs before returning.
@@ -44,7 +45,8 @@ SPLIT_SUM_TOLERANCE = 1e-9
 #: (see :mod:`letdown.quantities`). The schema documents the same set.
 PARAMETERS: dict[str, dict[str, str]] = {
     "throttle": {"P_out": "pressure", "dP": "pressure_difference"},
-    "heater": {"T_out": "temperature", "duty": "power", "dP": "pressure_difference"},
+    "heater": {"T_out": "temperature", "duty": "power", "fuel": "power",
+               "efficiency": "fraction", "dP": "pressure_difference"},
     "cooler": {"T_out": "temperature", "duty": "power", "dP": "pressure_difference"},
     "separator": {"dP": "pressure_difference"},
     "compressor": {"P_out": "pressure", "efficiency": "fraction"},
@@ -60,7 +62,7 @@ PARAMETERS: dict[str, dict[str, str]] = {
 #: (in the file or as the parameter a goal varies).
 EXACTLY_ONE: dict[str, tuple[tuple[str, ...], ...]] = {
     "throttle": (("P_out", "dP"),),
-    "heater": (("T_out", "duty"),),
+    "heater": (("T_out", "duty", "fuel"),),
     "cooler": (("T_out", "duty"),),
     "exchanger": (("hot_T_out", "cold_T_out", "duty", "min_approach", "UA"),),
 }
@@ -212,9 +214,10 @@ def _schema_error_message(error, doc: _Doc) -> InputError:
         return doc.err(f"unknown model '{inst}'{_nearest(inst, MODELS)} "
                        f"(known: {', '.join(MODELS)})", path, key=False)
     if v == "pattern" and isinstance(inst, str):
-        if path and path[-1] in ("hold", "by"):
-            return doc.err(f"'{inst}' should read name.attribute (e.g. network.T, preheat.T_out)",
-                           path, key=False)
+        if path and path[-1] in ("hold", "by", "at"):
+            example = "network.T, preheat.duty" if path[-1] == "at" else "network.T, preheat.T_out"
+            return doc.err(f"'{inst}' should read name.attribute (e.g. {example})", path,
+                           key=False)
         return doc.err(f"'{inst}' is not a valid name (letters, digits, '_' and '-', starting "
                        f"with a letter)", path, key=False)
     if v == "propertyNames":
@@ -399,6 +402,9 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
                 params[key] = value
                 field_where[key] = _where(doc, path + (key,))
                 _check_parameter(doc, kind, key, value, raw[key], path + (key,))
+        if "fuel" in params and "efficiency" not in params:
+            raise doc.err("a heater given its fuel needs its efficiency (heat into the gas over "
+                          "heat of the fuel burnt)", path + ("fuel",))
         if kind == "compressor":
             params["efficiency_kind"] = raw.get("efficiency_kind", "isentropic")
         if kind == "splitter":
@@ -420,7 +426,7 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
 
 
 def _check_parameter(doc, kind, key, value, text, path):
-    if key in ("dP", "hot_dP", "cold_dP", "duty", "UA", "min_approach") and value < 0.0:
+    if key in ("dP", "hot_dP", "cold_dP", "duty", "fuel", "UA", "min_approach") and value < 0.0:
         extra = ""
         if key == "duty" and kind in ("heater", "cooler"):
             extra = f" (a {kind} duty is the heat {'added' if kind == 'heater' else 'removed'}; "\
@@ -538,6 +544,18 @@ def _limits(doc: _Doc, q: _Quantities) -> dict:
     return out
 
 
+def _measurements(doc: _Doc, fs_parts, atmosphere: float) -> tuple:
+    from .measurements import parse_measurement
+    out = []
+    for i, raw in enumerate(doc.data.get("measurements") or ()):
+        path = ("measurements", i)
+        lines = {"": doc.line(path)}
+        lines.update({k: doc.line(path + (k,), key=False) for k in raw})
+        out.append(parse_measurement(raw, fs_parts, file=doc.file, lines=lines,
+                                     field=_dotted(path), atmosphere=atmosphere))
+    return tuple(out)
+
+
 def loads(text: str, source: str = "<text>") -> Flowsheet:
     """Parse flowsheet YAML text.
 
@@ -587,9 +605,14 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
     solver_raw = data.get("solver") or {}
     solver = SolverSpec(**solver_raw)
     title = data.get("title") or Path(source).stem
+    streams = set(feeds)
+    for b in blocks.values():
+        streams.update(b.outlets.values())
+    measurements = _measurements(doc, (streams, blocks), atmosphere)
     fs = Flowsheet(title=title, gas=gas, feeds=feeds, blocks=blocks, goals=goals,
                    limits=_limits(doc, q), solver=solver, source=source,
-                   extra={"atmosphere": atmosphere, "normalise": normalise}, guesses=guesses)
+                   extra={"atmosphere": atmosphere, "normalise": normalise}, guesses=guesses,
+                   measurements=measurements)
     from .graph import build_graph
     build_graph(fs)     # raises TopologyError with file:line
     return fs

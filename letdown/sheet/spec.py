@@ -101,6 +101,39 @@ class GoalSpec:
 
 
 @dataclass(frozen=True)
+class MeasurementSpec:
+    """One plant measurement to compare the flowsheet with (all SI).
+
+    Attributes
+    ----------
+    at : str
+        What was measured, as written: ``network.T``, ``preheat.duty``, ``preheat.fuel``.
+    target : str
+        The stream or block name (``at`` before the dot).
+    attribute : str
+        ``T`` [K], ``P`` [Pa], ``flow`` [mol/s], ``mass_flow`` [kg/s] (a flow measured as a mass
+        flow), ``vapour_fraction`` [-] of a stream; ``duty`` [W], ``power`` [W], ``fuel`` [W] (heat
+        of the fuel burnt) of a block.
+    value : float
+        The measured value [SI unit of ``attribute``].
+    uncertainty : float
+        Its standard uncertainty (one standard deviation, coverage factor 1) [same unit], > 0.
+    where : Where
+        Where it was written (flowsheet file or ``--data`` CSV file, and line).
+    field : str
+        Its field path for messages (``measurements[2]``, ``data[3]``).
+    """
+
+    at: str
+    target: str
+    attribute: str
+    value: float
+    uncertainty: float
+    where: Where = Where()
+    field: str = ""
+
+
+@dataclass(frozen=True)
 class SolverSpec:
     """Loop and goal tolerances and iteration caps (defaults are the library's)."""
 
@@ -132,6 +165,9 @@ class Flowsheet:
         Starting values of streams inside loops, by stream name (the ``guesses`` section). A
         closed loop (no feed reaches it) needs one: its tear streams are chosen among the guessed
         streams, and the guessed flow is the circulation. Added by the loader helper.
+    measurements : tuple of MeasurementSpec
+        Plant measurements (the ``measurements`` section) for ``letdown compare``; the solver
+        ignores them.
     """
 
     title: str
@@ -144,3 +180,4 @@ class Flowsheet:
     source: str | None = None
     extra: Mapping[str, Any] = field(default_factory=dict)
     guesses: Mapping[str, FeedSpec] = field(default_factory=dict)
+    measurements: tuple = ()
