@@ -96,6 +96,8 @@ def main():
         fluid.flash(T=283.15, P=70e5)   # warm up
         res[label] = flash_times(fluid, args.repeats, args.batch_repeats)
     native.AVAILABLE = True
+    print(f"compiled batches of >= {native.THREAD_MIN_CASES} cases on {native._n_threads()} "
+          f"thread(s) (LETDOWN_FLASH_THREADS caps it), {os.cpu_count()} cpus")
     print(f"{'':18s} {'compiled':>12s} {'numpy':>12s} {'ratio':>7s}")
     for key in res["compiled"][0]:
         a, b = res["compiled"][0][key], res["numpy"][0][key]

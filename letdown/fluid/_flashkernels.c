@@ -15,6 +15,7 @@
  *                   Newton finish, Gibbs-energy acceptance, phases named by molar volume)
  *   lf_hs_of_split  CubicEngine._hs_of_split (ideal-gas h0, s0, cp0 plus residual parts)
  *   lf_phase        CubicEngine._phase (all properties of one phase)
+ *   lf_two_phase_derivatives  CubicEngine._two_phase_derivatives (effective cp and JT coefficient)
  *   lf_solve_T      the P-h / P-s temperature iteration CubicEngine._solve_T_mixture
  *
  * The functions are loaded with ctypes by letdown/fluid/native.py. The file is built as a Python
@@ -1159,6 +1160,37 @@ LF_EXPORT int lf_phase(int n, int nc, const double *par, const double *ig, const
         out[7 * (size_t)n + i] = Pi * vr / (e.R * Ti);
         out[8 * (size_t)n + i] = M / vr;
         out[9 * (size_t)n + i] = M;
+    }
+    free(work);
+    return 0;
+}
+
+/* CubicEngine._two_phase_derivatives over n two-phase states of enthalpy h: warm-started flashes
+ * (assume 2, ln K tolerance tol) at (T + dT, P) and (T, P (1 + dP_rel)); cp = (h(T + dT) - h) / dT,
+ * jt = -(dh/dP)_T / cp. A pure component gives NaN (the caller replaces both). */
+LF_EXPORT int lf_two_phase_derivatives(int n, int nc, const double *par, const double *ig,
+                                       const double *fc, const double *T, const double *P,
+                                       const double *zs, const double *K, const double *h,
+                                       double dT, double dP_rel, double tol, double *cp,
+                                       double *jt)
+{
+    eos_t e = eos_view(nc, par);
+    ig_t g = ig_view(nc, ig);
+    double *work = malloc((2 * (size_t)nc + PT_WORK(nc)) * sizeof(double));
+    double *x = work, *y = work + nc, *rest = work + 2 * nc;
+    int i;
+    if (!work) return -1;
+    for (i = 0; i < n; i++) {
+        size_t o = (size_t)i * nc;
+        double T2 = T[i] + dT, P2 = P[i] * (1.0 + dP_rel), hT, hP, s_, c_, dhdP;
+        pt_t r;
+        flash_pt_case(&e, fc, T2, P[i], zs + o, K + o, 2, tol, x, y, &r, rest);
+        hs_of_split_case(&e, &g, T2, P[i], zs + o, r.nph, r.beta, x, y, 0, &hT, &s_, &c_, rest);
+        flash_pt_case(&e, fc, T[i], P2, zs + o, K + o, 2, tol, x, y, &r, rest);
+        hs_of_split_case(&e, &g, T[i], P2, zs + o, r.nph, r.beta, x, y, 0, &hP, &s_, &c_, rest);
+        cp[i] = (hT - h[i]) / dT;
+        dhdP = (hP - h[i]) / (dP_rel * P[i]);
+        jt[i] = -dhdP / cp[i];
     }
     free(work);
     return 0;

@@ -146,6 +146,10 @@ class CubicEngine:
         """Effective cp = (dh/dT)_P and jt = -(dh/dP)_T / cp across a two-phase state, by central
         differences of warm-started flashes."""
         K = _k_values(split.ys[i], split.xs[i])
+        if native.AVAILABLE:
+            return native.two_phase_derivatives(self.eos, T, P, zs, K, h, TWO_PHASE_DT,
+                                                TWO_PHASE_DP_REL, TWO_PHASE_DERIV_TOL,
+                                                fl.native_flash_constants)
         m = T.shape[0]
         # both neighbours in one batch: (T + dT, P) and (T, P (1 + dP))
         T2 = np.concatenate([T + TWO_PHASE_DT, T])
@@ -214,9 +218,15 @@ class CubicEngine:
         n = P.shape[0]
         _check_TP(np.full(n, 300.0), P)
         pure, ip = fl._pure_index(zs)
+        if not pure.any():
+            # mixtures only (the usual batch): no scatter into a larger batch
+            T, conv, sp = self._solve_T_mixture(P, target, zs, which, T_guess)
+            split = fl.PTSplit(sp.beta, sp.xs, sp.ys, sp.n_phases, sp.beta >= 1,
+                               fl.SolveReport(conv, np.zeros(n, int), np.zeros(n),
+                                              f"P{which} flash"))
+            return self._assemble(T, P, zs, split)
         T = np.empty(n)
         conv = np.zeros(n, dtype=bool)
-        split_beta = np.full(n, np.nan)
         out_split = None
         if (~pure).any():
             idx = np.nonzero(~pure)[0]

@@ -16,13 +16,19 @@ for, case by case, with the constants passed in from :mod:`letdown.fluid.flash` 
 * :func:`flash_pt` -- the whole :func:`letdown.fluid.flash.flash_PT` for mixtures;
 * :func:`hs_of_split` and :func:`phase` -- the ideal-gas plus residual properties of
   :class:`letdown.fluid.cubic_fluid.CubicEngine` (``_hs_of_split``, ``_phase``);
-* :func:`solve_T` -- the P-h / P-s temperature iteration ``CubicEngine._solve_T_mixture``.
+* :func:`solve_T` -- the P-h / P-s temperature iteration ``CubicEngine._solve_T_mixture``;
+* :func:`two_phase_derivatives` -- ``CubicEngine._two_phase_derivatives``.
 
 :meth:`CubicEOS.lnphi` and :meth:`CubicEOS.properties`, :func:`letdown.fluid.flash.flash_PT` and
 the engine's P-h / P-s iteration dispatch here when ``AVAILABLE``.
 
 ``AVAILABLE`` is False (and every caller keeps to numpy) when the compiled module is missing or the
 environment variable ``LETDOWN_PURE_NUMPY`` is set to ``1``.
+
+Large batches of :func:`flash_pt` and :func:`solve_T` are cut into chunks that run on a small pool of
+threads (ctypes releases the interpreter lock while a kernel runs). Every case is computed on its
+own, so the result does not depend on the chunking; ``LETDOWN_FLASH_THREADS`` caps the number of
+threads (1: no threads).
 """
 from __future__ import annotations
 
@@ -39,6 +45,11 @@ from .components import R
 ROOT_DISTINCT_REL = 1e-12
 #: Length of the header of the parameter block and of the ideal-gas block (see the C file).
 _HEADER = 8
+#: Batches of at least this many cases are spread over threads (below, the hand-over costs more
+#: than it saves); each thread takes CHUNKS_PER_THREAD chunks on average, to even out the cost of
+#: the two-phase cases.
+THREAD_MIN_CASES = 64
+CHUNKS_PER_THREAD = 4
 #: Order of the flash constants (FP_* in the C file); values from flash.native_flash_constants.
 _FP_ORDER = ("ln_tol", "trivial_dist", "stability_max_iter", "early_tm", "ss_max_iter",
              "accelerate_every", "gdem_max_lambda", "gdem_max_step", "gdem_agree", "trivial_lnK",
@@ -76,6 +87,8 @@ def _load():
         "lf_hs_of_split": [i, i, p, p, p, p, p, p, p, p, p, p, p, p],
         "lf_phase": [i, i, p, p, p, p, p, p, i, p],
         "lf_solve_T": [i, i, p, p, p, p, p, p, p, i, p, p, p, p, p, p, p],
+        "lf_two_phase_derivatives": [i, i, p, p, p, p, p, p, p, p, ctypes.c_double,
+                                     ctypes.c_double, ctypes.c_double, p, p],
     }
     try:
         for name, args in sigs.items():
@@ -328,10 +341,18 @@ def flash_pt(eos, T, P, zs, K_init, assume, tol, constants):
     conv = np.empty(n, dtype=np.int32)
     iters = np.empty(n, dtype=np.int32)
     resid = np.empty(n)
-    _check(_LIB.lf_flash_pt(n, nc, _ptr(_pack(eos)), _ptr(fc), _ptr(T), _ptr(P), _ptr(zs),
-                            None if K is None else _ptr(K), None if a is None else _ptr(a),
-                            _ptr(tol), _ptr(beta), _ptr(xs), _ptr(ys), _ptr(nph), _ptr(conv),
-                            _ptr(iters), _ptr(resid)))
+    par = _ptr(_pack(eos))
+    fcp = _ptr(fc)
+
+    def run(lo, hi):
+        return _LIB.lf_flash_pt(hi - lo, nc, par, fcp, _ptr(T[lo:hi]), _ptr(P[lo:hi]),
+                                _ptr(zs[lo:hi]), None if K is None else _ptr(K[lo:hi]),
+                                None if a is None else _ptr(a[lo:hi]), _ptr(tol[lo:hi]),
+                                _ptr(beta[lo:hi]), _ptr(xs[lo:hi]), _ptr(ys[lo:hi]),
+                                _ptr(nph[lo:hi]), _ptr(conv[lo:hi]), _ptr(iters[lo:hi]),
+                                _ptr(resid[lo:hi]))
+
+    _run_chunked(n, run)
     return beta, xs, ys, nph.astype(int), conv.astype(bool), iters.astype(int), resid
 
 
@@ -386,8 +407,62 @@ def solve_T(eos, P, target, zs, is_s, T_guess, flash_constants, solve_constants)
     xs = np.empty((n, nc))
     ys = np.empty((n, nc))
     nph = np.empty(n, dtype=np.int32)
-    _check(_LIB.lf_solve_T(n, nc, _ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)), _ptr(fc),
-                           _ptr(sv), _ptr(P), _ptr(target), _ptr(zs), 1 if is_s else 0,
-                           None if Tg is None else _ptr(Tg), _ptr(T), _ptr(ok), _ptr(beta),
-                           _ptr(xs), _ptr(ys), _ptr(nph)))
+    par, igp, fcp, svp = (_ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)), _ptr(fc),
+                          _ptr(sv))
+
+    def run(lo, hi):
+        return _LIB.lf_solve_T(hi - lo, nc, par, igp, fcp, svp, _ptr(P[lo:hi]),
+                               _ptr(target[lo:hi]), _ptr(zs[lo:hi]), 1 if is_s else 0,
+                               None if Tg is None else _ptr(Tg[lo:hi]), _ptr(T[lo:hi]),
+                               _ptr(ok[lo:hi]), _ptr(beta[lo:hi]), _ptr(xs[lo:hi]),
+                               _ptr(ys[lo:hi]), _ptr(nph[lo:hi]))
+
+    _run_chunked(n, run)
     return T, ok.astype(bool), beta, xs, ys, nph.astype(int)
+
+
+# ------------------------------------------------------------------------------------------------
+def _n_threads():
+    env = os.environ.get("LETDOWN_FLASH_THREADS", "")
+    if env.isdigit() and int(env) > 0:
+        return int(env)
+    try:
+        return max(1, len(os.sched_getaffinity(0)))
+    except AttributeError:           # not on every platform
+        return max(1, os.cpu_count() or 1)
+
+
+_POOL = None
+
+
+def _run_chunked(n, run):
+    """Call ``run(lo, hi)`` (a kernel call on cases lo..hi-1, returning its status) over all n
+    cases: in one call for small batches, else in chunks on a thread pool created on first use."""
+    global _POOL
+    workers = _n_threads()
+    if n < THREAD_MIN_CASES or workers < 2:
+        _check(run(0, n))
+        return
+    if _POOL is None:
+        from concurrent.futures import ThreadPoolExecutor
+        _POOL = ThreadPoolExecutor(max_workers=workers, thread_name_prefix="letdown-flash")
+    n_chunks = min(n, workers * CHUNKS_PER_THREAD)
+    edges = np.linspace(0, n, n_chunks + 1).astype(int)
+    for rc in _POOL.map(lambda k: run(edges[k], edges[k + 1]), range(n_chunks)):
+        _check(rc)
+
+
+def two_phase_derivatives(eos, T, P, zs, K, h, dT, dP_rel, tol, constants):
+    """Effective cp [J/(mol K)] and Joule-Thomson coefficient [K/Pa] of two-phase states, as
+    ``CubicEngine._two_phase_derivatives`` (forward differences of warm-started flashes)."""
+    T, P, zs = _cases(T, P, zs)
+    n, nc = zs.shape
+    K, h = _f(K), _f(h)
+    fc = _block(_FP_ORDER, constants)
+    cp = np.empty(n)
+    jt = np.empty(n)
+    _check(_LIB.lf_two_phase_derivatives(n, nc, _ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)),
+                                         _ptr(fc), _ptr(T), _ptr(P), _ptr(zs), _ptr(K), _ptr(h),
+                                         float(dT), float(dP_rel), float(tol), _ptr(cp),
+                                         _ptr(jt)))
+    return cp, jt
