@@ -326,6 +326,34 @@ class Fluid:
         from .hydrate import hydrate_curve
         return hydrate_curve(self, P, zs=zs, water_activity=water_activity)
 
+    def water_content(self, T, P, method="bukacek"):
+        """Water content of this gas saturated with liquid water, as a mole fraction [-].
+
+        ``method="bukacek"`` (default): Bukacek (1955), sweet gas, composition ignored;
+        ``method="eos"``: fugacity balance with pure liquid water on this fluid's cubic model
+        (Peng-Robinson for GERG-2008) with a Poynting factor. See :mod:`letdown.fluid.water` for
+        the models, the unit helpers (mg/Sm3, lb/MMscf) and their limits.
+
+        Parameters
+        ----------
+        T, P : float or ndarray
+            [K], [Pa].
+
+        Raises
+        ------
+        InputError
+            Unknown method, non-positive T or P.
+        """
+        from .water import water_content
+        return water_content(self, T, P, method=method)
+
+    def water_dew_point(self, y_water, P, method="bukacek"):
+        """Water dew point [K] at pressure P [Pa] of this gas holding water mole fraction
+        ``y_water`` [-] (over liquid water, supercooled below 0 degC); see
+        :func:`letdown.fluid.water.water_dew_point`."""
+        from .water import water_dew_point
+        return water_dew_point(y_water, P, fluid=self, method=method)
+
 
 def _check_composition(zs, nc):
     if zs.shape[-1] != nc:
