@@ -38,7 +38,7 @@ Model statements (say them in reports):
   a_w = 1 - sum x_j (ideal solution), on by default (``dissolved_gas=True``). It matters for CO2:
   without it pure-CO2 hydrate temperatures come out 0.8-3 K above the Carroll (2014) correlation
   over 274-283 K, with it within 0.6 K (tests/test_hydrate.py); for methane it moves T by
-  0.1-0.4 K.
+  0.1-0.45 K.
 * For the GERG-2008 model, the fugacities come from Peng-Robinson for the same gas (GERG-2008 is
   used for single-phase properties only here).
 * Components without Langmuir constants (hexane and heavier, hydrogen, helium, argon, oxygen,
@@ -390,7 +390,7 @@ def formation_T(fugacity, P, names, structure: Structure, ln_aw=0.0, dissolved_g
     return T, rep
 
 
-def hydrate_curve(fluid, P, zs=None, water_activity=1.0) -> HydrateCurve:
+def hydrate_curve(fluid, P, zs=None, water_activity=1.0, dissolved_gas=True) -> HydrateCurve:
     """Hydrate formation temperatures of a gas at pressures P, structures I and II.
 
     Parameters
@@ -402,7 +402,9 @@ def hydrate_curve(fluid, P, zs=None, water_activity=1.0) -> HydrateCurve:
     zs : ndarray (nc,) or (n, nc), optional
         Composition (default the fluid's); water is removed before the fugacities are computed.
     water_activity : float or ndarray (n,)
-        Activity of water in the aqueous phase, 0 < a_w <= 1 [-].
+        Activity of water in the aqueous phase before dissolved gas, 0 < a_w <= 1 [-].
+    dissolved_gas : bool
+        Lower the water activity further by the gas dissolved in the water (Henry's law).
 
     Raises
     ------
@@ -435,8 +437,8 @@ def hydrate_curve(fluid, P, zs=None, water_activity=1.0) -> HydrateCurve:
         return eos_fugacities(fluid, T, Pc, dry[idx])
 
     ln_aw = np.log(aw)
-    T1, r1 = formation_T(fugacity, P, names, SI, ln_aw)
-    T2, r2 = formation_T(fugacity, P, names, SII, ln_aw)
+    T1, r1 = formation_T(fugacity, P, names, SI, ln_aw, dissolved_gas)
+    T2, r2 = formation_T(fugacity, P, names, SII, ln_aw, dissolved_gas)
     conv = r1.converged & r2.converged
     rep = SolveReport(converged=conv, iterations=np.maximum(r1.iterations, r2.iterations),
                       residual=np.fmax(r1.residual, r2.residual),
