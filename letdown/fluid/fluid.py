@@ -307,6 +307,72 @@ class Fluid:
         return float(out[0]) if scalar else out
 
 
+    # ----------------------------------------------------------------- water and hydrates
+    def hydrate_T(self, P, water_activity=1.0, zs=None):
+        """Hydrate formation temperature at pressure P [K] (van der Waals-Platteeuw, Munck et al.
+        1988; structures I and II, the one forming at the higher temperature). See
+        :mod:`letdown.fluid.hydrate` for the model statements.
+
+        Parameters
+        ----------
+        P : float or ndarray (n,)
+            Pressure [Pa].
+        water_activity : float or ndarray
+            Activity of water in the aqueous phase before dissolved gas (1 for pure water; below 1
+            with an inhibitor, see :mod:`letdown.fluid.inhibitor`) [-].
+        zs : ndarray, optional
+            Composition override (component order); water in it is ignored.
+
+        Returns
+        -------
+        float or ndarray
+            [K]; NaN where no hydrate forms between 230 K and 320 K.
+
+        Raises
+        ------
+        InputError
+            Non-positive pressure, water activity outside (0, 1], no hydrate former in the gas.
+        """
+        from .hydrate import hydrate_curve
+        scalar = np.ndim(P) == 0 and np.ndim(water_activity) == 0 and (zs is None or np.ndim(zs) == 1)
+        T = hydrate_curve(self, P, zs=zs, water_activity=water_activity).T
+        return float(T[0]) if scalar else T
+
+    def hydrate_curve(self, P, water_activity=1.0, zs=None):
+        """Hydrate formation temperatures over pressures P [Pa]: a
+        :class:`letdown.fluid.hydrate.HydrateCurve` (P, T, structure, T_sI, T_sII, report)."""
+        from .hydrate import hydrate_curve
+        return hydrate_curve(self, P, zs=zs, water_activity=water_activity)
+
+    def water_content(self, T, P, method="bukacek"):
+        """Water content of this gas saturated with liquid water, as a mole fraction [-].
+
+        ``method="bukacek"`` (default): Bukacek (1955), sweet gas, composition ignored;
+        ``method="eos"``: fugacity balance with pure liquid water on this fluid's cubic model
+        (Peng-Robinson for GERG-2008) with a Poynting factor. See :mod:`letdown.fluid.water` for
+        the models, the unit helpers (mg/Sm3, lb/MMscf) and their limits.
+
+        Parameters
+        ----------
+        T, P : float or ndarray
+            [K], [Pa].
+
+        Raises
+        ------
+        InputError
+            Unknown method, non-positive T or P.
+        """
+        from .water import water_content
+        return water_content(self, T, P, method=method)
+
+    def water_dew_point(self, y_water, P, method="bukacek"):
+        """Water dew point [K] at pressure P [Pa] of this gas holding water mole fraction
+        ``y_water`` [-] (over liquid water, supercooled below 0 degC); see
+        :func:`letdown.fluid.water.water_dew_point`."""
+        from .water import water_dew_point
+        return water_dew_point(y_water, P, fluid=self, method=method)
+
+
 def _check_composition(zs, nc):
     if zs.shape[-1] != nc:
         raise InputError(f"composition has {zs.shape[-1]} entries, the fluid has {nc} components")
