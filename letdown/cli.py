@@ -270,7 +270,7 @@ def _sweep(args) -> int:
     executor = make_executor(args.workers, args.dask)
     try:
         table = sweep(fs, variables, mode="zip" if args.zip else "grid", model=args.model,
-                      outputs=outputs, executor=executor)
+                      outputs=outputs, executor=executor, show_progress=sys.stderr.isatty())
     finally:
         executor.close()
     if target is not None:
@@ -302,7 +302,8 @@ def _year(args) -> int:
     executor = make_executor(args.workers, args.dask)
     try:
         res = year(fs, profile, efficiency=args.efficiency, feed=args.feed,
-                   outlet_block=args.outlet, model=args.model, executor=executor)
+                   outlet_block=args.outlet, model=args.model, executor=executor,
+                   show_progress=sys.stderr.isatty())
     finally:
         executor.close()
     print(year_text(res))

@@ -100,3 +100,13 @@ def test_command_line_year(tmp_path):
     assert "MWh of heat" in proc.stdout and "licensed staff" in proc.stdout
     assert (out / "hourly.csv").read_text().count("\n") == 13
     assert {"summary.json", "run.json"} <= {p.name for p in out.iterdir()}
+
+
+def test_progress_bar_shows_and_changes_nothing(tmp_path, capsys):
+    pytest.importorskip("tqdm")
+    fs = load(GATE)
+    variables = [parse_variable(fs, "supply.T=0degC:10degC:3")]
+    quiet = sweep(fs, variables)
+    shown = sweep(fs, variables, show_progress=True)
+    assert "solving" in capsys.readouterr().err
+    assert shown.rows == quiet.rows

@@ -14,13 +14,25 @@ import numpy as np
 from ..errors import InputError
 
 
+def progress(iterable, total: int, desc: str, enabled: bool):
+    """Wrap ``iterable`` in a terminal progress bar (tqdm, on stderr) when ``enabled``."""
+    if not enabled:
+        return iterable
+    try:
+        from tqdm import tqdm
+    except ImportError:       # the bar is a convenience: without tqdm, no bar
+        return iterable
+    return tqdm(iterable, total=total, desc=desc, unit="chunk", leave=False)
+
+
 class Serial:
     """Run chunks one after the other in this process."""
 
     workers = 1
 
-    def map(self, fn, items):
-        return [fn(item) for item in items]
+    def map(self, fn, items, show_progress: bool = False):
+        items = list(items)
+        return [fn(item) for item in progress(items, len(items), "solving", show_progress)]
 
     def close(self):
         pass
@@ -35,11 +47,12 @@ class ProcessPool:
         self.workers = int(workers)
         self._pool = None
 
-    def map(self, fn, items):
+    def map(self, fn, items, show_progress: bool = False):
         from concurrent.futures import ProcessPoolExecutor
         if self._pool is None:
             self._pool = ProcessPoolExecutor(max_workers=self.workers)
-        return list(self._pool.map(fn, items))
+        items = list(items)
+        return list(progress(self._pool.map(fn, items), len(items), "solving", show_progress))
 
     def close(self):
         if self._pool is not None:
@@ -63,8 +76,11 @@ class DaskCluster:
                              field="--dask") from None
         self.workers = max(1, len(self._client.scheduler_info().get("workers", {})))
 
-    def map(self, fn, items):
-        futures = self._client.map(fn, items, pure=False)
+    def map(self, fn, items, show_progress: bool = False):
+        from distributed import as_completed
+        futures = self._client.map(fn, list(items), pure=False)
+        for _ in progress(as_completed(futures), len(futures), "solving", show_progress):
+            pass
         return self._client.gather(futures)
 
     def close(self):

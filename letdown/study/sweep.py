@@ -29,6 +29,8 @@ from ..sheet.solve import FEED_FIELDS, solve_cases
 from ..sheet.spec import Flowsheet
 
 FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
+#: Cases per chunk when a progress bar is shown (each chunk is still one vectorised batch).
+PROGRESS_CHUNK = 500
 SI_UNITS = {"temperature": "K", "pressure": "Pa", "flow": "mol/s", "power": "W",
             "pressure_difference": "Pa", "temperature_difference": "K", "fraction": "-",
             "ua": "W/K"}
@@ -150,7 +152,7 @@ def _held_kind(fs, hold: str) -> str:
 
 
 def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = None,
-          outputs=None, executor=None) -> SweepTable:
+          outputs=None, executor=None, show_progress: bool = False) -> SweepTable:
     """Solve ``fs`` for every case of the swept variables.
 
     Parameters
@@ -204,7 +206,10 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
             for k, target in zip(sorted(goal_targets), key):
                 goals[k] = dataclasses.replace(goals[k], target=float(target))
             fsk = dataclasses.replace(fs2, goals=tuple(goals))
-        for part in chunks(group.size, executor.workers):
+        parts = executor.workers
+        if show_progress:
+            parts = max(parts, int(np.ceil(group.size / PROGRESS_CHUNK)))
+        for part in chunks(group.size, parts):
             idx = group[part]
             tasks.append((fsk, {k: v[idx] for k, v in cases.items()}, model, outputs, idx.size))
             owners.append(idx)
@@ -212,8 +217,8 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
     out_rows = [None] * n
     columns = None
     model_name = None
-    for idx, (names, values, converged, reasons, model_name) in zip(owners,
-                                                                      executor.map(_sweep_chunk, tasks)):
+    results = executor.map(_sweep_chunk, tasks, show_progress=show_progress)
+    for idx, (names, values, converged, reasons, model_name) in zip(owners, results):
         keep = [c for c, nm in enumerate(names) if nm not in inputs]
         names = [names[c] for c in keep]
         values = [values[c] for c in keep]

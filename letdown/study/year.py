@@ -162,7 +162,8 @@ class YearResult:
 
 
 def year(fs: Flowsheet, profile: Profile, *, efficiency: float = 0.75, feed: str | None = None,
-         outlet_block: str | None = None, model: str | None = None, executor=None) -> YearResult:
+         outlet_block: str | None = None, model: str | None = None, executor=None,
+         show_progress: bool = False) -> YearResult:
     """Solve every hour of ``profile`` on ``fs`` with its goals held.
 
     Parameters
@@ -180,6 +181,8 @@ def year(fs: Flowsheet, profile: Profile, *, efficiency: float = 0.75, feed: str
     model : str, optional
     executor : optional
         :mod:`letdown.study.executors` executor (default: this process).
+    show_progress : bool
+        A progress bar over the chunks on the terminal (for the command line).
 
     Raises
     ------
@@ -208,7 +211,7 @@ def year(fs: Flowsheet, profile: Profile, *, efficiency: float = 0.75, feed: str
     executor = executor or Serial()
     parts = chunks(profile.n, max(executor.workers, int(np.ceil(profile.n / CHUNK_CASES))))
     tasks = [(fs, {k: a[idx] for k, a in cases.items()}, model) for idx in parts]
-    outs = executor.map(_solve_chunk, tasks)
+    outs = executor.map(_solve_chunk, tasks, show_progress=show_progress)
     conv = np.concatenate([o["converged"] for o in outs])
     reasons = tuple(r for o in outs for r in o["reasons"])
     heaters = {n: np.concatenate([o["heaters"][n] for o in outs]) for n in outs[0]["heaters"]}
