@@ -22,7 +22,6 @@ import CoolProp
 import pytest
 from CoolProp import AbstractState
 
-import letdown
 from tests.cases import (AIR, ATM, BAR, JT_EXPERIMENTAL_1ATM, JT_REFERENCE_EOS,
                          JT_RULE_OF_THUMB_K_PER_BAR, LEAN_GASES, LETDOWN_70_TO_7, Gas)
 

@@ -11,7 +11,7 @@ from ..errors import ConvergenceError, InputError, ModelError
 from .components import ComponentSet, canonical_name
 from .cubic import KINDS, CubicEOS
 from .cubic_fluid import CubicEngine
-from .state import State, States
+
 
 #: Accepted model names (and spellings) -> canonical model name.
 MODEL_NAMES = {

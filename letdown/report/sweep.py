@@ -11,6 +11,7 @@ from pathlib import Path
 import numpy as np
 
 from ..errors import InputError
+from .figures import figure_files, pyplot
 
 
 def sweep_files(table, *, source: str, variables, mode: str, plot: str | None = None) -> dict:
@@ -59,12 +60,9 @@ def plot_files(table, spec: str) -> dict:
         raise InputError(f"--plot {spec!r}: give X:Y[,Y] from the columns "
                          f"({', '.join(n for n in names if n not in ('converged', 'reason'))})",
                          field="--plot")
-    try:
-        import matplotlib
-        matplotlib.use("Agg")
-        import matplotlib.pyplot as plt
-    except ImportError:
-        raise InputError("plots need matplotlib: pip install 'letdown[plot]'", field="--plot") from None
+    plt = pyplot()
+    if plt is None:
+        raise InputError("plots need matplotlib: pip install 'letdown[plot]'", field="--plot")
     x = table.column(names[wanted[0]])
     fig, ax = plt.subplots(figsize=(7, 4.5))
     order = np.argsort(x, kind="stable")
@@ -75,10 +73,4 @@ def plot_files(table, spec: str) -> dict:
     ax.grid(True, alpha=0.3)
     ax.legend()
     ax.set_title("letdown sweep (engineering estimates)")
-    out = {}
-    for ext in ("png", "svg"):
-        buf = io.BytesIO()
-        fig.savefig(buf, format=ext, dpi=120, bbox_inches="tight")
-        out[f"sweep.{ext}"] = buf.getvalue()
-    plt.close(fig)
-    return out
+    return figure_files(fig, "sweep")

@@ -10,6 +10,8 @@ from pathlib import Path
 
 import numpy as np
 
+from .figures import figure_files, pyplot
+
 CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
            "licensed staff.")
 
@@ -74,11 +76,8 @@ def _num(x) -> str:
 
 
 def _plots(res) -> dict:
-    try:
-        import matplotlib
-        matplotlib.use("Agg")
-        import matplotlib.pyplot as plt
-    except ImportError:
+    plt = pyplot()
+    if plt is None:
         return {}
     t = np.arange(res.profile.n) / 24.0
     fig, (a1, a2) = plt.subplots(2, 1, figsize=(9, 6), sharex=True)
@@ -95,10 +94,4 @@ def _plots(res) -> dict:
     a2.legend(loc="upper right")
     a2.grid(True, alpha=0.3)
     fig.suptitle("A year of operation (engineering estimates)")
-    out = {}
-    for ext in ("png", "svg"):
-        b = io.BytesIO()
-        fig.savefig(b, format=ext, dpi=110, bbox_inches="tight")
-        out[f"year.{ext}"] = b.getvalue()
-    plt.close(fig)
-    return out
+    return figure_files(fig, "year", dpi=110)
