@@ -329,3 +329,56 @@ def test_envelope_to_dict_is_json_ready():
     assert d["critical"]["T_K"] == env.critical.T
     assert len(d["dew"]["T_K"]) == len(env.dew)
     assert set(d["lines"]) == {"0.1", "0.5", "0.9"}
+
+
+# ---------------------------------------------------------------------------------------------
+# Command line: letdown envelope FILE --stream NAME
+# ---------------------------------------------------------------------------------------------
+GATE_STATION = "flowsheets/gate-station.yaml"
+
+
+def test_cli_envelope_writes_csv_json_and_plot(tmp_path, capsys):
+    import json
+    from letdown.cli import main
+    out_dir = tmp_path / "env"
+    svg = tmp_path / "env.svg"
+    rc = main(["envelope", GATE_STATION, "--stream", "network", "--lines", "0.5", "--json",
+               "--csv", str(out_dir), "--plot", str(svg)])
+    assert rc == 0
+    d = json.loads(capsys.readouterr().out)
+    assert d["stream"] == "network" and d["converged"]
+    assert {p["stream"] for p in d["operating_points"]} == {"supply", "warm", "network"}
+    # the same envelope as the Python API on the stream's composition
+    fluid = letdown.Fluid(d["composition"])
+    env = fluid.envelope()
+    assert d["critical"]["T_K"] == pytest.approx(env.critical.T, abs=1e-9)
+    assert d["cricondentherm"]["T_K"] == pytest.approx(env.cricondentherm.T, abs=1e-9)
+    text = (out_dir / "envelope.csv").read_text()
+    assert text.startswith("curve,T_K,P_Pa\n") and "vapour fraction 0.5" in text
+    points = (out_dir / "points.csv").read_text()
+    assert "cricondenbar" in points and "stream network" in points
+    assert svg.read_text().lstrip().startswith("<?xml")
+
+
+def test_cli_envelope_bad_plot_name_writes_nothing(tmp_path, capsys):
+    from letdown.cli import main
+    rc = main(["envelope", GATE_STATION, "--stream", "network", "--csv", str(tmp_path / "out"),
+               "--plot", str(tmp_path / "env.pdf")])
+    assert rc == 2
+    assert "--plot" in capsys.readouterr().err
+    assert list(tmp_path.iterdir()) == []
+
+
+def test_cli_envelope_unknown_stream(capsys):
+    from letdown.cli import main
+    assert main(["envelope", GATE_STATION, "--stream", "nowhere"]) == 2
+    assert "no stream 'nowhere'" in capsys.readouterr().err
+
+
+def test_other_verbs_do_not_import_matplotlib():
+    import subprocess
+    import sys
+    code = ("import sys, letdown.cli as c; c.main(['check', %r]); "
+            "print('matplotlib' in sys.modules)" % GATE_STATION)
+    out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, check=True)
+    assert out.stdout.strip().splitlines()[-1] == "False"
