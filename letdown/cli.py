@@ -6,6 +6,9 @@ Verbs::
     letdown check FILE [--debug]
     letdown crosscheck FILE [--models M,M] [--json] [--units si|field]
     letdown compare FILE [--data CSV] [--fit block.parameter --within LO HI] [--models M,M] [--json]
+    letdown envelope FILE --stream NAME [--lines 0.1,0.5] [--csv DIR] [--json] [--plot F.png|F.svg]
+    letdown sweep FILE --vary PATH=VALUES [...] [--zip] [--out DIR] [--plot X:Y] [--workers N|--dask A]
+    letdown year FILE --profile CSV [--efficiency E] [--out DIR] [--workers N|--dask A]
     letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
 
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
@@ -107,6 +110,17 @@ def _parser() -> argparse.ArgumentParser:
     cm.add_argument("--models", metavar="M,M", help="comma-separated models (default: all that apply)")
     cm.add_argument("--json", action="store_true", help="print only the JSON comparison on stdout")
     cm.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+    e = sub.add_parser("envelope", parents=[common],
+                       help="phase envelope of one stream of a solved flowsheet")
+    e.add_argument("file", metavar="FILE")
+    e.add_argument("--stream", required=True, metavar="NAME", help="the stream whose gas to use")
+    e.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+    e.add_argument("--lines", metavar="B,B", default="",
+                   help="vapour fractions of extra lines, e.g. 0.1,0.5,0.9")
+    e.add_argument("--csv", metavar="DIR", help="write envelope.csv and points.csv to DIR")
+    e.add_argument("--json", action="store_true", help="print only the JSON envelope on stdout")
+    e.add_argument("--plot", metavar="FILE", help="draw the envelope into FILE (.png or .svg)")
+    e.add_argument("--units", choices=("si", "field"), default="si", help="display units")
 
     st = sub.add_parser("state", parents=[common], help="one fluid state from two of T, P, h, s")
     st.add_argument("--T", help="temperature, e.g. 10degC")
@@ -147,6 +161,8 @@ def main(argv=None) -> int:
             return _year(args)
         if args.verb == "compare":
             return _compare(args)
+        if args.verb == "envelope":
+            return _envelope(args)
         return _state(args)
     except (InputError, ModelError) as exc:
         _error(exc, where, debug)
@@ -368,6 +384,78 @@ def _compare(args) -> int:
     failed = [m for m, c in cmp.results.items() if fit and c.fit is None]
     if failed and len(failed) == len(cmp.results):
         print(f"letdown: {args.file}: the fit failed with every model", file=sys.stderr)
+def _plot_target(path: str) -> Path:
+    """Check ``--plot FILE`` before solving: a .png or .svg in an existing directory, and
+    matplotlib present."""
+    import importlib.util
+    target = Path(path)
+    if target.suffix.lower() not in (".png", ".svg"):
+        raise InputError(f"'{path}' must end in .png or .svg", field="--plot")
+    if not target.resolve().parent.is_dir():
+        raise InputError(f"the directory of '{path}' does not exist", field="--plot")
+    if importlib.util.find_spec("matplotlib") is None:
+        raise InputError("drawing the envelope needs matplotlib (pip install matplotlib); the "
+                         "data can still be written with --csv or --json", field="--plot")
+    return target
+
+
+def _envelope(args) -> int:
+    import letdown
+
+    from .fluid import Fluid
+    from .report.envelope import (envelope_csv_files, envelope_dict, envelope_text,
+                                  plot_envelope)
+
+    target = _csv_target(args.csv) if args.csv else None
+    plot = _plot_target(args.plot) if args.plot else None
+    betas = []
+    for part in args.lines.split(","):
+        if part.strip():
+            try:
+                betas.append(float(part))
+            except ValueError:
+                raise InputError(f"'{part.strip()}' is not a number", field="--lines") from None
+    sheet = letdown.load(args.file)
+    spec = sheet.flowsheet
+    atmosphere = spec.extra.get("atmosphere") if spec is not None else None
+    result = sheet.solve(model=args.model) if args.model else sheet.solve()
+    if hasattr(result, "case") and not hasattr(result, "to_json"):
+        result = result.case(0)
+    if args.stream not in result.streams:
+        raise InputError(f"no stream '{args.stream}' (streams: {', '.join(result.streams)})",
+                         field="--stream")
+    if not result.converged:
+        print(f"letdown: {args.file}: the flowsheet did not converge; no envelope drawn",
+              file=sys.stderr)
+        return EXIT_FAILED_SOLVE
+    model = result.model
+    gas = Fluid(dict(result.streams[args.stream].zs), model=model, kij=spec.gas.kij,
+                normalise=True)
+    env = gas.envelope(betas=betas)
+    points = [(n, s.T, s.P) for n, s in result.streams.items()]
+    if args.json:
+        print(json.dumps(envelope_dict(env, args.stream, model, points), indent=2,
+                         allow_nan=False))
+    else:
+        kw = {"atmosphere": atmosphere} if atmosphere else {}
+        print(envelope_text(env, args.stream, model, points, args.units, **kw))
+    if target is not None:
+        _write_csv(target, envelope_csv_files(env, points))
+        print(f"letdown: wrote {target / 'envelope.csv'} and {target / 'points.csv'}",
+              file=sys.stderr)
+    if plot is not None:
+        tmp = plot.with_name(f".{plot.stem}.tmp{plot.suffix}")
+        try:
+            plot_envelope(env, str(tmp), f"{spec.title}: stream {args.stream} ({model})", points,
+                          args.units)
+            os.replace(tmp, plot)
+        finally:
+            if tmp.exists():
+                tmp.unlink()
+        print(f"letdown: wrote {plot}", file=sys.stderr)
+    if not env.converged:
+        print(f"letdown: {args.file}: the envelope is incomplete (see the warnings above)",
+              file=sys.stderr)
         return EXIT_FAILED_SOLVE
     return EXIT_OK
 

@@ -286,6 +286,43 @@ class Fluid:
         upper, retrograde dew point)."""
         return self._saturation("bubble", P, T, zs)
 
+    def envelope(self, zs=None, betas=()):
+        """Phase envelope: dew and bubble curves traced through the critical point.
+
+        Parameters
+        ----------
+        zs : ndarray (nc,), optional
+            Composition in component order [-]; the fluid's own by default.
+        betas : sequence of float
+            Vapour fractions (strictly between 0 and 1) of the lines of constant vapour fraction
+            to trace as well [-].
+
+        Returns
+        -------
+        letdown.fluid.envelope.Envelope
+            ``dew`` and ``bubble`` (``.T`` [K], ``.P`` [Pa]), ``critical``, ``cricondentherm``,
+            ``cricondenbar`` (``.T``, ``.P``, or None where the curve has none), ``lines``
+            {vapour fraction: (T, P)}, ``converged`` and per-trace ``reports``.
+
+        Raises
+        ------
+        ModelError
+            The fluid is on GERG-2008 (used here for single-phase states only).
+        InputError
+            A bad composition, a single component, vapour fractions outside (0, 1).
+        ConvergenceError
+            No first dew point at 1 bar, or the dew branch could not be traced.
+        """
+        if self.model == "gerg-2008":
+            raise ModelError("GERG-2008 is used for single-phase states only here; use a cubic "
+                             "model (peng-robinson, soave-redlich-kwong) for the phase envelope")
+        from .envelope import phase_envelope
+        Z = self._zs if zs is None else np.asarray(zs, dtype=float)
+        if Z.ndim != 1:
+            raise InputError("envelope takes one composition (a 1-D array)")
+        _check_composition(Z[None, :], self.n_components)
+        return phase_envelope(self._engine, Z, betas)
+
     def _saturation(self, kind, P, T, zs):
         if (P is None) == (T is None):
             raise InputError(f"{kind} point needs exactly one of P or T")
