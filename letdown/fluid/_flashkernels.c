@@ -16,6 +16,7 @@
  *   lf_hs_of_split  CubicEngine._hs_of_split (ideal-gas h0, s0, cp0 plus residual parts)
  *   lf_phase        CubicEngine._phase (all properties of one phase)
  *   lf_two_phase_derivatives  CubicEngine._two_phase_derivatives (effective cp and JT coefficient)
+ *   lf_assemble     the numbers of CubicEngine._assemble (whole, per phase, two-phase derivatives)
  *   lf_solve_T      the P-h / P-s temperature iteration CubicEngine._solve_T_mixture
  *
  * The functions are loaded with ctypes by letdown/fluid/native.py. The file is built as a Python
@@ -1117,6 +1118,41 @@ LF_EXPORT int lf_hs_of_split(int n, int nc, const double *par, const double *ig,
     return 0;
 }
 
+enum { PH_H, PH_S, PH_CP, PH_CV, PH_JT, PH_W, PH_V, PH_Z, PH_DENSITY, PH_M, PH_N };
+
+/* CubicEngine._phase for one phase into out[PH_N]; work 8 nc */
+static void phase_one(const eos_t *e, const ig_t *g, double Ti, double Pi, const double *x,
+                      int code, int vshift, double *out, double *work)
+{
+    int nc = e->nc, k;
+    double *h0 = work, *s0 = work + nc, *cp0 = work + 2 * nc, *w5 = work + 3 * nc;
+    double p[PR_N], sh = 0.0, ss = 0.0, sc = 0.0, M = 0.0;
+    double cv, cp, dvdT, v, vr;
+    ideal_gas(g, nc, e->R, Ti, h0, s0, cp0);
+    props_one(e, Ti, Pi, x, code, p, w5);
+    for (k = 0; k < nc; k++) {
+        sh += x[k] * h0[k];
+        ss += x[k] * s0[k];
+        sc += x[k] * cp0[k];
+        M += x[k] * g->Ms[k];
+    }
+    cv = sc - e->R + p[PR_CVRES];
+    dvdT = -p[PR_DPDT] / p[PR_DPDV];
+    cp = cv + Ti * p[PR_DPDT] * dvdT;
+    v = p[PR_V];
+    vr = vshift ? v - p[PR_CSHIFT] : v;
+    out[PH_H] = sh + p[PR_HRES];
+    out[PH_S] = ss - e->R * log(Pi / g->Pref) - e->R * mix_entropy_sum(nc, x) + p[PR_SRES];
+    out[PH_CP] = cp;
+    out[PH_CV] = cv;
+    out[PH_JT] = (Ti * dvdT - v) / cp;
+    out[PH_W] = sqrt(-v * v * (cp / cv) * p[PR_DPDV] / M);
+    out[PH_V] = vr;
+    out[PH_Z] = Pi * vr / (e->R * Ti);
+    out[PH_DENSITY] = M / vr;
+    out[PH_M] = M;
+}
+
 /* CubicEngine._phase over n phases: out is 10 x n, rows h, s, cp, cv, jt, w, v, Z, density,
  * molar_mass; code may be NULL; vshift: report volumes with the Peneloux shift. */
 LF_EXPORT int lf_phase(int n, int nc, const double *par, const double *ig, const double *T,
@@ -1126,40 +1162,93 @@ LF_EXPORT int lf_phase(int n, int nc, const double *par, const double *ig, const
     eos_t e = eos_view(nc, par);
     ig_t g = ig_view(nc, ig);
     double *work = malloc((size_t)(8 * nc) * sizeof(double));
-    double *h0 = work, *s0 = work + nc, *cp0 = work + 2 * nc, *w3 = work + 3 * nc;
+    double row[PH_N];
     int i, k;
     if (!work) return -1;
     for (i = 0; i < n; i++) {
-        const double *x = xs + (size_t)i * nc;
-        double p[PR_N], Ti = T[i], Pi = P[i], sh = 0.0, ss = 0.0, sc = 0.0, M = 0.0;
-        double h, s, cv, cp, dvdT, v, jt, w, vr;
-        ideal_gas(&g, nc, e.R, Ti, h0, s0, cp0);
-        props_one(&e, Ti, Pi, x, code ? code[i] : 0, p, w3);
-        for (k = 0; k < nc; k++) {
-            sh += x[k] * h0[k];
-            ss += x[k] * s0[k];
-            sc += x[k] * cp0[k];
-            M += x[k] * g.Ms[k];
+        phase_one(&e, &g, T[i], P[i], xs + (size_t)i * nc, code ? code[i] : 0, vshift, row, work);
+        for (k = 0; k < PH_N; k++) out[(size_t)k * n + i] = row[k];
+    }
+    free(work);
+    return 0;
+}
+
+/* the two neighbouring flashes of CubicEngine._two_phase_derivatives for one state; work
+ * 2 nc + PT_WORK(nc) */
+static void derivatives_case(const eos_t *e, const ig_t *g, const double *fc, double T, double P,
+                             const double *z, const double *K, double h, double dT,
+                             double dP_rel, double tol, double *cp, double *jt, double *work)
+{
+    int nc = e->nc;
+    double *x = work, *y = work + nc, *rest = work + 2 * nc;
+    double T2 = T + dT, P2 = P * (1.0 + dP_rel), hT, hP, s_, c_, dhdP;
+    pt_t r;
+    flash_pt_case(e, fc, T2, P, z, K, 2, tol, x, y, &r, rest);
+    hs_of_split_case(e, g, T2, P, z, r.nph, r.beta, x, y, 0, &hT, &s_, &c_, rest);
+    flash_pt_case(e, fc, T, P2, z, K, 2, tol, x, y, &r, rest);
+    hs_of_split_case(e, g, T, P2, z, r.nph, r.beta, x, y, 0, &hP, &s_, &c_, rest);
+    *cp = (hT - h) / dT;
+    dhdP = (hP - h) / (dP_rel * P);
+    *jt = -dhdP / *cp;
+}
+
+/* CubicEngine._assemble (the numbers; the caller builds the states) for n cases: out is
+ * AS_N x n. Single phase: the properties of the phase (of zs); two phases: h, s, Z, density of
+ * the whole from both phases, effective cp and JT coefficient from the neighbouring flashes (see
+ * lf_two_phase_derivatives, K = y/x), cv and w NaN. Per phase: Z, density, h, s, molar mass of
+ * the vapour (where beta > 0) and of the liquid (where beta < 1), NaN elsewhere. */
+enum {
+    AS_H, AS_S, AS_CP, AS_CV, AS_JT, AS_W, AS_Z, AS_DENSITY,
+    AS_VZ, AS_VDENSITY, AS_VH, AS_VS, AS_VM, AS_LZ, AS_LDENSITY, AS_LH, AS_LS, AS_LM, AS_N
+};
+
+LF_EXPORT int lf_assemble(int n, int nc, const double *par, const double *ig, const double *fc,
+                          const double *T, const double *P, const double *zs, const int *nph,
+                          const double *beta, const double *xs, const double *ys, int vshift,
+                          double dT, double dP_rel, double tol, double *out)
+{
+    eos_t e = eos_view(nc, par);
+    ig_t g = ig_view(nc, ig);
+    double *work = malloc((3 * (size_t)nc + PT_WORK(nc)) * sizeof(double));
+    double *K = work, *rest = work + nc;
+    int i, k;
+    if (!work) return -1;
+    for (i = 0; i < n; i++) {
+        size_t o = (size_t)i * nc;
+        const double *z = zs + o, *x = xs + o, *y = ys + o;
+        double A[PH_N], r[AS_N], b = beta[i];
+        int two = nph[i] == 2;
+        phase_one(&e, &g, T[i], P[i], two ? y : z, 0, vshift, A, rest);
+        r[AS_H] = A[PH_H]; r[AS_S] = A[PH_S]; r[AS_CP] = A[PH_CP]; r[AS_CV] = A[PH_CV];
+        r[AS_JT] = A[PH_JT]; r[AS_W] = A[PH_W]; r[AS_Z] = A[PH_Z]; r[AS_DENSITY] = A[PH_DENSITY];
+        r[AS_VZ] = r[AS_VDENSITY] = r[AS_VH] = r[AS_VS] = r[AS_VM] = NAN;
+        r[AS_LZ] = r[AS_LDENSITY] = r[AS_LH] = r[AS_LS] = r[AS_LM] = NAN;
+        if (b > 0.0 || two) {
+            r[AS_VZ] = A[PH_Z]; r[AS_VDENSITY] = A[PH_DENSITY]; r[AS_VH] = A[PH_H];
+            r[AS_VS] = A[PH_S]; r[AS_VM] = A[PH_M];
         }
-        h = sh + p[PR_HRES];
-        s = ss - e.R * log(Pi / g.Pref) - e.R * mix_entropy_sum(nc, x) + p[PR_SRES];
-        cv = sc - e.R + p[PR_CVRES];
-        dvdT = -p[PR_DPDT] / p[PR_DPDV];
-        cp = cv + Ti * p[PR_DPDT] * dvdT;
-        v = p[PR_V];
-        jt = (Ti * dvdT - v) / cp;
-        w = sqrt(-v * v * (cp / cv) * p[PR_DPDV] / M);
-        vr = vshift ? v - p[PR_CSHIFT] : v;
-        out[i] = h;
-        out[(size_t)n + i] = s;
-        out[2 * (size_t)n + i] = cp;
-        out[3 * (size_t)n + i] = cv;
-        out[4 * (size_t)n + i] = jt;
-        out[5 * (size_t)n + i] = w;
-        out[6 * (size_t)n + i] = vr;
-        out[7 * (size_t)n + i] = Pi * vr / (e.R * Ti);
-        out[8 * (size_t)n + i] = M / vr;
-        out[9 * (size_t)n + i] = M;
+        if (b < 1.0 && !two) {
+            r[AS_LZ] = A[PH_Z]; r[AS_LDENSITY] = A[PH_DENSITY]; r[AS_LH] = A[PH_H];
+            r[AS_LS] = A[PH_S]; r[AS_LM] = A[PH_M];
+        }
+        if (two) {
+            double L[PH_N], v, Mz = 0.0;
+            phase_one(&e, &g, T[i], P[i], x, 0, vshift, L, rest);
+            r[AS_H] = b * A[PH_H] + (1 - b) * L[PH_H];
+            r[AS_S] = b * A[PH_S] + (1 - b) * L[PH_S];
+            v = b * A[PH_V] + (1 - b) * L[PH_V];
+            for (k = 0; k < nc; k++) Mz += z[k] * g.Ms[k];
+            r[AS_Z] = P[i] * v / (e.R * T[i]);
+            r[AS_DENSITY] = Mz / v;
+            r[AS_LZ] = L[PH_Z]; r[AS_LDENSITY] = L[PH_DENSITY]; r[AS_LH] = L[PH_H];
+            r[AS_LS] = L[PH_S]; r[AS_LM] = L[PH_M];
+            for (k = 0; k < nc; k++) K[k] = (x[k] > 0.0 && y[k] > 0.0) ? y[k] / x[k] : 1.0;
+            derivatives_case(&e, &g, fc, T[i], P[i], z, K, r[AS_H], dT, dP_rel, tol, &r[AS_CP],
+                             &r[AS_JT], rest);
+            r[AS_CV] = NAN;
+            r[AS_W] = NAN;
+        }
+        for (k = 0; k < AS_N; k++) out[(size_t)k * n + i] = r[k];
     }
     free(work);
     return 0;
@@ -1177,20 +1266,12 @@ LF_EXPORT int lf_two_phase_derivatives(int n, int nc, const double *par, const d
     eos_t e = eos_view(nc, par);
     ig_t g = ig_view(nc, ig);
     double *work = malloc((2 * (size_t)nc + PT_WORK(nc)) * sizeof(double));
-    double *x = work, *y = work + nc, *rest = work + 2 * nc;
     int i;
     if (!work) return -1;
     for (i = 0; i < n; i++) {
         size_t o = (size_t)i * nc;
-        double T2 = T[i] + dT, P2 = P[i] * (1.0 + dP_rel), hT, hP, s_, c_, dhdP;
-        pt_t r;
-        flash_pt_case(&e, fc, T2, P[i], zs + o, K + o, 2, tol, x, y, &r, rest);
-        hs_of_split_case(&e, &g, T2, P[i], zs + o, r.nph, r.beta, x, y, 0, &hT, &s_, &c_, rest);
-        flash_pt_case(&e, fc, T[i], P2, zs + o, K + o, 2, tol, x, y, &r, rest);
-        hs_of_split_case(&e, &g, T[i], P2, zs + o, r.nph, r.beta, x, y, 0, &hP, &s_, &c_, rest);
-        cp[i] = (hT - h[i]) / dT;
-        dhdP = (hP - h[i]) / (dP_rel * P[i]);
-        jt[i] = -dhdP / cp[i];
+        derivatives_case(&e, &g, fc, T[i], P[i], zs + o, K + o, h[i], dT, dP_rel, tol, &cp[i],
+                         &jt[i], work);
     }
     free(work);
     return 0;

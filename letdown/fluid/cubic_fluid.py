@@ -105,6 +105,28 @@ class CubicEngine:
                 "Z": P * v_rep / (R * T), "density": M / v_rep, "molar_mass": M}
 
     def _assemble(self, T, P, zs, split: fl.PTSplit, extra_conv=None, K=None):
+        if native.AVAILABLE:
+            # the same numbers from one compiled call (letdown/fluid/_flashkernels.c)
+            out, vap, liq = native.assemble(self.eos, T, P, zs, split.n_phases, split.beta,
+                                            split.xs, split.ys, self.volume_shift, TWO_PHASE_DT,
+                                            TWO_PHASE_DP_REL, TWO_PHASE_DERIV_TOL,
+                                            fl.native_flash_constants)
+        else:
+            out, vap, liq = self._assemble_numbers(T, P, zs, split)
+        beta = split.beta
+        conv = split.report.converged.copy()
+        if extra_conv is not None:
+            conv &= extra_conv
+        M = zs @ self.comps.Ms
+        res = States(T=T.copy(), P=P.copy(), h=out["h"], s=out["s"], Z=out["Z"], cp=out["cp"],
+                     cv=out["cv"], jt=out["jt"], w=out["w"], density=out["density"],
+                     molar_mass=M, vapour_fraction=beta.copy(), zs=zs.copy(), ys=split.ys.copy(),
+                     xs=split.xs.copy(), n_phases=split.n_phases.copy(), converged=conv,
+                     vapour=vap, liquid=liq, components=self.comps.names, model=self.model, K=K)
+        return _blank_unconverged(res)
+
+    def _assemble_numbers(self, T, P, zs, split: fl.PTSplit):
+        """Properties of the whole and per phase (vapour, liquid) of the states of a split."""
         n = T.shape[0]
         two = split.n_phases == 2
         beta = split.beta
@@ -131,16 +153,7 @@ class CubicEngine:
             out["jt"][i] = jt
             out["cv"][i] = np.nan
             out["w"][i] = np.nan
-        conv = split.report.converged.copy()
-        if extra_conv is not None:
-            conv &= extra_conv
-        M = zs @ self.comps.Ms
-        res = States(T=T.copy(), P=P.copy(), h=out["h"], s=out["s"], Z=out["Z"], cp=out["cp"],
-                     cv=out["cv"], jt=out["jt"], w=out["w"], density=out["density"],
-                     molar_mass=M, vapour_fraction=beta.copy(), zs=zs.copy(), ys=split.ys.copy(),
-                     xs=split.xs.copy(), n_phases=split.n_phases.copy(), converged=conv,
-                     vapour=vap, liquid=liq, components=self.comps.names, model=self.model, K=K)
-        return _blank_unconverged(res)
+        return out, vap, liq
 
     def _two_phase_derivatives(self, T, P, zs, split, i, h):
         """Effective cp = (dh/dT)_P and jt = -(dh/dP)_T / cp across a two-phase state, by central
@@ -618,9 +631,9 @@ def _bisect(lo, hi, T, f):
 
 def _check_TP(T, P):
     from ..errors import InputError
-    if np.any(~np.isfinite(T)) or np.any(T <= 0):
+    if not (np.isfinite(T).all() and (T > 0).all()):
         raise InputError(f"temperature must be a positive number of kelvin (got {T[~(T > 0)][:3]})")
-    if np.any(~np.isfinite(P)) or np.any(P <= 0):
+    if not (np.isfinite(P).all() and (P > 0).all()):
         raise InputError(f"pressure must be positive (got {P[~(P > 0)][:3]} Pa)")
 
 

@@ -17,7 +17,8 @@ for, case by case, with the constants passed in from :mod:`letdown.fluid.flash` 
 * :func:`hs_of_split` and :func:`phase` -- the ideal-gas plus residual properties of
   :class:`letdown.fluid.cubic_fluid.CubicEngine` (``_hs_of_split``, ``_phase``);
 * :func:`solve_T` -- the P-h / P-s temperature iteration ``CubicEngine._solve_T_mixture``;
-* :func:`two_phase_derivatives` -- ``CubicEngine._two_phase_derivatives``.
+* :func:`two_phase_derivatives` -- ``CubicEngine._two_phase_derivatives``;
+* :func:`assemble` -- the numbers of ``CubicEngine._assemble``.
 
 :meth:`CubicEOS.lnphi` and :meth:`CubicEOS.properties`, :func:`letdown.fluid.flash.flash_PT` and
 the engine's P-h / P-s iteration dispatch here when ``AVAILABLE``.
@@ -89,6 +90,8 @@ def _load():
         "lf_solve_T": [i, i, p, p, p, p, p, p, p, i, p, p, p, p, p, p, p],
         "lf_two_phase_derivatives": [i, i, p, p, p, p, p, p, p, p, ctypes.c_double,
                                      ctypes.c_double, ctypes.c_double, p, p],
+        "lf_assemble": [i, i, p, p, p, p, p, p, p, p, p, p, i, ctypes.c_double, ctypes.c_double,
+                        ctypes.c_double, p],
     }
     try:
         for name, args in sigs.items():
@@ -152,6 +155,8 @@ def _codes(code, n):
         return None, None
     if isinstance(code, str):
         code = np.full(n, _CODES[code], dtype=np.int32)
+    elif np.ndim(code) == 0:
+        code = np.full(n, int(code), dtype=np.int32)
     else:
         code = np.asarray(code)
         code = np.ascontiguousarray(code if code.shape == (n,) else np.broadcast_to(code, (n,)),
@@ -331,7 +336,10 @@ def flash_pt(eos, T, P, zs, K_init, assume, tol, constants):
     T, P, zs = _cases(T, P, zs)
     n, nc = zs.shape
     fc = _block(_FP_ORDER, constants)
-    tol = np.ascontiguousarray(np.broadcast_to(np.asarray(tol, dtype=np.float64), (n,)))
+    if np.ndim(tol) == 0:
+        tol = np.full(n, float(tol))
+    else:
+        tol = np.ascontiguousarray(np.broadcast_to(np.asarray(tol, dtype=np.float64), (n,)))
     K = None if K_init is None else _f(K_init)
     a = None if assume is None else np.ascontiguousarray(assume, dtype=np.int32)
     beta = np.empty(n)
@@ -466,3 +474,50 @@ def two_phase_derivatives(eos, T, P, zs, K, h, dT, dP_rel, tol, constants):
                                          float(dT), float(dP_rel), float(tol), _ptr(cp),
                                          _ptr(jt)))
     return cp, jt
+
+
+_ASSEMBLE_ROWS = ("h", "s", "cp", "cv", "jt", "w", "Z", "density")
+_PER_PHASE = ("Z", "density", "h", "s", "molar_mass")
+
+
+def assemble(eos, T, P, zs, n_phases, beta, xs, ys, volume_shift, dT, dP_rel, tol, constants):
+    """The numbers of ``CubicEngine._assemble``: properties of the whole (``_ASSEMBLE_ROWS``,
+    two-phase cp and JT coefficient by the neighbouring flashes of ``_two_phase_derivatives``),
+    and Z, density, h, s, molar mass of the vapour and of the liquid (NaN where absent).
+
+    Returns
+    -------
+    whole : dict of (n,), vapour : dict of (n,), liquid : dict of (n,)
+    """
+    T, P, zs = _cases(T, P, zs)
+    n, nc = zs.shape
+    nph = np.ascontiguousarray(n_phases, dtype=np.int32)
+    beta, xs, ys = _f(beta), _f(xs), _f(ys)
+    fc = _block(_FP_ORDER, constants)
+    out = np.empty((len(_ASSEMBLE_ROWS) + 2 * len(_PER_PHASE), n))
+    par, igp, fcp = _ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)), _ptr(fc)
+    vs = 1 if volume_shift else 0
+    if n >= THREAD_MIN_CASES:
+        rows = np.empty((n, out.shape[0]))      # chunks write rows; transposed below
+
+        def run(lo, hi):
+            part = np.empty((out.shape[0], hi - lo))
+            rc = _LIB.lf_assemble(hi - lo, nc, par, igp, fcp, _ptr(T[lo:hi]), _ptr(P[lo:hi]),
+                                  _ptr(zs[lo:hi]), _ptr(nph[lo:hi]), _ptr(beta[lo:hi]),
+                                  _ptr(xs[lo:hi]), _ptr(ys[lo:hi]), vs, float(dT),
+                                  float(dP_rel), float(tol), _ptr(part))
+            rows[lo:hi] = part.T
+            return rc
+
+        _run_chunked(n, run)
+        out = np.ascontiguousarray(rows.T)
+    else:
+        _check(_LIB.lf_assemble(n, nc, par, igp, fcp, _ptr(T), _ptr(P), _ptr(zs), _ptr(nph),
+                                _ptr(beta), _ptr(xs), _ptr(ys), vs, float(dT), float(dP_rel),
+                                float(tol), _ptr(out)))
+    k = len(_ASSEMBLE_ROWS)
+    m = len(_PER_PHASE)
+    whole = dict(zip(_ASSEMBLE_ROWS, out[:k]))
+    vapour = dict(zip(_PER_PHASE, out[k:k + m]))
+    liquid = dict(zip(_PER_PHASE, out[k + m:]))
+    return whole, vapour, liquid
