@@ -9,6 +9,7 @@ Verbs::
     letdown envelope FILE --stream NAME [--lines 0.1,0.5] [--csv DIR] [--json] [--plot F.png|F.svg]
     letdown sweep FILE --vary PATH=VALUES [...] [--zip] [--out DIR] [--plot X:Y] [--workers N|--dask A]
     letdown year FILE --profile CSV [--efficiency E] [--out DIR] [--workers N|--dask A]
+    letdown size FILE [--efficiency E] [--model M] [--json] [--units si|field]
     letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
 
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
@@ -98,6 +99,15 @@ def _parser() -> argparse.ArgumentParser:
     y.add_argument("--out", metavar="DIR", help="write hourly.csv, summary.json, run.json, plots")
     y.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
     y.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")
+    sz = sub.add_parser("size", parents=[common],
+                        help="size the preheater over the file's operating cases")
+    sz.add_argument("file", metavar="FILE")
+    sz.add_argument("--efficiency", type=float, metavar="E",
+                    help="heater efficiency 0..1 when the file's heater has none (water-bath "
+                         "heaters run about 0.5-0.8; default 0.75, stated as assumed)")
+    sz.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+    sz.add_argument("--json", action="store_true", help="print only the JSON sizing on stdout")
+    sz.add_argument("--units", choices=("si", "field"), default="si", help="display units")
     cm = sub.add_parser("compare", parents=[common],
                         help="compare a flowsheet with plant measurements, per model; fit one "
                              "parameter")
@@ -163,6 +173,8 @@ def main(argv=None) -> int:
             return _compare(args)
         if args.verb == "envelope":
             return _envelope(args)
+        if args.verb == "size":
+            return _size(args)
         return _state(args)
     except (InputError, ModelError) as exc:
         _error(exc, where, debug)
@@ -327,6 +339,21 @@ def _year(args) -> int:
         files = year_files(res, flowsheet=args.file)
         _write_csv(target, files)
         print(f"letdown: wrote {', '.join(str(target / f) for f in files)}", file=sys.stderr)
+    return EXIT_OK
+
+
+def _size(args) -> int:
+    from .report.size import size_text
+    from .sheet.loader import load
+    from .study.size import size
+
+    fs = load(args.file)
+    res = size(fs, efficiency=args.efficiency, model=args.model)
+    if args.json:
+        print(json.dumps(res.to_dict(), indent=2, allow_nan=False))
+        print(f"letdown: {res.to_dict()['caution']}", file=sys.stderr)
+    else:
+        print(size_text(res, args.units, atmosphere=fs.extra.get("atmosphere")))
     return EXIT_OK
 
 

@@ -68,6 +68,23 @@ MODELS = {
 }
 
 
+#: What the water and hydrate figures assume (one statement each, for reports; the details and the
+#: measured accuracy are in :mod:`letdown.fluid.water` and :mod:`letdown.fluid.hydrate`).
+WATER_AND_HYDRATE = {
+    "water content": (
+        "Bukacek (1955) for sweet gas over liquid water (composition ignored: no CO2/H2S "
+        "correction), or a fugacity balance on the cubic equation of state; over supercooled "
+        "liquid below 0 degC (less water over ice); water carried beside a water-free "
+        "hydrocarbon flash, none condensed out."),
+    "hydrate": (
+        "van der Waals-Platteeuw with the Munck et al. (1988) parameters, structures I and II, "
+        "free water assumed, gas fugacities from the cubic equation of state for the dry gas "
+        "(Peng-Robinson under GERG-2008), water activity lowered by dissolved gas (Henry's law); "
+        "no structure H, hexane and heavier are not formers; inhibitors only through a water "
+        "activity."),
+}
+
+
 def out_of_range(model: str, T, P, zs, components) -> list:
     """Reasons a batch of states leaves the model's tested range.
 

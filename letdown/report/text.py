@@ -10,7 +10,14 @@ from __future__ import annotations
 from typing import Mapping
 
 from ..quantities import (STANDARD_ATMOSPHERE, STANDARD_CONDITIONS, format_number, unit_system)
-from .tables import DEFAULT_WIDTH, equipment_table, pick, render, stream_table
+from .tables import DEFAULT_WIDTH, Table, equipment_table, pick, render, stream_table
+
+#: lb of water per MMscf (60 degF, 14.696 psia) in one mg per Sm3 (15 degC, 101.325 kPa), both per
+#: ideal-gas standard volume: (1e-6 / 0.45359237 lb) * (moles in 1e6 scf) / (moles in 1 Sm3), so
+#: 1 lb/MMscf = 16.049 mg/Sm3 (REFERENCE_DATA.md section 3 says "about 16.02", status C).
+LB_MMSCF_PER_MG_SM3 = 1e-6 / 0.45359237 * 1e6 * (14.696 * 6894.757293168 * 0.028316846592
+                                                 / (8.314462618 * 288.7055556)) \
+    / (101325.0 / (8.314462618 * 288.15))
 
 #: Printed under every report that sizes equipment or judges freezing (project rule).
 CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
@@ -84,6 +91,55 @@ def warnings_text(result) -> str:
     return "\n".join(["Warnings"] + lines) if lines else ""
 
 
+def margins_table(result, units: str = "si", *, case: int = 0,
+                  atmosphere: float = STANDARD_ATMOSPHERE) -> Table | None:
+    """Freezing margins of every stream (streams as columns), or None when not computed.
+
+    Rows: temperature, hydrate formation temperature (free water assumed) and structure, water
+    dew point, water content (per standard volume of dry gas), and the margins ``T - limit``
+    (hydrate, water dew point, ice at 0 degC, ``limits.min_T``).
+    """
+    u = unit_system(units, atmosphere)
+    streams = _get(result, "streams", None) or {}
+    cols = []
+    for name, s in streams.items():
+        fz = _get(s, "freezing", None)
+        if fz is None and isinstance(s, Mapping) and "hydrate_T_K" in s:
+            fz = s
+        if fz is not None:
+            cols.append((name, s, fz))
+    if not cols:
+        return None
+    T, dT = u["T"], u["dT"]
+
+    def temp(v):
+        v = pick(v, case)
+        return None if v is None else T(v)
+
+    def diff(v):
+        v = pick(v, case)
+        return None if v is None else dT(v)
+
+    water_unit, water_key, scale = ("mg/Sm3", "water_mg_Sm3", 1.0) if units == "si" else \
+        ("lb/MMscf", "water_mg_Sm3", LB_MMSCF_PER_MG_SM3)
+    rows = [
+        (f"Temperature [{T.label}]", *(temp(_get(s, "T", _get(s, "T_K"))) for _, s, _ in cols)),
+        (f"Hydrate temperature [{T.label}]", *(temp(fz.get("hydrate_T_K")) for *_, fz in cols)),
+        ("Hydrate structure", *((fz.get("hydrate_structure") or "-") for *_, fz in cols)),
+        (f"Water dew point [{T.label}]", *(temp(fz.get("water_dew_T_K")) for *_, fz in cols)),
+        (f"Water, dry gas [{water_unit}]",
+         *(None if fz.get(water_key) is None else pick(fz.get(water_key), case) * scale
+           for *_, fz in cols)),
+        (f"Hydrate margin [{dT.label}]", *(diff(fz.get("hydrate_margin_K")) for *_, fz in cols)),
+        (f"Water dew margin [{dT.label}]",
+         *(diff(fz.get("water_dew_margin_K")) for *_, fz in cols)),
+        (f"Ice margin (0 degC) [{dT.label}]", *(diff(fz.get("ice_margin_K")) for *_, fz in cols)),
+        (f"min_T margin [{dT.label}]", *(diff(fz.get("min_T_margin_K")) for *_, fz in cols)),
+    ]
+    return Table("Freezing margins (T - limit; hydrate temperature with free water assumed)",
+                 ("", *(n for n, *_ in cols)), tuple(rows), (2, 2, None, 2, 1, 2, 2, 2, 2))
+
+
 def conditions_text(units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:
     """The reference conditions behind gauge pressures and standard volumes, as stated in the
     report."""
@@ -132,6 +188,9 @@ def report_text(result, units: str = "si", *, case: int = 0, atmosphere: float |
     parts = [f"{title}\nmodel: {model}; {state}"]
     parts.append(render(stream_table(result, units, case=case, atmosphere=atm), width))
     parts.append(render(equipment_table(result, units, case=case, atmosphere=atm), width))
+    margins = margins_table(result, units, case=case, atmosphere=atm)
+    if margins is not None:
+        parts.append(render(margins, width))
     for section in (loops_text(result), goals_text(result, units, atm), warnings_text(result)):
         if section:
             parts.append(section)

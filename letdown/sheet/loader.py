@@ -31,7 +31,8 @@ import yaml
 
 from ..errors import InputError
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
-from .spec import BlockSpec, FeedSpec, Flowsheet, GasSpec, GoalSpec, SolverSpec, Where
+from .spec import (BlockSpec, CaseSpec, FeedSpec, Flowsheet, GasSpec, GoalSpec, SolverSpec,
+                   WaterSpec, Where)
 
 #: Mole fractions must sum to 1 within this, unless ``normalise: true`` [-] (allows fractions
 #: copied with six decimals; common practice).
@@ -544,6 +545,123 @@ def _limits(doc: _Doc, q: _Quantities) -> dict:
     return out
 
 
+#: Units of a water content written as a string (``gas.water``), per standard volume of dry gas.
+WATER_UNITS = {"mg/sm3": "mg_Sm3", "lb/mmscf": "lb_MMscf"}
+#: A water mole fraction above this is refused: pipeline gas holds well under 1 % water at any
+#: let-down condition (about 0.13 % saturated at 38 degC, 69 bar; Bukacek 1955), so a larger number
+#: is a unit slip (common practice).
+WATER_FRACTION_MAX = 0.05
+
+
+def _water(doc: _Doc, q: "_Quantities", raw, composition: dict):
+    """The ``gas.water`` entry as a :class:`WaterSpec` (None when absent)."""
+    if raw is None:
+        return None
+    path = ("gas", "water")
+    where = _where(doc, path)
+    if composition.get("water", 0.0) > 0.0:
+        raise doc.err("water is given twice: gas.composition lists water and gas.water is set; "
+                      "keep one (gas.water keeps the hydrocarbon flash water-free)", path)
+    if isinstance(raw, bool):
+        raise doc.err(f"expected a water content, got {raw!r}", path, key=False)
+    if isinstance(raw, (int, float)):
+        y = float(raw)
+        if not (0.0 < y <= WATER_FRACTION_MAX):
+            raise doc.err(f"a water mole fraction lies in (0, {WATER_FRACTION_MAX:g}], got {raw!r}"
+                          " (for mg/Sm3 or lb/MMscf write the unit: '80 mg/Sm3')", path, key=False)
+        return WaterSpec("mole_fraction", value=y, where=where)
+    if isinstance(raw, str):
+        text = raw.strip()
+        number, _, unit = text.partition(" ")
+        kind = WATER_UNITS.get(unit.strip().lower().replace(" ", ""))
+        try:
+            value = float(number)
+        except ValueError:
+            value = float("nan")
+        if kind is None or not math.isfinite(value):
+            raise doc.err(f"cannot read water content {raw!r}: write a number and mg/Sm3 or "
+                          "lb/MMscf ('80 mg/Sm3', '5 lb/MMscf'), a plain mole fraction, or "
+                          "{saturated: {T, P}} / {dew_point: {T, P}}", path, key=False)
+        if value <= 0.0:
+            raise doc.err(f"a water content must be positive, got {raw!r}", path, key=False)
+        return WaterSpec(kind, value=value, where=where)
+    (kind, state), = raw.items()
+    T = q(state["T"], "temperature", path + (kind, "T"))
+    P = q(state["P"], "pressure", path + (kind, "P"))
+    if P <= 0.0:
+        raise doc.err(f"the pressure must be positive, got {state['P']!r}", path + (kind, "P"),
+                      key=False)
+    if not 200.0 <= T <= 450.0:
+        raise doc.err(f"a water {'dew point' if kind == 'dew_point' else 'saturation'} "
+                      f"temperature lies in 200-450 K here, got {state['T']!r}",
+                      path + (kind, "T"), key=False)
+    return WaterSpec(kind, T=T, P=P, where=where)
+
+
+#: What a case may set on a feed (and the quantity kind of each).
+CASE_FEED_FIELDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
+
+
+def _cases(doc: _Doc, q: "_Quantities", feeds: dict, blocks: dict, goals: tuple,
+           composition: dict) -> tuple:
+    """The ``cases`` section as :class:`CaseSpec` values (SI)."""
+    out = []
+    names: dict = {}
+    varied = {g.by for g in goals}
+    for i, raw in enumerate(doc.data.get("cases") or ()):
+        path = ("cases", i)
+        name = raw["name"]
+        if name in names:
+            raise doc.err(f"case name '{name}' is already used by case {names[name] + 1}",
+                          path + ("name",), key=False)
+        names[name] = i
+        values = {}
+        for obj, settings in raw.items():
+            if obj in ("name", "note"):
+                continue
+            if obj in feeds:
+                table = CASE_FEED_FIELDS
+            elif obj in blocks:
+                table = PARAMETERS[blocks[obj].kind]
+            else:
+                raise doc.err(f"'{obj}' is neither a feed nor a block"
+                              f"{_nearest(obj, set(feeds) | set(blocks))}", path + (obj,))
+            for attr, text in settings.items():
+                p = path + (obj, attr)
+                if attr not in table:
+                    what = "feed" if obj in feeds else f"{blocks[obj].kind}"
+                    raise doc.err(f"a case cannot set '{attr}' of {what} '{obj}' (it can set: "
+                                  f"{', '.join(table) or 'nothing'})", p)
+                key = f"{obj}.{attr}"
+                if key in varied:
+                    raise doc.err(f"{key} is varied by a goal; a case cannot set it", p)
+                value = q(text, table[attr], p)
+                if isinstance(value, MassFlow):
+                    value = value.to_molar(_molar_mass(feeds[obj].composition
+                                                       or composition))
+                if obj in feeds and attr in ("P", "flow") and not value > 0.0:
+                    raise doc.err(f"{attr} must be positive, got {text!r}", p, key=False)
+                if obj in blocks:
+                    _check_parameter(doc, blocks[obj].kind, attr, value, text, p)
+                    _check_case_alternative(doc, blocks[obj], attr, varied, p)
+                values[key] = float(value)
+        if not values:
+            raise doc.err(f"case '{name}' changes nothing (give a feed's T, P or flow or a block "
+                          "parameter)", path)
+        out.append(CaseSpec(name=name, values=values, where=_where(doc, path)))
+    return tuple(out)
+
+
+def _check_case_alternative(doc: _Doc, block: BlockSpec, attr: str, varied: set, path) -> None:
+    """A case may only change a block's specification that the block already uses."""
+    for group in EXACTLY_ONE.get(block.kind, ()):
+        if attr in group:
+            used = [k for k in group if k in block.params or f"{block.name}.{k}" in varied]
+            if used and attr not in used:
+                raise doc.err(f"{block.name} is specified by {used[0]}; a case cannot switch it "
+                              f"to {attr}", path)
+
+
 def _measurements(doc: _Doc, fs_parts, atmosphere: float) -> tuple:
     from .measurements import parse_measurement
     out = []
@@ -596,7 +714,9 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
     normalise = bool(gas_raw.get("normalise", False))
     composition = _composition(doc, gas_raw["composition"], ("gas", "composition"), normalise)
     gas = GasSpec(model=gas_raw.get("model", "peng-robinson"), composition=composition,
-                  kij=_kij(doc, gas_raw.get("kij"), composition))
+                  kij=_kij(doc, gas_raw.get("kij"), composition),
+                  water=_water(doc, q, gas_raw.get("water"), composition),
+                  water_method=gas_raw.get("water_method", "bukacek"))
     feeds = _feeds(doc, q, gas, normalise)
     goal_params = _goal_targets(doc)
     blocks = _blocks(doc, q, goal_params)
@@ -609,10 +729,11 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
     for b in blocks.values():
         streams.update(b.outlets.values())
     measurements = _measurements(doc, (streams, blocks), atmosphere)
+    cases = _cases(doc, q, feeds, blocks, goals, gas.composition)
     fs = Flowsheet(title=title, gas=gas, feeds=feeds, blocks=blocks, goals=goals,
                    limits=_limits(doc, q), solver=solver, source=source,
                    extra={"atmosphere": atmosphere, "normalise": normalise}, guesses=guesses,
-                   measurements=measurements)
+                   measurements=measurements, cases=cases)
     from .graph import build_graph
     build_graph(fs)     # raises TopologyError with file:line
     return fs

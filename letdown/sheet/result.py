@@ -16,7 +16,7 @@ import json
 import math
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Mapping
+from typing import Any, Mapping
 
 import numpy as np
 
@@ -27,6 +27,8 @@ from ..errors import ConvergenceError
 MOLE_CLOSURE = 1e-9
 #: Largest relative energy-balance closure accepted for any block (DESIGN.md requirement).
 ENERGY_CLOSURE = 1e-6
+#: The ice point of the ice margin [K] (as :data:`letdown.sheet.freezing.ICE_T`).
+ICE_T = 273.15
 
 
 @dataclass(frozen=True)
@@ -48,6 +50,12 @@ class StreamResult:
     Z : float  compressibility factor [-]
     density : float  [kg/m3]
     molar_mass : float  [kg/mol]
+    freezing : dict or None
+        Water and hydrate figures when they were computed (JSON keys, SI): ``water_mg_Sm3`` (per
+        Sm3 of dry gas), ``water_mole_fraction``, ``water_dew_T_K``, ``hydrate_T_K``,
+        ``hydrate_structure`` and the margins ``T - limit`` ``hydrate_margin_K``,
+        ``water_dew_margin_K``, ``ice_margin_K``, ``min_T_margin_K`` (None where the limit does
+        not exist: dry gas, no hydrate former, no ``limits.min_T``).
     """
 
     name: str
@@ -64,18 +72,33 @@ class StreamResult:
     Z: float
     density: float
     molar_mass: float
+    freezing: Mapping[str, Any] | None = None
 
     @classmethod
-    def from_batch(cls, name: str, stream: StreamBatch, i: int, components) -> "StreamResult":
-        """Case ``i`` of a stream batch."""
+    def from_batch(cls, name: str, stream: StreamBatch, i: int, components, freezing=None,
+                   min_T=None) -> "StreamResult":
+        """Case ``i`` of a stream batch (with its :class:`letdown.sheet.freezing.StreamFreezing`,
+        if computed, and ``limits.min_T`` [K] for the margins)."""
         def comp(a):
             return {c: float(a[i, k]) for k, c in enumerate(components)}
+        fz = None
+        if freezing is not None:
+            T = float(stream.T[i])
+            fz = {"water_mg_Sm3": _num(freezing.water_mg_Sm3[i]),
+                  "water_mole_fraction": _num(freezing.water_mole_fraction[i]),
+                  "water_dew_T_K": _num(freezing.water_dew_T[i]),
+                  "hydrate_T_K": _num(freezing.hydrate_T[i]),
+                  "hydrate_structure": str(freezing.hydrate_structure[i]) or None,
+                  "hydrate_margin_K": _num(T - freezing.hydrate_T[i]),
+                  "water_dew_margin_K": _num(T - freezing.water_dew_T[i]),
+                  "ice_margin_K": _num(T - ICE_T),
+                  "min_T_margin_K": None if min_T is None else _num(T - min_T)}
         return cls(name=name, T=float(stream.T[i]), P=float(stream.P[i]), flow=float(stream.flow[i]),
                    mass_flow=float(stream.mass_flow[i]),
                    vapour_fraction=float(stream.vapour_fraction[i]), zs=comp(stream.zs),
                    ys=comp(stream.ys), xs=comp(stream.xs), h=float(stream.h[i]),
                    s=float(stream.s[i]), Z=float(stream.Z[i]), density=float(stream.density[i]),
-                   molar_mass=float(stream.molar_mass[i]))
+                   molar_mass=float(stream.molar_mass[i]), freezing=fz)
 
     def to_dict(self) -> dict:
         """The stream's entry of the JSON contract."""
@@ -86,7 +109,8 @@ class StreamResult:
                 "vapour_fraction": _num(self.vapour_fraction), "composition": comp(self.zs),
                 "h_J_mol": _num(self.h), "s_J_molK": _num(self.s), "Z": _num(self.Z),
                 "density_kg_m3": _num(self.density), "molar_mass_kg_mol": _num(self.molar_mass),
-                "vapour_composition": comp(self.ys), "liquid_composition": comp(self.xs)}
+                "vapour_composition": comp(self.ys), "liquid_composition": comp(self.xs),
+                **(dict(self.freezing) if self.freezing is not None else {})}
 
 
 @dataclass(frozen=True)
@@ -149,7 +173,7 @@ class GoalRecord:
     Attributes
     ----------
     hold, by : str
-    target : float  (SI)
+    target : ndarray (n,)  the target of each case (SI)
     value : ndarray (n,)  the varied parameter at the end (SI)
     achieved : ndarray (n,)  the held quantity at the end (SI)
     met : ndarray of bool (n,)
@@ -195,6 +219,11 @@ class BatchResult:
     warnings : tuple of WarningRecord
     converged : ndarray of bool (n,)
         Each case's loops and goals converged.
+    freezing : Mapping[str, StreamFreezing] or None
+        Water, water dew point and hydrate temperature per stream (:mod:`letdown.sheet.freezing`),
+        when computed.
+    min_T : float or None
+        ``limits.min_T`` [K], for the margins.
     """
 
     title: str
@@ -206,6 +235,8 @@ class BatchResult:
     loops: tuple = ()
     warnings: tuple = ()
     converged: np.ndarray | None = None
+    freezing: Mapping | None = None
+    min_T: float | None = None
 
     def __post_init__(self):
         if self.converged is None:
@@ -269,7 +300,8 @@ class BatchResult:
             entry["inlets"] = dict(eq.inlets)
             entry["outlets"] = dict(eq.outlets)
             equipment[name] = entry
-        goals = [{"hold": g.hold, "target": g.target, "achieved": _num(g.achieved[i]), "by": g.by,
+        goals = [{"hold": g.hold, "target": _num(np.broadcast_to(g.target, (self.n_cases,))[i]),
+                  "achieved": _num(g.achieved[i]), "by": g.by,
                   "value": _num(g.value[i]), "met": bool(g.met[i]),
                   "iterations": int(g.iterations[i])} for g in self.goals]
         loops = [{"blocks": list(lp.blocks), "tears": list(lp.tears),
@@ -277,7 +309,9 @@ class BatchResult:
                   "residual_history": [_num(r) for r in lp.history],
                   "converged": bool(lp.converged[i])} for lp in self.loops]
         warnings = [{"where": w.where, "what": w.what} for w in self.warnings if i in w.cases]
-        streams = {name: StreamResult.from_batch(name, s, i, self.components)
+        fz = self.freezing or {}
+        streams = {name: StreamResult.from_batch(name, s, i, self.components, fz.get(name),
+                                                 self.min_T)
                    for name, s in self.streams.items()}
         return Result(title=self.title, model=self.model, converged=bool(self.converged[i]),
                       streams=streams, equipment=equipment, goals=goals, loops=loops,

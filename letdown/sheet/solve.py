@@ -33,6 +33,7 @@ from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
 from ..fluid.models import out_of_range
+from .freezing import checks_active, freezing_warnings, stream_freezing
 from .graph import build_graph, solve_order
 from .result import (BatchResult, EquipmentBatch, GoalRecord, LoopRecord, Result,
                      WarningRecord)
@@ -101,11 +102,11 @@ def solve(fs: Flowsheet, model: str | None = None) -> Result:
     ConvergenceError
         A loop or a goal did not converge, a flash failed, or a balance does not close.
     """
-    return solve_cases(fs, None, model=model).case(0)
+    return solve_cases(fs, None, model=model, margins=True).case(0)
 
 
 def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
-                strict: bool = True) -> BatchResult:
+                strict: bool = True, margins: bool = False) -> BatchResult:
     """Solve a flowsheet for many cases at once.
 
     Parameters
@@ -113,14 +114,18 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
     fs : Flowsheet
     cases : Mapping[str, array_like], optional
         ``"<feed>.T"`` [K], ``"<feed>.P"`` [Pa], ``"<feed>.flow"`` [mol/s], ``"<feed>.zs"``
-        (compositions, shape (n, nc) in the gas's component order) or ``"<block>.<parameter>"``
-        (SI) -> values over the cases; all of one length ``n`` (or one value for all). None: one
-        case, as in the file.
+        (compositions, shape (n, nc) in the gas's component order), ``"<block>.<parameter>"``
+        (SI) or ``"goal<k>.at"`` (the target of the k-th goal, 1-based, SI) -> values over the
+        cases; all of one length ``n`` (or one value for all). None: one case, as in the file.
     model : str, optional
         Thermodynamic model overriding ``fs.gas.model``.
     strict : bool
         True: any case whose loop or goal fails raises. False: such cases are marked in
         ``converged`` (and their warnings) and the others are returned.
+    margins : bool
+        Also compute every stream's water content, water dew point, hydrate temperature and
+        freezing margins, with their warnings (:mod:`letdown.sheet.freezing`). Off by default for
+        studies: a hydrate temperature costs about 1 ms per distinct stream pressure and case.
 
     Returns
     -------
@@ -137,7 +142,7 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
     base, n = _case_arrays(fs, cases)
     engine = _Engine(fs, fluid, base, n, strict)
     ev = engine.evaluate(np.arange(n), {}, tuple(enumerate(fs.goals)))
-    return engine.result(ev)
+    return engine.result(ev, margins=margins)
 
 
 def load(path) -> "Sheet":
@@ -192,7 +197,10 @@ def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
     arrays = {}
     for key, values in cases.items():
         name, _, attr = str(key).partition(".")
-        if name in fs.feeds:
+        if name.startswith("goal") and name[4:].isdigit() and name not in fs.feeds \
+                and name not in fs.blocks:
+            ok = attr == "at" and 1 <= int(name[4:]) <= len(fs.goals)
+        elif name in fs.feeds:
             ok = attr in FEED_FIELDS or attr == "zs"
         elif name in fs.blocks:
             ok = bool(attr) and attr != "fractions"
@@ -200,7 +208,7 @@ def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
             ok = False
         if not ok:
             raise InputError(f"unknown case variable '{key}' (use <feed>.T, <feed>.P, <feed>.flow, "
-                             "<feed>.zs or <block>.<parameter>)", field=f"cases.{key}")
+                             "<feed>.zs, <block>.<parameter> or goal<k>.at)", field=f"cases.{key}")
         if attr == "zs":
             a = np.atleast_2d(np.asarray(values, dtype=float))
             if np.any(a < 0) or np.any(np.abs(a.sum(axis=1) - 1.0) > 1e-6):
@@ -467,7 +475,9 @@ class _Engine:
         number, goal = indexed_goal
         m = len(sel)
         lo, hi = goal.within
-        tol = max(self.fs.solver.goal_tolerance, GOAL_RELATIVE_FLOOR * abs(goal.target))
+        target = np.broadcast_to(np.asarray(
+            self._value(f"goal{number + 1}.at", sel, over, goal.target), dtype=float), (m,))
+        tol = np.maximum(self.fs.solver.goal_tolerance, GOAL_RELATIVE_FLOOR * np.abs(target))
 
         def run(local, x):
             o = {k: v[local] for k, v in over.items()}
@@ -477,39 +487,39 @@ class _Engine:
         every = np.arange(m)
         ends = run(np.r_[every, every], np.r_[np.full(m, lo), np.full(m, hi)])
         held = self._held(goal, ends)
-        f_lo, f_hi = held[:m] - goal.target, held[m:] - goal.target
+        f_lo, f_hi = held[:m] - target, held[m:] - target
         at_lo, at_hi = np.abs(f_lo) <= tol, np.abs(f_hi) <= tol
         no_root = ~(at_lo | at_hi) & ~(np.sign(f_lo) != np.sign(f_hi))
         no_root |= ~(np.isfinite(f_lo) & np.isfinite(f_hi)) & ~(at_lo | at_hi)
         if np.any(no_root) and self.strict:
             i = int(np.flatnonzero(no_root)[0])
-            raise self._no_solution(number, goal, held[i], held[m + i],
+            raise self._no_solution(number, goal, target[i], held[i], held[m + i],
                                     f" (case {i})" if m > 1 else "")
         x = np.where(at_lo, lo, np.where(at_hi, hi, np.where(np.abs(f_lo) <= np.abs(f_hi), lo, hi)))
         iterations = np.zeros(m, dtype=int)
         search = np.flatnonzero(~no_root & ~at_lo & ~at_hi)
         if search.size:
             report = bracketed_root(
-                lambda xs, i: self._held(goal, run(search[i], xs)) - goal.target,
+                lambda xs, i: self._held(goal, run(search[i], xs)) - target[search[i]],
                 np.full(search.size, lo), np.full(search.size, hi), f_lo[search], f_hi[search],
-                ftol=tol, max_iterations=self.fs.solver.goal_max_iterations)
+                ftol=tol[search], max_iterations=self.fs.solver.goal_max_iterations)
             x[search] = report.x
             iterations[search] = report.iterations
         final = run(every, x)
         achieved = self._held(goal, final)
-        met = np.abs(achieved - goal.target) <= tol
+        met = np.abs(achieved - target) <= tol
         if not np.all(met | no_root) and self.strict:
             i = int(np.flatnonzero(~met)[0])
             raise ConvergenceError(
-                f"goal {number + 1} ({goal.hold} at {goal.target:.6g} by {goal.by}) did not converge "
+                f"goal {number + 1} ({goal.hold} at {target[i]:.6g} by {goal.by}) did not converge "
                 f"in {self.fs.solver.goal_max_iterations} iterations: {goal.hold} = "
                 f"{achieved[i]:.6g} at {goal.by} = {x[i]:.6g}")
-        final.goals.insert(0, GoalRecord(hold=goal.hold, target=goal.target, by=goal.by, value=x,
+        final.goals.insert(0, GoalRecord(hold=goal.hold, target=target.copy(), by=goal.by, value=x,
                                          achieved=achieved, met=met, iterations=iterations))
         final.ok &= met
         return final
 
-    def _no_solution(self, number, goal, at_lo, at_hi, case) -> InputError:
+    def _no_solution(self, number, goal, target, at_lo, at_hi, case) -> InputError:
         held_unit = UNITS.get(goal.hold.partition(".")[2], "")
         by_unit = UNITS.get(goal.by.partition(".")[2], "")
         lo, hi = goal.within
@@ -519,14 +529,15 @@ class _Engine:
         where = goal.where
         return InputError(
             f"goal {number + 1}: no {goal.by} within [{q(lo, by_unit)}, {q(hi, by_unit)}] brings "
-            f"{goal.hold} to {q(goal.target, held_unit)}{case}: {goal.hold} is "
+            f"{goal.hold} to {q(target, held_unit)}{case}: {goal.hold} is "
             f"{q(at_lo, held_unit)} at {q(lo, by_unit)} and {q(at_hi, held_unit)} at "
             f"{q(hi, by_unit)}", file=where.file or self.source, line=where.line,
             field=f"goals[{number}].within")
 
     # -- the result -------------------------------------------------------------------------------
-    def result(self, ev: _Evaluation) -> BatchResult:
-        """Assemble, warn about and check the final evaluation."""
+    def result(self, ev: _Evaluation, margins: bool = False) -> BatchResult:
+        """Assemble, warn about and check the final evaluation (with the freezing margins when
+        ``margins``)."""
         warnings = []
         n = self.n
         for name, stream in ev.streams.items():
@@ -549,6 +560,14 @@ class _Engine:
                         name, f"temperature {stream.T[i] - 273.15:.2f} degC is below limits.min_T "
                               f"{min_T - 273.15:.2f} degC", tuple(np.flatnonzero(cold).tolist())))
         warnings.extend(self._model_warnings(ev))
+        freezing = None
+        if margins:
+            freezing, notes = stream_freezing(self.fs, self.fluid, ev.streams, self.steps)
+            if checks_active(self.fs):
+                warnings.extend(notes)
+                warnings.extend(freezing_warnings(self.fs, ev.streams, freezing))
+            else:
+                warnings.extend(n for n in notes if n.where != "gas")
         texts = {"two_phase_outlet": "throttle outlet is in two phases",
                  "temperature_cross": "temperature cross inside the exchanger",
                  "spec_unmet": "the specification cannot be met with these inlet temperatures"}
@@ -574,7 +593,10 @@ class _Engine:
                              components=self.components,
                              streams={s: ev.streams[s] for s in order}, equipment=equipment,
                              goals=tuple(ev.goals), loops=tuple(ev.loops),
-                             warnings=tuple(warnings), converged=ev.ok.copy())
+                             warnings=tuple(warnings), converged=ev.ok.copy(),
+                             freezing=None if freezing is None else
+                             {s: freezing[s] for s in order},
+                             min_T=self.fs.limits.get("min_T"))
         result.check_balances()
         return result
 
@@ -582,10 +604,6 @@ class _Engine:
         """Where the model's data or tested range does not cover the flowsheet."""
         out = []
         fluid = self.fluid
-        if "hydrate_margin" in self.fs.limits:
-            out.append(WarningRecord("limits", "hydrate_margin is not evaluated: this version has "
-                                               "no hydrate prediction; check hydrate conditions by "
-                                               "other means"))
         if fluid.missing_kij and fluid.model != "gerg-2008":
             pairs = ", ".join(f"{a}-{b}" for a, b in fluid.missing_kij)
             out.append(WarningRecord("gas", f"no published interaction parameter for {pairs}; "

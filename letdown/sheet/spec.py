@@ -38,6 +38,34 @@ class GasSpec:
     model: str
     composition: Mapping[str, float]
     kij: Any = None
+    water: "WaterSpec | None" = None
+    water_method: str = "bukacek"
+
+
+@dataclass(frozen=True)
+class WaterSpec:
+    """The water carried by the gas (``gas.water``), beside the water-free hydrocarbon flash.
+
+    Attributes
+    ----------
+    kind : str
+        ``mole_fraction`` (``value`` is the water mole fraction of the wet gas [-]),
+        ``mg_Sm3`` (``value`` [mg per Sm3 of dry gas, 15 degC, 101.325 kPa]), ``lb_MMscf``
+        (``value`` [lb per million scf of dry gas, 60 degF, 14.696 psia]), ``saturated`` (the gas is
+        saturated with liquid water at ``T``, ``P``) or ``dew_point`` (its water dew point is ``T`` at
+        the pressure ``P``: the same water content as ``saturated`` at that state).
+    value : float
+        See ``kind`` (NaN for ``saturated`` and ``dew_point``).
+    T, P : float
+        [K], [Pa] for ``saturated`` and ``dew_point`` (NaN otherwise).
+    where : Where
+    """
+
+    kind: str
+    value: float = float("nan")
+    T: float = float("nan")
+    P: float = float("nan")
+    where: Where = Where()
 
 
 @dataclass(frozen=True)
@@ -134,6 +162,24 @@ class MeasurementSpec:
 
 
 @dataclass(frozen=True)
+class CaseSpec:
+    """One operating case (the ``cases`` section): a name and the values it changes (all SI).
+
+    Attributes
+    ----------
+    name : str
+    values : Mapping[str, float]
+        ``"<feed>.T"`` [K], ``"<feed>.P"`` [Pa], ``"<feed>.flow"`` [mol/s] or
+        ``"<block>.<parameter>"`` (SI) -> value.
+    where : Where
+    """
+
+    name: str
+    values: Mapping[str, float]
+    where: Where = Where()
+
+
+@dataclass(frozen=True)
 class SolverSpec:
     """Loop and goal tolerances and iteration caps (defaults are the library's)."""
 
@@ -168,6 +214,8 @@ class Flowsheet:
     measurements : tuple of MeasurementSpec
         Plant measurements (the ``measurements`` section) for ``letdown compare``; the solver
         ignores them.
+    cases : tuple of CaseSpec
+        Operating cases (the ``cases`` section) for ``letdown size``; a plain solve ignores them.
     """
 
     title: str
@@ -181,3 +229,4 @@ class Flowsheet:
     extra: Mapping[str, Any] = field(default_factory=dict)
     guesses: Mapping[str, FeedSpec] = field(default_factory=dict)
     measurements: tuple = ()
+    cases: tuple = ()

@@ -316,7 +316,8 @@ def _reasons(res, m):
     for k, g in enumerate(res.goals):
         met = np.broadcast_to(np.asarray(g.met, dtype=bool), (m,))
         for c in np.flatnonzero(~met):
-            reasons[c].append(f"goal {k + 1} ({g.hold} at {g.target:.6g} by {g.by}) not met")
+            target = np.broadcast_to(np.asarray(g.target, dtype=float), (m,))[c]
+            reasons[c].append(f"goal {k + 1} ({g.hold} at {target:.6g} by {g.by}) not met")
     for lp in res.loops:
         conv = np.broadcast_to(np.asarray(lp.converged, dtype=bool), (m,))
         for c in np.flatnonzero(~conv):

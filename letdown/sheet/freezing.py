@@ -1,0 +1,339 @@
+"""Freezing and hydrate margins of every stream: the water the gas carries, its water dew point,
+its hydrate formation temperature, and how far each stream is from them.
+
+The hydrocarbon flash stays **water-free** (there is no three-phase flash here). The water is carried
+beside it, per stream, as the mole ratio ``r`` of water to dry gas [mol/mol]; reports show it as mg
+per standard cubic metre of dry gas (15 degC, 101.325 kPa) and as the mole fraction of the wet gas,
+``y = r / (1 + r)``.
+
+Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`):
+
+* a mole fraction ``y`` of the wet gas: ``r = y / (1 - y)``;
+* ``mg/Sm3`` or ``lb/MMscf`` per standard volume of dry gas (ideal-gas standard volumes, as in
+  :mod:`letdown.fluid.water`): ``r`` is that many moles of water per mole of dry gas;
+* ``saturated: {T, P}`` and ``dew_point: {T, P}`` (the same thing in two words): ``y`` is the water
+  content of the gas saturated with liquid water at (T, P) by ``gas.water_method`` (Bukacek 1955
+  by default);
+* nothing: every feed is taken as saturated at its own temperature and pressure in each case (a
+  warning says so) -- the common state of gas from a wet pipeline or storage, and the safe
+  assumption for hydrates;
+* water listed in ``gas.composition``: each stream's own water fraction.
+
+How it moves: each block passes to its outlets the flow-weighted mean ratio of its inlets (a mixer
+blends, a splitter, heater, cooler, throttle, compressor or expander keeps it; an exchanger keeps
+each side's own). **No water leaves as a liquid**: a separator sends the inlet ratio with every
+outlet and its ``water`` outlet stays empty, and a stream below its water dew point keeps its water
+in the count (it is the free water that can freeze or form hydrate). Loops are iterated to a fixed
+point (:data:`LOOP_TOLERANCE`).
+
+Per stream and case:
+
+* ``water_dew_T`` -- the water dew point at the stream's pressure (over liquid water, supercooled
+  below 0 degC; :func:`letdown.fluid.water.water_dew_point`), NaN for dry gas or a dew point outside
+  200-450 K;
+* ``hydrate_T`` -- the hydrate formation temperature at the stream's pressure for its dry
+  composition (van der Waals-Platteeuw, Munck et al. 1988; free water assumed, a_w of pure water
+  lowered by dissolved gas: :mod:`letdown.fluid.hydrate`), NaN where the gas has no hydrate former
+  or no hydrate forms above 230 K;
+* margins ``T - limit`` [K] (positive: warmer than the limit): hydrate, water dew point, ice (0 degC)
+  and ``limits.min_T``.
+
+The warning rules (:func:`freezing_warnings`; ``m`` = ``limits.hydrate_margin``, 0 K if absent):
+
+* **hydrate risk** where ``T < hydrate_T + m`` and ``T <= water_dew_T``: hydrate needs water, and at
+  or below its water dew point the gas has free water to form it (common practice, e.g. the gas
+  processors' handbooks: "free water" is the first condition of hydrate formation);
+* **hydrate, no free water** where ``T < hydrate_T + m`` but ``T > water_dew_T``: the gas holds no
+  liquid water by the dew point; hydrate can still grow straight from the vapour when its water
+  content exceeds the (lower) water content in equilibrium with hydrate, which is not modelled here,
+  so this is reported as a weaker warning rather than passed;
+* **ice** where ``T < 0 degC + m``: free water freezes, regulator bodies and pilot lines ice up,
+  buried pipe heaves -- unless ``limits.min_T`` is set below 0 degC, which states that the plant is
+  built for colder gas (a chilling train);
+* ``limits.min_T`` as written (no margin: it is the user's own coldest allowed temperature).
+
+The checks run when the file has a ``limits`` section or ``gas.water``; the numbers are computed for
+every solve either way.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from ..errors import ConvergenceError, InputError
+from ..fluid.hydrate import LANGMUIR
+from ..fluid.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE, water_content,
+                           water_dew_point)
+from .result import WarningRecord
+
+#: The ice point used for the ice margin [K] (pure water at about 1 atm; the depression by pressure,
+#: 0.0073 K/bar, is within any margin; common practice).
+ICE_T = 273.15
+#: A loop's water ratios are iterated until no ratio changes by more than this, relative [-] ...
+LOOP_TOLERANCE = 1e-12
+#: ... or for this many passes (a recycle of fraction f converges as f^k; 500 passes cover f = 0.95).
+LOOP_MAX_PASSES = 500
+#: A stream within this of its water dew point counts as at it [K]: the dew point is found by
+#: bisection to 1e-7 K (:data:`letdown.fluid.water.DEW_T_TOL`), so a feed saturated at its own
+#: temperature lands a few 1e-8 K either side.
+DEW_T_SLACK = 1e-6
+
+
+@dataclass(frozen=True, eq=False)
+class StreamFreezing:
+    """Water and hydrate numbers of one stream over the cases.
+
+    Attributes
+    ----------
+    water_ratio : ndarray (n,)
+        Water per dry gas [mol/mol].
+    water_dew_T : ndarray (n,)
+        Water dew point at the stream's pressure [K] (NaN: dry, or outside 200-450 K).
+    hydrate_T : ndarray (n,)
+        Hydrate formation temperature at the stream's pressure [K] (NaN: none above 230 K).
+    hydrate_structure : ndarray of str (n,)
+        ``sI``, ``sII`` or ``""``.
+    """
+
+    water_ratio: np.ndarray
+    water_dew_T: np.ndarray
+    hydrate_T: np.ndarray
+    hydrate_structure: np.ndarray
+
+    @property
+    def water_mole_fraction(self) -> np.ndarray:
+        """Water mole fraction of the wet gas [-]."""
+        return self.water_ratio / (1.0 + self.water_ratio)
+
+    @property
+    def water_mg_Sm3(self) -> np.ndarray:
+        """Water per standard cubic metre of dry gas (15 degC, 101.325 kPa) [mg/Sm3]."""
+        return self.water_ratio * MOL_PER_SM3 * M_WATER * 1e6
+
+
+def ratio_from_spec(water, fluid, method: str, T=None, P=None) -> np.ndarray:
+    """Water per dry gas [mol/mol] from a :class:`WaterSpec` (or, with ``water=None``, saturated at
+    ``T`` [K], ``P`` [Pa]).
+
+    Raises
+    ------
+    InputError
+        An unknown water method or a state outside the correlation's inputs (located by the caller).
+    """
+    if water is None:
+        y = np.asarray(water_content(fluid, np.asarray(T, float), np.asarray(P, float),
+                                     method=method), dtype=float)
+        return y / (1.0 - y)
+    if water.kind == "mole_fraction":
+        return np.asarray(water.value / (1.0 - water.value))
+    if water.kind == "mg_Sm3":
+        return np.asarray(water.value * 1e-6 / M_WATER / MOL_PER_SM3)
+    if water.kind == "lb_MMscf":
+        return np.asarray(water.value * 1e-6 * LB / M_WATER / MOL_PER_SCF)
+    y = float(np.asarray(water_content(fluid, water.T, water.P, method=method)).reshape(-1)[0])
+    return np.asarray(y / (1.0 - y))
+
+
+def _feed_ratios(fs, fluid, streams) -> tuple[dict, list]:
+    water = fs.gas.water
+    method = fs.gas.water_method
+    notes = []
+    out = {}
+    where = water.where if water is not None else None
+    try:
+        for name in fs.feeds:
+            s = streams[name]
+            r = ratio_from_spec(water, fluid, method, s.T, s.P)
+            out[name] = np.broadcast_to(r, s.T.shape).astype(float)
+    except InputError as exc:
+        raise exc.located(file=(where.file if where else None) or fs.source,
+                          line=where.line if where else None, field="gas.water") from None
+    if water is None and fs.feeds:
+        notes.append(WarningRecord(
+            "gas", "no gas.water given: each feed is taken as saturated with water at its own "
+                   f"temperature and pressure ({method}); hydrate and water dew point margins "
+                   "follow from that", tuple(range(next(iter(streams.values())).n_cases))))
+    return out, notes
+
+
+def _mix(fs, block, streams, r, n):
+    spec = fs.blocks[block]
+    zero = np.zeros(n)
+    if spec.kind == "exchanger":
+        for side in ("hot", "cold"):
+            r[spec.outlets[side]] = r.get(spec.inlets[side], zero)
+        return
+    flows = [np.asarray(streams[s].flow, float) for s in spec.inlets.values()]
+    ratios = [r.get(s, zero) for s in spec.inlets.values()]
+    total = np.sum(flows, axis=0)
+    blend = np.sum([f * x for f, x in zip(flows, ratios)], axis=0)
+    mixed = np.where(total > 0.0, blend / np.where(total > 0.0, total, 1.0), ratios[0])
+    for s in spec.outlets.values():
+        r[s] = mixed
+
+
+def water_ratios(fs, fluid, streams, steps) -> tuple[dict, list]:
+    """Water per dry gas [mol/mol] of every stream, and notes (warnings) on the assumptions.
+
+    Parameters
+    ----------
+    fs : Flowsheet
+    fluid : Fluid
+    streams : Mapping[str, StreamBatch]
+        The solved streams.
+    steps : sequence
+        :func:`letdown.sheet.graph.solve_order` steps.
+    """
+    n = next(iter(streams.values())).n_cases
+    if "water" in fluid.components:
+        iw = fluid.components.index("water")
+        return ({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
+                 for name, s in streams.items()}, [])
+    r, notes = _feed_ratios(fs, fluid, streams)
+    for step in steps:
+        if not step.is_loop:
+            _mix(fs, step.blocks[0], streams, r, n)
+            continue
+        inside = [s for b in step.blocks for s in fs.blocks[b].outlets.values()]
+        for _ in range(LOOP_MAX_PASSES):
+            before = {s: r.get(s) for s in inside}
+            for b in step.blocks:
+                _mix(fs, b, streams, r, n)
+            change = max(float(np.max(np.abs(r[s] - before[s]) / np.maximum(np.abs(r[s]), 1e-30)))
+                         if before[s] is not None else np.inf for s in inside)
+            if change <= LOOP_TOLERANCE:
+                break
+        else:
+            notes.append(WarningRecord(", ".join(step.blocks),
+                                       "the water carried round this loop did not settle in "
+                                       f"{LOOP_MAX_PASSES} passes (change {change:.3g})"))
+    for name in streams:
+        r.setdefault(name, np.zeros(n))
+    return r, notes
+
+
+def _dew_points(fluid, method, y, P) -> np.ndarray:
+    """Water dew points [K]; NaN for dry gas and for dew points outside :data:`DEW_T_RANGE`."""
+    out = np.full(y.shape, np.nan)
+    wet = y > 0.0
+    if not wet.any():
+        return out
+    lo = np.asarray(water_content(fluid, np.full(wet.sum(), DEW_T_RANGE[0]), P[wet], method=method))
+    hi = np.asarray(water_content(fluid, np.full(wet.sum(), DEW_T_RANGE[1]), P[wet], method=method))
+    idx = np.flatnonzero(wet)
+    ok = (y[wet] >= lo) & (y[wet] <= hi)
+    if ok.any():
+        out[idx[ok]] = water_dew_point(y[idx[ok]], P[idx[ok]], fluid=fluid, method=method)
+    return out
+
+
+def _hydrate_Ts(fluid, P, zs) -> tuple[np.ndarray, np.ndarray, list]:
+    """Hydrate temperatures [K] and structures of rows (P, zs), each distinct row solved once."""
+    names = list(fluid.components)
+    formers = [j for j, nm in enumerate(names) if nm in LANGMUIR]
+    T = np.full(P.shape, np.nan)
+    st = np.full(P.shape, "", dtype=object)
+    failed = []
+    has = (np.asarray(zs)[:, formers].sum(axis=1) > 0.0) if formers else np.zeros(P.shape, bool)
+    has &= np.isfinite(P) & (P > 0.0)
+    if not has.any():
+        return T, st, failed
+    rows = np.column_stack([P[has], zs[has]])
+    uniq, inverse = np.unique(rows, axis=0, return_inverse=True)
+    inverse = np.asarray(inverse).reshape(-1)
+    try:
+        curve = fluid.hydrate_curve(uniq[:, 0], zs=uniq[:, 1:])
+        Tu, su = curve.T, curve.structure
+    except ConvergenceError:
+        # named fallback: solve the distinct rows one by one, so one bad row does not blank all
+        Tu = np.full(len(uniq), np.nan)
+        su = np.full(len(uniq), "", dtype=object)
+        for k, row in enumerate(uniq):
+            try:
+                c = fluid.hydrate_curve(row[:1], zs=row[None, 1:])
+                Tu[k], su[k] = c.T[0], c.structure[0]
+            except ConvergenceError:
+                failed.append(float(row[0]))
+    T[has] = Tu[inverse]
+    st[has] = np.asarray(su, dtype=object)[inverse]
+    return T, st, failed
+
+
+def stream_freezing(fs, fluid, streams, steps) -> tuple[dict, list]:
+    """Water, water dew point and hydrate temperature of every stream.
+
+    Returns
+    -------
+    freezing : dict
+        Stream name -> :class:`StreamFreezing`.
+    notes : list of WarningRecord
+        The assumptions made (water taken as saturated, loops) and any hydrate solve that failed.
+    """
+    ratios, notes = water_ratios(fs, fluid, streams, steps)
+    names = list(streams)
+    n = streams[names[0]].n_cases
+    P = np.concatenate([np.asarray(streams[s].P, float) for s in names])
+    zs = np.concatenate([np.asarray(streams[s].zs, float) for s in names])
+    r = np.concatenate([ratios[s] for s in names])
+    y = r / (1.0 + r)
+    dew = _dew_points(fluid, fs.gas.water_method, y, P)
+    hT, hs, failed = _hydrate_Ts(fluid, P, zs)
+    for p in failed:
+        notes.append(WarningRecord("hydrate", f"the hydrate temperature at {p / 1e5:.4g} bar did not "
+                                              "converge; that stream's hydrate margin is blank"))
+    out = {}
+    for k, s in enumerate(names):
+        sl = slice(k * n, (k + 1) * n)
+        out[s] = StreamFreezing(ratios[s].copy(), dew[sl].copy(), hT[sl].copy(),
+                                np.asarray(hs[sl], dtype=object))
+    return out, notes
+
+
+def margins(stream, fz: StreamFreezing, min_T=None) -> dict:
+    """Margins ``T - limit`` [K] of a stream batch: hydrate, water dew point, ice, min_T."""
+    T = np.asarray(stream.T, float)
+    return {"hydrate": T - fz.hydrate_T, "water_dew": T - fz.water_dew_T, "ice": T - ICE_T,
+            "min_T": T - min_T if min_T is not None else np.full(T.shape, np.nan)}
+
+
+def checks_active(fs) -> bool:
+    """Whether the flowsheet asks for freezing warnings (a ``limits`` section or ``gas.water``)."""
+    return bool(fs.limits) or fs.gas.water is not None
+
+
+def freezing_warnings(fs, streams, freezing) -> list:
+    """Warnings for streams inside a margin (see the module docstring for the rules)."""
+    out = []
+    m = float(fs.limits.get("hydrate_margin", 0.0))
+    min_T = fs.limits.get("min_T")
+    ice_applies = min_T is None or min_T >= ICE_T
+    for name, s in streams.items():
+        fz = freezing[name]
+        T = np.asarray(s.T, float)
+        flowing = np.asarray(s.flow, float) > 0.0
+        near = flowing & (T < fz.hydrate_T + m)
+        wet = T <= fz.water_dew_T + DEW_T_SLACK
+        for mask, tail in ((near & wet, "and at or below its water dew point {dew}: free water can "
+                                        "form hydrate (hydrate risk)"),
+                           (near & ~wet, "but above its water dew point {dew}: no free water by the "
+                                         "dew point; hydrate straight from the vapour is not "
+                                         "modelled (check, or keep the margin)")):
+            if mask.any():
+                i = int(np.flatnonzero(mask)[0])
+                dew = (f"{fz.water_dew_T[i] - 273.15:.2f} degC" if np.isfinite(fz.water_dew_T[i])
+                       else "(dry gas)")
+                out.append(WarningRecord(name, (
+                    f"hydrate margin {T[i] - fz.hydrate_T[i]:+.2f} K is below the {m:g} K wanted: "
+                    f"{T[i] - 273.15:.2f} degC against a hydrate temperature of "
+                    f"{fz.hydrate_T[i] - 273.15:.2f} degC at {s.P[i] / 1e5:.4g} bar ({fz.hydrate_structure[i]}), "
+                    + tail.format(dew=dew)), tuple(np.flatnonzero(mask).tolist())))
+        if ice_applies:
+            cold = flowing & (T < ICE_T + m)
+            if cold.any():
+                i = int(np.flatnonzero(cold)[0])
+                out.append(WarningRecord(name, (
+                    f"ice margin {T[i] - ICE_T:+.2f} K is below the {m:g} K wanted: "
+                    f"{T[i] - 273.15:.2f} degC (free water freezes; regulator bodies and pilot "
+                    "lines ice up; buried pipe heaves)"), tuple(np.flatnonzero(cold).tolist())))
+    return out
