@@ -57,6 +57,9 @@ typedef struct {
     double R, d1, d2, u, w, dd, distinct;
     int polish;
     const double *sqrt_ac, *ms, *sqrt_Tc, *bs, *Tcs, *Pcs, *omegas, *omk, *cs;
+    /* r_i = sqrt(a_i alpha_i(T)) of the last temperature seen (rcache[0] = T, then r; NULL: none):
+     * the flash evaluates many compositions at one temperature */
+    double *rcache;
 } eos_t;
 
 static eos_t eos_view(int nc, const double *par)
@@ -80,7 +83,21 @@ static eos_t eos_view(int nc, const double *par)
     e.omegas = e.Pcs + nc;
     e.omk = e.omegas + nc;
     e.cs = e.omk + (size_t)nc * nc;
+    e.rcache = NULL;
     return e;
+}
+
+/* the temperature cache of mixture(); released by eos_release */
+static void eos_cache(eos_t *e)
+{
+    e->rcache = malloc(((size_t)e->nc + 1) * sizeof(double));
+    if (e->rcache) e->rcache[0] = NAN;
+}
+
+static void eos_release(eos_t *e)
+{
+    free(e->rcache);
+    e->rcache = NULL;
 }
 
 /* max of |v|, NaN if any element is NaN (as numpy's max) */
@@ -102,10 +119,20 @@ static void mixture(const eos_t *e, double T, const double *x, double *psi, doub
                     double *work)
 {
     int nc = e->nc, i, j;
-    double sT = sqrt(T), aa = 0.0, bb = 0.0;
+    double aa = 0.0, bb = 0.0;
     double *r = work, *xr = work + nc;
+    if (e->rcache && e->rcache[0] == T) {
+        r = e->rcache + 1;
+    } else {
+        double sT = sqrt(T);
+        if (e->rcache) {
+            r = e->rcache + 1;
+            e->rcache[0] = T;
+        }
+        for (i = 0; i < nc; i++)
+            r[i] = e->sqrt_ac[i] * (1.0 + e->ms[i] * (1.0 - sT / e->sqrt_Tc[i]));
+    }
     for (i = 0; i < nc; i++) {
-        r[i] = e->sqrt_ac[i] * (1.0 + e->ms[i] * (1.0 - sT / e->sqrt_Tc[i]));
         xr[i] = x[i] * r[i];
         psi[i] = 0.0;
     }
@@ -226,9 +253,11 @@ LF_EXPORT int lf_lnphi(int n, int nc, const double *par, const double *T, const 
     double *work = malloc(3 * (size_t)nc * sizeof(double));
     int i;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++)
         Z[i] = lnphi_one(&e, T[i], P[i], xs + (size_t)i * nc, code ? code[i] : 0,
                          lnphi + (size_t)i * nc, work);
+    eos_release(&e);
     free(work);
     return 0;
 }
@@ -335,11 +364,13 @@ LF_EXPORT int lf_stability(int n, int nc, const double *par, const double *T, co
     double *work = malloc((size_t)(11 * nc) * sizeof(double));
     int i;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++) {
         size_t o = (size_t)i * nc;
         tm_out[i] = stability_case(&e, T[i], P[i], zs + o, lnphis_z + o, K + o, cfg, early_exit,
                                    ws_out + o, &Z_out[i], work);
     }
+    eos_release(&e);
     free(work);
     return 0;
 }
@@ -521,11 +552,13 @@ LF_EXPORT int lf_two_phase_ss(int n, int nc, const double *par, const double *T,
     double *work = malloc((size_t)(14 * nc) * sizeof(double));
     int i;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++) {
         size_t o = (size_t)i * nc;
         ss_case(&e, T[i], P[i], zs + o, Ks + o, cfg, lnK_out + o, &beta_out[i], &conv_out[i],
                 &iters_out[i], &resid_out[i], work);
     }
+    eos_release(&e);
     free(work);
     return 0;
 }
@@ -542,6 +575,7 @@ LF_EXPORT int lf_split_finish(int n, int nc, const double *par, const double *T,
     double *K, *Km1, *work;
     int i, k;
     if (!buf) return -1;
+    eos_cache(&e);
     K = buf; Km1 = K + nc; work = Km1 + nc;   /* 3 nc */
     for (i = 0; i < n; i++) {
         const double *z = zs + (size_t)i * nc;
@@ -556,6 +590,7 @@ LF_EXPORT int lf_split_finish(int n, int nc, const double *par, const double *T,
         Zx_out[i] = z_one(&e, T[i], P[i], x, 0, work);
         Zy_out[i] = z_one(&e, T[i], P[i], y, 0, work);
     }
+    eos_release(&e);
     free(buf);
     return 0;
 }
@@ -627,10 +662,12 @@ LF_EXPORT int lf_properties(int n, int nc, const double *par, const double *T, c
     double row[PR_N];
     int i, k;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++) {
         props_one(&e, T[i], P[i], xs + (size_t)i * nc, code ? code[i] : 0, row, work);
         for (k = 0; k < PR_N; k++) out[(size_t)k * n + i] = row[k];
     }
+    eos_release(&e);
     free(work);
     return 0;
 }
@@ -953,6 +990,7 @@ LF_EXPORT int lf_flash_pt(int n, int nc, const double *par, const double *fc, co
     double *work = malloc(PT_WORK(nc) * sizeof(double));
     int i;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++) {
         size_t o = (size_t)i * nc;
         pt_t r;
@@ -964,6 +1002,7 @@ LF_EXPORT int lf_flash_pt(int n, int nc, const double *par, const double *fc, co
         iters[i] = r.iters;
         resid[i] = r.resid;
     }
+    eos_release(&e);
     free(work);
     return 0;
 }
@@ -1109,11 +1148,13 @@ LF_EXPORT int lf_hs_of_split(int n, int nc, const double *par, const double *ig,
     double *work = malloc((size_t)(8 * nc) * sizeof(double));
     int i;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++) {
         size_t o = (size_t)i * nc;
         hs_of_split_case(&e, &g, T[i], P[i], zs + o, nph[i], beta[i], xs + o, ys + o, 1, &h[i],
                          &s[i], &cp[i], work);
     }
+    eos_release(&e);
     free(work);
     return 0;
 }
@@ -1165,10 +1206,12 @@ LF_EXPORT int lf_phase(int n, int nc, const double *par, const double *ig, const
     double row[PH_N];
     int i, k;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++) {
         phase_one(&e, &g, T[i], P[i], xs + (size_t)i * nc, code ? code[i] : 0, vshift, row, work);
         for (k = 0; k < PH_N; k++) out[(size_t)k * n + i] = row[k];
     }
+    eos_release(&e);
     free(work);
     return 0;
 }
@@ -1213,6 +1256,7 @@ LF_EXPORT int lf_assemble(int n, int nc, const double *par, const double *ig, co
     double *K = work, *rest = work + nc;
     int i, k;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++) {
         size_t o = (size_t)i * nc;
         const double *z = zs + o, *x = xs + o, *y = ys + o;
@@ -1250,6 +1294,7 @@ LF_EXPORT int lf_assemble(int n, int nc, const double *par, const double *ig, co
         }
         for (k = 0; k < AS_N; k++) out[(size_t)k * n + i] = r[k];
     }
+    eos_release(&e);
     free(work);
     return 0;
 }
@@ -1268,11 +1313,13 @@ LF_EXPORT int lf_two_phase_derivatives(int n, int nc, const double *par, const d
     double *work = malloc((2 * (size_t)nc + PT_WORK(nc)) * sizeof(double));
     int i;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++) {
         size_t o = (size_t)i * nc;
         derivatives_case(&e, &g, fc, T[i], P[i], zs + o, K + o, h[i], dT, dP_rel, tol, &cp[i],
                          &jt[i], work);
     }
+    eos_release(&e);
     free(work);
     return 0;
 }
@@ -1433,11 +1480,13 @@ LF_EXPORT int lf_solve_T(int n, int nc, const double *par, const double *ig, con
     double *work = malloc((3 * (size_t)nc + PT_WORK(nc)) * sizeof(double));
     int i;
     if (!work) return -1;
+    eos_cache(&e);
     for (i = 0; i < n; i++) {
         size_t o = (size_t)i * nc;
         solve_T_case(&e, &g, fc, sv, P[i], target[i], zs + o, is_s, Tg != NULL,
                      Tg ? Tg[i] : 0.0, &T[i], &ok[i], &beta[i], xs + o, ys + o, &nph[i], work);
     }
+    eos_release(&e);
     free(work);
     return 0;
 }
