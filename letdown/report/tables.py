@@ -25,7 +25,7 @@ from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
 #: 0.01 bar, whole kg/h and Sm3/h); CSV keeps full precision.
 STREAM_DECIMALS = {"Temperature": 2, "Pressure": 2, "Vapour fraction": 4, "Molar flow": 1,
                    "Mass flow": 0, "Standard gas flow": 0, "Density": 3, "Z": 5, "Molar mass": 3,
-                   "Enthalpy": 1, "Entropy": 3}
+                   "Enthalpy": 1, "Entropy": 3, "Gross calorific value": 3, "Wobbe index": 3}
 
 #: Width the terminal layout aims for [characters]; wider tables are split into column groups.
 DEFAULT_WIDTH = 110
@@ -138,6 +138,16 @@ def stream_table(result, units: str = "si", *, case: int = 0, atmosphere: float 
         row("Enthalpy", "h", "h"),
         row("Entropy", "s", "s"),
     ]
+    # gas quality by ISO 6976 (15 degC / 15 degC), where every component has data
+    def quality_row(label, key):
+        cells = []
+        for n in names:
+            q = _get(streams[n], "quality", None)
+            cells.append(None if not q or q.get(key) is None else q[key] / 1e6)
+        return (label, *cells)
+    if any(_get(streams[n], "quality", None) for n in names):
+        rows.append(quality_row("Gross calorific value [MJ/Sm3]", "gross_cv_J_m3"))
+        rows.append(quality_row("Wobbe index [MJ/Sm3]", "wobbe_gross_J_m3"))
     components = list(_get(result, "components", None) or [])
     comps = [_composition(streams[n], components, case) for n in names]
     order: list = []

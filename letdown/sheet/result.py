@@ -44,6 +44,8 @@ class StreamResult:
     mass_flow : float  [kg/s]
     vapour_fraction : float  molar [-]
     zs : dict  overall composition, component -> mole fraction [-]
+    quality : dict or None  ISO 6976:2016 gross calorific value and Wobbe index per standard m3
+        (15 degC / 15 degC, keys ``gross_cv_J_m3``, ``wobbe_gross_J_m3``) and relative density
     ys, xs : dict  vapour and liquid compositions [-] (equal to ``zs`` where the phase is absent)
     h : float  molar enthalpy [J/mol]
     s : float  molar entropy [J/(mol K)]
@@ -73,6 +75,7 @@ class StreamResult:
     density: float
     molar_mass: float
     freezing: Mapping[str, Any] | None = None
+    quality: Mapping[str, Any] | None = None
 
     @classmethod
     def from_batch(cls, name: str, stream: StreamBatch, i: int, components, freezing=None,
@@ -98,7 +101,8 @@ class StreamResult:
                    vapour_fraction=float(stream.vapour_fraction[i]), zs=comp(stream.zs),
                    ys=comp(stream.ys), xs=comp(stream.xs), h=float(stream.h[i]),
                    s=float(stream.s[i]), Z=float(stream.Z[i]), density=float(stream.density[i]),
-                   molar_mass=float(stream.molar_mass[i]), freezing=fz)
+                   molar_mass=float(stream.molar_mass[i]), freezing=fz,
+                   quality=_gas_quality(components, stream.zs[i]))
 
     def to_dict(self) -> dict:
         """The stream's entry of the JSON contract."""
@@ -110,7 +114,21 @@ class StreamResult:
                 "h_J_mol": _num(self.h), "s_J_molK": _num(self.s), "Z": _num(self.Z),
                 "density_kg_m3": _num(self.density), "molar_mass_kg_mol": _num(self.molar_mass),
                 "vapour_composition": comp(self.ys), "liquid_composition": comp(self.xs),
-                **(dict(self.freezing) if self.freezing is not None else {})}
+                **(dict(self.freezing) if self.freezing is not None else {}),
+                **(dict(self.quality) if self.quality is not None else {})}
+
+
+def _gas_quality(components, zs) -> dict | None:
+    """ISO 6976:2016 quality of a stream's composition (15 degC combustion and metering), or None
+    where a component has no ISO 6976 data."""
+    from ..errors import InputError
+    from ..fluid.quality import quality
+    try:
+        q = quality(list(components), zs, 288.15, 288.15)
+    except InputError:
+        return None
+    return {"gross_cv_J_m3": _num(q.gross_volumetric), "wobbe_gross_J_m3": _num(q.wobbe_gross),
+            "relative_density": _num(q.relative_density)}
 
 
 @dataclass(frozen=True)
