@@ -427,6 +427,8 @@ def _plot_target(path: str) -> Path:
 
 
 def _envelope(args) -> int:
+    import numpy as np
+
     import letdown
 
     from .fluid import Fluid
@@ -472,9 +474,17 @@ def _envelope(args) -> int:
               file=sys.stderr)
     if plot is not None:
         tmp = plot.with_name(f".{plot.stem}.tmp{plot.suffix}")
+        hydrate = None
+        if gas.model != "gerg-2008":
+            # the hydrate curve of the stream's gas over the envelope's pressures (free water)
+            P_top = max([env.cricondenbar.P if env.cricondenbar is not None else 0.0]
+                        + [float(P) for _, _, P in points])
+            P_h = np.geomspace(5e5, max(P_top, 10e5) * 1.1, 24)
+            curve = gas.hydrate_curve(P_h)
+            hydrate = (curve.T, curve.P)
         try:
             plot_envelope(env, str(tmp), f"{spec.title}: stream {args.stream} ({model})", points,
-                          args.units)
+                          args.units, hydrate=hydrate)
             os.replace(tmp, plot)
         finally:
             if tmp.exists():

@@ -97,8 +97,9 @@ def envelope_csv_files(env, points=()) -> dict:
 
 
 def plot_envelope(env, path: str, title: str, points=(), units: str = "si",
-                  atmosphere: float = STANDARD_ATMOSPHERE) -> None:
-    """Draw the envelope, its key points and the operating points into ``path`` (.png or .svg).
+                  atmosphere: float = STANDARD_ATMOSPHERE, hydrate=None) -> None:
+    """Draw the envelope, its key points and the operating points into ``path`` (.png or .svg);
+    ``hydrate`` = (T array [K], P array [Pa]) adds the hydrate formation curve (free water assumed).
 
     Raises
     ------
@@ -119,6 +120,12 @@ def plot_envelope(env, path: str, title: str, points=(), units: str = "si",
             ax.plot(uT(np.asarray(Ts)), uP(np.asarray(Ps)), color="grey", lw=0.8, ls="--")
             k = len(Ts) // 3
             ax.annotate(f"{b:g}", (uT(Ts[k]), uP(Ps[k])), fontsize=7, color="grey")
+        if hydrate is not None:
+            Th, Ph = (np.asarray(a, dtype=float) for a in hydrate)
+            ok = np.isfinite(Th)
+            if ok.any():
+                ax.plot(uT(Th[ok]), uP(Ph[ok]), color="tab:purple", lw=1.2,
+                        label="hydrate curve (free water)")
         marks = {"critical point": ("o", "black"), "cricondentherm": ("s", "tab:red"),
                  "cricondenbar": ("^", "tab:blue")}
         for name, p in _key_points(env):
