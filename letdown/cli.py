@@ -62,6 +62,8 @@ def _parser() -> argparse.ArgumentParser:
     s.add_argument("--csv", metavar="DIR", help="also write streams.csv and equipment.csv to DIR")
     s.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
     s.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+    s.add_argument("--dew-points", action="store_true",
+                   help="also give each product gas's hydrocarbon dew point and cricondentherm")
 
     c = sub.add_parser("check", parents=[common], help="validate a flowsheet file without solving")
     c.add_argument("file", metavar="FILE")
@@ -260,6 +262,9 @@ def _solve(args) -> int:
     result = sheet.solve(model=args.model) if args.model else sheet.solve()
     if hasattr(result, "case") and not hasattr(result, "to_json"):
         result = result.case(0)
+    if args.dew_points:
+        from .sheet.dewpoints import with_dew_points
+        result = with_dew_points(result, spec)
     converged = bool(getattr(result, "converged", True))
     if args.json:
         print(result.to_json())

@@ -159,6 +159,25 @@ def conditions_text(units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) 
             f"gas's Z of about 0.998 at those conditions is not applied.")
 
 
+def dew_points_text(result, units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:
+    """Hydrocarbon dew points of the product gases, where they were computed."""
+    u = unit_system(units, atmosphere)
+    lines = []
+    for name, s in (_get(result, "streams", {}) or {}).items():
+        dew = _get(s, "dew", None)
+        if not dew:
+            continue
+        def t(key):
+            v = dew.get(key)
+            return "-" if v is None else f"{u['T'](v):.2f} {u['T'].label}"
+        lines.append(f"  {name}: hydrocarbon dew point {t('hc_dew_T_K')} at "
+                     f"{u['P'](pick(_get(s, 'P'))):.2f} {u['P'].label}; cricondentherm "
+                     f"{t('cricondentherm_K')} ({dew.get('dew_point_model')})")
+    if not lines:
+        return ""
+    return "Product gas dew points\n" + "\n".join(lines)
+
+
 def report_text(result, units: str = "si", *, case: int = 0, atmosphere: float | None = None,
                 width: int = DEFAULT_WIDTH) -> str:
     """The whole terminal report.
@@ -191,7 +210,8 @@ def report_text(result, units: str = "si", *, case: int = 0, atmosphere: float |
     margins = margins_table(result, units, case=case, atmosphere=atm)
     if margins is not None:
         parts.append(render(margins, width))
-    for section in (loops_text(result), goals_text(result, units, atm), warnings_text(result)):
+    for section in (dew_points_text(result, units, atm), loops_text(result),
+                    goals_text(result, units, atm), warnings_text(result)):
         if section:
             parts.append(section)
     parts.append(conditions_text(units, atm))

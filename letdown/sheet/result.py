@@ -44,6 +44,8 @@ class StreamResult:
     mass_flow : float  [kg/s]
     vapour_fraction : float  molar [-]
     zs : dict  overall composition, component -> mole fraction [-]
+    dew : dict or None  on request (``letdown solve --dew-points``): ``hc_dew_T_K`` (hydrocarbon dew
+        point at the stream's pressure), ``cricondentherm_K``, ``dew_point_model``
     quality : dict or None  ISO 6976:2016 gross calorific value and Wobbe index per standard m3
         (15 degC / 15 degC, keys ``gross_cv_J_m3``, ``wobbe_gross_J_m3``) and relative density
     ys, xs : dict  vapour and liquid compositions [-] (equal to ``zs`` where the phase is absent)
@@ -76,6 +78,7 @@ class StreamResult:
     molar_mass: float
     freezing: Mapping[str, Any] | None = None
     quality: Mapping[str, Any] | None = None
+    dew: Mapping[str, Any] | None = None
 
     @classmethod
     def from_batch(cls, name: str, stream: StreamBatch, i: int, components, freezing=None,
@@ -115,7 +118,8 @@ class StreamResult:
                 "density_kg_m3": _num(self.density), "molar_mass_kg_mol": _num(self.molar_mass),
                 "vapour_composition": comp(self.ys), "liquid_composition": comp(self.xs),
                 **(dict(self.freezing) if self.freezing is not None else {}),
-                **(dict(self.quality) if self.quality is not None else {})}
+                **(dict(self.quality) if self.quality is not None else {}),
+                **(dict(self.dew) if self.dew is not None else {})}
 
 
 def _gas_quality(components, zs) -> dict | None:

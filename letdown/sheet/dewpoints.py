@@ -1,0 +1,44 @@
+"""Hydrocarbon dew points of the product gases of a solved flowsheet (on request).
+
+For each product stream (made by a block and taken by none) that leaves as a single vapour: its
+hydrocarbon dew point at its own pressure (``Fluid.dew_point``, the highest temperature with a
+liquid) and its cricondentherm (``Fluid.envelope``, the highest dew temperature at any pressure).
+A few tenths of a second per stream, so it is asked for (``letdown solve --dew-points``).
+"""
+from __future__ import annotations
+
+import dataclasses
+
+import numpy as np
+
+from ..errors import ConvergenceError, LetdownError, ModelError
+from ..fluid import Fluid
+
+
+def product_gases(result, fs) -> list:
+    """Names of the product streams of ``result`` that are a single vapour."""
+    consumed = {s for b in fs.blocks.values() for s in b.inlets.values()}
+    made = {s for b in fs.blocks.values() for s in b.outlets.values()}
+    return [n for n, s in result.streams.items()
+            if n in made and n not in consumed and s.vapour_fraction >= 1.0 and s.flow > 0]
+
+
+def with_dew_points(result, fs):
+    """``result`` with ``hc_dew_T_K`` and ``cricondentherm_K`` on each product gas (a new result;
+    None where a model cannot give them, e.g. GERG-2008, which the report says)."""
+    model = result.model if result.model != "gerg-2008" else "peng-robinson"
+    streams = dict(result.streams)
+    for name in product_gases(result, fs):
+        s = streams[name]
+        gas = Fluid(dict(s.zs), model=model, kij=fs.gas.kij, normalise=True)
+        extra = {"hc_dew_T_K": None, "cricondentherm_K": None, "dew_point_model": model}
+        try:
+            dew = gas.dew_point(P=s.P)
+            extra["hc_dew_T_K"] = float(dew) if np.isfinite(dew) else None
+            env = gas.envelope()
+            if env.cricondentherm is not None:
+                extra["cricondentherm_K"] = float(env.cricondentherm.T)
+        except (ConvergenceError, ModelError, LetdownError):
+            pass
+        streams[name] = dataclasses.replace(s, dew=extra)
+    return dataclasses.replace(result, streams=streams)
