@@ -110,3 +110,16 @@ def test_progress_bar_shows_and_changes_nothing(tmp_path, capsys):
     shown = sweep(fs, variables, show_progress=True)
     assert "solving" in capsys.readouterr().err
     assert shown.rows == quiet.rows
+
+
+def test_hours_below_the_hydrate_limit(tmp_path):
+    fs = load(GATE)
+    prof = read_profile(short_profile(tmp_path, 24))
+    res = year(fs, prof)
+    gas = letdown.Fluid(dict(fs.gas.composition))
+    # independently: the hydrate temperature at each hour's set point (free water), plus the margin
+    hyd = np.array([gas.hydrate_T(round(p, -2)) for p in prof.values["P_out"]])
+    margin = fs.limits["hydrate_margin"]
+    expected = int(np.sum(res.stream_T["network"] < hyd + margin))
+    assert res.hours_below_hydrate == expected
+    assert res.summary()["hours_below_hydrate_T_plus_margin"] == expected

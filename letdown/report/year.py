@@ -33,6 +33,10 @@ def year_text(res) -> str:
     if s["min_T_K"] is not None:
         lines.append(f"  hours with a stream below limits.min_T ({s['min_T_K'] - 273.15:.1f} degC): "
                      f"{s['hours_below_min_T']}")
+    if s["hours_below_hydrate_T_plus_margin"] is not None:
+        lines.append(f"  hours with {s['outlet']} below its hydrate temperature + "
+                     f"{s['hydrate_margin_K']:.1f} K (free water assumed): "
+                     f"{s['hours_below_hydrate_T_plus_margin']}")
     lines.append(f"  failed hours: {s['failed_hours']}")
     if s["failed_hours"]:
         bad = np.flatnonzero(~res.converged)[:5]

@@ -124,6 +124,8 @@ class YearResult:
     efficiency: float
     gross_cv: float            # J per standard m3 (15 degC, 101.325 kPa), ISO 6976
     min_T: float | None
+    outlet_hydrate_T: np.ndarray | None = None   # K per hour at the outlet pressure (free water)
+    hydrate_margin: float = 0.0                  # K (limits.hydrate_margin)
 
     @property
     def energy_MWh(self) -> dict:
@@ -143,6 +145,15 @@ class YearResult:
             cold |= np.nan_to_num(T, nan=np.inf) < self.min_T
         return int(cold.sum())
 
+    @property
+    def hours_below_hydrate(self) -> int | None:
+        """Hours in which the outlet is colder than its hydrate temperature plus the margin (free
+        water assumed), or None where the hydrate temperature was not computed."""
+        if self.outlet_hydrate_T is None:
+            return None
+        T = self.stream_T[self.outlet]
+        return int(np.sum(np.nan_to_num(T, nan=np.inf) < self.outlet_hydrate_T + self.hydrate_margin))
+
     def summary(self) -> dict:
         """The year's figures in SI (and MWh, Sm3), JSON-ready."""
         peak = {}
@@ -158,6 +169,8 @@ class YearResult:
                 "heater_efficiency": self.efficiency, "gross_cv_J_Sm3": self.gross_cv,
                 "peak": peak, "hours_below_min_T": self.hours_below_min_T,
                 "min_T_K": self.min_T, "outlet": self.outlet,
+                "hours_below_hydrate_T_plus_margin": self.hours_below_hydrate,
+                "hydrate_margin_K": self.hydrate_margin,
                 "outlet_T_K": {"min": float(np.nanmin(T_out)), "max": float(np.nanmax(T_out))}}
 
 
@@ -223,8 +236,31 @@ def year(fs: Flowsheet, profile: Profile, *, efficiency: float = 0.75, feed: str
     feed_comp = fs.feeds[feed].composition or fs.gas.composition
     z = np.array([feed_comp.get(c, 0.0) for c in comps], dtype=float)
     cv = float(quality(comps, z / z.sum(), 288.15, 288.15).gross_volumetric)
+    hyd = _outlet_hydrate_T(fs, comps, z / z.sum(), cases, outlet_block, outlet_stream, profile.n)
     return YearResult(profile, outs[0]["model"], conv, reasons, heaters, temps, outlet_stream,
-                      float(efficiency), cv, fs.limits.get("min_T"))
+                      float(efficiency), cv, fs.limits.get("min_T"), hyd,
+                      float(fs.limits.get("hydrate_margin", 0.0)))
+
+
+def _outlet_hydrate_T(fs, comps, z, cases, outlet_block, outlet_stream, n):
+    """Hydrate temperature at the outlet pressure of every hour (free water assumed), computed once
+    per distinct set point (rounded to 1 mbar), or None where the gas forms no hydrate."""
+    from ..fluid import Fluid
+    if outlet_block is None:
+        return None
+    key = f"{outlet_block}.P_out"
+    P = cases.get(key)
+    if P is None:
+        P = np.full(n, fs.blocks[outlet_block].params.get("P_out", np.nan), dtype=float)
+    if not np.all(np.isfinite(P)):
+        return None
+    gas = Fluid(dict(zip(comps, z)), model="peng-robinson", kij=fs.gas.kij, normalise=True)
+    levels, inverse = np.unique(np.round(P, -2), return_inverse=True)
+    try:
+        T_levels = np.atleast_1d(gas.hydrate_T(levels))
+    except InputError:
+        return None
+    return T_levels[inverse]
 
 
 def _only(name, options, what):
