@@ -15,7 +15,6 @@
  *                   Newton finish, Gibbs-energy acceptance, phases named by molar volume)
  *   lf_hs_of_split  CubicEngine._hs_of_split (ideal-gas h0, s0, cp0 plus residual parts)
  *   lf_phase        CubicEngine._phase (all properties of one phase)
- *   lf_two_phase_derivatives  CubicEngine._two_phase_derivatives (effective cp and JT coefficient)
  *   lf_assemble     the numbers of CubicEngine._assemble (whole, per phase, two-phase derivatives)
  *   lf_solve_T      the P-h / P-s temperature iteration CubicEngine._solve_T_mixture
  *
@@ -1237,8 +1236,8 @@ static void derivatives_case(const eos_t *e, const ig_t *g, const double *fc, do
 
 /* CubicEngine._assemble (the numbers; the caller builds the states) for n cases: out is
  * AS_N x n. Single phase: the properties of the phase (of zs); two phases: h, s, Z, density of
- * the whole from both phases, effective cp and JT coefficient from the neighbouring flashes (see
- * lf_two_phase_derivatives, K = y/x), cv and w NaN. Per phase: Z, density, h, s, molar mass of
+ * the whole from both phases, effective cp and JT coefficient from the neighbouring flashes (as
+ * CubicEngine._two_phase_derivatives, K = y/x), cv and w NaN. Per phase: Z, density, h, s, molar mass of
  * the vapour (where beta > 0) and of the liquid (where beta < 1), NaN elsewhere. */
 enum {
     AS_H, AS_S, AS_CP, AS_CV, AS_JT, AS_W, AS_Z, AS_DENSITY,
@@ -1293,31 +1292,6 @@ LF_EXPORT int lf_assemble(int n, int nc, const double *par, const double *ig, co
             r[AS_W] = NAN;
         }
         for (k = 0; k < AS_N; k++) out[(size_t)k * n + i] = r[k];
-    }
-    eos_release(&e);
-    free(work);
-    return 0;
-}
-
-/* CubicEngine._two_phase_derivatives over n two-phase states of enthalpy h: warm-started flashes
- * (assume 2, ln K tolerance tol) at (T + dT, P) and (T, P (1 + dP_rel)); cp = (h(T + dT) - h) / dT,
- * jt = -(dh/dP)_T / cp. A pure component gives NaN (the caller replaces both). */
-LF_EXPORT int lf_two_phase_derivatives(int n, int nc, const double *par, const double *ig,
-                                       const double *fc, const double *T, const double *P,
-                                       const double *zs, const double *K, const double *h,
-                                       double dT, double dP_rel, double tol, double *cp,
-                                       double *jt)
-{
-    eos_t e = eos_view(nc, par);
-    ig_t g = ig_view(nc, ig);
-    double *work = malloc((2 * (size_t)nc + PT_WORK(nc)) * sizeof(double));
-    int i;
-    if (!work) return -1;
-    eos_cache(&e);
-    for (i = 0; i < n; i++) {
-        size_t o = (size_t)i * nc;
-        derivatives_case(&e, &g, fc, T[i], P[i], zs + o, K + o, h[i], dT, dP_rel, tol, &cp[i],
-                         &jt[i], work);
     }
     eos_release(&e);
     free(work);

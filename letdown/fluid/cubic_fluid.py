@@ -159,10 +159,6 @@ class CubicEngine:
         """Effective cp = (dh/dT)_P and jt = -(dh/dP)_T / cp across a two-phase state, by central
         differences of warm-started flashes."""
         K = _k_values(split.ys[i], split.xs[i])
-        if native.AVAILABLE:
-            return native.two_phase_derivatives(self.eos, T, P, zs, K, h, TWO_PHASE_DT,
-                                                TWO_PHASE_DP_REL, TWO_PHASE_DERIV_TOL,
-                                                fl.native_flash_constants)
         m = T.shape[0]
         # both neighbours in one batch: (T + dT, P) and (T, P (1 + dP))
         T2 = np.concatenate([T + TWO_PHASE_DT, T])

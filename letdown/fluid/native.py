@@ -17,7 +17,6 @@ for, case by case, with the constants passed in from :mod:`letdown.fluid.flash` 
 * :func:`hs_of_split` and :func:`phase` -- the ideal-gas plus residual properties of
   :class:`letdown.fluid.cubic_fluid.CubicEngine` (``_hs_of_split``, ``_phase``);
 * :func:`solve_T` -- the P-h / P-s temperature iteration ``CubicEngine._solve_T_mixture``;
-* :func:`two_phase_derivatives` -- ``CubicEngine._two_phase_derivatives``;
 * :func:`assemble` -- the numbers of ``CubicEngine._assemble``.
 
 :meth:`CubicEOS.lnphi` and :meth:`CubicEOS.properties`, :func:`letdown.fluid.flash.flash_PT` and
@@ -88,8 +87,6 @@ def _load():
         "lf_hs_of_split": [i, i, p, p, p, p, p, p, p, p, p, p, p, p],
         "lf_phase": [i, i, p, p, p, p, p, p, i, p],
         "lf_solve_T": [i, i, p, p, p, p, p, p, p, i, p, p, p, p, p, p, p],
-        "lf_two_phase_derivatives": [i, i, p, p, p, p, p, p, p, p, ctypes.c_double,
-                                     ctypes.c_double, ctypes.c_double, p, p],
         "lf_assemble": [i, i, p, p, p, p, p, p, p, p, p, p, i, ctypes.c_double, ctypes.c_double,
                         ctypes.c_double, p],
     }
@@ -458,22 +455,6 @@ def _run_chunked(n, run):
     edges = np.linspace(0, n, n_chunks + 1).astype(int)
     for rc in _POOL.map(lambda k: run(edges[k], edges[k + 1]), range(n_chunks)):
         _check(rc)
-
-
-def two_phase_derivatives(eos, T, P, zs, K, h, dT, dP_rel, tol, constants):
-    """Effective cp [J/(mol K)] and Joule-Thomson coefficient [K/Pa] of two-phase states, as
-    ``CubicEngine._two_phase_derivatives`` (forward differences of warm-started flashes)."""
-    T, P, zs = _cases(T, P, zs)
-    n, nc = zs.shape
-    K, h = _f(K), _f(h)
-    fc = _block(_FP_ORDER, constants)
-    cp = np.empty(n)
-    jt = np.empty(n)
-    _check(_LIB.lf_two_phase_derivatives(n, nc, _ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)),
-                                         _ptr(fc), _ptr(T), _ptr(P), _ptr(zs), _ptr(K), _ptr(h),
-                                         float(dT), float(dP_rel), float(tol), _ptr(cp),
-                                         _ptr(jt)))
-    return cp, jt
 
 
 _ASSEMBLE_ROWS = ("h", "s", "cp", "cv", "jt", "w", "Z", "density")
