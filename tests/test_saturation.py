@@ -97,3 +97,16 @@ def test_bubble_and_dew_points_match_thermo(model, exact, rel_rounded):
     z = gas.zs[None, :]
     assert engine.saturation_P(np.array([T]), z, "bubble")[0] == pytest.approx(ref_bubble, rel=1e-6)
     assert engine.saturation_P(np.array([T]), z, "dew")[0] == pytest.approx(ref_dew, rel=1e-6)
+
+
+def test_no_dew_point_above_the_cricondenbar():
+    """Regression: above the cricondenbar the scan found a liquid-liquid split near 50 K and called
+    it a dew point; a boundary counts only if the incipient phase is the denser one."""
+    gas = letdown.Fluid({"methane": 0.965222, "nitrogen": 0.002595, "carbon-dioxide": 0.005956,
+                         "ethane": 0.018186, "propane": 0.004596, "isobutane": 0.000977,
+                         "n-butane": 0.001007, "isopentane": 0.000473, "n-pentane": 0.000324,
+                         "n-hexane": 0.000664})       # AGA8 Gulf Coast gas (tests/cases.py)
+    env = gas.envelope()
+    assert np.isnan(gas.dew_point(P=1.001 * env.cricondenbar.P))
+    below = gas.dew_point(P=0.99 * env.cricondenbar.P)
+    assert env.critical.T < below <= env.cricondentherm.T + 1e-6

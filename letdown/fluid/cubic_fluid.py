@@ -23,6 +23,10 @@ TWO_PHASE_DP_REL = 1e-5
 TWO_PHASE_DERIV_TOL = 1e-10
 #: Grid for locating phase boundaries by the stability test.
 SAT_GRID_POINTS = 48
+#: Lowest temperature searched for dew and bubble points of mixtures [K]: below the triple points
+#: of methane (90.7 K) and nitrogen (63.2 K) a natural gas is solid; the cubic equation still finds
+#: liquid-liquid splits there (near 45 K above a lean gas's cricondenbar), which are not dew points.
+SAT_T_FLOOR = 60.0
 #: P-h/P-s iterations allowed on a trusted single phase before every iterate is stability-tested
 #: (Newton from the ideal-gas guess needs 3-5 in one phase).
 TRUST_ITERATIONS = 8
@@ -531,7 +535,7 @@ class CubicEngine:
             return out
         Tcs = self.comps.Tcs
         if axis == "T":
-            lo_v = np.full(m.size, 0.3 * np.min(np.where(zs[m] > 0, Tcs, np.inf), axis=1))
+            lo_v = np.maximum(0.3 * np.min(np.where(zs[m] > 0, Tcs, np.inf), axis=1), SAT_T_FLOOR)
             hi_v = np.full(m.size, 1.6 * np.max(np.where(zs[m] > 0, Tcs, -np.inf), axis=1))
             grid = np.linspace(0.0, 1.0, SAT_GRID_POINTS)[None, :] * (hi_v - lo_v)[:, None] + lo_v[:, None]
         else:
@@ -643,5 +647,4 @@ def _blank_unconverged(st: States) -> States:
         a = getattr(st, k).copy()
         a[bad] = np.nan
         upd[k] = a
-    T = st.T.copy()
     return replace(st, **upd)
