@@ -175,9 +175,10 @@ def rachford_rice(zs, Ks, negative=False, beta0=None):
         hi = np.where(active & (f < 0.0), beta, hi)
         pa = beta - a_
         pb = b_ - beta
-        H = pa * pb * f
-        dH = (pb - pa) * f + pa * pb * df
+        # a pole at infinity (K exactly 1) gives inf * 0 here; such rows fall to bisection below
         with np.errstate(divide="ignore", invalid="ignore"):
+            H = pa * pb * f
+            dH = (pb - pa) * f + pa * pb * df
             new = beta - H / dH
         # converged when the Newton step itself is a few ulps (test before the bracket check: a
         # zero step sits on the bracket end)
@@ -286,7 +287,8 @@ def stability(eos: CubicEOS, T, P, zs, *, lnphis_z=None, Z_z=None, early_exit=Fa
         with np.errstate(invalid="ignore"):
             tmi = 1.0 + np.sum(np.where(pres[idx], Wa * (lw + lnph - dt[idx] - 1.0), 0.0), axis=1)
         tm[idx] = tmi
-        step = np.max(np.where(pres[idx], np.abs(new - lw), 0.0), axis=1)
+        with np.errstate(invalid="ignore"):      # absent components: -inf - (-inf), masked
+            step = np.max(np.where(pres[idx], np.abs(new - lw), 0.0), axis=1)
         lnW[idx] = new
         trivial = np.sum((w - zt[idx]) ** 2, axis=1) < TRIVIAL_DIST
         done = (step < LN_TOL) | trivial
