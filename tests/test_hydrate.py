@@ -3,9 +3,9 @@ correlations.
 
 Reference data (sources beside each):
 
-* Pure methane and a natural gas: experimental points as transcribed in the open data files of the
-  P2F-HydrateCalc project (Colorado School of Mines; ``CH4.csv`` and ``Natural Gas.csv``; the
-  experimental papers are not named in the files). Methane status V in REFERENCE_DATA.md section 1;
+* Pure methane and a natural gas: experimental points as transcribed in the open data files of a
+  Colorado School of Mines hydrate project (``CH4.csv`` and ``Natural Gas.csv``; the experimental
+  papers are not named in the files). Methane status V in REFERENCE_DATA.md section 1;
   the natural-gas file was read for this test (transcription read, experimental source unknown).
 * Ethane, propane, CO2: the Carroll (2014) pure-gas correlation ln P[MPa] = A + B T + C / T
   (J. Carroll, *Natural Gas Hydrates*, 3rd ed., 2014; coefficients V in REFERENCE_DATA.md
@@ -28,11 +28,11 @@ from letdown.fluid import hydrate as hy
 
 MPA = 1e6
 
-# P2F-HydrateCalc CH4.csv (REFERENCE_DATA.md section 1, V): the points inside 275-295 K
+# Colorado School of Mines hydrate data, CH4.csv (REFERENCE_DATA.md section 1, V): the points inside 275-295 K
 METHANE_T = np.array([278.1, 283.8, 289.4, 292.8, 294.7])
 METHANE_P = np.array([4.249, 7.579, 14.414, 22.367, 28.866]) * MPA
 
-# P2F-HydrateCalc "Natural Gas.csv": CH4 0.932, C2H6 0.0425, C3H8 0.0161, N2 0.0043, CO2 0.0051
+# Colorado School of Mines hydrate data, "Natural Gas.csv": CH4 0.932, C2H6 0.0425, C3H8 0.0161, N2 0.0043, CO2 0.0051
 NATGAS = {"methane": 0.932, "ethane": 0.0425, "propane": 0.0161, "nitrogen": 0.0043,
           "carbon-dioxide": 0.0051}
 NATGAS_T = np.array([277.7, 279.1, 281.8, 283.9, 286.7, 289.2, 290.2, 291.2, 292.1, 293.3, 293.3,
@@ -147,7 +147,7 @@ def test_lower_water_activity_lowers_the_formation_temperature():
 
 
 def test_pure_water_below_the_ice_point_uses_the_ice_reference():
-    # P2F-HydrateCalc CH4.csv: 262.4 K at 1.840 MPa (ice - hydrate - vapour); measured -0.85 K
+    # Colorado School of Mines hydrate data, CH4.csv: 262.4 K at 1.840 MPa (ice - hydrate - vapour); measured -0.85 K
     gas = letdown.Fluid({"methane": 1.0})
     assert gas.hydrate_T(1.840e6) == pytest.approx(262.4, abs=1.0)
 
