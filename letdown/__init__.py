@@ -2,7 +2,7 @@
 from .errors import ConvergenceError, InputError, LetdownError, ModelError, TopologyError  # noqa: F401
 from .fluid import Fluid, State, States  # noqa: F401
 
-__version__ = "0.1.0"
+from ._version import __version__  # noqa: F401
 
 
 def load(path):

@@ -45,9 +45,8 @@ def crosscheck_text(cc, units: str = "si") -> str:
         lines += ["", "Warnings by model"]
         for m, ws in flagged_models.items():
             lines += [f"  {m}: {where}: {what}" for where, what in ws]
-    from ..fluid.models import MODELS
     lines += ["", "Model assumptions"]
-    lines += [f"  {m}: {MODELS[m].assumptions}" for m in cc.models]
+    lines += [f"  {m}: {cc.assumptions.get(m, '')}" for m in cc.models]
     lines += ["", "Engineering estimates; designs must follow local codes and be checked by "
                   "qualified, licensed staff."]
     return "\n".join(lines)

@@ -20,7 +20,7 @@ def sweep_files(table, *, source: str, variables, mode: str, plot: str | None = 
     ``run.json`` records what makes the run reproducible: the flowsheet file and its SHA-256, the
     swept variables as given, the mode, the model and the letdown version.
     """
-    import letdown
+    from .._version import __version__
     files = {"sweep.csv": table.csv_text()}
     parquet = _parquet(table)
     if parquet is not None:
@@ -28,7 +28,7 @@ def sweep_files(table, *, source: str, variables, mode: str, plot: str | None = 
     digest = hashlib.sha256(Path(source).read_bytes()).hexdigest()
     files["run.json"] = json.dumps({
         "flowsheet": str(source), "flowsheet_sha256": digest, "vary": list(variables),
-        "mode": mode, "model": table.model, "letdown_version": letdown.__version__,
+        "mode": mode, "model": table.model, "letdown_version": __version__,
         "cases": len(table.rows), "failed": sum(1 for r in table.rows if not r[-2]),
         "written_utc": datetime.now(timezone.utc).isoformat(timespec="seconds"),
     }, indent=2) + "\n"

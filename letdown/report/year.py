@@ -48,7 +48,7 @@ def year_text(res) -> str:
 
 def year_files(res, *, flowsheet: str, plot: bool = True) -> dict:
     """{file name: content}: hourly.csv, summary.json, run.json and (with matplotlib) year.png/svg."""
-    import letdown
+    from .._version import __version__
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     heaters = list(res.heater_duty)
@@ -67,7 +67,7 @@ def year_files(res, *, flowsheet: str, plot: bool = True) -> dict:
                  "profile": res.profile.source,
                  "profile_sha256": hashlib.sha256(Path(res.profile.source).read_bytes()).hexdigest(),
                  "model": res.model, "heater_efficiency": res.efficiency,
-                 "letdown_version": letdown.__version__,
+                 "letdown_version": __version__,
                  "written_utc": datetime.now(timezone.utc).isoformat(timespec="seconds")},
                  indent=2) + "\n"}
     if plot:

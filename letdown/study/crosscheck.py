@@ -67,6 +67,7 @@ class CrossCheck:
     failures: dict = field(default_factory=dict)      # model -> reason
     warnings: dict = field(default_factory=dict)      # model -> [(where, what)]
     skipped: dict = field(default_factory=dict)       # model -> why not applicable
+    assumptions: dict = field(default_factory=dict)   # model -> statement (fluid.models)
 
     @property
     def flagged(self) -> tuple:
@@ -78,7 +79,7 @@ class CrossCheck:
             return None if x is None or not np.isfinite(x) else float(x)
         return {
             "title": self.title, "models": list(self.models),
-            "assumptions": {m: MODELS[m].assumptions for m in self.models},
+            "assumptions": dict(self.assumptions),
             "rows": [{"what": r.what, "unit": r.unit, "values": {m: num(v) for m, v in r.values.items()},
                       "spread": num(r.spread), "flagged": r.flagged} for r in self.rows],
             "failures": dict(self.failures), "skipped": dict(self.skipped),
@@ -134,7 +135,7 @@ def crosscheck(fs: Flowsheet, models=None) -> CrossCheck:
         results[m] = res
         warnings[m] = [(w["where"], w["what"]) for w in res.warnings]
     return CrossCheck(fs.title, tuple(models), tuple(_rows(fs, results, models)), failures,
-                      warnings, skipped)
+                      warnings, skipped, {m: MODELS[m].assumptions for m in models})
 
 
 def _rows(fs, results, models):
