@@ -256,6 +256,52 @@ class Fluid:
             return one
         return st
 
+    def flash3(self, T, P, zs=None):
+        """Three-phase PT flash: vapour, hydrocarbon liquid and aqueous liquid (see
+        :mod:`letdown.fluid.threephase` for the method and the model's limits for water).
+
+        Parameters
+        ----------
+        T, P : float or ndarray (n,)
+            [K], [Pa].
+        zs : ndarray, optional
+            Composition override, (nc,) or (n, nc), component order of :attr:`components`.
+
+        Returns
+        -------
+        letdown.fluid.threephase.ThreePhaseResult
+            Phase fractions ``beta_V``, ``beta_L``, ``beta_W`` (0 where absent) and compositions
+            ``y``, ``x``, ``w`` (NaN where absent), always as batch arrays (n,) and (n, nc).
+
+        Raises
+        ------
+        InputError
+            Non-positive T or P, a bad composition.
+        ModelError
+            The fluid is on GERG-2008 (single-phase states only here).
+        ConvergenceError
+            Some case did not converge (the result is attached).
+        """
+        if self.model == "gerg-2008":
+            raise ModelError("GERG-2008 is used for single-phase states only here; use a cubic "
+                             "model for the three-phase flash")
+        from .threephase import flash_PT_3
+        Ta = np.atleast_1d(np.asarray(T, dtype=float))
+        Pa = np.atleast_1d(np.asarray(P, dtype=float))
+        Z = self._zs if zs is None else np.asarray(zs, dtype=float)
+        n = max(Ta.shape[0], Pa.shape[0], Z.shape[0] if Z.ndim == 2 else 1)
+        Ta = np.broadcast_to(Ta, (n,)).copy()
+        Pa = np.broadcast_to(Pa, (n,)).copy()
+        if np.any(~np.isfinite(Ta)) or np.any(Ta <= 0) or np.any(~np.isfinite(Pa)) or np.any(Pa <= 0):
+            raise InputError("flash3 needs positive, finite temperatures and pressures")
+        Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
+        _check_composition(Zb, self.n_components)
+        res = flash_PT_3(self._engine.eos, Ta, Pa, Zb)
+        if not res.report.all_converged:
+            raise ConvergenceError(f"three-phase flash did not converge ({res.report!r})",
+                                   result=res)
+        return res
+
     def quality(self, combustion_T: float = 288.15, metering_T: float = 288.15, zs=None):
         """Gas quality by ISO 6976:2016: calorific values, Wobbe indices, relative density, density
         and compression factor at the reference conditions (see :mod:`letdown.fluid.quality`).

@@ -1,0 +1,314 @@
+"""Three-phase (vapour, hydrocarbon liquid, aqueous liquid) PT flash for cubic equations of state.
+
+Sequence, per case of a batch:
+
+1. The two-phase flash :func:`letdown.fluid.flash.flash_PT` (stability test and split).
+2. A tangent-plane stability test (Michelsen, Fluid Phase Equilib. 9 (1982) 1) of every phase of
+   that result, with the trials of :func:`letdown.fluid.flash.stability` plus a nearly-pure-water
+   trial (water 1, every other component 1e-6 of its fraction in the tested phase), which finds a
+   free-water phase that the Wilson trials can miss.
+3. Where a phase is unstable, a three-phase split: successive substitution on the K-values of
+   two phases against the reference phase, each step with the multiphase Rachford-Rice solved as
+   the minimisation of the convex function F(beta) = -sum_i z_i ln t_i,
+   t_i = 1 + sum_j beta_j (K_ij - 1) (Michelsen, Fluid Phase Equilib. 9 (1982) 21; Okuno, Johns &
+   Sepehrnoori, SPE J. 15 (2010) 313), by Newton steps with a step-length bound keeping every t_i
+   positive (the negative-flash region). It is converged when the fugacities of every component
+   agree in the three phases to ``FUG_TOL`` in ln f. A phase fraction that ends negative removes
+   that phase and the remaining pair is split by :func:`letdown.fluid.flash.two_phase_flash`.
+
+Naming (phases carry no labels in the equations): the aqueous phase is the water-richest phase with
+water as its largest component; of the others, the lower mass density one is the vapour. A single
+phase is vapour or hydrocarbon liquid by the phase identification parameter
+(:func:`letdown.fluid.flash.is_vapour_like`), aqueous if water is its largest component.
+
+Limits of the model (for the aqueous phase): a cubic equation with constant (298.15 K) water
+interaction parameters from E-PPR78 (data/kij_pr.csv) and van der Waals one-fluid mixing. It gives
+the water content of the vapour fairly (tests/test_threephase.py), but the solubility of
+hydrocarbons in water is only an order-of-magnitude figure with such kij (common practice: constant
+kij cannot fit both sides of the water-hydrocarbon split), and glycol or methanol in water, which
+need an activity-coefficient or association term, are outside it.
+
+Temperatures [K], pressures [Pa], compositions mole fractions; cases on axis 0.
+"""
+from __future__ import annotations
+
+from dataclasses import dataclass
+
+import numpy as np
+
+from .components import R
+from .cubic import CubicEOS
+from .flash import (SolveReport, flash_PT, is_vapour_like, stability, two_phase_flash, K_CLIP,
+                    TM_UNSTABLE)
+
+#: Converged when the largest difference of ln f_i between phases is below this [-].
+FUG_TOL = 1e-9
+SS_MAX_ITER = 500
+#: Multiphase Rachford-Rice: Newton iterations and convergence on the gradient (sum_i x_i = 1).
+RR_MAX_ITER = 100
+RR_TOL = 1e-14
+#: Largest fraction of the distance to the boundary t_i = 0 a Rachford-Rice step may go.
+RR_BOUNDARY_FRACTION = 0.9
+#: Trace amount of the non-water components in the nearly-pure-water trial (times their fraction).
+WATER_TRIAL_TRACE = 1e-6
+STAB_MAX_ITER = 200
+STAB_TOL = 1e-11
+
+
+@dataclass(frozen=True)
+class ThreePhaseResult:
+    """Phase fractions and compositions of a three-phase PT flash.
+
+    Attributes
+    ----------
+    beta_V, beta_L, beta_W : ndarray (n,)
+        Mole fractions of vapour, hydrocarbon liquid and aqueous liquid [-] (0 where absent).
+    y, x, w : ndarray (n, nc)
+        Compositions of vapour, hydrocarbon liquid, aqueous liquid [-] (NaN where absent).
+    n_phases : ndarray of int (n,)
+    report : SolveReport
+        Convergence per case; residual = largest ln-fugacity difference between present phases.
+    """
+
+    beta_V: np.ndarray
+    beta_L: np.ndarray
+    beta_W: np.ndarray
+    y: np.ndarray
+    x: np.ndarray
+    w: np.ndarray
+    n_phases: np.ndarray
+    report: SolveReport
+
+
+# ------------------------------------------------------------------------------------------------
+def _water_trial_stability(eos, T, P, zs, lnph_z, iw):
+    """Minimum modified tangent-plane distance from a nearly-pure-water trial (n,), its trial."""
+    present = zs > 0.0
+    with np.errstate(divide="ignore"):
+        d = np.where(present, np.log(zs) + lnph_z, -np.inf)
+    W = np.where(present, WATER_TRIAL_TRACE * zs, 0.0)
+    W[:, iw] = 1.0
+    lnW = np.where(present, np.log(np.where(present, W, 1.0)), -np.inf)
+    tm = np.zeros(zs.shape[0])
+    for _ in range(STAB_MAX_ITER):
+        Wa = np.exp(lnW)
+        w = Wa / Wa.sum(axis=1, keepdims=True)
+        lnph, _ = eos.lnphi(T, P, w, "liquid")
+        with np.errstate(invalid="ignore"):
+            tm = 1.0 + np.sum(np.where(present, Wa * (lnW + lnph - d - 1.0), 0.0), axis=1)
+            new = np.where(present, d - lnph, -np.inf)
+            step = np.max(np.where(present, np.abs(new - lnW), 0.0), axis=1)
+        lnW = new
+        if np.all(step < STAB_TOL):
+            break
+    Wa = np.exp(lnW)
+    w = Wa / Wa.sum(axis=1, keepdims=True)
+    trivial = np.sum((w - zs) ** 2, axis=1) < 1e-7
+    return np.where(trivial, 0.0, tm), w
+
+
+def _rr_multi(zs, K, beta0):
+    """Multiphase Rachford-Rice: phase fractions beta (n, m) of the m non-reference phases for
+    K (n, m, nc) against the reference phase, by bounded Newton minimisation of the convex
+    F = -sum z_i ln t_i. Returns beta and t (n, nc)."""
+    n, m, nc = K.shape
+    Km1 = K - 1.0                                        # (n, m, nc)
+    beta = beta0.copy()
+    for _ in range(RR_MAX_ITER):
+        t = 1.0 + np.einsum("nj,nji->ni", beta, Km1)
+        g = -np.einsum("ni,nji->nj", zs / t, Km1)         # dF/dbeta_j = -(sum_i x_ij - sum_i x_i0)
+        H = np.einsum("ni,nji,nki->njk", zs / t ** 2, Km1, Km1)
+        H += 1e-300 * np.eye(m)
+        d = -np.linalg.solve(H, g[..., None])[..., 0]
+        dt = np.einsum("nj,nji->ni", d, Km1)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            lim = np.where(dt < 0.0, -t / dt, np.inf)
+        smax = RR_BOUNDARY_FRACTION * np.min(np.where(zs > 0, lim, np.inf), axis=1)
+        s = np.minimum(1.0, smax)
+        beta = beta + s[:, None] * d
+        if np.all(np.max(np.abs(g), axis=1) < RR_TOL) and np.all(s == 1.0):
+            break
+    t = 1.0 + np.einsum("nj,nji->ni", beta, Km1)
+    return beta, t
+
+
+def _split3(eos, T, P, zs, X0):
+    """Successive substitution for three phases from starting compositions X0 (n, 3, nc) (phase 0
+    the reference). Returns betas (n, 3), X (n, 3, nc), converged (n,), iterations, residual."""
+    n, _, nc = X0.shape
+    present = zs > 0.0
+    tiny = 1e-300
+    lnK = np.log(np.clip(X0[:, 1:, :], tiny, None)) - np.log(np.clip(X0[:, :1, :], tiny, None))
+    lnK = np.where(present[:, None, :], np.clip(lnK, np.log(K_CLIP[0]), np.log(K_CLIP[1])), 0.0)
+    beta = np.full((n, 2), 1.0 / 3.0)
+    conv = np.zeros(n, dtype=bool)
+    iters = np.zeros(n, dtype=int)
+    resid = np.full(n, np.inf)
+    X = X0.copy()
+    for it in range(SS_MAX_ITER):
+        idx = np.nonzero(~conv)[0]
+        if idx.size == 0:
+            break
+        K = np.exp(lnK[idx])
+        b, t = _rr_multi(zs[idx], K, beta[idx])
+        x0 = zs[idx] / t
+        Xi = np.concatenate([x0[:, None, :], K * x0[:, None, :]], axis=1)
+        Xi /= Xi.sum(axis=2, keepdims=True)
+        m = idx.size
+        lnph, _ = eos.lnphi(np.repeat(T[idx], 3), np.repeat(P[idx], 3), Xi.reshape(3 * m, nc),
+                            "stable")
+        lnph = lnph.reshape(m, 3, nc)
+        with np.errstate(divide="ignore", invalid="ignore"):
+            lnf = np.where(present[idx][:, None, :], np.log(Xi) + lnph, 0.0)
+        res = np.max(np.abs(lnf[:, 1:, :] - lnf[:, :1, :]), axis=(1, 2))
+        new = np.where(present[idx][:, None, :], lnph[:, :1, :] - lnph[:, 1:, :], 0.0)
+        X[idx], beta[idx], resid[idx] = Xi, b, res
+        iters[idx] += 1
+        ok = res < FUG_TOL
+        conv[idx[ok]] = True
+        lnK[idx[~ok]] = new[~ok]
+    betas = np.concatenate([(1.0 - beta.sum(axis=1))[:, None], beta], axis=1)
+    return betas, X, conv, iters, resid
+
+
+def _mass_density(eos, T, P, xs):
+    _, Z = eos.lnphi(T, P, xs, "stable")
+    return (xs @ eos.comps.Ms) * P / (Z * R * T)
+
+
+# ------------------------------------------------------------------------------------------------
+def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
+    """Vapour / hydrocarbon liquid / aqueous liquid PT flash of a batch.
+
+    Parameters
+    ----------
+    eos : CubicEOS
+        The model; its components must include ``water`` for an aqueous phase to be sought.
+    T, P : ndarray (n,)
+        Temperature [K] and pressure [Pa].
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+
+    Returns
+    -------
+    ThreePhaseResult
+    """
+    T = np.asarray(T, dtype=float)
+    P = np.asarray(P, dtype=float)
+    zs = np.asarray(zs, dtype=float)
+    n, nc = zs.shape
+    names = list(eos.comps.names)
+    iw = names.index("water") if "water" in names else None
+    sp = flash_PT(eos, T, P, zs)
+    # phases of the two-phase result: (n, 2, nc), betas (n, 2); a single phase sits in slot 0
+    X = np.stack([sp.ys, sp.xs], axis=1)
+    B = np.stack([sp.beta, 1.0 - sp.beta], axis=1)
+    single = sp.n_phases == 1
+    X[single, 0] = zs[single]
+    B[single] = [1.0, 0.0]
+    conv = sp.report.converged.copy()
+    iters = sp.report.iterations.copy()
+    resid = np.zeros(n)
+    # stability of each phase present; the most negative trial wins
+    tm_best = np.zeros(n)
+    w_best = np.full((n, nc), np.nan)
+    for k in range(2):
+        idx = np.nonzero(B[:, k] > 0.0)[0]
+        if idx.size == 0:
+            continue
+        xk = X[idx, k]
+        lnph, Zk = eos.lnphi(T[idx], P[idx], xk, "stable")
+        st = stability(eos, T[idx], P[idx], xk, lnphis_z=lnph, Z_z=Zk)
+        tm, w = st.tm, st.ws
+        if iw is not None:
+            has_w = xk[:, iw] > 0.0
+            tmw, ww = _water_trial_stability(eos, T[idx], P[idx], xk, lnph, iw)
+            better = has_w & (tmw < tm)
+            tm = np.where(better, tmw, tm)
+            w = np.where(better[:, None], ww, w)
+        upd = tm < tm_best[idx]
+        tm_best[idx[upd]] = tm[upd]
+        w_best[idx[upd]] = w[upd]
+    unstable = tm_best < TM_UNSTABLE
+    nph = np.where(single, 1, 2)
+    if unstable.any():
+        u = np.nonzero(unstable)[0]
+        two = ~single[u]
+        # start: the two phases found and the trial; a single unstable phase is first split in two
+        X0 = np.empty((u.size, 3, nc))
+        X0[:, 0] = X[u, 0]
+        X0[:, 1] = np.where(two[:, None], X[u, 1], w_best[u])
+        X0[:, 2] = w_best[u]
+        s1 = u[~two]
+        if s1.size:
+            with np.errstate(divide="ignore", invalid="ignore"):
+                K = np.where(zs[s1] > 0, w_best[s1] / zs[s1], 1.0)
+            tp = two_phase_flash(eos, T[s1], P[s1], zs[s1], np.clip(K, *K_CLIP))
+            ok = tp.report.converged & (tp.beta > 0) & (tp.beta < 1)
+            X0[~two] = np.stack([tp.ys, tp.xs, w_best[s1]], axis=1)
+            # a split that did not take: the three-phase iteration starts from the trial twice
+            X0[~two & ~np.isin(u, s1[ok])] = np.stack(
+                [zs[s1], w_best[s1], w_best[s1]], axis=1)[~ok]
+        betas, X3, ok3, it3, res3 = _split3(eos, T[u], P[u], zs[u], X0)
+        iters[u] += it3
+        all_pos = ok3 & np.all(betas > 0.0, axis=1)
+        a = u[all_pos]
+        X = np.concatenate([X, np.zeros((n, 1, nc))], axis=1)
+        B = np.concatenate([B, np.zeros((n, 1))], axis=1)
+        X[a], B[a], nph[a], resid[a] = X3[all_pos], betas[all_pos], 3, res3[all_pos]
+        # a negative phase fraction: that phase does not exist; split the other two
+        drop = ok3 & ~all_pos
+        if drop.any():
+            dd = u[drop]
+            keep = np.argsort(betas[drop], axis=1)[:, 1:]          # the two largest
+            r = np.arange(dd.size)
+            xa, xb = X3[drop][r, keep[:, 0]], X3[drop][r, keep[:, 1]]
+            with np.errstate(divide="ignore", invalid="ignore"):
+                K = np.where(zs[dd] > 0, xa / xb, 1.0)
+            tp = two_phase_flash(eos, T[dd], P[dd], zs[dd], np.clip(K, *K_CLIP))
+            good = tp.report.converged & (tp.beta > 0) & (tp.beta < 1)
+            g = dd[good]
+            X[g, 0], X[g, 1], X[g, 2] = tp.ys[good], tp.xs[good], 0.0
+            B[g] = np.stack([tp.beta[good], 1.0 - tp.beta[good], 0.0 * tp.beta[good]], axis=1)
+            nph[g] = 2
+            conv[dd[~good]] = False
+        conv[u[~ok3]] = False
+        resid[u[~ok3]] = res3[~ok3]
+    else:
+        X = np.concatenate([X, np.zeros((n, 1, nc))], axis=1)
+        B = np.concatenate([B, np.zeros((n, 1))], axis=1)
+    return _name_phases(eos, T, P, zs, X, B, nph, iw, SolveReport(
+        conv, iters, resid, "three-phase PT flash"))
+
+
+def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
+    """Order the phases of each case as (vapour, hydrocarbon liquid, aqueous)."""
+    n, _, nc = X.shape
+    out_b = np.zeros((n, 3))
+    out_x = np.full((n, 3, nc), np.nan)
+    present = B > 0.0
+    Xs = np.where(present[..., None], X, zs[:, None, :])
+    rho = np.stack([_mass_density(eos, T, P, Xs[:, k]) for k in range(3)], axis=1)
+    water = Xs[:, :, iw] if iw is not None else np.zeros((n, 3))
+    aq_like = (np.argmax(Xs, axis=2) == iw) if iw is not None else np.zeros((n, 3), dtype=bool)
+    vap_like = np.stack([is_vapour_like(eos, T, P, Xs[:, k]) for k in range(3)], axis=1)
+    for i in range(n):
+        ks = [k for k in range(3) if present[i, k]]
+        aq = None
+        cand = [k for k in ks if aq_like[i, k]]
+        if cand and (len(ks) > 1 or aq_like[i, ks[0]]):
+            aq = max(cand, key=lambda k: water[i, k])
+        rest = sorted((k for k in ks if k != aq), key=lambda k: rho[i, k])
+        slots = []
+        if len(rest) == 2:
+            slots = [(0, rest[0]), (1, rest[1])]
+        elif len(rest) == 1:      # alone or beside water: vapour unless liquid-like
+            k = rest[0]
+            slots = [(0 if vap_like[i, k] else 1, k)]
+        if aq is not None:
+            slots.append((2, aq))
+        for s, k in slots:
+            out_b[i, s] = B[i, k]
+            out_x[i, s] = X[i, k]
+    return ThreePhaseResult(out_b[:, 0], out_b[:, 1], out_b[:, 2], out_x[:, 0], out_x[:, 1],
+                            out_x[:, 2], nph, report)
