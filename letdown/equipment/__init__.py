@@ -13,7 +13,8 @@ Blocks know nothing of files or graphs; the sheet layer adds the file and line t
 """
 from __future__ import annotations
 
-from . import compressor, exchanger, expander, heater, mixer, separator, splitter, throttle
+from . import (compressor, exchanger, expander, heater, inject, mixer, separator, splitter,
+               throttle)
 from .common import BlockOutcome, closures
 from .stream import StreamBatch, flash_stream
 
@@ -28,6 +29,7 @@ KINDS = {
     "mixer": mixer.run,
     "splitter": splitter.run,
     "exchanger": exchanger.run,
+    "inject": inject.run,
 }
 
 __all__ = ["KINDS", "BlockOutcome", "StreamBatch", "closures", "flash_stream"]

@@ -180,14 +180,15 @@ def _detail(key: str, value, u) -> str:
         return f"{key}=-"
     if isinstance(v, bool):
         return key.replace("_", " ")      # a flag that is set (unset flags are left out)
-    for suffix, kind in (("_W_K", "ua"), ("_W", "duty"), ("_Pa", None), ("_K", None)):
+    for suffix, kind in (("_W_K", "ua"), ("_W", "duty"), ("_kg_s", "mass_flow"), ("_Pa", None),
+                         ("_K", None)):
         if key.endswith(suffix):
             base = key[: -len(suffix)]
             if suffix == "_Pa":
                 kind = "dP" if "dP" in base or base.startswith("d") else "P"
             elif suffix == "_K":
                 kind = "dT" if ("approach" in base or base.startswith(("dT", "delta"))
-                                or "margin" in base) else "T"
+                                or "margin" in base or "depression" in base) else "T"
             return f"{base}={format_number(u[kind](v))} {u[kind].label}"
     return f"{key}={format_number(v)}"
 

@@ -136,8 +136,14 @@ def margins_table(result, units: str = "si", *, case: int = 0,
         (f"Ice margin (0 degC) [{dT.label}]", *(diff(fz.get("ice_margin_K")) for *_, fz in cols)),
         (f"min_T margin [{dT.label}]", *(diff(fz.get("min_T_margin_K")) for *_, fz in cols)),
     ]
+    decimals = (2, 2, None, 2, 1, 2, 2, 2, 2)
+    if any(fz.get("inhibitor_wt_pct") is not None for *_, fz in cols):
+        # inject blocks upstream: the inhibitor in the free water (all the water condensed)
+        rows.insert(5, ("Inhibitor in free water [wt %]",
+                        *(pick(fz.get("inhibitor_wt_pct"), case) for *_, fz in cols)))
+        decimals = decimals[:5] + (2,) + decimals[5:]
     return Table("Freezing margins (T - limit; hydrate temperature with free water assumed)",
-                 ("", *(n for n, *_ in cols)), tuple(rows), (2, 2, None, 2, 1, 2, 2, 2, 2))
+                 ("", *(n for n, *_ in cols)), tuple(rows), decimals)
 
 
 def conditions_text(units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:

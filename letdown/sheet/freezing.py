@@ -26,6 +26,14 @@ outlet and its ``water`` outlet stays empty, and a stream below its water dew po
 in the count (it is the free water that can freeze or form hydrate). Loops are iterated to a fixed
 point (:data:`LOOP_TOLERANCE`).
 
+**Inhibitor** (``inject`` blocks, :mod:`letdown.equipment.inject`): carried the same way, per
+stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ratios`), never in the
+hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds its
+rate; the others carry it as the water. With all of a stream's water taken as free water, the
+stream's aqueous phase holds ``inhibitor_wt_pct`` and has water activity a_w = x_w
+(:func:`aqueous`), and its hydrate temperature is found with that activity. Not modelled:
+inhibitor lost to the vapour and a hydrocarbon liquid.
+
 Per stream and case:
 
 * ``water_dew_T`` -- the water dew point at the stream's pressure (over liquid water, supercooled
@@ -33,7 +41,8 @@ Per stream and case:
   200-450 K;
 * ``hydrate_T`` -- the hydrate formation temperature at the stream's pressure for its dry
   composition (van der Waals-Platteeuw, Munck et al. 1988; free water assumed, a_w of pure water
-  lowered by dissolved gas: :mod:`letdown.fluid.hydrate`), NaN where the gas has no hydrate former
+  lowered by dissolved gas: :mod:`letdown.fluid.hydrate`, and by the stream's inhibitor), NaN
+  where the gas has no hydrate former
   or no hydrate forms above 230 K;
 * margins ``T - limit`` [K] (positive: warmer than the limit): hydrate, water dew point, ice (0 degC)
   and ``limits.min_T``.
@@ -61,8 +70,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..equipment.inject import PARAM_DETAILS, dose
 from ..errors import ConvergenceError, InputError
 from ..fluid.hydrate import LANGMUIR
+from ..fluid.inhibitor import INHIBITORS
 from ..fluid.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE, water_content,
                            water_dew_point)
 from .result import WarningRecord
@@ -78,6 +89,8 @@ LOOP_MAX_PASSES = 500
 #: bisection to 1e-7 K (:data:`letdown.fluid.water.DEW_T_TOL`), so a feed saturated at its own
 #: temperature lands a few 1e-8 K either side.
 DEW_T_SLACK = 1e-6
+#: The inhibitors carried per stream, in the column order of the inhibitor ratios.
+INHIBITOR_NAMES = tuple(INHIBITORS)
 
 
 @dataclass(frozen=True, eq=False)
@@ -94,12 +107,21 @@ class StreamFreezing:
         Hydrate formation temperature at the stream's pressure [K] (NaN: none above 230 K).
     hydrate_structure : ndarray of str (n,)
         ``sI``, ``sII`` or ``""``.
+    inhibitor_ratio : ndarray (n, k) or None
+        Inhibitor per dry gas [mol/mol], k over :data:`INHIBITOR_NAMES` (None: none anywhere).
+    inhibitor_wt_pct : ndarray (n,) or None
+        Inhibitor in the free water, all the water taken as condensed [wt %].
+    water_activity : ndarray (n,) or None
+        Water activity used for ``hydrate_T`` (x_w of the water-inhibitor phase) [-].
     """
 
     water_ratio: np.ndarray
     water_dew_T: np.ndarray
     hydrate_T: np.ndarray
     hydrate_structure: np.ndarray
+    inhibitor_ratio: np.ndarray | None = None
+    inhibitor_wt_pct: np.ndarray | None = None
+    water_activity: np.ndarray | None = None
 
     @property
     def water_mole_fraction(self) -> np.ndarray:
@@ -157,20 +179,46 @@ def _feed_ratios(fs, fluid, streams) -> tuple[dict, list]:
     return out, notes
 
 
-def _mix(fs, block, streams, r, n):
+def _mix(fs, block, streams, r, n, k=None):
+    """Carry the per-stream ratios ``r`` per dry gas (arrays (n,), or (n, k) when ``k`` is given)
+    through a block; a stream not yet reached counts as zero."""
     spec = fs.blocks[block]
-    zero = np.zeros(n)
+    zero = np.zeros(n) if k is None else np.zeros((n, k))
     if spec.kind == "exchanger":
         for side in ("hot", "cold"):
             r[spec.outlets[side]] = r.get(spec.inlets[side], zero)
         return
     flows = [np.asarray(streams[s].flow, float) for s in spec.inlets.values()]
-    ratios = [r.get(s, zero) for s in spec.inlets.values()]
+    ratios = [np.asarray(r.get(s, zero), float) for s in spec.inlets.values()]
+    shape = (n,) + (1,) * (max(x.ndim for x in ratios) - 1)
+    flows = [f.reshape(shape) for f in flows]
     total = np.sum(flows, axis=0)
     blend = np.sum([f * x for f, x in zip(flows, ratios)], axis=0)
-    mixed = np.where(total > 0.0, blend / np.where(total > 0.0, total, 1.0), ratios[0])
+    mixed = np.where(total > 0.0, blend / np.where(total > 0.0, total, 1.0),
+                     np.broadcast_to(ratios[0], blend.shape))
     for s in spec.outlets.values():
         r[s] = mixed
+
+
+def _carry_steps(fs, steps, r, through, notes, what):
+    """Run ``through(block)`` over the solve order, iterating loops to a fixed point of ``r``."""
+    for step in steps:
+        if not step.is_loop:
+            through(step.blocks[0])
+            continue
+        inside = [s for b in step.blocks for s in fs.blocks[b].outlets.values()]
+        for _ in range(LOOP_MAX_PASSES):
+            before = {s: r.get(s) for s in inside}
+            for b in step.blocks:
+                through(b)
+            change = max(float(np.max(np.abs(r[s] - before[s]) / np.maximum(np.abs(r[s]), 1e-30)))
+                         if before[s] is not None else np.inf for s in inside)
+            if change <= LOOP_TOLERANCE:
+                break
+        else:
+            notes.append(WarningRecord(", ".join(step.blocks),
+                                       f"the {what} carried round this loop did not settle in "
+                                       f"{LOOP_MAX_PASSES} passes (change {change:.3g})"))
 
 
 def water_ratios(fs, fluid, streams, steps) -> tuple[dict, list]:
@@ -191,26 +239,101 @@ def water_ratios(fs, fluid, streams, steps) -> tuple[dict, list]:
         return ({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
                  for name, s in streams.items()}, [])
     r, notes = _feed_ratios(fs, fluid, streams)
-    for step in steps:
-        if not step.is_loop:
-            _mix(fs, step.blocks[0], streams, r, n)
-            continue
-        inside = [s for b in step.blocks for s in fs.blocks[b].outlets.values()]
-        for _ in range(LOOP_MAX_PASSES):
-            before = {s: r.get(s) for s in inside}
-            for b in step.blocks:
-                _mix(fs, b, streams, r, n)
-            change = max(float(np.max(np.abs(r[s] - before[s]) / np.maximum(np.abs(r[s]), 1e-30)))
-                         if before[s] is not None else np.inf for s in inside)
-            if change <= LOOP_TOLERANCE:
-                break
-        else:
-            notes.append(WarningRecord(", ".join(step.blocks),
-                                       "the water carried round this loop did not settle in "
-                                       f"{LOOP_MAX_PASSES} passes (change {change:.3g})"))
+    _carry_steps(fs, steps, r, lambda b: _mix(fs, b, streams, r, n), notes, "water")
     for name in streams:
         r.setdefault(name, np.zeros(n))
     return r, notes
+
+
+def inhibitor_ratios(fs, streams, steps, water, params=None) -> tuple[dict, dict, list]:
+    """Inhibitor per dry gas of every stream, and the dose of every ``inject`` block.
+
+    Each ``inject`` block adds ``rate / (M F)`` moles of its inhibitor per mole of dry gas (F the
+    stream's molar flow); the other blocks carry it as they carry the water (:func:`_mix`). The
+    rate of a block given a ``depression`` follows from the water its inlet carries
+    (:func:`letdown.equipment.inject.dose`).
+
+    Parameters
+    ----------
+    fs, streams, steps
+        As for :func:`water_ratios`.
+    water : Mapping[str, ndarray (n,)]
+        Water per dry gas of every stream [mol/mol] (:func:`water_ratios`).
+    params : Mapping[str, Mapping], optional
+        ``inject`` block name -> its parameters over the cases (SI); default the file's.
+
+    Returns
+    -------
+    ratios : dict
+        Stream name -> ndarray (n, k) [mol/mol], k over :data:`INHIBITOR_NAMES`.
+    doses : dict
+        ``inject`` block name -> the :func:`letdown.equipment.inject.dose` dict.
+    notes : list of WarningRecord
+    """
+    n = next(iter(streams.values())).n_cases
+    k = len(INHIBITOR_NAMES)
+    r: dict = {}
+    doses: dict = {}
+    notes: list = []
+
+    def through(block):
+        spec = fs.blocks[block]
+        if spec.kind != "inject":
+            _mix(fs, block, streams, r, n, k)
+            return
+        inlet = spec.inlets["in"]
+        flow = np.asarray(streams[inlet].flow, float)
+        if block not in doses:
+            try:
+                given = (params or {}).get(block, spec.params)
+                doses[block] = dose(block, given, flow * water[inlet] * M_WATER)
+            except InputError as exc:
+                w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
+                raise exc.located(file=(w.file if w else None) or fs.source,
+                                  line=w.line if w else spec.where.line) from None
+        d = doses[block]
+        j = INHIBITOR_NAMES.index(d["inhibitor"])
+        added = np.zeros((n, k))
+        added[:, j] = np.where(flow > 0.0, d["rate_kg_s"] / (INHIBITORS[d["inhibitor"]].M * 1e-3)
+                               / np.where(flow > 0.0, flow, 1.0), 0.0)
+        r[spec.outlets["out"]] = np.asarray(r.get(inlet, np.zeros((n, k))), float) + added
+
+    if any(b.kind == "inject" for b in fs.blocks.values()):
+        _carry_steps(fs, steps, r, through, notes, "inhibitor")
+    for name in streams:
+        r.setdefault(name, np.zeros((n, k)))
+        r[name] = np.broadcast_to(r[name], (n, k)).astype(float)
+    return r, doses, notes
+
+
+def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
+    """Inhibitor in the free water and the water activity, all the water taken as condensed.
+
+    Parameters
+    ----------
+    water_ratio : ndarray (n,)
+        Water per dry gas [mol/mol].
+    inhibitor_ratio : ndarray (n, k)
+        Inhibitor per dry gas [mol/mol], k over :data:`INHIBITOR_NAMES`.
+
+    Returns
+    -------
+    wt_pct : ndarray (n,)
+        Inhibitor in the water-inhibitor phase [wt %] (NaN without water).
+    water_activity : ndarray (n,)
+        a_w = x_w, the water mole fraction of that phase (Nielsen-Bucklin's ideal solution,
+        :mod:`letdown.fluid.inhibitor`); 1 without inhibitor or without water [-].
+    """
+    w = np.asarray(water_ratio, float)
+    inh = np.asarray(inhibitor_ratio, float)
+    M = np.array([INHIBITORS[nm].M * 1e-3 for nm in INHIBITOR_NAMES])
+    mi = inh @ M
+    mw = w * M_WATER
+    wet = w > 0.0
+    wt = np.where(wet, 100.0 * mi / np.where(wet, mi + mw, 1.0), np.nan)
+    ni = inh.sum(axis=1)
+    aw = np.where(wet & (ni > 0.0), w / np.where(wet, w + ni, 1.0), 1.0)
+    return wt, aw
 
 
 def _dew_points(fluid, method, y, P) -> np.ndarray:
@@ -228,22 +351,24 @@ def _dew_points(fluid, method, y, P) -> np.ndarray:
     return out
 
 
-def _hydrate_Ts(fluid, P, zs) -> tuple[np.ndarray, np.ndarray, list]:
-    """Hydrate temperatures [K] and structures of rows (P, zs), each distinct row solved once."""
+def _hydrate_Ts(fluid, P, zs, aw=None) -> tuple[np.ndarray, np.ndarray, list]:
+    """Hydrate temperatures [K] and structures of rows (P, zs, water activity aw), each distinct row
+    solved once."""
     names = list(fluid.components)
     formers = [j for j, nm in enumerate(names) if nm in LANGMUIR]
     T = np.full(P.shape, np.nan)
     st = np.full(P.shape, "", dtype=object)
     failed = []
+    aw = np.ones(P.shape) if aw is None else np.asarray(aw, float)
     has = (np.asarray(zs)[:, formers].sum(axis=1) > 0.0) if formers else np.zeros(P.shape, bool)
     has &= np.isfinite(P) & (P > 0.0)
     if not has.any():
         return T, st, failed
-    rows = np.column_stack([P[has], zs[has]])
+    rows = np.column_stack([P[has], aw[has], zs[has]])
     uniq, inverse = np.unique(rows, axis=0, return_inverse=True)
     inverse = np.asarray(inverse).reshape(-1)
     try:
-        curve = fluid.hydrate_curve(uniq[:, 0], zs=uniq[:, 1:])
+        curve = fluid.hydrate_curve(uniq[:, 0], water_activity=uniq[:, 1], zs=uniq[:, 2:])
         Tu, su = curve.T, curve.structure
     except ConvergenceError:
         # named fallback: solve the distinct rows one by one, so one bad row does not blank all
@@ -251,7 +376,7 @@ def _hydrate_Ts(fluid, P, zs) -> tuple[np.ndarray, np.ndarray, list]:
         su = np.full(len(uniq), "", dtype=object)
         for k, row in enumerate(uniq):
             try:
-                c = fluid.hydrate_curve(row[:1], zs=row[None, 1:])
+                c = fluid.hydrate_curve(row[:1], water_activity=row[1:2], zs=row[None, 2:])
                 Tu[k], su[k] = c.T[0], c.structure[0]
             except ConvergenceError:
                 failed.append(float(row[0]))
@@ -260,8 +385,23 @@ def _hydrate_Ts(fluid, P, zs) -> tuple[np.ndarray, np.ndarray, list]:
     return T, st, failed
 
 
-def stream_freezing(fs, fluid, streams, steps) -> tuple[dict, list]:
-    """Water, water dew point and hydrate temperature of every stream.
+def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple[dict, list]:
+    """Water, inhibitor, water dew point and hydrate temperature of every stream.
+
+    The hydrate temperature uses the water activity of the stream's free water with its inhibitor
+    (:func:`aqueous`): an ``inject`` block upstream lowers it.
+
+    Parameters
+    ----------
+    fs, fluid, streams, steps
+        As for :func:`water_ratios`.
+    doses : dict, optional
+        Filled with ``inject`` block name -> details for its outcome: ``inhibitor_rate_kg_s``
+        [kg/s], ``inhibitor_wt_pct`` [wt %], ``hydrate_depression_K`` (Hammerschmidt at that
+        wt %) [K], ``hydrate_depression_vdwp_K`` (outlet hydrate temperature without and with the
+        inhibitor, vdW-P) [K].
+    params : Mapping[str, Mapping], optional
+        As for :func:`inhibitor_ratios`.
 
     Returns
     -------
@@ -271,23 +411,70 @@ def stream_freezing(fs, fluid, streams, steps) -> tuple[dict, list]:
         The assumptions made (water taken as saturated, loops) and any hydrate solve that failed.
     """
     ratios, notes = water_ratios(fs, fluid, streams, steps)
+    inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, ratios, params)
+    notes.extend(inh_notes)
     names = list(streams)
     n = streams[names[0]].n_cases
     P = np.concatenate([np.asarray(streams[s].P, float) for s in names])
     zs = np.concatenate([np.asarray(streams[s].zs, float) for s in names])
     r = np.concatenate([ratios[s] for s in names])
+    wt, aw = aqueous(r, np.concatenate([inh[s] for s in names]))
     y = r / (1.0 + r)
     dew = _dew_points(fluid, fs.gas.water_method, y, P)
-    hT, hs, failed = _hydrate_Ts(fluid, P, zs)
+    # the inject outlets once more without inhibitor, for the vdW-P depression of each block
+    outs = [fs.blocks[b].outlets["out"] for b in block_doses]
+    P_all = np.concatenate([P] + [np.asarray(streams[s].P, float) for s in outs])
+    zs_all = np.concatenate([zs] + [np.asarray(streams[s].zs, float) for s in outs])
+    aw_all = np.concatenate([aw, np.ones(n * len(outs))])
+    hT_all, hs_all, failed = _hydrate_Ts(fluid, P_all, zs_all, aw_all)
+    hT, hs = hT_all[: P.size], hs_all[: P.size]
     for p in failed:
         notes.append(WarningRecord("hydrate", f"the hydrate temperature at {p / 1e5:.4g} bar did not "
                                               "converge; that stream's hydrate margin is blank"))
     out = {}
+    carried = bool(block_doses)
     for k, s in enumerate(names):
         sl = slice(k * n, (k + 1) * n)
         out[s] = StreamFreezing(ratios[s].copy(), dew[sl].copy(), hT[sl].copy(),
-                                np.asarray(hs[sl], dtype=object))
+                                np.asarray(hs[sl], dtype=object),
+                                inh[s].copy() if carried else None,
+                                wt[sl].copy() if carried else None,
+                                aw[sl].copy() if carried else None)
+    if doses is not None:
+        for m, (b, d) in enumerate(block_doses.items()):
+            free = hT_all[P.size + m * n: P.size + (m + 1) * n]
+            doses[b] = {"inhibitor_rate_kg_s": d["rate_kg_s"], "inhibitor_wt_pct": d["wt_pct"],
+                        "hydrate_depression_K": d["depression_K"],
+                        "hydrate_depression_vdwp_K": free - out[outs[m]].hydrate_T}
     return out, notes
+
+
+def inject_params(fs, outcomes) -> dict:
+    """The parameters each ``inject`` block ran with over the cases (cases and goals included),
+    from the values its outcome reports (:data:`letdown.equipment.inject.PARAM_DETAILS`)."""
+    out = {}
+    for name, outcome in outcomes.items():
+        spec = fs.blocks[name]
+        if spec.kind != "inject":
+            continue
+        p = {"inhibitor": spec.params.get("inhibitor", "methanol")}
+        for key, detail in PARAM_DETAILS.items():
+            if detail in outcome.details:
+                p[key] = outcome.details[detail]
+        out[name] = p
+    return out
+
+
+def inject_doses(fs, fluid, streams, steps, params=None) -> dict:
+    """The ``inject`` blocks' details without the hydrate solves (for a solve without margins):
+    ``inhibitor_rate_kg_s``, ``inhibitor_wt_pct``, ``hydrate_depression_K`` (see
+    :func:`stream_freezing`)."""
+    if not any(b.kind == "inject" for b in fs.blocks.values()):
+        return {}
+    ratios, _ = water_ratios(fs, fluid, streams, steps)
+    _, block_doses, _ = inhibitor_ratios(fs, streams, steps, ratios, params)
+    return {b: {"inhibitor_rate_kg_s": d["rate_kg_s"], "inhibitor_wt_pct": d["wt_pct"],
+                "hydrate_depression_K": d["depression_K"]} for b, d in block_doses.items()}
 
 
 def margins(stream, fz: StreamFreezing, min_T=None) -> dict:

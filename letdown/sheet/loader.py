@@ -29,7 +29,9 @@ from pathlib import Path
 import jsonschema
 import yaml
 
+from ..equipment.inject import MAX_DEPRESSION
 from ..errors import InputError
+from ..fluid.inhibitor import inhibitor
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
 from .spec import (BlockSpec, CaseSpec, FeedSpec, Flowsheet, GasSpec, GoalSpec, SolverSpec,
                    WaterSpec, Where)
@@ -41,6 +43,10 @@ SUM_TOLERANCE = 1e-6
 #: Splitter fractions without a ``rest`` must sum to 1 within this [-] (decimal rounding only; the
 #: same limit as the splitter block, :data:`letdown.equipment.splitter.SUM_TOLERANCE`).
 SPLIT_SUM_TOLERANCE = 1e-9
+
+#: A mass flow kept in kg/s (an inhibitor's rate), not turned into a molar flow of the gas: a
+#: quantity kind of this loader only, parsed as a ``flow`` that must be given by mass.
+MASS_RATE = "mass_rate"
 
 #: Block kinds and, for each, its numeric parameters and their quantity kinds
 #: (see :mod:`letdown.quantities`). The schema documents the same set.
@@ -57,6 +63,7 @@ PARAMETERS: dict[str, dict[str, str]] = {
     "exchanger": {"hot_T_out": "temperature", "cold_T_out": "temperature", "duty": "power",
                   "min_approach": "temperature_difference", "UA": "ua",
                   "hot_dP": "pressure_difference", "cold_dP": "pressure_difference"},
+    "inject": {"rate": "mass_rate", "depression": "temperature_difference"},
 }
 
 #: For each kind, groups of alternative specifications of which exactly one must be given
@@ -66,6 +73,7 @@ EXACTLY_ONE: dict[str, tuple[tuple[str, ...], ...]] = {
     "heater": (("T_out", "duty", "fuel"),),
     "cooler": (("T_out", "duty"),),
     "exchanger": (("hot_T_out", "cold_T_out", "duty", "min_approach", "UA"),),
+    "inject": (("rate", "depression"),),
 }
 
 #: Quantities a goal may hold: on a stream, and on a block.
@@ -317,6 +325,12 @@ class _Quantities:
         self.atmosphere = atmosphere
 
     def __call__(self, text, kind, path, *, bare=None):
+        if kind == MASS_RATE:
+            value = self(text, "flow", path, bare=bare)
+            if not isinstance(value, MassFlow):
+                raise self.doc.err(f"give this rate as a mass flow (such as '25 kg/h'), got "
+                                   f"{text!r}", path, key=False)
+            return value.kg_s
         return parse_quantity(text, kind, atmosphere=self.atmosphere, bare=bare,
                               field=_dotted(path), file=self.doc.file,
                               line=self.doc.line(path, key=False))
@@ -408,6 +422,9 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
                           "heat of the fuel burnt)", path + ("fuel",))
         if kind == "compressor":
             params["efficiency_kind"] = raw.get("efficiency_kind", "isentropic")
+        if kind == "inject":
+            params["inhibitor"] = _inhibitor(doc, raw.get("inhibitor"), path + ("inhibitor",))
+            field_where["inhibitor"] = _where(doc, path + ("inhibitor",))
         if kind == "splitter":
             params["fractions"] = _fractions(doc, q, raw["to"], path + ("to",))
             field_where["fractions"] = _where(doc, path + ("to",))
@@ -417,17 +434,36 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
             if len(given) + len(varied) > 1:
                 both = " and ".join(f"'{k}'" + (" (varied by a goal)" if k in varied else "")
                                     for k in given + varied)
-                raise doc.err(f"a {kind} takes exactly one of {', '.join(group)}; this one has "
+                raise doc.err(f"{_a(kind)} takes exactly one of {', '.join(group)}; this one has "
                               f"{both}", path)
             if not given and not varied:
-                raise doc.err(f"a {kind} needs one of {', '.join(group)}", path)
+                raise doc.err(f"{_a(kind)} needs one of {', '.join(group)}", path)
         blocks[name] = BlockSpec(name=name, kind=kind, inlets=inlets, outlets=outlets,
                                  params=params, where=_where(doc, path), field_where=field_where)
     return blocks
 
 
+def _a(kind: str) -> str:
+    """``a heater``, ``an inject``."""
+    return f"{'an' if kind[0] in 'aeiou' else 'a'} {kind}"
+
+
+def _inhibitor(doc, text, path) -> str:
+    """The canonical name of an inject block's inhibitor (schema: a string, required)."""
+    try:
+        return inhibitor(text).name
+    except InputError:
+        raise doc.err(f"unknown inhibitor {text!r} (known: methanol, MEG)", path,
+                      key=False) from None
+
+
 def _check_parameter(doc, kind, key, value, text, path):
-    if key in ("dP", "hot_dP", "cold_dP", "duty", "fuel", "UA", "min_approach") and value < 0.0:
+    if kind == "inject" and key == "depression" and value > MAX_DEPRESSION:
+        raise doc.err(f"a hydrate depression of {text!r} is outside the inhibitor rules (at most "
+                      f"{MAX_DEPRESSION:g} K here; Hammerschmidt holds to about 20 K)", path,
+                      key=False)
+    if key in ("dP", "hot_dP", "cold_dP", "duty", "fuel", "UA", "min_approach", "rate",
+               "depression") and value < 0.0:
         extra = ""
         if key == "duty" and kind in ("heater", "cooler"):
             extra = f" (a {kind} duty is the heat {'added' if kind == 'heater' else 'removed'}; "\

@@ -99,6 +99,10 @@ class StreamResult:
                   "water_dew_margin_K": _num(T - freezing.water_dew_T[i]),
                   "ice_margin_K": _num(T - ICE_T),
                   "min_T_margin_K": None if min_T is None else _num(T - min_T)}
+            if freezing.inhibitor_wt_pct is not None:
+                # inhibitor from inject blocks, all the water taken as free water
+                fz["inhibitor_wt_pct"] = _num(freezing.inhibitor_wt_pct[i])
+                fz["water_activity"] = _num(freezing.water_activity[i])
         return cls(name=name, T=float(stream.T[i]), P=float(stream.P[i]), flow=float(stream.flow[i]),
                    mass_flow=float(stream.mass_flow[i]),
                    vapour_fraction=float(stream.vapour_fraction[i]), zs=comp(stream.zs),

@@ -33,7 +33,8 @@ from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
 from ..fluid.models import out_of_range
-from .freezing import checks_active, freezing_warnings, stream_freezing
+from .freezing import (checks_active, freezing_warnings, inject_doses, inject_params,
+                       stream_freezing)
 from .graph import build_graph, solve_order
 from .result import (BatchResult, EquipmentBatch, GoalRecord, LoopRecord, Result,
                      WarningRecord)
@@ -561,13 +562,18 @@ class _Engine:
                               f"{min_T - 273.15:.2f} degC", tuple(np.flatnonzero(cold).tolist())))
         warnings.extend(self._model_warnings(ev))
         freezing = None
+        doses: dict = {}
+        given = inject_params(self.fs, ev.outcomes)
         if margins:
-            freezing, notes = stream_freezing(self.fs, self.fluid, ev.streams, self.steps)
+            freezing, notes = stream_freezing(self.fs, self.fluid, ev.streams, self.steps, doses,
+                                              given)
             if checks_active(self.fs):
                 warnings.extend(notes)
                 warnings.extend(freezing_warnings(self.fs, ev.streams, freezing))
             else:
                 warnings.extend(n for n in notes if n.where != "gas")
+        else:
+            doses = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given)
         texts = {"two_phase_outlet": "throttle outlet is in two phases",
                  "temperature_cross": "temperature cross inside the exchanger",
                  "spec_unmet": "the specification cannot be met with these inlet temperatures"}
@@ -587,7 +593,7 @@ class _Engine:
             equipment[name] = EquipmentBatch(
                 kind=spec.kind, inlets=dict(spec.inlets), outlets=dict(spec.outlets),
                 energy_in=outcome.energy_in, duty=outcome.duty, power=outcome.power, dP=outcome.dP,
-                details=dict(outcome.details), flags=dict(outcome.flags))
+                details={**outcome.details, **doses.get(name, {})}, flags=dict(outcome.flags))
         order = [s for s in self._stream_order() if s in ev.streams]
         result = BatchResult(title=self.fs.title, model=self.fluid.model,
                              components=self.components,
