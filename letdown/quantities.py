@@ -177,6 +177,10 @@ _STDVOL_RE = re.compile(r"^(?P<vol>mmscf|mscf|scf|sm3|nm3)\s*(?:/\s*(?P<per>.+)|
 #: Kinds of quantity this module parses, with the pint dimensionality expected.
 KINDS = ("temperature", "temperature_difference", "pressure", "pressure_difference", "flow",
          "power", "fraction", "ua", "molar_enthalpy", "molar_entropy")
+#: The SI unit each quantity kind is converted to (labels for tables and column names).
+SI_UNITS = {"temperature": "K", "temperature_difference": "K", "pressure": "Pa",
+            "pressure_difference": "Pa", "flow": "mol/s", "power": "W", "fraction": "-",
+            "ua": "W/K"}
 
 _DIMS = {
     "pressure": "[pressure]",

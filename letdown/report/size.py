@@ -37,7 +37,7 @@ def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
              f"Limits at {d['held']}: " + ", ".join(
                  x for x in (f"limits.min_T {T(d['min_T_K']):.2f} {T.label}"
                              if d["min_T_K"] is not None else "",
-                             f"0 degC ice + margin" if any("ice" in c["limits_K"]
+                             "0 degC ice + margin" if any("ice" in c["limits_K"]
                                                            for c in d["cases"]) else "",
                              "hydrate T + margin") if x)
              + f"; margin {dT(d['hydrate_margin_K']):g} {dT.label} (limits.hydrate_margin).", "",

@@ -42,11 +42,12 @@ import numpy as np
 from scipy import optimize, stats
 
 from ..errors import ConvergenceError, InputError, ModelError
+from ..quantities import SI_UNITS
 from ..sheet.loader import EXACTLY_ONE, PARAMETERS
 from ..sheet.measurements import UNITS
 from ..sheet.solve import solve_cases
 from ..sheet.spec import Flowsheet
-from .crosscheck import applicable_models
+from .crosscheck import applicable_models, solve_each
 
 #: Step of the finite-difference derivative, as a fraction of the fit bracket [-]. The flash solves
 #: to about 1e-10 relative and goals to 1e-6 K, so a step of 1e-4 of the bracket keeps the
@@ -67,8 +68,6 @@ F_TOLERANCE = 1e-10
 COVERAGE_95 = float(stats.norm.ppf(0.975))
 
 #: SI unit of a parameter, by its quantity kind (:data:`letdown.sheet.loader.PARAMETERS`).
-KIND_UNITS = {"temperature": "K", "temperature_difference": "K", "pressure": "Pa",
-              "pressure_difference": "Pa", "power": "W", "fraction": "-", "ua": "W/K"}
 
 #: Probability for the consistency check of chi-square.
 CONSISTENCY_PROBABILITY = 0.95
@@ -390,16 +389,10 @@ def compare(fs: Flowsheet, measurements=None, models=None, fit: str | None = Non
     skipped = {}
     if models is None:
         models, skipped = applicable_models(fs)
-    results, failures = {}, {}
-    for m in models:
-        try:
-            batch = solve_cases(fs, None, model=m)
-        except (ModelError, ConvergenceError) as exc:
-            failures[m] = str(exc)
-            continue
-        except InputError as exc:
-            failures[m] = exc.message
-            continue
+    batches, failures = solve_each(fs, models,
+                                   lambda fs_, model: solve_cases(fs_, None, model=model))
+    results = {}
+    for m, batch in batches.items():
         res = residuals_of(measurements, model_values(batch, measurements)[0])
         warnings = tuple((w.where, w.what) for w in batch.warnings)
         fitted, failure = None, None
@@ -480,7 +473,7 @@ def fit_parameter(fs: Flowsheet, measurements, model: str, parameter: str, withi
     info = float(np.sum(J * J))
     su = 1.0 / math.sqrt(info) if info > 0 else math.inf
     at_bound = bool(min(x - lo, hi - x) <= 1e-6 * (hi - lo))
-    unit = KIND_UNITS.get(PARAMETERS[fs.blocks[block].kind][name], "")
+    unit = SI_UNITS.get(PARAMETERS[fs.blocks[block].kind][name], "")
     return Fit(parameter=parameter, unit=unit, start=start,
                within=(lo, hi), value=x, standard_uncertainty=su,
                interval=(x - COVERAGE_95 * su, x + COVERAGE_95 * su),

@@ -105,6 +105,29 @@ def applicable_models(fs: Flowsheet) -> tuple[list, dict]:
     return models, skipped
 
 
+def solve_each(fs: Flowsheet, models, solver):
+    """Solve ``fs`` with each model through ``solver(fs, model=...)``.
+
+    Returns
+    -------
+    results : dict
+        model -> what the solver returned, in the order of ``models``.
+    failures : dict
+        model -> reason, for the models that refused (GERG-2008 where a state splits, a
+        non-converging loop, a state the model cannot represent).
+    """
+    results, failures = {}, {}
+    for m in models:
+        try:
+            results[m] = solver(fs, model=m)
+        except (ModelError, ConvergenceError) as exc:
+            failures[m] = str(exc)
+        except InputError as exc:
+            # a state the model refuses for this flowsheet (not a problem of the file itself)
+            failures[m] = exc.message
+    return results, failures
+
+
 def crosscheck(fs: Flowsheet, models=None) -> CrossCheck:
     """Solve ``fs`` with each model and compare the key results.
 
@@ -121,19 +144,8 @@ def crosscheck(fs: Flowsheet, models=None) -> CrossCheck:
     skipped = {}
     if models is None:
         models, skipped = applicable_models(fs)
-    results, failures, warnings = {}, {}, {}
-    for m in models:
-        try:
-            res = solve(fs, model=m)
-        except (ModelError, ConvergenceError) as exc:
-            failures[m] = str(exc)
-            continue
-        except InputError as exc:
-            # a state the model refuses for this flowsheet (not a problem of the file itself)
-            failures[m] = exc.message
-            continue
-        results[m] = res
-        warnings[m] = [(w["where"], w["what"]) for w in res.warnings]
+    results, failures = solve_each(fs, models, solve)
+    warnings = {m: [(w["where"], w["what"]) for w in res.warnings] for m, res in results.items()}
     return CrossCheck(fs.title, tuple(models), tuple(_rows(fs, results, models)), failures,
                       warnings, skipped, {m: MODELS[m].assumptions for m in models})
 

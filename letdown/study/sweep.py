@@ -24,16 +24,13 @@ import numpy as np
 
 from ..errors import InputError
 from ..fluid.components import canonical_name
-from ..quantities import parse_quantity
+from ..quantities import SI_UNITS, parse_quantity
 from ..sheet.solve import FEED_FIELDS, solve_cases
 from ..sheet.spec import Flowsheet
 
 FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
 #: Cases per chunk when a progress bar is shown (each chunk is still one vectorised batch).
 PROGRESS_CHUNK = 500
-SI_UNITS = {"temperature": "K", "pressure": "Pa", "flow": "mol/s", "power": "W",
-            "pressure_difference": "Pa", "temperature_difference": "K", "fraction": "-",
-            "ua": "W/K"}
 
 
 @dataclass(frozen=True)
