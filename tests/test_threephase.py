@@ -87,25 +87,28 @@ def test_vapour_water_equals_the_models_saturated_water_content(rich):
         assert abs(r.y[i, iw] / y_sat - 1.0) < 0.01
 
 
-def test_vapour_water_against_the_water_content_routes(rich):
-    # Against letdown.fluid.water's EOS route (Wagner & Pruss 2002 vapour pressure, Poynting): the
-    # flash sits below it by the cubic's own error in the vapour pressure of pure water (Soave
-    # alpha: 24-27 % low at 255-270 K). Measured here, not hidden: the ratio flash / EOS route
-    # equals that vapour-pressure ratio within 3 %, and it is NOT within 10 % of 1 at these
-    # temperatures.
+def test_vapour_water_within_ten_percent_of_the_saturated_water_content(rich):
+    # Issue criterion: the water in the vapour matches the saturated water content of the gas
+    # within 10 %. Reference: letdown.fluid.water's EOS route for the flash's own vapour (water
+    # vapour pressure of Wagner & Pruss 2002, Poynting factor), independent of the cubic's pure-
+    # water liquid. Measured: flash / route 1.017-1.019 at 255-270 K (the cubic's water vapour
+    # pressure with the Twu alpha is 1.0-1.2 % high there; with the Soave alpha the flash was
+    # 21-25 % low). Bukacek (1955) is not the reference here: 255-270 K is below its range and
+    # the gas is rich; measured flash / Bukacek 0.61-0.78 (not asserted).
     f, r = rich
     eos = f.engine.eos
     iw = f.components.index("water")
     psat, ok = pure_saturation_P(eos, LTS_T, np.full(LTS_T.size, iw))
     assert np.all(ok)
-    ratio_psat = psat / water_vapour_pressure(LTS_T)
     y_route = water_content_eos(f, LTS_T, LTS_P, zs=r.y)
     ratio = r.y[:, iw] / y_route
-    np.testing.assert_allclose(ratio, ratio_psat, rtol=0.03)
+    assert np.all(np.abs(ratio - 1.0) < 0.10)
+    # and the remaining difference is the cubic's own vapour-pressure error, within 1 %
+    np.testing.assert_allclose(ratio, psat / water_vapour_pressure(LTS_T), rtol=0.01)
 
 
 def test_hot_wet_methane_water_content_within_ten_percent():
-    # where the cubic's water vapour pressure is fair (350 K: 7 % low), the vapour of a
+    # hot (350 K, where even the Soave alpha was only 7 % low), the vapour of a
     # methane + water flash is within 10 % of letdown.fluid.water's EOS route
     f = Fluid({"methane": 0.5, "water": 0.5})
     r = f.flash3(np.array([350.0]), np.array([100e5]))

@@ -70,16 +70,16 @@ def test_pipeline_spec_dew_point_is_below_zero():
 
 
 def test_eos_route_is_below_bukacek_by_a_stated_amount():
-    """The EOS route with the library's methane-water kij (E-PPR78 at 298.15 K, 0.5795) gives less
-    water than Bukacek: measured 11-22 % less at 7 MPa over 273-313 K, 2-5 % less at 1 MPa. It is
-    very sensitive to that kij (0.40 would give +0.5 to +5 %); it is not tuned here. The test holds
-    the measured gap so that a change of model or kij shows up."""
+    """The EOS route (Twu water alpha, Soreide & Whitson 1992 gas-phase methane-water kij 0.485)
+    gives a little less water than Bukacek: measured 3-12 % less at 7 MPa over 273-313 K, 1-4 %
+    less at 1 MPa. The test holds the measured gap so that a change of model or kij shows up; the
+    10 % check over Bukacek's range is in tests/test_water_alpha.py."""
     gas = letdown.Fluid({"methane": 1.0})
     T = np.array([273.15, 293.15, 313.15])
     ratio7 = gas.water_content(T, 7e6, method="eos") / gas.water_content(T, 7e6)
     ratio1 = gas.water_content(T, 1e6, method="eos") / gas.water_content(T, 1e6)
-    assert np.all((ratio7 > 0.75) & (ratio7 < 0.92))
-    assert np.all((ratio1 > 0.93) & (ratio1 < 1.0))
+    assert np.all((ratio7 > 0.87) & (ratio7 < 0.98))
+    assert np.all((ratio1 > 0.95) & (ratio1 < 1.0))
     # at low pressure both tend to the ideal y_w = p_v / P
     T1 = 300.0
     y_low = gas.water_content(T1, 1e5, method="eos")

@@ -56,6 +56,8 @@ typedef struct {
     double R, d1, d2, u, w, dd, distinct;
     int polish;
     const double *sqrt_ac, *ms, *sqrt_Tc, *bs, *Tcs, *Pcs, *omegas, *omk, *cs;
+    /* Twu alpha parameters L, M, N per component (M = 0: Soave alpha), cubic.sqrt_alpha */
+    const double *twL, *twM, *twN;
     /* r_i = sqrt(a_i alpha_i(T)) of the last temperature seen (rcache[0] = T, then r; NULL: none):
      * the flash evaluates many compositions at one temperature */
     double *rcache;
@@ -82,6 +84,9 @@ static eos_t eos_view(int nc, const double *par)
     e.omegas = e.Pcs + nc;
     e.omk = e.omegas + nc;
     e.cs = e.omk + (size_t)nc * nc;
+    e.twL = e.cs + nc;
+    e.twM = e.twL + nc;
+    e.twN = e.twM + nc;
     e.rcache = NULL;
     return e;
 }
@@ -112,7 +117,34 @@ static double absmax(int n, const double *v)
     return m;
 }
 
+/* Layout version of the parameter blocks; native.py refuses a library built from another one
+ * (2: Twu alpha arrays appended to the EOS block). */
+LF_EXPORT int lf_abi(void)
+{
+    return 2;
+}
+
 /* ---------------------------------------------------------------- cubic EOS (cubic.py) */
+/* cubic.sqrt_alpha for component k, times sqrt(a_c): r = sqrt(a_k alpha_k(T)) and, when rp is not
+ * NULL, dr/dT and d2r/dT2 (rpp may be NULL). sT = sqrt(T). */
+static void alpha_r(const eos_t *e, int k, double T, double sT, double *r, double *rp, double *rpp)
+{
+    double M = e->twM[k];
+    if (M == 0.0) {
+        double m = e->ms[k], sTc = e->sqrt_Tc[k];
+        *r = e->sqrt_ac[k] * (1.0 + m * (1.0 - sT / sTc));
+        if (rp) *rp = -e->sqrt_ac[k] * m / (2.0 * sT * sTc);
+        if (rpp) *rpp = e->sqrt_ac[k] * m / (4.0 * sT * sT * sT * sTc);
+    } else {
+        double L = e->twL[k], N = e->twN[k], Tr = T / e->Tcs[k], kk = M * N;
+        double c1 = 0.5 * N * (M - 1.0), c2 = 0.5 * L * kk, Trk = pow(Tr, kk);
+        double g = pow(Tr, c1) * exp(0.5 * L * (1.0 - Trk)), q = c1 - c2 * Trk;
+        *r = e->sqrt_ac[k] * g;
+        if (rp) *rp = e->sqrt_ac[k] * g * q / T;
+        if (rpp) *rpp = e->sqrt_ac[k] * g / (T * T) * (q * q - q - c2 * kk * Trk);
+    }
+}
+
 /* CubicEOS.mix: a, b and psi_i = sum_j x_j a_ij; work needs 2 nc doubles */
 static void mixture(const eos_t *e, double T, const double *x, double *psi, double *a, double *b,
                     double *work)
@@ -129,7 +161,7 @@ static void mixture(const eos_t *e, double T, const double *x, double *psi, doub
             e->rcache[0] = T;
         }
         for (i = 0; i < nc; i++)
-            r[i] = e->sqrt_ac[i] * (1.0 + e->ms[i] * (1.0 - sT / e->sqrt_Tc[i]));
+            alpha_r(e, i, T, sT, &r[i], NULL, NULL);
     }
     for (i = 0; i < nc; i++) {
         xr[i] = x[i] * r[i];
@@ -607,9 +639,7 @@ static void props_one(const eos_t *e, double Ti, double Pi, const double *x, int
     double a = 0.0, b = 0.0, da = 0.0, d2a1 = 0.0, d2a2 = 0.0, d2a, cshift = 0.0;
     double RT, A, B, Z, v, L, bdd, v1, v2;
     for (k = 0; k < nc; k++) {
-        r[k] = e->sqrt_ac[k] * (1.0 + e->ms[k] * (1.0 - sT / e->sqrt_Tc[k]));
-        rp[k] = -e->sqrt_ac[k] * e->ms[k] / (2.0 * sT * e->sqrt_Tc[k]);
-        rpp[k] = e->sqrt_ac[k] * e->ms[k] / (4.0 * sT * sT * sT * e->sqrt_Tc[k]);
+        alpha_r(e, k, Ti, sT, &r[k], &rp[k], &rpp[k]);
         S[k] = 0.0;
         Sp[k] = 0.0;
     }
@@ -678,8 +708,7 @@ static double phase_id(const eos_t *e, double T, double P, const double *x, doub
     double *r = work, *rp = r + nc, *S = rp + nc;
     double sT = sqrt(T), a = 0.0, b = 0.0, da = 0.0, RT, Z, v, D, dD, vb, P_v, P_vv, P_T, P_Tv;
     for (k = 0; k < nc; k++) {
-        r[k] = e->sqrt_ac[k] * (1.0 + e->ms[k] * (1.0 - sT / e->sqrt_Tc[k]));
-        rp[k] = -e->sqrt_ac[k] * e->ms[k] / (2.0 * sT * e->sqrt_Tc[k]);
+        alpha_r(e, k, T, sT, &r[k], &rp[k], NULL);
         S[k] = 0.0;
     }
     for (k = 0; k < nc; k++) {

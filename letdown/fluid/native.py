@@ -43,6 +43,9 @@ from .components import R
 
 #: Relative separation below which the two cubic roots count as one, as in CubicEOS.choose_root.
 ROOT_DISTINCT_REL = 1e-12
+#: Layout version of the parameter blocks the C file must report (``lf_abi``); a library built
+#: from an older C file is not used (numpy fallback) rather than read with the wrong layout.
+ABI = 2
 #: Length of the header of the parameter block and of the ideal-gas block (see the C file).
 _HEADER = 8
 #: Batches of at least this many cases are spread over threads (below, the hand-over costs more
@@ -91,6 +94,10 @@ def _load():
                         ctypes.c_double, p],
     }
     try:
+        lib.lf_abi.argtypes = []
+        lib.lf_abi.restype = i
+        if lib.lf_abi() != ABI:
+            return None
         for name, args in sigs.items():
             fn = getattr(lib, name)
             fn.argtypes = args
@@ -117,7 +124,8 @@ def _pack(eos):
         head[:5] = (R, eos.d1, eos.d2, ROOT_DISTINCT_REL, ROOT_POLISH_STEPS)
         par = np.ascontiguousarray(np.concatenate([
             head, eos.sqrt_ac, eos.ms, eos.sqrt_Tc, eos.bs, c.Tcs, c.Pcs, c.omegas,
-            np.asarray(eos.omk, dtype=float).ravel(), eos.cs]), dtype=np.float64)
+            np.asarray(eos.omk, dtype=float).ravel(), eos.cs, eos.twu[:, 0], eos.twu[:, 1],
+            eos.twu[:, 2]]), dtype=np.float64)
         _PACKS[eos] = par
     return par
 
