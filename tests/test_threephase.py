@@ -152,3 +152,22 @@ def test_wet_lean_gas_single_phase_when_undersaturated_and_scalar_inputs():
 def test_gerg_refused():
     with pytest.raises(ModelError):
         Fluid({"methane": 0.9, "water": 0.1}, model="gerg-2008").flash3(280.0, 50e5)
+
+
+def test_gas_solubility_in_water_is_a_stated_limit():
+    # The documented limit (module docstring): with gas-side kij the aqueous phase holds far too
+    # little methane; CO2 is fair. Reference: Henry's law with Sander (2015) constants
+    # (letdown.fluid.hydrate.HENRY), x = f / H. Measured at 298.15 K, 50 bar: methane x_eos / x_Henry
+    # 2.5e-4, CO2 0.81.
+    from letdown.fluid.hydrate import HENRY
+    ratios = {}
+    for comp in ("methane", "carbon-dioxide"):
+        f = Fluid({comp: 0.5, "water": 0.5})
+        T, P = np.array([298.15]), np.array([50e5])
+        r = f.flash3(T, P)
+        lnphi, _ = f.engine.eos.lnphi(T, P, r.y, "vapour")
+        fugacity = r.y[0, 0] * np.exp(lnphi[0, 0]) * P[0]
+        A, B = HENRY[comp]
+        ratios[comp] = r.w[0, 0] / (fugacity / np.exp(A + B / T[0]))
+    assert ratios["methane"] < 1e-3
+    assert 0.7 < ratios["carbon-dioxide"] < 1.0

@@ -26,10 +26,13 @@ parameters (data/kij_pr.csv: the gas-phase values of Soreide & Whitson 1992 for 
 hydrocarbons and nitrogen, E-PPR78 at 298.15 K or DECHEMA for the others) and van der Waals
 one-fluid mixing; on Peng-Robinson, water has the Twu alpha (cubic.py), so its vapour pressure is
 right to 1.5 %. It gives the water content of the vapour within 2 % of the water-content route
-of letdown.fluid.water (tests/test_threephase.py), but the solubility of
-hydrocarbons in water is only an order-of-magnitude figure with such kij (common practice: constant
-kij cannot fit both sides of the water-hydrocarbon split), and glycol or methanol in water, which
-need an activity-coefficient or association term, are outside it.
+of letdown.fluid.water (tests/test_threephase.py), but the gas dissolved in the water is far too
+low with kij fitted to the gas side (common practice: constant kij cannot fit both sides of the
+water-hydrocarbon split): methane and nitrogen at 278-298 K and 50 bar come out 3-4 orders of
+magnitude below Henry's law with Sander's (2015) constants (measured, tests/test_threephase.py);
+CO2, whose kij is negative, within about 20 %. The aqueous phase is therefore taken as water
+(plus inhibitor) for everything downstream, and glycol or methanol in water, which need an
+activity-coefficient or association term, are outside it.
 
 Temperatures [K], pressures [Pa], compositions mole fractions; cases on axis 0.
 """
