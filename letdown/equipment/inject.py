@@ -8,21 +8,26 @@ of the gas close exactly.
 Parameters: ``inhibitor`` (``methanol`` or ``MEG``) and exactly one of
 
 * ``rate`` -- mass flow of pure inhibitor [kg/s];
-* ``depression`` -- the hydrate temperature depression to reach [K]. The rate is then sized by
-  Hammerschmidt (1934) (:func:`letdown.fluid.inhibitor.hammerschmidt_wt_pct`) for the water the
-  inlet stream carries, all of it assumed to condense as free water downstream (the most water
-  there can be: a conservative dose for the aqueous phase), neat inhibitor injected
-  (:func:`letdown.fluid.inhibitor.injection_rate` with 100 wt %). Inhibitor already carried by
-  the inlet is not credited.
+* ``depression`` -- the hydrate temperature depression to reach [K] at the **protected point**,
+  the coldest flowing stream downstream of the block (:class:`ProtectedPoint`). The inhibitor
+  wanted in the aqueous phase there follows from ``sized_by`` (:data:`SIZED_BY`):
+  ``hammerschmidt`` (default), ``nielsen-bucklin``, or ``hydrate-model`` (the vdW-P hydrate
+  temperature with a_w = x_w at the protected point's pressure and composition,
+  :func:`letdown.fluid.inhibitor.vdwp_wt_pct`). Neat inhibitor is injected; inhibitor already
+  carried by the inlet is not credited.
 
-What this block computes needs the water the stream carries, which is known only once the sheet
+and ``losses`` (:data:`LOSSES`): ``equilibrium`` (default) adds the inhibitor that stays in the
+vapour and dissolves in a hydrocarbon liquid at the protected point
+(:func:`letdown.fluid.inhibitor.dose_with_losses`; the free water is what the three-phase flash
+condenses there); ``none`` gives the aqueous part only, all the water the inlet carries taken as
+free water (:func:`letdown.fluid.inhibitor.injection_rate`).
+
+What this block computes needs the water the streams carry, which is known only once the sheet
 has carried the water through (:func:`letdown.sheet.freezing.inhibitor_ratios`): :func:`dose` is
 called from there with the values this block's run reported, and the sheet adds its numbers
-(``inhibitor_rate_kg_s``, ``inhibitor_wt_pct``, ``hydrate_depression_K``,
-``hydrate_depression_vdwp_K``) to this block's details.
+(:func:`letdown.sheet.freezing.dose_details`: rate, aqueous wt %, the split to aqueous, vapour
+and hydrocarbon liquid, the depression by each rule, the protected point) to this block's details.
 
-**Not modelled**: inhibitor lost to the vapour and to a hydrocarbon liquid (for methanol often as
-large as the aqueous need -- common practice); the rate is the aqueous part only.
 Engineering estimates; designs must follow local codes and be checked by qualified, licensed staff.
 """
 from __future__ import annotations

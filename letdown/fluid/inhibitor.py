@@ -14,12 +14,17 @@ Three ways to the hydrate temperature depression dT of an aqueous phase holding 
   underlies Nielsen-Bucklin. The real activity coefficient of water in methanol and MEG solutions
   is near 1 on the water-rich side (common practice), so this is a first model, not a fit.
 
-Rates: the aqueous phase only. For W wt % in the aqueous phase and a lean inhibitor solution of
-W_lean wt %, the lean injection rate per free-water rate is W / (W_lean - W) (mass balance,
-common practice). **Omitted**: inhibitor lost to the vapour and to a hydrocarbon liquid (for
-methanol often comparable to or larger than the aqueous requirement at pipeline conditions --
-common practice); the rate returned is the aqueous part only and must be increased for those
-losses.
+Rates: for W wt % in the aqueous phase and a lean inhibitor solution of W_lean wt %, the lean
+injection rate per free-water rate is W / (W_lean - W) (mass balance, common practice;
+:func:`injection_rate`, the aqueous part only). **Losses** (:func:`partition`,
+:func:`dose_with_losses`): methanol split between vapour, hydrocarbon liquid and aqueous liquid
+by the three-phase flash of the gas with its water and methanol on the fluid's cubic model; MEG by
+Raoult's law against the aqueous liquid of that flash with the vapour pressure of Perry's
+Handbook (:data:`MEG_PSAT_PERRY`), none in a hydrocarbon liquid. The cubic with van der Waals
+mixing is crude for methanol-water (its pure methanol vapour pressure is 8-17 % low at 298-268 K,
+its activity coefficient of methanol in water at infinite dilution about 3.3; methane-methanol
+has no published kij here); the losses are estimates to about a factor of two (README, closing
+limits).
 
 Every output that judges freezing carries the caution: engineering estimates; designs must follow
 local codes and be checked by qualified, licensed staff.

@@ -31,8 +31,10 @@ stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ra
 hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds its
 rate; the others carry it as the water. With all of a stream's water taken as free water, the
 stream's aqueous phase holds ``inhibitor_wt_pct`` and has water activity a_w = x_w
-(:func:`aqueous`), and its hydrate temperature is found with that activity. Not modelled:
-inhibitor lost to the vapour and a hydrocarbon liquid.
+(:func:`aqueous`), and its hydrate temperature is found with that activity. When an ``inject``
+block counts its losses (``losses: equilibrium``), each stream's aqueous phase comes instead from
+the split of water and inhibitor at the stream's own T and P (:func:`aqueous_equilibrium`), and
+the block is sized at the coldest stream downstream (:func:`protected_point`).
 
 Per stream and case:
 
