@@ -184,3 +184,19 @@ def test_low_pressure_limit_against_perrys_methanol_vapour_pressure(T):
     assert y * 1e5 == pytest.approx(xm * gamma * Psat, rel=0.03)
     # the model's activity coefficient of methanol in water is about 3.2-3.5 here (README)
     assert 2.5 < gamma < 4.5
+
+
+@pytest.mark.parametrize("spec, field, words", [
+    ("depression: 8 K, sized_by: guesswork", "equipment.dose.sized_by",
+     "use one of hammerschmidt, nielsen-bucklin, hydrate-model"),
+    ("depression: 8 K, losses: maybe", "equipment.dose.losses", "use one of equilibrium, none"),
+    ("rate: 25 kg/h, sized_by: hydrate-model", "equipment.dose.sized_by",
+     "sized_by applies to a depression"),
+])
+def test_bad_sizing_options_are_located(spec, field, words):
+    from letdown.errors import InputError
+    with pytest.raises(InputError) as e:
+        loads(SHEET % ("methanol", spec), source="loss.yaml")
+    assert e.value.file == "loss.yaml" and e.value.line == 9
+    assert e.value.field == field, str(e.value)
+    assert words in e.value.message, str(e.value)
