@@ -8,37 +8,58 @@ of the gas close exactly.
 Parameters: ``inhibitor`` (``methanol`` or ``MEG``) and exactly one of
 
 * ``rate`` -- mass flow of pure inhibitor [kg/s];
-* ``depression`` -- the hydrate temperature depression to reach [K]. The rate is then sized by
-  Hammerschmidt (1934) (:func:`letdown.fluid.inhibitor.hammerschmidt_wt_pct`) for the water the
-  inlet stream carries, all of it assumed to condense as free water downstream (the most water
-  there can be: a conservative dose for the aqueous phase), neat inhibitor injected
-  (:func:`letdown.fluid.inhibitor.injection_rate` with 100 wt %). Inhibitor already carried by
-  the inlet is not credited.
+* ``depression`` -- the hydrate temperature depression to reach [K] at the **protected point**,
+  the coldest flowing stream downstream of the block (:class:`ProtectedPoint`). The inhibitor
+  wanted in the aqueous phase there follows from ``sized_by`` (:data:`SIZED_BY`):
+  ``hammerschmidt`` (default), ``nielsen-bucklin``, or ``hydrate-model`` (the vdW-P hydrate
+  temperature with a_w = x_w at the protected point's pressure and composition,
+  :func:`letdown.fluid.inhibitor.vdwp_wt_pct`). Neat inhibitor is injected; inhibitor already
+  carried by the inlet is not credited.
 
-What this block computes needs the water the stream carries, which is known only once the sheet
+and ``losses`` (:data:`LOSSES`): ``equilibrium`` (default) adds the inhibitor that stays in the
+vapour and dissolves in a hydrocarbon liquid at the protected point
+(:func:`letdown.fluid.inhibitor.dose_with_losses`; the free water is what the three-phase flash
+condenses there); ``none`` gives the aqueous part only, all the water the inlet carries taken as
+free water (:func:`letdown.fluid.inhibitor.injection_rate`).
+
+What this block computes needs the water the streams carry, which is known only once the sheet
 has carried the water through (:func:`letdown.sheet.freezing.inhibitor_ratios`): :func:`dose` is
 called from there with the values this block's run reported, and the sheet adds its numbers
-(``inhibitor_rate_kg_s``, ``inhibitor_wt_pct``, ``hydrate_depression_K``,
-``hydrate_depression_vdwp_K``) to this block's details.
+(:func:`letdown.sheet.freezing.dose_details`: rate, aqueous wt %, the split to aqueous, vapour
+and hydrocarbon liquid, the depression by each rule, the protected point) to this block's details.
 
-**Not modelled**: inhibitor lost to the vapour and to a hydrocarbon liquid (for methanol often as
-large as the aqueous need -- common practice); the rate is the aqueous part only.
 Engineering estimates; designs must follow local codes and be checked by qualified, licensed staff.
 """
 from __future__ import annotations
+
+from dataclasses import dataclass
 
 import numpy as np
 
 from ..errors import InputError
 from ..fluid.inhibitor import (
+    INHIBITORS,
+    dose_with_losses,
     hammerschmidt_depression,
     hammerschmidt_wt_pct,
+    hydrate_model_depression,
     inhibitor,
     injection_rate,
+    nielsen_bucklin_depression,
+    nielsen_bucklin_wt_pct,
+    partition,
+    partition_fluid,
+    vdwp_wt_pct,
+    water_mole_fraction,
 )
 from .common import array_param, case_text, field_name, finish, one_of
 
 SPECS = ("rate", "depression")
+#: How a ``depression`` is turned into the inhibitor wanted in the aqueous phase (first: default).
+SIZED_BY = ("hammerschmidt", "nielsen-bucklin", "hydrate-model")
+#: Whether the inhibitor that stays in the vapour and dissolves in a hydrocarbon liquid at the
+#: protected point is added to the rate (``equilibrium``, the default) or not (``none``).
+LOSSES = ("equilibrium", "none")
 #: The detail under which :func:`run` reports each specification's values over the batch.
 PARAM_DETAILS = {"rate": "inhibitor_rate_kg_s", "depression": "depression_target_K"}
 #: Hammerschmidt's form is used up to about 20 K (module docstring of
@@ -83,40 +104,168 @@ def checked(name: str, params, n: int):
     return inh, spec, value
 
 
-def dose(name: str, params, water_kg_s) -> dict:
-    """The inhibitor this block injects, for the water the inlet carries.
+def options(name: str, params) -> tuple[str, str]:
+    """The sizing rule and the loss treatment of a block, checked.
+
+    Returns
+    -------
+    sized_by : str
+        One of :data:`SIZED_BY` (default ``hammerschmidt``).
+    losses : str
+        One of :data:`LOSSES` (default ``equilibrium``).
+
+    Raises
+    ------
+    InputError
+        A value not in the list (field ``equipment.NAME.sized_by`` or ``.losses``).
+    """
+    out = []
+    for key, allowed, default in (("sized_by", SIZED_BY, SIZED_BY[0]),
+                                  ("losses", LOSSES, LOSSES[0])):
+        raw = params.get(key, default)
+        value = str(raw).strip().lower().replace("_", "-").replace(" ", "-")
+        if value not in allowed:
+            raise InputError(f"{key} is {raw!r}; use one of {', '.join(allowed)}",
+                             field=field_name(name, key))
+        out.append(value)
+    return out[0], out[1]
+
+
+@dataclass(frozen=True, eq=False)
+class ProtectedPoint:
+    """The coldest point downstream of an inject block, per case: where the dose must hold.
+
+    Attributes
+    ----------
+    fluid : letdown.fluid.Fluid
+        The sheet's fluid (model, kij).
+    stream : ndarray of str (n,)
+        Name of the coldest flowing stream downstream of the block (its outlet included).
+    T, P : ndarray (n,)
+        Its temperature [K] and pressure [Pa].
+    zs : ndarray (n, nc)
+        Its gas composition [-].
+    water_ratio : ndarray (n,)
+        Water it carries per mole of dry gas [mol/mol].
+    flow : ndarray (n,)
+        Molar flow of the gas through the block [mol/s] (the inhibitor per mole of gas is kept
+        from the block to this point: splitters keep it; a mixer with undosed gas downstream
+        would dilute it and is not credited).
+    """
+
+    fluid: object
+    stream: np.ndarray
+    T: np.ndarray
+    P: np.ndarray
+    zs: np.ndarray
+    water_ratio: np.ndarray
+    flow: np.ndarray
+
+
+def target_wt_pct(inh, sized_by: str, dT, point: ProtectedPoint):
+    """Inhibitor wanted in the aqueous phase for a depression dT [K] by the chosen rule [wt %].
+
+    ``hammerschmidt`` and ``nielsen-bucklin``: the inverse rules of :mod:`letdown.fluid.inhibitor`;
+    ``hydrate-model``: the wt % for which the vdW-P hydrate temperature at the protected point's
+    pressure and composition falls by dT with a_w = x_w
+    (:func:`letdown.fluid.inhibitor.vdwp_wt_pct`).
+    """
+    dT = np.asarray(dT, float)
+    if sized_by == "hammerschmidt":
+        return np.asarray(hammerschmidt_wt_pct(dT, inh.name), float).reshape(dT.shape)
+    if sized_by == "nielsen-bucklin":
+        return np.asarray(nielsen_bucklin_wt_pct(dT, inh.name), float).reshape(dT.shape)
+    fluid = point.fluid
+    free = np.asarray(fluid.hydrate_T(point.P, zs=point.zs), float).reshape(dT.shape)
+    W = np.zeros(dT.shape)
+    has = np.isfinite(free) & (dT > 0.0)
+    if has.any():
+        W[has] = np.asarray(vdwp_wt_pct(fluid, point.P[has], free[has] - dT[has], inh.name,
+                                        zs=point.zs[has]), float).reshape(-1)
+    return W
+
+
+def dose(name: str, params, water_kg_s, point: ProtectedPoint) -> dict:
+    """The inhibitor this block injects, where it goes at the protected point, and what each rule
+    says it achieves there.
 
     Parameters
     ----------
     name : str
         Block name (for error messages).
     params : Mapping
-        ``inhibitor`` and ``rate`` [kg/s] or ``depression`` [K].
+        ``inhibitor``, ``rate`` [kg/s] or ``depression`` [K], ``sized_by``, ``losses``.
     water_kg_s : ndarray (n,)
-        Water carried by the inlet, all taken as free water [kg/s].
+        Water carried by the inlet [kg/s] (all of it free water when ``losses: none``).
+    point : ProtectedPoint
+        The coldest point downstream.
 
     Returns
     -------
     dict
-        ``inhibitor`` (canonical name), ``rate_kg_s`` (n,) [kg/s], ``wt_pct`` (n,) inhibitor of
-        this block in the water-inhibitor phase [wt %] (NaN without water), ``depression_K`` (n,)
-        Hammerschmidt depression at that wt % [K] (NaN without water).
+        ``inhibitor``, ``sized_by``, ``losses`` (str); arrays (n,): ``rate_kg_s`` injected [kg/s];
+        ``wt_pct`` inhibitor of this block in the aqueous phase at the protected point [wt %]
+        (NaN without free water); ``aqueous_kg_s``, ``vapour_kg_s``, ``hc_liquid_kg_s`` where
+        the injected inhibitor goes there [kg/s] (NaN with ``losses: none``); the depressions
+        there by ``depression_K`` (Hammerschmidt), ``depression_nielsen_bucklin_K`` and
+        ``depression_hydrate_model_K`` (vdW-P, a_w = x_w) [K]; ``protected_stream``,
+        ``protected_T_K``, ``protected_P_Pa``.
+
+    Raises
+    ------
+    InputError
+        See :func:`checked` and :func:`options`.
+    ConvergenceError
+        The dose search with losses or a hydrate solve did not converge.
     """
     water = np.asarray(water_kg_s, dtype=float)
     n = water.shape[0]
     inh, spec, value = checked(name, params, n)
-    if spec == "depression":
-        W = np.asarray(hammerschmidt_wt_pct(value, inh.name), dtype=float).reshape(n)
-        rate = np.asarray(injection_rate(water, W, 100.0), dtype=float).reshape(n)
+    sized_by, losses = options(name, params)
+    M = inh.M * 1e-3
+    j = list(INHIBITORS).index(inh.name)
+    nan = np.full(n, np.nan)
+    flow = np.asarray(point.flow, float)
+    per_gas = np.where(flow > 0.0, 1.0 / (M * np.where(flow > 0.0, flow, 1.0)), 0.0)
+    if losses == "none":
+        if spec == "depression":
+            W = target_wt_pct(inh, sized_by, value, point)
+            rate = np.asarray(injection_rate(water, W, 100.0), dtype=float).reshape(n)
+        else:
+            rate = value
+        total = water + rate
+        wet = water > 0.0
+        W = np.where(wet, 100.0 * rate / np.where(total > 0.0, total, 1.0), np.nan)
+        x_w = np.where(wet, np.asarray(water_mole_fraction(np.nan_to_num(W), inh.name), float),
+                       np.nan)
+        aq = vap = hcl = nan
     else:
-        rate = value
-    total = water + rate
-    wet = water > 0.0
-    W = np.where(wet, 100.0 * rate / np.where(total > 0.0, total, 1.0), np.nan)
-    dT = np.full(n, np.nan)
+        pf = partition_fluid(point.fluid)
+        if spec == "depression":
+            W_t = target_wt_pct(inh, sized_by, value, point)
+            p = dose_with_losses(point.fluid, point.T, point.P, point.zs, point.water_ratio, W_t,
+                                 inh.name, pf)
+            rate = np.where(flow > 0.0, p.injected[:, j] * M * flow, 0.0)
+        else:
+            rate = value
+            ratios = np.zeros((n, len(INHIBITORS)))
+            ratios[:, j] = rate * per_gas
+            p = partition(point.fluid, point.T, point.P, point.zs, point.water_ratio, ratios, pf)
+        scale = M * flow
+        aq, vap, hcl = p.aqueous[:, j] * scale, p.vapour[:, j] * scale, p.hc_liquid[:, j] * scale
+        W, x_w = p.wt_pct, p.water_mole_fraction
+    wet = np.isfinite(W)
+    dT = {"depression_K": nan.copy(), "depression_nielsen_bucklin_K": nan.copy(),
+          "depression_hydrate_model_K": nan.copy()}
     if wet.any():
-        dT[wet] = hammerschmidt_depression(W[wet], inh.name)
-    return {"inhibitor": inh.name, "rate_kg_s": rate, "wt_pct": W, "depression_K": dT}
+        dT["depression_K"][wet] = hammerschmidt_depression(W[wet], inh.name)
+        dT["depression_nielsen_bucklin_K"][wet] = nielsen_bucklin_depression(W[wet], inh.name)
+        dT["depression_hydrate_model_K"][wet] = hydrate_model_depression(
+            point.fluid, point.P[wet], x_w[wet], zs=point.zs[wet])
+    return {"inhibitor": inh.name, "sized_by": sized_by, "losses": losses, "rate_kg_s": rate,
+            "wt_pct": W, "aqueous_kg_s": aq, "vapour_kg_s": vap, "hc_liquid_kg_s": hcl, **dT,
+            "protected_stream": np.asarray(point.stream, dtype=object),
+            "protected_T_K": np.asarray(point.T, float), "protected_P_Pa": np.asarray(point.P, float)}
 
 
 def run(fluid, name: str, inlets, params):
@@ -148,5 +297,6 @@ def run(fluid, name: str, inlets, params):
     inlet = inlets["in"]
     n = inlet.n_cases
     _, spec, value = checked(name, params, n)
+    options(name, params)
     details = {PARAM_DETAILS[spec]: value}
     return finish(inlets, {"out": inlet}, 0.0, dP=np.zeros(n), details=details)

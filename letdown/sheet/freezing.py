@@ -31,8 +31,10 @@ stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ra
 hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds its
 rate; the others carry it as the water. With all of a stream's water taken as free water, the
 stream's aqueous phase holds ``inhibitor_wt_pct`` and has water activity a_w = x_w
-(:func:`aqueous`), and its hydrate temperature is found with that activity. Not modelled:
-inhibitor lost to the vapour and a hydrocarbon liquid.
+(:func:`aqueous`), and its hydrate temperature is found with that activity. When an ``inject``
+block counts its losses (``losses: equilibrium``), each stream's aqueous phase comes instead from
+the split of water and inhibitor at the stream's own T and P (:func:`aqueous_equilibrium`), and
+the block is sized at the coldest stream downstream (:func:`protected_point`).
 
 Per stream and case:
 
@@ -70,10 +72,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..equipment.inject import PARAM_DETAILS, dose
+from ..equipment.inject import PARAM_DETAILS, ProtectedPoint, dose
 from ..errors import ConvergenceError, InputError
 from ..fluid.hydrate import LANGMUIR
-from ..fluid.inhibitor import INHIBITORS
+from ..fluid.inhibitor import INHIBITORS, partition
 from ..fluid.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE, water_content,
                            water_dew_point)
 from .result import WarningRecord
@@ -245,13 +247,48 @@ def water_ratios(fs, fluid, streams, steps) -> tuple[dict, list]:
     return r, notes
 
 
-def inhibitor_ratios(fs, streams, steps, water, params=None) -> tuple[dict, dict, list]:
+def downstream_streams(fs, block) -> list:
+    """The streams downstream of ``block``: its outlets and every stream reachable from them
+    through the blocks (loops included once)."""
+    seen: list = []
+    todo = list(fs.blocks[block].outlets.values())
+    while todo:
+        s = todo.pop(0)
+        if s in seen:
+            continue
+        seen.append(s)
+        for b in fs.blocks.values():
+            if s in b.inlets.values():
+                todo.extend(o for o in b.outlets.values() if o not in seen)
+    return seen
+
+
+def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:
+    """The coldest flowing stream downstream of an ``inject`` block, per case (the point its dose
+    must protect; :class:`letdown.equipment.inject.ProtectedPoint`)."""
+    names = [s for s in downstream_streams(fs, block) if s in streams]
+    T = np.stack([np.where(np.asarray(streams[s].flow, float) > 0.0,
+                           np.asarray(streams[s].T, float), np.inf) for s in names])
+    k = np.argmin(T, axis=0)
+    n = T.shape[1]
+    rows = np.arange(n)
+    pick = lambda get: np.stack([np.asarray(get(streams[s]), float) for s in names])[k, rows]
+    zs = np.stack([np.asarray(streams[s].zs, float) for s in names])[k, rows]
+    w = np.stack([np.broadcast_to(np.asarray(water[s], float), (n,)) for s in names])[k, rows]
+    inlet = fs.blocks[block].inlets["in"]
+    return ProtectedPoint(fluid, np.array([names[i] for i in k], dtype=object),
+                          pick(lambda st: st.T), pick(lambda st: st.P), zs, w,
+                          np.asarray(streams[inlet].flow, float))
+
+
+def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None
+                     ) -> tuple[dict, dict, list]:
     """Inhibitor per dry gas of every stream, and the dose of every ``inject`` block.
 
     Each ``inject`` block adds ``rate / (M F)`` moles of its inhibitor per mole of dry gas (F the
     stream's molar flow); the other blocks carry it as they carry the water (:func:`_mix`). The
-    rate of a block given a ``depression`` follows from the water its inlet carries
-    (:func:`letdown.equipment.inject.dose`).
+    rate of a block given a ``depression``, and where its inhibitor goes, follow from the coldest
+    point downstream of it (:func:`protected_point`, :func:`letdown.equipment.inject.dose`).
 
     Parameters
     ----------
@@ -261,6 +298,8 @@ def inhibitor_ratios(fs, streams, steps, water, params=None) -> tuple[dict, dict
         Water per dry gas of every stream [mol/mol] (:func:`water_ratios`).
     params : Mapping[str, Mapping], optional
         ``inject`` block name -> its parameters over the cases (SI); default the file's.
+    fluid : Fluid
+        The sheet's fluid (needed by any ``inject`` block).
 
     Returns
     -------
@@ -286,7 +325,8 @@ def inhibitor_ratios(fs, streams, steps, water, params=None) -> tuple[dict, dict
         if block not in doses:
             try:
                 given = (params or {}).get(block, spec.params)
-                doses[block] = dose(block, given, flow * water[inlet] * M_WATER)
+                point = protected_point(fs, fluid, streams, water, block)
+                doses[block] = dose(block, given, flow * water[inlet] * M_WATER, point)
             except InputError as exc:
                 w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
                 raise exc.located(file=(w.file if w else None) or fs.source,
@@ -333,6 +373,29 @@ def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
     wt = np.where(wet, 100.0 * mi / np.where(wet, mi + mw, 1.0), np.nan)
     ni = inh.sum(axis=1)
     aw = np.where(wet & (ni > 0.0), w / np.where(wet, w + ni, 1.0), 1.0)
+    return wt, aw
+
+
+def aqueous_equilibrium(fluid, T, P, zs, water_ratio, inhibitor_ratio):
+    """Inhibitor in the aqueous liquid and the water activity of streams at their own (T, P), the
+    inhibitor split by :func:`letdown.fluid.inhibitor.partition` (what the vapour and a
+    hydrocarbon liquid hold is not in the aqueous phase). Rows without inhibitor or water keep
+    :func:`aqueous`'s answer; rows with inhibitor but no aqueous liquid at their state have NaN
+    wt % and a_w = 1 (no free water there).
+
+    Returns
+    -------
+    wt_pct, water_activity : ndarray (n,)
+        As for :func:`aqueous`.
+    """
+    wt, aw = aqueous(water_ratio, inhibitor_ratio)
+    rows = np.flatnonzero((np.asarray(inhibitor_ratio).sum(axis=1) > 0.0)
+                          & (np.asarray(water_ratio) > 0.0) & np.isfinite(T) & (P > 0.0))
+    if rows.size:
+        p = partition(fluid, T[rows], P[rows], zs[rows], water_ratio[rows],
+                      inhibitor_ratio[rows])
+        wt[rows] = p.wt_pct
+        aw[rows] = np.where(np.isfinite(p.water_mole_fraction), p.water_mole_fraction, 1.0)
     return wt, aw
 
 
@@ -411,14 +474,19 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
         The assumptions made (water taken as saturated, loops) and any hydrate solve that failed.
     """
     ratios, notes = water_ratios(fs, fluid, streams, steps)
-    inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, ratios, params)
+    inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, ratios, params, fluid)
     notes.extend(inh_notes)
     names = list(streams)
     n = streams[names[0]].n_cases
     P = np.concatenate([np.asarray(streams[s].P, float) for s in names])
     zs = np.concatenate([np.asarray(streams[s].zs, float) for s in names])
     r = np.concatenate([ratios[s] for s in names])
-    wt, aw = aqueous(r, np.concatenate([inh[s] for s in names]))
+    inh_all = np.concatenate([inh[s] for s in names])
+    if any(d["losses"] == "equilibrium" for d in block_doses.values()):
+        T_all = np.concatenate([np.asarray(streams[s].T, float) for s in names])
+        wt, aw = aqueous_equilibrium(fluid, T_all, P, zs, r, inh_all)
+    else:
+        wt, aw = aqueous(r, inh_all)
     y = r / (1.0 + r)
     dew = _dew_points(fluid, fs.gas.water_method, y, P)
     # the inject outlets once more without inhibitor, for the vdW-P depression of each block
@@ -443,8 +511,7 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     if doses is not None:
         for m, (b, d) in enumerate(block_doses.items()):
             free = hT_all[P.size + m * n: P.size + (m + 1) * n]
-            doses[b] = {"inhibitor_rate_kg_s": d["rate_kg_s"], "inhibitor_wt_pct": d["wt_pct"],
-                        "hydrate_depression_K": d["depression_K"],
+            doses[b] = {**dose_details(d),
                         "hydrate_depression_vdwp_K": free - out[outs[m]].hydrate_T}
     return out, notes
 
@@ -458,6 +525,7 @@ def inject_params(fs, outcomes) -> dict:
         if spec.kind != "inject":
             continue
         p = {"inhibitor": spec.params.get("inhibitor", "methanol")}
+        p.update({k: spec.params[k] for k in ("sized_by", "losses") if k in spec.params})
         for key, detail in PARAM_DETAILS.items():
             if detail in outcome.details:
                 p[key] = outcome.details[detail]
@@ -472,9 +540,26 @@ def inject_doses(fs, fluid, streams, steps, params=None) -> dict:
     if not any(b.kind == "inject" for b in fs.blocks.values()):
         return {}
     ratios, _ = water_ratios(fs, fluid, streams, steps)
-    _, block_doses, _ = inhibitor_ratios(fs, streams, steps, ratios, params)
-    return {b: {"inhibitor_rate_kg_s": d["rate_kg_s"], "inhibitor_wt_pct": d["wt_pct"],
-                "hydrate_depression_K": d["depression_K"]} for b, d in block_doses.items()}
+    _, block_doses, _ = inhibitor_ratios(fs, streams, steps, ratios, params, fluid)
+    return {b: dose_details(d) for b, d in block_doses.items()}
+
+
+def dose_details(d) -> dict:
+    """An ``inject`` block's details from its :func:`letdown.equipment.inject.dose` dict: the
+    rate, the aqueous wt % and the losses at the protected point, and the depression there by
+    each rule (keys as listed in :func:`stream_freezing`)."""
+    n = np.asarray(d["rate_kg_s"]).shape[0]
+    text = lambda v: np.full(n, v, dtype=object)
+    return {"inhibitor_rate_kg_s": d["rate_kg_s"], "inhibitor_wt_pct": d["wt_pct"],
+            "inhibitor_aqueous_kg_s": d["aqueous_kg_s"],
+            "inhibitor_to_vapour_kg_s": d["vapour_kg_s"],
+            "inhibitor_to_hc_liquid_kg_s": d["hc_liquid_kg_s"],
+            "hydrate_depression_K": d["depression_K"],
+            "hydrate_depression_nielsen_bucklin_K": d["depression_nielsen_bucklin_K"],
+            "hydrate_depression_hydrate_model_K": d["depression_hydrate_model_K"],
+            "sized_by": text(d["sized_by"]), "losses": text(d["losses"]),
+            "protected_stream": d["protected_stream"], "protected_T_K": d["protected_T_K"],
+            "protected_P_Pa": d["protected_P_Pa"]}
 
 
 def margins(stream, fz: StreamFreezing, min_T=None) -> dict:

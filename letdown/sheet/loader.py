@@ -29,7 +29,7 @@ from pathlib import Path
 import jsonschema
 import yaml
 
-from ..equipment.inject import MAX_DEPRESSION
+from ..equipment.inject import MAX_DEPRESSION, options as inject_options
 from ..errors import InputError
 from ..fluid.inhibitor import inhibitor
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
@@ -425,6 +425,7 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
         if kind == "inject":
             params["inhibitor"] = _inhibitor(doc, raw.get("inhibitor"), path + ("inhibitor",))
             field_where["inhibitor"] = _where(doc, path + ("inhibitor",))
+            _inject_options(doc, name, raw, params, field_where, path)
         if kind == "splitter":
             params["fractions"] = _fractions(doc, q, raw["to"], path + ("to",))
             field_where["fractions"] = _where(doc, path + ("to",))
@@ -455,6 +456,21 @@ def _inhibitor(doc, text, path) -> str:
     except InputError:
         raise doc.err(f"unknown inhibitor {text!r} (known: methanol, MEG)", path,
                       key=False) from None
+
+
+def _inject_options(doc, name, raw, params, field_where, path):
+    """An inject block's ``sized_by`` and ``losses`` words, checked and kept in ``params``."""
+    for key in ("sized_by", "losses"):
+        if key in raw:
+            try:
+                sized_by, losses = inject_options(name, {key: raw[key]})
+            except InputError as exc:
+                raise doc.err(exc.message, path + (key,), key=False) from None
+            params[key] = sized_by if key == "sized_by" else losses
+            field_where[key] = _where(doc, path + (key,))
+    if "sized_by" in raw and "rate" in raw:
+        raise doc.err("sized_by applies to a depression; this block is given its rate",
+                      path + ("sized_by",))
 
 
 def _check_parameter(doc, kind, key, value, text, path):

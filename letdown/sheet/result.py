@@ -318,7 +318,8 @@ class BatchResult:
             if eq.dP is not None:
                 entry["dP_Pa"] = _num(eq.dP[i])
             for key, values in eq.details.items():
-                entry[key] = _num(values[i])
+                # words (an inject block's sizing rule, its protected stream) stay words
+                entry[key] = values[i] if isinstance(values[i], str) else _num(values[i])
             for key, values in eq.flags.items():
                 entry[key] = bool(values[i])
             entry["mole_balance_closure"] = _num(closure[name][0][i])
