@@ -399,3 +399,52 @@ def water_in_liquid(fluid, T, P, xs):
         raise ConvergenceError("water dissolved in the hydrocarbon liquid did not converge",
                                result=SolveReport(conv, it, step, "water in liquid, substitution"))
     return x
+
+
+# ------------------------------------------------------------------------------------------------
+#: The phases of a :class:`ThreePhaseResult`, in its order, with their fraction and composition
+#: attributes.
+PHASES = (("vapour", "beta_V", "y"), ("liquid", "beta_L", "x"), ("aqueous", "beta_W", "w"))
+
+
+def phase_properties(engine, T, P, zs, res: ThreePhaseResult) -> dict:
+    """Properties of each phase of a three-phase PT flash, and of the whole.
+
+    Each phase's properties are the engine's single-phase ones at its composition (stable root):
+    h = sum_i x_i h0_i(T) + h_res (ideal-gas part plus the cubic's residual part, as
+    :class:`letdown.fluid.cubic_fluid.CubicEngine` builds every state); the whole is the sum over
+    the phases present weighted by their fractions (h, s, molar volume v).
+
+    Parameters
+    ----------
+    engine : letdown.fluid.cubic_fluid.CubicEngine
+    T, P : ndarray (n,)
+        [K], [Pa].
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+    res : ThreePhaseResult
+        The flash of (T, P, zs).
+
+    Returns
+    -------
+    dict
+        ``"vapour"``, ``"liquid"``, ``"aqueous"``: dicts of ndarrays (n,) ``h`` [J/mol], ``s``
+        [J/(mol K)], ``Z`` [-], ``density`` [kg/m3], ``molar_mass`` [kg/mol], ``v`` [m3/mol]
+        (those of the feed where the phase is absent), plus ``"whole"``: ``h``, ``s``, ``v``.
+    """
+    T = np.asarray(T, dtype=float)
+    P = np.asarray(P, dtype=float)
+    zs = np.asarray(zs, dtype=float)
+    out = {}
+    whole = {k: np.zeros(T.shape[0]) for k in ("h", "s", "v")}
+    for name, beta_attr, x_attr in PHASES:
+        beta = getattr(res, beta_attr)
+        present = beta > 0.0
+        xs = np.where(present[:, None], getattr(res, x_attr), zs)
+        props = engine._phase(T, P, xs, 0)
+        out[name] = {k: np.asarray(props[k], dtype=float)
+                     for k in ("h", "s", "Z", "density", "molar_mass", "v")}
+        for k in whole:
+            whole[k] = whole[k] + np.where(present, beta * out[name][k], 0.0)
+    out["whole"] = whole
+    return out

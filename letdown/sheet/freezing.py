@@ -270,11 +270,15 @@ class WaterCarry:
     free: dict
     separators: dict
     notes: list
+    water_index: int | None = None
 
     def flow(self, name: str, stream) -> np.ndarray:
-        """All the water stream ``name`` carries [mol/s] (ratio times dry flow plus free water)."""
-        return (self.ratios[name] * np.asarray(stream.flow, float)
-                + self.free.get(name, np.zeros(stream.n_cases)))
+        """All the water stream ``name`` carries [mol/s]: ratio times dry flow plus free water,
+        or, with water as a component (``water_index``), its water fraction times its flow."""
+        F = np.asarray(stream.flow, float)
+        if self.water_index is not None:
+            return np.asarray(stream.zs, float)[:, self.water_index] * F
+        return self.ratios[name] * F + self.free.get(name, np.zeros(stream.n_cases))
 
 
 def saturation_ratios(fluid, method: str, T, P, xs) -> tuple[np.ndarray, np.ndarray]:
@@ -370,7 +374,7 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
     if "water" in fluid.components:
         iw = fluid.components.index("water")
         return WaterCarry({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
-                           for name, s in streams.items()}, {}, {}, [])
+                           for name, s in streams.items()}, {}, {}, [], iw)
     r, notes = _feed_ratios(fs, fluid, streams)
     carry = WaterCarry(r, {}, {}, notes)
     cache: dict = {}
@@ -572,9 +576,11 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     n = streams[names[0]].n_cases
     P = np.concatenate([np.asarray(streams[s].P, float) for s in names])
     zs = np.concatenate([np.asarray(streams[s].zs, float) for s in names])
-    # a stream holding only free water (a separator's water outlet) has no water per dry gas
-    shown = {s: np.where((np.asarray(streams[s].flow, float) > 0.0)
-                         | (carried.free.get(s, np.zeros(n)) <= 0.0), ratios[s], np.nan)
+    # a stream holding only free water (a separator's water outlet) has no water per dry gas;
+    # nor, with water as a component, an aqueous stream (water its largest part)
+    shown = {s: np.where(((np.asarray(streams[s].flow, float) > 0.0)
+                          | (carried.free.get(s, np.zeros(n)) <= 0.0))
+                         & ~(ratios[s] > 1.0), ratios[s], np.nan)
              for s in names}
     r = np.concatenate([shown[s] for s in names])
     wt, aw = aqueous(r, np.concatenate([inh[s] for s in names]))
