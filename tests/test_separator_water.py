@@ -227,3 +227,110 @@ def test_water_in_liquid_meets_its_fugacity_balance():
     f_water = pv * np.exp(lnsat[:, iw] + V_LIQUID * (P - pv) / (R * T))
     np.testing.assert_allclose(x * np.exp(lnphi[:, iw]) * P, f_water, rtol=1e-10)
     assert np.all((x > 0.0) & (x < 1e-2))
+
+
+# -- water as a component: the adiabatic three-phase drum ------------------------------------------
+#: The LTS gas with water listed in its composition (wetter than saturated at the drum).
+WET = {"nitrogen": 0.012, "carbon-dioxide": 0.018, "methane": 0.799, "ethane": 0.085,
+       "propane": 0.045, "isobutane": 0.010, "n-butane": 0.013, "isopentane": 0.005,
+       "n-pentane": 0.004, "n-hexane": 0.005, "n-heptane": 0.003, "water": 0.001}
+LTS3 = LTS.replace("""  composition: {nitrogen: 0.012, carbon-dioxide: 0.018, methane: 0.800, ethane: 0.085,
+                propane: 0.045, isobutane: 0.010, n-butane: 0.013, isopentane: 0.005,
+                n-pentane: 0.004, n-hexane: 0.005, n-heptane: 0.003}
+  %s
+""", "  composition: {%s}\n" % ", ".join(f"{k}: {v}" for k, v in WET.items()))
+#: The drum temperature meets the enthalpy balance to 1e-4 J/mol (separator.H_TOL); checked here
+#: through the public flashes, which agree with the drum's phase properties to rounding.
+H_TOL = 1e-3
+PORTS3 = "{vapour: gas, liquid: condensate, water: free-water}"
+
+
+@pytest.fixture(scope="module")
+def drum3():
+    T = np.array([298.15, 288.15, 308.15])
+    fs = loads(LTS3 % PORTS3, source="lts3.yaml")
+    return T, solve_cases(fs, {"feed.T": T}, margins=True)
+
+
+def test_lts3_sheet_has_water_as_a_component():
+    assert "water" in Sheet(loads(LTS3 % PORTS3, source="lts3.yaml")).solve().streams["feed"].zs
+
+
+def test_three_phase_drum_closes_mole_and_energy_balances(drum3):
+    _, batch = drum3
+    s = batch.streams
+    inlet = np.asarray(s["cold"].flow)[:, None] * np.asarray(s["cold"].zs)
+    out = sum(np.asarray(s[k].flow)[:, None] * np.asarray(s[k].zs)
+              for k in ("gas", "condensate", "free-water"))
+    np.testing.assert_allclose(out, inlet, rtol=0.0,
+                               atol=BALANCE * float(np.max(s["cold"].flow)))
+    e_in = np.asarray(s["cold"].flow) * np.asarray(s["cold"].h)
+    e_out = sum(np.asarray(s[k].flow) * np.asarray(s[k].h) for k in ("gas", "condensate",
+                                                                      "free-water"))
+    np.testing.assert_allclose(e_out, e_in, rtol=0.0, atol=H_TOL * float(np.max(s["cold"].flow)))
+    # all three phases are there, the aqueous one mostly water
+    iw = batch.components.index("water")
+    for k in ("gas", "condensate", "free-water"):
+        assert np.all(np.asarray(s[k].flow) > 0.0)
+    assert np.all(np.asarray(s["free-water"].zs)[:, iw] > 0.99)
+    # the water balance seen by the freezing figures (water fraction times flow)
+    fz = batch.freezing
+    np.testing.assert_allclose(fz["gas"].water_flow + fz["condensate"].water_flow
+                               + fz["free-water"].water_flow, fz["cold"].water_flow,
+                               rtol=BALANCE)
+    np.testing.assert_allclose(fz["cold"].water_flow, np.asarray(s["cold"].flow) * WET["water"],
+                               rtol=1e-12)
+
+
+def test_three_phase_drum_temperature_solves_the_enthalpy(drum3):
+    _, batch = drum3
+    s = batch.streams
+    gas = letdown.Fluid(WET)
+    T = np.asarray(s["gas"].T)
+    P = np.asarray(s["gas"].P)
+    F = np.asarray(s["cold"].flow)
+    # the three-phase flash at the drum's T and P, by the public route
+    res = gas.flash3(T, P, zs=np.asarray(s["cold"].zs))
+    for k, beta, x in (("gas", res.beta_V, res.y), ("condensate", res.beta_L, res.x),
+                       ("free-water", res.beta_W, res.w)):
+        np.testing.assert_allclose(np.asarray(s[k].flow), beta * F, rtol=1e-9)
+        np.testing.assert_allclose(np.asarray(s[k].zs), x, atol=1e-9)
+    # each phase's enthalpy by the public P-T flash of its composition; their sum is the inlet's
+    h = sum(beta * np.array([gas.flash(T=float(T[i]), P=float(P[i]), zs=x[i]).h
+                             for i in range(T.size)])
+            for beta, x in ((res.beta_V, res.y), (res.beta_L, res.x), (res.beta_W, res.w)))
+    np.testing.assert_allclose(h, np.asarray(s["cold"].h), rtol=0.0, atol=H_TOL)
+    # and the drum is the adiabatic one: its inlet's enthalpy at the same pressure
+    np.testing.assert_allclose(P, np.asarray(s["cold"].P), rtol=0.0, atol=0.0)
+
+
+def test_three_phase_drum_flags_the_two_phase_temperature_it_corrects(drum3):
+    _, batch = drum3
+    gas = letdown.Fluid(WET)
+    s = batch.streams["cold"]
+    # the two-phase P-h flash of the inlet (what the throttle reported) ...
+    T2 = gas.flash(P=np.asarray(s.P), h=np.asarray(s.h), zs=np.asarray(s.zs)).T
+    shift = np.asarray(batch.streams["gas"].T) - T2
+    eq = batch.equipment["lts"]
+    np.testing.assert_allclose(eq.details["dT_vs_two_phase_K"], shift, rtol=1e-12)
+    # ... misses the hydrocarbon liquid here, so the drum is flagged and warned about
+    assert np.all(np.abs(shift) > 0.1)
+    assert np.all(eq.flags["three_phase_T_shift"])
+    assert any(w.where == "lts" and "three-phase drum temperature" in w.what
+               for w in batch.warnings)
+
+
+def test_three_phase_drum_without_water_port_sends_the_water_with_the_liquid(drum3):
+    T, three = drum3
+    fs = loads(LTS3 % "{vapour: gas, liquid: condensate}", source="lts3.yaml")
+    two = solve_cases(fs, {"feed.T": T}, margins=True)
+    a, b = three.streams, two.streams
+    np.testing.assert_allclose(np.asarray(b["gas"].T), np.asarray(a["gas"].T), rtol=1e-12)
+    liquid = (np.asarray(a["condensate"].flow)[:, None] * np.asarray(a["condensate"].zs)
+              + np.asarray(a["free-water"].flow)[:, None] * np.asarray(a["free-water"].zs))
+    np.testing.assert_allclose(np.asarray(b["condensate"].flow)[:, None]
+                               * np.asarray(b["condensate"].zs), liquid, rtol=1e-10, atol=1e-14)
+    e = (np.asarray(a["condensate"].flow) * np.asarray(a["condensate"].h)
+         + np.asarray(a["free-water"].flow) * np.asarray(a["free-water"].h))
+    np.testing.assert_allclose(np.asarray(b["condensate"].flow) * np.asarray(b["condensate"].h),
+                               e, rtol=1e-10)
