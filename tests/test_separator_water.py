@@ -334,3 +334,12 @@ def test_three_phase_drum_without_water_port_sends_the_water_with_the_liquid(dru
          + np.asarray(a["free-water"].flow) * np.asarray(a["free-water"].h))
     np.testing.assert_allclose(np.asarray(b["condensate"].flow) * np.asarray(b["condensate"].h),
                                e, rtol=1e-10)
+
+
+def test_free_water_sent_into_another_block_is_noted_as_not_carried():
+    text = (LTS % ("", "{vapour: gas, liquid: condensate, water: free-water}")
+            + "  drain:   {kind: throttle, from: free-water, to: drained, P_out: 5 barg}\n")
+    res = Sheet(loads(text, source="drain.yaml")).solve()
+    assert res.streams["free-water"].freezing["water_flow_mol_s"] > 0.0
+    assert any(w["where"] == "drain" and "free water of stream 'free-water' is not carried" in
+               w["what"] for w in res.warnings)

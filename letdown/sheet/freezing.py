@@ -1,10 +1,10 @@
 """Freezing and hydrate margins of every stream: the water the gas carries, its water dew point,
 its hydrate formation temperature, and how far each stream is from them.
 
-The hydrocarbon flash stays **water-free** (there is no three-phase flash here). The water is carried
-beside it, per stream, as the mole ratio ``r`` of water to dry gas [mol/mol]; reports show it as mg
-per standard cubic metre of dry gas (15 degC, 101.325 kPa) and as the mole fraction of the wet gas,
-``y = r / (1 + r)``.
+The hydrocarbon flash stays **water-free**. The water is carried beside it, per stream, as the mole
+ratio ``r`` of water to dry gas [mol/mol]; reports show it as mg per standard cubic metre of dry
+gas (15 degC, 101.325 kPa), as the mole fraction of the wet gas, ``y = r / (1 + r)``, and as the
+water flow ``r F`` [mol/s, kg/s] (F the dry flow).
 
 Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`):
 
@@ -21,10 +21,37 @@ Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`
 
 How it moves: each block passes to its outlets the flow-weighted mean ratio of its inlets (a mixer
 blends, a splitter, heater, cooler, throttle, compressor or expander keeps it; an exchanger keeps
-each side's own). **No water leaves as a liquid**: a separator sends the inlet ratio with every
-outlet and its ``water`` outlet stays empty, and a stream below its water dew point keeps its water
-in the count (it is the free water that can freeze or form hydrate). Loops are iterated to a fixed
-point (:data:`LOOP_TOLERANCE`).
+each side's own), and a stream below its water dew point keeps its water in the count (it is the
+free water that can freeze or form hydrate). Loops are iterated to a fixed point
+(:data:`LOOP_TOLERANCE`).
+
+**A separator takes the free water out** (:func:`_separate`, :func:`water_flows`). At the drum's T
+and P (its vapour outlet's):
+
+* the vapour can hold ``r_V = y / (1 - y)`` per mole of dry vapour, ``y`` the water content of the
+  gas saturated with liquid water by ``gas.water_method`` -- the **same route** (and the file's gas
+  composition) as the water dew point below, so a vapour that leaves saturated has its water dew
+  point at the drum temperature (to the dew point's bisection tolerance). The three-phase flash
+  would give the cubic equation's own water content instead, which is not what the dew point
+  (Bukacek by default) is measured against, so the vapour would leave off its own dew point;
+* the hydrocarbon liquid can hold ``r_L`` from the fugacity balance of its water with pure liquid
+  water on the cubic equation (:func:`letdown.fluid.threephase.water_in_liquid`). With the constant
+  water kij this is 1e-7 to 3e-6 mol/mol at 250-300 K, far below measured solubilities: the free
+  water is overstated by the difference (the safe side for freezing);
+* with inlet water ``W = r_in F_in`` and capacity ``C = F_V r_V + F_L r_L``: if ``W >= C`` both
+  phases leave saturated and ``W - C`` leaves as free water by the ``water`` outlet; otherwise both
+  hold the same fraction ``W / C`` of their saturated contents (the water fugacity is common to
+  both and, this dilute, proportional to each content) and the ``water`` outlet gets nothing. The
+  balance ``W = vapour + liquid + free`` closes to rounding.
+
+The ``water`` outlet holds no gas (zero flow in the hydrocarbon flash): its water is kept as free
+water [mol/s] (:class:`WaterCarry`), and its water per dry gas is shown as NaN. A separator
+without a ``water`` port sends the free water with its liquid. Free water flowing from a
+``water`` outlet into any block but a separator is not carried on (a note says so). Hydrocarbons
+dissolved in the free water are not counted: the water-free flash does not see the water.
+
+With **water as a component** (listed in ``gas.composition``) the separator is a three-phase drum
+(:mod:`letdown.equipment.separator`) and each stream's water is its own water fraction.
 
 **Inhibitor** (``inject`` blocks, :mod:`letdown.equipment.inject`): carried the same way, per
 stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ratios`), never in the
@@ -307,6 +334,8 @@ def saturation_ratios(fluid, method: str, T, P, xs) -> tuple[np.ndarray, np.ndar
         Water per dry vapour and per dry liquid at saturation [mol/mol].
     """
     from ..fluid.threephase import water_in_liquid
+    T = np.asarray(T, dtype=float)
+    P = np.asarray(P, dtype=float)
     y = np.asarray(water_content(fluid, T, P, method=method), dtype=float).reshape(-1)
     x = water_in_liquid(fluid, T, P, xs)
     return y / (1.0 - y), x / (1.0 - x)
@@ -328,8 +357,15 @@ def _separate(fs, fluid, block, streams, carry, cache, n):
     FL = np.asarray(streams[liq].flow, float)
     if block not in cache:
         V, L = streams[vap], streams[liq]
-        cache[block] = saturation_ratios(fluid, fs.gas.water_method, np.asarray(V.T, float),
-                                         np.asarray(V.P, float), np.asarray(L.zs, float))
+        T, P = np.asarray(V.T, float), np.asarray(V.P, float)
+        y = np.asarray(water_content(fluid, T, P, method=fs.gas.water_method),
+                       dtype=float).reshape(-1)
+        rL = np.zeros(n)
+        has_L = FL > 0.0       # the liquid's capacity only where there is liquid
+        if has_L.any():
+            rL[has_L] = saturation_ratios(fluid, fs.gas.water_method, T[has_L], P[has_L],
+                                          np.asarray(L.zs, float)[has_L])[1]
+        cache[block] = (y / (1.0 - y), rL)
     rV_sat, rL_sat = cache[block]
     capacity = FV * rV_sat + FL * rL_sat
     wetter = W_in >= capacity
