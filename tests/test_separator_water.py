@@ -343,3 +343,28 @@ def test_free_water_sent_into_another_block_is_noted_as_not_carried():
     assert res.streams["free-water"].freezing["water_flow_mol_s"] > 0.0
     assert any(w["where"] == "drain" and "free water of stream 'free-water' is not carried" in
                w["what"] for w in res.warnings)
+
+
+def test_three_phase_drum_sends_single_phases_by_their_names():
+    from letdown.equipment import flash_stream, separator
+    water = letdown.Fluid({"water": 1.0, "methane": 0.0})
+    # steam at 400 K and 1 bar, liquid water at 300 K and 1 bar (saturation 373 K, IAPWS-95)
+    inlet = flash_stream(water, np.array([1.0, 1.0]), np.array([[1.0, 0.0]] * 2),
+                         T=np.array([400.0, 300.0]), P=np.array([1e5, 1e5]))
+    out = separator.run(water, "drum", {"in": inlet}, {})
+    np.testing.assert_array_equal(out.outlets["vapour"].flow, [1.0, 0.0])
+    np.testing.assert_array_equal(out.outlets["water"].flow, [0.0, 1.0])
+    np.testing.assert_array_equal(out.outlets["liquid"].flow, [0.0, 0.0])
+    np.testing.assert_allclose(out.outlets["vapour"].T, inlet.T, atol=1e-6)
+    assert np.all(out.energy_closure < 1e-8) and np.all(out.mole_closure < 1e-12)
+    # gas with a little water: warm, one vapour phase; cold, vapour and free water
+    gas = letdown.Fluid({"methane": 0.95, "ethane": 0.0495, "water": 0.0005})
+    inlet = flash_stream(gas, np.array([10.0, 10.0]), np.tile(gas.zs, (2, 1)),
+                         T=np.array([320.0, 270.0]), P=np.array([50e5, 50e5]))
+    out = separator.run(gas, "drum", {"in": inlet}, {})
+    assert out.outlets["vapour"].flow[0] == pytest.approx(10.0, rel=1e-14)
+    assert out.outlets["water"].flow[0] == 0.0
+    res = gas.flash3(out.outlets["vapour"].T[1:], 50e5)
+    assert out.outlets["water"].flow[1] == pytest.approx(10.0 * res.beta_W[0], rel=1e-9)
+    assert out.outlets["water"].flow[1] > 0.0
+    assert np.all(out.energy_closure < 1e-8) and np.all(out.mole_closure < 1e-12)

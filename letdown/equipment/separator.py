@@ -27,7 +27,9 @@ so that the mole balance closes to rounding. Without a ``water`` port the aqueou
 the hydrocarbon liquid (one stream of two liquid phases: moles, enthalpy, entropy and volume
 added). Limits: the aqueous phase is the cubic equation's (hydrocarbons dissolved in it are an
 order-of-magnitude figure, see :mod:`letdown.fluid.threephase`); a single liquid phase with water
-as its largest component leaves by ``water``. GERG-2008 has no three-phase flash: with it the
+as its largest component leaves by ``water`` (a vapour-like one, steam, by ``vapour``); a case
+whose drum temperature cannot be bracketed or met is marked unconverged (no fallback to the
+two-phase split). GERG-2008 has no three-phase flash: with it the
 two-phase path is used.
 """
 from __future__ import annotations
@@ -35,6 +37,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..fluid.components import R
+from ..fluid.flash import is_vapour_like
 from ..fluid.threephase import PHASES, flash_PT_3, phase_properties
 from .common import TINY_FLOW, finish, outlet_pressure
 from .rootfind import bracketed_root
@@ -181,6 +184,16 @@ def _three_phase(fluid, inlet, P_out, states, water_port: bool):
     betas = {name: np.asarray(getattr(res, b), dtype=float) for name, b, _ in PHASES}
     comps = {name: np.where((betas[name] > 0.0)[:, None], getattr(res, x), zs)
              for name, _, x in PHASES}
+    # the flash names a lone phase that is mostly water aqueous; if it is vapour-like (steam) it
+    # leaves by the vapour outlet
+    alone = betas["aqueous"] >= 1.0
+    if alone.any():
+        steam = np.zeros_like(alone)
+        steam[alone] = is_vapour_like(fluid.engine.eos, T[alone], P_out[alone],
+                                      comps["aqueous"][alone])
+        betas["vapour"] = np.where(steam, 1.0, betas["vapour"])
+        betas["aqueous"] = np.where(steam, 0.0, betas["aqueous"])
+        comps["vapour"] = np.where(steam[:, None], comps["aqueous"], comps["vapour"])
     flows = {name: F[:, None] * betas[name][:, None] * comps[name] for name in ("vapour", "liquid")}
     # the aqueous component flows by difference: the mole balance closes to rounding
     rest = F[:, None] * zs - flows["vapour"] - flows["liquid"]
