@@ -29,8 +29,11 @@ added). Limits: the aqueous phase is the cubic equation's (hydrocarbons dissolve
 order-of-magnitude figure, see :mod:`letdown.fluid.threephase`); a single liquid phase with water
 as its largest component leaves by ``water`` (a vapour-like one, steam, by ``vapour``); a case
 whose drum temperature cannot be bracketed or met is marked unconverged (no fallback to the
-two-phase split). GERG-2008 has no three-phase flash: with it the
-two-phase path is used.
+two-phase split). GERG-2008 has no three-phase flash: with it the two-phase path is used. The
+blocks upstream flash in two phases and can miss the hydrocarbon liquid beside free water, so the
+drum may be several kelvin warmer than the stream that feeds it at the same enthalpy: the outcome
+reports ``dT_vs_two_phase_K`` (drum T minus the two-phase P-h temperature) and flags
+``three_phase_T_shift`` beyond :data:`T_SHIFT_FLAG` (a warning in the flowsheet result).
 """
 from __future__ import annotations
 

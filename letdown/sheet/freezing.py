@@ -308,7 +308,8 @@ class WaterCarry:
         return self.ratios[name] * F + self.free.get(name, np.zeros(stream.n_cases))
 
 
-def saturation_ratios(fluid, method: str, T, P, xs) -> tuple[np.ndarray, np.ndarray]:
+def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None
+                      ) -> tuple[np.ndarray, np.ndarray]:
     """Water a separator's vapour and hydrocarbon liquid can hold at (T, P), per mole of dry
     phase [mol/mol].
 
@@ -327,6 +328,8 @@ def saturation_ratios(fluid, method: str, T, P, xs) -> tuple[np.ndarray, np.ndar
         Separator temperature [K] and pressure [Pa].
     xs : ndarray (n, nc)
         Hydrocarbon liquid composition [-].
+    has_liquid : ndarray of bool (n,), optional
+        Cases with a hydrocarbon liquid (default all); the others get ``r_liquid = 0``.
 
     Returns
     -------
@@ -337,35 +340,32 @@ def saturation_ratios(fluid, method: str, T, P, xs) -> tuple[np.ndarray, np.ndar
     T = np.asarray(T, dtype=float)
     P = np.asarray(P, dtype=float)
     y = np.asarray(water_content(fluid, T, P, method=method), dtype=float).reshape(-1)
-    x = water_in_liquid(fluid, T, P, xs)
-    return y / (1.0 - y), x / (1.0 - x)
+    has = np.ones(T.shape, bool) if has_liquid is None else np.asarray(has_liquid, bool)
+    r_liquid = np.zeros(T.shape)
+    if has.any():
+        x = water_in_liquid(fluid, T[has], P[has], np.asarray(xs, float)[has])
+        r_liquid[has] = x / (1.0 - x)
+    return y / (1.0 - y), r_liquid
 
 
-def _separate(fs, fluid, block, streams, carry, cache, n):
+def _separate(fs, fluid, block, streams, r, free, split, cache, n):
     """Split a separator's inlet water: the vapour and the hydrocarbon liquid leave with at most
     their saturated contents at the drum's T and P, in the same proportion below saturation; the
-    rest leaves as free water by the ``water`` port (by the ``liquid`` port if there is none)."""
+    rest leaves as free water by the ``water`` port (by the ``liquid`` port if there is none).
+    Fills ``r`` (ratios), ``free`` (free water [mol/s]) and ``split`` (the block's figures)."""
     spec = fs.blocks[block]
     inlet = spec.inlets["in"]
     vap, liq = spec.outlets["vapour"], spec.outlets["liquid"]
     wat = spec.outlets.get("water")
-    r = carry.ratios
     F = np.asarray(streams[inlet].flow, float)
     r_in = np.asarray(r.get(inlet, np.zeros(n)), float)
-    W_in = r_in * F + carry.free.get(inlet, np.zeros(n))
+    W_in = r_in * F + free.get(inlet, np.zeros(n))
     FV = np.asarray(streams[vap].flow, float)
     FL = np.asarray(streams[liq].flow, float)
-    if block not in cache:
-        V, L = streams[vap], streams[liq]
-        T, P = np.asarray(V.T, float), np.asarray(V.P, float)
-        y = np.asarray(water_content(fluid, T, P, method=fs.gas.water_method),
-                       dtype=float).reshape(-1)
-        rL = np.zeros(n)
-        has_L = FL > 0.0       # the liquid's capacity only where there is liquid
-        if has_L.any():
-            rL[has_L] = saturation_ratios(fluid, fs.gas.water_method, T[has_L], P[has_L],
-                                          np.asarray(L.zs, float)[has_L])[1]
-        cache[block] = (y / (1.0 - y), rL)
+    if block not in cache:      # the streams are solved: the capacities are fixed over passes
+        V = streams[vap]
+        cache[block] = saturation_ratios(fluid, fs.gas.water_method, V.T, V.P, streams[liq].zs,
+                                         has_liquid=FL > 0.0)
     rV_sat, rL_sat = cache[block]
     capacity = FV * rV_sat + FL * rL_sat
     wetter = W_in >= capacity
@@ -374,19 +374,19 @@ def _separate(fs, fluid, block, streams, carry, cache, n):
     s = np.where(wetter, 1.0, W_in / np.where(capacity > 0.0, capacity, 1.0))
     in_vapour = s * FV * rV_sat
     in_liquid = s * FL * rL_sat
-    free = np.where(wetter, W_in - capacity, 0.0)
+    excess = np.where(wetter, W_in - capacity, 0.0)
     r[vap] = np.where(FV > 0.0, s * rV_sat, r_in)
     if wat is None:
         # a two-phase drum: the free water leaves with the hydrocarbon liquid
         has_L = FL > 0.0
-        r[liq] = np.where(has_L, (in_liquid + free) / np.where(has_L, FL, 1.0), r_in)
-        carry.free[liq] = np.where(has_L, 0.0, free)
+        r[liq] = np.where(has_L, (in_liquid + excess) / np.where(has_L, FL, 1.0), r_in)
+        free[liq] = np.where(has_L, 0.0, excess)
     else:
         r[liq] = np.where(FL > 0.0, s * rL_sat, r_in)
         r[wat] = np.zeros(n)
-        carry.free[wat] = free
-    carry.separators[block] = {"water_in_mol_s": W_in, "water_in_vapour_mol_s": in_vapour,
-                               "water_in_liquid_mol_s": in_liquid, "free_water_mol_s": free}
+        free[wat] = excess
+    split[block] = {"water_in_mol_s": W_in, "water_in_vapour_mol_s": in_vapour,
+                    "water_in_liquid_mol_s": in_liquid, "free_water_mol_s": excess}
 
 
 def water_flows(fs, fluid, streams, steps) -> WaterCarry:
@@ -412,13 +412,14 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
         return WaterCarry({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
                            for name, s in streams.items()}, {}, {}, [], iw)
     r, notes = _feed_ratios(fs, fluid, streams)
-    carry = WaterCarry(r, {}, {}, notes)
+    free: dict = {}
+    split: dict = {}
     cache: dict = {}
 
     def through(block):
         spec = fs.blocks[block]
         if spec.kind == "separator":
-            _separate(fs, fluid, block, streams, carry, cache, n)
+            _separate(fs, fluid, block, streams, r, free, split, cache, n)
         else:
             _mix(fs, block, streams, r, n)
 
@@ -426,15 +427,14 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
     for block, spec in fs.blocks.items():
         if spec.kind == "separator":
             continue
-        lost = [s for s in spec.inlets.values()
-                if s in carry.free and np.any(carry.free[s] > 0.0)]
+        lost = [s for s in spec.inlets.values() if s in free and np.any(free[s] > 0.0)]
         for s in lost:
             notes.append(WarningRecord(block, f"the free water of stream '{s}' is not carried "
                                               "through this block (only separators split water; "
                                               "send a water outlet to a product)"))
     for name in streams:
         r.setdefault(name, np.zeros(n))
-    return carry
+    return WaterCarry(r, free, split, notes)
 
 
 def inhibitor_ratios(fs, streams, steps, water, params=None) -> tuple[dict, dict, list]:
