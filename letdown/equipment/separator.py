@@ -1,21 +1,69 @@
-"""Separator (two-phase drum): the inlet flashed adiabatically, its vapour and liquid sent apart.
+"""Separator: the inlet flashed adiabatically at the outlet pressure, its phases sent apart.
 
 The inlet is flashed at ``P_in - dP`` and its own enthalpy (``dP`` defaults to 0), which also splits a
-pure component at saturation correctly. The vapour outlet carries ``V = beta F`` at the vapour
-composition ``ys`` and the vapour phase's properties; the liquid outlet carries the rest, its
-component flows taken by difference (``F z_i - V y_i``) so that the mole balance closes to rounding.
-An absent phase leaves an empty outlet (zero flow, the inlet's state). The ``water`` port is accepted
-and stays empty until the three-phase flash exists.
+pure component at saturation correctly.
+
+**Two phases** (water not a component of the gas, the usual case): the vapour outlet carries
+``V = beta F`` at the vapour composition ``ys`` and the vapour phase's properties; the liquid outlet
+carries the rest, its component flows taken by difference (``F z_i - V y_i``) so that the mole
+balance closes to rounding. An absent phase leaves an empty outlet (zero flow, the inlet's state).
+The water the gas carries beside this water-free flash is split in the flowsheet's water carry
+(:mod:`letdown.sheet.freezing`): the vapour keeps at most its saturated content at the drum's T and
+P, the hydrocarbon liquid what dissolves in it, and the ``water`` outlet (a stream with no gas:
+zero flow here) gets the rest as free water.
+
+**Three phases** (``water`` is a component of the gas): the drum is adiabatic and three-phase. Its
+temperature T solves
+
+    beta_V h_V(T) + beta_L h_L(T) + beta_W h_W(T) = h_in
+
+at the outlet pressure, the phase fractions and compositions from the three-phase PT flash
+(:func:`letdown.fluid.threephase.flash_PT_3`) and each phase's enthalpy from the cubic equation
+plus the ideal-gas part (:func:`letdown.fluid.threephase.phase_properties`). T is found by the
+bracketed root finder (:func:`letdown.equipment.rootfind.bracketed_root`) in a bracket grown
+around the two-phase P-h flash's temperature. The vapour, hydrocarbon liquid and aqueous phases
+leave by ``vapour``, ``liquid`` and ``water``; the aqueous component flows are taken by difference
+so that the mole balance closes to rounding. Without a ``water`` port the aqueous phase leaves with
+the hydrocarbon liquid (one stream of two liquid phases: moles, enthalpy, entropy and volume
+added). Limits: the aqueous phase is the cubic equation's (hydrocarbons dissolved in it are an
+order-of-magnitude figure, see :mod:`letdown.fluid.threephase`); a single liquid phase with water
+as its largest component leaves by ``water`` (a vapour-like one, steam, by ``vapour``); a case
+whose drum temperature cannot be bracketed or met is marked unconverged (no fallback to the
+two-phase split). GERG-2008 has no three-phase flash: with it the two-phase path is used. The
+blocks upstream flash in two phases and can miss the hydrocarbon liquid beside free water, so the
+drum may be several kelvin warmer than the stream that feeds it at the same enthalpy: the outcome
+reports ``dT_vs_two_phase_K`` (drum T minus the two-phase P-h temperature) and flags
+``three_phase_T_shift`` beyond :data:`T_SHIFT_FLAG` (a warning in the flowsheet result).
 """
 from __future__ import annotations
 
 import numpy as np
 
+from ..fluid.components import R
+from ..fluid.flash import is_vapour_like
+from ..fluid.threephase import PHASES, flash_PT_3, phase_properties
 from .common import TINY_FLOW, finish, outlet_pressure
+from .rootfind import bracketed_root
 from .stream import StreamBatch
 
 #: Phase properties the fluid's batch ``States`` gives per phase (``States.vapour``/``.liquid``).
 PHASE_FIELDS = ("h", "s", "Z", "density", "molar_mass")
+#: Three-phase drum: the enthalpy balance is met to this [J/mol] -- a temperature error of about
+#: 1e-6 K at a heat capacity of 100 J/(mol K), as the P-h flash (``PH_RESIDUAL_K``).
+H_TOL = 1e-4
+#: Half-width of the first temperature bracket around the two-phase P-h temperature [K]; the
+#: third phase shifts the drum temperature by a few kelvin at most for gas with a little water.
+BRACKET_HALF_WIDTH = 2.0
+#: The bracket is widened (doubled) this many times before a case is given up (2 K * 2^8 = 512 K).
+BRACKET_GROWTHS = 8
+#: Lowest and highest temperatures the bracket may reach [K] (the flash's range, common practice).
+T_FLOOR, T_CEILING = 100.0, 700.0
+#: Regula falsi evaluations per case (each a batch three-phase flash); Illinois converges in 10-20.
+MAX_ITERATIONS = 60
+#: The three-phase drum is flagged when its temperature differs from the two-phase P-h flash of
+#: its inlet by more than this [K]: the blocks upstream flash water-bearing gas in two phases and
+#: can miss one (the hydrocarbon liquid beside free water), so their temperatures are off.
+T_SHIFT_FLAG = 0.1
 
 
 def _phase_stream(states, phase: str, flow, zs, present) -> StreamBatch:
@@ -40,7 +88,9 @@ def run(fluid, name: str, inlets, params):
     inlets : Mapping[str, StreamBatch]
         ``{"in": stream}``.
     params : Mapping
-        Optional ``dP`` [Pa].
+        Optional ``dP`` [Pa]; ``water_port`` (bool, default True): whether the ``water`` outlet
+        is connected (the loader says); without it a three-phase drum sends its aqueous phase
+        with the hydrocarbon liquid.
 
     Returns
     -------
@@ -55,6 +105,12 @@ def run(fluid, name: str, inlets, params):
     inlet = inlets["in"]
     P_out = outlet_pressure({"dP": params.get("dP", 0.0)}, inlet, name, required=True)
     states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs)
+    if "water" in fluid.components and fluid.model != "gerg-2008":
+        outlets = _three_phase(fluid, inlet, P_out, states, bool(params.get("water_port", True)))
+        shift = outlets["vapour"].T - np.asarray(states.T, dtype=float)
+        return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
+                      details={"dT_vs_two_phase_K": shift},
+                      flags={"three_phase_T_shift": ~(np.abs(shift) <= T_SHIFT_FLAG)})
     beta = np.asarray(states.vapour_fraction, dtype=float)
     ys = np.asarray(states.ys, dtype=float)
     F = inlet.flow
@@ -73,3 +129,109 @@ def run(fluid, name: str, inlets, params):
     water = _phase_stream(states, "liquid", np.zeros_like(F), inlet.zs, np.zeros_like(has_liquid))
     outlets = {"vapour": vapour, "liquid": liquid, "water": water}
     return finish(inlets, outlets, 0.0, dP=inlet.P - P_out)
+
+
+def _drum_T(fluid, zs, P, h, T_start):
+    """Temperature of the adiabatic three-phase drum: ``h3(T) = h`` per case [K], and whether
+    each case converged (a bracket found and the balance met to :data:`H_TOL`)."""
+    eos, engine = fluid.engine.eos, fluid.engine
+
+    def f(T, idx):
+        res = flash_PT_3(eos, T, P[idx], zs[idx])
+        return phase_properties(engine, T, P[idx], zs[idx], res)["whole"]["h"] - h[idx]
+
+    n = h.shape[0]
+    T0 = np.where(np.isfinite(T_start), T_start, 280.0)
+    lo = np.maximum(T0 - BRACKET_HALF_WIDTH, T_FLOOR)
+    hi = np.minimum(T0 + BRACKET_HALF_WIDTH, T_CEILING)
+    all_idx = np.arange(n)
+    f_lo, f_hi = f(lo, all_idx), f(hi, all_idx)
+    for k in range(BRACKET_GROWTHS):
+        # h3 rises with T: f_lo <= 0 <= f_hi brackets the root
+        low = f_lo > 0.0
+        high = f_hi < 0.0
+        if not (low.any() or high.any()):
+            break
+        width = BRACKET_HALF_WIDTH * 2.0 ** (k + 1)
+        i = np.flatnonzero(low)
+        if i.size:
+            hi[i], f_hi[i] = lo[i], f_lo[i]
+            lo[i] = np.maximum(T0[i] - width, T_FLOOR)
+            f_lo[i] = f(lo[i], i)
+        i = np.flatnonzero(high)
+        if i.size:
+            lo[i], f_lo[i] = hi[i], f_hi[i]
+            hi[i] = np.minimum(T0[i] + width, T_CEILING)
+            f_hi[i] = f(hi[i], i)
+    bracketed = (f_lo <= 0.0) & (f_hi >= 0.0)
+    T = T0.copy()
+    ok = np.zeros(n, dtype=bool)
+    b = np.flatnonzero(bracketed)
+    if b.size:
+        root = bracketed_root(lambda x, idx: f(x, b[idx]), lo[b], hi[b], f_lo[b], f_hi[b],
+                              ftol=H_TOL, max_iterations=MAX_ITERATIONS)
+        T[b] = root.x
+        ok[b] = root.converged
+    return T, ok
+
+
+def _three_phase(fluid, inlet, P_out, states, water_port: bool):
+    """Vapour, hydrocarbon liquid and aqueous outlets of an adiabatic three-phase drum."""
+    zs = np.asarray(inlet.zs, dtype=float)
+    h = np.asarray(inlet.h, dtype=float)
+    F = np.asarray(inlet.flow, dtype=float)
+    T, ok = _drum_T(fluid, zs, P_out, h, np.asarray(states.T, dtype=float))
+    res = flash_PT_3(fluid.engine.eos, T, P_out, zs)
+    ok &= res.report.converged & np.asarray(inlet.converged, dtype=bool)
+    props = phase_properties(fluid.engine, T, P_out, zs, res)
+    betas = {name: np.asarray(getattr(res, b), dtype=float) for name, b, _ in PHASES}
+    comps = {name: np.where((betas[name] > 0.0)[:, None], getattr(res, x), zs)
+             for name, _, x in PHASES}
+    # the flash names a lone phase that is mostly water aqueous; if it is vapour-like (steam) it
+    # leaves by the vapour outlet
+    alone = betas["aqueous"] >= 1.0
+    if alone.any():
+        steam = np.zeros_like(alone)
+        steam[alone] = is_vapour_like(fluid.engine.eos, T[alone], P_out[alone],
+                                      comps["aqueous"][alone])
+        betas["vapour"] = np.where(steam, 1.0, betas["vapour"])
+        betas["aqueous"] = np.where(steam, 0.0, betas["aqueous"])
+        comps["vapour"] = np.where(steam[:, None], comps["aqueous"], comps["vapour"])
+    flows = {name: F[:, None] * betas[name][:, None] * comps[name] for name in ("vapour", "liquid")}
+    # the aqueous component flows by difference: the mole balance closes to rounding
+    rest = F[:, None] * zs - flows["vapour"] - flows["liquid"]
+    flows["aqueous"] = np.where((betas["aqueous"] > 0.0)[:, None], np.maximum(rest, 0.0), 0.0)
+    moles = {name: betas[name] * F for name in betas}
+    if not water_port:
+        # the aqueous phase leaves with the hydrocarbon liquid: moles, h, s and volume add
+        L, W = moles["liquid"], moles["aqueous"]
+        both = L + W
+        pl, pw = props["liquid"], props["aqueous"]
+        has = both > 0.0
+        wl = np.where(has, L / np.where(has, both, 1.0), 1.0)
+        mixed = {k: wl * pl[k] + (1.0 - wl) * pw[k] for k in ("h", "s", "v", "molar_mass")}
+        mixed["Z"] = P_out * mixed["v"] / (R * T)
+        mixed["density"] = mixed["molar_mass"] / mixed["v"]
+        props = {**props, "liquid": mixed}
+        flows = {"vapour": flows["vapour"], "liquid": flows["liquid"] + flows["aqueous"],
+                 "aqueous": np.zeros_like(zs)}
+        betas = {**betas, "liquid": betas["liquid"] + betas["aqueous"],
+                 "aqueous": np.zeros_like(F)}
+    whole = props["whole"]
+    out = {}
+    for port, name in (("vapour", "vapour"), ("liquid", "liquid"), ("water", "aqueous")):
+        present = betas[name] > 0.0
+        flow = np.where(present, flows[name].sum(axis=1), 0.0)
+        xs = np.where(present[:, None], flows[name] / np.maximum(flow, TINY_FLOW)[:, None], zs)
+        p = props[name]
+        # an absent phase: an empty stream of the drum's overall state
+        values = {"h": np.where(present, p["h"], whole["h"]),
+                  "s": np.where(present, p["s"], whole["s"]),
+                  "Z": np.where(present, p["Z"], P_out * whole["v"] / (R * T)),
+                  "molar_mass": np.where(present, p["molar_mass"], zs @ fluid.molar_masses)}
+        values["density"] = np.where(present, p["density"],
+                                     values["molar_mass"] / whole["v"])
+        vapour_fraction = np.where(present, 1.0 if name == "vapour" else 0.0, res.beta_V)
+        out[port] = StreamBatch(flow=flow, T=T, P=P_out, zs=xs, ys=xs, xs=xs,
+                                vapour_fraction=vapour_fraction, converged=ok, **values)
+    return out

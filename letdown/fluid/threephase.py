@@ -318,3 +318,139 @@ def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
             out_x[i, s] = X[i, k]
     return ThreePhaseResult(out_b[:, 0], out_b[:, 1], out_b[:, 2], out_x[:, 0], out_x[:, 1],
                             out_x[:, 2], nph, report)
+
+
+# ------------------------------------------------------------------------------------------------
+#: Successive substitution on x_w for the water dissolved in a hydrocarbon liquid: ln phi_w of the
+#: liquid depends weakly on x_w at these small contents, so a few steps reach the tolerance; 50 is
+#: far beyond need (as :data:`letdown.fluid.water.EOS_MAX_ITER`).
+SOLUBILITY_TOL = 1e-12
+SOLUBILITY_MAX_ITER = 50
+
+
+def water_in_liquid(fluid, T, P, xs):
+    """Water dissolved in a hydrocarbon liquid saturated with pure liquid water, mole fraction [-].
+
+    The liquid-phase twin of the EOS water-content route of :mod:`letdown.fluid.water`: the
+    fugacity of water in the hydrocarbon liquid equals that of pure liquid water,
+
+        x_w phi_w^L(T, P, x) P = p_v phi_sat exp(v_L (P - p_v) / (R T)),
+
+    phi_w^L from the fluid's cubic equation (liquid root, with its water interaction parameters),
+    p_v, phi_sat and v_L as in :func:`letdown.fluid.water.water_content_eos`; solved by successive
+    substitution on x_w. Gas dissolved in the water is ignored (x_w of the aqueous phase = 1). With
+    the constant water-hydrocarbon kij of data/kij_pr.csv this is an order-of-magnitude figure
+    (module docstring).
+
+    Parameters
+    ----------
+    fluid : Fluid
+        The gas (water is added as a component if absent; GERG-2008 fluids use Peng-Robinson).
+    T, P : ndarray (n,)
+        [K], [Pa].
+    xs : ndarray (n, nc)
+        Composition of the hydrocarbon liquid in the component order of ``fluid`` [-]; any water
+        in it is replaced.
+
+    Returns
+    -------
+    ndarray (n,)
+        Mole fraction of water in the water-saturated liquid [-].
+
+    Raises
+    ------
+    ConvergenceError
+        The substitution did not settle (the report is attached).
+    """
+    from ..errors import ConvergenceError
+    from .water import V_LIQUID, _fluid_with_water, water_vapour_pressure
+    f = _fluid_with_water(fluid)
+    if f.model == "gerg-2008":
+        f = f.with_model("peng-robinson")
+    names = list(f.components)
+    iw = names.index("water")
+    T = np.atleast_1d(np.asarray(T, dtype=float))
+    P = np.atleast_1d(np.asarray(P, dtype=float))
+    xs = np.atleast_2d(np.asarray(xs, dtype=float))
+    n = max(T.shape[0], P.shape[0], xs.shape[0])
+    T = np.broadcast_to(T, (n,)).copy()
+    P = np.broadcast_to(P, (n,)).copy()
+    dry = np.zeros((n, len(names)))
+    for j, nm in enumerate(fluid.components):
+        dry[:, names.index(nm)] = np.broadcast_to(xs[:, j], (n,))
+    dry[:, iw] = 0.0
+    dry /= dry.sum(axis=1, keepdims=True)
+    eos = f.engine.eos
+    pv = water_vapour_pressure(T)
+    pure = np.zeros((n, len(names)))
+    pure[:, iw] = 1.0
+    lnphi_sat, _ = eos.lnphi(T, pv, pure, "vapour")
+    f_water = pv * np.exp(lnphi_sat[:, iw]) * np.exp(V_LIQUID * (P - pv) / (R * T))
+    x = np.zeros(n)
+    conv = np.zeros(n, dtype=bool)
+    it = np.zeros(n, dtype=int)
+    step = np.full(n, np.inf)
+    for _ in range(SOLUBILITY_MAX_ITER):
+        x_all = dry * (1.0 - x)[:, None]
+        x_all[:, iw] = x
+        lnphi, _ = eos.lnphi(T, P, x_all, "liquid")
+        x_new = f_water / (np.exp(lnphi[:, iw]) * P)
+        step = np.abs(x_new - x) / x_new
+        it += ~conv
+        x = np.where(conv, x, x_new)
+        conv |= step < SOLUBILITY_TOL
+        if conv.all():
+            break
+    if not conv.all():
+        raise ConvergenceError("water dissolved in the hydrocarbon liquid did not converge",
+                               result=SolveReport(conv, it, step, "water in liquid, substitution"))
+    return x
+
+
+# ------------------------------------------------------------------------------------------------
+#: The phases of a :class:`ThreePhaseResult`, in its order, with their fraction and composition
+#: attributes.
+PHASES = (("vapour", "beta_V", "y"), ("liquid", "beta_L", "x"), ("aqueous", "beta_W", "w"))
+
+
+def phase_properties(engine, T, P, zs, res: ThreePhaseResult) -> dict:
+    """Properties of each phase of a three-phase PT flash, and of the whole.
+
+    Each phase's properties are the engine's single-phase ones at its composition (stable root):
+    h = sum_i x_i h0_i(T) + h_res (ideal-gas part plus the cubic's residual part, as
+    :class:`letdown.fluid.cubic_fluid.CubicEngine` builds every state); the whole is the sum over
+    the phases present weighted by their fractions (h, s, molar volume v).
+
+    Parameters
+    ----------
+    engine : letdown.fluid.cubic_fluid.CubicEngine
+    T, P : ndarray (n,)
+        [K], [Pa].
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+    res : ThreePhaseResult
+        The flash of (T, P, zs).
+
+    Returns
+    -------
+    dict
+        ``"vapour"``, ``"liquid"``, ``"aqueous"``: dicts of ndarrays (n,) ``h`` [J/mol], ``s``
+        [J/(mol K)], ``Z`` [-], ``density`` [kg/m3], ``molar_mass`` [kg/mol], ``v`` [m3/mol]
+        (those of the feed where the phase is absent), plus ``"whole"``: ``h``, ``s``, ``v``.
+    """
+    T = np.asarray(T, dtype=float)
+    P = np.asarray(P, dtype=float)
+    zs = np.asarray(zs, dtype=float)
+    out = {}
+    whole = {k: np.zeros(T.shape[0]) for k in ("h", "s", "v")}
+    for name, beta_attr, x_attr in PHASES:
+        beta = getattr(res, beta_attr)
+        present = beta > 0.0
+        xs = np.where(present[:, None], getattr(res, x_attr), zs)
+        props = engine._phase(T, P, xs, 0)
+        out[name] = {k: np.asarray(props[k], dtype=float)
+                     for k in ("h", "s", "Z", "density", "molar_mass", "v")}
+        for k in whole:
+            whole[k] = whole[k] + np.where(present, beta * out[name][k], 0.0)
+    out["whole"] = whole
+    return out

@@ -24,7 +24,7 @@ from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
 #: Fixed decimals of the stream table's rows in the terminal (an engineer's stream table: 0.01 K,
 #: 0.01 bar, whole kg/h and Sm3/h); CSV keeps full precision.
 STREAM_DECIMALS = {"Temperature": 2, "Pressure": 2, "Vapour fraction": 4, "Molar flow": 1,
-                   "Mass flow": 0, "Standard gas flow": 0, "Density": 3, "Z": 5, "Molar mass": 3,
+                   "Mass flow": 0, "Water carried": 2, "Standard gas flow": 0, "Density": 3, "Z": 5, "Molar mass": 3,
                    "Enthalpy": 1, "Entropy": 3, "Gross calorific value": 3, "Wobbe index": 3}
 
 #: Width the terminal layout aims for [characters]; wider tables are split into column groups.
@@ -131,6 +131,15 @@ def stream_table(result, units: str = "si", *, case: int = 0, atmosphere: float 
         row("Vapour fraction", "vapour_fraction"),
         row("Molar flow", "flow", "flow"),
         row("Mass flow", "mass_flow", "mass_flow"),
+    ]
+    # the water carried beside the (water-free) gas, where the freezing figures were computed; a
+    # separator's water outlet shows its free water here
+    water = [(_get(streams[n], "freezing", None) or {}).get("water_flow_kg_s") for n in names]
+    if any(w is not None for w in water):
+        rows.append((f"Water carried [{u['mass_flow'].label}]",
+                     *(None if w is None or pick(w, case) is None else u["mass_flow"](pick(w, case))
+                       for w in water)))
+    rows += [
         row("Standard gas flow", "flow", "std_flow", from_flow=True),
         row("Density", "density", "density"),
         row("Z", "Z"),

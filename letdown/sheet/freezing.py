@@ -1,10 +1,10 @@
 """Freezing and hydrate margins of every stream: the water the gas carries, its water dew point,
 its hydrate formation temperature, and how far each stream is from them.
 
-The hydrocarbon flash stays **water-free** (there is no three-phase flash here). The water is carried
-beside it, per stream, as the mole ratio ``r`` of water to dry gas [mol/mol]; reports show it as mg
-per standard cubic metre of dry gas (15 degC, 101.325 kPa) and as the mole fraction of the wet gas,
-``y = r / (1 + r)``.
+The hydrocarbon flash stays **water-free**. The water is carried beside it, per stream, as the mole
+ratio ``r`` of water to dry gas [mol/mol]; reports show it as mg per standard cubic metre of dry
+gas (15 degC, 101.325 kPa), as the mole fraction of the wet gas, ``y = r / (1 + r)``, and as the
+water flow ``r F`` [mol/s, kg/s] (F the dry flow).
 
 Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`):
 
@@ -21,10 +21,37 @@ Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`
 
 How it moves: each block passes to its outlets the flow-weighted mean ratio of its inlets (a mixer
 blends, a splitter, heater, cooler, throttle, compressor or expander keeps it; an exchanger keeps
-each side's own). **No water leaves as a liquid**: a separator sends the inlet ratio with every
-outlet and its ``water`` outlet stays empty, and a stream below its water dew point keeps its water
-in the count (it is the free water that can freeze or form hydrate). Loops are iterated to a fixed
-point (:data:`LOOP_TOLERANCE`).
+each side's own), and a stream below its water dew point keeps its water in the count (it is the
+free water that can freeze or form hydrate). Loops are iterated to a fixed point
+(:data:`LOOP_TOLERANCE`).
+
+**A separator takes the free water out** (:func:`_separate`, :func:`water_flows`). At the drum's T
+and P (its vapour outlet's):
+
+* the vapour can hold ``r_V = y / (1 - y)`` per mole of dry vapour, ``y`` the water content of the
+  gas saturated with liquid water by ``gas.water_method`` -- the **same route** (and the file's gas
+  composition) as the water dew point below, so a vapour that leaves saturated has its water dew
+  point at the drum temperature (to the dew point's bisection tolerance). The three-phase flash
+  would give the cubic equation's own water content instead, which is not what the dew point
+  (Bukacek by default) is measured against, so the vapour would leave off its own dew point;
+* the hydrocarbon liquid can hold ``r_L`` from the fugacity balance of its water with pure liquid
+  water on the cubic equation (:func:`letdown.fluid.threephase.water_in_liquid`). With the constant
+  water kij this is 1e-7 to 3e-6 mol/mol at 250-300 K, far below measured solubilities: the free
+  water is overstated by the difference (the safe side for freezing);
+* with inlet water ``W = r_in F_in`` and capacity ``C = F_V r_V + F_L r_L``: if ``W >= C`` both
+  phases leave saturated and ``W - C`` leaves as free water by the ``water`` outlet; otherwise both
+  hold the same fraction ``W / C`` of their saturated contents (the water fugacity is common to
+  both and, this dilute, proportional to each content) and the ``water`` outlet gets nothing. The
+  balance ``W = vapour + liquid + free`` closes to rounding.
+
+The ``water`` outlet holds no gas (zero flow in the hydrocarbon flash): its water is kept as free
+water [mol/s] (:class:`WaterCarry`), and its water per dry gas is shown as NaN. A separator
+without a ``water`` port sends the free water with its liquid. Free water flowing from a
+``water`` outlet into any block but a separator is not carried on (a note says so). Hydrocarbons
+dissolved in the free water are not counted: the water-free flash does not see the water.
+
+With **water as a component** (listed in ``gas.composition``) the separator is a three-phase drum
+(:mod:`letdown.equipment.separator`) and each stream's water is its own water fraction.
 
 **Inhibitor** (``inject`` blocks, :mod:`letdown.equipment.inject`): carried the same way, per
 stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ratios`), never in the
@@ -115,6 +142,9 @@ class StreamFreezing:
         Inhibitor in the free water, all the water taken as condensed [wt %].
     water_activity : ndarray (n,) or None
         Water activity used for ``hydrate_T`` (x_w of the water-inhibitor phase) [-].
+    water_flow : ndarray (n,) or None
+        All the water the stream carries [mol/s]: ``water_ratio`` times the dry flow, or the free
+        water of a separator's ``water`` outlet (whose ``water_ratio`` is NaN: it holds no gas).
     """
 
     water_ratio: np.ndarray
@@ -124,6 +154,7 @@ class StreamFreezing:
     inhibitor_ratio: np.ndarray | None = None
     inhibitor_wt_pct: np.ndarray | None = None
     water_activity: np.ndarray | None = None
+    water_flow: np.ndarray | None = None
 
     @property
     def water_mole_fraction(self) -> np.ndarray:
@@ -234,17 +265,178 @@ def water_ratios(fs, fluid, streams, steps) -> tuple[dict, list]:
         The solved streams.
     steps : sequence
         :func:`letdown.sheet.graph.solve_order` steps.
+
+    Returns
+    -------
+    ratios : dict
+        Stream name -> ndarray (n,) [mol/mol] (0 for a separator's ``water`` outlet, which holds
+        no gas: its water is in :func:`water_flows`).
+    notes : list of WarningRecord
+    """
+    carried = water_flows(fs, fluid, streams, steps)
+    return carried.ratios, carried.notes
+
+
+@dataclass(frozen=True, eq=False)
+class WaterCarry:
+    """The water of every stream and what each separator did with it.
+
+    Attributes
+    ----------
+    ratios : dict
+        Stream name -> water per dry gas, ndarray (n,) [mol/mol].
+    free : dict
+        Stream name -> free water with no gas to carry it, ndarray (n,) [mol/s]: a separator's
+        ``water`` outlet (or its ``liquid`` outlet when it has no ``water`` port and no
+        hydrocarbon liquid); absent for every other stream.
+    separators : dict
+        Separator name -> {``water_in_mol_s``, ``water_in_vapour_mol_s``,
+        ``water_in_liquid_mol_s``, ``free_water_mol_s``} over the cases [mol/s].
+    notes : list of WarningRecord
+    """
+
+    ratios: dict
+    free: dict
+    separators: dict
+    notes: list
+    water_index: int | None = None
+
+    def flow(self, name: str, stream) -> np.ndarray:
+        """All the water stream ``name`` carries [mol/s]: ratio times dry flow plus free water,
+        or, with water as a component (``water_index``), its water fraction times its flow."""
+        F = np.asarray(stream.flow, float)
+        if self.water_index is not None:
+            return np.asarray(stream.zs, float)[:, self.water_index] * F
+        return self.ratios[name] * F + self.free.get(name, np.zeros(stream.n_cases))
+
+
+def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None
+                      ) -> tuple[np.ndarray, np.ndarray]:
+    """Water a separator's vapour and hydrocarbon liquid can hold at (T, P), per mole of dry
+    phase [mol/mol].
+
+    The vapour by ``gas.water_method`` (:func:`letdown.fluid.water.water_content`, the file's
+    gas composition), the **same route as the water dew point** (:func:`_dew_points`), so that a
+    vapour leaving saturated has its water dew point at the separator's temperature; the liquid by
+    the fugacity balance with pure liquid water on the fluid's cubic equation
+    (:func:`letdown.fluid.threephase.water_in_liquid`).
+
+    Parameters
+    ----------
+    fluid : Fluid
+    method : str
+        ``bukacek`` or ``eos``.
+    T, P : ndarray (n,)
+        Separator temperature [K] and pressure [Pa].
+    xs : ndarray (n, nc)
+        Hydrocarbon liquid composition [-].
+    has_liquid : ndarray of bool (n,), optional
+        Cases with a hydrocarbon liquid (default all); the others get ``r_liquid = 0``.
+
+    Returns
+    -------
+    r_vapour, r_liquid : ndarray (n,)
+        Water per dry vapour and per dry liquid at saturation [mol/mol].
+    """
+    from ..fluid.threephase import water_in_liquid
+    T = np.asarray(T, dtype=float)
+    P = np.asarray(P, dtype=float)
+    y = np.asarray(water_content(fluid, T, P, method=method), dtype=float).reshape(-1)
+    has = np.ones(T.shape, bool) if has_liquid is None else np.asarray(has_liquid, bool)
+    r_liquid = np.zeros(T.shape)
+    if has.any():
+        x = water_in_liquid(fluid, T[has], P[has], np.asarray(xs, float)[has])
+        r_liquid[has] = x / (1.0 - x)
+    return y / (1.0 - y), r_liquid
+
+
+def _separate(fs, fluid, block, streams, r, free, split, cache, n):
+    """Split a separator's inlet water: the vapour and the hydrocarbon liquid leave with at most
+    their saturated contents at the drum's T and P, in the same proportion below saturation; the
+    rest leaves as free water by the ``water`` port (by the ``liquid`` port if there is none).
+    Fills ``r`` (ratios), ``free`` (free water [mol/s]) and ``split`` (the block's figures)."""
+    spec = fs.blocks[block]
+    inlet = spec.inlets["in"]
+    vap, liq = spec.outlets["vapour"], spec.outlets["liquid"]
+    wat = spec.outlets.get("water")
+    F = np.asarray(streams[inlet].flow, float)
+    r_in = np.asarray(r.get(inlet, np.zeros(n)), float)
+    W_in = r_in * F + free.get(inlet, np.zeros(n))
+    FV = np.asarray(streams[vap].flow, float)
+    FL = np.asarray(streams[liq].flow, float)
+    if block not in cache:      # the streams are solved: the capacities are fixed over passes
+        V = streams[vap]
+        cache[block] = saturation_ratios(fluid, fs.gas.water_method, V.T, V.P, streams[liq].zs,
+                                         has_liquid=FL > 0.0)
+    rV_sat, rL_sat = cache[block]
+    capacity = FV * rV_sat + FL * rL_sat
+    wetter = W_in >= capacity
+    # below saturation both phases hold the same fraction s of their saturated content (the water
+    # fugacity is common to both and, this dilute, proportional to each content)
+    s = np.where(wetter, 1.0, W_in / np.where(capacity > 0.0, capacity, 1.0))
+    in_vapour = s * FV * rV_sat
+    in_liquid = s * FL * rL_sat
+    excess = np.where(wetter, W_in - capacity, 0.0)
+    r[vap] = np.where(FV > 0.0, s * rV_sat, r_in)
+    if wat is None:
+        # a two-phase drum: the free water leaves with the hydrocarbon liquid
+        has_L = FL > 0.0
+        r[liq] = np.where(has_L, (in_liquid + excess) / np.where(has_L, FL, 1.0), r_in)
+        free[liq] = np.where(has_L, 0.0, excess)
+    else:
+        r[liq] = np.where(FL > 0.0, s * rL_sat, r_in)
+        r[wat] = np.zeros(n)
+        free[wat] = excess
+    split[block] = {"water_in_mol_s": W_in, "water_in_vapour_mol_s": in_vapour,
+                    "water_in_liquid_mol_s": in_liquid, "free_water_mol_s": excess}
+
+
+def water_flows(fs, fluid, streams, steps) -> WaterCarry:
+    """The water of every stream: ratios per dry gas, free water, and each separator's split.
+
+    Blocks other than separators carry the ratio as :func:`_mix` does; a separator splits its
+    inlet's water (:func:`_separate`). Free water that flows on from a separator into another
+    block is not carried further (a note says so): a drum's water outlet normally ends at a
+    product. With water in ``gas.composition`` the ratios are each stream's own water fraction.
+
+    Parameters
+    ----------
+    fs, fluid, streams, steps
+        As for :func:`water_ratios`.
+
+    Returns
+    -------
+    WaterCarry
     """
     n = next(iter(streams.values())).n_cases
     if "water" in fluid.components:
         iw = fluid.components.index("water")
-        return ({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
-                 for name, s in streams.items()}, [])
+        return WaterCarry({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
+                           for name, s in streams.items()}, {}, {}, [], iw)
     r, notes = _feed_ratios(fs, fluid, streams)
-    _carry_steps(fs, steps, r, lambda b: _mix(fs, b, streams, r, n), notes, "water")
+    free: dict = {}
+    split: dict = {}
+    cache: dict = {}
+
+    def through(block):
+        spec = fs.blocks[block]
+        if spec.kind == "separator":
+            _separate(fs, fluid, block, streams, r, free, split, cache, n)
+        else:
+            _mix(fs, block, streams, r, n)
+
+    _carry_steps(fs, steps, r, through, notes, "water")
+    for block, spec in fs.blocks.items():
+        if spec.kind == "separator":
+            continue
+        lost = [s for s in spec.inlets.values() if s in free and np.any(free[s] > 0.0)]
+        for s in lost:
+            notes.append(WarningRecord(block, f"the free water of stream '{s}' is not carried "
+                                              "through this block (only separators split water; "
+                                              "send a water outlet to a product)"))
     for name in streams:
         r.setdefault(name, np.zeros(n))
-    return r, notes
+    return WaterCarry(r, free, split, notes)
 
 
 def downstream_streams(fs, block) -> list:
@@ -462,7 +654,9 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
         Filled with ``inject`` block name -> details for its outcome: ``inhibitor_rate_kg_s``
         [kg/s], ``inhibitor_wt_pct`` [wt %], ``hydrate_depression_K`` (Hammerschmidt at that
         wt %) [K], ``hydrate_depression_vdwp_K`` (outlet hydrate temperature without and with the
-        inhibitor, vdW-P) [K].
+        inhibitor, vdW-P) [K]; and with separator name -> how it split the water (water beside
+        the gas only): ``water_in_mol_s``, ``water_in_vapour_mol_s``, ``water_in_liquid_mol_s``,
+        ``free_water_mol_s`` [mol/s] and ``free_water_kg_s`` [kg/s] (:class:`WaterCarry`).
     params : Mapping[str, Mapping], optional
         As for :func:`inhibitor_ratios`.
 
@@ -473,14 +667,21 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     notes : list of WarningRecord
         The assumptions made (water taken as saturated, loops) and any hydrate solve that failed.
     """
-    ratios, notes = water_ratios(fs, fluid, streams, steps)
+    carried = water_flows(fs, fluid, streams, steps)
+    ratios, notes = carried.ratios, carried.notes
     inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, ratios, params, fluid)
     notes.extend(inh_notes)
     names = list(streams)
     n = streams[names[0]].n_cases
     P = np.concatenate([np.asarray(streams[s].P, float) for s in names])
     zs = np.concatenate([np.asarray(streams[s].zs, float) for s in names])
-    r = np.concatenate([ratios[s] for s in names])
+    # a stream holding only free water (a separator's water outlet) has no water per dry gas;
+    # nor, with water as a component, an aqueous stream (water its largest part)
+    shown = {s: np.where(((np.asarray(streams[s].flow, float) > 0.0)
+                          | (carried.free.get(s, np.zeros(n)) <= 0.0))
+                         & ~(ratios[s] > 1.0), ratios[s], np.nan)
+             for s in names}
+    r = np.concatenate([shown[s] for s in names])
     inh_all = np.concatenate([inh[s] for s in names])
     if any(d["losses"] == "equilibrium" for d in block_doses.values()):
         T_all = np.concatenate([np.asarray(streams[s].T, float) for s in names])
@@ -500,15 +701,18 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
         notes.append(WarningRecord("hydrate", f"the hydrate temperature at {p / 1e5:.4g} bar did not "
                                               "converge; that stream's hydrate margin is blank"))
     out = {}
-    carried = bool(block_doses)
+    dosed = bool(block_doses)
     for k, s in enumerate(names):
         sl = slice(k * n, (k + 1) * n)
-        out[s] = StreamFreezing(ratios[s].copy(), dew[sl].copy(), hT[sl].copy(),
+        out[s] = StreamFreezing(shown[s].copy(), dew[sl].copy(), hT[sl].copy(),
                                 np.asarray(hs[sl], dtype=object),
-                                inh[s].copy() if carried else None,
-                                wt[sl].copy() if carried else None,
-                                aw[sl].copy() if carried else None)
+                                inh[s].copy() if dosed else None,
+                                wt[sl].copy() if dosed else None,
+                                aw[sl].copy() if dosed else None,
+                                carried.flow(s, streams[s]))
     if doses is not None:
+        for b, split in carried.separators.items():
+            doses[b] = {**split, "free_water_kg_s": split["free_water_mol_s"] * M_WATER}
         for m, (b, d) in enumerate(block_doses.items()):
             free = hT_all[P.size + m * n: P.size + (m + 1) * n]
             doses[b] = {**dose_details(d),

@@ -426,6 +426,8 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
             params["inhibitor"] = _inhibitor(doc, raw.get("inhibitor"), path + ("inhibitor",))
             field_where["inhibitor"] = _where(doc, path + ("inhibitor",))
             _inject_options(doc, name, raw, params, field_where, path)
+        if kind == "separator":
+            params["water_port"] = "water" in raw["to"]
         if kind == "splitter":
             params["fractions"] = _fractions(doc, q, raw["to"], path + ("to",))
             field_where["fractions"] = _where(doc, path + ("to",))

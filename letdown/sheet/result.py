@@ -22,6 +22,7 @@ import numpy as np
 
 from ..equipment import StreamBatch, closures
 from ..errors import ConvergenceError
+from ..fluid.water import M_WATER
 
 #: Largest relative mole-balance closure accepted for any block (DESIGN.md requirement).
 MOLE_CLOSURE = 1e-9
@@ -56,7 +57,9 @@ class StreamResult:
     molar_mass : float  [kg/mol]
     freezing : dict or None
         Water and hydrate figures when they were computed (JSON keys, SI): ``water_mg_Sm3`` (per
-        Sm3 of dry gas), ``water_mole_fraction``, ``water_dew_T_K``, ``hydrate_T_K``,
+        Sm3 of dry gas; None for a separator's water outlet, which holds no gas),
+        ``water_mole_fraction``, ``water_flow_mol_s`` and ``water_flow_kg_s`` (all the water the
+        stream carries), ``water_dew_T_K``, ``hydrate_T_K``,
         ``hydrate_structure`` and the margins ``T - limit`` ``hydrate_margin_K``,
         ``water_dew_margin_K``, ``ice_margin_K``, ``min_T_margin_K`` (None where the limit does
         not exist: dry gas, no hydrate former, no ``limits.min_T``).
@@ -103,6 +106,10 @@ class StreamResult:
                 # inhibitor from inject blocks, all the water taken as free water
                 fz["inhibitor_wt_pct"] = _num(freezing.inhibitor_wt_pct[i])
                 fz["water_activity"] = _num(freezing.water_activity[i])
+            if freezing.water_flow is not None:
+                # all the water the stream carries (a separator's water outlet: its free water)
+                fz["water_flow_mol_s"] = _num(freezing.water_flow[i])
+                fz["water_flow_kg_s"] = _num(freezing.water_flow[i] * M_WATER)
         return cls(name=name, T=float(stream.T[i]), P=float(stream.P[i]), flow=float(stream.flow[i]),
                    mass_flow=float(stream.mass_flow[i]),
                    vapour_fraction=float(stream.vapour_fraction[i]), zs=comp(stream.zs),

@@ -576,11 +576,18 @@ class _Engine:
             doses = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given)
         texts = {"two_phase_outlet": "throttle outlet is in two phases",
                  "temperature_cross": "temperature cross inside the exchanger",
-                 "spec_unmet": "the specification cannot be met with these inlet temperatures"}
+                 "spec_unmet": "the specification cannot be met with these inlet temperatures",
+                 "three_phase_T_shift": "the three-phase drum temperature differs by more than "
+                                        "0.1 K from the two-phase flash of its inlet: blocks "
+                                        "upstream flash gas with water as a component in two "
+                                        "phases and can miss one, so their temperatures are off"}
         for name, outcome in ev.outcomes.items():
             for flag, values in outcome.flags.items():
                 if np.any(values):
                     what = texts.get(flag, flag)
+                    if flag == "three_phase_T_shift":
+                        i = int(np.flatnonzero(values)[0])
+                        what += f" (by {outcome.details['dT_vs_two_phase_K'][i]:+.2f} K)"
                     if flag == "temperature_cross":
                         i = int(np.flatnonzero(values)[0])
                         what += (f" (smallest approach {outcome.details['min_approach_K'][i]:.2f} K "
