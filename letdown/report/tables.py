@@ -24,7 +24,8 @@ from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
 #: Fixed decimals of the stream table's rows in the terminal (an engineer's stream table: 0.01 K,
 #: 0.01 bar, whole kg/h and Sm3/h); CSV keeps full precision.
 STREAM_DECIMALS = {"Temperature": 2, "Pressure": 2, "Vapour fraction": 4, "Molar flow": 1,
-                   "Mass flow": 0, "Water carried": 2, "Standard gas flow": 0, "Density": 3, "Z": 5, "Molar mass": 3,
+                   "Mass flow": 0, "Water carried": 2, "Inhibitor carried": 2,
+                   "Standard gas flow": 0, "Density": 3, "Z": 5, "Molar mass": 3,
                    "Enthalpy": 1, "Entropy": 3, "Gross calorific value": 3, "Wobbe index": 3}
 
 #: Width the terminal layout aims for [characters]; wider tables are split into column groups.
@@ -139,6 +140,11 @@ def stream_table(result, units: str = "si", *, case: int = 0, atmosphere: float 
         rows.append((f"Water carried [{u['mass_flow'].label}]",
                      *(None if w is None or pick(w, case) is None else u["mass_flow"](pick(w, case))
                        for w in water)))
+    inh = [(_get(streams[n], "freezing", None) or {}).get("inhibitor_flow_kg_s") for n in names]
+    if any(w is not None for w in inh):
+        rows.append((f"Inhibitor carried [{u['mass_flow'].label}]",
+                     *(None if w is None or pick(w, case) is None else u["mass_flow"](pick(w, case))
+                       for w in inh)))
     rows += [
         row("Standard gas flow", "flow", "std_flow", from_flow=True),
         row("Density", "density", "density"),

@@ -56,7 +56,9 @@ With **water as a component** (listed in ``gas.composition``) the separator is a
 **Inhibitor** (``inject`` blocks, :mod:`letdown.equipment.inject`): carried the same way, per
 stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ratios`), never in the
 hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds its
-rate; the others carry it as the water. With all of a stream's water taken as free water, the
+rate; a separator splits it with its phases (:func:`_separate_inhibitor`: the three-phase split
+at the drum with ``losses: equilibrium``, all with the free water with ``losses: none``); the
+others carry it as the water. With all of a stream's water taken as free water, the
 stream's aqueous phase holds ``inhibitor_wt_pct`` and has water activity a_w = x_w
 (:func:`aqueous`), and its hydrate temperature is found with that activity. When an ``inject``
 block counts its losses (``losses: equilibrium``), each stream's aqueous phase comes instead from
@@ -145,6 +147,9 @@ class StreamFreezing:
     water_flow : ndarray (n,) or None
         All the water the stream carries [mol/s]: ``water_ratio`` times the dry flow, or the free
         water of a separator's ``water`` outlet (whose ``water_ratio`` is NaN: it holds no gas).
+    inhibitor_flow : ndarray (n, k) or None
+        All the inhibitor the stream carries [mol/s]: ``inhibitor_ratio`` times the dry flow plus
+        what a separator sent with its free water (None: no inhibitor anywhere).
     """
 
     water_ratio: np.ndarray
@@ -155,6 +160,7 @@ class StreamFreezing:
     inhibitor_wt_pct: np.ndarray | None = None
     water_activity: np.ndarray | None = None
     water_flow: np.ndarray | None = None
+    inhibitor_flow: np.ndarray | None = None
 
     @property
     def water_mole_fraction(self) -> np.ndarray:
@@ -439,6 +445,10 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
     return WaterCarry(r, free, split, notes)
 
 
+#: Streams within this of the coldest count as equally cold for the protected point [K].
+PROTECTED_T_TIE = 1e-6
+
+
 def downstream_streams(fs, block) -> list:
     """The streams downstream of ``block``: its outlets and every stream reachable from them
     through the blocks (loops included once)."""
@@ -457,12 +467,16 @@ def downstream_streams(fs, block) -> list:
 
 def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:
     """The coldest flowing stream downstream of an ``inject`` block, per case (the point its dose
-    must protect; :class:`letdown.equipment.inject.ProtectedPoint`)."""
+    must protect; :class:`letdown.equipment.inject.ProtectedPoint`). Of streams equally cold (to
+    :data:`PROTECTED_T_TIE` K; a separator's inlet and its outlets), the one carrying the most
+    water per dry gas: the drum's inlet with all the free water, not its saturated vapour."""
     names = [s for s in downstream_streams(fs, block) if s in streams]
     T = np.stack([np.where(np.asarray(streams[s].flow, float) > 0.0,
                            np.asarray(streams[s].T, float), np.inf) for s in names])
-    k = np.argmin(T, axis=0)
     n = T.shape[1]
+    W = np.stack([np.broadcast_to(np.asarray(water[s], float), (n,)) for s in names])
+    coldest = T <= T.min(axis=0) + PROTECTED_T_TIE
+    k = np.argmax(np.where(coldest, np.nan_to_num(W, nan=-1.0), -np.inf), axis=0)
     rows = np.arange(n)
     pick = lambda get: np.stack([np.asarray(get(streams[s]), float) for s in names])[k, rows]
     zs = np.stack([np.asarray(streams[s].zs, float) for s in names])[k, rows]
@@ -473,14 +487,67 @@ def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:
                           np.asarray(streams[inlet].flow, float))
 
 
-def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None
+def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium):
+    """Split a separator's inlet inhibitor between its outlets (water carried beside the gas).
+
+    With equilibrium losses (any ``inject`` block on ``losses: equilibrium``) the split is the
+    three-phase one at the drum's T and P (:func:`letdown.fluid.inhibitor.partition` of the inlet
+    gas with its water and inhibitor): the vapour leaves with what the vapour holds, the
+    hydrocarbon liquid with what it dissolves, and the aqueous part goes with the free water.
+    Without them (``losses: none`` everywhere: all the inhibitor taken to be in the water) the
+    whole inlet inhibitor goes with the free water where the drum drops free water, and otherwise
+    stays with the gas as in :func:`_mix`. The free water's share leaves by the ``water`` port (a
+    flow in ``free`` [mol/s], the outlet holding no gas), or with the hydrocarbon liquid when the
+    drum has no ``water`` port. The free water itself is split by :func:`_separate` (the file's
+    water-content route), the inhibitor by the flash: the two agree to the flash's own water
+    content (tests/test_threephase.py), not exactly."""
+    spec = fs.blocks[block]
+    inlet = spec.inlets["in"]
+    vap, liq = spec.outlets["vapour"], spec.outlets["liquid"]
+    wat = spec.outlets.get("water")
+    zero = np.zeros((n, k))
+    r_in = np.broadcast_to(np.asarray(r.get(inlet, zero), float), (n, k))
+    F = np.asarray(streams[inlet].flow, float)[:, None]
+    FV = np.asarray(streams[vap].flow, float)[:, None]
+    FL = np.asarray(streams[liq].flow, float)[:, None]
+    to_V, to_L, to_W = zero.copy(), zero.copy(), zero.copy()
+    rows = np.flatnonzero((r_in.sum(axis=1) > 0.0) & (F[:, 0] > 0.0))
+    if rows.size and equilibrium:
+        V = streams[vap]
+        p = partition(fluid, np.asarray(V.T, float)[rows], np.asarray(V.P, float)[rows],
+                      np.asarray(streams[inlet].zs, float)[rows],
+                      np.asarray(water[inlet], float)[rows], r_in[rows])
+        to_V[rows], to_L[rows], to_W[rows] = p.vapour, p.hc_liquid, p.aqueous
+    elif rows.size:
+        w_in = np.asarray(water[inlet], float) * F[:, 0]
+        w_out = (np.asarray(water.get(vap, np.zeros(n)), float) * FV[:, 0]
+                 + np.asarray(water.get(liq, np.zeros(n)), float) * FL[:, 0])
+        drops = (w_in - w_out) > 1e-12 * np.maximum(w_in, 1e-300)
+        to_W[rows] = np.where(drops[rows, None], r_in[rows], 0.0)
+        to_V[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FV[rows] / F[rows])
+        to_L[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FL[rows] / F[rows])
+    per = lambda amount, flow: np.where(flow > 0.0, amount * F / np.where(flow > 0.0, flow, 1.0),
+                                        r_in)
+    r[vap] = per(to_V, FV)
+    if wat is None:
+        r[liq] = per(to_L + to_W, FL)
+        free[liq] = np.where(FL > 0.0, 0.0, (to_L + to_W) * F)
+    else:
+        r[liq] = per(to_L, FL)
+        r[wat] = zero.copy()
+        free[wat] = to_W * F
+
+
+def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=None
                      ) -> tuple[dict, dict, list]:
     """Inhibitor per dry gas of every stream, and the dose of every ``inject`` block.
 
     Each ``inject`` block adds ``rate / (M F)`` moles of its inhibitor per mole of dry gas (F the
-    stream's molar flow); the other blocks carry it as they carry the water (:func:`_mix`). The
-    rate of a block given a ``depression``, and where its inhibitor goes, follow from the coldest
-    point downstream of it (:func:`protected_point`, :func:`letdown.equipment.inject.dose`).
+    stream's molar flow); a separator splits it with the water (:func:`_separate_inhibitor`; not
+    with water as a component, where the three-phase drum does the split); the other blocks carry
+    it as they carry the water (:func:`_mix`). The rate of a block given a ``depression``, and
+    where its inhibitor goes, follow from the coldest point downstream of it
+    (:func:`protected_point`, :func:`letdown.equipment.inject.dose`).
 
     Parameters
     ----------
@@ -492,6 +559,9 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None
         ``inject`` block name -> its parameters over the cases (SI); default the file's.
     fluid : Fluid
         The sheet's fluid (needed by any ``inject`` block).
+    free : dict, optional
+        Filled with stream name -> inhibitor sent with a separator's free water, ndarray (n, k)
+        [mol/s] (a ``water`` outlet, or a ``liquid`` outlet with no hydrocarbon liquid).
 
     Returns
     -------
@@ -507,8 +577,21 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None
     doses: dict = {}
     notes: list = []
 
+    free = {} if free is None else free
+    warned: set = set()
+    beside = fluid is not None and "water" not in fluid.components
+
+    # the loss treatment of the sheet (as stream_freezing decides it): equilibrium if any inject
+    # block asks for it (an invalid value is refused, with its place, by the block's dose below)
+    equilibrium = any(str((params or {}).get(b, spec.params).get("losses", "equilibrium"))
+                      .strip().lower() == "equilibrium"
+                      for b, spec in fs.blocks.items() if spec.kind == "inject")
+
     def through(block):
         spec = fs.blocks[block]
+        if spec.kind == "separator" and beside:
+            _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium)
+            return
         if spec.kind != "inject":
             _mix(fs, block, streams, r, n, k)
             return
@@ -524,6 +607,16 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None
                 raise exc.located(file=(w.file if w else None) or fs.source,
                                   line=w.line if w else spec.where.line) from None
         d = doses[block]
+        if block not in warned and d["losses"] == "equilibrium":
+            warned.add(block)
+            aq = np.asarray(d["aqueous_kg_s"], float)
+            lost = np.nan_to_num(np.asarray(d["hc_liquid_kg_s"], float))
+            if np.any(lost > aq):
+                notes.append(WarningRecord(block, "more inhibitor is lost to the hydrocarbon liquid "
+                                                  "than stays in the water: the equation's figure "
+                                                  "for that loss is likely high (no published "
+                                                  "methanol-hydrocarbon kij; README, closing "
+                                                  "limits); check the rate against field data"))
         j = INHIBITOR_NAMES.index(d["inhibitor"])
         added = np.zeros((n, k))
         added[:, j] = np.where(flow > 0.0, d["rate_kg_s"] / (INHIBITORS[d["inhibitor"]].M * 1e-3)
@@ -669,7 +762,9 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     """
     carried = water_flows(fs, fluid, streams, steps)
     ratios, notes = carried.ratios, carried.notes
-    inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, ratios, params, fluid)
+    free_inh: dict = {}
+    inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, ratios, params, fluid,
+                                                   free=free_inh)
     notes.extend(inh_notes)
     names = list(streams)
     n = streams[names[0]].n_cases
@@ -688,6 +783,14 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
         wt, aw = aqueous_equilibrium(fluid, T_all, P, zs, r, inh_all)
     else:
         wt, aw = aqueous(r, inh_all)
+    # a stream of free water only (a separator's water outlet): its own water and inhibitor
+    for k, s in enumerate(names):
+        if s in free_inh and s in carried.free and np.isnan(shown[s]).any():
+            sl = slice(k * n, (k + 1) * n)
+            w_free, a_free = aqueous(carried.free[s], free_inh[s])
+            only = np.isnan(shown[s])
+            wt[sl] = np.where(only, w_free, wt[sl])
+            aw[sl] = np.where(only, a_free, aw[sl])
     y = r / (1.0 + r)
     dew = _dew_points(fluid, fs.gas.water_method, y, P)
     # the inject outlets once more without inhibitor, for the vdW-P depression of each block
@@ -709,7 +812,9 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
                                 inh[s].copy() if dosed else None,
                                 wt[sl].copy() if dosed else None,
                                 aw[sl].copy() if dosed else None,
-                                carried.flow(s, streams[s]))
+                                carried.flow(s, streams[s]),
+                                (inh[s] * np.asarray(streams[s].flow, float)[:, None]
+                                 + free_inh.get(s, 0.0)) if dosed else None)
     if doses is not None:
         for b, split in carried.separators.items():
             doses[b] = {**split, "free_water_kg_s": split["free_water_mol_s"] * M_WATER}

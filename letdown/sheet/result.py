@@ -22,7 +22,11 @@ import numpy as np
 
 from ..equipment import StreamBatch, closures
 from ..errors import ConvergenceError
+from ..fluid.inhibitor import INHIBITORS
 from ..fluid.water import M_WATER
+
+#: Molar masses of the inhibitors in the column order of the freezing inhibitor arrays [kg/mol].
+INHIBITOR_M = np.array([INHIBITORS[nm].M * 1e-3 for nm in INHIBITORS])
 
 #: Largest relative mole-balance closure accepted for any block (DESIGN.md requirement).
 MOLE_CLOSURE = 1e-9
@@ -59,7 +63,8 @@ class StreamResult:
         Water and hydrate figures when they were computed (JSON keys, SI): ``water_mg_Sm3`` (per
         Sm3 of dry gas; None for a separator's water outlet, which holds no gas),
         ``water_mole_fraction``, ``water_flow_mol_s`` and ``water_flow_kg_s`` (all the water the
-        stream carries), ``water_dew_T_K``, ``hydrate_T_K``,
+        stream carries), with inject blocks ``inhibitor_wt_pct``, ``water_activity`` and
+        ``inhibitor_flow_kg_s`` (all the inhibitor the stream carries), ``water_dew_T_K``, ``hydrate_T_K``,
         ``hydrate_structure`` and the margins ``T - limit`` ``hydrate_margin_K``,
         ``water_dew_margin_K``, ``ice_margin_K``, ``min_T_margin_K`` (None where the limit does
         not exist: dry gas, no hydrate former, no ``limits.min_T``).
@@ -106,6 +111,9 @@ class StreamResult:
                 # inhibitor from inject blocks, all the water taken as free water
                 fz["inhibitor_wt_pct"] = _num(freezing.inhibitor_wt_pct[i])
                 fz["water_activity"] = _num(freezing.water_activity[i])
+            if getattr(freezing, "inhibitor_flow", None) is not None:
+                # all the inhibitor the stream carries (methanol and MEG together)
+                fz["inhibitor_flow_kg_s"] = _num(freezing.inhibitor_flow[i] @ INHIBITOR_M)
             if freezing.water_flow is not None:
                 # all the water the stream carries (a separator's water outlet: its free water)
                 fz["water_flow_mol_s"] = _num(freezing.water_flow[i])
