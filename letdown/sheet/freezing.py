@@ -107,6 +107,7 @@ from ..fluid.hydrate import LANGMUIR
 from ..fluid.inhibitor import INHIBITORS, partition
 from ..fluid.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE, water_content,
                            water_dew_point)
+from .graph import downstream_streams
 from .result import WarningRecord
 
 #: The ice point used for the ice margin [K] (pure water at about 1 atm; the depression by pressure,
@@ -447,22 +448,6 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
 
 #: Streams within this of the coldest count as equally cold for the protected point [K].
 PROTECTED_T_TIE = 1e-6
-
-
-def downstream_streams(fs, block) -> list:
-    """The streams downstream of ``block``: its outlets and every stream reachable from them
-    through the blocks (loops included once)."""
-    seen: list = []
-    todo = list(fs.blocks[block].outlets.values())
-    while todo:
-        s = todo.pop(0)
-        if s in seen:
-            continue
-        seen.append(s)
-        for b in fs.blocks.values():
-            if s in b.inlets.values():
-                todo.extend(o for o in b.outlets.values() if o not in seen)
-    return seen
 
 
 def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:

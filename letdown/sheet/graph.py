@@ -60,6 +60,22 @@ class Step:
     exact: bool = True
 
 
+def downstream_streams(fs: Flowsheet, block: str) -> list:
+    """The streams downstream of ``block``: its outlets and every stream reachable from them
+    through the blocks (loops included once), nearest first."""
+    seen: list = []
+    todo = list(fs.blocks[block].outlets.values())
+    while todo:
+        s = todo.pop(0)
+        if s in seen:
+            continue
+        seen.append(s)
+        for b in fs.blocks.values():
+            if s in b.inlets.values():
+                todo.extend(o for o in b.outlets.values() if o not in seen)
+    return seen
+
+
 def feed_node(name: str) -> str:
     """Node id of feed ``name``."""
     return f"feed:{name}"

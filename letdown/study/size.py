@@ -38,6 +38,7 @@ import numpy as np
 from ..errors import InputError
 from ..fluid.quality import quality
 from ..sheet.freezing import ICE_T
+from ..sheet.graph import downstream_streams
 from ..sheet.solve import make_fluid, solve_cases
 from ..sheet.spec import Flowsheet
 
@@ -225,21 +226,6 @@ def _case_arrays(fs: Flowsheet):
     return tuple(c.name for c in fs.cases), arrays, tuple(dict(c.values) for c in fs.cases)
 
 
-def _downstream(fs: Flowsheet, heater: str) -> list:
-    """Streams downstream of ``heater`` (its outlets and everything they feed)."""
-    out = []
-    todo = list(fs.blocks[heater].outlets.values())
-    while todo:
-        s = todo.pop(0)
-        if s in out:
-            continue
-        out.append(s)
-        for b in fs.blocks.values():
-            if s in b.inlets.values():
-                todo.extend(b.outlets.values())
-    return out
-
-
 def _limits(T_h, margin, min_T):
     """Limits plus margins [K] of one point: {"min_T", "ice", "hydrate"} (those that apply)."""
     lim = {}
@@ -316,7 +302,7 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
     goal_rec = next((g for g in res.goals if g.hold == fs.goals[k].hold), None)
     if goal_rec is not None:
         met = np.broadcast_to(goal_rec.met, (n,))
-    down = _downstream(fs, heater)
+    down = downstream_streams(fs, heater)
     out = []
     for i in range(n):
         colder = []
