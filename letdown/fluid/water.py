@@ -144,8 +144,9 @@ def _fluid_with_water(fluid):
                  kij=spec, volume_shift=fluid.volume_shift)
 
 
-def water_content_eos(fluid, T, P, zs=None):
-    """Water content of a gas saturated with pure liquid water by the fugacity balance [-].
+def water_content_eos(fluid, T, P, zs=None, phase="vapour"):
+    """Water content of a gas (or of a hydrocarbon liquid) saturated with pure liquid water by the
+    fugacity balance [-].
 
     Parameters
     ----------
@@ -155,11 +156,14 @@ def water_content_eos(fluid, T, P, zs=None):
         [K], [Pa].
     zs : ndarray, optional
         Composition of the gas (component order of ``fluid``); any water in it is replaced.
+    phase : str
+        ``vapour`` (a gas, the default) or ``liquid`` (a hydrocarbon liquid: the same balance on
+        the cubic's liquid root, :func:`letdown.fluid.threephase.water_in_liquid`).
 
     Returns
     -------
     ndarray (n,)
-        Mole fraction of water in the saturated gas [-].
+        Mole fraction of water in the saturated phase [-].
 
     Raises
     ------
@@ -192,14 +196,15 @@ def water_content_eos(fluid, T, P, zs=None):
     pure[:, iw] = 1.0
     lnphi_sat, _ = eos.lnphi(T, pv, pure, "vapour")
     f_liquid = pv * np.exp(lnphi_sat[:, iw]) * np.exp(V_LIQUID * (P - pv) / (R * T))
-    y = f_liquid / P
+    # start: the ideal gas for a vapour, no water for a liquid (phi_w there is far from 1)
+    y = f_liquid / P if phase == "vapour" else np.zeros(n)
     conv = np.zeros(n, dtype=bool)
     it = np.zeros(n, dtype=int)
     step = np.full(n, np.inf)
     for _ in range(EOS_MAX_ITER):
         ys = dry * (1.0 - y)[:, None]
         ys[:, iw] = y
-        lnphi, _ = eos.lnphi(T, P, ys, "vapour")
+        lnphi, _ = eos.lnphi(T, P, ys, phase)
         y_new = f_liquid / (np.exp(lnphi[:, iw]) * P)
         step = np.abs(y_new - y) / y_new
         it += ~conv
@@ -208,8 +213,10 @@ def water_content_eos(fluid, T, P, zs=None):
         if conv.all():
             break
     if not conv.all():
-        raise ConvergenceError("water content (EOS route) did not converge",
-                               result=SolveReport(conv, it, step, "water content, substitution"))
+        what = ("water content (EOS route)" if phase == "vapour"
+                else "water dissolved in the hydrocarbon liquid")
+        raise ConvergenceError(f"{what} did not converge",
+                               result=SolveReport(conv, it, step, f"{what}, substitution"))
     return y
 
 
