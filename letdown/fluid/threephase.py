@@ -46,6 +46,7 @@ from .components import R
 from .cubic import CubicEOS
 from .flash import (SolveReport, flash_PT, is_vapour_like, stability, two_phase_flash, K_CLIP,
                     TM_UNSTABLE)
+from .rootfind import bracketed_root
 
 #: Converged when the largest difference of ln f_i between phases is below this [-].
 FUG_TOL = 1e-9
@@ -138,9 +139,10 @@ def _rr_multi(zs, K, beta0):
     return beta, t
 
 
-def _split3(eos, T, P, zs, X0):
+def _split3(eos, T, P, zs, X0, tol=FUG_TOL):
     """Successive substitution for three phases from starting compositions X0 (n, 3, nc) (phase 0
-    the reference). Returns betas (n, 3), X (n, 3, nc), converged (n,), iterations, residual."""
+    the reference), converged when ln f agree to ``tol``. Returns betas (n, 3), X (n, 3, nc),
+    converged (n,), iterations, residual."""
     n, _, nc = X0.shape
     present = zs > 0.0
     tiny = 1e-300
@@ -170,7 +172,7 @@ def _split3(eos, T, P, zs, X0):
         new = np.where(present[idx][:, None, :], lnph[:, :1, :] - lnph[:, 1:, :], 0.0)
         X[idx], beta[idx], resid[idx] = Xi, b, res
         iters[idx] += 1
-        ok = res < FUG_TOL
+        ok = res < tol
         conv[idx[ok]] = True
         lnK[idx[~ok]] = new[~ok]
     betas = np.concatenate([(1.0 - beta.sum(axis=1))[:, None], beta], axis=1)
@@ -183,7 +185,7 @@ def _mass_density(eos, T, P, xs):
 
 
 # ------------------------------------------------------------------------------------------------
-def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
+def flash_PT_3(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
     """Vapour / hydrocarbon liquid / aqueous liquid PT flash of a batch.
 
     Parameters
@@ -194,10 +196,39 @@ def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
         Temperature [K] and pressure [Pa].
     zs : ndarray (n, nc)
         Feed compositions [-].
+    split : letdown.fluid.flash.PTSplit, optional
+        The two-phase flash of these cases, if already done (it is then not repeated).
 
     Returns
     -------
     ThreePhaseResult
+    """
+    return check_two_phase(eos, T, P, zs, split)[0]
+
+
+def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
+    """Stability test of a two-phase result and, where it fails, the three-phase split.
+
+    Steps 2 and 3 of the module's sequence on the two-phase flash ``split`` of the cases (step 1
+    is run here when ``split`` is None).
+
+    Parameters
+    ----------
+    eos : CubicEOS
+    T, P : ndarray (n,)
+        [K], [Pa].
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+    split : letdown.fluid.flash.PTSplit, optional
+        Two-phase flash of the cases.
+
+    Returns
+    -------
+    result : ThreePhaseResult
+        The equilibrium of every case, phases named.
+    unstable : ndarray of bool (n,)
+        Cases whose two-phase result was not stable (split again here: into three phases, into
+        another pair of phases, or not converged); elsewhere the two-phase result stands.
     """
     T = np.asarray(T, dtype=float)
     P = np.asarray(P, dtype=float)
@@ -205,7 +236,7 @@ def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
     n, nc = zs.shape
     names = list(eos.comps.names)
     iw = names.index("water") if "water" in names else None
-    sp = flash_PT(eos, T, P, zs)
+    sp = flash_PT(eos, T, P, zs) if split is None else split
     # phases of the two-phase result: (n, 2, nc), betas (n, 2); a single phase sits in slot 0
     X = np.stack([sp.ys, sp.xs], axis=1)
     B = np.stack([sp.beta, 1.0 - sp.beta], axis=1)
@@ -284,38 +315,59 @@ def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
         X = np.concatenate([X, np.zeros((n, 1, nc))], axis=1)
         B = np.concatenate([B, np.zeros((n, 1))], axis=1)
     return _name_phases(eos, T, P, zs, X, B, nph, iw, SolveReport(
-        conv, iters, resid, "three-phase PT flash"))
+        conv, iters, resid, "three-phase PT flash")), unstable
 
 
 def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
-    """Order the phases of each case as (vapour, hydrocarbon liquid, aqueous)."""
+    """Order the phases of each case as (vapour, hydrocarbon liquid, aqueous), all cases at once.
+
+    The aqueous phase: of the phases present with water as their largest component, the
+    water-richest. The others by mass density, lightest first: two of them are vapour and
+    hydrocarbon liquid; one alone is vapour unless liquid-like (:func:`is_vapour_like`); three
+    (no aqueous phase among them) are vapour, hydrocarbon liquid and the heaviest liquid in the
+    third slot.
+    """
     n, _, nc = X.shape
-    out_b = np.zeros((n, 3))
-    out_x = np.full((n, 3, nc), np.nan)
+    rows = np.arange(n)
     present = B > 0.0
     Xs = np.where(present[..., None], X, zs[:, None, :])
-    rho = np.stack([_mass_density(eos, T, P, Xs[:, k]) for k in range(3)], axis=1)
-    water = Xs[:, :, iw] if iw is not None else np.zeros((n, 3))
-    aq_like = (np.argmax(Xs, axis=2) == iw) if iw is not None else np.zeros((n, 3), dtype=bool)
-    vap_like = np.stack([is_vapour_like(eos, T, P, Xs[:, k]) for k in range(3)], axis=1)
-    for i in range(n):
-        ks = [k for k in range(3) if present[i, k]]
-        aq = None
-        cand = [k for k in ks if aq_like[i, k]]
-        if cand and (len(ks) > 1 or aq_like[i, ks[0]]):
-            aq = max(cand, key=lambda k: water[i, k])
-        rest = sorted((k for k in ks if k != aq), key=lambda k: rho[i, k])
-        slots = []
-        if len(rest) == 2:
-            slots = [(0, rest[0]), (1, rest[1])]
-        elif len(rest) == 1:      # alone or beside water: vapour unless liquid-like
-            k = rest[0]
-            slots = [(0 if vap_like[i, k] else 1, k)]
-        if aq is not None:
-            slots.append((2, aq))
-        for s, k in slots:
-            out_b[i, s] = B[i, k]
-            out_x[i, s] = X[i, k]
+    if iw is not None:
+        aq_cand = present & (np.argmax(Xs, axis=2) == iw)
+        has_aq = aq_cand.any(axis=1)
+        aq = np.argmax(np.where(aq_cand, Xs[:, :, iw], -np.inf), axis=1)
+    else:
+        has_aq = np.zeros(n, dtype=bool)
+        aq = np.zeros(n, dtype=int)
+    is_aq = np.zeros((n, 3), dtype=bool)
+    is_aq[rows, aq] = has_aq
+    rest = present & ~is_aq
+    n_rest = rest.sum(axis=1)
+    # densities only where two or three phases are to be told apart
+    rho = np.full((n, 3), np.inf)
+    many = np.flatnonzero(n_rest >= 2)
+    if many.size:
+        for k in range(3):
+            rho[many, k] = _mass_density(eos, T[many], P[many], Xs[many, k])
+    order = np.argsort(np.where(rest, rho, np.inf), axis=1, kind="stable")
+    slot_of = np.full((n, 3), -1)           # slot (0 V, 1 L, 2 W) of each phase, -1 unused
+    two = n_rest == 2
+    slot_of[rows[two], order[two, 0]] = 0
+    slot_of[rows[two], order[two, 1]] = 1
+    three = n_rest == 3
+    for k in range(3):
+        slot_of[rows[three], order[three, k]] = k
+    one = np.flatnonzero(n_rest == 1)
+    if one.size:                # alone or beside water: vapour unless liquid-like
+        k = order[one, 0]
+        vap = is_vapour_like(eos, T[one], P[one], Xs[one, k])
+        slot_of[one, k] = np.where(vap, 0, 1)
+    slot_of[rows[has_aq], aq[has_aq]] = 2
+    out_b = np.zeros((n, 3))
+    out_x = np.full((n, 3, nc), np.nan)
+    for k in range(3):
+        used = slot_of[:, k] >= 0
+        out_b[rows[used], slot_of[used, k]] = B[used, k]
+        out_x[rows[used], slot_of[used, k]] = X[used, k]
     return ThreePhaseResult(out_b[:, 0], out_b[:, 1], out_b[:, 2], out_x[:, 0], out_x[:, 1],
                             out_x[:, 2], nph, report)
 
@@ -454,3 +506,228 @@ def phase_properties(engine, T, P, zs, res: ThreePhaseResult) -> dict:
             whole[k] = whole[k] + np.where(present, beta * out[name][k], 0.0)
     out["whole"] = whole
     return out
+
+
+# ------------------------------------------------------------------------------------------------
+# P-h and P-s on the three-phase equilibrium
+#: The enthalpy target is met to this [J/mol] -- a temperature error of about 1e-6 K at a heat
+#: capacity of 100 J/(mol K), as the two-phase P-h flash (``cubic_fluid.PH_RESIDUAL_K``). The
+#: entropy target is met to this over T [J/(mol K)]. Below ~1e-5 J/mol the enthalpy of a split
+#: converged to FUG_TOL carries noise of its own.
+PX_H_TOL = 1e-4
+#: Half-width of the first temperature step from the starting temperature [K]: the third phase
+#: shifts the temperature of gas with a little water by a few kelvin to about 15 K (measured on the
+#: LTS sheet of tests/test_separator_water.py: 12 K).
+BRACKET_STEP = 2.0
+#: The step is doubled this many times before a case is given up (2 K * 2^8 = 512 K).
+BRACKET_GROWTHS = 8
+#: Lowest and highest temperatures the bracket may reach [K] (common practice: a gas with free
+#: water lies far inside).
+T_FLOOR, T_CEILING = 100.0, 700.0
+#: Regula falsi evaluations per case (each a batch three-phase flash); Illinois converges in 10-20.
+PX_MAX_ITERATIONS = 60
+#: Starting temperature where none is given [K].
+T_DEFAULT = 280.0
+
+
+@dataclass(frozen=True)
+class ThreePhasePX:
+    """Outcome of :func:`flash_PX_3`.
+
+    Attributes
+    ----------
+    T : ndarray (n,)
+        Temperature [K] (the last iterate where a case did not converge).
+    flash : ThreePhaseResult
+        The three-phase PT flash at ``T``.
+    report : SolveReport
+        ``converged`` (a bracket found, the target met and the flash at T converged),
+        ``iterations`` (three-phase flashes spent on the case), ``residual`` (target minus value,
+        [J/mol] or [J/(mol K)]).
+    """
+
+    T: np.ndarray
+    flash: ThreePhaseResult
+    report: SolveReport
+
+
+def take_result(res: ThreePhaseResult, idx) -> ThreePhaseResult:
+    """The cases ``idx`` (indices or mask) of a three-phase result."""
+    r = res.report
+    return ThreePhaseResult(res.beta_V[idx], res.beta_L[idx], res.beta_W[idx], res.y[idx],
+                            res.x[idx], res.w[idx], res.n_phases[idx],
+                            SolveReport(r.converged[idx], r.iterations[idx], r.residual[idx],
+                                        r.message))
+
+
+class _ResultStore:
+    """Per-case three-phase results, the last one computed for each case, with its temperature."""
+
+    def __init__(self, n, nc):
+        self.T = np.full(n, np.nan)
+        self.b = np.zeros((n, 3))
+        self.X = np.full((n, 3, nc), np.nan)
+        self.nph = np.zeros(n, dtype=int)
+        self.conv = np.zeros(n, dtype=bool)
+        self.iters = np.zeros(n, dtype=int)
+        self.resid = np.zeros(n)
+
+    def put(self, idx, T, res: ThreePhaseResult):
+        self.T[idx] = T
+        self.b[idx] = np.stack([res.beta_V, res.beta_L, res.beta_W], axis=1)
+        self.X[idx] = np.stack([res.y, res.x, res.w], axis=1)
+        self.nph[idx] = res.n_phases
+        self.conv[idx] = res.report.converged
+        self.iters[idx] = res.report.iterations
+        self.resid[idx] = res.report.residual
+
+    def result(self) -> ThreePhaseResult:
+        return ThreePhaseResult(self.b[:, 0].copy(), self.b[:, 1].copy(), self.b[:, 2].copy(),
+                                self.X[:, 0].copy(), self.X[:, 1].copy(), self.X[:, 2].copy(),
+                                self.nph.copy(), SolveReport(self.conv.copy(), self.iters.copy(),
+                                                             self.resid.copy(),
+                                                             "three-phase PT flash"))
+
+
+def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> ThreePhasePX:
+    """Temperature at which the three-phase equilibrium has the given enthalpy (or entropy).
+
+    Solves, per case, at the pressure P
+
+        h(T) = sum_phases beta_k h_k(T) = h_target     (or the same with s)
+
+    over the equilibrium of :func:`flash_PT_3` (three phases where they exist, otherwise two or
+    one), whose h(T) rises with T at fixed P. A first evaluation at ``T_start``; a case already
+    within the tolerance ends there. Otherwise the bracket is grown from ``T_start`` in the
+    direction the residual's sign gives (steps of :data:`BRACKET_STEP` doubling up to
+    :data:`BRACKET_GROWTHS` times inside [:data:`T_FLOOR`, :data:`T_CEILING`]) and closed by the
+    bracketed root finder (Illinois regula falsi,
+    :func:`letdown.fluid.rootfind.bracketed_root`). The adiabatic three-phase separator and
+    the P-h / P-s flashes of :class:`letdown.fluid.cubic_fluid.CubicEngine` for fluids with water
+    both use this routine.
+
+    Parameters
+    ----------
+    engine : letdown.fluid.cubic_fluid.CubicEngine
+    P : ndarray (n,)
+        Pressure [Pa].
+    target : ndarray (n,)
+        Enthalpy [J/mol] (``which="h"``) or entropy [J/(mol K)] (``which="s"``).
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+    which : {"h", "s"}
+    T_start : ndarray (n,), optional
+        Starting temperature [K] (NaN or None: :data:`T_DEFAULT`).
+    start : ThreePhaseResult, optional
+        The three-phase flash at ``T_start`` if already done (saves one flash).
+
+    Returns
+    -------
+    ThreePhasePX
+    """
+    P = np.asarray(P, dtype=float)
+    target = np.asarray(target, dtype=float)
+    zs = np.asarray(zs, dtype=float)
+    n, nc = zs.shape
+    eos = engine.eos
+    T0 = np.full(n, T_DEFAULT) if T_start is None else np.asarray(T_start, dtype=float)
+    T0 = np.clip(np.where(np.isfinite(T0), T0, T_DEFAULT), T_FLOOR, T_CEILING)
+    store = _ResultStore(n, nc)
+    flashes = np.zeros(n, dtype=int)
+
+    def f(T, idx, res=None):
+        if res is None:
+            res = flash_PT_3(eos, T, P[idx], zs[idx])
+        store.put(idx, T, res)
+        flashes[idx] += 1
+        value = phase_properties(engine, T, P[idx], zs[idx], res)["whole"][which]
+        return value - target[idx]
+
+    ftol = np.full(n, PX_H_TOL) if which == "h" else PX_H_TOL / T0
+    all_idx = np.arange(n)
+    f0 = f(T0, all_idx, start)
+    lo, hi = T0.copy(), T0.copy()
+    f_lo, f_hi = f0.copy(), f0.copy()
+    # grow the bracket on the side the residual points to: h below target -> root above
+    up = f0 < -ftol
+    down = f0 > ftol
+    for k in range(BRACKET_GROWTHS + 1):
+        width = BRACKET_STEP * 2.0 ** k
+        i = np.flatnonzero(up & (f_hi < 0.0) & (hi < T_CEILING))
+        if i.size:
+            lo[i], f_lo[i] = hi[i], f_hi[i]
+            hi[i] = np.minimum(T0[i] + width, T_CEILING)
+            f_hi[i] = f(hi[i], i)
+        i = np.flatnonzero(down & (f_lo > 0.0) & (lo > T_FLOOR))
+        if i.size:
+            hi[i], f_hi[i] = lo[i], f_lo[i]
+            lo[i] = np.maximum(T0[i] - width, T_FLOOR)
+            f_lo[i] = f(lo[i], i)
+        if not (np.any(up & (f_hi < 0.0) & (hi < T_CEILING))
+                or np.any(down & (f_lo > 0.0) & (lo > T_FLOOR))):
+            break
+    T = T0.copy()
+    resid = f0.copy()
+    ok = ~(up | down)
+    b = np.flatnonzero((up | down) & (f_lo <= 0.0) & (f_hi >= 0.0))
+    if b.size:
+        root = bracketed_root(lambda x, idx: f(x, b[idx]), lo[b], hi[b], f_lo[b], f_hi[b],
+                              ftol=ftol[b], max_iterations=PX_MAX_ITERATIONS)
+        T[b] = root.x
+        resid[b] = root.fx
+        ok[b] = root.converged
+    # the flash at the answer: the last one computed for each case, unless the answer is a
+    # bracket end evaluated earlier
+    again = np.flatnonzero(store.T != T)
+    if again.size:
+        f(T[again], again)
+    res = store.result()
+    ok &= res.report.converged
+    return ThreePhasePX(T, res, SolveReport(ok, flashes, resid,
+                                            f"three-phase P-{which} flash"))
+
+
+def enthalpy_near(engine, T, P, zs, near: ThreePhaseResult, tol=FUG_TOL):
+    """Equilibrium enthalpy [J/mol] at (T, P) close to the state of a known three-phase result.
+
+    Where ``near`` has three phases, the three-phase split is started from its compositions (a few
+    substitution steps) and kept if it converges to ``tol`` with every phase present; elsewhere,
+    and where that fails, the full :func:`flash_PT_3`. For the effective heat capacity and
+    Joule-Thomson coefficient of multiphase states by finite differences.
+
+    Parameters
+    ----------
+    engine : letdown.fluid.cubic_fluid.CubicEngine
+    T, P : ndarray (n,)
+        [K], [Pa].
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+    near : ThreePhaseResult
+        The flash of the same feeds at a nearby (T, P).
+    tol : float
+        Convergence of the warm-started split on ln f [-].
+
+    Returns
+    -------
+    ndarray (n,)
+    """
+    n = T.shape[0]
+    h = np.empty(n)
+    done = np.zeros(n, dtype=bool)
+    i = np.flatnonzero(near.n_phases == 3)
+    if i.size:
+        X0 = np.stack([near.y[i], near.x[i], near.w[i]], axis=1)
+        betas, X, conv, iters, resid = _split3(engine.eos, T[i], P[i], zs[i], X0, tol)
+        good = conv & np.all(betas > 0.0, axis=1)
+        g = i[good]
+        if g.size:
+            r = ThreePhaseResult(betas[good, 0], betas[good, 1], betas[good, 2], X[good, 0],
+                                 X[good, 1], X[good, 2], np.full(g.size, 3),
+                                 SolveReport(conv[good], iters[good], resid[good], ""))
+            h[g] = phase_properties(engine, T[g], P[g], zs[g], r)["whole"]["h"]
+            done[g] = True
+    rest = np.flatnonzero(~done)
+    if rest.size:
+        r = flash_PT_3(engine.eos, T[rest], P[rest], zs[rest])
+        h[rest] = phase_properties(engine, T[rest], P[rest], zs[rest], r)["whole"]["h"]
+    return h
