@@ -117,24 +117,45 @@ def _water_trial_stability(eos, T, P, zs, lnph_z, iw):
 def _rr_multi(zs, K, beta0):
     """Multiphase Rachford-Rice: phase fractions beta (n, m) of the m non-reference phases for
     K (n, m, nc) against the reference phase, by bounded Newton minimisation of the convex
-    F = -sum z_i ln t_i. Returns beta and t (n, nc)."""
+    F = -sum z_i ln t_i. Returns beta and t (n, nc). A case stops once its gradient is below
+    RR_TOL after a full step; two phases (m = 2, the three-phase split) solve their 2x2 Newton
+    system in closed form."""
     n, m, nc = K.shape
     Km1 = K - 1.0                                        # (n, m, nc)
     beta = beta0.copy()
+    active = np.arange(n)
+    present = zs > 0
     for _ in range(RR_MAX_ITER):
-        t = 1.0 + np.einsum("nj,nji->ni", beta, Km1)
-        g = -np.einsum("ni,nji->nj", zs / t, Km1)         # dF/dbeta_j = -(sum_i x_ij - sum_i x_i0)
-        H = np.einsum("ni,nji,nki->njk", zs / t ** 2, Km1, Km1)
-        H += 1e-300 * np.eye(m)
-        d = -np.linalg.solve(H, g[..., None])[..., 0]
-        dt = np.einsum("nj,nji->ni", d, Km1)
+        if active.size == 0:
+            break
+        z, Ka, b = zs[active], Km1[active], beta[active]
+        if m == 2:
+            K1, K2 = Ka[:, 0], Ka[:, 1]
+            t = 1.0 + b[:, :1] * K1 + b[:, 1:] * K2
+            zt = z / t
+            zt2 = zt / t
+            g = -np.stack([np.sum(zt * K1, axis=1), np.sum(zt * K2, axis=1)], axis=1)
+            H11 = np.sum(zt2 * K1 * K1, axis=1) + 1e-300
+            H12 = np.sum(zt2 * K1 * K2, axis=1)
+            H22 = np.sum(zt2 * K2 * K2, axis=1) + 1e-300
+            det = H11 * H22 - H12 * H12
+            d = -np.stack([H22 * g[:, 0] - H12 * g[:, 1], H11 * g[:, 1] - H12 * g[:, 0]],
+                          axis=1) / det[:, None]
+            dt = d[:, :1] * K1 + d[:, 1:] * K2
+        else:
+            t = 1.0 + np.einsum("nj,nji->ni", b, Ka)
+            g = -np.einsum("ni,nji->nj", z / t, Ka)       # dF/dbeta_j = -(sum_i x_ij - sum_i x_i0)
+            H = np.einsum("ni,nji,nki->njk", z / t ** 2, Ka, Ka)
+            H += 1e-300 * np.eye(m)
+            d = -np.linalg.solve(H, g[..., None])[..., 0]
+            dt = np.einsum("nj,nji->ni", d, Ka)
         with np.errstate(divide="ignore", invalid="ignore"):
             lim = np.where(dt < 0.0, -t / dt, np.inf)
-        smax = RR_BOUNDARY_FRACTION * np.min(np.where(zs > 0, lim, np.inf), axis=1)
-        s = np.minimum(1.0, smax)
-        beta = beta + s[:, None] * d
-        if np.all(np.max(np.abs(g), axis=1) < RR_TOL) and np.all(s == 1.0):
-            break
+        smax = RR_BOUNDARY_FRACTION * np.min(np.where(present[active], lim, np.inf), axis=1)
+        step = np.minimum(1.0, smax)
+        beta[active] = b + step[:, None] * d
+        done = (np.max(np.abs(g), axis=1) < RR_TOL) & (step == 1.0)
+        active = active[~done]
     t = 1.0 + np.einsum("nj,nji->ni", beta, Km1)
     return beta, t
 
@@ -510,17 +531,18 @@ def phase_properties(engine, T, P, zs, res: ThreePhaseResult) -> dict:
 
 # ------------------------------------------------------------------------------------------------
 # P-h and P-s on the three-phase equilibrium
-#: The enthalpy target is met to this [J/mol] -- a temperature error of about 1e-6 K at a heat
-#: capacity of 100 J/(mol K), as the two-phase P-h flash (``cubic_fluid.PH_RESIDUAL_K``). The
-#: entropy target is met to this over T [J/(mol K)]. Below ~1e-5 J/mol the enthalpy of a split
-#: converged to FUG_TOL carries noise of its own.
-PX_H_TOL = 1e-4
+#: The enthalpy target is met to this [J/mol]: a temperature error of at most 1e-6 K (the
+#: two-phase P-h flash's ``cubic_fluid.PH_RESIDUAL_K``) wherever the heat capacity exceeds
+#: 10 J/(mol K); the entropy target to this over T [J/(mol K)]. The enthalpy of splits converged
+#: to FUG_TOL scatters by about 1e-7 J/mol (measured on the wet gases of tests/test_flash_water.py),
+#: 100 times below.
+PX_H_TOL = 1e-5
 #: Half-width of the first temperature step from the starting temperature [K]: the third phase
 #: shifts the temperature of gas with a little water by a few kelvin to about 15 K (measured on the
 #: LTS sheet of tests/test_separator_water.py: 12 K).
 BRACKET_STEP = 2.0
-#: The step is doubled this many times before a case is given up (2 K * 2^8 = 512 K).
-BRACKET_GROWTHS = 8
+#: Steps taken before a case is given up (at least doubling: 2 K * 2^8 = 512 K).
+BRACKET_GROWTHS = 9
 #: Lowest and highest temperatures the bracket may reach [K] (common practice: a gas with free
 #: water lies far inside).
 T_FLOOR, T_CEILING = 100.0, 700.0
@@ -599,12 +621,18 @@ def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> Th
     over the equilibrium of :func:`flash_PT_3` (three phases where they exist, otherwise two or
     one), whose h(T) rises with T at fixed P. A first evaluation at ``T_start``; a case already
     within the tolerance ends there. Otherwise the bracket is grown from ``T_start`` in the
-    direction the residual's sign gives (steps of :data:`BRACKET_STEP` doubling up to
-    :data:`BRACKET_GROWTHS` times inside [:data:`T_FLOOR`, :data:`T_CEILING`]) and closed by the
-    bracketed root finder (Illinois regula falsi,
-    :func:`letdown.fluid.rootfind.bracketed_root`). The adiabatic three-phase separator and
-    the P-h / P-s flashes of :class:`letdown.fluid.cubic_fluid.CubicEngine` for fluids with water
-    both use this routine.
+    direction the residual's sign gives (a first step of :data:`BRACKET_STEP`, then the secant
+    through the last two points overshot by :data:`BRACKET_OVERSHOOT`, never less than the step
+    before; at most :data:`BRACKET_GROWTHS` steps inside [:data:`T_FLOOR`, :data:`T_CEILING`]) and
+    closed by the bracketed root finder (Illinois regula falsi,
+    :func:`letdown.fluid.rootfind.bracketed_root`).
+
+    Iterates next to a three-phase state start their split from its phases (a few substitution
+    steps instead of the stability tests); one that loses a phase or does not converge is flashed
+    in full. The answer is then checked by the full :func:`flash_PT_3` at its temperature (so it
+    is exactly the P-T state there); a case whose full flash misses the target is solved again
+    with full flashes throughout. The adiabatic three-phase separator and the P-h / P-s flashes of
+    :class:`letdown.fluid.cubic_fluid.CubicEngine` for fluids with water both use this routine.
 
     Parameters
     ----------
@@ -629,43 +657,119 @@ def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> Th
     target = np.asarray(target, dtype=float)
     zs = np.asarray(zs, dtype=float)
     n, nc = zs.shape
-    eos = engine.eos
     T0 = np.full(n, T_DEFAULT) if T_start is None else np.asarray(T_start, dtype=float)
     T0 = np.clip(np.where(np.isfinite(T0), T0, T_DEFAULT), T_FLOOR, T_CEILING)
+    ftol = np.full(n, PX_H_TOL) if which == "h" else PX_H_TOL / T0
+    T, ok, resid, flashes, store, full = _px_solve(engine, P, target, zs, which, T0, start,
+                                                    ftol, True)
+    # the answer by the full flash where a warm-started split (or an earlier bracket end) led
+    # to it; elsewhere the last flash of the case was the full one at T
+    w = np.flatnonzero(~full)
+    if w.size:
+        res_w = flash_PT_3(engine.eos, T[w], P[w], zs[w])
+        flashes[w] += 1
+        value = phase_properties(engine, T[w], P[w], zs[w], res_w)["whole"][which]
+        fw = value - target[w]
+        store.put(w, T[w], res_w)
+        resid[w] = np.where(ok[w], fw, resid[w])
+        miss = ok[w] & (np.abs(fw) > ftol[w])
+        if miss.any():
+            # the warm-started path was not the equilibrium: full flashes throughout
+            m = w[miss]
+            Tm, okm, rm, fm, sm, _ = _px_solve(engine, P[m], target[m], zs[m], which, T0[m],
+                                               None, ftol[m], False)
+            T[m], ok[m], resid[m] = Tm, okm, rm
+            flashes[m] += fm
+            store.put(m, Tm, sm.result())
+    res = store.result()
+    ok &= res.report.converged
+    return ThreePhasePX(T, res, SolveReport(ok, flashes, resid, f"three-phase P-{which} flash"))
+
+
+#: Bracket growth after the first step: the secant's distance to the root times this [-] (with
+#: a little margin) so that the next point lands past the root; common practice for a monotone
+#: function whose slope changes slowly.
+BRACKET_OVERSHOOT = 1.25
+#: Phases of a warm-started three-phase split closer than this (sum of squared differences of
+#: mole fractions) are one phase: the split is trivial and the case is flashed in full (as
+#: letdown.fluid.flash.TRIVIAL_DIST).
+TRIVIAL_SPLIT = 1e-7
+
+
+def _px_solve(engine, P, target, zs, which, T0, start, ftol, warm):
+    """The bracket and root of :func:`flash_PX_3` (``warm``: iterates start from the phases of
+    the case's last three-phase state). Returns T, converged, residual, flashes per case, the
+    store of the last flash of each case, and whether that flash is a full one at T."""
+    eos = engine.eos
+    n, nc = zs.shape
     store = _ResultStore(n, nc)
     flashes = np.zeros(n, dtype=int)
+    was_warm = np.zeros(n, dtype=bool)
+
+    def flash(T, idx):
+        if not warm:
+            return flash_PT_3(eos, T, P[idx], zs[idx]), np.zeros(idx.size, dtype=bool)
+        near = np.flatnonzero((store.nph[idx] == 3) & store.conv[idx])
+        out = _ResultStore(idx.size, nc)
+        good = np.zeros(idx.size, dtype=bool)
+        if near.size:
+            j = idx[near]
+            betas, X, conv, iters, resid = _split3(eos, T[near], P[j], zs[j], store.X[j])
+            distinct = np.ones(near.size, dtype=bool)
+            for a_, b_ in ((0, 1), (0, 2), (1, 2)):
+                distinct &= np.sum((X[:, a_] - X[:, b_]) ** 2, axis=1) > TRIVIAL_SPLIT
+            g = conv & np.all(betas > 0.0, axis=1) & distinct
+            if g.any():
+                out.put(near[g], T[near[g]], ThreePhaseResult(
+                    betas[g, 0], betas[g, 1], betas[g, 2], X[g, 0], X[g, 1], X[g, 2],
+                    np.full(int(g.sum()), 3), SolveReport(conv[g], iters[g], resid[g])))
+                good[near[g]] = True
+        rest = np.flatnonzero(~good)
+        if rest.size:
+            out.put(rest, T[rest], flash_PT_3(eos, T[rest], P[idx[rest]], zs[idx[rest]]))
+        return out.result(), good
 
     def f(T, idx, res=None):
+        w = np.zeros(idx.size, dtype=bool)
         if res is None:
-            res = flash_PT_3(eos, T, P[idx], zs[idx])
+            res, w = flash(T, idx)
         store.put(idx, T, res)
+        was_warm[idx] = w
         flashes[idx] += 1
         value = phase_properties(engine, T, P[idx], zs[idx], res)["whole"][which]
         return value - target[idx]
 
-    ftol = np.full(n, PX_H_TOL) if which == "h" else PX_H_TOL / T0
-    all_idx = np.arange(n)
-    f0 = f(T0, all_idx, start)
+    f0 = f(T0, np.arange(n), start)
     lo, hi = T0.copy(), T0.copy()
     f_lo, f_hi = f0.copy(), f0.copy()
     # grow the bracket on the side the residual points to: h below target -> root above
     up = f0 < -ftol
     down = f0 > ftol
-    for k in range(BRACKET_GROWTHS + 1):
-        width = BRACKET_STEP * 2.0 ** k
-        i = np.flatnonzero(up & (f_hi < 0.0) & (hi < T_CEILING))
-        if i.size:
-            lo[i], f_lo[i] = hi[i], f_hi[i]
-            hi[i] = np.minimum(T0[i] + width, T_CEILING)
-            f_hi[i] = f(hi[i], i)
-        i = np.flatnonzero(down & (f_lo > 0.0) & (lo > T_FLOOR))
-        if i.size:
-            hi[i], f_hi[i] = lo[i], f_lo[i]
-            lo[i] = np.maximum(T0[i] - width, T_FLOOR)
-            f_lo[i] = f(lo[i], i)
-        if not (np.any(up & (f_hi < 0.0) & (hi < T_CEILING))
-                or np.any(down & (f_lo > 0.0) & (lo > T_FLOOR))):
+    step = np.full(n, BRACKET_STEP)
+    for k in range(BRACKET_GROWTHS):
+        go_up = np.flatnonzero(up & (f_hi < 0.0) & (hi < T_CEILING))
+        go_down = np.flatnonzero(down & (f_lo > 0.0) & (lo > T_FLOOR))
+        if go_up.size == 0 and go_down.size == 0:
             break
+        for i, sign in ((go_up, 1.0), (go_down, -1.0)):
+            if i.size == 0:
+                continue
+            if k > 0:
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    far, f_far = (hi[i], f_hi[i]) if sign > 0 else (lo[i], f_lo[i])
+                    near, f_near = (lo[i], f_lo[i]) if sign > 0 else (hi[i], f_hi[i])
+                    ds = -f_far * (far - near) / (f_far - f_near) * sign
+                secant = np.isfinite(ds) & (ds > 0.0)
+                step[i] = np.where(secant, np.maximum(BRACKET_OVERSHOOT * ds + 0.05 * step[i],
+                                                      step[i]), 2.0 * step[i])
+            if sign > 0:
+                lo[i], f_lo[i] = hi[i], f_hi[i]
+                hi[i] = np.minimum(lo[i] + step[i], T_CEILING)
+                f_hi[i] = f(hi[i], i)
+            else:
+                hi[i], f_hi[i] = lo[i], f_lo[i]
+                lo[i] = np.maximum(hi[i] - step[i], T_FLOOR)
+                f_lo[i] = f(lo[i], i)
     T = T0.copy()
     resid = f0.copy()
     ok = ~(up | down)
@@ -676,15 +780,8 @@ def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> Th
         T[b] = root.x
         resid[b] = root.fx
         ok[b] = root.converged
-    # the flash at the answer: the last one computed for each case, unless the answer is a
-    # bracket end evaluated earlier
-    again = np.flatnonzero(store.T != T)
-    if again.size:
-        f(T[again], again)
-    res = store.result()
-    ok &= res.report.converged
-    return ThreePhasePX(T, res, SolveReport(ok, flashes, resid,
-                                            f"three-phase P-{which} flash"))
+    # the answer may be a bracket end evaluated before the last flash of its case
+    return T, ok, resid, flashes, store, ~was_warm & (store.T == T)
 
 
 def enthalpy_near(engine, T, P, zs, near: ThreePhaseResult, tol=FUG_TOL):
