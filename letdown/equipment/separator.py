@@ -93,13 +93,15 @@ def run(fluid, name: str, inlets, params):
     """
     inlet = inlets["in"]
     P_out = outlet_pressure({"dP": params.get("dP", 0.0)}, inlet, name, required=True)
-    states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs)
     if "water" in fluid.components and fluid.model != "gerg-2008":
+        # the three-phase P-h flash starts from the inlet temperature (the answer when dP = 0)
+        states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs, T_guess=inlet.T)
         outlets = _three_phase(fluid, inlet, P_out, states, bool(params.get("water_port", True)))
         shift = outlets["vapour"].T - np.asarray(states.T, dtype=float)
         return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
                       details={"dT_vs_two_phase_K": shift},
                       flags={"three_phase_T_shift": ~(np.abs(shift) <= T_SHIFT_FLAG)})
+    states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs)
     beta = np.asarray(states.vapour_fraction, dtype=float)
     ys = np.asarray(states.ys, dtype=float)
     F = inlet.flow

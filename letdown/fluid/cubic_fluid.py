@@ -237,7 +237,7 @@ class CubicEngine:
         st = self._flash_P_X_two(P, target, zs, which, T_guess)
         if self._iw is None:
             return st
-        return self._three_phase_PX(st, target, which)
+        return self._three_phase_PX(st, target, which, T_guess)
 
     def _flash_P_X_two(self, P, target, zs, which, T_guess):
         """The P-h / P-s flash on the two-phase equilibrium (all a fluid without water needs)."""
@@ -348,12 +348,14 @@ class CubicEngine:
         return st.put(u, self._assemble_three(st.T[u], st.P[u], st.zs[u],
                                               threephase.take_result(res, unstable)))
 
-    def _three_phase_PX(self, st: States, target, which) -> States:
+    def _three_phase_PX(self, st: States, target, which, T_guess=None) -> States:
         """The P-h (P-s) states of a fluid with water. The two-phase answer of a mixture with
         water is tested for stability at its temperature; where it is not stable (or the
         two-phase solve failed) T is solved again on the three-phase equilibrium
-        (:func:`letdown.fluid.threephase.flash_PX_3`), started from the two-phase temperature.
-        h(T) of the true equilibrium rises with T, so a stable two-phase answer is the answer."""
+        (:func:`letdown.fluid.threephase.flash_PX_3`), started from ``T_guess`` where one is
+        given (a block's inlet temperature, a loop's last answer: often the answer itself), else
+        from the two-phase temperature. h(T) of the true equilibrium rises with T, so a stable
+        two-phase answer is the answer."""
         from dataclasses import replace
         from . import threephase
         st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
@@ -377,7 +379,12 @@ class CubicEngine:
             s = unstable_idx
         if s.size == 0:
             return st
-        px = threephase.flash_PX_3(self, st.P[s], target[s], st.zs[s], which, st.T[s], start)
+        T_start = st.T[s]
+        if T_guess is not None:
+            guess = T_guess[s]
+            T_start = np.where(np.isfinite(guess), guess, T_start)
+            start = None
+        px = threephase.flash_PX_3(self, st.P[s], target[s], st.zs[s], which, T_start, start)
         return st.put(s, self._assemble_three(px.T, st.P[s], st.zs[s], px.flash,
                                               px.report.converged))
 

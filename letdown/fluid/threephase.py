@@ -44,8 +44,8 @@ import numpy as np
 
 from .components import R
 from .cubic import CubicEOS
-from .flash import (SolveReport, flash_PT, is_vapour_like, stability, two_phase_flash, K_CLIP,
-                    TM_UNSTABLE)
+from .flash import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, SolveReport, _gdem, flash_PT,
+                    is_vapour_like, stability, two_phase_flash)
 from .rootfind import bracketed_root
 
 #: Converged when the largest difference of ln f_i between phases is below this [-].
@@ -160,20 +160,25 @@ def _rr_multi(zs, K, beta0):
     return beta, t
 
 
-def _split3(eos, T, P, zs, X0, tol=FUG_TOL):
+def _split3(eos, T, P, zs, X0, tol=FUG_TOL, beta0=None):
     """Successive substitution for three phases from starting compositions X0 (n, 3, nc) (phase 0
-    the reference), converged when ln f agree to ``tol``. Returns betas (n, 3), X (n, 3, nc),
+    the reference; ``beta0`` (n, 2) the fractions of phases 1 and 2 to start the Rachford-Rice
+    from), converged when ln f agree to ``tol``. Every ``ACCELERATE_EVERY`` steps the sequence of
+    ln K (both phases, stacked) is extrapolated by the dominant eigenvalue where two estimates
+    agree (:func:`letdown.fluid.flash._gdem`, Crowe & Nishio 1975), as in the two-phase split;
+    convergence is still judged on the fugacities. Returns betas (n, 3), X (n, 3, nc),
     converged (n,), iterations, residual."""
     n, _, nc = X0.shape
     present = zs > 0.0
     tiny = 1e-300
     lnK = np.log(np.clip(X0[:, 1:, :], tiny, None)) - np.log(np.clip(X0[:, :1, :], tiny, None))
     lnK = np.where(present[:, None, :], np.clip(lnK, np.log(K_CLIP[0]), np.log(K_CLIP[1])), 0.0)
-    beta = np.full((n, 2), 1.0 / 3.0)
+    beta = np.full((n, 2), 1.0 / 3.0) if beta0 is None else np.array(beta0, dtype=float)
     conv = np.zeros(n, dtype=bool)
     iters = np.zeros(n, dtype=int)
     resid = np.full(n, np.inf)
     X = X0.copy()
+    hist = []
     for it in range(SS_MAX_ITER):
         idx = np.nonzero(~conv)[0]
         if idx.size == 0:
@@ -196,6 +201,12 @@ def _split3(eos, T, P, zs, X0, tol=FUG_TOL):
         ok = res < tol
         conv[idx[ok]] = True
         lnK[idx[~ok]] = new[~ok]
+        hist.append(lnK.reshape(n, 2 * nc).copy())
+        if len(hist) > 4:
+            hist.pop(0)
+        if (it + 1) % ACCELERATE_EVERY == 0 and len(hist) == 4:
+            lnK = _gdem(hist, lnK.reshape(n, 2 * nc), ~conv).reshape(n, 2, nc)
+            hist = []
     betas = np.concatenate([(1.0 - beta.sum(axis=1))[:, None], beta], axis=1)
     return betas, X, conv, iters, resid
 
@@ -714,7 +725,8 @@ def _px_solve(engine, P, target, zs, which, T0, start, ftol, warm):
         good = np.zeros(idx.size, dtype=bool)
         if near.size:
             j = idx[near]
-            betas, X, conv, iters, resid = _split3(eos, T[near], P[j], zs[j], store.X[j])
+            betas, X, conv, iters, resid = _split3(eos, T[near], P[j], zs[j], store.X[j],
+                                                   beta0=store.b[j, 1:])
             distinct = np.ones(near.size, dtype=bool)
             for a_, b_ in ((0, 1), (0, 2), (1, 2)):
                 distinct &= np.sum((X[:, a_] - X[:, b_]) ** 2, axis=1) > TRIVIAL_SPLIT
@@ -814,7 +826,9 @@ def enthalpy_near(engine, T, P, zs, near: ThreePhaseResult, tol=FUG_TOL):
     i = np.flatnonzero(near.n_phases == 3)
     if i.size:
         X0 = np.stack([near.y[i], near.x[i], near.w[i]], axis=1)
-        betas, X, conv, iters, resid = _split3(engine.eos, T[i], P[i], zs[i], X0, tol)
+        betas, X, conv, iters, resid = _split3(
+            engine.eos, T[i], P[i], zs[i], X0, tol,
+            beta0=np.stack([near.beta_L[i], near.beta_W[i]], axis=1))
         good = conv & np.all(betas > 0.0, axis=1)
         g = i[good]
         if g.size:
