@@ -355,13 +355,18 @@ class CubicEngine:
         (:func:`letdown.fluid.threephase.flash_PX_3`), started from ``T_guess`` where one is
         given (a block's inlet temperature, a loop's last answer: often the answer itself), else
         from the two-phase temperature. h(T) of the true equilibrium rises with T, so a stable
-        two-phase answer is the answer."""
+        two-phase answer is the answer. A two-phase answer below
+        :data:`letdown.fluid.threephase.T_FLOOR` is solved again too."""
         from dataclasses import replace
         from . import threephase
         st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
         wet = self._wet_cases(st.zs)
-        failed = np.flatnonzero(wet & ~st.converged)
-        c = np.flatnonzero(wet & st.converged)
+        # a two-phase answer below the three-phase solve's floor is not trusted either: water in
+        # the cubic's liquid there (tens of kelvin) is no state of a gas with water, and such an
+        # answer has been seen to meet h on a branch far from the equilibrium (61 K for 343 K)
+        suspect = ~st.converged | (st.T < threephase.T_FLOOR)
+        failed = np.flatnonzero(wet & suspect)
+        c = np.flatnonzero(wet & ~suspect)
         unstable_idx = np.zeros(0, dtype=int)
         start = None
         if c.size:

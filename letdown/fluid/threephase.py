@@ -45,7 +45,7 @@ import numpy as np
 from .components import R
 from .cubic import CubicEOS
 from .flash import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, SolveReport, _gdem, flash_PT,
-                    is_vapour_like, stability, two_phase_flash)
+                    is_vapour_like, stability, two_phase_flash, wilson_K)
 from .rootfind import bracketed_root
 
 #: Converged when the largest difference of ln f_i between phases is below this [-].
@@ -91,27 +91,82 @@ class ThreePhaseResult:
 def _water_trial_stability(eos, T, P, zs, lnph_z, iw):
     """Minimum modified tangent-plane distance from a nearly-pure-water trial (n,), its trial."""
     present = zs > 0.0
-    with np.errstate(divide="ignore"):
-        d = np.where(present, np.log(zs) + lnph_z, -np.inf)
     W = np.where(present, WATER_TRIAL_TRACE * zs, 0.0)
     W[:, iw] = 1.0
-    lnW = np.where(present, np.log(np.where(present, W, 1.0)), -np.inf)
-    tm = np.zeros(zs.shape[0])
+    return _trial_stability(eos, T, P, zs, lnph_z, W)
+
+
+def _dry_liquid_trial_stability(eos, T, P, zs, lnph_z, iw):
+    """Minimum modified tangent-plane distance from a water-free liquid trial (n,), its trial.
+
+    The trial is the Wilson liquid-like one of the tested phase with its water cut to a trace
+    (x_i = z_i / K_i, water WATER_TRIAL_TRACE times that): where water is abundant, the usual
+    liquid-like trial is mostly water and converges onto the aqueous phase, and a hydrocarbon
+    liquid beside vapour and water can be missed (found so for 50 % water with n-hexane and
+    methane near 343 K and 6 bar, tests/test_flash_water.py)."""
+    present = zs > 0.0
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        W = np.where(present, zs / wilson_K(eos, T, P), 0.0)
+    W[:, iw] *= WATER_TRIAL_TRACE
+    return _trial_stability(eos, T, P, zs, lnph_z, W)
+
+
+def _trial_stability(eos, T, P, zs, lnph_z, W0):
+    """Tangent-plane distance minimised by successive substitution from the trial mole numbers
+    W0 (n, nc) on the liquid root (Michelsen 1982): tm (n,) (0 for a trivial trial) and the
+    trial composition (n, nc)."""
+    present = zs > 0.0
+    n = zs.shape[0]
+    with np.errstate(divide="ignore"):
+        d = np.where(present, np.log(zs) + lnph_z, -np.inf)
+    lnW = np.where(present, np.log(np.where(present & (W0 > 0.0), W0, 1e-300)), -np.inf)
+    tm = np.zeros(n)
+    active = np.arange(n)
     for _ in range(STAB_MAX_ITER):
-        Wa = np.exp(lnW)
-        w = Wa / Wa.sum(axis=1, keepdims=True)
-        lnph, _ = eos.lnphi(T, P, w, "liquid")
-        with np.errstate(invalid="ignore"):
-            tm = 1.0 + np.sum(np.where(present, Wa * (lnW + lnph - d - 1.0), 0.0), axis=1)
-            new = np.where(present, d - lnph, -np.inf)
-            step = np.max(np.where(present, np.abs(new - lnW), 0.0), axis=1)
-        lnW = new
-        if np.all(step < STAB_TOL):
+        if active.size == 0:
             break
+        pa = present[active]
+        Wa = np.exp(lnW[active])
+        w = Wa / Wa.sum(axis=1, keepdims=True)
+        lnph, _ = eos.lnphi(T[active], P[active], w, "liquid")
+        with np.errstate(invalid="ignore"):
+            tm[active] = 1.0 + np.sum(np.where(pa, Wa * (lnW[active] + lnph - d[active] - 1.0),
+                                               0.0), axis=1)
+            new = np.where(pa, d[active] - lnph, -np.inf)
+            step = np.max(np.where(pa, np.abs(new - lnW[active]), 0.0), axis=1)
+        lnW[active] = new
+        active = active[~(step < STAB_TOL) & np.isfinite(step)]
     Wa = np.exp(lnW)
     w = Wa / Wa.sum(axis=1, keepdims=True)
     trivial = np.sum((w - zs) ** 2, axis=1) < 1e-7
     return np.where(trivial, 0.0, tm), w
+
+
+def _rr_newton_step(z, Ka, b, m):
+    """One Newton step of the multiphase Rachford-Rice (see :func:`_rr_multi`) for K - 1 = Ka
+    (n, m, nc) at fractions b (n, m): t (n, nc), the gradient g (n, m), the step d (n, m) and
+    the change of t along it, dt (n, nc)."""
+    if m == 2:
+        K1, K2 = Ka[:, 0], Ka[:, 1]
+        t = 1.0 + b[:, :1] * K1 + b[:, 1:] * K2
+        zt = z / t
+        zt2 = zt / t
+        g = -np.stack([np.sum(zt * K1, axis=1), np.sum(zt * K2, axis=1)], axis=1)
+        H11 = np.sum(zt2 * K1 * K1, axis=1) + 1e-300
+        H12 = np.sum(zt2 * K1 * K2, axis=1)
+        H22 = np.sum(zt2 * K2 * K2, axis=1) + 1e-300
+        det = H11 * H22 - H12 * H12
+        d = -np.stack([H22 * g[:, 0] - H12 * g[:, 1], H11 * g[:, 1] - H12 * g[:, 0]],
+                      axis=1) / det[:, None]
+        dt = d[:, :1] * K1 + d[:, 1:] * K2
+    else:
+        t = 1.0 + np.einsum("nj,nji->ni", b, Ka)
+        g = -np.einsum("ni,nji->nj", z / t, Ka)       # dF/dbeta_j = -(sum_i x_ij - sum_i x_i0)
+        H = np.einsum("ni,nji,nki->njk", z / t ** 2, Ka, Ka)
+        H += 1e-300 * np.eye(m)
+        d = -np.linalg.solve(H, g[..., None])[..., 0]
+        dt = np.einsum("nj,nji->ni", d, Ka)
+    return t, g, d, dt
 
 
 def _rr_multi(zs, K, beta0):
@@ -129,32 +184,18 @@ def _rr_multi(zs, K, beta0):
         if active.size == 0:
             break
         z, Ka, b = zs[active], Km1[active], beta[active]
-        if m == 2:
-            K1, K2 = Ka[:, 0], Ka[:, 1]
-            t = 1.0 + b[:, :1] * K1 + b[:, 1:] * K2
-            zt = z / t
-            zt2 = zt / t
-            g = -np.stack([np.sum(zt * K1, axis=1), np.sum(zt * K2, axis=1)], axis=1)
-            H11 = np.sum(zt2 * K1 * K1, axis=1) + 1e-300
-            H12 = np.sum(zt2 * K1 * K2, axis=1)
-            H22 = np.sum(zt2 * K2 * K2, axis=1) + 1e-300
-            det = H11 * H22 - H12 * H12
-            d = -np.stack([H22 * g[:, 0] - H12 * g[:, 1], H11 * g[:, 1] - H12 * g[:, 0]],
-                          axis=1) / det[:, None]
-            dt = d[:, :1] * K1 + d[:, 1:] * K2
-        else:
-            t = 1.0 + np.einsum("nj,nji->ni", b, Ka)
-            g = -np.einsum("ni,nji->nj", z / t, Ka)       # dF/dbeta_j = -(sum_i x_ij - sum_i x_i0)
-            H = np.einsum("ni,nji,nki->njk", z / t ** 2, Ka, Ka)
-            H += 1e-300 * np.eye(m)
-            d = -np.linalg.solve(H, g[..., None])[..., 0]
-            dt = np.einsum("nj,nji->ni", d, Ka)
+        # NaN from a case whose K-values failed ends that case below (no warning needed)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            t, g, d, dt = _rr_newton_step(z, Ka, b, m)
         with np.errstate(divide="ignore", invalid="ignore"):
             lim = np.where(dt < 0.0, -t / dt, np.inf)
         smax = RR_BOUNDARY_FRACTION * np.min(np.where(present[active], lim, np.inf), axis=1)
         step = np.minimum(1.0, smax)
-        beta[active] = b + step[:, None] * d
-        done = (np.max(np.abs(g), axis=1) < RR_TOL) & (step == 1.0)
+        with np.errstate(invalid="ignore"):
+            beta[active] = b + step[:, None] * d
+        # done: converged, or not finite (no Newton step can mend it; the caller sees the NaN)
+        done = ((np.max(np.abs(g), axis=1) < RR_TOL) & (step == 1.0)) \
+            | ~np.all(np.isfinite(beta[active]), axis=1)
         active = active[~done]
     t = 1.0 + np.einsum("nj,nji->ni", beta, Km1)
     return beta, t
@@ -179,15 +220,17 @@ def _split3(eos, T, P, zs, X0, tol=FUG_TOL, beta0=None):
     resid = np.full(n, np.inf)
     X = X0.copy()
     hist = []
+    dead = np.zeros(n, dtype=bool)
     for it in range(SS_MAX_ITER):
-        idx = np.nonzero(~conv)[0]
+        idx = np.nonzero(~conv & ~dead)[0]
         if idx.size == 0:
             break
         K = np.exp(lnK[idx])
         b, t = _rr_multi(zs[idx], K, beta[idx])
-        x0 = zs[idx] / t
-        Xi = np.concatenate([x0[:, None, :], K * x0[:, None, :]], axis=1)
-        Xi /= Xi.sum(axis=2, keepdims=True)
+        with np.errstate(divide="ignore", invalid="ignore"):     # a lost case: NaN, stopped below
+            x0 = zs[idx] / t
+            Xi = np.concatenate([x0[:, None, :], K * x0[:, None, :]], axis=1)
+            Xi /= Xi.sum(axis=2, keepdims=True)
         m = idx.size
         lnph, _ = eos.lnphi(np.repeat(T[idx], 3), np.repeat(P[idx], 3), Xi.reshape(3 * m, nc),
                             "stable")
@@ -201,14 +244,104 @@ def _split3(eos, T, P, zs, X0, tol=FUG_TOL, beta0=None):
         ok = res < tol
         conv[idx[ok]] = True
         lnK[idx[~ok]] = new[~ok]
+        # a case whose numbers went non-finite cannot recover: stop it, unconverged
+        lost = ~np.isfinite(res) | ~np.all(np.isfinite(b), axis=1)
+        if lost.any():
+            dead[idx[lost]] = True
+            conv[idx[lost]] = False
         hist.append(lnK.reshape(n, 2 * nc).copy())
         if len(hist) > 4:
             hist.pop(0)
         if (it + 1) % ACCELERATE_EVERY == 0 and len(hist) == 4:
-            lnK = _gdem(hist, lnK.reshape(n, 2 * nc), ~conv).reshape(n, 2, nc)
+            lnK = _gdem(hist, lnK.reshape(n, 2 * nc), ~conv & ~dead).reshape(n, 2, nc)
             hist = []
+    # Newton finish where substitution crawls (near a critical point of two of the phases)
+    left = np.flatnonzero(~conv & ~dead & np.all(np.isfinite(lnK), axis=(1, 2)))
+    if left.size:
+        lk, b, Xn, ok, res, nit = _newton3(eos, T[left], P[left], zs[left], lnK[left],
+                                            beta[left], tol)
+        lnK[left], beta[left], X[left], conv[left], resid[left] = lk, b, Xn, ok, res
+        iters[left] += nit
     betas = np.concatenate([(1.0 - beta.sum(axis=1))[:, None], beta], axis=1)
     return betas, X, conv, iters, resid
+
+
+#: Newton finish of the three-phase split: iterations, forward-difference step in ln K, and the
+#: largest Newton step in ln K (as letdown.fluid.flash.NEWTON_MAX_ITER, NEWTON_FD_STEP,
+#: NEWTON_MAX_STEP for two phases).
+NEWTON3_MAX_ITER = 30
+NEWTON3_FD_STEP = 1e-7
+NEWTON3_MAX_STEP = 1.0
+
+
+def _ss_map(eos, T, P, zs, lnK, beta):
+    """One substitution map: phase fractions, compositions, the residual ln K - (ln phi_0 -
+    ln phi_j) (n, 2, nc) and the largest ln f difference (n,)."""
+    n, _, nc = lnK.shape
+    present = zs > 0.0
+    K = np.exp(lnK)
+    b, t = _rr_multi(zs, K, beta)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x0 = zs / t
+        Xi = np.concatenate([x0[:, None, :], K * x0[:, None, :]], axis=1)
+        Xi /= Xi.sum(axis=2, keepdims=True)
+    lnph, _ = eos.lnphi(np.repeat(T, 3), np.repeat(P, 3), Xi.reshape(3 * n, nc), "stable")
+    lnph = lnph.reshape(n, 3, nc)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        lnf = np.where(present[:, None, :], np.log(Xi) + lnph, 0.0)
+    res = np.max(np.abs(lnf[:, 1:, :] - lnf[:, :1, :]), axis=(1, 2))
+    G = np.where(present[:, None, :], lnK - (lnph[:, :1, :] - lnph[:, 1:, :]), 0.0)
+    return b, Xi, G, res
+
+
+def _newton3(eos, T, P, zs, lnK, beta, tol):
+    """Newton iterations on G(ln K) = ln K - (ln phi_0(x_0) - ln phi_j(x_j)) = 0 for the two
+    K-vectors of a three-phase split, Jacobian by forward differences (absent components held
+    at ln K = 0). Returns ln K, beta, X, converged, residual (ln f), iterations."""
+    n, _, nc = lnK.shape
+    m = 2 * nc
+    present = np.concatenate([zs > 0.0, zs > 0.0], axis=1)          # (n, 2 nc)
+    lnK = lnK.copy()
+    beta = beta.copy()
+    X = np.full((n, 3, nc), np.nan)
+    conv = np.zeros(n, dtype=bool)
+    res = np.full(n, np.inf)
+    nit = np.zeros(n, dtype=int)
+    for _ in range(NEWTON3_MAX_ITER):
+        i = np.flatnonzero(~conv)
+        if i.size == 0:
+            break
+        b, Xi, G, r = _ss_map(eos, T[i], P[i], zs[i], lnK[i], beta[i])
+        beta[i], X[i], res[i] = b, Xi, r
+        nit[i] += 1
+        ok = r < tol
+        conv[i[ok]] = True
+        i, G, b = i[~ok], G[~ok], b[~ok]
+        if i.size == 0:
+            break
+        g = G.reshape(i.size, m)
+        J = np.empty((i.size, m, m))
+        base = lnK[i].reshape(i.size, m)
+        # all perturbations of all cases in one batch
+        pert = np.repeat(base[:, None, :], m, axis=1) + NEWTON3_FD_STEP * np.eye(m)[None]
+        rep = lambda a: np.repeat(a, m, axis=0)
+        _, _, Gp, _ = _ss_map(eos, rep(T[i]), rep(P[i]), rep(zs[i]),
+                              pert.reshape(i.size * m, 2, nc), rep(b))
+        J = ((Gp.reshape(i.size, m, m) - g[:, None, :]) / NEWTON3_FD_STEP).transpose(0, 2, 1)
+        J = np.where(present[i][:, :, None] & present[i][:, None, :], J,
+                     np.eye(m)[None] * 1.0)
+        with np.errstate(invalid="ignore", over="ignore"):
+            try:
+                d = -np.linalg.solve(J, np.where(present[i], g, 0.0)[..., None])[..., 0]
+            except np.linalg.LinAlgError:
+                break
+        big = np.max(np.abs(d), axis=1)
+        d *= np.where(big > NEWTON3_MAX_STEP, NEWTON3_MAX_STEP / np.where(big > 0, big, 1.0),
+                      1.0)[:, None]
+        d = np.where(np.isfinite(d), d, 0.0)
+        lnK[i] = (base + d).reshape(i.size, 2, nc)
+        beta[i] = b
+    return lnK, beta, X, conv, res, nit
 
 
 def _mass_density(eos, T, P, xs):
@@ -279,6 +412,7 @@ def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
     iters = sp.report.iterations.copy()
     resid = np.zeros(n)
     # stability of each phase present; the most negative trial wins
+    untested = np.zeros(n, dtype=bool)
     tm_best = np.zeros(n)
     w_best = np.full((n, nc), np.nan)
     for k in range(2):
@@ -291,14 +425,19 @@ def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
         tm, w = st.tm, st.ws
         if iw is not None:
             has_w = xk[:, iw] > 0.0
-            tmw, ww = _water_trial_stability(eos, T[idx], P[idx], xk, lnph, iw)
-            better = has_w & (tmw < tm)
-            tm = np.where(better, tmw, tm)
-            w = np.where(better[:, None], ww, w)
+            for trial in (_water_trial_stability, _dry_liquid_trial_stability):
+                tmw, ww = trial(eos, T[idx], P[idx], xk, lnph, iw)
+                better = has_w & (tmw < tm)
+                tm = np.where(better, tmw, tm)
+                w = np.where(better[:, None], ww, w)
         upd = tm < tm_best[idx]
         tm_best[idx[upd]] = tm[upd]
         w_best[idx[upd]] = w[upd]
-    unstable = tm_best < TM_UNSTABLE
+        untested[idx[~np.isfinite(tm)]] = True
+    # a phase whose test gave no number (the equation failed there) is not known to be stable:
+    # the case is reported unconverged, not split
+    conv &= ~untested
+    unstable = (tm_best < TM_UNSTABLE) & ~untested
     nph = np.where(single, 1, 2)
     if unstable.any():
         u = np.nonzero(unstable)[0]
@@ -347,7 +486,7 @@ def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
         X = np.concatenate([X, np.zeros((n, 1, nc))], axis=1)
         B = np.concatenate([B, np.zeros((n, 1))], axis=1)
     return _name_phases(eos, T, P, zs, X, B, nph, iw, SolveReport(
-        conv, iters, resid, "three-phase PT flash")), unstable
+        conv, iters, resid, "three-phase PT flash")), unstable | untested
 
 
 def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
