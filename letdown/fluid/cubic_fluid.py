@@ -2,6 +2,11 @@
 
 This is the engine behind :class:`letdown.Fluid` for the cubic models. Everything is vectorised over
 cases: T, P, h, s of shape (n,) and compositions of shape (n, nc).
+
+A fluid with water among its components takes one more step: each two-phase answer of a case with
+water is tested for a third phase, and where one is found the state is the three-phase
+equilibrium (:mod:`letdown.fluid.threephase`; P-h and P-s solve T again on it). Other fluids'
+states are exactly the two-phase flash's.
 """
 from __future__ import annotations
 

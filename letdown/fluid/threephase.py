@@ -6,15 +6,26 @@ Sequence, per case of a batch:
 2. A tangent-plane stability test (Michelsen, Fluid Phase Equilib. 9 (1982) 1) of every phase of
    that result, with the trials of :func:`letdown.fluid.flash.stability` plus a nearly-pure-water
    trial (water 1, every other component 1e-6 of its fraction in the tested phase), which finds a
-   free-water phase that the Wilson trials can miss.
+   free-water phase that the Wilson trials can miss, and a water-free liquid trial (the Wilson
+   liquid-like trial with its water cut to a trace), which finds a hydrocarbon liquid beside much
+   water where the Wilson liquid trial falls onto the aqueous phase. A phase whose test gives no
+   number is not taken as stable: the case is reported unconverged.
 3. Where a phase is unstable, a three-phase split: successive substitution on the K-values of
    two phases against the reference phase, each step with the multiphase Rachford-Rice solved as
    the minimisation of the convex function F(beta) = -sum_i z_i ln t_i,
    t_i = 1 + sum_j beta_j (K_ij - 1) (Michelsen, Fluid Phase Equilib. 9 (1982) 21; Okuno, Johns &
    Sepehrnoori, SPE J. 15 (2010) 313), by Newton steps with a step-length bound keeping every t_i
    positive (the negative-flash region). It is converged when the fugacities of every component
-   agree in the three phases to ``FUG_TOL`` in ln f. A phase fraction that ends negative removes
-   that phase and the remaining pair is split by :func:`letdown.fluid.flash.two_phase_flash`.
+   agree in the three phases to ``FUG_TOL`` in ln f. The substitution is accelerated by the
+   dominant eigenvalue every few steps (Crowe & Nishio, AIChE J. 21 (1975) 528, as the two-phase
+   split) and finished by Newton steps on ln K (forward-difference Jacobian) where it crawls. A
+   phase fraction that ends negative removes that phase and the remaining pair is split by
+   :func:`letdown.fluid.flash.two_phase_flash`.
+
+:func:`check_two_phase` runs steps 2-3 on a two-phase result already at hand (``Fluid.flash``
+of a fluid with water does so on every case with water). :func:`flash_PX_3` solves the
+temperature at which the three-phase equilibrium has a given enthalpy or entropy (P-h, P-s; the
+bracketed root finder of :mod:`letdown.fluid.rootfind`), for ``Fluid.flash`` and the separator.
 
 Naming (phases carry no labels in the equations): the aqueous phase is the water-richest phase with
 water as its largest component; of the others, the lower mass density one is the vapour. A single
