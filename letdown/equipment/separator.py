@@ -21,12 +21,14 @@ at the outlet pressure, the phase fractions and compositions from the three-phas
 (:func:`letdown.fluid.threephase.flash_PT_3`) and each phase's enthalpy from the cubic equation
 plus the ideal-gas part (:func:`letdown.fluid.threephase.phase_properties`). T is found by
 :func:`letdown.fluid.threephase.flash_PX_3` (the bracketed root finder on the three-phase h(T)),
-started from the temperature of the inlet's P-h flash -- the same routine ``Fluid.flash`` uses
-for fluids with water, so the drum usually ends at that first evaluation. The vapour,
+started from the temperature of the inlet's P-h flash (``Fluid.flash`` with the inlet temperature
+as its guess, which for fluids with water uses the same routine), so the drum usually ends at
+that first evaluation. The vapour,
 hydrocarbon liquid and aqueous phases leave by ``vapour``, ``liquid`` and ``water``; the aqueous
 component flows are taken by difference so that the mole balance closes to rounding. Without a
 ``water`` port the aqueous phase leaves with the hydrocarbon liquid (one stream of two liquid
-phases: moles, enthalpy, entropy and volume added). Limits: the aqueous phase is the cubic equation's (hydrocarbons dissolved in it are an
+phases: moles, enthalpy, entropy and volume added). Limits: the aqueous phase is the cubic
+equation's (hydrocarbons dissolved in it are an
 order-of-magnitude figure, see :mod:`letdown.fluid.threephase`); a single liquid phase with water
 as its largest component leaves by ``water`` (a vapour-like one, steam, by ``vapour``); a case
 whose drum temperature cannot be bracketed or met is marked unconverged (no fallback to the
