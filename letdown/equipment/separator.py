@@ -19,21 +19,24 @@ temperature T solves
 
 at the outlet pressure, the phase fractions and compositions from the three-phase PT flash
 (:func:`letdown.fluid.threephase.flash_PT_3`) and each phase's enthalpy from the cubic equation
-plus the ideal-gas part (:func:`letdown.fluid.threephase.phase_properties`). T is found by the
-bracketed root finder (:func:`letdown.equipment.rootfind.bracketed_root`) in a bracket grown
-around the two-phase P-h flash's temperature. The vapour, hydrocarbon liquid and aqueous phases
-leave by ``vapour``, ``liquid`` and ``water``; the aqueous component flows are taken by difference
-so that the mole balance closes to rounding. Without a ``water`` port the aqueous phase leaves with
-the hydrocarbon liquid (one stream of two liquid phases: moles, enthalpy, entropy and volume
-added). Limits: the aqueous phase is the cubic equation's (hydrocarbons dissolved in it are an
+plus the ideal-gas part (:func:`letdown.fluid.threephase.phase_properties`). T is found by
+:func:`letdown.fluid.threephase.flash_PX_3` (the bracketed root finder on the three-phase h(T)),
+started from the temperature of the inlet's P-h flash (``Fluid.flash`` with the inlet temperature
+as its guess, which for fluids with water uses the same routine), so the drum usually ends at
+that first evaluation. The vapour,
+hydrocarbon liquid and aqueous phases leave by ``vapour``, ``liquid`` and ``water``; the aqueous
+component flows are taken by difference so that the mole balance closes to rounding. Without a
+``water`` port the aqueous phase leaves with the hydrocarbon liquid (one stream of two liquid
+phases: moles, enthalpy, entropy and volume added). Limits: the aqueous phase is the cubic
+equation's (hydrocarbons dissolved in it are an
 order-of-magnitude figure, see :mod:`letdown.fluid.threephase`); a single liquid phase with water
 as its largest component leaves by ``water`` (a vapour-like one, steam, by ``vapour``); a case
 whose drum temperature cannot be bracketed or met is marked unconverged (no fallback to the
 two-phase split). GERG-2008 has no three-phase flash: with it the two-phase path is used. The
-blocks upstream flash in two phases and can miss the hydrocarbon liquid beside free water, so the
-drum may be several kelvin warmer than the stream that feeds it at the same enthalpy: the outcome
-reports ``dT_vs_two_phase_K`` (drum T minus the two-phase P-h temperature) and flags
-``three_phase_T_shift`` beyond :data:`T_SHIFT_FLAG` (a warning in the flowsheet result).
+outcome reports ``dT_vs_two_phase_K``, the drum temperature minus that of the inlet's P-h flash
+(``Fluid.flash``, three-phase where it applies: the blocks upstream flash water-bearing gas in
+three phases too; the name is kept from when they did not), and flags ``three_phase_T_shift``
+beyond :data:`T_SHIFT_FLAG` (a warning in the flowsheet result): a check that the two agree.
 """
 from __future__ import annotations
 
@@ -41,28 +44,16 @@ import numpy as np
 
 from ..fluid.components import R
 from ..fluid.flash import is_vapour_like
-from ..fluid.threephase import PHASES, flash_PT_3, phase_properties
+from ..fluid.threephase import PHASES, flash_PX_3, phase_properties
 from .common import TINY_FLOW, finish, outlet_pressure
-from .rootfind import bracketed_root
 from .stream import StreamBatch
 
 #: Phase properties the fluid's batch ``States`` gives per phase (``States.vapour``/``.liquid``).
 PHASE_FIELDS = ("h", "s", "Z", "density", "molar_mass")
-#: Three-phase drum: the enthalpy balance is met to this [J/mol] -- a temperature error of about
-#: 1e-6 K at a heat capacity of 100 J/(mol K), as the P-h flash (``PH_RESIDUAL_K``).
-H_TOL = 1e-4
-#: Half-width of the first temperature bracket around the two-phase P-h temperature [K]; the
-#: third phase shifts the drum temperature by a few kelvin at most for gas with a little water.
-BRACKET_HALF_WIDTH = 2.0
-#: The bracket is widened (doubled) this many times before a case is given up (2 K * 2^8 = 512 K).
-BRACKET_GROWTHS = 8
-#: Lowest and highest temperatures the bracket may reach [K] (the flash's range, common practice).
-T_FLOOR, T_CEILING = 100.0, 700.0
-#: Regula falsi evaluations per case (each a batch three-phase flash); Illinois converges in 10-20.
-MAX_ITERATIONS = 60
-#: The three-phase drum is flagged when its temperature differs from the two-phase P-h flash of
-#: its inlet by more than this [K]: the blocks upstream flash water-bearing gas in two phases and
-#: can miss one (the hydrocarbon liquid beside free water), so their temperatures are off.
+#: The three-phase drum is flagged when its temperature differs from the P-h flash of its inlet
+#: (``Fluid.flash``) by more than this [K]. Both are the three-phase equilibrium now (the same
+#: routine, :func:`letdown.fluid.threephase.flash_PX_3`), so the difference is within the solver's
+#: tolerance; the flag stays as a check that the blocks upstream and the drum agree.
 T_SHIFT_FLAG = 0.1
 
 
@@ -104,13 +95,15 @@ def run(fluid, name: str, inlets, params):
     """
     inlet = inlets["in"]
     P_out = outlet_pressure({"dP": params.get("dP", 0.0)}, inlet, name, required=True)
-    states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs)
     if "water" in fluid.components and fluid.model != "gerg-2008":
+        # the three-phase P-h flash starts from the inlet temperature (the answer when dP = 0)
+        states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs, T_guess=inlet.T)
         outlets = _three_phase(fluid, inlet, P_out, states, bool(params.get("water_port", True)))
         shift = outlets["vapour"].T - np.asarray(states.T, dtype=float)
         return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
                       details={"dT_vs_two_phase_K": shift},
                       flags={"three_phase_T_shift": ~(np.abs(shift) <= T_SHIFT_FLAG)})
+    states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs)
     beta = np.asarray(states.vapour_fraction, dtype=float)
     ys = np.asarray(states.ys, dtype=float)
     F = inlet.flow
@@ -131,58 +124,14 @@ def run(fluid, name: str, inlets, params):
     return finish(inlets, outlets, 0.0, dP=inlet.P - P_out)
 
 
-def _drum_T(fluid, zs, P, h, T_start):
-    """Temperature of the adiabatic three-phase drum: ``h3(T) = h`` per case [K], and whether
-    each case converged (a bracket found and the balance met to :data:`H_TOL`)."""
-    eos, engine = fluid.engine.eos, fluid.engine
-
-    def f(T, idx):
-        res = flash_PT_3(eos, T, P[idx], zs[idx])
-        return phase_properties(engine, T, P[idx], zs[idx], res)["whole"]["h"] - h[idx]
-
-    n = h.shape[0]
-    T0 = np.where(np.isfinite(T_start), T_start, 280.0)
-    lo = np.maximum(T0 - BRACKET_HALF_WIDTH, T_FLOOR)
-    hi = np.minimum(T0 + BRACKET_HALF_WIDTH, T_CEILING)
-    all_idx = np.arange(n)
-    f_lo, f_hi = f(lo, all_idx), f(hi, all_idx)
-    for k in range(BRACKET_GROWTHS):
-        # h3 rises with T: f_lo <= 0 <= f_hi brackets the root
-        low = f_lo > 0.0
-        high = f_hi < 0.0
-        if not (low.any() or high.any()):
-            break
-        width = BRACKET_HALF_WIDTH * 2.0 ** (k + 1)
-        i = np.flatnonzero(low)
-        if i.size:
-            hi[i], f_hi[i] = lo[i], f_lo[i]
-            lo[i] = np.maximum(T0[i] - width, T_FLOOR)
-            f_lo[i] = f(lo[i], i)
-        i = np.flatnonzero(high)
-        if i.size:
-            lo[i], f_lo[i] = hi[i], f_hi[i]
-            hi[i] = np.minimum(T0[i] + width, T_CEILING)
-            f_hi[i] = f(hi[i], i)
-    bracketed = (f_lo <= 0.0) & (f_hi >= 0.0)
-    T = T0.copy()
-    ok = np.zeros(n, dtype=bool)
-    b = np.flatnonzero(bracketed)
-    if b.size:
-        root = bracketed_root(lambda x, idx: f(x, b[idx]), lo[b], hi[b], f_lo[b], f_hi[b],
-                              ftol=H_TOL, max_iterations=MAX_ITERATIONS)
-        T[b] = root.x
-        ok[b] = root.converged
-    return T, ok
-
-
 def _three_phase(fluid, inlet, P_out, states, water_port: bool):
     """Vapour, hydrocarbon liquid and aqueous outlets of an adiabatic three-phase drum."""
     zs = np.asarray(inlet.zs, dtype=float)
     h = np.asarray(inlet.h, dtype=float)
     F = np.asarray(inlet.flow, dtype=float)
-    T, ok = _drum_T(fluid, zs, P_out, h, np.asarray(states.T, dtype=float))
-    res = flash_PT_3(fluid.engine.eos, T, P_out, zs)
-    ok &= res.report.converged & np.asarray(inlet.converged, dtype=bool)
+    drum = flash_PX_3(fluid.engine, P_out, h, zs, "h", np.asarray(states.T, dtype=float))
+    T, res = drum.T, drum.flash
+    ok = drum.report.converged & np.asarray(inlet.converged, dtype=bool)
     props = phase_properties(fluid.engine, T, P_out, zs, res)
     betas = {name: np.asarray(getattr(res, b), dtype=float) for name, b, _ in PHASES}
     comps = {name: np.where((betas[name] > 0.0)[:, None], getattr(res, x), zs)

@@ -207,6 +207,11 @@ class Fluid:
         Scalars give a :class:`State`; arrays of shape (n,) (or ``zs`` of shape (n, nc)) give a
         :class:`States` batch computed in one vectorised pass.
 
+        On the cubic models, a fluid with water among its components gets the three-phase
+        equilibrium where it applies (vapour, hydrocarbon liquid, aqueous liquid; see
+        :mod:`letdown.fluid.threephase`): the two liquids are lumped as the state's liquid and
+        ``aqueous_fraction`` gives the aqueous one's share. Other fluids flash in two phases.
+
         Parameters
         ----------
         T, P, h, s : float or ndarray

@@ -73,6 +73,12 @@ class States:
     vapour, liquid : dict of ndarray  per-phase Z, density, h, s, molar_mass (NaN where absent)
     components : tuple of str
     model : str
+    K : ndarray (n, nc) or None  K-values of a two-phase split, where a solver keeps them
+    aqueous_fraction : ndarray (n,) or None  molar fraction of the aqueous liquid [-] (the liquid
+        with water as its largest component; 0 where there is none); None for a fluid without
+        water among its components. Where the liquid is two liquids (hydrocarbon and aqueous,
+        ``n_phases`` 3), ``xs`` and ``liquid`` describe them lumped: the mole-weighted overall
+        composition, h and s mole-weighted, volumes added.
     """
 
     T: np.ndarray
@@ -97,6 +103,7 @@ class States:
     components: tuple
     model: str
     K: np.ndarray | None = None
+    aqueous_fraction: np.ndarray | None = None
 
     def __len__(self) -> int:
         return int(self.T.shape[0])
@@ -108,16 +115,28 @@ class States:
                 for k in _SCALARS}
         phases = []
         beta = vals["vapour_fraction"]
-        if self.n_phases[i] == 2 or beta >= 1.0:
+        if self.aqueous_fraction is None:
+            has_v = self.n_phases[i] == 2 or beta >= 1.0
+            has_l = self.n_phases[i] == 2 or beta <= 0.0
+        else:
+            # a fluid with water: vapour and liquid where their fractions say so (two liquids,
+            # hydrocarbon and aqueous, have vapour fraction 0)
+            many = int(self.n_phases[i]) >= 2
+            has_v = (many and beta > 0.0) or beta >= 1.0
+            has_l = (many and beta < 1.0) or beta <= 0.0
+        if has_v:
             phases.append(Phase("vapour", beta, self.ys[i].copy(),
                                 *(float(self.vapour[k][i]) for k in ("Z", "density", "h", "s",
                                                                      "molar_mass"))))
-        if self.n_phases[i] == 2 or beta <= 0.0:
+        if has_l:
             phases.append(Phase("liquid", 1.0 - beta, self.xs[i].copy(),
                                 *(float(self.liquid[k][i]) for k in ("Z", "density", "h", "s",
                                                                      "molar_mass"))))
+        wet = {} if self.aqueous_fraction is None else {
+            "aqueous_fraction": float(self.aqueous_fraction[i]),
+            "phase_count": int(self.n_phases[i])}
         return State(**vals, zs=self.zs[i].copy(), ys=self.ys[i].copy(), xs=self.xs[i].copy(),
-                     phases=tuple(phases), components=self.components, model=self.model)
+                     phases=tuple(phases), components=self.components, model=self.model, **wet)
 
     def take(self, idx) -> "States":
         """A sub-batch of the cases ``idx`` (indices, slice or boolean mask)."""
@@ -132,12 +151,45 @@ class States:
                 out[f.name] = v
         return States(**out)
 
+    def put(self, idx, other: "States") -> "States":
+        """A new batch: these states with the cases ``idx`` (indices) replaced by ``other``'s.
+
+        An optional field (``K``, ``aqueous_fraction``) that only one of the two carries is
+        filled with NaN (``K``) or 0 (``aqueous_fraction``) for the cases of the other.
+        """
+        n = len(self)
+        out = {}
+        for f in fields(self):
+            v, w = getattr(self, f.name), getattr(other, f.name)
+            if isinstance(v, dict):
+                merged = {}
+                for k, a in v.items():
+                    a = np.array(a, copy=True)
+                    a[idx] = w[k]
+                    merged[k] = a
+                out[f.name] = merged
+            elif isinstance(v, np.ndarray) or isinstance(w, np.ndarray):
+                if v is None or w is None:
+                    fill = 0.0 if f.name == "aqueous_fraction" else np.nan
+                    shape = (n,) + (w.shape[1:] if v is None else v.shape[1:])
+                    v = np.full(shape, fill) if v is None else v
+                    w = np.full((len(other),) + shape[1:], fill) if w is None else w
+                a = np.array(v, copy=True)
+                a[idx] = w
+                out[f.name] = a
+            else:
+                out[f.name] = v
+        return States(**out)
+
 
 @dataclass(frozen=True)
 class State:
     """One equilibrium state; attributes as in :class:`States` but scalar.
 
-    ``phases`` holds one :class:`Phase` per phase present, vapour first.
+    ``phases`` holds one :class:`Phase` per phase present, vapour first; a hydrocarbon liquid
+    beside an aqueous one is one lumped ``liquid`` phase there (as in :class:`States`), and
+    ``n_phases`` counts them apart. ``aqueous_fraction`` is the aqueous liquid's molar fraction
+    [-] (0 where there is none or the fluid has no water).
     """
 
     T: float
@@ -159,10 +211,13 @@ class State:
     phases: tuple
     components: tuple
     model: str
+    aqueous_fraction: float = 0.0
+    phase_count: int | None = None
 
     @property
     def n_phases(self) -> int:
-        return len(self.phases)
+        """Number of phases [-] (a lumped liquid of two liquids counts two)."""
+        return len(self.phases) if self.phase_count is None else self.phase_count
 
     def composition(self) -> dict:
         """Overall composition as {component: mole fraction}."""

@@ -6,15 +6,26 @@ Sequence, per case of a batch:
 2. A tangent-plane stability test (Michelsen, Fluid Phase Equilib. 9 (1982) 1) of every phase of
    that result, with the trials of :func:`letdown.fluid.flash.stability` plus a nearly-pure-water
    trial (water 1, every other component 1e-6 of its fraction in the tested phase), which finds a
-   free-water phase that the Wilson trials can miss.
+   free-water phase that the Wilson trials can miss, and a water-free liquid trial (the Wilson
+   liquid-like trial with its water cut to a trace), which finds a hydrocarbon liquid beside much
+   water where the Wilson liquid trial falls onto the aqueous phase. A phase whose test gives no
+   number is not taken as stable: the case is reported unconverged.
 3. Where a phase is unstable, a three-phase split: successive substitution on the K-values of
    two phases against the reference phase, each step with the multiphase Rachford-Rice solved as
    the minimisation of the convex function F(beta) = -sum_i z_i ln t_i,
    t_i = 1 + sum_j beta_j (K_ij - 1) (Michelsen, Fluid Phase Equilib. 9 (1982) 21; Okuno, Johns &
    Sepehrnoori, SPE J. 15 (2010) 313), by Newton steps with a step-length bound keeping every t_i
    positive (the negative-flash region). It is converged when the fugacities of every component
-   agree in the three phases to ``FUG_TOL`` in ln f. A phase fraction that ends negative removes
-   that phase and the remaining pair is split by :func:`letdown.fluid.flash.two_phase_flash`.
+   agree in the three phases to ``FUG_TOL`` in ln f. The substitution is accelerated by the
+   dominant eigenvalue every few steps (Crowe & Nishio, AIChE J. 21 (1975) 528, as the two-phase
+   split) and finished by Newton steps on ln K (forward-difference Jacobian) where it crawls. A
+   phase fraction that ends negative removes that phase and the remaining pair is split by
+   :func:`letdown.fluid.flash.two_phase_flash`.
+
+:func:`check_two_phase` runs steps 2-3 on a two-phase result already at hand (``Fluid.flash``
+of a fluid with water does so on every case with water). :func:`flash_PX_3` solves the
+temperature at which the three-phase equilibrium has a given enthalpy or entropy (P-h, P-s; the
+bracketed root finder of :mod:`letdown.fluid.rootfind`), for ``Fluid.flash`` and the separator.
 
 Naming (phases carry no labels in the equations): the aqueous phase is the water-richest phase with
 water as its largest component; of the others, the lower mass density one is the vapour. A single
@@ -44,8 +55,9 @@ import numpy as np
 
 from .components import R
 from .cubic import CubicEOS
-from .flash import (SolveReport, flash_PT, is_vapour_like, stability, two_phase_flash, K_CLIP,
-                    TM_UNSTABLE)
+from .flash import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, SolveReport, _gdem, flash_PT,
+                    is_vapour_like, stability, two_phase_flash, wilson_K)
+from .rootfind import bracketed_root
 
 #: Converged when the largest difference of ln f_i between phases is below this [-].
 FUG_TOL = 1e-9
@@ -90,76 +102,146 @@ class ThreePhaseResult:
 def _water_trial_stability(eos, T, P, zs, lnph_z, iw):
     """Minimum modified tangent-plane distance from a nearly-pure-water trial (n,), its trial."""
     present = zs > 0.0
-    with np.errstate(divide="ignore"):
-        d = np.where(present, np.log(zs) + lnph_z, -np.inf)
     W = np.where(present, WATER_TRIAL_TRACE * zs, 0.0)
     W[:, iw] = 1.0
-    lnW = np.where(present, np.log(np.where(present, W, 1.0)), -np.inf)
-    tm = np.zeros(zs.shape[0])
+    return _trial_stability(eos, T, P, zs, lnph_z, W)
+
+
+def _dry_liquid_trial_stability(eos, T, P, zs, lnph_z, iw):
+    """Minimum modified tangent-plane distance from a water-free liquid trial (n,), its trial.
+
+    The trial is the Wilson liquid-like one of the tested phase with its water cut to a trace
+    (x_i = z_i / K_i, water WATER_TRIAL_TRACE times that): where water is abundant, the usual
+    liquid-like trial is mostly water and converges onto the aqueous phase, and a hydrocarbon
+    liquid beside vapour and water can be missed (found so for 50 % water with n-hexane and
+    methane near 343 K and 6 bar, tests/test_flash_water.py)."""
+    present = zs > 0.0
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+        W = np.where(present, zs / wilson_K(eos, T, P), 0.0)
+    W[:, iw] *= WATER_TRIAL_TRACE
+    return _trial_stability(eos, T, P, zs, lnph_z, W)
+
+
+def _trial_stability(eos, T, P, zs, lnph_z, W0):
+    """Tangent-plane distance minimised by successive substitution from the trial mole numbers
+    W0 (n, nc) on the liquid root (Michelsen 1982): tm (n,) (0 for a trivial trial) and the
+    trial composition (n, nc)."""
+    present = zs > 0.0
+    n = zs.shape[0]
+    with np.errstate(divide="ignore"):
+        d = np.where(present, np.log(zs) + lnph_z, -np.inf)
+    lnW = np.where(present, np.log(np.where(present & (W0 > 0.0), W0, 1e-300)), -np.inf)
+    tm = np.zeros(n)
+    active = np.arange(n)
     for _ in range(STAB_MAX_ITER):
-        Wa = np.exp(lnW)
-        w = Wa / Wa.sum(axis=1, keepdims=True)
-        lnph, _ = eos.lnphi(T, P, w, "liquid")
-        with np.errstate(invalid="ignore"):
-            tm = 1.0 + np.sum(np.where(present, Wa * (lnW + lnph - d - 1.0), 0.0), axis=1)
-            new = np.where(present, d - lnph, -np.inf)
-            step = np.max(np.where(present, np.abs(new - lnW), 0.0), axis=1)
-        lnW = new
-        if np.all(step < STAB_TOL):
+        if active.size == 0:
             break
+        pa = present[active]
+        Wa = np.exp(lnW[active])
+        w = Wa / Wa.sum(axis=1, keepdims=True)
+        lnph, _ = eos.lnphi(T[active], P[active], w, "liquid")
+        with np.errstate(invalid="ignore"):
+            tm[active] = 1.0 + np.sum(np.where(pa, Wa * (lnW[active] + lnph - d[active] - 1.0),
+                                               0.0), axis=1)
+            new = np.where(pa, d[active] - lnph, -np.inf)
+            step = np.max(np.where(pa, np.abs(new - lnW[active]), 0.0), axis=1)
+        lnW[active] = new
+        active = active[~(step < STAB_TOL) & np.isfinite(step)]
     Wa = np.exp(lnW)
     w = Wa / Wa.sum(axis=1, keepdims=True)
     trivial = np.sum((w - zs) ** 2, axis=1) < 1e-7
     return np.where(trivial, 0.0, tm), w
 
 
+def _rr_newton_step(z, Ka, b, m):
+    """One Newton step of the multiphase Rachford-Rice (see :func:`_rr_multi`) for K - 1 = Ka
+    (n, m, nc) at fractions b (n, m): t (n, nc), the gradient g (n, m), the step d (n, m) and
+    the change of t along it, dt (n, nc)."""
+    if m == 2:
+        K1, K2 = Ka[:, 0], Ka[:, 1]
+        t = 1.0 + b[:, :1] * K1 + b[:, 1:] * K2
+        zt = z / t
+        zt2 = zt / t
+        g = -np.stack([np.sum(zt * K1, axis=1), np.sum(zt * K2, axis=1)], axis=1)
+        H11 = np.sum(zt2 * K1 * K1, axis=1) + 1e-300
+        H12 = np.sum(zt2 * K1 * K2, axis=1)
+        H22 = np.sum(zt2 * K2 * K2, axis=1) + 1e-300
+        det = H11 * H22 - H12 * H12
+        d = -np.stack([H22 * g[:, 0] - H12 * g[:, 1], H11 * g[:, 1] - H12 * g[:, 0]],
+                      axis=1) / det[:, None]
+        dt = d[:, :1] * K1 + d[:, 1:] * K2
+    else:
+        t = 1.0 + np.einsum("nj,nji->ni", b, Ka)
+        g = -np.einsum("ni,nji->nj", z / t, Ka)       # dF/dbeta_j = -(sum_i x_ij - sum_i x_i0)
+        H = np.einsum("ni,nji,nki->njk", z / t ** 2, Ka, Ka)
+        H += 1e-300 * np.eye(m)
+        d = -np.linalg.solve(H, g[..., None])[..., 0]
+        dt = np.einsum("nj,nji->ni", d, Ka)
+    return t, g, d, dt
+
+
 def _rr_multi(zs, K, beta0):
     """Multiphase Rachford-Rice: phase fractions beta (n, m) of the m non-reference phases for
     K (n, m, nc) against the reference phase, by bounded Newton minimisation of the convex
-    F = -sum z_i ln t_i. Returns beta and t (n, nc)."""
+    F = -sum z_i ln t_i. Returns beta and t (n, nc). A case stops once its gradient is below
+    RR_TOL after a full step; two phases (m = 2, the three-phase split) solve their 2x2 Newton
+    system in closed form."""
     n, m, nc = K.shape
     Km1 = K - 1.0                                        # (n, m, nc)
     beta = beta0.copy()
+    active = np.arange(n)
+    present = zs > 0
     for _ in range(RR_MAX_ITER):
-        t = 1.0 + np.einsum("nj,nji->ni", beta, Km1)
-        g = -np.einsum("ni,nji->nj", zs / t, Km1)         # dF/dbeta_j = -(sum_i x_ij - sum_i x_i0)
-        H = np.einsum("ni,nji,nki->njk", zs / t ** 2, Km1, Km1)
-        H += 1e-300 * np.eye(m)
-        d = -np.linalg.solve(H, g[..., None])[..., 0]
-        dt = np.einsum("nj,nji->ni", d, Km1)
+        if active.size == 0:
+            break
+        z, Ka, b = zs[active], Km1[active], beta[active]
+        # NaN from a case whose K-values failed ends that case below (no warning needed)
+        with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
+            t, g, d, dt = _rr_newton_step(z, Ka, b, m)
         with np.errstate(divide="ignore", invalid="ignore"):
             lim = np.where(dt < 0.0, -t / dt, np.inf)
-        smax = RR_BOUNDARY_FRACTION * np.min(np.where(zs > 0, lim, np.inf), axis=1)
-        s = np.minimum(1.0, smax)
-        beta = beta + s[:, None] * d
-        if np.all(np.max(np.abs(g), axis=1) < RR_TOL) and np.all(s == 1.0):
-            break
+        smax = RR_BOUNDARY_FRACTION * np.min(np.where(present[active], lim, np.inf), axis=1)
+        step = np.minimum(1.0, smax)
+        with np.errstate(invalid="ignore"):
+            beta[active] = b + step[:, None] * d
+        # done: converged, or not finite (no Newton step can mend it; the caller sees the NaN)
+        done = ((np.max(np.abs(g), axis=1) < RR_TOL) & (step == 1.0)) \
+            | ~np.all(np.isfinite(beta[active]), axis=1)
+        active = active[~done]
     t = 1.0 + np.einsum("nj,nji->ni", beta, Km1)
     return beta, t
 
 
-def _split3(eos, T, P, zs, X0):
+def _split3(eos, T, P, zs, X0, tol=FUG_TOL, beta0=None):
     """Successive substitution for three phases from starting compositions X0 (n, 3, nc) (phase 0
-    the reference). Returns betas (n, 3), X (n, 3, nc), converged (n,), iterations, residual."""
+    the reference; ``beta0`` (n, 2) the fractions of phases 1 and 2 to start the Rachford-Rice
+    from), converged when ln f agree to ``tol``. Every ``ACCELERATE_EVERY`` steps the sequence of
+    ln K (both phases, stacked) is extrapolated by the dominant eigenvalue where two estimates
+    agree (:func:`letdown.fluid.flash._gdem`, Crowe & Nishio 1975), as in the two-phase split;
+    convergence is still judged on the fugacities. Returns betas (n, 3), X (n, 3, nc),
+    converged (n,), iterations, residual."""
     n, _, nc = X0.shape
     present = zs > 0.0
     tiny = 1e-300
     lnK = np.log(np.clip(X0[:, 1:, :], tiny, None)) - np.log(np.clip(X0[:, :1, :], tiny, None))
     lnK = np.where(present[:, None, :], np.clip(lnK, np.log(K_CLIP[0]), np.log(K_CLIP[1])), 0.0)
-    beta = np.full((n, 2), 1.0 / 3.0)
+    beta = np.full((n, 2), 1.0 / 3.0) if beta0 is None else np.array(beta0, dtype=float)
     conv = np.zeros(n, dtype=bool)
     iters = np.zeros(n, dtype=int)
     resid = np.full(n, np.inf)
     X = X0.copy()
+    hist = []
+    dead = np.zeros(n, dtype=bool)
     for it in range(SS_MAX_ITER):
-        idx = np.nonzero(~conv)[0]
+        idx = np.nonzero(~conv & ~dead)[0]
         if idx.size == 0:
             break
         K = np.exp(lnK[idx])
         b, t = _rr_multi(zs[idx], K, beta[idx])
-        x0 = zs[idx] / t
-        Xi = np.concatenate([x0[:, None, :], K * x0[:, None, :]], axis=1)
-        Xi /= Xi.sum(axis=2, keepdims=True)
+        with np.errstate(divide="ignore", invalid="ignore"):     # a lost case: NaN, stopped below
+            x0 = zs[idx] / t
+            Xi = np.concatenate([x0[:, None, :], K * x0[:, None, :]], axis=1)
+            Xi /= Xi.sum(axis=2, keepdims=True)
         m = idx.size
         lnph, _ = eos.lnphi(np.repeat(T[idx], 3), np.repeat(P[idx], 3), Xi.reshape(3 * m, nc),
                             "stable")
@@ -170,11 +252,107 @@ def _split3(eos, T, P, zs, X0):
         new = np.where(present[idx][:, None, :], lnph[:, :1, :] - lnph[:, 1:, :], 0.0)
         X[idx], beta[idx], resid[idx] = Xi, b, res
         iters[idx] += 1
-        ok = res < FUG_TOL
+        ok = res < tol
         conv[idx[ok]] = True
         lnK[idx[~ok]] = new[~ok]
+        # a case whose numbers went non-finite cannot recover: stop it, unconverged
+        lost = ~np.isfinite(res) | ~np.all(np.isfinite(b), axis=1)
+        if lost.any():
+            dead[idx[lost]] = True
+            conv[idx[lost]] = False
+        hist.append(lnK.reshape(n, 2 * nc).copy())
+        if len(hist) > 4:
+            hist.pop(0)
+        if (it + 1) % ACCELERATE_EVERY == 0 and len(hist) == 4:
+            lnK = _gdem(hist, lnK.reshape(n, 2 * nc), ~conv & ~dead).reshape(n, 2, nc)
+            hist = []
+    # Newton finish where substitution crawls (near a critical point of two of the phases)
+    left = np.flatnonzero(~conv & ~dead & np.all(np.isfinite(lnK), axis=(1, 2)))
+    if left.size:
+        lk, b, Xn, ok, res, nit = _newton3(eos, T[left], P[left], zs[left], lnK[left],
+                                            beta[left], tol)
+        lnK[left], beta[left], X[left], conv[left], resid[left] = lk, b, Xn, ok, res
+        iters[left] += nit
     betas = np.concatenate([(1.0 - beta.sum(axis=1))[:, None], beta], axis=1)
     return betas, X, conv, iters, resid
+
+
+#: Newton finish of the three-phase split: iterations, forward-difference step in ln K, and the
+#: largest Newton step in ln K (as letdown.fluid.flash.NEWTON_MAX_ITER, NEWTON_FD_STEP,
+#: NEWTON_MAX_STEP for two phases).
+NEWTON3_MAX_ITER = 30
+NEWTON3_FD_STEP = 1e-7
+NEWTON3_MAX_STEP = 1.0
+
+
+def _ss_map(eos, T, P, zs, lnK, beta):
+    """One substitution map: phase fractions, compositions, the residual ln K - (ln phi_0 -
+    ln phi_j) (n, 2, nc) and the largest ln f difference (n,)."""
+    n, _, nc = lnK.shape
+    present = zs > 0.0
+    K = np.exp(lnK)
+    b, t = _rr_multi(zs, K, beta)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        x0 = zs / t
+        Xi = np.concatenate([x0[:, None, :], K * x0[:, None, :]], axis=1)
+        Xi /= Xi.sum(axis=2, keepdims=True)
+    lnph, _ = eos.lnphi(np.repeat(T, 3), np.repeat(P, 3), Xi.reshape(3 * n, nc), "stable")
+    lnph = lnph.reshape(n, 3, nc)
+    with np.errstate(divide="ignore", invalid="ignore"):
+        lnf = np.where(present[:, None, :], np.log(Xi) + lnph, 0.0)
+    res = np.max(np.abs(lnf[:, 1:, :] - lnf[:, :1, :]), axis=(1, 2))
+    G = np.where(present[:, None, :], lnK - (lnph[:, :1, :] - lnph[:, 1:, :]), 0.0)
+    return b, Xi, G, res
+
+
+def _newton3(eos, T, P, zs, lnK, beta, tol):
+    """Newton iterations on G(ln K) = ln K - (ln phi_0(x_0) - ln phi_j(x_j)) = 0 for the two
+    K-vectors of a three-phase split, Jacobian by forward differences (absent components held
+    at ln K = 0). Returns ln K, beta, X, converged, residual (ln f), iterations."""
+    n, _, nc = lnK.shape
+    m = 2 * nc
+    present = np.concatenate([zs > 0.0, zs > 0.0], axis=1)          # (n, 2 nc)
+    lnK = lnK.copy()
+    beta = beta.copy()
+    X = np.full((n, 3, nc), np.nan)
+    conv = np.zeros(n, dtype=bool)
+    res = np.full(n, np.inf)
+    nit = np.zeros(n, dtype=int)
+    for _ in range(NEWTON3_MAX_ITER):
+        i = np.flatnonzero(~conv)
+        if i.size == 0:
+            break
+        b, Xi, G, r = _ss_map(eos, T[i], P[i], zs[i], lnK[i], beta[i])
+        beta[i], X[i], res[i] = b, Xi, r
+        nit[i] += 1
+        ok = r < tol
+        conv[i[ok]] = True
+        i, G, b = i[~ok], G[~ok], b[~ok]
+        if i.size == 0:
+            break
+        g = G.reshape(i.size, m)
+        J = np.empty((i.size, m, m))
+        base = lnK[i].reshape(i.size, m)
+        # all perturbations of all cases in one batch
+        pert = np.repeat(base[:, None, :], m, axis=1) + NEWTON3_FD_STEP * np.eye(m)[None]
+        rep = lambda a: np.repeat(a, m, axis=0)
+        _, _, Gp, _ = _ss_map(eos, rep(T[i]), rep(P[i]), rep(zs[i]),
+                              pert.reshape(i.size * m, 2, nc), rep(b))
+        J = ((Gp.reshape(i.size, m, m) - g[:, None, :]) / NEWTON3_FD_STEP).transpose(0, 2, 1)
+        J = np.where(present[i][:, :, None] & present[i][:, None, :], J,
+                     np.eye(m)[None] * 1.0)
+        with np.errstate(invalid="ignore", over="ignore"):
+            try:
+                d = -np.linalg.solve(J, np.where(present[i], g, 0.0)[..., None])[..., 0]
+            except np.linalg.LinAlgError:
+                break
+        big = np.max(np.abs(d), axis=1)
+        d *= np.where(big > NEWTON3_MAX_STEP, NEWTON3_MAX_STEP / np.where(big > 0, big, 1.0),
+                      1.0)[:, None]
+        d = np.where(np.isfinite(d), d, 0.0)
+        lnK[i] = (base + d).reshape(i.size, 2, nc)
+        beta[i] = b
+    return lnK, beta, X, conv, res, nit
 
 
 def _mass_density(eos, T, P, xs):
@@ -183,7 +361,7 @@ def _mass_density(eos, T, P, xs):
 
 
 # ------------------------------------------------------------------------------------------------
-def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
+def flash_PT_3(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
     """Vapour / hydrocarbon liquid / aqueous liquid PT flash of a batch.
 
     Parameters
@@ -194,10 +372,39 @@ def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
         Temperature [K] and pressure [Pa].
     zs : ndarray (n, nc)
         Feed compositions [-].
+    split : letdown.fluid.flash.PTSplit, optional
+        The two-phase flash of these cases, if already done (it is then not repeated).
 
     Returns
     -------
     ThreePhaseResult
+    """
+    return check_two_phase(eos, T, P, zs, split)[0]
+
+
+def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
+    """Stability test of a two-phase result and, where it fails, the three-phase split.
+
+    Steps 2 and 3 of the module's sequence on the two-phase flash ``split`` of the cases (step 1
+    is run here when ``split`` is None).
+
+    Parameters
+    ----------
+    eos : CubicEOS
+    T, P : ndarray (n,)
+        [K], [Pa].
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+    split : letdown.fluid.flash.PTSplit, optional
+        Two-phase flash of the cases.
+
+    Returns
+    -------
+    result : ThreePhaseResult
+        The equilibrium of every case, phases named.
+    unstable : ndarray of bool (n,)
+        Cases whose two-phase result was not stable (split again here: into three phases, into
+        another pair of phases, or not converged); elsewhere the two-phase result stands.
     """
     T = np.asarray(T, dtype=float)
     P = np.asarray(P, dtype=float)
@@ -205,7 +412,7 @@ def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
     n, nc = zs.shape
     names = list(eos.comps.names)
     iw = names.index("water") if "water" in names else None
-    sp = flash_PT(eos, T, P, zs)
+    sp = flash_PT(eos, T, P, zs) if split is None else split
     # phases of the two-phase result: (n, 2, nc), betas (n, 2); a single phase sits in slot 0
     X = np.stack([sp.ys, sp.xs], axis=1)
     B = np.stack([sp.beta, 1.0 - sp.beta], axis=1)
@@ -216,6 +423,7 @@ def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
     iters = sp.report.iterations.copy()
     resid = np.zeros(n)
     # stability of each phase present; the most negative trial wins
+    untested = np.zeros(n, dtype=bool)
     tm_best = np.zeros(n)
     w_best = np.full((n, nc), np.nan)
     for k in range(2):
@@ -228,14 +436,19 @@ def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
         tm, w = st.tm, st.ws
         if iw is not None:
             has_w = xk[:, iw] > 0.0
-            tmw, ww = _water_trial_stability(eos, T[idx], P[idx], xk, lnph, iw)
-            better = has_w & (tmw < tm)
-            tm = np.where(better, tmw, tm)
-            w = np.where(better[:, None], ww, w)
+            for trial in (_water_trial_stability, _dry_liquid_trial_stability):
+                tmw, ww = trial(eos, T[idx], P[idx], xk, lnph, iw)
+                better = has_w & (tmw < tm)
+                tm = np.where(better, tmw, tm)
+                w = np.where(better[:, None], ww, w)
         upd = tm < tm_best[idx]
         tm_best[idx[upd]] = tm[upd]
         w_best[idx[upd]] = w[upd]
-    unstable = tm_best < TM_UNSTABLE
+        untested[idx[~np.isfinite(tm)]] = True
+    # a phase whose test gave no number (the equation failed there) is not known to be stable:
+    # the case is reported unconverged, not split
+    conv &= ~untested
+    unstable = (tm_best < TM_UNSTABLE) & ~untested
     nph = np.where(single, 1, 2)
     if unstable.any():
         u = np.nonzero(unstable)[0]
@@ -284,38 +497,59 @@ def flash_PT_3(eos: CubicEOS, T, P, zs) -> ThreePhaseResult:
         X = np.concatenate([X, np.zeros((n, 1, nc))], axis=1)
         B = np.concatenate([B, np.zeros((n, 1))], axis=1)
     return _name_phases(eos, T, P, zs, X, B, nph, iw, SolveReport(
-        conv, iters, resid, "three-phase PT flash"))
+        conv, iters, resid, "three-phase PT flash")), unstable | untested
 
 
 def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
-    """Order the phases of each case as (vapour, hydrocarbon liquid, aqueous)."""
+    """Order the phases of each case as (vapour, hydrocarbon liquid, aqueous), all cases at once.
+
+    The aqueous phase: of the phases present with water as their largest component, the
+    water-richest. The others by mass density, lightest first: two of them are vapour and
+    hydrocarbon liquid; one alone is vapour unless liquid-like (:func:`is_vapour_like`); three
+    (no aqueous phase among them) are vapour, hydrocarbon liquid and the heaviest liquid in the
+    third slot.
+    """
     n, _, nc = X.shape
-    out_b = np.zeros((n, 3))
-    out_x = np.full((n, 3, nc), np.nan)
+    rows = np.arange(n)
     present = B > 0.0
     Xs = np.where(present[..., None], X, zs[:, None, :])
-    rho = np.stack([_mass_density(eos, T, P, Xs[:, k]) for k in range(3)], axis=1)
-    water = Xs[:, :, iw] if iw is not None else np.zeros((n, 3))
-    aq_like = (np.argmax(Xs, axis=2) == iw) if iw is not None else np.zeros((n, 3), dtype=bool)
-    vap_like = np.stack([is_vapour_like(eos, T, P, Xs[:, k]) for k in range(3)], axis=1)
-    for i in range(n):
-        ks = [k for k in range(3) if present[i, k]]
-        aq = None
-        cand = [k for k in ks if aq_like[i, k]]
-        if cand and (len(ks) > 1 or aq_like[i, ks[0]]):
-            aq = max(cand, key=lambda k: water[i, k])
-        rest = sorted((k for k in ks if k != aq), key=lambda k: rho[i, k])
-        slots = []
-        if len(rest) == 2:
-            slots = [(0, rest[0]), (1, rest[1])]
-        elif len(rest) == 1:      # alone or beside water: vapour unless liquid-like
-            k = rest[0]
-            slots = [(0 if vap_like[i, k] else 1, k)]
-        if aq is not None:
-            slots.append((2, aq))
-        for s, k in slots:
-            out_b[i, s] = B[i, k]
-            out_x[i, s] = X[i, k]
+    if iw is not None:
+        aq_cand = present & (np.argmax(Xs, axis=2) == iw)
+        has_aq = aq_cand.any(axis=1)
+        aq = np.argmax(np.where(aq_cand, Xs[:, :, iw], -np.inf), axis=1)
+    else:
+        has_aq = np.zeros(n, dtype=bool)
+        aq = np.zeros(n, dtype=int)
+    is_aq = np.zeros((n, 3), dtype=bool)
+    is_aq[rows, aq] = has_aq
+    rest = present & ~is_aq
+    n_rest = rest.sum(axis=1)
+    # densities only where two or three phases are to be told apart
+    rho = np.full((n, 3), np.inf)
+    many = np.flatnonzero(n_rest >= 2)
+    if many.size:
+        for k in range(3):
+            rho[many, k] = _mass_density(eos, T[many], P[many], Xs[many, k])
+    order = np.argsort(np.where(rest, rho, np.inf), axis=1, kind="stable")
+    slot_of = np.full((n, 3), -1)           # slot (0 V, 1 L, 2 W) of each phase, -1 unused
+    two = n_rest == 2
+    slot_of[rows[two], order[two, 0]] = 0
+    slot_of[rows[two], order[two, 1]] = 1
+    three = n_rest == 3
+    for k in range(3):
+        slot_of[rows[three], order[three, k]] = k
+    one = np.flatnonzero(n_rest == 1)
+    if one.size:                # alone or beside water: vapour unless liquid-like
+        k = order[one, 0]
+        vap = is_vapour_like(eos, T[one], P[one], Xs[one, k])
+        slot_of[one, k] = np.where(vap, 0, 1)
+    slot_of[rows[has_aq], aq[has_aq]] = 2
+    out_b = np.zeros((n, 3))
+    out_x = np.full((n, 3, nc), np.nan)
+    for k in range(3):
+        used = slot_of[:, k] >= 0
+        out_b[rows[used], slot_of[used, k]] = B[used, k]
+        out_x[rows[used], slot_of[used, k]] = X[used, k]
     return ThreePhaseResult(out_b[:, 0], out_b[:, 1], out_b[:, 2], out_x[:, 0], out_x[:, 1],
                             out_x[:, 2], nph, report)
 
@@ -454,3 +688,307 @@ def phase_properties(engine, T, P, zs, res: ThreePhaseResult) -> dict:
             whole[k] = whole[k] + np.where(present, beta * out[name][k], 0.0)
     out["whole"] = whole
     return out
+
+
+# ------------------------------------------------------------------------------------------------
+# P-h and P-s on the three-phase equilibrium
+#: The enthalpy target is met to this [J/mol]: a temperature error of at most 1e-6 K (the
+#: two-phase P-h flash's ``cubic_fluid.PH_RESIDUAL_K``) wherever the heat capacity exceeds
+#: 10 J/(mol K); the entropy target to this over T [J/(mol K)]. The enthalpy of splits converged
+#: to FUG_TOL scatters by about 1e-7 J/mol (measured on the wet gases of tests/test_flash_water.py),
+#: 100 times below.
+PX_H_TOL = 1e-5
+#: Half-width of the first temperature step from the starting temperature [K]: the third phase
+#: shifts the temperature of gas with a little water by a few kelvin to about 15 K (measured on the
+#: LTS sheet of tests/test_separator_water.py: 12 K).
+BRACKET_STEP = 2.0
+#: Steps taken before a case is given up (at least doubling: 2 K * 2^8 = 512 K).
+BRACKET_GROWTHS = 9
+#: Lowest and highest temperatures the bracket may reach [K] (common practice: a gas with free
+#: water lies far inside).
+T_FLOOR, T_CEILING = 100.0, 700.0
+#: Regula falsi evaluations per case (each a batch three-phase flash); Illinois converges in 10-20.
+PX_MAX_ITERATIONS = 60
+#: Starting temperature where none is given [K].
+T_DEFAULT = 280.0
+
+
+@dataclass(frozen=True)
+class ThreePhasePX:
+    """Outcome of :func:`flash_PX_3`.
+
+    Attributes
+    ----------
+    T : ndarray (n,)
+        Temperature [K] (the last iterate where a case did not converge).
+    flash : ThreePhaseResult
+        The three-phase PT flash at ``T``.
+    report : SolveReport
+        ``converged`` (a bracket found, the target met and the flash at T converged),
+        ``iterations`` (three-phase flashes spent on the case), ``residual`` (target minus value,
+        [J/mol] or [J/(mol K)]).
+    """
+
+    T: np.ndarray
+    flash: ThreePhaseResult
+    report: SolveReport
+
+
+def take_result(res: ThreePhaseResult, idx) -> ThreePhaseResult:
+    """The cases ``idx`` (indices or mask) of a three-phase result."""
+    r = res.report
+    return ThreePhaseResult(res.beta_V[idx], res.beta_L[idx], res.beta_W[idx], res.y[idx],
+                            res.x[idx], res.w[idx], res.n_phases[idx],
+                            SolveReport(r.converged[idx], r.iterations[idx], r.residual[idx],
+                                        r.message))
+
+
+class _ResultStore:
+    """Per-case three-phase results, the last one computed for each case, with its temperature."""
+
+    def __init__(self, n, nc):
+        self.T = np.full(n, np.nan)
+        self.b = np.zeros((n, 3))
+        self.X = np.full((n, 3, nc), np.nan)
+        self.nph = np.zeros(n, dtype=int)
+        self.conv = np.zeros(n, dtype=bool)
+        self.iters = np.zeros(n, dtype=int)
+        self.resid = np.zeros(n)
+
+    def put(self, idx, T, res: ThreePhaseResult):
+        self.T[idx] = T
+        self.b[idx] = np.stack([res.beta_V, res.beta_L, res.beta_W], axis=1)
+        self.X[idx] = np.stack([res.y, res.x, res.w], axis=1)
+        self.nph[idx] = res.n_phases
+        self.conv[idx] = res.report.converged
+        self.iters[idx] = res.report.iterations
+        self.resid[idx] = res.report.residual
+
+    def result(self) -> ThreePhaseResult:
+        return ThreePhaseResult(self.b[:, 0].copy(), self.b[:, 1].copy(), self.b[:, 2].copy(),
+                                self.X[:, 0].copy(), self.X[:, 1].copy(), self.X[:, 2].copy(),
+                                self.nph.copy(), SolveReport(self.conv.copy(), self.iters.copy(),
+                                                             self.resid.copy(),
+                                                             "three-phase PT flash"))
+
+
+def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> ThreePhasePX:
+    """Temperature at which the three-phase equilibrium has the given enthalpy (or entropy).
+
+    Solves, per case, at the pressure P
+
+        h(T) = sum_phases beta_k h_k(T) = h_target     (or the same with s)
+
+    over the equilibrium of :func:`flash_PT_3` (three phases where they exist, otherwise two or
+    one), whose h(T) rises with T at fixed P. A first evaluation at ``T_start``; a case already
+    within the tolerance ends there. Otherwise the bracket is grown from ``T_start`` in the
+    direction the residual's sign gives (a first step of :data:`BRACKET_STEP`, then the secant
+    through the last two points overshot by :data:`BRACKET_OVERSHOOT`, never less than the step
+    before; at most :data:`BRACKET_GROWTHS` steps inside [:data:`T_FLOOR`, :data:`T_CEILING`]) and
+    closed by the bracketed root finder (Illinois regula falsi,
+    :func:`letdown.fluid.rootfind.bracketed_root`).
+
+    Iterates next to a three-phase state start their split from its phases (a few substitution
+    steps instead of the stability tests); one that loses a phase or does not converge is flashed
+    in full. The answer is then checked by the full :func:`flash_PT_3` at its temperature (so it
+    is exactly the P-T state there); a case whose full flash misses the target is solved again
+    with full flashes throughout. The adiabatic three-phase separator and the P-h / P-s flashes of
+    :class:`letdown.fluid.cubic_fluid.CubicEngine` for fluids with water both use this routine.
+
+    Parameters
+    ----------
+    engine : letdown.fluid.cubic_fluid.CubicEngine
+    P : ndarray (n,)
+        Pressure [Pa].
+    target : ndarray (n,)
+        Enthalpy [J/mol] (``which="h"``) or entropy [J/(mol K)] (``which="s"``).
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+    which : {"h", "s"}
+    T_start : ndarray (n,), optional
+        Starting temperature [K] (NaN or None: :data:`T_DEFAULT`).
+    start : ThreePhaseResult, optional
+        The three-phase flash at ``T_start`` if already done (saves one flash).
+
+    Returns
+    -------
+    ThreePhasePX
+    """
+    P = np.asarray(P, dtype=float)
+    target = np.asarray(target, dtype=float)
+    zs = np.asarray(zs, dtype=float)
+    n, nc = zs.shape
+    T0 = np.full(n, T_DEFAULT) if T_start is None else np.asarray(T_start, dtype=float)
+    T0 = np.clip(np.where(np.isfinite(T0), T0, T_DEFAULT), T_FLOOR, T_CEILING)
+    ftol = np.full(n, PX_H_TOL) if which == "h" else PX_H_TOL / T0
+    T, ok, resid, flashes, store, full = _px_solve(engine, P, target, zs, which, T0, start,
+                                                    ftol, True)
+    # the answer by the full flash where a warm-started split (or an earlier bracket end) led
+    # to it; elsewhere the last flash of the case was the full one at T
+    w = np.flatnonzero(~full)
+    if w.size:
+        res_w = flash_PT_3(engine.eos, T[w], P[w], zs[w])
+        flashes[w] += 1
+        value = phase_properties(engine, T[w], P[w], zs[w], res_w)["whole"][which]
+        fw = value - target[w]
+        store.put(w, T[w], res_w)
+        resid[w] = np.where(ok[w], fw, resid[w])
+        miss = ok[w] & (np.abs(fw) > ftol[w])
+        if miss.any():
+            # the warm-started path was not the equilibrium: full flashes throughout
+            m = w[miss]
+            Tm, okm, rm, fm, sm, _ = _px_solve(engine, P[m], target[m], zs[m], which, T0[m],
+                                               None, ftol[m], False)
+            T[m], ok[m], resid[m] = Tm, okm, rm
+            flashes[m] += fm
+            store.put(m, Tm, sm.result())
+    res = store.result()
+    ok &= res.report.converged
+    return ThreePhasePX(T, res, SolveReport(ok, flashes, resid, f"three-phase P-{which} flash"))
+
+
+#: Bracket growth after the first step: the secant's distance to the root times this [-] (with
+#: a little margin) so that the next point lands past the root; common practice for a monotone
+#: function whose slope changes slowly.
+BRACKET_OVERSHOOT = 1.25
+#: Phases of a warm-started three-phase split closer than this (sum of squared differences of
+#: mole fractions) are one phase: the split is trivial and the case is flashed in full (as
+#: letdown.fluid.flash.TRIVIAL_DIST).
+TRIVIAL_SPLIT = 1e-7
+
+
+def _px_solve(engine, P, target, zs, which, T0, start, ftol, warm):
+    """The bracket and root of :func:`flash_PX_3` (``warm``: iterates start from the phases of
+    the case's last three-phase state). Returns T, converged, residual, flashes per case, the
+    store of the last flash of each case, and whether that flash is a full one at T."""
+    eos = engine.eos
+    n, nc = zs.shape
+    store = _ResultStore(n, nc)
+    flashes = np.zeros(n, dtype=int)
+    was_warm = np.zeros(n, dtype=bool)
+
+    def flash(T, idx):
+        if not warm:
+            return flash_PT_3(eos, T, P[idx], zs[idx]), np.zeros(idx.size, dtype=bool)
+        near = np.flatnonzero((store.nph[idx] == 3) & store.conv[idx])
+        out = _ResultStore(idx.size, nc)
+        good = np.zeros(idx.size, dtype=bool)
+        if near.size:
+            j = idx[near]
+            betas, X, conv, iters, resid = _split3(eos, T[near], P[j], zs[j], store.X[j],
+                                                   beta0=store.b[j, 1:])
+            distinct = np.ones(near.size, dtype=bool)
+            for a_, b_ in ((0, 1), (0, 2), (1, 2)):
+                distinct &= np.sum((X[:, a_] - X[:, b_]) ** 2, axis=1) > TRIVIAL_SPLIT
+            g = conv & np.all(betas > 0.0, axis=1) & distinct
+            if g.any():
+                out.put(near[g], T[near[g]], ThreePhaseResult(
+                    betas[g, 0], betas[g, 1], betas[g, 2], X[g, 0], X[g, 1], X[g, 2],
+                    np.full(int(g.sum()), 3), SolveReport(conv[g], iters[g], resid[g])))
+                good[near[g]] = True
+        rest = np.flatnonzero(~good)
+        if rest.size:
+            out.put(rest, T[rest], flash_PT_3(eos, T[rest], P[idx[rest]], zs[idx[rest]]))
+        return out.result(), good
+
+    def f(T, idx, res=None):
+        w = np.zeros(idx.size, dtype=bool)
+        if res is None:
+            res, w = flash(T, idx)
+        store.put(idx, T, res)
+        was_warm[idx] = w
+        flashes[idx] += 1
+        value = phase_properties(engine, T, P[idx], zs[idx], res)["whole"][which]
+        return value - target[idx]
+
+    f0 = f(T0, np.arange(n), start)
+    lo, hi = T0.copy(), T0.copy()
+    f_lo, f_hi = f0.copy(), f0.copy()
+    # grow the bracket on the side the residual points to: h below target -> root above
+    up = f0 < -ftol
+    down = f0 > ftol
+    step = np.full(n, BRACKET_STEP)
+    for k in range(BRACKET_GROWTHS):
+        go_up = np.flatnonzero(up & (f_hi < 0.0) & (hi < T_CEILING))
+        go_down = np.flatnonzero(down & (f_lo > 0.0) & (lo > T_FLOOR))
+        if go_up.size == 0 and go_down.size == 0:
+            break
+        for i, sign in ((go_up, 1.0), (go_down, -1.0)):
+            if i.size == 0:
+                continue
+            if k > 0:
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    far, f_far = (hi[i], f_hi[i]) if sign > 0 else (lo[i], f_lo[i])
+                    near, f_near = (lo[i], f_lo[i]) if sign > 0 else (hi[i], f_hi[i])
+                    ds = -f_far * (far - near) / (f_far - f_near) * sign
+                secant = np.isfinite(ds) & (ds > 0.0)
+                step[i] = np.where(secant, np.maximum(BRACKET_OVERSHOOT * ds + 0.05 * step[i],
+                                                      step[i]), 2.0 * step[i])
+            if sign > 0:
+                lo[i], f_lo[i] = hi[i], f_hi[i]
+                hi[i] = np.minimum(lo[i] + step[i], T_CEILING)
+                f_hi[i] = f(hi[i], i)
+            else:
+                hi[i], f_hi[i] = lo[i], f_lo[i]
+                lo[i] = np.maximum(hi[i] - step[i], T_FLOOR)
+                f_lo[i] = f(lo[i], i)
+    T = T0.copy()
+    resid = f0.copy()
+    ok = ~(up | down)
+    b = np.flatnonzero((up | down) & (f_lo <= 0.0) & (f_hi >= 0.0))
+    if b.size:
+        root = bracketed_root(lambda x, idx: f(x, b[idx]), lo[b], hi[b], f_lo[b], f_hi[b],
+                              ftol=ftol[b], max_iterations=PX_MAX_ITERATIONS)
+        T[b] = root.x
+        resid[b] = root.fx
+        ok[b] = root.converged
+    # the answer may be a bracket end evaluated before the last flash of its case
+    return T, ok, resid, flashes, store, ~was_warm & (store.T == T)
+
+
+def enthalpy_near(engine, T, P, zs, near: ThreePhaseResult, tol=FUG_TOL):
+    """Equilibrium enthalpy [J/mol] at (T, P) close to the state of a known three-phase result.
+
+    Where ``near`` has three phases, the three-phase split is started from its compositions (a few
+    substitution steps) and kept if it converges to ``tol`` with every phase present; elsewhere,
+    and where that fails, the full :func:`flash_PT_3`. For the effective heat capacity and
+    Joule-Thomson coefficient of multiphase states by finite differences.
+
+    Parameters
+    ----------
+    engine : letdown.fluid.cubic_fluid.CubicEngine
+    T, P : ndarray (n,)
+        [K], [Pa].
+    zs : ndarray (n, nc)
+        Feed compositions [-].
+    near : ThreePhaseResult
+        The flash of the same feeds at a nearby (T, P).
+    tol : float
+        Convergence of the warm-started split on ln f [-].
+
+    Returns
+    -------
+    ndarray (n,)
+    """
+    n = T.shape[0]
+    h = np.empty(n)
+    done = np.zeros(n, dtype=bool)
+    i = np.flatnonzero(near.n_phases == 3)
+    if i.size:
+        X0 = np.stack([near.y[i], near.x[i], near.w[i]], axis=1)
+        betas, X, conv, iters, resid = _split3(
+            engine.eos, T[i], P[i], zs[i], X0, tol,
+            beta0=np.stack([near.beta_L[i], near.beta_W[i]], axis=1))
+        good = conv & np.all(betas > 0.0, axis=1)
+        g = i[good]
+        if g.size:
+            r = ThreePhaseResult(betas[good, 0], betas[good, 1], betas[good, 2], X[good, 0],
+                                 X[good, 1], X[good, 2], np.full(g.size, 3),
+                                 SolveReport(conv[good], iters[good], resid[good], ""))
+            h[g] = phase_properties(engine, T[g], P[g], zs[g], r)["whole"]["h"]
+            done[g] = True
+    rest = np.flatnonzero(~done)
+    if rest.size:
+        r = flash_PT_3(engine.eos, T[rest], P[rest], zs[rest])
+        h[rest] = phase_properties(engine, T[rest], P[rest], zs[rest], r)["whole"]["h"]
+    return h
