@@ -38,6 +38,7 @@ import numpy as np
 from ..errors import ConvergenceError, InputError
 from .components import COMPONENTS
 from .flash import SolveReport
+from .rootfind import bracketed_root
 
 CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
            "licensed staff.")
@@ -243,36 +244,13 @@ def vdwp_wt_pct(fluid, P, T_target, name="methanol", zs=None):
             raise InputError("the target hydrate temperature needs a water activity below 0.2: "
                              "outside what the inhibitor rules cover")
         f_hi = T_free[i] - Tt[i]
-        x = np.zeros(i.size)
-        conv = np.zeros(i.size, dtype=bool)
-        its = np.zeros(i.size, dtype=int)
-        res = np.full(i.size, np.inf)
-        kept = np.zeros(i.size, dtype=int)
-        for _ in range(MAX_ITER):
-            a = ~conv
-            if not a.any():
-                break
-            c = (lo * f_hi - hi * f_lo) / (f_hi - f_lo)
-            c = np.where(np.isfinite(c) & (c > lo) & (c < hi), c, 0.5 * (lo + hi))
-            fc = np.zeros(i.size)
-            fc[a] = hT(i[a], np.exp(c[a])) - Tt[i][a]
-            up = fc > 0.0
-            # Illinois on a bracket [lo, hi] with f(lo) < 0 < f(hi)
-            new_flo = np.where(up, np.where(kept == 1, 0.5 * f_lo, f_lo), fc)
-            new_fhi = np.where(up, fc, np.where(kept == -1, 0.5 * f_hi, f_hi))
-            lo = np.where(a & ~up, c, lo)
-            hi = np.where(a & up, c, hi)
-            f_lo = np.where(a, new_flo, f_lo)
-            f_hi = np.where(a, new_fhi, f_hi)
-            kept = np.where(a, np.where(up, 1, -1), kept)
-            its += a
-            res = np.where(a, np.abs(fc), res)
-            x = np.where(a, c, x)
-            conv |= a & (np.abs(fc) < T_TARGET_TOL)
-        if not conv.all():
+        rep = bracketed_root(lambda c, rows: hT(i[rows], np.exp(c)) - Tt[i][rows], lo, hi,
+                             f_lo, f_hi, ftol=T_TARGET_TOL, max_iterations=MAX_ITER)
+        if not rep.converged.all():
             raise ConvergenceError("inhibitor concentration (vdW-P) did not converge",
-                                   result=SolveReport(conv, its, res, "ln a_w, Illinois"))
-        lna[i] = x
+                                   result=SolveReport(rep.converged, rep.iterations,
+                                                      np.abs(rep.fx), "ln a_w, Illinois"))
+        lna[i] = rep.x
     W = wt_pct_from_water_mole_fraction(np.exp(lna), name)
     W = np.atleast_1d(W)
     scalar = np.ndim(T_target) == 0 and np.ndim(P_in) == 0 and (zs is None or np.ndim(zs) == 1)
@@ -615,36 +593,13 @@ def dose_with_losses(fluid, T, P, zs_dry, water_ratio, W, name="methanol", pf=No
             raise ConvergenceError("inhibitor dose: the wanted aqueous wt % is not reached "
                                    "by any dose the search tried",
                                    result=SolveReport(conv, its, res, "dose, bracket"))
-        x = hi.copy()
-        c_ok = np.zeros(i.size, dtype=bool)
-        kept = np.zeros(i.size, dtype=int)
-        r_i = np.full(i.size, np.inf)
-        it_i = np.zeros(i.size, dtype=int)
-        for _ in range(DOSE_MAX_ITER):
-            a = ~c_ok
-            if not a.any():
-                break
-            c = (lo * f_hi - hi * f_lo) / (f_hi - f_lo)
-            c = np.where(np.isfinite(c) & (c > lo) & (c < hi), c, 0.5 * (lo + hi))
-            fc = np.zeros(i.size)
-            fc[a] = wt_at(np.exp(c[a]), i[a])
-            up = fc > 0.0
-            new_flo = np.where(up, np.where(kept == 1, 0.5 * f_lo, f_lo), fc)
-            new_fhi = np.where(up, fc, np.where(kept == -1, 0.5 * f_hi, f_hi))
-            lo = np.where(a & ~up, c, lo)
-            hi = np.where(a & up, c, hi)
-            f_lo = np.where(a, new_flo, f_lo)
-            f_hi = np.where(a, new_fhi, f_hi)
-            kept = np.where(a, np.where(up, 1, -1), kept)
-            it_i += a
-            r_i = np.where(a, np.abs(fc), r_i)
-            x = np.where(a, c, x)
-            c_ok |= a & (np.abs(fc) <= DOSE_WT_RTOL * W[i])
-        its[i], res[i], conv[i] = it_i, r_i, c_ok
-        if not c_ok.all():
+        rep = bracketed_root(lambda c, rows: wt_at(np.exp(c), i[rows]), lo, hi, f_lo, f_hi,
+                             ftol=DOSE_WT_RTOL * W[i], max_iterations=DOSE_MAX_ITER)
+        its[i], res[i], conv[i] = rep.iterations, np.abs(rep.fx), rep.converged
+        if not rep.converged.all():
             raise ConvergenceError("inhibitor dose with losses did not converge",
                                    result=SolveReport(conv, its, res, "dose, Illinois on ln n"))
-        dose[i] = np.exp(x)
+        dose[i] = np.exp(rep.x)
     out = partition(fluid, T, P, zs_dry, rw, ratios(dose, np.arange(n)), pf)
     return Partition(out.injected, out.aqueous, out.vapour, out.hc_liquid, out.water_aqueous,
                      np.where(need, out.wt_pct, np.nan), out.water_mole_fraction, out.beta_V,

@@ -555,13 +555,6 @@ def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
 
 
 # ------------------------------------------------------------------------------------------------
-#: Successive substitution on x_w for the water dissolved in a hydrocarbon liquid: ln phi_w of the
-#: liquid depends weakly on x_w at these small contents, so a few steps reach the tolerance; 50 is
-#: far beyond need (as :data:`letdown.fluid.water.EOS_MAX_ITER`).
-SOLUBILITY_TOL = 1e-12
-SOLUBILITY_MAX_ITER = 50
-
-
 def water_in_liquid(fluid, T, P, xs):
     """Water dissolved in a hydrocarbon liquid saturated with pure liquid water, mole fraction [-].
 
@@ -571,10 +564,10 @@ def water_in_liquid(fluid, T, P, xs):
         x_w phi_w^L(T, P, x) P = p_v phi_sat exp(v_L (P - p_v) / (R T)),
 
     phi_w^L from the fluid's cubic equation (liquid root, with its water interaction parameters),
-    p_v, phi_sat and v_L as in :func:`letdown.fluid.water.water_content_eos`; solved by successive
-    substitution on x_w. Gas dissolved in the water is ignored (x_w of the aqueous phase = 1). With
-    the constant water-hydrocarbon kij of data/kij_pr.csv this is an order-of-magnitude figure
-    (module docstring).
+    p_v, phi_sat and v_L as in :func:`letdown.fluid.water.water_content_eos`, which solves it
+    (``phase="liquid"``: successive substitution on x_w, its tolerances). Gas dissolved in the
+    water is ignored (x_w of the aqueous phase = 1). With the constant water-hydrocarbon kij of
+    data/kij_pr.csv this is an order-of-magnitude figure (module docstring).
 
     Parameters
     ----------
@@ -596,49 +589,8 @@ def water_in_liquid(fluid, T, P, xs):
     ConvergenceError
         The substitution did not settle (the report is attached).
     """
-    from ..errors import ConvergenceError
-    from .water import V_LIQUID, _fluid_with_water, water_vapour_pressure
-    f = _fluid_with_water(fluid)
-    if f.model == "gerg-2008":
-        f = f.with_model("peng-robinson")
-    names = list(f.components)
-    iw = names.index("water")
-    T = np.atleast_1d(np.asarray(T, dtype=float))
-    P = np.atleast_1d(np.asarray(P, dtype=float))
-    xs = np.atleast_2d(np.asarray(xs, dtype=float))
-    n = max(T.shape[0], P.shape[0], xs.shape[0])
-    T = np.broadcast_to(T, (n,)).copy()
-    P = np.broadcast_to(P, (n,)).copy()
-    dry = np.zeros((n, len(names)))
-    for j, nm in enumerate(fluid.components):
-        dry[:, names.index(nm)] = np.broadcast_to(xs[:, j], (n,))
-    dry[:, iw] = 0.0
-    dry /= dry.sum(axis=1, keepdims=True)
-    eos = f.engine.eos
-    pv = water_vapour_pressure(T)
-    pure = np.zeros((n, len(names)))
-    pure[:, iw] = 1.0
-    lnphi_sat, _ = eos.lnphi(T, pv, pure, "vapour")
-    f_water = pv * np.exp(lnphi_sat[:, iw]) * np.exp(V_LIQUID * (P - pv) / (R * T))
-    x = np.zeros(n)
-    conv = np.zeros(n, dtype=bool)
-    it = np.zeros(n, dtype=int)
-    step = np.full(n, np.inf)
-    for _ in range(SOLUBILITY_MAX_ITER):
-        x_all = dry * (1.0 - x)[:, None]
-        x_all[:, iw] = x
-        lnphi, _ = eos.lnphi(T, P, x_all, "liquid")
-        x_new = f_water / (np.exp(lnphi[:, iw]) * P)
-        step = np.abs(x_new - x) / x_new
-        it += ~conv
-        x = np.where(conv, x, x_new)
-        conv |= step < SOLUBILITY_TOL
-        if conv.all():
-            break
-    if not conv.all():
-        raise ConvergenceError("water dissolved in the hydrocarbon liquid did not converge",
-                               result=SolveReport(conv, it, step, "water in liquid, substitution"))
-    return x
+    from .water import water_content_eos
+    return water_content_eos(fluid, T, P, zs=xs, phase="liquid")
 
 
 # ------------------------------------------------------------------------------------------------

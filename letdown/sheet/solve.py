@@ -17,7 +17,7 @@ Loops
 Goals
     A goal varies one block parameter inside its bracket until a held quantity meets its target: the
     two bracket ends are evaluated together (one batch of ``2 n`` cases), then all cases iterate
-    with the Illinois root finder of :mod:`letdown.equipment.rootfind`. Several goals nest, the
+    with the Illinois root finder of :mod:`letdown.fluid.rootfind`. Several goals nest, the
     first outermost.
 """
 from __future__ import annotations
@@ -28,7 +28,7 @@ import numpy as np
 
 from ..equipment import KINDS, StreamBatch, flash_stream
 from ..equipment.common import TINY_FLOW
-from ..equipment.rootfind import bracketed_root
+from ..fluid.rootfind import bracketed_root
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
@@ -578,9 +578,8 @@ class _Engine:
                  "temperature_cross": "temperature cross inside the exchanger",
                  "spec_unmet": "the specification cannot be met with these inlet temperatures",
                  "three_phase_T_shift": "the three-phase drum temperature differs by more than "
-                                        "0.1 K from the two-phase flash of its inlet: blocks "
-                                        "upstream flash gas with water as a component in two "
-                                        "phases and can miss one, so their temperatures are off"}
+                                        "0.1 K from its inlet's temperature at the same "
+                                        "enthalpy: the inlet's flash missed a phase"}
         for name, outcome in ev.outcomes.items():
             for flag, values in outcome.flags.items():
                 if np.any(values):
