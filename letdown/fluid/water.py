@@ -254,7 +254,7 @@ def water_content(fluid, T, P, method="bukacek", zs=None):
     raise InputError(f"unknown water-content method '{method}' (known: bukacek, eos)")
 
 
-def water_dew_point(y_water, P, fluid=None, method="bukacek"):
+def water_dew_point(y_water, P, fluid=None, method="bukacek", zs=None):
     """Water dew point: the temperature at which the gas with water mole fraction ``y_water`` is
     saturated at pressure P [K] (over liquid water; supercooled below 0 degC).
 
@@ -268,6 +268,8 @@ def water_dew_point(y_water, P, fluid=None, method="bukacek"):
         Needed for ``method="eos"``.
     method : str
         ``bukacek`` or ``eos``.
+    zs : ndarray (nc,) or (n, nc), optional
+        Composition of the gas for ``eos`` (component order of ``fluid``; default the fluid's).
 
     Raises
     ------
@@ -282,8 +284,10 @@ def water_dew_point(y_water, P, fluid=None, method="bukacek"):
     if np.any(~np.isfinite(y)) or np.any(y <= 0.0):
         raise InputError("water dew point needs a positive water content")
 
+    Z = None if zs is None else np.broadcast_to(np.asarray(zs, float), (n, np.shape(zs)[-1]))
+
     def W(T):
-        return water_content(fluid, T, Pa, method=method)
+        return water_content(fluid, T, Pa, method=method, zs=Z)
 
     lo = np.full(n, DEW_T_RANGE[0])
     hi = np.full(n, DEW_T_RANGE[1])

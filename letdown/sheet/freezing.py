@@ -317,14 +317,15 @@ class WaterCarry:
         return self.ratios[name] * F + self.free.get(name, np.zeros(stream.n_cases))
 
 
-def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None
+def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None, ys=None
                       ) -> tuple[np.ndarray, np.ndarray]:
     """Water a separator's vapour and hydrocarbon liquid can hold at (T, P), per mole of dry
     phase [mol/mol].
 
-    The vapour by ``gas.water_method`` (:func:`letdown.fluid.water.water_content`, the file's
-    gas composition), the **same route as the water dew point** (:func:`_dew_points`), so that a
-    vapour leaving saturated has its water dew point at the separator's temperature; the liquid by
+    The vapour by ``gas.water_method`` (:func:`letdown.fluid.water.water_content`, at the
+    vapour's composition ``ys`` for ``eos``), the **same route as the water dew point**
+    (:func:`_dew_points`), so that a vapour leaving saturated has its water dew point at the
+    separator's temperature; the liquid by
     the fugacity balance with pure liquid water on the fluid's cubic equation
     (:func:`letdown.fluid.threephase.water_in_liquid`).
 
@@ -339,6 +340,8 @@ def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None
         Hydrocarbon liquid composition [-].
     has_liquid : ndarray of bool (n,), optional
         Cases with a hydrocarbon liquid (default all); the others get ``r_liquid = 0``.
+    ys : ndarray (n, nc), optional
+        Vapour composition [-] (default the file's gas composition).
 
     Returns
     -------
@@ -348,7 +351,7 @@ def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None
     from ..fluid.threephase import water_in_liquid
     T = np.asarray(T, dtype=float)
     P = np.asarray(P, dtype=float)
-    y = np.asarray(water_content(fluid, T, P, method=method), dtype=float).reshape(-1)
+    y = np.asarray(water_content(fluid, T, P, method=method, zs=ys), dtype=float).reshape(-1)
     has = np.ones(T.shape, bool) if has_liquid is None else np.asarray(has_liquid, bool)
     r_liquid = np.zeros(T.shape)
     if has.any():
@@ -374,7 +377,7 @@ def _separate(fs, fluid, block, streams, r, free, split, cache, n):
     if block not in cache:      # the streams are solved: the capacities are fixed over passes
         V = streams[vap]
         cache[block] = saturation_ratios(fluid, fs.gas.water_method, V.T, V.P, streams[liq].zs,
-                                         has_liquid=FL > 0.0)
+                                         has_liquid=FL > 0.0, ys=V.zs)
     rV_sat, rL_sat = cache[block]
     capacity = FV * rV_sat + FL * rL_sat
     wetter = W_in >= capacity
@@ -669,18 +672,23 @@ def aqueous_equilibrium(fluid, T, P, zs, water_ratio, inhibitor_ratio):
     return wt, aw
 
 
-def _dew_points(fluid, method, y, P) -> np.ndarray:
-    """Water dew points [K]; NaN for dry gas and for dew points outside :data:`DEW_T_RANGE`."""
+def _dew_points(fluid, method, y, P, zs) -> np.ndarray:
+    """Water dew points [K] of gases of compositions ``zs`` (n, nc) (used by the ``eos`` method);
+    NaN for dry gas and for dew points outside :data:`DEW_T_RANGE`."""
     out = np.full(y.shape, np.nan)
     wet = y > 0.0
     if not wet.any():
         return out
-    lo = np.asarray(water_content(fluid, np.full(wet.sum(), DEW_T_RANGE[0]), P[wet], method=method))
-    hi = np.asarray(water_content(fluid, np.full(wet.sum(), DEW_T_RANGE[1]), P[wet], method=method))
+    Zw = np.asarray(zs, float)[wet]
+    lo = np.asarray(water_content(fluid, np.full(wet.sum(), DEW_T_RANGE[0]), P[wet],
+                                  method=method, zs=Zw))
+    hi = np.asarray(water_content(fluid, np.full(wet.sum(), DEW_T_RANGE[1]), P[wet],
+                                  method=method, zs=Zw))
     idx = np.flatnonzero(wet)
     ok = (y[wet] >= lo) & (y[wet] <= hi)
     if ok.any():
-        out[idx[ok]] = water_dew_point(y[idx[ok]], P[idx[ok]], fluid=fluid, method=method)
+        out[idx[ok]] = water_dew_point(y[idx[ok]], P[idx[ok]], fluid=fluid, method=method,
+                                       zs=np.asarray(zs, float)[idx[ok]])
     return out
 
 
@@ -777,7 +785,7 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
             wt[sl] = np.where(only, w_free, wt[sl])
             aw[sl] = np.where(only, a_free, aw[sl])
     y = r / (1.0 + r)
-    dew = _dew_points(fluid, fs.gas.water_method, y, P)
+    dew = _dew_points(fluid, fs.gas.water_method, y, P, zs)
     # the inject outlets once more without inhibitor, for the vdW-P depression of each block
     outs = [fs.blocks[b].outlets["out"] for b in block_doses]
     P_all = np.concatenate([P] + [np.asarray(streams[s].P, float) for s in outs])
