@@ -31,6 +31,7 @@ import tempfile
 import traceback
 from pathlib import Path
 
+from .caution import CAUTION
 from .errors import ConvergenceError, InputError, LetdownError, ModelError
 
 EXIT_OK = 0
@@ -317,8 +318,7 @@ def _sweep(args) -> int:
     if failed:
         print(f"letdown: {failed} of {len(table.rows)} cases failed (see the reason column)",
               file=sys.stderr)
-    print("letdown: engineering estimates; designs must follow local codes and be checked by "
-          "qualified, licensed staff.", file=sys.stderr)
+    print(f"letdown: {CAUTION}", file=sys.stderr)
     return EXIT_OK
 
 

@@ -9,7 +9,8 @@ import pytest
 
 from letdown.quantities import PSI
 from letdown.report.tables import csv_text, equipment_table, pick, render, stream_table
-from letdown.report.text import CAUTION, report_text
+from letdown.caution import CAUTION
+from letdown.report.text import report_text
 
 ROOT = Path(__file__).resolve().parents[1]
 

@@ -40,8 +40,6 @@ from .components import COMPONENTS
 from .flash import SolveReport
 from .rootfind import bracketed_root
 
-CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
-           "licensed staff.")
 
 #: Nielsen & Bucklin (1983) coefficient [K] (REFERENCE_DATA.md section 3, status M)
 NIELSEN_BUCKLIN_K = 72.0

@@ -4,16 +4,14 @@ from __future__ import annotations
 
 import math
 
+from ..caution import CAUTION
 from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
-from .crosscheck import SHORT
+from .crosscheck import SHORT, model_notes
 from .tables import Table, render
 
 #: Display unit keys (value, difference) by the SI unit of a measured quantity or parameter.
 _DISPLAY = {"K": ("T", "dT"), "Pa": ("P", "dP"), "mol/s": ("std_flow", "std_flow"),
             "kg/s": ("mass_flow", "mass_flow"), "W": ("duty", "duty"), "W/K": ("ua", "ua")}
-
-CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
-           "licensed staff.")
 
 
 def _converters(u, unit: str, attribute: str = ""):
@@ -88,16 +86,6 @@ def compare_text(cmp, units: str = "si", atmosphere: float | None = None) -> str
             if not f.converged:
                 text += f"; NOT converged: {f.message}"
             lines.append(text)
-    if cmp.failures:
-        lines += ["", "Models that could not solve it"]
-        lines += [f"  {m}: {why}" for m, why in cmp.failures.items()]
-    if cmp.skipped:
-        lines += ["", "Models left out"]
-        lines += [f"  {m}: {why}" for m, why in cmp.skipped.items()]
-    warned = {m: cmp.results[m].warnings for m in models if cmp.results[m].warnings}
-    if warned:
-        lines += ["", "Warnings by model"]
-        for m, ws in warned.items():
-            lines += [f"  {m}: {where}: {what}" for where, what in ws]
+    lines += model_notes(cmp.failures, cmp.skipped, {m: cmp.results[m].warnings for m in models})
     lines += ["", CAUTION]
     return "\n".join(lines)

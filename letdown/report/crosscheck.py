@@ -1,6 +1,7 @@
 """Text report of a model cross-check (:class:`letdown.study.crosscheck.CrossCheck`): pure function."""
 from __future__ import annotations
 
+from ..caution import CAUTION
 from ..quantities import STANDARD_ATMOSPHERE, unit_system
 from .tables import Table, render
 
@@ -34,20 +35,35 @@ def crosscheck_text(cc, units: str = "si") -> str:
                  f"5 % of duty or power)." if n_flag else
                  "No result spreads more than the thresholds (1 K, 0.01 vapour fraction, 5 % of "
                  "duty or power).")
-    if cc.failures:
-        lines += ["", "Models that could not solve it"]
-        lines += [f"  {m}: {why}" for m, why in cc.failures.items()]
-    if cc.skipped:
-        lines += ["", "Models left out"]
-        lines += [f"  {m}: {why}" for m, why in cc.skipped.items()]
-    flagged_models = {m: ws for m, ws in cc.warnings.items() if ws}
-    if flagged_models:
-        lines += ["", "Warnings by model"]
-        for m, ws in flagged_models.items():
-            lines += [f"  {m}: {where}: {what}" for where, what in ws]
+    lines += model_notes(cc.failures, cc.skipped, cc.warnings)
     lines += ["", "Model assumptions"]
     lines += [f"  {m}: {cc.assumptions.get(m, '')}" for m in cc.models]
-    lines += ["", "Engineering estimates; designs must follow local codes and be checked by "
-                  "qualified, licensed staff."]
+    lines += ["", CAUTION]
     return "\n".join(lines)
+
+
+def model_notes(failures, skipped, warnings) -> list:
+    """Report lines on the models of a several-model study: those that could not solve the
+    flowsheet, those left out (each with its reason), and each model's warnings.
+
+    Parameters
+    ----------
+    failures, skipped : Mapping[str, str]
+        Model -> why.
+    warnings : Mapping[str, sequence of (where, what)]
+        Model -> its warnings (models without any are not listed).
+    """
+    lines = []
+    if failures:
+        lines += ["", "Models that could not solve it"]
+        lines += [f"  {m}: {why}" for m, why in failures.items()]
+    if skipped:
+        lines += ["", "Models left out"]
+        lines += [f"  {m}: {why}" for m, why in skipped.items()]
+    warned = {m: ws for m, ws in warnings.items() if ws}
+    if warned:
+        lines += ["", "Warnings by model"]
+        for m, ws in warned.items():
+            lines += [f"  {m}: {where}: {what}" for where, what in ws]
+    return lines
 

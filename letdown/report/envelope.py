@@ -11,11 +11,10 @@ import io
 
 import numpy as np
 
+from ..caution import CAUTION
 from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
 
 #: The caution carried by every output that may size equipment or judge liquid drop-out.
-CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
-           "licensed staff.")
 
 
 def _absolute(u):

@@ -2,11 +2,10 @@
 functions of the result's figures (``to_dict``)."""
 from __future__ import annotations
 
+from ..caution import CAUTION
 from ..quantities import STANDARD_ATMOSPHERE, unit_system
 from .tables import Table, render
 
-CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
-           "licensed staff.")
 
 #: Words for the limits in the report.
 LIMIT_NAMES = {"min_T": "limits.min_T", "ice": "0 degC ice + margin",

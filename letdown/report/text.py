@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from typing import Mapping
 
+from ..caution import CAUTION
 from ..quantities import (STANDARD_ATMOSPHERE, STANDARD_CONDITIONS, format_number, unit_system)
 from .tables import DEFAULT_WIDTH, Table, equipment_table, pick, render, stream_table
 
@@ -18,10 +19,6 @@ from .tables import DEFAULT_WIDTH, Table, equipment_table, pick, render, stream_
 LB_MMSCF_PER_MG_SM3 = 1e-6 / 0.45359237 * 1e6 * (14.696 * 6894.757293168 * 0.028316846592
                                                  / (8.314462618 * 288.7055556)) \
     / (101325.0 / (8.314462618 * 288.15))
-
-#: Printed under every report that sizes equipment or judges freezing (project rule).
-CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
-           "licensed staff.")
 
 #: Unit kind of a held stream or block quantity / a varied block parameter (by attribute name).
 _ATTRIBUTE_UNIT = {

@@ -10,10 +10,8 @@ from pathlib import Path
 
 import numpy as np
 
+from ..caution import CAUTION
 from .figures import figure_files, pyplot
-
-CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
-           "licensed staff.")
 
 
 def year_text(res) -> str:

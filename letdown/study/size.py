@@ -35,6 +35,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..caution import CAUTION
 from ..errors import InputError
 from ..fluid.quality import quality
 from ..sheet.freezing import ICE_T
@@ -42,8 +43,6 @@ from ..sheet.graph import downstream_streams
 from ..sheet.solve import make_fluid, solve_cases
 from ..sheet.spec import Flowsheet
 
-CAUTION = ("Engineering estimates; designs must follow local codes and be checked by qualified, "
-           "licensed staff.")
 #: Heater efficiency used when neither the file nor the command line gives one [-] (the middle of
 #: the 50-80 % of water-bath heaters; common practice), stated in the report as assumed.
 DEFAULT_EFFICIENCY = 0.75
