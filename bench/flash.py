@@ -21,22 +21,10 @@ import time
 import numpy as np
 
 import letdown
+from _shared import BENCH_GAS, median_time
 
-#: Demo lean gas (invented): 10 components, dew point near -30 degC at 7 bar.
-BENCH_GAS = {"methane": 0.885, "ethane": 0.05, "propane": 0.02, "isobutane": 0.004,
-             "n-butane": 0.005, "isopentane": 0.002, "n-pentane": 0.001, "n-hexane": 0.001,
-             "nitrogen": 0.012, "carbon-dioxide": 0.02}
 T_IN, P_IN, P_OUT = 283.15, 70e5, 7e5
 N_YEAR = 8760
-
-
-def median_time(fn, repeats):
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times)
 
 
 def thermo_flasher(fluid):

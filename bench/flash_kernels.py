@@ -31,20 +31,9 @@ import numpy as np
 
 import letdown
 from letdown.fluid import native
+from _shared import BENCH_GAS, median_time
 
-GAS = {"methane": 0.885, "ethane": 0.05, "propane": 0.02, "isobutane": 0.004, "n-butane": 0.005,
-       "isopentane": 0.002, "n-pentane": 0.001, "n-hexane": 0.001, "nitrogen": 0.012,
-       "carbon-dioxide": 0.02}
 ROOT = Path(__file__).resolve().parent.parent
-
-
-def median_time(fn, repeats):
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times)
 
 
 def flash_times(fluid, repeats, batch_repeats):
@@ -89,7 +78,7 @@ def main():
     args = ap.parse_args()
     if not native.AVAILABLE:
         raise SystemExit("compiled kernels not available (not built, or LETDOWN_PURE_NUMPY=1)")
-    fluid = letdown.Fluid(GAS, model="peng-robinson")
+    fluid = letdown.Fluid(BENCH_GAS, model="peng-robinson")
     res = {}
     for label, on in (("compiled", True), ("numpy", False)):
         native.AVAILABLE = on

@@ -18,9 +18,7 @@ import argparse
 import cProfile
 import os
 import pstats
-import statistics
 import sys
-import time
 
 import numpy as np
 
@@ -30,15 +28,7 @@ import letdown  # noqa: E402
 from letdown.sheet.loader import loads  # noqa: E402
 from letdown.sheet.solve import solve_cases  # noqa: E402
 from tests.test_separator_water import LTS3, PORTS3, WET  # noqa: E402
-
-
-def median_time(fn, repeats):
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times)
+from _shared import median_time  # noqa: E402
 
 
 def main(argv=None):
