@@ -85,6 +85,13 @@ def test_without_losses_the_inhibitor_follows_the_free_water():
     assert res.streams["sales"].freezing["inhibitor_flow_kg_s"] == 0.0
 
 
+def test_without_a_water_port_nor_losses_all_the_inhibitor_leaves_with_the_liquid():
+    # the free water leaves with the hydrocarbon liquid, and with it all the inhibitor
+    res = solve(dose="rate: 20 kg/h, losses: none", ports="{vapour: gas, liquid: condensate}")
+    assert inhibitor_kg_s(res, "condensate") == pytest.approx(20.0 / 3600.0, rel=1e-12)
+    assert inhibitor_kg_s(res, "gas") == 0.0
+
+
 def test_without_a_water_port_the_aqueous_inhibitor_leaves_with_the_liquid(methanol):
     res = solve(ports="{vapour: gas, liquid: condensate}")
     assert inhibitor_kg_s(res, "condensate") == pytest.approx(

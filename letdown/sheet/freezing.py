@@ -261,29 +261,6 @@ def _carry_steps(fs, steps, r, through, notes, what):
                                        f"{LOOP_MAX_PASSES} passes (change {change:.3g})"))
 
 
-def water_ratios(fs, fluid, streams, steps) -> tuple[dict, list]:
-    """Water per dry gas [mol/mol] of every stream, and notes (warnings) on the assumptions.
-
-    Parameters
-    ----------
-    fs : Flowsheet
-    fluid : Fluid
-    streams : Mapping[str, StreamBatch]
-        The solved streams.
-    steps : sequence
-        :func:`letdown.sheet.graph.solve_order` steps.
-
-    Returns
-    -------
-    ratios : dict
-        Stream name -> ndarray (n,) [mol/mol] (0 for a separator's ``water`` outlet, which holds
-        no gas: its water is in :func:`water_flows`).
-    notes : list of WarningRecord
-    """
-    carried = water_flows(fs, fluid, streams, steps)
-    return carried.ratios, carried.notes
-
-
 @dataclass(frozen=True, eq=False)
 class WaterCarry:
     """The water of every stream and what each separator did with it.
@@ -411,8 +388,12 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
 
     Parameters
     ----------
-    fs, fluid, streams, steps
-        As for :func:`water_ratios`.
+    fs : Flowsheet
+    fluid : Fluid
+    streams : Mapping[str, StreamBatch]
+        The solved streams.
+    steps : sequence
+        :func:`letdown.sheet.graph.solve_order` steps.
 
     Returns
     -------
@@ -468,7 +449,7 @@ def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:
     rows = np.arange(n)
     pick = lambda get: np.stack([np.asarray(get(streams[s]), float) for s in names])[k, rows]
     zs = np.stack([np.asarray(streams[s].zs, float) for s in names])[k, rows]
-    w = np.stack([np.broadcast_to(np.asarray(water[s], float), (n,)) for s in names])[k, rows]
+    w = W[k, rows]
     inlet = fs.blocks[block].inlets["in"]
     return ProtectedPoint(fluid, np.array([names[i] for i in k], dtype=object),
                           pick(lambda st: st.T), pick(lambda st: st.P), zs, w,
@@ -504,13 +485,10 @@ def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilib
         V = streams[vap]
         p = partition(fluid, np.asarray(V.T, float)[rows], np.asarray(V.P, float)[rows],
                       np.asarray(streams[inlet].zs, float)[rows],
-                      np.asarray(water[inlet], float)[rows], r_in[rows])
+                      np.asarray(water.ratios[inlet], float)[rows], r_in[rows])
         to_V[rows], to_L[rows], to_W[rows] = p.vapour, p.hc_liquid, p.aqueous
     elif rows.size:
-        w_in = np.asarray(water[inlet], float) * F[:, 0]
-        w_out = (np.asarray(water.get(vap, np.zeros(n)), float) * FV[:, 0]
-                 + np.asarray(water.get(liq, np.zeros(n)), float) * FL[:, 0])
-        drops = (w_in - w_out) > 1e-12 * np.maximum(w_in, 1e-300)
+        drops = np.asarray(water.separators[block]["free_water_mol_s"], float) > 0.0
         to_W[rows] = np.where(drops[rows, None], r_in[rows], 0.0)
         to_V[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FV[rows] / F[rows])
         to_L[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FL[rows] / F[rows])
@@ -540,9 +518,9 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
     Parameters
     ----------
     fs, streams, steps
-        As for :func:`water_ratios`.
-    water : Mapping[str, ndarray (n,)]
-        Water per dry gas of every stream [mol/mol] (:func:`water_ratios`).
+        As for :func:`water_flows`.
+    water : WaterCarry
+        The water of every stream and each separator's split (:func:`water_flows`).
     params : Mapping[str, Mapping], optional
         ``inject`` block name -> its parameters over the cases (SI); default the file's.
     fluid : Fluid
@@ -588,8 +566,8 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
         if block not in doses:
             try:
                 given = (params or {}).get(block, spec.params)
-                point = protected_point(fs, fluid, streams, water, block)
-                doses[block] = dose(block, given, flow * water[inlet] * M_WATER, point)
+                point = protected_point(fs, fluid, streams, water.ratios, block)
+                doses[block] = dose(block, given, flow * water.ratios[inlet] * M_WATER, point)
             except InputError as exc:
                 w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
                 raise exc.located(file=(w.file if w else None) or fs.source,
@@ -735,7 +713,7 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     Parameters
     ----------
     fs, fluid, streams, steps
-        As for :func:`water_ratios`.
+        As for :func:`water_flows`.
     doses : dict, optional
         Filled with ``inject`` block name -> details for its outcome: ``inhibitor_rate_kg_s``
         [kg/s], ``inhibitor_wt_pct`` [wt %], ``hydrate_depression_K`` (Hammerschmidt at that
@@ -756,7 +734,7 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     carried = water_flows(fs, fluid, streams, steps)
     ratios, notes = carried.ratios, carried.notes
     free_inh: dict = {}
-    inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, ratios, params, fluid,
+    inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, carried, params, fluid,
                                                    free=free_inh)
     notes.extend(inh_notes)
     names = list(streams)
@@ -841,8 +819,8 @@ def inject_doses(fs, fluid, streams, steps, params=None) -> dict:
     :func:`stream_freezing`)."""
     if not any(b.kind == "inject" for b in fs.blocks.values()):
         return {}
-    ratios, _ = water_ratios(fs, fluid, streams, steps)
-    _, block_doses, _ = inhibitor_ratios(fs, streams, steps, ratios, params, fluid)
+    carried = water_flows(fs, fluid, streams, steps)
+    _, block_doses, _ = inhibitor_ratios(fs, streams, steps, carried, params, fluid)
     return {b: dose_details(d) for b, d in block_doses.items()}
 
 
