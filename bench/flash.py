@@ -20,32 +20,14 @@ import time
 
 import numpy as np
 
-import letdown
-from _shared import BENCH_GAS, median_time
+sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
+
+import letdown  # noqa: E402
+from _shared import BENCH_GAS, median_time  # noqa: E402
+from tests.test_flash_vs_thermo import thermo_flasher  # noqa: E402
 
 T_IN, P_IN, P_OUT = 283.15, 70e5, 7e5
 N_YEAR = 8760
-
-
-def thermo_flasher(fluid):
-    """thermo FlashVL with letdown's constants, kij and (fitted) ideal-gas heat capacities."""
-    from thermo import (CEOSGas, CEOSLiquid, ChemicalConstantsPackage, FlashVL,
-                        HeatCapacityGas, PropertyCorrelationsPackage, PRMIX)
-    c = fluid.engine.comps
-    Ts = np.linspace(150.0, 600.0, 60)
-    cp0 = c.cp0(Ts)
-    cps = [HeatCapacityGas(poly_fit=(150.0, 600.0, np.polyfit(Ts, cp0[:, i], 6).tolist()))
-           for i in range(fluid.n_components)]
-    consts = ChemicalConstantsPackage(Tcs=c.Tcs.tolist(), Pcs=c.Pcs.tolist(),
-                                      omegas=c.omegas.tolist(), MWs=(c.Ms * 1e3).tolist(),
-                                      names=list(fluid.components))
-    props = PropertyCorrelationsPackage(consts, HeatCapacityGases=cps, skip_missing=True)
-    kw = dict(Tcs=c.Tcs.tolist(), Pcs=c.Pcs.tolist(), omegas=c.omegas.tolist(),
-              kijs=fluid.kijs.tolist())
-    zs = fluid.zs.tolist()
-    gas = CEOSGas(PRMIX, kw, HeatCapacityGases=cps, T=300.0, P=1e5, zs=zs)
-    liq = CEOSLiquid(PRMIX, kw, HeatCapacityGases=cps, T=300.0, P=1e5, zs=zs)
-    return FlashVL(consts, props, liquid=liq, gas=gas)
 
 
 def main(argv=None):
@@ -69,7 +51,7 @@ def main(argv=None):
     t_pt = median_time(lambda: gas.flash(T=T_IN, P=P_IN), args.repeats)
     t_ph = median_time(lambda: gas.flash(P=P_OUT, h=inlet.h), args.repeats)
 
-    flasher = thermo_flasher(gas)
+    flasher = thermo_flasher(gas, cp_fit_range=(150.0, 600.0))
     zs = gas.zs.tolist()
     ref_in = flasher.flash(T=T_IN, P=P_IN, zs=zs)
     ref_out = flasher.flash(P=P_OUT, H=ref_in.H(), zs=zs)

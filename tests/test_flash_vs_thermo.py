@@ -41,12 +41,14 @@ TWO_PHASE_TP = {
 DEW_PRESSURES = (5 * BAR, 20 * BAR, 40 * BAR, 60 * BAR, 80 * BAR)
 
 
-def thermo_flasher(fluid: letdown.Fluid) -> FlashVL:
-    """thermo FlashVL on the same cubic, constants and kij as ``fluid``."""
+def thermo_flasher(fluid: letdown.Fluid, cp_fit_range=CP_FIT_RANGE) -> FlashVL:
+    """thermo FlashVL on the same cubic, constants and kij as ``fluid``, with letdown's ideal-gas
+    heat capacities fitted by a 6th-degree polynomial over ``cp_fit_range`` [K] (also used by
+    bench/flash.py)."""
     c = fluid.engine.comps
-    Ts = np.linspace(*CP_FIT_RANGE, 60)
+    Ts = np.linspace(*cp_fit_range, 60)
     cp0 = c.cp0(Ts)
-    cps = [HeatCapacityGas(poly_fit=(*CP_FIT_RANGE, np.polyfit(Ts, cp0[:, i], 6).tolist()))
+    cps = [HeatCapacityGas(poly_fit=(*cp_fit_range, np.polyfit(Ts, cp0[:, i], 6).tolist()))
            for i in range(fluid.n_components)]
     constants = ChemicalConstantsPackage(Tcs=c.Tcs.tolist(), Pcs=c.Pcs.tolist(),
                                          omegas=c.omegas.tolist(), MWs=(c.Ms * 1e3).tolist(),
