@@ -31,14 +31,19 @@ class InputError(LetdownError, ValueError):
         1-based line number in that file.
     field : str, optional
         Dotted path of the offending field (``equipment.regulator.P_out``).
+    cases : array_like of bool, optional
+        For a block run on a batch: which cases the refusal concerns (shape (n,)). A batch solve
+        that is not strict records those cases as failed, with this message, and goes on with the
+        others; None means the whole input is wrong.
     """
 
     def __init__(self, message: str, *, file: str | None = None, line: int | None = None,
-                 field: str | None = None):
+                 field: str | None = None, cases=None):
         self.message = message
         self.file = file
         self.line = line
         self.field = field
+        self.cases = cases
         super().__init__(self.__str__())
 
     def located(self, *, file: str | None = None, line: int | None = None,
@@ -46,7 +51,7 @@ class InputError(LetdownError, ValueError):
         """Return a copy with missing location parts filled in."""
         return type(self)(self.message, file=self.file or file,
                           line=self.line if self.line is not None else line,
-                          field=self.field or field)
+                          field=self.field or field, cases=self.cases)
 
     def __str__(self) -> str:
         where = ""

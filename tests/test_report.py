@@ -109,7 +109,7 @@ def test_report_text_sections(result):
     assert "Loops\n  tear back: 7 iterations, residual 3.00e-10" in text
     assert ("network.T = 6.8500 degC (target 5.0000 degC) by preheat.T_out = 90.000 degC: NOT MET"
             " -- bracket too narrow") in text
-    assert "Warnings\n  network: below limits.min_T" in text
+    assert "Warnings\n  Checks (verify before use)\n    network: below limits.min_T" in text
     assert "ISO 13443" in text and "101.325 kPa" in text
     assert text.rstrip().endswith(CAUTION)
     field = report_text(result, "field", atmosphere=95000.0)

@@ -128,7 +128,8 @@ def test_propane_loop_cop_matches_hand_calculation():
     assert cop == pytest.approx(cop_hand, rel=1e-6)
     assert 1.0 < cop < 5.0            # a propane chiller's COP is of order 2 (common practice)
     assert result.loops[0]["tears"] == ["suction"] and result.loops[0]["converged"]
-    assert {"where": "valve", "what": "throttle outlet is in two phases"} in result.warnings
+    assert {"where": "valve", "what": "throttle outlet is in two phases", "kind": "two_phase_outlet",
+            "severity": "check", "numbers": {}} in result.warnings
 
 
 # -- every example closes its balances -----------------------------------------------------------

@@ -3,7 +3,7 @@ warnings, the reference conditions used and the engineering caution. Pure functi
 
 Goals, loops and warnings are read as in the JSON contract (``result.goals``: [{"hold", "target",
 "achieved", "by", "value", "met"}], ``result.loops``: [{"tears", "iterations", "residual"}],
-``result.warnings``: [{"where", "what"}]); entries may be dicts or objects with those attributes.
+``result.warnings``: [{"where", "what", "kind", "severity", "numbers"}]); entries may be dicts or objects with those attributes.
 """
 from __future__ import annotations
 
@@ -78,13 +78,24 @@ def loops_text(result) -> str:
     return "\n".join(["Loops"] + lines) if lines else ""
 
 
+#: Headings of the warning groups, most severe first (the severities of the JSON contract).
+SEVERITY_HEADINGS = {"hazard": "Hazards (act before use)", "check": "Checks (verify before use)",
+                     "note": "Notes"}
+
+
 def warnings_text(result) -> str:
-    """One line per warning: where, what."""
-    lines = []
+    """The warnings grouped by severity (hazards, checks, notes), one line each: where, what."""
+    groups: dict = {}
     for w in _get(result, "warnings", None) or ():
         where = _get(w, "where", "")
         what = _get(w, "what", w if isinstance(w, str) else "")
-        lines.append(f"  {where}: {what}" if where else f"  {what}")
+        severity = _get(w, "severity", None) or "check"
+        groups.setdefault(severity, []).append(f"    {where}: {what}" if where else f"    {what}")
+    lines = []
+    for severity in sorted(groups, key=lambda k: list(SEVERITY_HEADINGS).index(k)
+                           if k in SEVERITY_HEADINGS else len(SEVERITY_HEADINGS)):
+        lines.append(f"  {SEVERITY_HEADINGS.get(severity, severity)}")
+        lines += groups[severity]
     return "\n".join(["Warnings"] + lines) if lines else ""
 
 

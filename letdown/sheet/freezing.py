@@ -215,7 +215,8 @@ def _feed_ratios(fs, fluid, streams) -> tuple[dict, list]:
         notes.append(WarningRecord(
             "gas", "no gas.water given: each feed is taken as saturated with water at its own "
                    f"temperature and pressure ({method}); hydrate and water dew point margins "
-                   "follow from that", tuple(range(next(iter(streams.values())).n_cases))))
+                   "follow from that", tuple(range(next(iter(streams.values())).n_cases)),
+            kind="water_assumed", severity="note"))
     return out, notes
 
 
@@ -258,7 +259,8 @@ def _carry_steps(fs, steps, r, through, notes, what):
         else:
             notes.append(WarningRecord(", ".join(step.blocks),
                                        f"the {what} carried round this loop did not settle in "
-                                       f"{LOOP_MAX_PASSES} passes (change {change:.3g})"))
+                                       f"{LOOP_MAX_PASSES} passes (change {change:.3g})",
+                                       kind="water_loop", severity="check"))
 
 
 @dataclass(frozen=True, eq=False)
@@ -424,7 +426,8 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
         for s in lost:
             notes.append(WarningRecord(block, f"the free water of stream '{s}' is not carried "
                                               "through this block (only separators split water; "
-                                              "send a water outlet to a product)"))
+                                              "send a water outlet to a product)",
+                                       kind="water_not_carried", severity="check"))
     for name in streams:
         r.setdefault(name, np.zeros(n))
     return WaterCarry(r, free, split, notes)
@@ -582,7 +585,8 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
                                                   "than stays in the water: the equation's figure "
                                                   "for that loss is likely high (no published "
                                                   "methanol-hydrocarbon kij; README, closing "
-                                                  "limits); check the rate against field data"))
+                                                  "limits); check the rate against field data",
+                                           kind="inhibitor_hc_loss", severity="check"))
         j = INHIBITOR_NAMES.index(d["inhibitor"])
         added = np.zeros((n, k))
         added[:, j] = np.where(flow > 0.0, d["rate_kg_s"] / (INHIBITORS[d["inhibitor"]].M * 1e-3)
@@ -773,7 +777,8 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     hT, hs = hT_all[: P.size], hs_all[: P.size]
     for p in failed:
         notes.append(WarningRecord("hydrate", f"the hydrate temperature at {p / 1e5:.4g} bar did not "
-                                              "converge; that stream's hydrate margin is blank"))
+                                              "converge; that stream's hydrate margin is blank",
+                                   kind="hydrate_unconverged", severity="check"))
     out = {}
     dosed = bool(block_doses)
     for k, s in enumerate(names):
@@ -866,9 +871,9 @@ def freezing_warnings(fs, streams, freezing) -> list:
         flowing = np.asarray(s.flow, float) > 0.0
         near = flowing & (T < fz.hydrate_T + m)
         wet = T <= fz.water_dew_T + DEW_T_SLACK
-        for mask, tail in ((near & wet, "and at or below its water dew point {dew}: free water can "
+        for wet_case, mask, tail in ((True, near & wet, "and at or below its water dew point {dew}: free water can "
                                         "form hydrate (hydrate risk)"),
-                           (near & ~wet, "but above its water dew point {dew}: no free water by the "
+                           (False, near & ~wet, "but above its water dew point {dew}: no free water by the "
                                          "dew point; hydrate straight from the vapour is not "
                                          "modelled (check, or keep the margin)")):
             if mask.any():
@@ -879,7 +884,11 @@ def freezing_warnings(fs, streams, freezing) -> list:
                     f"hydrate margin {T[i] - fz.hydrate_T[i]:+.2f} K is below the {m:g} K wanted: "
                     f"{T[i] - 273.15:.2f} degC against a hydrate temperature of "
                     f"{fz.hydrate_T[i] - 273.15:.2f} degC at {s.P[i] / 1e5:.4g} bar ({fz.hydrate_structure[i]}), "
-                    + tail.format(dew=dew)), tuple(np.flatnonzero(mask).tolist())))
+                    + tail.format(dew=dew)), tuple(np.flatnonzero(mask).tolist()),
+                    kind="hydrate", severity="hazard" if wet_case else "check",
+                    numbers={"T_K": T, "hydrate_T_K": fz.hydrate_T, "P_Pa": np.asarray(s.P, float),
+                             "margin_K": T - fz.hydrate_T, "wanted_margin_K": m,
+                             "water_dew_T_K": fz.water_dew_T}))
         if ice_applies:
             cold = flowing & (T < ICE_T + m)
             if cold.any():
@@ -887,5 +896,8 @@ def freezing_warnings(fs, streams, freezing) -> list:
                 out.append(WarningRecord(name, (
                     f"ice margin {T[i] - ICE_T:+.2f} K is below the {m:g} K wanted: "
                     f"{T[i] - 273.15:.2f} degC (free water freezes; regulator bodies and pilot "
-                    "lines ice up; buried pipe heaves)"), tuple(np.flatnonzero(cold).tolist())))
+                    "lines ice up; buried pipe heaves)"), tuple(np.flatnonzero(cold).tolist()),
+                    kind="ice", severity="hazard",
+                    numbers={"T_K": T, "ice_T_K": ICE_T, "margin_K": T - ICE_T,
+                             "wanted_margin_K": m}))
     return out

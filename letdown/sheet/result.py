@@ -230,13 +230,55 @@ class GoalRecord:
     iterations: np.ndarray
 
 
+#: The severities of a warning, most urgent first. ``hazard``: the number describes an unsafe or
+#: physically impossible state (hydrate, ice, below the material's limit, a block run against its
+#: physics); ``check``: a number to verify before it is used (outside a model's tested range, a
+#: two-phase outlet, an assumption that may not hold); ``note``: information.
+SEVERITIES = ("hazard", "check", "note")
+
+
 @dataclass(frozen=True)
 class WarningRecord:
-    """A condition people should know about, and the cases it concerns."""
+    """A condition people should know about, and the cases it concerns.
+
+    Attributes
+    ----------
+    where : str
+        The stream, block or section it concerns.
+    what : str
+        One sentence for people (its numbers already in it, in the units of the text).
+    cases : tuple of int
+        The cases it concerns.
+    kind : str
+        A short, stable key of the cause (``hydrate``, ``ice``, ``min_T``, ``heater_cooling``, ...),
+        one warning per ``where`` and ``kind``.
+    severity : str
+        One of :data:`SEVERITIES`.
+    numbers : Mapping[str, float or ndarray]
+        The figures behind it, SI with the unit in the key (``T_K``, ``hydrate_T_K``,
+        ``margin_K``, ...); an array holds one value per case of the batch.
+    """
 
     where: str
     what: str
     cases: tuple = (0,)
+    kind: str = "note"
+    severity: str = "check"
+    numbers: Mapping[str, Any] = field(default_factory=dict)
+
+    def __post_init__(self):
+        if self.severity not in SEVERITIES:
+            raise ValueError(f"severity {self.severity!r} is not one of {SEVERITIES}")
+
+    def for_case(self, i: int) -> dict:
+        """The JSON record of case ``i``: where, what, kind, severity and its numbers."""
+        numbers = {}
+        for key, v in self.numbers.items():
+            a = np.asarray(v)
+            x = a[i] if a.ndim else a[()]
+            numbers[key] = str(x) if a.dtype.kind in "US" else _num(x)
+        return {"where": self.where, "what": self.what, "kind": self.kind,
+                "severity": self.severity, "numbers": numbers}
 
 
 def _num(x) -> float | None:
@@ -350,7 +392,8 @@ class BatchResult:
                   "iterations": int(lp.iterations[i]), "residual": _num(lp.residual[i]),
                   "residual_history": [_num(r) for r in lp.history],
                   "converged": bool(lp.converged[i])} for lp in self.loops]
-        warnings = [{"where": w.where, "what": w.what} for w in self.warnings if i in w.cases]
+        warnings = sorted((w.for_case(i) for w in self.warnings if i in w.cases),
+                          key=lambda w: SEVERITIES.index(w["severity"]))
         fz = self.freezing or {}
         streams = {name: StreamResult.from_batch(name, s, i, self.components, fz.get(name),
                                                  self.min_T)
@@ -372,7 +415,7 @@ class Result:
     equipment : dict  name -> {"kind", "duty_W" or "power_W", "dP_Pa", details, balance closures}
     goals : list of dict  {"hold", "target", "achieved", "by", "value", "met", "iterations"}
     loops : list of dict  {"blocks", "tears", "iterations", "residual", "residual_history"}
-    warnings : list of dict  {"where", "what"}
+    warnings : list of dict  {"where", "what", "kind", "severity", "numbers"}, most severe first
     """
 
     title: str

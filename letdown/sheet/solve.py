@@ -188,6 +188,13 @@ class Sheet:
                 f"{len(fs.goals)} goals)")
 
 
+#: Block flag -> (warning kind, severity). A flag not listed here is a "check" of its own name.
+FLAG_KINDS = {"two_phase_outlet": ("two_phase_outlet", "check"),
+              "temperature_cross": ("temperature_cross", "hazard"),
+              "spec_unmet": ("spec_unmet", "hazard"),
+              "three_phase_T_shift": ("three_phase_T_shift", "check")}
+
+
 # ------------------------------------------------------------------------------------------------
 # cases
 # ------------------------------------------------------------------------------------------------
@@ -550,7 +557,8 @@ class _Engine:
                                            + (f" in case {i}" if n > 1 else ""))
                 ev.ok &= ~bad
                 warnings.append(WarningRecord(name, "the flash did not converge",
-                                              tuple(np.flatnonzero(bad).tolist())))
+                                              tuple(np.flatnonzero(bad).tolist()),
+                                              kind="flash_unconverged", severity="hazard"))
         min_T = self.fs.limits.get("min_T")
         if min_T is not None:
             for name, stream in ev.streams.items():
@@ -559,7 +567,9 @@ class _Engine:
                     i = int(np.flatnonzero(cold)[0])
                     warnings.append(WarningRecord(
                         name, f"temperature {stream.T[i] - 273.15:.2f} degC is below limits.min_T "
-                              f"{min_T - 273.15:.2f} degC", tuple(np.flatnonzero(cold).tolist())))
+                              f"{min_T - 273.15:.2f} degC", tuple(np.flatnonzero(cold).tolist()),
+                        kind="min_T", severity="hazard",
+                        numbers={"T_K": stream.T, "min_T_K": min_T, "margin_K": stream.T - min_T}))
         warnings.extend(self._model_warnings(ev))
         freezing = None
         doses: dict = {}
@@ -592,7 +602,9 @@ class _Engine:
                         what += (f" (smallest approach {outcome.details['min_approach_K'][i]:.2f} K "
                                  f"at {100 * outcome.details['min_approach_at'][i]:.0f} % of the "
                                  "duty from the hot end)")
-                    warnings.append(WarningRecord(name, what, tuple(np.flatnonzero(values).tolist())))
+                    kind, severity = FLAG_KINDS.get(flag, (flag, "check"))
+                    warnings.append(WarningRecord(name, what, tuple(np.flatnonzero(values).tolist()),
+                                                  kind=kind, severity=severity))
         equipment = {}
         for name, outcome in ev.outcomes.items():
             spec = self.fs.blocks[name]
@@ -619,14 +631,16 @@ class _Engine:
         if fluid.missing_kij and fluid.model != "gerg-2008":
             pairs = ", ".join(f"{a}-{b}" for a, b in fluid.missing_kij)
             out.append(WarningRecord("gas", f"no published interaction parameter for {pairs}; "
-                                            "taken as zero (set gas.kij to override)"))
+                                            "taken as zero (set gas.kij to override)",
+                                      kind="kij_missing", severity="check"))
         for name, stream in ev.streams.items():
             flowing = stream.flow > 0
             for reason, cases in out_of_range(fluid.model, stream.T, stream.P, stream.zs,
                                               self.components):
                 cases = cases & flowing
                 if cases.any():
-                    out.append(WarningRecord(name, reason, tuple(np.flatnonzero(cases).tolist())))
+                    out.append(WarningRecord(name, reason, tuple(np.flatnonzero(cases).tolist()),
+                                             kind="model_range", severity="check"))
         return out
 
     def _stream_order(self) -> list:
