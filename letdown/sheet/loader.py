@@ -770,7 +770,8 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
     gas = GasSpec(model=gas_raw.get("model", "peng-robinson"), composition=composition,
                   kij=_kij(doc, gas_raw.get("kij"), composition),
                   water=_water(doc, q, gas_raw.get("water"), composition),
-                  water_method=gas_raw.get("water_method", "bukacek"))
+                  water_method=gas_raw.get("water_method", "bukacek"),
+                  model_given="model" in gas_raw)
     feeds = _feeds(doc, q, gas, normalise)
     goal_params = _goal_targets(doc)
     blocks = _blocks(doc, q, goal_params)

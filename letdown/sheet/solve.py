@@ -36,6 +36,7 @@ from ..fluid.models import out_of_range
 from .freezing import (checks_active, freezing_warnings, inject_doses, inject_params,
                        stream_freezing)
 from .graph import build_graph, solve_order
+from .modelchoice import solve_default_model
 from .result import (BatchResult, EquipmentBatch, GoalRecord, LoopRecord, Result,
                      WarningRecord)
 from .spec import Flowsheet, Where
@@ -119,7 +120,9 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
         (SI) or ``"goal<k>.at"`` (the target of the k-th goal, 1-based, SI) -> values over the
         cases; all of one length ``n`` (or one value for all). None: one case, as in the file.
     model : str, optional
-        Thermodynamic model overriding ``fs.gas.model``.
+        Thermodynamic model overriding ``fs.gas.model``. Where neither names one, the model is
+        chosen as a practitioner would (:mod:`letdown.sheet.modelchoice`: GERG-2008 for
+        single-phase gas it covers, Peng-Robinson otherwise) and the result says which and why.
     strict : bool
         True: any case whose loop or goal fails raises. False: such cases are marked in
         ``converged`` (and their warnings) and the others are returned.
@@ -139,6 +142,9 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
     ConvergenceError
         See :func:`solve` (with ``strict``).
     """
+    if model is None and not fs.gas.model_given:
+        return solve_default_model(fs, lambda m: solve_cases(fs, cases, m, strict=strict,
+                                                             margins=margins))
     fluid = make_fluid(fs, model)
     base, n = _case_arrays(fs, cases)
     engine = _Engine(fs, fluid, base, n, strict)

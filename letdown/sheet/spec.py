@@ -26,7 +26,8 @@ class GasSpec:
     ----------
     model : str
         Model name accepted by :class:`letdown.Fluid` (``peng-robinson``, ``peng-robinson-1978``,
-        ``soave-redlich-kwong``, ``gerg-2008``).
+        ``soave-redlich-kwong``, ``gerg-2008``). Where the file names none, ``peng-robinson`` here and
+        ``model_given`` False: a solve then chooses (:mod:`letdown.sheet.modelchoice`).
     composition : Mapping[str, float]
         Canonical component name -> mole fraction [-], summing to 1 (normalised by the loader when
         the file says ``normalise: true``).
@@ -40,6 +41,7 @@ class GasSpec:
     kij: Any = None
     water: "WaterSpec | None" = None
     water_method: str = "bukacek"
+    model_given: bool = True
 
 
 @dataclass(frozen=True)
