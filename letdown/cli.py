@@ -437,6 +437,7 @@ def _envelope(args) -> int:
     import letdown
 
     from .fluid import Fluid
+    from .fluid.models import DEW_POINT_BIAS
     from .report.envelope import (envelope_csv_files, envelope_dict, envelope_text,
                                   plot_envelope)
 
@@ -462,17 +463,24 @@ def _envelope(args) -> int:
         print(f"letdown: {args.file}: the flowsheet did not converge; no envelope drawn",
               file=sys.stderr)
         return EXIT_FAILED_SOLVE
-    model = result.model
+    # GERG-2008 is used for single-phase states only: the envelope is traced on Peng-Robinson
+    model = result.model if result.model != "gerg-2008" else "peng-robinson"
+    notes = []
+    if model != result.model:
+        notes.append(f"the flowsheet was solved with {result.model}; the envelope is traced with "
+                     f"{model} (GERG-2008 is used here for single-phase states only)")
+    if model in DEW_POINT_BIAS:
+        notes.append(DEW_POINT_BIAS[model])
     gas = Fluid(dict(result.streams[args.stream].zs), model=model, kij=spec.gas.kij,
                 normalise=True)
     env = gas.envelope(betas=betas)
     points = [(n, s.T, s.P) for n, s in result.streams.items()]
     if args.json:
-        print(json.dumps(envelope_dict(env, args.stream, model, points), indent=2,
+        print(json.dumps(envelope_dict(env, args.stream, model, points, notes), indent=2,
                          allow_nan=False))
     else:
         kw = {"atmosphere": atmosphere} if atmosphere else {}
-        print(envelope_text(env, args.stream, model, points, args.units, **kw))
+        print(envelope_text(env, args.stream, model, points, args.units, notes=notes, **kw))
     if target is not None:
         _write_csv(target, envelope_csv_files(env, points))
         print(f"letdown: wrote {target / 'envelope.csv'} and {target / 'points.csv'}",

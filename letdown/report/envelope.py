@@ -31,8 +31,9 @@ def _key_points(env):
 
 
 def envelope_text(env, stream: str, model: str, points=(), units: str = "si",
-                  atmosphere: float = STANDARD_ATMOSPHERE) -> str:
-    """A short summary: the key points, the traced curves and where each stream sits."""
+                  atmosphere: float = STANDARD_ATMOSPHERE, notes=()) -> str:
+    """A short summary: the key points, the traced curves, where each stream sits and ``notes``
+    (one line each, e.g. the model's dew-point bias)."""
     u = unit_system(units, atmosphere)
     uT, uP = u["T"], _absolute(u)
     lines = [f"Phase envelope of stream '{stream}' ({model})", ""]
@@ -57,14 +58,16 @@ def envelope_text(env, stream: str, model: str, points=(), units: str = "si",
         for name, T, P in points:
             lines.append(f"    {name.ljust(w)}  {format_number(uT(T)).rjust(10)} {uT.label}"
                          f"  {format_number(uP(P)).rjust(10)} {uP.label}")
+    for note in notes:
+        lines += ["", f"  note: {note}"]
     lines.append("")
     lines.append(CAUTION)
     return "\n".join(lines)
 
 
-def envelope_dict(env, stream: str, model: str, points=()) -> dict:
+def envelope_dict(env, stream: str, model: str, points=(), notes=()) -> dict:
     """JSON-ready object (SI, unit in each key)."""
-    d = {"stream": stream, "model": model}
+    d = {"stream": stream, "model": model, "notes": list(notes)}
     d.update(env.to_dict())
     d["operating_points"] = [{"stream": n, "T_K": float(T), "P_Pa": float(P)}
                              for n, T, P in points]

@@ -13,6 +13,7 @@ import numpy as np
 
 from ..errors import ConvergenceError, LetdownError, ModelError
 from ..fluid import Fluid
+from ..fluid.models import DEW_POINT_BIAS
 
 
 def product_gases(result, fs) -> list:
@@ -25,9 +26,11 @@ def product_gases(result, fs) -> list:
 
 def with_dew_points(result, fs):
     """``result`` with ``hc_dew_T_K`` and ``cricondentherm_K`` on each product gas (a new result;
-    None where a model cannot give them, e.g. GERG-2008, which the report says)."""
+    None where a model cannot give them, e.g. GERG-2008, which the report says), and a
+    ``dew_point_bias`` check stating the cubic model's known bias (:data:`DEW_POINT_BIAS`)."""
     model = result.model if result.model != "gerg-2008" else "peng-robinson"
     streams = dict(result.streams)
+    noted = False
     for name in product_gases(result, fs):
         s = streams[name]
         gas = Fluid(dict(s.zs), model=model, kij=fs.gas.kij, normalise=True)
@@ -41,4 +44,10 @@ def with_dew_points(result, fs):
         except (ConvergenceError, ModelError, LetdownError):
             pass
         streams[name] = dataclasses.replace(s, dew=extra)
-    return dataclasses.replace(result, streams=streams)
+        if extra["hc_dew_T_K"] is not None or extra["cricondentherm_K"] is not None:
+            noted = True
+    warnings = list(result.warnings)
+    if noted and model in DEW_POINT_BIAS:
+        warnings.append({"where": "dew points", "what": DEW_POINT_BIAS[model],
+                         "kind": "dew_point_bias", "severity": "check", "numbers": {}})
+    return dataclasses.replace(result, streams=streams, warnings=warnings)
