@@ -4,8 +4,16 @@
 ``pip install`` compiles it; letdown loads its functions with ctypes (``letdown.fluid.native``) and
 falls back to numpy when the module is missing. A failed compilation does not fail the install.
 """
+import hashlib
+from pathlib import Path
+
 from setuptools import Extension, setup
 from setuptools.command.build_ext import build_ext
+
+#: The C source; its SHA-256 is compiled in, so that letdown can tell a library built from another
+#: version of the file (a stale build) and fall back to numpy rather than run old code.
+KERNELS = "letdown/fluid/_flashkernels.c"
+KERNELS_SHA256 = hashlib.sha256((Path(__file__).parent / KERNELS).read_bytes()).hexdigest()
 
 
 class OptionalBuildExt(build_ext):
@@ -33,8 +41,9 @@ setup(
     ext_modules=[
         Extension(
             "letdown.fluid._flashkernels",
-            sources=["letdown/fluid/_flashkernels.c"],
-            define_macros=[("LETDOWN_WITH_PYTHON_MODULE", "1")],
+            sources=[KERNELS],
+            define_macros=[("LETDOWN_WITH_PYTHON_MODULE", "1"),
+                           ("LETDOWN_SOURCE_SHA256", f'"{KERNELS_SHA256}"')],
         )
     ],
     cmdclass={"build_ext": OptionalBuildExt},

@@ -248,15 +248,49 @@ def test_threaded_batches_match_one_thread(model, monkeypatch):
     assert np.array_equal(threaded, single, equal_nan=True)
 
 
-def test_ph_converged_state_meets_its_target():
-    """Regression: a P-h flash into the three-phase region ended 'converged' at a jump of h(T),
-    4.2 kJ/mol off target; it must now meet the target or say it did not converge."""
+def _throttled_cold_liquid():
     fluid = FLUIDS["peng-robinson"]
     zs, T, P = batch(1)
     k = slice(129, 130)             # 151.85 K, 24.1 bar, liquid; throttled to 4.8 bar
     start = fluid.flash(T=T[k], P=P[k], zs=zs[k])
-    end = fluid.flash(P=0.2 * P[k], h=start.h, zs=zs[k])
-    assert not end.converged[0] or abs(end.h[0] - start.h[0]) < 1e-6
+    return start, fluid.flash(P=0.2 * P[k], h=start.h, zs=zs[k])
+
+
+def test_ph_flash_never_reports_a_missed_target_as_converged():
+    """Regression: a P-h flash into the three-phase region ended 'converged' at a jump of h(T),
+    4.2 kJ/mol off target. A case that is not solved must say so and carry no numbers."""
+    start, end = _throttled_cold_liquid()
+    if end.converged[0]:
+        assert abs(end.h[0] - start.h[0]) < 1e-6
+    else:
+        assert np.isnan(end.h[0]) and np.isnan(end.vapour_fraction[0])
+
+
+@pytest.mark.xfail(strict=True, reason="known fault (issue 11, cold splits): the P-h flash of this "
+                   "throttled cold liquid gives up on both paths (checked 2026-12-02); when it is "
+                   "solved this test passes and strict xfail asks for the mark to go")
+def test_ph_flash_solves_the_throttled_cold_liquid():
+    start, end = _throttled_cold_liquid()
+    assert end.converged[0] and abs(end.h[0] - start.h[0]) < 1e-6
+
+
+def test_library_built_from_another_source_is_refused_and_announced(monkeypatch, tmp_path):
+    """A stale build (the C file changed, the library not rebuilt) must not run old code."""
+    if not native.AVAILABLE:
+        pytest.skip("compiled kernels not in use")
+    edited = tmp_path / "_flashkernels.c"
+    edited.write_bytes(open(native.SOURCE, "rb").read() + b"\n/* edited */\n")
+    monkeypatch.setattr(native, "SOURCE", str(edited))
+    lib, status, refused = native._load()
+    assert lib is None and refused
+    assert "built from another version" in status and "pip install -e ." in status
+
+
+def test_library_matching_its_source_is_used():
+    if not native.AVAILABLE:
+        pytest.skip("compiled kernels not in use")
+    lib, status, refused = native._load()
+    assert lib is not None and not refused and status.startswith("compiled kernels")
 
 
 @pytest.mark.parametrize("value, expected", [("1", "False"), ("0", "True")])

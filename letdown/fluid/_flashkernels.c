@@ -124,6 +124,16 @@ LF_EXPORT int lf_abi(void)
     return 2;
 }
 
+/* SHA-256 of this file as it was compiled (setup.py passes it in), so that a library built from
+   another version of the file is detected and not used (letdown.fluid.native). */
+#ifndef LETDOWN_SOURCE_SHA256
+#define LETDOWN_SOURCE_SHA256 "unknown"
+#endif
+LF_EXPORT const char *lf_source_sha256(void)
+{
+    return LETDOWN_SOURCE_SHA256;
+}
+
 /* ---------------------------------------------------------------- cubic EOS (cubic.py) */
 /* cubic.sqrt_alpha for component k, times sqrt(a_c): r = sqrt(a_k alpha_k(T)) and, when rp is not
  * NULL, dr/dT and d2r/dT2 (rpp may be NULL). sT = sqrt(T). */

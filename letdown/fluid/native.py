@@ -22,8 +22,12 @@ for, case by case, with the constants passed in from :mod:`letdown.fluid.flash` 
 :meth:`CubicEOS.lnphi` and :meth:`CubicEOS.properties`, :func:`letdown.fluid.flash.flash_PT` and
 the engine's P-h / P-s iteration dispatch here when ``AVAILABLE``.
 
-``AVAILABLE`` is False (and every caller keeps to numpy) when the compiled module is missing or the
-environment variable ``LETDOWN_PURE_NUMPY`` is set to ``1``.
+``AVAILABLE`` is False (and every caller keeps to numpy) when the compiled module is missing, when
+the environment variable ``LETDOWN_PURE_NUMPY`` is set to ``1``, or when the library does not match
+the C file beside it: another parameter layout (``lf_abi``) or another source (the SHA-256 of the C
+file compiled in by ``setup.py``, compared with the file's own hash where the source is present, as in
+a checkout or an editable install). ``STATUS`` says which in words; a library that is present but
+refused is announced with a :class:`RuntimeWarning` (a stale build would otherwise run old code).
 
 Large batches of :func:`flash_pt` and :func:`solve_T` are cut into chunks that run on a small pool of
 threads (ctypes releases the interpreter lock while a kernel runs). Every case is computed on its
@@ -33,8 +37,10 @@ threads (1: no threads).
 from __future__ import annotations
 
 import ctypes
+import hashlib
 import importlib.util
 import os
+import warnings
 import weakref
 
 import numpy as np
@@ -66,19 +72,33 @@ _SV_ORDER = ("max_iter", "trust_iterations", "loose_tol", "loose_until_step", "r
              "ideal_T_margin")
 
 
-def _load():
-    if os.environ.get("LETDOWN_PURE_NUMPY", "") == "1":
+#: The C source beside this module (present in a checkout or an editable install, not in a wheel).
+SOURCE = os.path.join(os.path.dirname(os.path.abspath(__file__)), "_flashkernels.c")
+
+
+def _source_sha256() -> str | None:
+    """SHA-256 of the C source beside this module, or None where it is not shipped."""
+    try:
+        with open(SOURCE, "rb") as f:
+            return hashlib.sha256(f.read()).hexdigest()
+    except OSError:
         return None
+
+
+def _load() -> tuple:
+    """(library or None, status in words, whether a present library was refused)."""
+    if os.environ.get("LETDOWN_PURE_NUMPY", "") == "1":
+        return None, "numpy (LETDOWN_PURE_NUMPY=1)", False
     try:
         spec = importlib.util.find_spec("letdown.fluid._flashkernels")
     except (ImportError, ValueError):
-        return None
+        spec = None
     if spec is None or not spec.origin or not os.path.isfile(spec.origin):
-        return None
+        return None, "numpy (the compiled kernels are not built)", False
     try:
         lib = ctypes.CDLL(spec.origin)
-    except OSError:
-        return None
+    except OSError as exc:
+        return None, f"numpy (the compiled kernels could not be loaded: {exc})", True
     p, i = ctypes.c_void_p, ctypes.c_int
     sigs = {
         "lf_lnphi": [i, i, p, p, p, p, p, p, p],
@@ -93,23 +113,33 @@ def _load():
         "lf_assemble": [i, i, p, p, p, p, p, p, p, p, p, p, i, ctypes.c_double, ctypes.c_double,
                         ctypes.c_double, p],
     }
+    stale = (f"numpy (the compiled kernels at {spec.origin} were built from another version of "
+             "_flashkernels.c; rebuild them with 'pip install -e .')")
     try:
         lib.lf_abi.argtypes = []
         lib.lf_abi.restype = i
         if lib.lf_abi() != ABI:
-            return None
+            return None, stale, True
+        lib.lf_source_sha256.argtypes = []
+        lib.lf_source_sha256.restype = ctypes.c_char_p
+        built_from = lib.lf_source_sha256().decode("ascii")
+        source = _source_sha256()
+        if source is not None and built_from != source:
+            return None, stale, True
         for name, args in sigs.items():
             fn = getattr(lib, name)
             fn.argtypes = args
             fn.restype = i
     except AttributeError:
-        return None
-    return lib
+        return None, stale, True
+    return lib, f"compiled kernels ({spec.origin})", False
 
 
-_LIB = _load()
+_LIB, STATUS, _REFUSED = _load()
 #: True when the compiled kernels are in use.
 AVAILABLE = _LIB is not None
+if _REFUSED:
+    warnings.warn(f"letdown: flash kernels: {STATUS}", RuntimeWarning, stacklevel=2)
 
 _PACKS: "weakref.WeakKeyDictionary" = weakref.WeakKeyDictionary()
 
