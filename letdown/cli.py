@@ -65,6 +65,8 @@ def _parser() -> argparse.ArgumentParser:
     s.add_argument("--units", choices=("si", "field"), default="si", help="display units")
     s.add_argument("--dew-points", action="store_true",
                    help="also give each product gas's hydrocarbon dew point and cricondentherm")
+    s.add_argument("--html", metavar="PATH",
+                   help="also write the calculation record as one self-contained HTML file")
 
     c = sub.add_parser("check", parents=[common], help="validate a flowsheet file without solving")
     c.add_argument("file", metavar="FILE")
@@ -286,7 +288,40 @@ def _solve(args) -> int:
         })
         print(f"letdown: wrote {target / 'streams.csv'} and {target / 'equipment.csv'}",
               file=sys.stderr)
+    if args.html:
+        _write_record(Path(args.html), result, args, atmosphere)
     return EXIT_OK
+
+
+def _write_record(path: Path, result, args, atmosphere) -> None:
+    """Write the HTML calculation record of ``result`` to ``path`` (whole or not at all)."""
+    import datetime
+    import hashlib
+
+    from ._version import __version__
+    from .report.html import html_report
+
+    raw = Path(args.file).read_bytes()
+    run = {"Command": "letdown " + " ".join(sys.argv[1:]) if sys.argv[1:] else "letdown solve",
+           "letdown version": __version__,
+           "Input file": str(args.file),
+           "Input SHA-256": hashlib.sha256(raw).hexdigest(),
+           "Model": str(result.model),
+           "Made": datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
+           "Units": "SI (degC, barg, kW)" if args.units == "si" else "field (degF, psig, MMBtu/h)"}
+    text = html_report(result, run=run, input_text=raw.decode("utf-8", errors="replace"),
+                       units=args.units, atmosphere=atmosphere)
+    tmp = path.with_name(f".{path.name}.tmp")
+    try:
+        tmp.write_text(text, encoding="utf-8")
+        os.replace(tmp, path)
+    except OSError as exc:
+        raise InputError(f"cannot write the record: {exc.strerror or exc}",
+                         field="--html") from None
+    finally:
+        if tmp.exists():
+            tmp.unlink()
+    print(f"letdown: wrote {path}", file=sys.stderr)
 
 
 def _sweep(args) -> int:
