@@ -220,3 +220,42 @@ def test_sweep_exits_0_when_every_case_solved():
                            "--vary", "regulator.P_out=17barg,10barg"], capture_output=True, text=True)
     assert proc.returncode == 0, proc.stderr
     assert len(proc.stdout.splitlines()) == 3
+
+
+def test_a_refusal_inside_a_loop_fails_that_case_only(cold):
+    """The JT valve sits inside the gas-gas loop: a set point above its inlet in one case is
+    refused during the loop's iterations; the other cases converge as if alone, with the same
+    iteration counts."""
+    P_out = np.array([40.0, 75.0, 35.0]) * BAR + ATM
+    batch = solve_cases(cold, {"jt-valve.P_out": P_out}, strict=False)
+    assert batch.converged.tolist() == [True, False, True]
+    assert "jt-valve" in batch.failures[1] and "above the inlet pressure" in batch.failures[1]
+    _assert_blank_case(batch, 1)
+    alone = solve_cases(cold, {"jt-valve.P_out": P_out[[0, 2]]})
+    _assert_same_case(batch, 0, alone, 0)
+    _assert_same_case(batch, 2, alone, 1)
+    assert batch.loops[0].iterations[[0, 2]].tolist() == alone.loops[0].iterations.tolist()
+
+
+def test_different_failures_in_one_batch_each_keep_their_own_reason(cold):
+    """A refusal, a loop that does not converge and a solved case in one batch."""
+    cases = {"field-gas.T": np.array([10.0, 50.0, 10.0]) + 273.15,
+             "jt-valve.P_out": np.array([40.0, 40.0, 75.0]) * BAR + ATM}
+    batch = solve_cases(cold, cases, strict=False)
+    assert batch.converged.tolist() == [True, False, False]
+    assert "did not converge" in batch.failures[1]
+    assert "above the inlet pressure" in batch.failures[2]
+    for i in (1, 2):
+        _assert_blank_case(batch, i)
+    alone = solve_cases(cold, {k: v[:1] for k, v in cases.items()})
+    _assert_same_case(batch, 0, alone, 0)
+
+
+def test_the_sweep_table_of_a_refused_case_keeps_inputs_and_reason(gate):
+    from letdown.study.sweep import parse_variable, sweep
+    table = sweep(gate, [parse_variable(gate, "regulator.P_out=80barg,17barg")])
+    assert table.column("converged").tolist() == [0.0, 1.0]
+    assert table.column("regulator.P_out [Pa]")[0] == pytest.approx(80e5 + ATM)
+    assert np.isnan(table.column("network.T [K]")[0])
+    assert "above the inlet pressure" in table.rows[0][-1]
+    assert table.rows[1][-1] == ""
