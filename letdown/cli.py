@@ -354,7 +354,7 @@ def _sweep(args) -> int:
         print(f"letdown: {failed} of {len(table.rows)} cases failed (see the reason column)",
               file=sys.stderr)
     print(f"letdown: {CAUTION}", file=sys.stderr)
-    return EXIT_OK
+    return EXIT_FAILED_SOLVE if failed else EXIT_OK
 
 
 def _year(args) -> int:

@@ -234,9 +234,10 @@ def test_stream_below_min_T_is_warned():
 def test_json_contract():
     result = letdown.load(EXAMPLES / "gate-station.yaml").solve()
     data = json.loads(result.to_json())
-    assert set(data) == {"title", "model", "converged", "streams", "equipment", "goals", "loops",
-                         "warnings"}
+    assert set(data) == {"title", "model", "converged", "failure", "streams", "equipment", "goals",
+                         "loops", "warnings"}
     assert data["converged"] is True and data["model"] == "peng-robinson"
+    assert data["failure"] is None
     for stream in data["streams"].values():
         for key in ("T_K", "P_Pa", "flow_mol_s", "mass_flow_kg_s", "vapour_fraction", "composition",
                     "h_J_mol", "s_J_molK", "Z", "density_kg_m3"):

@@ -118,7 +118,8 @@ def run(fluid, name: str, inlets, params):
         i = int(np.flatnonzero(below)[0])
         raise InputError(f"outlet pressure {P_out[i]:.6g} Pa is below the inlet pressure "
                          f"{inlet.P[i]:.6g} Pa{case_text(i, n)}; a compressor raises the pressure",
-                         field=field_name(name, "P_out" if params.get("P_out") is not None else "dP"))
+                         field=field_name(name, "P_out" if params.get("P_out") is not None else "dP"),
+                         cases=below)
     kind, eta = efficiency_spec(params, name, n)
     if kind == "isentropic":
         out, dh_ideal = isentropic_step(fluid, inlet, P_out, eta, compress=True)

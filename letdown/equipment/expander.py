@@ -44,7 +44,8 @@ def run(fluid, name: str, inlets, params):
         i = int(np.flatnonzero(above)[0])
         raise InputError(f"outlet pressure {P_out[i]:.6g} Pa is above the inlet pressure "
                          f"{inlet.P[i]:.6g} Pa{case_text(i, n)}; an expander lowers the pressure",
-                         field=field_name(name, "P_out" if params.get("P_out") is not None else "dP"))
+                         field=field_name(name, "P_out" if params.get("P_out") is not None else "dP"),
+                         cases=above)
     kind, eta = efficiency_spec(params, name, n)
     if kind != "isentropic":
         raise InputError("an expander takes an isentropic efficiency",

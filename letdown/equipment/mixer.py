@@ -47,7 +47,8 @@ def run(fluid, name: str, inlets, params):
     if np.any(above):
         i = int(np.flatnonzero(above)[0])
         raise InputError(f"outlet pressure {P_out[i]:.6g} Pa is above the lowest inlet pressure "
-                         f"{P_low[i]:.6g} Pa{case_text(i, n)}", field=field_name(name, "P_out"))
+                         f"{P_low[i]:.6g} Pa{case_text(i, n)}", field=field_name(name, "P_out"),
+                         cases=above)
     flow = sum(s.flow for s in streams)
     component_flows = sum(s.component_flows for s in streams)
     empty = flow <= TINY_FLOW

@@ -48,7 +48,8 @@ def run(fluid, name: str, inlets, params):
         key = "P_out" if params.get("P_out") is not None else "dP"
         raise InputError(f"outlet pressure {P_out[i]:.6g} Pa is above the inlet pressure "
                          f"{inlet.P[i]:.6g} Pa{case_text(i, inlet.n_cases)}; a throttle can only "
-                         "lower the pressure", field=field_name(name, key))
+                         "lower the pressure", field=field_name(name, key),
+                         cases=raise_above)
     out = flash_stream(fluid, inlet.flow, inlet.zs, P=P_out, h=inlet.h)
     lo, hi = TWO_PHASE_BOUNDS
     two_phase = (out.vapour_fraction > lo) & (out.vapour_fraction < hi)

@@ -12,6 +12,7 @@ blocks' own reports.
 """
 from __future__ import annotations
 
+import dataclasses
 import json
 import math
 from dataclasses import dataclass, field
@@ -59,6 +60,7 @@ class StreamResult:
     Z : float  compressibility factor [-]
     density : float  [kg/m3]
     molar_mass : float  [kg/mol]
+    converged : bool  the stream's case was solved (False: its case failed, every number is NaN)
     freezing : dict or None
         Water and hydrate figures when they were computed (JSON keys, SI): ``water_mg_Sm3`` (per
         Sm3 of dry gas; None for a separator's water outlet, which holds no gas),
@@ -87,6 +89,7 @@ class StreamResult:
     freezing: Mapping[str, Any] | None = None
     quality: Mapping[str, Any] | None = None
     dew: Mapping[str, Any] | None = None
+    converged: bool = True
 
     @classmethod
     def from_batch(cls, name: str, stream: StreamBatch, i: int, components, freezing=None,
@@ -124,13 +127,15 @@ class StreamResult:
                    ys=comp(stream.ys), xs=comp(stream.xs), h=float(stream.h[i]),
                    s=float(stream.s[i]), Z=float(stream.Z[i]), density=float(stream.density[i]),
                    molar_mass=float(stream.molar_mass[i]), freezing=fz,
-                   quality=_gas_quality(components, stream.zs[i]))
+                   quality=_gas_quality(components, stream.zs[i]) if stream.converged[i] else None,
+                   converged=bool(stream.converged[i]))
 
     def to_dict(self) -> dict:
         """The stream's entry of the JSON contract."""
         def comp(d):
             return {c: _num(v) for c, v in d.items()}
-        return {"T_K": _num(self.T), "P_Pa": _num(self.P), "flow_mol_s": _num(self.flow),
+        return {"converged": self.converged,
+                "T_K": _num(self.T), "P_Pa": _num(self.P), "flow_mol_s": _num(self.flow),
                 "mass_flow_kg_s": _num(self.mass_flow),
                 "vapour_fraction": _num(self.vapour_fraction), "composition": comp(self.zs),
                 "h_J_mol": _num(self.h), "s_J_molK": _num(self.s), "Z": _num(self.Z),
@@ -301,7 +306,12 @@ class BatchResult:
     loops : tuple of LoopRecord
     warnings : tuple of WarningRecord
     converged : ndarray of bool (n,)
-        Each case's loops and goals converged.
+        Each case was solved: its blocks accepted it, its loops and goals converged, its flashes
+        converged and its balances close. A failed case's numbers are all NaN (its streams say
+        ``converged`` false) and its reason is in ``failures``.
+    failures : tuple of str (n,)
+        Why each case failed ("" for a case that was solved): the first cause met (a block's
+        refusal with the file and line, a loop or goal that did not converge, ...).
     freezing : Mapping[str, StreamFreezing] or None
         Water, water dew point and hydrate temperature per stream (:mod:`letdown.sheet.freezing`),
         when computed.
@@ -320,10 +330,14 @@ class BatchResult:
     converged: np.ndarray | None = None
     freezing: Mapping | None = None
     min_T: float | None = None
+    failures: tuple | None = None
 
     def __post_init__(self):
         if self.converged is None:
             object.__setattr__(self, "converged", np.ones(self.n_cases, dtype=bool))
+        if self.failures is None:
+            object.__setattr__(self, "failures", tuple(
+                "" if ok else "did not converge" for ok in self.converged))
 
     @property
     def n_cases(self) -> int:
@@ -400,7 +414,71 @@ class BatchResult:
                    for name, s in self.streams.items()}
         return Result(title=self.title, model=self.model, converged=bool(self.converged[i]),
                       streams=streams, equipment=equipment, goals=goals, loops=loops,
-                      warnings=warnings)
+                      warnings=warnings, failure=self.failures[i] or None)
+
+
+def _spread(a, idx, n):
+    """Per-case values ``a`` of the cases ``idx`` placed among ``n`` cases, the others blank (NaN,
+    False, 0 or ""); anything that is not an array over the ``idx.size`` cases is returned as is."""
+    if a is None or isinstance(a, str) or np.ndim(a) == 0:
+        return a
+    a = np.asarray(a)
+    if a.shape[0] != idx.size:
+        return a
+    fill = {"f": np.nan, "c": np.nan, "b": False, "i": 0, "u": 0, "U": "", "S": b""}.get(
+        a.dtype.kind, None)
+    out = np.full((n,) + a.shape[1:], fill, dtype=a.dtype)
+    out[idx] = a
+    return out
+
+
+def spread_result(lived: BatchResult, idx, n: int, goals, loops, converged,
+                  failures) -> BatchResult:
+    """The result of ``n`` cases from ``lived``, the result of the cases ``idx`` that were solved:
+    the other cases are blank (NaN numbers, streams not converged, no warnings).
+
+    Parameters
+    ----------
+    lived : BatchResult
+        Of the ``idx.size`` solved cases.
+    idx : ndarray of int
+        Their places among the ``n`` cases.
+    goals, loops : tuple
+        Goal and loop records over the ``n`` cases (already blank where failed).
+    converged : ndarray of bool (n,)
+    failures : sequence of str (n,)
+    """
+    idx = np.asarray(idx, dtype=int)
+    m = idx.size
+    nc = len(lived.components)
+    streams = {}
+    for name, s in lived.streams.items():
+        nan, nan2 = np.full(n, np.nan), np.full((n, nc), np.nan)
+        blank = StreamBatch(flow=nan, T=nan, P=nan, zs=nan2, h=nan, s=nan, Z=nan, density=nan,
+                            molar_mass=nan, vapour_fraction=nan, ys=nan2, xs=nan2,
+                            converged=np.zeros(n, dtype=bool))
+        streams[name] = blank.put(idx, s)
+    equipment = {name: dataclasses.replace(
+        eq, energy_in=_spread(eq.energy_in, idx, n), duty=_spread(eq.duty, idx, n),
+        power=_spread(eq.power, idx, n), dP=_spread(eq.dP, idx, n),
+        details={k: _spread(v, idx, n) for k, v in eq.details.items()},
+        flags={k: _spread(v, idx, n) for k, v in eq.flags.items()})
+        for name, eq in lived.equipment.items()}
+    warnings = tuple(dataclasses.replace(
+        w, cases=tuple(int(idx[c]) for c in w.cases if 0 <= c < m),
+        numbers={k: (_spread(v, idx, n) if np.ndim(v) and np.shape(v)[0] == m else v)
+                 for k, v in w.numbers.items()}) for w in lived.warnings)
+    freezing = None
+    if lived.freezing is not None:
+        freezing = {name: None if fz is None else dataclasses.replace(fz, **{
+            f.name: _spread(getattr(fz, f.name), idx, n) for f in dataclasses.fields(fz)})
+            for name, fz in lived.freezing.items()}
+    return BatchResult(title=lived.title, model=lived.model, components=lived.components,
+                       streams=streams, equipment=equipment, goals=tuple(goals),
+                       loops=tuple(loops), warnings=warnings,
+                       converged=np.array(converged, dtype=bool),
+                       failures=tuple(str(f) for f in failures), freezing=freezing,
+                       min_T=lived.min_T)
 
 
 @dataclass(frozen=True)
@@ -416,6 +494,7 @@ class Result:
     goals : list of dict  {"hold", "target", "achieved", "by", "value", "met", "iterations"}
     loops : list of dict  {"blocks", "tears", "iterations", "residual", "residual_history"}
     warnings : list of dict  {"where", "what", "kind", "severity", "numbers"}, most severe first
+    failure : str or None  why the case failed (None when it was solved); its numbers are then null
     """
 
     title: str
@@ -426,10 +505,12 @@ class Result:
     goals: list
     loops: list
     warnings: list
+    failure: str | None = None
 
     def to_dict(self) -> dict:
         """The JSON contract of DESIGN.md as plain Python objects (SI, unit in each key)."""
         return {"title": self.title, "model": self.model, "converged": self.converged,
+                "failure": self.failure,
                 "streams": {n: s.to_dict() for n, s in self.streams.items()},
                 "equipment": {n: dict(e) for n, e in self.equipment.items()},
                 "goals": [dict(g) for g in self.goals], "loops": [dict(lp) for lp in self.loops],

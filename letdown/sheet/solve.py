@@ -14,6 +14,12 @@ Loops
         x_{k+1} = q x_k + (1 - q) g_k
 
     starting with one plain substitution. Cases that have converged are masked out; the others go on.
+Failed cases
+    Unless the solve is strict, a case that a block refuses (``InputError`` naming ``cases``) or
+    whose loop does not converge leaves the pass: it is recorded with its reason and the step is
+    run again for the others, which therefore get the very numbers they would get alone (every
+    block, loop step and goal step is per case). The result blanks every number of a failed case
+    (NaN) and computes warnings, margins and doses on the cases that lived only.
 Goals
     A goal varies one block parameter inside its bracket until a held quantity meets its target: the
     two bracket ends are evaluated together (one batch of ``2 n`` cases), then all cases iterate
@@ -22,11 +28,13 @@ Goals
 """
 from __future__ import annotations
 
+import dataclasses
+import re
 from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..equipment import KINDS, StreamBatch, flash_stream
+from ..equipment import KINDS, BlockOutcome, StreamBatch, closures, flash_stream
 from ..equipment.common import TINY_FLOW
 from ..fluid.rootfind import bracketed_root
 from ..errors import ConvergenceError, InputError
@@ -37,8 +45,8 @@ from .freezing import (checks_active, freezing_warnings, inject_doses, inject_pa
                        stream_freezing)
 from .graph import build_graph, solve_order
 from .modelchoice import solve_default_model
-from .result import (BatchResult, EquipmentBatch, GoalRecord, LoopRecord, Result,
-                     WarningRecord)
+from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, GoalRecord,
+                     LoopRecord, Result, WarningRecord, _spread, spread_result as _spread_result)
 from .spec import Flowsheet, Where
 
 
@@ -63,6 +71,9 @@ UNITS = {"T": "K", "P": "Pa", "flow": "mol/s", "vapour_fraction": "", "duty": "W
          "cold_T_out": "K", "UA": "W/K", "efficiency": "", "hot_dP": "Pa", "cold_dP": "Pa"}
 
 FEED_FIELDS = ("T", "P", "flow")
+
+#: The batch index a block puts in its messages (``common.case_text``).
+CASE_TEXT = re.compile(r" \(case \d+\)")
 
 
 # ------------------------------------------------------------------------------------------------
@@ -124,8 +135,13 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
         chosen as a practitioner would (:mod:`letdown.sheet.modelchoice`: GERG-2008 for
         single-phase gas it covers, Peng-Robinson otherwise) and the result says which and why.
     strict : bool
-        True: any case whose loop or goal fails raises. False: such cases are marked in
-        ``converged`` (and their warnings) and the others are returned.
+        True: any case that fails raises (a block's refusal as a located ``InputError``, a loop,
+        goal, flash or balance as a ``ConvergenceError``). False: every case lives or fails on
+        its own. A failed case (a block refused it with ``InputError(..., cases=)``, its loop or
+        goal did not converge, a flash failed, a balance does not close) is marked in
+        ``converged`` with its reason in ``failures``; its numbers are NaN and its streams say
+        ``converged`` false; the other cases get the numbers they get when solved alone. An
+        ``InputError`` that names no cases concerns the whole input and is raised.
     margins : bool
         Also compute every stream's water content, water dew point, hydrate temperature and
         freezing margins, with their warnings (:mod:`letdown.sheet.freezing`). Off by default for
@@ -243,13 +259,115 @@ def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
 # ------------------------------------------------------------------------------------------------
 @dataclass
 class _Evaluation:
-    """Everything one pass over (a subset of) the cases produced."""
+    """Everything one pass over (a subset of) the cases produced.
+
+    ``ok`` and ``reasons`` are per case: a failed case (a block refused it, its loop or goal did not
+    converge) has ``ok`` false and the first reason it failed for; its numbers are blank (NaN)
+    where the pass removed it before the end, and are blanked by :meth:`_Engine.result` otherwise.
+    """
 
     streams: dict
     outcomes: dict
     loops: list = field(default_factory=list)
     goals: list = field(default_factory=list)
     ok: np.ndarray | None = None
+    reasons: np.ndarray | None = None
+
+    def fail(self, cases, reasons) -> None:
+        """Mark ``cases`` (indices or a bool mask) failed; a case keeps its first reason."""
+        idx = np.flatnonzero(cases) if np.asarray(cases).dtype == bool else np.asarray(cases, int)
+        why = np.broadcast_to(np.asarray(reasons, dtype=object), idx.shape)
+        first = self.ok[idx]
+        self.reasons[idx[first]] = why[first]
+        self.ok[idx] = False
+
+
+class _CasesFailed(Exception):
+    """Internal (never leaves the engine): some cases of a batch failed; the others go on.
+
+    ``mask`` (bool, over the batch the step was given) picks the failed cases, ``reasons`` (object
+    array of the same length) says why.
+    """
+
+    def __init__(self, mask, reasons):
+        super().__init__("cases failed")
+        self.mask = mask
+        self.reasons = reasons
+
+
+@dataclass(frozen=True)
+class _LoopEnd:
+    """A loop's converged tear variables (per case), for its final pass."""
+
+    x: np.ndarray
+    zs_fallback: list
+    T_last: list
+
+    def take(self, keep) -> "_LoopEnd":
+        return _LoopEnd(self.x[keep], [z[keep] for z in self.zs_fallback],
+                        [T[keep] for T in self.T_last])
+
+
+#: Which of duty, power and dP each kind of block reports: the blank outcome of a block that no
+#: case of a batch reached (every case failed before it) has the same fields as a solved one.
+KIND_NUMBERS = {"heater": ("duty", "dP"), "cooler": ("duty", "dP"), "exchanger": ("duty",),
+                "compressor": ("power", "dP"), "expander": ("power", "dP")}
+
+
+def _blank_stream(n: int, nc: int) -> StreamBatch:
+    """A stream of ``n`` failed cases: every number NaN, ``converged`` false."""
+    nan, nan2 = np.full(n, np.nan), np.full((n, nc), np.nan)
+    return StreamBatch(flow=nan, T=nan, P=nan, zs=nan2, h=nan, s=nan, Z=nan, density=nan,
+                       molar_mass=nan, vapour_fraction=nan, ys=nan2, xs=nan2,
+                       converged=np.zeros(n, dtype=bool))
+
+
+def _spread_stream(stream: StreamBatch | None, idx, n: int, nc: int) -> StreamBatch:
+    blank = _blank_stream(n, nc)
+    return blank if stream is None else blank.put(idx, stream)
+
+
+def _take_outcome(o: BlockOutcome, keep) -> BlockOutcome:
+    """The cases ``keep`` (bool mask) of a block's outcome."""
+    def t(a):
+        return None if a is None else np.asarray(a)[keep]
+    return BlockOutcome(outlets={p: s.take(keep) for p, s in o.outlets.items()},
+                        energy_in=t(o.energy_in), duty=t(o.duty), power=t(o.power), dP=t(o.dP),
+                        mole_closure=t(o.mole_closure), energy_closure=t(o.energy_closure),
+                        details={k: (v if isinstance(v, str) or np.ndim(v) == 0 else t(v))
+                                 for k, v in o.details.items()},
+                        flags={k: t(v) for k, v in o.flags.items()})
+
+
+def _spread_outcome(o: BlockOutcome | None, kind: str, outlets: dict, idx, n: int) -> BlockOutcome:
+    """A block's outcome over ``n`` cases from that of the cases ``idx`` (None: no case reached
+    the block), blank elsewhere."""
+    if o is None:
+        nan = np.full(n, np.nan)
+        numbers = KIND_NUMBERS.get(kind, ("dP",))
+        return BlockOutcome(outlets=outlets, energy_in=nan, mole_closure=nan, energy_closure=nan,
+                            **{k: nan for k in numbers})
+    return BlockOutcome(outlets=outlets, energy_in=_spread(o.energy_in, idx, n),
+                        duty=_spread(o.duty, idx, n), power=_spread(o.power, idx, n),
+                        dP=_spread(o.dP, idx, n), mole_closure=_spread(o.mole_closure, idx, n),
+                        energy_closure=_spread(o.energy_closure, idx, n),
+                        details={k: _spread(v, idx, n) for k, v in o.details.items()},
+                        flags={k: _spread(v, idx, n) for k, v in o.flags.items()})
+
+
+def _spread_loop(rec: LoopRecord, idx, n: int) -> LoopRecord:
+    return dataclasses.replace(rec, iterations=_spread(rec.iterations, idx, n),
+                               residual=_spread(rec.residual, idx, n),
+                               converged=_spread(rec.converged, idx, n))
+
+
+def _refusal_text(exc: InputError, n_failed: int) -> str:
+    """The reason recorded for the cases a block refused: its located message without the batch
+    index (which means nothing outside the block's own batch)."""
+    text = CASE_TEXT.sub("", str(exc))
+    if n_failed > 1:
+        text += f" (the figures are those of the first of {n_failed} cases it refused)"
+    return text
 
 
 class _Engine:
@@ -315,6 +433,12 @@ class _Engine:
         return self._flow(sel, over)
 
     def _flow(self, sel, over) -> _Evaluation:
+        """One pass through the blocks for the cases ``sel``.
+
+        A case a block refuses (an ``InputError`` naming cases) or whose loop fails is removed from
+        the pass (when not ``strict``) and the step is run again for the others, so that they get
+        the very numbers they would get alone; at the end the removed cases are blank (NaN).
+        """
         m = len(sel)
         streams: dict = {}
         for name, feed in self.fs.feeds.items():
@@ -330,12 +454,54 @@ class _Engine:
                                  field=f"cases.{name}.zs")
             streams[name] = flash_stream(self.fluid, np.broadcast_to(flow, (m,)), zs,
                                          T=np.broadcast_to(T, (m,)), P=np.broadcast_to(P, (m,)))
-        ev = _Evaluation(streams=streams, outcomes={}, ok=np.ones(m, dtype=bool))
+        ev = _Evaluation(streams={}, outcomes={}, ok=np.ones(m, dtype=bool),
+                         reasons=np.full(m, "", dtype=object))
+        outcomes: dict = {}
+        loops = []                     # (record, the cases it was made for)
+        alive = np.arange(m)           # the cases still in the pass
+        now_sel, now_over = sel, over
+
+        def drop(lost, why):
+            """Remove the failed cases ``lost`` (mask over ``alive``) from the pass."""
+            nonlocal alive, streams, outcomes, now_sel, now_over
+            ev.fail(alive[lost], why[lost])
+            keep = ~lost
+            alive = alive[keep]
+            streams = {s: b.take(keep) for s, b in streams.items()}
+            outcomes = {b: _take_outcome(o, keep) for b, o in outcomes.items()}
+            now_sel = sel[alive]
+            now_over = {k: v[alive] for k, v in over.items()}
+            return keep
+
         for step in self.steps:
-            if step.is_loop:
-                self._loop(step, ev, sel, over)
-            else:
-                self._run_block(step.blocks[0], ev.streams, ev.outcomes, sel, over)
+            while alive.size:
+                try:
+                    if not step.is_loop:
+                        self._run_block(step.blocks[0], streams, outcomes, now_sel, now_over)
+                        break
+                    entry = alive
+                    record, lost, why, end = self._loop(step, streams, now_sel, now_over)
+                    if lost.any():
+                        end = end.take(drop(lost, why))
+                    if alive.size:
+                        self._loop_final(step, end, streams, outcomes, now_sel, now_over)
+                    loops.append((record, entry))
+                    break
+                except _CasesFailed as exc:
+                    # a block refused some cases: drop them and run the step again for the others
+                    drop(exc.mask, exc.reasons)
+        if alive.size == m:
+            ev.streams, ev.outcomes = streams, outcomes
+            ev.loops = [record for record, _ in loops]
+            return ev
+        # some cases left the pass: every number of theirs is blank
+        for name in self._stream_order():
+            ev.streams[name] = _spread_stream(streams.get(name), alive, m, self.nc)
+        for name, spec in self.fs.blocks.items():
+            ev.outcomes[name] = _spread_outcome(
+                outcomes.get(name), spec.kind,
+                {p: ev.streams[s] for p, s in spec.outlets.items()}, alive, m)
+        ev.loops = [_spread_loop(record, idx, m) for record, idx in loops]
         return ev
 
     def _run_block(self, name, streams, outcomes, sel, over):
@@ -344,10 +510,26 @@ class _Engine:
         try:
             outcome = KINDS[spec.kind](self.fluid, name, inlets, self._params(name, sel, over))
         except InputError as exc:
-            raise self._locate(exc, name) from None
+            located = self._locate(exc, name)
+            mask = self._case_mask(exc, len(sel))
+            if self.strict or mask is None:
+                raise located from None
+            raise _CasesFailed(mask, np.full(len(sel), _refusal_text(located, int(mask.sum())),
+                                             dtype=object)) from None
         for port, stream in spec.outlets.items():
             streams[stream] = outcome.outlets[port]
         outcomes[name] = outcome
+
+    @staticmethod
+    def _case_mask(exc: InputError, m: int):
+        """The cases an ``InputError`` concerns as a bool mask over the block's ``m`` cases, or
+        None where it concerns the whole input (no ``cases``, or not a mask of this batch)."""
+        if exc.cases is None:
+            return None
+        mask = np.asarray(exc.cases)
+        if mask.dtype != bool or mask.shape != (m,) or not mask.any():
+            return None
+        return mask
 
     # -- loops ------------------------------------------------------------------------------------
     def _guess(self, tear: str, step, streams, sel) -> StreamBatch:
@@ -400,12 +582,25 @@ class _Engine:
             flow_cols.append(np.r_[np.ones(self.nc, dtype=bool), False, False])
         return np.concatenate(cols, axis=1), np.concatenate(flow_cols)
 
-    def _loop(self, step, ev: _Evaluation, sel, over) -> None:
+    def _loop(self, step, streams, sel, over):
+        """Converge one loop's tear streams for the cases ``sel`` (Wegstein, converged cases
+        masked).
+
+        Returns
+        -------
+        record : LoopRecord
+        lost : ndarray of bool (m,)
+            Cases that failed: not converged, or refused by a block inside the loop (only when not
+            ``strict``; strict raises).
+        reasons : ndarray of object (m,)
+        end : _LoopEnd
+            The converged tear variables, for :meth:`_loop_final`.
+        """
         tol = self.fs.solver.loop_tolerance
         flow_tol = min(tol, FLOW_TOLERANCE)
         m = len(sel)
         tears = step.tears
-        guesses = [self._guess(t, step, ev.streams, sel) for t in tears]
+        guesses = [self._guess(t, step, streams, sel) for t in tears]
         zs_fallback = [g.zs for g in guesses]
         T_last = [np.array(g.T) for g in guesses]     # each tear's latest temperature, per case
         x = self._pack(guesses)
@@ -414,23 +609,34 @@ class _Engine:
         inside = set(step.blocks)
         needed = {s for b in step.blocks for s in self.fs.blocks[b].inlets.values()
                   if self.producer.get(s) not in inside or s in tears}
-        outside = {s: ev.streams[s] for s in needed if s in ev.streams and s not in tears}
+        outside = {s: streams[s] for s in needed if s in streams and s not in tears}
         iterations = np.zeros(m, dtype=int)
         residual = np.full(m, np.inf)
         active = np.ones(m, dtype=bool)
+        refused = np.zeros(m, dtype=bool)
+        reasons = np.full(m, "", dtype=object)
         history = []
-        for _ in range(self.fs.solver.loop_max_iterations):
+        done_iterations = 0
+        while done_iterations < self.fs.solver.loop_max_iterations:
             a = np.flatnonzero(active)
             if a.size == 0:
                 break
             over_a = {k: v[a] for k, v in over.items()}
-            streams = {s: b.take(a) for s, b in outside.items()}
-            streams.update(zip(tears, self._unpack(x[a], [z[a] for z in zs_fallback],
-                                                   [T[a] for T in T_last])))
+            local = {s: b.take(a) for s, b in outside.items()}
+            local.update(zip(tears, self._unpack(x[a], [z[a] for z in zs_fallback],
+                                                 [T[a] for T in T_last])))
             outcomes: dict = {}
-            for name in step.blocks:
-                self._run_block(name, streams, outcomes, sel[a], over_a)
-            produced = [streams[t] for t in tears]
+            try:
+                for name in step.blocks:
+                    self._run_block(name, local, outcomes, sel[a], over_a)
+            except _CasesFailed as exc:
+                # refused inside the loop: those cases leave it; the iteration is done again for
+                # the others from the same values (so their numbers are as if alone)
+                bad = a[exc.mask]
+                refused[bad], reasons[bad], active[bad] = True, exc.reasons[exc.mask], False
+                continue
+            done_iterations += 1
+            produced = [local[t] for t in tears]
             for T, s in zip(T_last, produced):
                 T[a] = s.T
             g = self._pack(produced)
@@ -455,35 +661,44 @@ class _Engine:
             x_prev[a], g_prev[a] = xa, g
             x[a] = np.where(done[:, None], xa, x_new)
             active[a[done]] = False
-        converged = ~active
+        converged = ~active & ~refused
         record = LoopRecord(blocks=tuple(step.blocks), tears=tuple(tears), iterations=iterations,
                             residual=residual, history=tuple(history), converged=converged)
-        if not np.all(converged) and self.strict:
-            bad = np.flatnonzero(~converged)
+        unconverged = active
+        if np.any(unconverged):
+            bad = np.flatnonzero(unconverged)
             i = int(bad[0])
-            raise ConvergenceError(
-                f"the loop through {', '.join(step.blocks)} (tears: {', '.join(tears)}) did not "
-                f"converge in {self.fs.solver.loop_max_iterations} iterations: residual "
-                f"{residual[i]:.3g} (tolerance {tol:g})"
-                + (f" in {bad.size} of {m} cases" if m > 1 else "")
-                + "; last residuals " + ", ".join(f"{r:.3g}" for r in history[-5:]),
-                result=record)
-        # final pass over every case from the converged tear values
-        ev.streams.update(zip(tears, self._unpack(x, zs_fallback, T_last)))
+            text = (f"the loop through {', '.join(step.blocks)} (tears: {', '.join(tears)}) did "
+                    f"not converge in {self.fs.solver.loop_max_iterations} iterations")
+            if self.strict:
+                raise ConvergenceError(
+                    f"{text}: residual {residual[i]:.3g} (tolerance {tol:g})"
+                    + (f" in {bad.size} of {m} cases" if m > 1 else "")
+                    + "; last residuals " + ", ".join(f"{r:.3g}" for r in history[-5:]),
+                    result=record)
+            reasons[bad] = [f"{text}: residual {r:.3g} (tolerance {tol:g})"
+                            for r in residual[bad]]
+        return record, ~converged, reasons, _LoopEnd(x, zs_fallback, T_last)
+
+    def _loop_final(self, step, end: "_LoopEnd", streams, outcomes, sel, over) -> None:
+        """The final pass through a loop's blocks from its converged tear values."""
+        streams.update(zip(step.tears, self._unpack(end.x, end.zs_fallback, end.T_last)))
         for name in step.blocks:
-            self._run_block(name, ev.streams, ev.outcomes, sel, over)
-        ev.loops.append(record)
-        ev.ok &= converged
+            self._run_block(name, streams, outcomes, sel, over)
 
     # -- goals ------------------------------------------------------------------------------------
     def _held(self, goal, ev: _Evaluation) -> np.ndarray:
         name, _, attr = goal.hold.partition(".")
         if name in ev.streams and name not in self.fs.blocks:
-            return np.asarray(getattr(ev.streams[name], attr), dtype=float)
+            return np.where(ev.ok, np.asarray(getattr(ev.streams[name], attr), dtype=float), np.nan)
         outcome = ev.outcomes[name]
         if attr == "min_approach":
-            return outcome.details["min_approach_K"]
-        return np.asarray(getattr(outcome, attr), dtype=float)
+            values = outcome.details.get("min_approach_K")
+        else:
+            values = getattr(outcome, attr)
+        if values is None:          # a blank outcome: no case reached the block
+            return np.full(len(ev.ok), np.nan)
+        return np.where(ev.ok, np.asarray(values, dtype=float), np.nan)
 
     def _goal(self, indexed_goal, rest, sel, over) -> _Evaluation:
         number, goal = indexed_goal
@@ -522,16 +737,28 @@ class _Engine:
         final = run(every, x)
         achieved = self._held(goal, final)
         met = np.abs(achieved - target) <= tol
-        if not np.all(met | no_root) and self.strict:
-            i = int(np.flatnonzero(~met)[0])
-            raise ConvergenceError(
-                f"goal {number + 1} ({goal.hold} at {target[i]:.6g} by {goal.by}) did not converge "
-                f"in {self.fs.solver.goal_max_iterations} iterations: {goal.hold} = "
-                f"{achieved[i]:.6g} at {goal.by} = {x[i]:.6g}")
+        unmet = ~met & ~no_root
+        if np.any(unmet) and self.strict:
+            i = int(np.flatnonzero(unmet)[0])
+            raise ConvergenceError(self._unmet_text(number, goal, target[i], achieved[i], x[i]))
+        if np.any(no_root):
+            # a bracket end that failed says why; otherwise the held values at the two ends
+            bad = np.flatnonzero(no_root)
+            final.fail(bad, [ends.reasons[i] or ends.reasons[m + i] or
+                             str(self._no_solution(number, goal, target[i], held[i], held[m + i], ""))
+                             for i in bad])
+        if np.any(unmet):
+            bad = np.flatnonzero(unmet)
+            final.fail(bad, [self._unmet_text(number, goal, target[i], achieved[i], x[i])
+                             for i in bad])
         final.goals.insert(0, GoalRecord(hold=goal.hold, target=target.copy(), by=goal.by, value=x,
                                          achieved=achieved, met=met, iterations=iterations))
-        final.ok &= met
         return final
+
+    def _unmet_text(self, number, goal, target, achieved, x) -> str:
+        return (f"goal {number + 1} ({goal.hold} at {target:.6g} by {goal.by}) did not converge "
+                f"in {self.fs.solver.goal_max_iterations} iterations: {goal.hold} = "
+                f"{achieved:.6g} at {goal.by} = {x:.6g}")
 
     def _no_solution(self, number, goal, target, at_lo, at_hi, case) -> InputError:
         held_unit = UNITS.get(goal.hold.partition(".")[2], "")
@@ -551,20 +778,67 @@ class _Engine:
     # -- the result -------------------------------------------------------------------------------
     def result(self, ev: _Evaluation, margins: bool = False) -> BatchResult:
         """Assemble, warn about and check the final evaluation (with the freezing margins when
-        ``margins``)."""
-        warnings = []
+        ``margins``).
+
+        A case whose flash failed or whose balances do not close fails here (strict: raises). The
+        warnings, margins and doses are computed on the cases that lived only; a failed case has
+        blank (NaN) numbers, its streams ``converged`` false, and its reason in ``failures``.
+        """
         n = self.n
         for name, stream in ev.streams.items():
-            bad = ~stream.converged
+            bad = ev.ok & ~stream.converged
             if np.any(bad):
                 if self.strict:
                     i = int(np.flatnonzero(bad)[0])
                     raise ConvergenceError(f"stream '{name}': the flash did not converge"
                                            + (f" in case {i}" if n > 1 else ""))
-                ev.ok &= ~bad
-                warnings.append(WarningRecord(name, "the flash did not converge",
-                                              tuple(np.flatnonzero(bad).tolist()),
-                                              kind="flash_unconverged", severity="hazard"))
+                ev.fail(bad, f"stream '{name}': the flash did not converge")
+        closure = {}
+        for name, spec in self.fs.blocks.items():
+            outcome = ev.outcomes[name]
+            mole, energy = closures([ev.streams[s] for s in spec.inlets.values()],
+                                    [ev.streams[s] for s in spec.outlets.values()],
+                                    outcome.energy_in)
+            closure[name] = (mole, energy)
+            for what, value, limit in (("mole", mole, MOLE_CLOSURE),
+                                       ("energy", energy, ENERGY_CLOSURE)):
+                bad = ev.ok & ~(value <= limit)
+                if np.any(bad):
+                    i = int(np.flatnonzero(bad)[0])
+                    text = f"block '{name}': {what} balance closes only to "
+                    if self.strict:
+                        raise ConvergenceError(text + f"{value[i]:.3g} (limit {limit:g})"
+                                               + (f" in case {i}" if n > 1 else ""))
+                    ev.fail(bad, [text + f"{v:.3g} (limit {limit:g})" for v in value[bad]])
+        if np.all(ev.ok):
+            result = self._assemble(ev, margins, ev.goals, ev.loops, ev.ok, ev.reasons)
+            result.__dict__["_closures"] = closure     # the same streams: no need to redo them
+            return result
+        keep = np.flatnonzero(ev.ok)
+        lived = _Evaluation(streams={s: b.take(keep) for s, b in ev.streams.items()},
+                            outcomes={b: _take_outcome(o, keep) for b, o in ev.outcomes.items()},
+                            ok=np.ones(keep.size, dtype=bool),
+                            reasons=np.full(keep.size, "", dtype=object))
+        goals = tuple(dataclasses.replace(g, value=np.where(ev.ok, g.value, np.nan),
+                                          achieved=np.where(ev.ok, g.achieved, np.nan),
+                                          met=g.met & ev.ok) for g in ev.goals)
+        if keep.size == 0:
+            blank = {s: _blank_stream(n, self.nc) for s in ev.streams}
+            return self._assemble(
+                _Evaluation(streams=blank, outcomes={
+                    b: _spread_outcome(None, self.fs.blocks[b].kind, {}, keep, n)
+                    for b in ev.outcomes}, ok=ev.ok, reasons=ev.reasons),
+                False, goals, ev.loops, ev.ok, ev.reasons, quiet=True)
+        return _spread_result(self._assemble(lived, margins, (), (), lived.ok, lived.reasons),
+                              keep, n, goals, ev.loops, ev.ok, ev.reasons)
+
+    def _assemble(self, ev: _Evaluation, margins: bool, goals, loops, ok, reasons, *,
+                  quiet: bool = False) -> BatchResult:
+        """The result of cases that all lived (``quiet``: of cases that all failed, with no
+        warnings, margins or doses)."""
+        warnings = []
+        if quiet:
+            return self._batch(ev, {}, None, warnings, goals, loops, ok, reasons)
         min_T = self.fs.limits.get("min_T")
         if min_T is not None:
             for name, stream in ev.streams.items():
@@ -611,6 +885,9 @@ class _Engine:
                     kind, severity = FLAG_KINDS.get(flag, (flag, "check"))
                     warnings.append(WarningRecord(name, what, tuple(np.flatnonzero(values).tolist()),
                                                   kind=kind, severity=severity))
+        return self._batch(ev, doses, freezing, warnings, goals, loops, ok, reasons)
+
+    def _batch(self, ev, doses, freezing, warnings, goals, loops, ok, reasons) -> BatchResult:
         equipment = {}
         for name, outcome in ev.outcomes.items():
             spec = self.fs.blocks[name]
@@ -619,16 +896,15 @@ class _Engine:
                 energy_in=outcome.energy_in, duty=outcome.duty, power=outcome.power, dP=outcome.dP,
                 details={**outcome.details, **doses.get(name, {})}, flags=dict(outcome.flags))
         order = [s for s in self._stream_order() if s in ev.streams]
-        result = BatchResult(title=self.fs.title, model=self.fluid.model,
-                             components=self.components,
-                             streams={s: ev.streams[s] for s in order}, equipment=equipment,
-                             goals=tuple(ev.goals), loops=tuple(ev.loops),
-                             warnings=tuple(warnings), converged=ev.ok.copy(),
-                             freezing=None if freezing is None else
-                             {s: freezing[s] for s in order},
-                             min_T=self.fs.limits.get("min_T"))
-        result.check_balances()
-        return result
+        return BatchResult(title=self.fs.title, model=self.fluid.model,
+                           components=self.components,
+                           streams={s: ev.streams[s] for s in order}, equipment=equipment,
+                           goals=tuple(goals), loops=tuple(loops),
+                           warnings=tuple(warnings), converged=np.array(ok, dtype=bool),
+                           failures=tuple(str(r) for r in reasons),
+                           freezing=None if freezing is None else
+                           {s: freezing[s] for s in order},
+                           min_T=self.fs.limits.get("min_T"))
 
     def _model_warnings(self, ev) -> list:
         """Where the model's data or tested range does not cover the flowsheet."""

@@ -308,29 +308,9 @@ def _outputs(res, fs, outputs, m):
 
 
 def _reasons(res, m):
-    """Why each failed case failed: unmet goals, unconverged loops, failed flashes."""
-    reasons = [[] for _ in range(m)]
-    for k, g in enumerate(res.goals):
-        met = np.broadcast_to(np.asarray(g.met, dtype=bool), (m,))
-        for c in np.flatnonzero(~met):
-            target = np.broadcast_to(np.asarray(g.target, dtype=float), (m,))[c]
-            reasons[c].append(f"goal {k + 1} ({g.hold} at {target:.6g} by {g.by}) not met")
-    for lp in res.loops:
-        conv = np.broadcast_to(np.asarray(lp.converged, dtype=bool), (m,))
-        for c in np.flatnonzero(~conv):
-            reasons[c].append(f"loop through {', '.join(lp.blocks)} did not converge")
-    for w in res.warnings:
-        what = w["what"] if isinstance(w, dict) else w.what
-        where = w["where"] if isinstance(w, dict) else w.where
-        cases = w.get("cases", ()) if isinstance(w, dict) else getattr(w, "cases", ())
-        if "did not converge" in what:
-            for c in cases:
-                if c < m:
-                    reasons[c].append(f"{where}: {what}")
-    out = []
-    for c in range(m):
-        if res.converged[c]:
-            out.append("")
-        else:
-            out.append("; ".join(reasons[c]) or "did not converge")
-    return out
+    """Why each case failed ("" for a solved case): the batch result's own per-case reasons
+    (a block's refusal, a loop or goal that did not converge, a failed flash or balance)."""
+    failures = getattr(res, "failures", None)
+    if failures is None:
+        return ["" if ok else "did not converge" for ok in np.asarray(res.converged)[:m]]
+    return [str(f) if not ok else "" for f, ok in zip(failures[:m], np.asarray(res.converged))]
