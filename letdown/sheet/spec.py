@@ -33,6 +33,9 @@ class GasSpec:
     kij : Mapping[tuple[str, str], float] | str | None
         Interaction-parameter overrides (pairs of canonical names), ``"zero"``, or None for the
         library table.
+    model_where : Where
+        Where the model was chosen: the ``gas.model`` key, or the ``gas`` key when the file leaves
+        the model to the default (a model's refusal is reported there).
     """
 
     model: str
@@ -40,6 +43,7 @@ class GasSpec:
     kij: Any = None
     water: "WaterSpec | None" = None
     water_method: str = "bukacek"
+    model_where: Where = Where()
 
 
 @dataclass(frozen=True)
