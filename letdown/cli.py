@@ -229,6 +229,8 @@ def _error(exc, file, debug) -> None:
             text = f"{file}: {text}"
     elif file:
         text = f"{file}: {text}"
+    # one line, whatever the message quotes (a schema message may show a value over lines)
+    text = " ".join(part.strip() for part in text.splitlines() if part.strip())
     print(f"letdown: {text}", file=sys.stderr)
 
 

@@ -267,3 +267,54 @@ def test_every_shipped_flowsheet_still_loads():
 def test_solve_json_of_the_gate_station_unchanged(capsys):
     rc, out, err = run(capsys, "solve", GATE, "--json")
     assert rc == 0 and json.loads(out)["converged"] is True
+
+
+# --- the file's own structure and the remaining numbers ---------------------------------------------
+
+def test_alias_bomb_is_refused_not_expanded(tmp_path, capsys):
+    # nine levels of ten aliases would build 1e9 values from a 1 kB file
+    lines = ["a0: &a0 [x, x, x, x, x, x, x, x, x, x]"]
+    for k in range(1, 10):
+        lines.append(f"a{k}: &a{k} [{', '.join([f'*a{k - 1}'] * 10)}]")
+    text = "\n".join(lines) + "\n" + GOOD
+    (line,) = refused(tmp_path, capsys, text, verbs=("check",))
+    assert "aliases" in line
+
+
+def test_deep_nesting_is_refused(tmp_path, capsys):
+    text = GOOD + "note: " + "[" * 5000 + "]" * 5000 + "\n"
+    (line,) = refused(tmp_path, capsys, text, verbs=("check",))
+    assert "nests deeper" in line
+
+
+def test_invisible_line_separator_is_refused(tmp_path, capsys):
+    # YAML reads U+2028 as a line break that no editor shows
+    (line,) = refused(tmp_path, capsys, GOOD.replace("regulator: {", "regu\u2028lator: {"),
+                      verbs=("check",))
+    assert ":10:" in line and "U+2028" in line
+
+
+@pytest.mark.parametrize("section, needle", [
+    ("solver: {loop_max_iterations: 1000000000}", "at most 10,000"),
+    ("solver: {goal_tolerance: .nan}", "not a finite number"),
+    ("solver: {loop_tolerance: .inf}", "not a finite number"),
+    ("solver: {loop_tolerance: 0.5}", "tests nothing"),
+    ("atmosphere: 1 Pa", "an atmosphere lies in 30-120 kPa"),
+    ("limits: {hydrate_margin: -3 K}", "must not be negative"),
+])
+def test_settings_a_solve_cannot_honour_are_refused(tmp_path, capsys, section, needle):
+    (line,) = refused(tmp_path, capsys, GOOD + section + "\n", verbs=("check",))
+    assert needle in line and ":13:" in line
+
+
+def test_goal_targets_checked(tmp_path, capsys):
+    text = GOOD.replace("hold: network.T, at: 5 degC", "hold: network.vapour_fraction, at: 1.5")
+    (line,) = refused(tmp_path, capsys, text, verbs=("check",))
+    assert ":12: goals[0].at:" in line and "[0, 1]" in line
+
+
+def test_compare_exit_code_is_an_integer(capsys):
+    # the exit codes of compare were lost in a merge (it returned None)
+    f = ROOT / "flowsheets" / "fired-gate-station.yaml"
+    rc, out, err = run(capsys, "compare", f, "--models", "peng-robinson")
+    assert rc == 0

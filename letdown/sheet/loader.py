@@ -161,8 +161,10 @@ def _dotted(path) -> str | None:
 
 
 #: Characters a flowsheet may hold: those YAML 1.1 allows (tab, line breaks, printable Unicode),
-#: less NEL (U+0085), which YAML would read as a line break no editor shows.
-_BAD_CHARACTER = re.compile("[^\t\n\r\x20-\x7e\xa0-\ud7ff\ue000-\ufffd\U00010000-\U0010ffff]")
+#: less NEL (U+0085) and the line and paragraph separators (U+2028, U+2029), which YAML reads as
+#: line breaks that no editor shows.
+_BAD_CHARACTER = re.compile("[^\t\n\r\x20-\x7e\xa0-\u2027\u202a-\ud7ff\ue000-\ufffd"
+                            "\U00010000-\U0010ffff]")
 
 
 def _line_column(text, pos):
