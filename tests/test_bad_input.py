@@ -318,3 +318,12 @@ def test_compare_exit_code_is_an_integer(capsys):
     f = ROOT / "flowsheets" / "fired-gate-station.yaml"
     rc, out, err = run(capsys, "compare", f, "--models", "peng-robinson")
     assert rc == 0
+
+
+def test_measurement_csv_invalid_utf8_names_the_line(tmp_path):
+    from letdown.sheet.measurements import read_csv
+    f = tmp_path / "readings.csv"
+    f.write_bytes(b"at,value,uncertainty\nnetwork.T,5 degC,0.3 K\nnetwork.T,5 deg\xb0C,0.3 K\n")
+    with pytest.raises(InputError) as info:
+        read_csv(f, load(GATE))
+    assert info.value.line == 3 and "UTF-8" in info.value.message

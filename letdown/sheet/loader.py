@@ -172,15 +172,15 @@ def _line_column(text, pos):
     return text.count("\n", 0, pos) + 1, pos - (text.rfind("\n", 0, pos) + 1) + 1
 
 
-def _check_characters(text: str, file: str) -> None:
+def _check_characters(text: str, file: str, what: str = "a flowsheet file") -> None:
     """Refuse control characters (NUL, escape, form feed, ...) with their line and column."""
     m = _BAD_CHARACTER.search(text)
     if m is None:
         return
     line, column = _line_column(text, m.start())
     code = ord(m.group())
-    what = "a control character" if code < 0x20 or 0x7f <= code <= 0x9f else "a character"
-    raise InputError(f"{what} U+{code:04X} at column {column} does not belong in a flowsheet file "
+    kind = "a control character" if code < 0x20 or 0x7f <= code <= 0x9f else "a character"
+    raise InputError(f"{kind} U+{code:04X} at column {column} does not belong in {what} "
                      f"(remove it; a stray byte from a copy or a transfer)", file=file, line=line)
 
 
@@ -201,6 +201,29 @@ def decode(raw: bytes, file: str) -> str:
         column = exc.start - (raw.rfind(b"\n", 0, exc.start) + 1) + 1
         raise InputError(f"byte 0x{raw[exc.start]:02x} at column {column} is not UTF-8 text "
                          f"(save the file as UTF-8)", file=file, line=line) from None
+
+
+def read_text(path, what: str = "a flowsheet file", field: str | None = None) -> str:
+    """The text of an input file (flowsheet, profile or measurement CSV): UTF-8, no control
+    characters.
+
+    Raises
+    ------
+    InputError
+        A missing or unreadable file, a byte that is not UTF-8 or a control character (with its
+        line).
+    """
+    name = str(path)
+    try:
+        raw = Path(path).read_bytes()
+    except FileNotFoundError:
+        raise InputError("no such file", file=name, field=field) from None
+    except OSError as exc:
+        raise InputError(f"cannot read the file: {exc.strerror or exc}", file=name,
+                         field=field) from None
+    text = decode(raw, name)
+    _check_characters(text, name, what)
+    return text
 
 
 def _read_yaml(text: str, file: str) -> _Doc:
@@ -982,11 +1005,4 @@ def load(path) -> Flowsheet:
     InputError
         If the file cannot be read or is not a valid flowsheet (see :func:`loads`).
     """
-    name = str(path)
-    try:
-        raw = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise InputError("no such file", file=name) from None
-    except OSError as exc:
-        raise InputError(f"cannot read the file: {exc.strerror or exc}", file=name) from None
-    return loads(decode(raw, name), source=name)
+    return loads(read_text(path), source=str(path))

@@ -59,19 +59,9 @@ def read_profile(path, atmosphere=None) -> Profile:
         or unit, a row with the wrong number of columns or none, a value that is not a number or not
         plausible, a flow that is zero or negative (file, line and column named).
     """
-    from ..sheet.loader import decode
+    from ..sheet.loader import read_text
     file = str(path)
-    try:
-        with open(path, "rb") as fh:
-            raw = fh.read()
-    except OSError as exc:
-        raise InputError(f"cannot read the profile: {exc.strerror or exc}", file=file) from None
-    lines = decode(raw, file).splitlines()
-    for k, text in enumerate(lines):
-        bad = next((c for c in text if (c < " " and c != "\t") or "\x7f" <= c <= "\x9f"), None)
-        if bad is not None:
-            raise InputError(f"a control character U+{ord(bad):04X} does not belong in a profile",
-                             file=file, line=k + 1)
+    lines = read_text(path, "a profile", field="--profile").splitlines()
     try:
         rows = list(csv.reader(lines))
     except csv.Error as exc:
