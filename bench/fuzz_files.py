@@ -66,7 +66,8 @@ UNIT_RE = re.compile(r"(?<=\d) ?(degC|degF|K|barg|bara|bar|psig|psi|kPa|MPa|Sm3/
 KEY_RE = re.compile(r"(?:^|[{,]\s*|^\s*-\s*)([A-Za-z_][\w-]*):", re.MULTILINE)
 KIND_RE = re.compile(r"kind:\s*([a-z]+)")
 NUMBERS = ("0", "-1", "1e30", "-1e30", "1e-30", "nan", ".nan", ".inf", "-.inf", "abc", "1e308",
-           "0.0", "-0", "99999999999999999999999999999999999999999")
+           "0.0", "-0", "99999999999999999999999999999999999999999", "9" * 5000, "1_000",
+           "0x1F", "1:30", "~", "[]", "{}", "''", "true", "2026-01-01")
 UNITS = ("degC", "degF", "K", "barg", "bar", "psig", "kPa", "Sm3/h", "kmol/h", "t/h", "kW", "MW",
          "kW/K", "%", "delta_degC", "mg/Sm3", "m3/h", "hp", "degX", "", "barg barg", "J/mol")
 KINDS = ("throttle", "heater", "cooler", "separator", "compressor", "expander", "mixer",

@@ -267,7 +267,10 @@ def _split(text, kind, field, file, line):
         raise _fail(f"expected a {kind.replace('_', ' ')} such as {_EXAMPLES[kind]}, got {text!r}",
                     field, file, line)
     if isinstance(text, (int, float)):
-        return float(text), ""
+        try:
+            return float(text), ""
+        except OverflowError:       # an integer past the float range (YAML reads 1 followed by
+            raise _fail(f"{text!r} is not a finite number", field, file, line) from None
     if not isinstance(text, str):
         raise _fail(f"expected a {kind.replace('_', ' ')} such as {_EXAMPLES[kind]}, got {text!r}",
                     field, file, line)

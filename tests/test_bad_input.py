@@ -327,3 +327,10 @@ def test_measurement_csv_invalid_utf8_names_the_line(tmp_path):
     with pytest.raises(InputError) as info:
         read_csv(f, load(GATE))
     assert info.value.line == 3 and "UTF-8" in info.value.message
+
+
+def test_integer_of_thousands_of_digits_is_bad_input(tmp_path, capsys):
+    # Python refuses to convert integers past 4,300 digits (a ValueError, exit 3 before)
+    (line,) = refused(tmp_path, capsys, GOOD.replace("ethane: 0.048", "ethane: " + "9" * 5000),
+                      verbs=("check",))
+    assert ":4: gas.composition.ethane:" in line and "cannot read the value" in line

@@ -290,6 +290,9 @@ def _read_yaml(text: str, file: str) -> _Doc:
             except yaml.YAMLError as exc:
                 raise InputError(f"broken YAML value: {exc}", file=file,
                                  line=n.start_mark.line + 1, field=_dotted(path)) from None
+            except (ValueError, OverflowError):     # an integer of thousands of digits, ...
+                raise InputError(f"cannot read the value {n.value[:40]!r}...", file=file,
+                                 line=n.start_mark.line + 1, field=_dotted(path)) from None
 
         data = build(node, ())
     finally:
