@@ -310,11 +310,12 @@ def _solve(args) -> int:
 def _sweep(args) -> int:
     from .report.sweep import sweep_files
     from .sheet.loader import load
-    from .study.sweep import parse_variable, sweep
+    from .study.sweep import case_count, parse_variable, sweep
 
     fs = load(args.file)
     args.flowsheet = fs
     variables = [parse_variable(fs, v) for v in args.vary]
+    case_count(variables, "zip" if args.zip else "grid")
     outputs = [o.strip() for o in args.outputs.split(",")] if args.outputs else None
     target = _csv_target(args.out) if args.out else None
     if args.plot and target is None:
@@ -568,7 +569,9 @@ def _gas_argument(text: str, normalise: bool) -> dict:
             x = float(value)
         except ValueError:
             raise InputError(f"'{value.strip()}' is not a number", field="--gas") from None
-        if x < 0.0 or x != x:
+        if x != x or x in (float("inf"), float("-inf")):
+            raise InputError(f"fraction of {name.strip()} is not a finite number", field="--gas")
+        if x < 0.0:
             raise InputError(f"fraction of {name.strip()} must not be negative", field="--gas")
         if canon in out:
             raise InputError(f"'{name.strip()}' is listed twice", field="--gas")

@@ -334,3 +334,20 @@ def test_integer_of_thousands_of_digits_is_bad_input(tmp_path, capsys):
     (line,) = refused(tmp_path, capsys, GOOD.replace("ethane: 0.048", "ethane: " + "9" * 5000),
                       verbs=("check",))
     assert ":4: gas.composition.ethane:" in line and "cannot read the value" in line
+
+
+def test_sweep_too_many_cases_refused_before_solving(capsys):
+    # a count of 1e8 ran for hours before
+    rc, out, err = run(capsys, "sweep", GATE, "--vary", "supply.T=0degC:20degC:100000000")
+    assert rc == 2 and "at most 100,000" in err
+    rc, out, err = run(capsys, "sweep", GATE, "--vary", "supply.T=0degC:20degC:1000",
+                       "--vary", "regulator.P_out=10barg:20barg:1000")
+    assert rc == 2 and "1,000,000 cases" in err and out == ""
+
+
+@pytest.mark.parametrize("gas, needle", [("methane=nan", "not a finite number"),
+                                         ("methane=inf", "not a finite number"),
+                                         ("methane=-1", "must not be negative")])
+def test_state_gas_fraction_named_for_what_it_is(capsys, gas, needle):
+    rc, out, err = run(capsys, "state", "--T", "10degC", "--P", "70barg", "--gas", gas)
+    assert rc == 2 and needle in err and err.count("\n") == 1

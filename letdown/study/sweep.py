@@ -29,6 +29,9 @@ from ..sheet.solve import FEED_FIELDS, solve_cases
 from ..sheet.spec import Flowsheet
 
 FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
+#: Most cases one sweep may ask for (a grid's product or a range's count): a million-case typo
+#: would otherwise run for hours before anything is written (our choice; a year is 8,760 hours).
+MAX_CASES = 100_000
 #: Cases per chunk when a progress bar is shown (each chunk is still one vectorised batch).
 PROGRESS_CHUNK = 500
 
@@ -114,6 +117,8 @@ def parse_variable(fs: Flowsheet, spec: str) -> Variable:
                              field=f"vary.{path}") from None
         if count < 1:
             raise InputError(f"range '{text}': the count must be at least 1", field=f"vary.{path}")
+        if count > MAX_CASES:
+            raise InputError(f"range '{text}': at most {MAX_CASES:,} values", field=f"vary.{path}")
         values = np.linspace(q(parts[0]), q(parts[1]), count)
     else:
         values = np.array([q(t) for t in text.split(",") if t.strip()])
@@ -124,6 +129,22 @@ def parse_variable(fs: Flowsheet, spec: str) -> Variable:
                          field=field)
     _check_values(fs, path, text, values, field)
     return Variable(path, kind, values)
+
+
+def case_count(variables, mode: str = "grid") -> int:
+    """Number of cases a sweep of ``variables`` makes (``grid``: the product; ``zip``: the length).
+
+    Raises
+    ------
+    InputError
+        More than :data:`MAX_CASES`.
+    """
+    sizes = [v.values.size for v in variables]
+    n = int(np.prod(sizes, dtype=float)) if mode == "grid" else max(sizes, default=0)
+    if n > MAX_CASES:
+        raise InputError(f"the sweep makes {n:,} cases; at most {MAX_CASES:,} (split it, or use "
+                         f"--zip to take the variables together)", field="vary")
+    return n
 
 
 def _feed_molar_mass(fs: Flowsheet, feed: str) -> float:
