@@ -41,7 +41,7 @@ import yaml
 from ..equipment.inject import MAX_DEPRESSION, options as inject_options
 from ..errors import InputError
 from ..fluid.inhibitor import inhibitor
-from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity, plausible
+from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
 from .spec import (BlockSpec, CaseSpec, FeedSpec, Flowsheet, GasSpec, GoalSpec, SolverSpec,
                    WaterSpec, Where)
 
