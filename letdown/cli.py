@@ -181,7 +181,10 @@ def main(argv=None) -> int:
         if args.verb == "size":
             return _size(args)
         return _state(args)
-    except (InputError, ModelError) as exc:
+    except ModelError as exc:
+        _error(_model_refusal(exc, args), where, debug)
+        return EXIT_BAD_INPUT
+    except InputError as exc:
         _error(exc, where, debug)
         return EXIT_BAD_INPUT
     except ConvergenceError as exc:
@@ -207,6 +210,18 @@ def main(argv=None) -> int:
         return EXIT_INTERNAL
 
 
+def _model_refusal(exc: ModelError, args) -> InputError:
+    """A model's refusal as bad input at the place the model was chosen: ``--model`` on the command
+    line, else the file's ``gas.model`` line (or its ``gas`` line when the model is the default)."""
+    if getattr(args, "model", None):
+        return InputError(str(exc), field="--model")
+    fs = getattr(args, "flowsheet", None)
+    if fs is None:
+        return InputError(str(exc))
+    where = fs.gas.model_where
+    return InputError(str(exc), file=where.file or fs.source, line=where.line, field="gas.model")
+
+
 def _error(exc, file, debug) -> None:
     if debug:
         traceback.print_exc()
@@ -216,6 +231,8 @@ def _error(exc, file, debug) -> None:
             text = f"{file}: {text}"
     elif file:
         text = f"{file}: {text}"
+    # one line, whatever the message quotes (a schema message may show a value over lines)
+    text = " ".join(part.strip() for part in text.splitlines() if part.strip())
     print(f"letdown: {text}", file=sys.stderr)
 
 
@@ -261,6 +278,7 @@ def _solve(args) -> int:
     target = _csv_target(args.csv) if args.csv else None
     sheet = letdown.load(args.file)
     spec = getattr(sheet, "flowsheet", None)
+    args.flowsheet = spec
     atmosphere = spec.extra.get("atmosphere") if spec is not None else None
     result = sheet.solve(model=args.model) if args.model else sheet.solve()
     if hasattr(result, "case") and not hasattr(result, "to_json"):
@@ -327,10 +345,12 @@ def _write_record(path: Path, result, args, atmosphere) -> None:
 def _sweep(args) -> int:
     from .report.sweep import sweep_files
     from .sheet.loader import load
-    from .study.sweep import parse_variable, sweep
+    from .study.sweep import case_count, parse_variable, sweep
 
     fs = load(args.file)
+    args.flowsheet = fs
     variables = [parse_variable(fs, v) for v in args.vary]
+    case_count(variables, "zip" if args.zip else "grid")
     outputs = [o.strip() for o in args.outputs.split(",")] if args.outputs else None
     target = _csv_target(args.out) if args.out else None
     if args.plot and target is None:
@@ -364,6 +384,7 @@ def _year(args) -> int:
     from .study.year import read_profile, year
 
     fs = load(args.file)
+    args.flowsheet = fs
     atm = fs.extra.get("atmosphere") if fs.extra else None
     profile = read_profile(args.profile, atmosphere=atm)
     target = _csv_target(args.out) if args.out else None
@@ -388,6 +409,7 @@ def _size(args) -> int:
     from .study.size import size
 
     fs = load(args.file)
+    args.flowsheet = fs
     res = size(fs, efficiency=args.efficiency, model=args.model)
     if args.json:
         print(json.dumps(res.to_dict(), indent=2, allow_nan=False))
@@ -406,6 +428,7 @@ def _crosscheck(args) -> int:
     from .study.crosscheck import crosscheck
 
     fs = load(args.file)
+    args.flowsheet = fs
     models = None
     if args.models:
         models = [canonical_model(m) for m in args.models.split(",") if m.strip()]
@@ -430,6 +453,7 @@ def _compare(args) -> int:
     if args.within and not args.fit:
         raise InputError("--within goes with --fit", field="--within")
     fs = load(args.file)
+    args.flowsheet = fs
     if args.data:
         fs = with_measurements(fs, read_csv(args.data, fs))
     fit, within = (None, None)
@@ -451,6 +475,10 @@ def _compare(args) -> int:
     failed = [m for m, c in cmp.results.items() if fit and c.fit is None]
     if failed and len(failed) == len(cmp.results):
         print(f"letdown: {args.file}: the fit failed with every model", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
+    return EXIT_OK
+
+
 def _plot_target(path: str) -> Path:
     """Check ``--plot FILE`` before solving: a .png or .svg in an existing directory, and
     matplotlib present."""
@@ -487,6 +515,7 @@ def _envelope(args) -> int:
                 raise InputError(f"'{part.strip()}' is not a number", field="--lines") from None
     sheet = letdown.load(args.file)
     spec = sheet.flowsheet
+    args.flowsheet = spec
     atmosphere = spec.extra.get("atmosphere") if spec is not None else None
     result = sheet.solve(model=args.model) if args.model else sheet.solve()
     if hasattr(result, "case") and not hasattr(result, "to_json"):
@@ -551,13 +580,14 @@ def _check(args) -> int:
     from .sheet.loader import load
 
     fs = load(args.file)
+    args.flowsheet = fs
     steps = solve_order(build_graph(fs))
     zs = dict(fs.gas.composition)
     try:
-        Fluid(zs, model=fs.gas.model, kij=fs.gas.kij)
-    except (InputError, ModelError) as exc:
-        raise InputError(str(exc.message if isinstance(exc, InputError) else exc),
-                         file=fs.source, field="gas") from exc
+        Fluid(zs, model=fs.gas.model, kij=fs.gas.kij)      # a ModelError names gas.model (main)
+    except InputError as exc:
+        raise InputError(exc.message, file=fs.source, line=fs.gas.model_where.line,
+                         field="gas") from None
     loops = [s for s in steps if s.is_loop]
     tears = "; ".join(", ".join(s.tears) for s in loops)
     print(f"{args.file}: ok -- {len(fs.feeds)} feed(s), {len(fs.blocks)} block(s), "
@@ -582,7 +612,9 @@ def _gas_argument(text: str, normalise: bool) -> dict:
             x = float(value)
         except ValueError:
             raise InputError(f"'{value.strip()}' is not a number", field="--gas") from None
-        if x < 0.0 or x != x:
+        if x != x or x in (float("inf"), float("-inf")):
+            raise InputError(f"fraction of {name.strip()} is not a finite number", field="--gas")
+        if x < 0.0:
             raise InputError(f"fraction of {name.strip()} must not be negative", field="--gas")
         if canon in out:
             raise InputError(f"'{name.strip()}' is listed twice", field="--gas")

@@ -34,7 +34,9 @@ flowsheet loader and the report) that knows about units. It keeps one shared pin
 Conversion factors are pint's (its definitions follow NIST SP 811, Thompson & Taylor 2008, e.g.
 1 psi = 6894.757 Pa, 1 lb = 0.45359237 kg exactly) except the units defined here.
 
-Unknown units raise :class:`letdown.errors.InputError` naming the unit.
+Unknown units raise :class:`letdown.errors.InputError` naming the unit. So do a number that is not
+finite (``nan``, ``inf``) and a magnitude outside :data:`PLAUSIBLE` (``1e30 degC``, ``2000 barg``):
+such a number is a slip of unit or digits, refused where it was written before any solver sees it.
 """
 from __future__ import annotations
 
@@ -174,6 +176,38 @@ _QUANTITY_RE = re.compile(rf"^\s*(?P<num>{_NUMBER})\s*(?P<unit>.*?)\s*$")
 _STDVOL_RE = re.compile(r"^(?P<vol>mmscf|mscf|scf|sm3|nm3)\s*(?:/\s*(?P<per>.+)|(?P<d>d))$",
                         re.IGNORECASE)
 
+#: Plausibility bounds of each quantity kind in SI, (low, high), both inclusive: a value outside is
+#: refused as a slip (of unit or digits) before any solver sees it. They are our own choice (common
+#: practice), far wider than any natural-gas let-down station or chilling train: temperatures from
+#: 50 K (below liquid nitrogen, 77 K at 1 atm) to 1500 K (above any fired-heater outlet); absolute
+#: pressures above 0 and up to 1000 bar; flows up to 1e6 mol/s (about 85 million Sm3/h, some ten
+#: times the largest pipeline) or 1e5 kg/s; duties and powers up to 10 GW; UA up to 10 GW/K;
+#: temperature differences up to 1000 K and pressure differences up to 1000 bar in size. Signs are
+#: the caller's to judge (a negative flow or dP gets its own message there). Fractions are checked by
+#: their callers ([0, 1] for a split, (0, 1] for an efficiency).
+PLAUSIBLE: dict[str, tuple[float, float]] = {
+    "temperature": (50.0, 1500.0),
+    "pressure": (0.0, 1e8),
+    "pressure_difference": (-1e8, 1e8),
+    "temperature_difference": (-1000.0, 1000.0),
+    "flow": (-1e6, 1e6),
+    "mass_flow": (-1e5, 1e5),
+    "power": (-1e10, 1e10),
+    "ua": (-1e10, 1e10),
+    "molar_enthalpy": (-1e7, 1e7),
+    "molar_entropy": (-1e5, 1e5),
+}
+#: How each bound is shown in a message.
+_PLAUSIBLE_TEXT = {
+    "temperature": "50-1500 K", "pressure": "0-1000 bar absolute",
+    "pressure_difference": "at most 1000 bar in size",
+    "temperature_difference": "at most 1000 K in size",
+    "flow": "at most 1e6 mol/s (about 85 million Sm3/h) in size",
+    "mass_flow": "at most 1e5 kg/s in size", "power": "at most 10 GW in size",
+    "ua": "at most 10 GW/K in size", "molar_enthalpy": "at most 1e7 J/mol in size",
+    "molar_entropy": "at most 1e5 J/(mol K) in size",
+}
+
 #: Kinds of quantity this module parses, with the pint dimensionality expected.
 KINDS = ("temperature", "temperature_difference", "pressure", "pressure_difference", "flow",
          "power", "fraction", "ua", "molar_enthalpy", "molar_entropy")
@@ -233,7 +267,10 @@ def _split(text, kind, field, file, line):
         raise _fail(f"expected a {kind.replace('_', ' ')} such as {_EXAMPLES[kind]}, got {text!r}",
                     field, file, line)
     if isinstance(text, (int, float)):
-        return float(text), ""
+        try:
+            return float(text), ""
+        except OverflowError:       # an integer past the float range (YAML reads 1 followed by
+            raise _fail(f"{text!r} is not a finite number", field, file, line) from None
     if not isinstance(text, str):
         raise _fail(f"expected a {kind.replace('_', ' ')} such as {_EXAMPLES[kind]}, got {text!r}",
                     field, file, line)
@@ -277,6 +314,46 @@ def _finite(value, text, field, file, line):
     return value
 
 
+def plausible(value, kind: str, text, *, field=None, file=None, line=None):
+    """Return ``value`` [SI] if it lies within :data:`PLAUSIBLE` for ``kind``, else raise.
+
+    Parameters
+    ----------
+    value : float or MassFlow
+        The value in SI (a :class:`MassFlow` is judged by its kg/s).
+    kind : str
+        A quantity kind of :data:`KINDS` (kinds without bounds, ``fraction``, pass as they are).
+    text : object
+        The value as written, for the message.
+    field, file, line : optional
+        Location, copied into the error.
+
+    Raises
+    ------
+    InputError
+        If the value is not finite or lies outside the bounds.
+
+    Examples
+    --------
+    >>> plausible(279.15, "temperature", "6 degC")
+    279.15
+    """
+    if isinstance(value, MassFlow):
+        number, kind = value.kg_s, "mass_flow"
+    else:
+        number = float(value)
+    _finite(number, text, field, file, line)
+    bounds = PLAUSIBLE.get(kind)
+    if bounds is not None and not bounds[0] <= number <= bounds[1]:
+        if kind == "pressure" and number <= 0.0:
+            raise _fail(f"pressure {text!r} is not above vacuum (absolute {number:g} Pa)",
+                        field, file, line)
+        name = "mass flow" if kind == "mass_flow" else kind.replace("_", " ")
+        raise _fail(f"{text!r} is outside the plausible range of a {name} "
+                    f"({_PLAUSIBLE_TEXT[kind]}); a slip of unit or digits?", field, file, line)
+    return value
+
+
 def parse_quantity(text, kind: str, *, atmosphere: float = STANDARD_ATMOSPHERE,
                    bare: str | None = None, field: str | None = None, file: str | None = None,
                    line: int | None = None):
@@ -309,7 +386,8 @@ def parse_quantity(text, kind: str, *, atmosphere: float = STANDARD_ATMOSPHERE,
     InputError
         If the unit is unknown or of the wrong kind, a plain number is given where a unit is
         required, or a gauge unit is used for a difference (``0.3 barg``) or ``degC`` for a
-        temperature difference.
+        temperature difference; if the number is not finite or the value lies outside
+        :data:`PLAUSIBLE` (``1e30 degC``).
 
     Examples
     --------
@@ -324,6 +402,11 @@ def parse_quantity(text, kind: str, *, atmosphere: float = STANDARD_ATMOSPHERE,
     """
     if kind not in KINDS:
         raise ValueError(f"unknown quantity kind {kind!r}")
+    value = _parse(text, kind, atmosphere, bare, field, file, line)
+    return plausible(value, kind, text, field=field, file=file, line=line)
+
+
+def _parse(text, kind, atmosphere, bare, field, file, line):
     value, unit = _split(text, kind, field, file, line)
     _finite(value, text, field, file, line)
     if not unit:

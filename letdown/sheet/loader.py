@@ -2,6 +2,9 @@
 
 Three passes, each raising :class:`letdown.errors.InputError` with ``file:line: field: message``:
 
+0. **Text** -- the file is UTF-8 (a byte that is not, or a UTF-16 file, is named with its line) and
+   holds no control characters (a NUL, an escape, a form feed: each named with its line and
+   column); YAML itself refuses them, but without a line.
 1. **YAML** -- parsed with PyYAML's node API so every mapping key keeps its line; broken YAML reports
    the line the parser gives; a key written twice in one mapping is an error (plain YAML loaders keep
    the last one silently).
@@ -13,15 +16,21 @@ Three passes, each raising :class:`letdown.errors.InputError` with ``file:line: 
    (:mod:`letdown.quantities`), flows and pressures are positive, each block has exactly one of its
    alternative specifications, goals name existing streams and block parameters, measurements
    name measurable quantities of existing streams and blocks (:mod:`letdown.sheet.measurements`).
+   Every number is finite and within the plausibility bounds of its kind
+   (:data:`letdown.quantities.PLAUSIBLE`), so ``1e30 degC`` or ``nan`` is refused where it was
+   written, before any solver sees it; the model covers the gas (GERG-2008 has no parameters for
+   some components), else the ``gas.model`` line is named.
 
 The graph checks (a stream produced twice, never produced, a feed nobody takes) follow in
 :func:`letdown.sheet.graph.build_graph`, which :func:`load` runs before returning.
 """
 from __future__ import annotations
 
+import codecs
 import difflib
 import json
 import math
+import re
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
@@ -81,6 +90,25 @@ STREAM_GOAL_ATTRIBUTES = {"T": "temperature", "P": "pressure", "vapour_fraction"
                           "flow": "flow"}
 BLOCK_GOAL_ATTRIBUTES = {"duty": "power", "power": "power", "min_approach": "temperature_difference"}
 
+#: An interaction parameter outside [-KIJ_MAX, KIJ_MAX] is refused [-]: published binary
+#: parameters of natural-gas pairs lie well inside +-0.5 (common practice), so a larger one is a slip.
+KIJ_MAX = 1.0
+
+#: The atmosphere of a station lies in this range [Pa]: from about the summit of Everest (34 kPa)
+#: to a little above sea-level standard (common practice).
+ATMOSPHERE_RANGE = (30e3, 120e3)
+
+#: Iteration caps above this are refused: a solve that needs more has another problem, and a cap of
+#: 1e9 would hang the command (our choice).
+MAX_ITERATIONS = 10_000
+#: A relative loop tolerance above this is no convergence test at all [-] (our choice).
+MAX_LOOP_TOLERANCE = 0.1
+
+#: A file nesting deeper than this, or building more values than :data:`MAX_NODES` (YAML aliases
+#: can multiply a small file a billion times), is refused (no flowsheet comes near either).
+MAX_DEPTH = 64
+MAX_NODES = 200_000
+
 KINDS = tuple(PARAMETERS)
 MODELS = ("peng-robinson", "peng-robinson-1978", "soave-redlich-kwong", "gerg-2008")
 
@@ -132,11 +160,85 @@ def _dotted(path) -> str | None:
     return out or None
 
 
+#: Characters a flowsheet may hold: those YAML 1.1 allows (tab, line breaks, printable Unicode),
+#: less NEL (U+0085) and the line and paragraph separators (U+2028, U+2029), which YAML reads as
+#: line breaks that no editor shows.
+_BAD_CHARACTER = re.compile("[^\t\n\r\x20-\x7e\xa0-\u2027\u202a-\ud7ff\ue000-\ufffd"
+                            "\U00010000-\U0010ffff]")
+
+
+def _line_column(text, pos):
+    """1-based line and column of character ``pos`` of ``text``."""
+    return text.count("\n", 0, pos) + 1, pos - (text.rfind("\n", 0, pos) + 1) + 1
+
+
+def _check_characters(text: str, file: str, what: str = "a flowsheet file") -> None:
+    """Refuse control characters (NUL, escape, form feed, ...) with their line and column."""
+    m = _BAD_CHARACTER.search(text)
+    if m is None:
+        return
+    line, column = _line_column(text, m.start())
+    code = ord(m.group())
+    kind = "a control character" if code < 0x20 or 0x7f <= code <= 0x9f else "a character"
+    raise InputError(f"{kind} U+{code:04X} at column {column} does not belong in {what} "
+                     f"(remove it; a stray byte from a copy or a transfer)", file=file, line=line)
+
+
+def decode(raw: bytes, file: str) -> str:
+    """The text of a flowsheet or CSV file: UTF-8 (with or without a byte-order mark).
+
+    Raises
+    ------
+    InputError
+        A UTF-16 or UTF-32 file (some editors save so), or a byte that is not UTF-8, with its line.
+    """
+    if raw.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE, codecs.BOM_UTF32_BE)):
+        raise InputError("the file is UTF-16 or UTF-32 text; save it as UTF-8", file=file, line=1)
+    try:
+        return raw.decode("utf-8-sig")
+    except UnicodeDecodeError as exc:
+        line = raw.count(b"\n", 0, exc.start) + 1
+        column = exc.start - (raw.rfind(b"\n", 0, exc.start) + 1) + 1
+        raise InputError(f"byte 0x{raw[exc.start]:02x} at column {column} is not UTF-8 text "
+                         f"(save the file as UTF-8)", file=file, line=line) from None
+
+
+def read_text(path, what: str = "a flowsheet file", field: str | None = None) -> str:
+    """The text of an input file (flowsheet, profile or measurement CSV): UTF-8, no control
+    characters.
+
+    Raises
+    ------
+    InputError
+        A missing or unreadable file, a byte that is not UTF-8 or a control character (with its
+        line).
+    """
+    name = str(path)
+    try:
+        raw = Path(path).read_bytes()
+    except FileNotFoundError:
+        raise InputError("no such file", file=name, field=field) from None
+    except OSError as exc:
+        raise InputError(f"cannot read the file: {exc.strerror or exc}", file=name,
+                         field=field) from None
+    text = decode(raw, name)
+    _check_characters(text, name, what)
+    return text
+
+
 def _read_yaml(text: str, file: str) -> _Doc:
+    _check_characters(text, file)
     loader = yaml.SafeLoader(text)
     try:
         try:
             node = loader.get_single_node()
+        except RecursionError:
+            raise InputError(f"the file nests deeper than a flowsheet can ({MAX_DEPTH} levels)",
+                             file=file) from None
+        except yaml.reader.ReaderError as exc:    # a character YAML refuses (after our check)
+            line, column = _line_column(text, exc.position)
+            raise InputError(f"broken YAML: {exc.reason} at column {column}", file=file,
+                             line=line) from None
         except yaml.MarkedYAMLError as exc:
             mark = exc.problem_mark or exc.context_mark
             line = mark.line + 1 if mark is not None else None
@@ -151,8 +253,15 @@ def _read_yaml(text: str, file: str) -> _Doc:
             raise InputError("the file is empty", file=file, line=1)
         key_lines: dict = {}
         value_lines: dict = {}
+        count = [0]
 
         def build(n, path):
+            count[0] += 1
+            if len(path) > MAX_DEPTH or count[0] > MAX_NODES:
+                raise InputError(f"the file nests deeper ({MAX_DEPTH} levels) or holds more values "
+                                 f"({MAX_NODES:,}) than a flowsheet can (aliases repeating "
+                                 f"themselves?)", file=file, line=n.start_mark.line + 1,
+                                 field=_dotted(path))
             value_lines[path] = n.start_mark.line + 1
             if isinstance(n, yaml.MappingNode):
                 loader.flatten_mapping(n)
@@ -180,6 +289,9 @@ def _read_yaml(text: str, file: str) -> _Doc:
                 return loader.construct_object(n, deep=True)
             except yaml.YAMLError as exc:
                 raise InputError(f"broken YAML value: {exc}", file=file,
+                                 line=n.start_mark.line + 1, field=_dotted(path)) from None
+            except (ValueError, OverflowError):     # an integer of thousands of digits, ...
+                raise InputError(f"cannot read the value {n.value[:40]!r}...", file=file,
                                  line=n.start_mark.line + 1, field=_dotted(path)) from None
 
         data = build(node, ())
@@ -274,8 +386,17 @@ def _composition(doc: _Doc, comp: dict, path, normalise: bool, allowed=None) -> 
             raise doc.err(f"component '{name}' is not listed under gas.composition (list it there, "
                           f"a zero fraction is fine)", path + (name,))
         first[canon] = name
-        out[canon] = float(frac)
+        x = _number(doc, frac, path + (name,), "a mole fraction")
+        if x < 0.0:
+            raise doc.err(f"a mole fraction must not be negative, got {frac!r}", path + (name,),
+                          key=False)
+        if x > 1.0 and not normalise:
+            raise doc.err(f"a mole fraction lies in [0, 1], got {frac!r} (for percentages set "
+                          f"gas.normalise: true)", path + (name,), key=False)
+        out[canon] = x
     total = math.fsum(out.values())
+    if not math.isfinite(total):
+        raise doc.err("the mole fractions are too large to add up", path)
     if total <= 0.0:
         raise doc.err("the mole fractions are all zero", path)
     if abs(total - 1.0) > SUM_TOLERANCE:
@@ -286,6 +407,19 @@ def _composition(doc: _Doc, comp: dict, path, normalise: bool, allowed=None) -> 
     if allowed is not None:
         out = {k: out.get(k, 0.0) for k in allowed}
     return out
+
+
+def _number(doc: _Doc, raw, path, what: str) -> float:
+    """A plain finite number of the file (the schema has seen it is a number)."""
+    try:
+        x = float(raw)
+    except (OverflowError, TypeError, ValueError):
+        x = float("nan")
+    if isinstance(raw, bool) or not math.isfinite(x):
+        raise doc.err(f"{what} must be a finite number, got {raw!r}"
+                      if isinstance(raw, bool) else f"{raw!r} is not a finite number",
+                      path, key=False)
+    return x
 
 
 def _molar_mass(composition: dict) -> float:
@@ -313,7 +447,11 @@ def _kij(doc: _Doc, raw, components) -> object:
             pair = tuple(sorted((ca, cb)))
             if pair in out:
                 raise doc.err(f"the pair {pair[0]}/{pair[1]} is given twice", path)
-            out[pair] = float(value)
+            kij = _number(doc, value, path, "an interaction parameter")
+            if abs(kij) > KIJ_MAX:
+                raise doc.err(f"an interaction parameter lies in [-{KIJ_MAX:g}, {KIJ_MAX:g}], got "
+                              f"{value!r}", path, key=False)
+            out[pair] = kij
     return out
 
 
@@ -476,21 +614,41 @@ def _inject_options(doc, name, raw, params, field_where, path):
 
 
 def _check_parameter(doc, kind, key, value, text, path):
+    problem = parameter_problem(kind, key, value, text)
+    if problem is not None:
+        raise doc.err(problem, path, key=False)
+
+
+def parameter_problem(kind: str, key: str, value: float, text) -> str | None:
+    """What is wrong with a block parameter's value (None if nothing), for every place that sets
+    one: the file, its cases and a sweep.
+
+    Parameters
+    ----------
+    kind : str
+        The block kind.
+    key : str
+        The parameter (``dP``, ``duty``, ``efficiency``, ...).
+    value : float
+        Its value in SI (already within :data:`letdown.quantities.PLAUSIBLE`).
+    text : object
+        The value as written, for the message.
+    """
     if kind == "inject" and key == "depression" and value > MAX_DEPRESSION:
-        raise doc.err(f"a hydrate depression of {text!r} is outside the inhibitor rules (at most "
-                      f"{MAX_DEPRESSION:g} K here; Hammerschmidt holds to about 20 K)", path,
-                      key=False)
+        return (f"a hydrate depression of {text!r} is outside the inhibitor rules (at most "
+                f"{MAX_DEPRESSION:g} K here; Hammerschmidt holds to about 20 K)")
     if key in ("dP", "hot_dP", "cold_dP", "duty", "fuel", "UA", "min_approach", "rate",
                "depression") and value < 0.0:
         extra = ""
         if key == "duty" and kind in ("heater", "cooler"):
             extra = f" (a {kind} duty is the heat {'added' if kind == 'heater' else 'removed'}; "\
                     f"use a {'cooler' if kind == 'heater' else 'heater'} for the other way)"
-        raise doc.err(f"{key} must not be negative, got {text!r}{extra}", path, key=False)
+        return f"{key} must not be negative, got {text!r}{extra}"
     if key in ("UA", "min_approach") and value == 0.0:
-        raise doc.err(f"{key} must be positive, got {text!r}", path, key=False)
+        return f"{key} must be positive, got {text!r}"
     if key == "efficiency" and not 0.0 < value <= 1.0:
-        raise doc.err(f"efficiency must lie in (0, 1], got {text!r}", path, key=False)
+        return f"efficiency must lie in (0, 1], got {text!r}"
+    return None
 
 
 def _fractions(doc: _Doc, q: _Quantities, raw: dict, path) -> dict:
@@ -561,6 +719,11 @@ def _goals(doc: _Doc, q: _Quantities, blocks: dict, feeds: dict) -> tuple:
         if isinstance(target, MassFlow):
             raise doc.err("hold a flow as a molar or standard-volume flow, not a mass flow",
                           path + ("at",), key=False)
+        if attr == "vapour_fraction" and not 0.0 <= target <= 1.0:
+            raise doc.err(f"a vapour fraction lies in [0, 1], got {g['at']!r}", path + ("at",),
+                          key=False)
+        if attr in ("P", "flow") and not target > 0.0:
+            raise doc.err(f"{attr} must be positive, got {g['at']!r}", path + ("at",), key=False)
         bname, param = _split_ref(g["by"])
         if bname not in blocks:
             raise doc.err(f"unknown block '{bname}'{_nearest(bname, blocks)}", path + ("by",),
@@ -588,6 +751,32 @@ def _goals(doc: _Doc, q: _Quantities, blocks: dict, feeds: dict) -> tuple:
     return tuple(goals)
 
 
+def _model_covers(doc: _Doc, gas: GasSpec, path) -> None:
+    """Refuse a model that has no parameters for a component of the gas, at the model's line."""
+    if gas.model != "gerg-2008":
+        return
+    from ..fluid.gerg import GERG_NAMES
+    missing = [c for c in gas.composition if c not in GERG_NAMES]
+    if missing:
+        raise doc.err(f"GERG-2008 has no parameters for {', '.join(missing)}; use a cubic model "
+                      f"(peng-robinson, soave-redlich-kwong) for this gas", path, key=False)
+
+
+def _solver(doc: _Doc, raw: dict) -> SolverSpec:
+    """The ``solver`` section, its numbers finite and its caps ones a solve can reach."""
+    for key in ("loop_max_iterations", "goal_max_iterations"):
+        if key in raw and raw[key] > MAX_ITERATIONS:
+            raise doc.err(f"{key} takes at most {MAX_ITERATIONS:,}, got {raw[key]!r}",
+                          ("solver", key), key=False)
+    for key in ("loop_tolerance", "goal_tolerance"):
+        if key in raw:
+            _number(doc, raw[key], ("solver", key), key)
+    if raw.get("loop_tolerance", 0.0) > MAX_LOOP_TOLERANCE:
+        raise doc.err(f"a relative loop tolerance above {MAX_LOOP_TOLERANCE:g} tests nothing, got "
+                      f"{raw['loop_tolerance']!r}", ("solver", "loop_tolerance"), key=False)
+    return SolverSpec(**raw)
+
+
 def _limits(doc: _Doc, q: _Quantities) -> dict:
     raw = doc.data.get("limits") or {}
     out = {}
@@ -596,6 +785,9 @@ def _limits(doc: _Doc, q: _Quantities) -> dict:
     if "hydrate_margin" in raw:
         out["hydrate_margin"] = q(raw["hydrate_margin"], "temperature_difference",
                                   ("limits", "hydrate_margin"))
+        if out["hydrate_margin"] < 0.0:
+            raise doc.err(f"a hydrate margin must not be negative, got {raw['hydrate_margin']!r}",
+                          ("limits", "hydrate_margin"), key=False)
     return out
 
 
@@ -762,23 +954,29 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
             raise doc.err("the atmosphere must be an absolute pressure", ("atmosphere",),
                           key=False)
         atmosphere = _Quantities(doc, STANDARD_ATMOSPHERE)(raw_atm, "pressure", ("atmosphere",))
+        lo, hi = ATMOSPHERE_RANGE
+        if not lo <= atmosphere <= hi:
+            raise doc.err(f"an atmosphere lies in {lo / 1e3:g}-{hi / 1e3:g} kPa, got {raw_atm!r}",
+                          ("atmosphere",), key=False)
     q = _Quantities(doc, atmosphere)
 
     gas_raw = data["gas"]
     normalise = bool(gas_raw.get("normalise", False))
     composition = _composition(doc, gas_raw["composition"], ("gas", "composition"), normalise)
+    model_path = ("gas", "model") if "model" in gas_raw else ("gas",)
     gas = GasSpec(model=gas_raw.get("model", "peng-robinson"), composition=composition,
                   kij=_kij(doc, gas_raw.get("kij"), composition),
                   water=_water(doc, q, gas_raw.get("water"), composition),
                   water_method=gas_raw.get("water_method", "bukacek"),
-                  model_given="model" in gas_raw)
+                  model_given="model" in gas_raw,
+                  model_where=_where(doc, model_path))
+    _model_covers(doc, gas, model_path)
     feeds = _feeds(doc, q, gas, normalise)
     goal_params = _goal_targets(doc)
     blocks = _blocks(doc, q, goal_params)
     goals = _goals(doc, q, blocks, feeds)
     guesses = _feeds(doc, q, gas, normalise, section="guesses")
-    solver_raw = data.get("solver") or {}
-    solver = SolverSpec(**solver_raw)
+    solver = _solver(doc, data.get("solver") or {})
     title = data.get("title") or Path(source).stem
     streams = set(feeds)
     for b in blocks.values():
@@ -811,11 +1009,4 @@ def load(path) -> Flowsheet:
     InputError
         If the file cannot be read or is not a valid flowsheet (see :func:`loads`).
     """
-    name = str(path)
-    try:
-        text = Path(path).read_text(encoding="utf-8")
-    except FileNotFoundError:
-        raise InputError("no such file", file=name) from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the file: {exc}", file=name) from None
-    return loads(text, source=name)
+    return loads(read_text(path), source=str(path))

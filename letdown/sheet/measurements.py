@@ -33,7 +33,6 @@ import io
 import math
 import re
 from dataclasses import replace
-from pathlib import Path
 
 from ..errors import InputError
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
@@ -185,13 +184,9 @@ def read_csv(path, fs: Flowsheet) -> tuple:
     InputError
         An unreadable file, a missing or unknown column, or a bad entry (file, line, field).
     """
+    from .loader import read_text
     name = str(path)
-    try:
-        text = Path(path).read_text(encoding="utf-8-sig")
-    except FileNotFoundError:
-        raise InputError("no such file", file=name, field="--data") from None
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read the file: {exc}", file=name, field="--data") from None
+    text = read_text(path, "a measurement file", field="--data")
     reader = csv.reader(io.StringIO(text))
     try:
         header = next(reader)

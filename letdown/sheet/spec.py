@@ -34,6 +34,9 @@ class GasSpec:
     kij : Mapping[tuple[str, str], float] | str | None
         Interaction-parameter overrides (pairs of canonical names), ``"zero"``, or None for the
         library table.
+    model_where : Where
+        Where the model was chosen: the ``gas.model`` key, or the ``gas`` key when the file leaves
+        the model to the default (a model's refusal is reported there).
     """
 
     model: str
@@ -42,6 +45,7 @@ class GasSpec:
     water: "WaterSpec | None" = None
     water_method: str = "bukacek"
     model_given: bool = True
+    model_where: Where = Where()
 
 
 @dataclass(frozen=True)

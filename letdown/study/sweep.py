@@ -24,11 +24,14 @@ import numpy as np
 
 from ..errors import InputError
 from ..fluid.components import canonical_name
-from ..quantities import SI_UNITS, parse_quantity
+from ..quantities import SI_UNITS, MassFlow, parse_quantity
 from ..sheet.solve import FEED_FIELDS, solve_cases
 from ..sheet.spec import Flowsheet
 
 FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
+#: Most cases one sweep may ask for (a grid's product or a range's count): a million-case typo
+#: would otherwise run for hours before anything is written (our choice; a year is 8,760 hours).
+MAX_CASES = 100_000
 #: Cases per chunk when a progress bar is shown (each chunk is still one vectorised batch).
 PROGRESS_CHUNK = 500
 
@@ -95,9 +98,13 @@ def parse_variable(fs: Flowsheet, spec: str) -> Variable:
     kind = variable_kind(fs, path)
     atm = fs.extra.get("atmosphere") if fs.extra else None
     kw = {"atmosphere": atm} if atm else {}
+    field = f"vary.{path}"
 
     def q(t):
-        return float(parse_quantity(t.strip(), kind, field=f"vary.{path}", **kw))
+        value = parse_quantity(t.strip(), kind, field=field, **kw)
+        if isinstance(value, MassFlow):
+            value = value.to_molar(_feed_molar_mass(fs, path.partition(".")[0]))
+        return float(value)
 
     if ":" in text and "," not in text:
         parts = text.split(":")
@@ -110,15 +117,61 @@ def parse_variable(fs: Flowsheet, spec: str) -> Variable:
                              field=f"vary.{path}") from None
         if count < 1:
             raise InputError(f"range '{text}': the count must be at least 1", field=f"vary.{path}")
+        if count > MAX_CASES:
+            raise InputError(f"range '{text}': at most {MAX_CASES:,} values", field=f"vary.{path}")
         values = np.linspace(q(parts[0]), q(parts[1]), count)
     else:
         values = np.array([q(t) for t in text.split(",") if t.strip()])
     if values.size == 0:
         raise InputError(f"no values for '{path}'", field=f"vary.{path}")
-    if kind == "fraction" and (np.any(values < 0) or np.any(values >= 1)):
+    if path.startswith("blend.") and (np.any(values < 0) or np.any(values >= 1)):
         raise InputError(f"blend fractions must lie in [0, 1) (got {values.min()}..{values.max()})",
-                         field=f"vary.{path}")
+                         field=field)
+    _check_values(fs, path, text, values, field)
     return Variable(path, kind, values)
+
+
+def case_count(variables, mode: str = "grid") -> int:
+    """Number of cases a sweep of ``variables`` makes (``grid``: the product; ``zip``: the length).
+
+    Raises
+    ------
+    InputError
+        More than :data:`MAX_CASES`.
+    """
+    sizes = [v.values.size for v in variables]
+    n = int(np.prod(sizes, dtype=float)) if mode == "grid" else max(sizes, default=0)
+    if n > MAX_CASES:
+        raise InputError(f"the sweep makes {n:,} cases; at most {MAX_CASES:,} (split it, or use "
+                         f"--zip to take the variables together)", field="vary")
+    return n
+
+
+def _feed_molar_mass(fs: Flowsheet, feed: str) -> float:
+    """Molar mass of a feed's gas [kg/mol] (a swept mass flow becomes a molar flow with it)."""
+    from ..fluid.components import COMPONENTS
+    comp = fs.feeds[feed].composition or fs.gas.composition
+    return sum(x * COMPONENTS[c].M for c, x in comp.items())
+
+
+def _check_values(fs: Flowsheet, path: str, text: str, values, field: str) -> None:
+    """The checks the loader makes on the same field of a file, on every swept value."""
+    from ..sheet.loader import parameter_problem
+    name, _, attr = path.partition(".")
+    if name in fs.feeds and attr in ("P", "flow") and np.any(values <= 0.0):
+        raise InputError(f"{attr} must be positive, got {text!r}", field=field)
+    if name in fs.blocks:
+        kind = fs.blocks[name].kind
+        for v in values:
+            problem = parameter_problem(kind, attr, float(v), text)
+            if problem is not None:
+                raise InputError(problem, field=field)
+    if name.startswith("goal") and name[4:].isdigit():
+        held = fs.goals[int(name[4:]) - 1].hold.partition(".")[2]
+        if held == "vapour_fraction" and np.any((values < 0.0) | (values > 1.0)):
+            raise InputError(f"a vapour fraction lies in [0, 1], got {text!r}", field=field)
+        if held in ("P", "flow") and np.any(values <= 0.0):
+            raise InputError(f"{held} must be positive, got {text!r}", field=field)
 
 
 def variable_kind(fs: Flowsheet, path: str) -> str:

@@ -49,53 +49,71 @@ class Profile:
 def read_profile(path, atmosphere=None) -> Profile:
     """Read a profile CSV (see the module docstring).
 
+    Every value is checked before any solve: finite, within the plausibility bounds of its kind
+    (:data:`letdown.quantities.PLAUSIBLE`), and a flow above zero.
+
     Raises
     ------
     InputError
-        A missing file or column, an unknown column or unit, a value that is not a number (file,
-        line and column named).
+        A missing or unreadable file (not UTF-8, a control character), a missing or unknown column
+        or unit, a row with the wrong number of columns or none, a value that is not a number or not
+        plausible, a flow that is zero or negative (file, line and column named).
     """
+    from ..sheet.loader import read_text
+    file = str(path)
+    lines = read_text(path, "a profile", field="--profile").splitlines()
     try:
-        with open(path, newline="", encoding="utf-8") as fh:
-            rows = list(csv.reader(fh))
-    except OSError as exc:
-        raise InputError(f"cannot read the profile: {exc.strerror}", file=str(path)) from None
+        rows = list(csv.reader(lines))
+    except csv.Error as exc:
+        raise InputError(f"broken CSV: {exc}", file=file) from None
     if len(rows) < 2:
-        raise InputError("the profile has no data rows", file=str(path), line=1)
+        raise InputError("the profile has no data rows", file=file, line=1)
     header = [h.strip() for h in rows[0]]
     if not header or header[0] != "time":
-        raise InputError("the first column must be 'time'", file=str(path), line=1, field="time")
+        raise InputError("the first column must be 'time'", file=file, line=1, field="time")
     cols = {}
     for j, h in enumerate(header[1:], start=1):
         name, _, unit = h.partition("[")
         name, unit = name.strip(), unit.rstrip("]").strip()
         if name not in COLUMNS:
             raise InputError(f"unknown profile column '{name}' (known: {', '.join(COLUMNS)})",
-                             file=str(path), line=1, field=name)
+                             file=file, line=1, field=name)
+        if name in cols:
+            raise InputError(f"column '{name}' is given twice", file=file, line=1, field=name)
         if not unit:
             raise InputError(f"column '{name}' needs a unit in brackets, e.g. '{name} [degC]'",
-                             file=str(path), line=1, field=name)
+                             file=file, line=1, field=name)
         cols[name] = (j, unit)
     if "flow" not in cols or "P_in" not in cols or not ({"T_in", "ground_T"} & set(cols)):
         raise InputError("the profile needs flow, P_in and T_in (or ground_T) columns",
-                         file=str(path), line=1)
+                         file=file, line=1)
+    data = rows[1:]
+    for i, row in enumerate(data):
+        if not row or not "".join(row).strip():
+            raise InputError("an empty row (remove it)", file=file, line=i + 2)
+        if len(row) != len(header):
+            raise InputError(f"the row has {len(row)} columns, the header {len(header)} columns",
+                             file=file, line=i + 2)
     kw = {"atmosphere": atmosphere} if atmosphere else {}
     values = {}
     for name, (j, unit) in cols.items():
-        out = np.empty(len(rows) - 1)
-        for i, row in enumerate(rows[1:]):
-            text = row[j].strip() if j < len(row) else ""
+        out = np.empty(len(data))
+        for i, row in enumerate(data):
+            text = row[j].strip()
             try:
-                v = parse_quantity(f"{text} {unit}", COLUMNS[name], field=name, file=str(path),
+                v = parse_quantity(f"{text} {unit}", COLUMNS[name], field=name, file=file,
                                    line=i + 2, **kw)
             except InputError as exc:
-                raise exc.located(file=str(path), line=i + 2, field=name) from None
-            out[i] = float(v) if not hasattr(v, "kg_s") else np.nan
+                raise exc.located(file=file, line=i + 2, field=name) from None
             if hasattr(v, "kg_s"):
                 raise InputError("mass flows are not supported in profiles; give a molar or "
-                                 "standard-volume flow", file=str(path), line=i + 2, field=name)
+                                 "standard-volume flow", file=file, line=i + 2, field=name)
+            if name == "flow" and not v > 0.0:
+                raise InputError(f"a flow must be positive, got {text!r} (an hour without flow "
+                                 f"is left out of the profile)", file=file, line=i + 2, field=name)
+            out[i] = float(v)
         values[name] = out
-    return Profile(tuple(r[0] for r in rows[1:]), values, str(path))
+    return Profile(tuple(r[0] for r in data), values, file)
 
 
 def _solve_chunk(task):

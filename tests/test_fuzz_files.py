@@ -1,0 +1,67 @@
+"""A small fixed-seed slice of ``bench/fuzz_files.py`` (the full run is a benchmark, not a test).
+
+Mutated shipped flowsheets (lines deleted, duplicated, swapped; numbers to 0, -1, 1e30, nan, text or
+scaled; wrong units; renamed keys, kinds and streams; truncation; control bytes; invalid UTF-8) run
+through ``solve --json`` and ``check`` in-process. Issue 10's target: no exit 3, no traceback, every
+refusal one line, and no exit-0 result with a NaN, a non-positive absolute temperature or pressure,
+a negative flow or an open balance.
+"""
+import importlib.util
+from pathlib import Path
+
+import pytest
+
+ROOT = Path(__file__).resolve().parents[1]
+
+#: Seed and size of the slice: fixed, a few seconds.
+SEED = 20261202
+PER_FILE = 12
+
+
+def _fuzz():
+    spec = importlib.util.spec_from_file_location("fuzz_files", ROOT / "bench" / "fuzz_files.py")
+    module = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(module)
+    return module
+
+
+@pytest.mark.parametrize("name", ["gate-station.yaml", "two-stage-letdown.yaml",
+                                  "propane-chiller.yaml"])
+def test_mutated_flowsheets_are_refused_or_right(tmp_path, name):
+    fuzz = _fuzz()
+    records = fuzz.fuzz_file((str(ROOT / "flowsheets" / name), PER_FILE, SEED, 0, PER_FILE,
+                              str(tmp_path)))
+    assert len(records) == 2 * PER_FILE
+    failures = [(r["k"], r["what"], r["verb"], r["problems"]) for r in records if r["problems"]]
+    assert failures == []
+    codes = {r["rc"] for r in records}
+    assert codes <= {0, 1, 2}
+
+
+def test_mutations_are_reproducible_and_varied():
+    fuzz = _fuzz()
+    path = ROOT / "flowsheets" / "gate-station.yaml"
+    a = fuzz.mutants(path, 200, SEED)
+    assert a == fuzz.mutants(path, 200, SEED)              # fixed seed, same mutants
+    assert a != fuzz.mutants(path, 200, SEED + 1)
+    kinds = {what.split(" ")[0] for _, _, what in a}
+    for word in ("delete", "duplicate", "swap", "truncate", "number", "unit", "kind", "key",
+                 "reference", "control", "bytes", "indent"):
+        assert word in kinds, word
+    assert any(isinstance(c, bytes) for _, c, _ in a)
+
+
+def test_the_judge_catches_what_it_looks_for():
+    fuzz = _fuzz()
+    good = ('{"converged": true, "streams": {"a": {"T_K": 280.0, "P_Pa": 1e6, "flow_mol_s": 1.0, '
+            '"vapour_fraction": 1.0}}, "equipment": {"b": {"mole_balance_closure": 0.0, '
+            '"energy_balance_closure": 1e-9}}}')
+    assert fuzz.judge_json(good) == []
+    assert fuzz.judge_json(good.replace("280.0", "NaN"))
+    assert fuzz.judge_json(good.replace("280.0", "-5.0"))
+    assert fuzz.judge_json(good.replace('"flow_mol_s": 1.0', '"flow_mol_s": -1.0'))
+    assert fuzz.judge_json(good.replace("1e-9", "0.5"))
+    assert fuzz.judge_json(good.replace("true", "false"))
+    assert fuzz.judge(("solve",), 3, "", "letdown: internal error: KeyError", None)
+    assert fuzz.judge(("check",), 2, "", "letdown: a\nb\n", None)
+    assert fuzz.judge(("check",), 2, "", "letdown: x.yaml:3: gas: bad\n", None) == []
