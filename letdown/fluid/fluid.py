@@ -377,9 +377,6 @@ class Fluid:
     def _saturation(self, kind, P, T, zs):
         if (P is None) == (T is None):
             raise InputError(f"{kind} point needs exactly one of P or T")
-        if self.model == "gerg-2008":
-            raise ModelError("GERG-2008 is used for single-phase states only here; use a cubic "
-                             "model (peng-robinson, soave-redlich-kwong) for dew and bubble points")
         x = P if T is None else T
         scalar = np.ndim(x) == 0 and (zs is None or np.ndim(zs) == 1)
         xa = np.atleast_1d(np.asarray(x, dtype=float))
