@@ -56,7 +56,8 @@ class Fluid:
         {component: mole fraction}. Names may be aliases (C1, nC4, CO2, MeOH, ...).
     model : str
         ``peng-robinson`` (1976), ``peng-robinson-1978``, ``soave-redlich-kwong`` or ``gerg-2008``
-        (optional extra ``letdown[gerg]``; single-phase states only).
+        (optional extra ``letdown[gerg]``; single-phase states of mixtures, both phases of pure
+        fluids).
     kij : None, "zero" or dict
         Interaction parameters: None uses the library table (Peng-Robinson values, also used for
         SRK -- see the README); "zero" switches them off; a dict {(a, b): k} overrides pairs.
@@ -228,7 +229,7 @@ class Fluid:
         ConvergenceError
             A scalar flash did not converge (a batch marks such cases ``converged=False``).
         ModelError
-            The model cannot represent the state (GERG-2008 asked for two phases).
+            The model cannot represent the state (GERG-2008 asked for two phases of a mixture).
         """
         given = {k: v for k, v in (("T", T), ("P", P), ("h", h), ("s", s)) if v is not None}
         if len(given) != 2:
