@@ -212,3 +212,18 @@ def test_propane_loop_on_gerg_is_right():
     pr = solve(fs)
     assert r.equipment["chiller"]["duty_W"] == pytest.approx(pr.equipment["chiller"]["duty_W"],
                                                              rel=0.1)
+
+
+PSAT_CASES = [("propane", "Propane", 300.0), ("methane", "Methane", 150.0),
+              ("carbon-dioxide", "CO2", 280.0), ("ethane", "Ethane", 250.0)]
+
+
+@pytest.mark.parametrize("name, cp_name, T", PSAT_CASES, ids=[c[0] for c in PSAT_CASES])
+def test_pure_saturation_pressure_against_reference_equation(name, cp_name, T):
+    """Vapour pressure from GERG-2008 itself vs the reference equation (CoolProp) within 0.2 %
+    (measured when written: at most 0.08 %), and consistent with the saturation temperature."""
+    from CoolProp.CoolProp import PropsSI
+    gas = letdown.Fluid({name: 1.0}, model="gerg-2008")
+    P = gas.dew_point(T=T)
+    assert P == pytest.approx(PropsSI("P", "T", T, "Q", 1.0, cp_name), rel=2e-3)
+    assert gas.bubble_point(P=P) == pytest.approx(T, abs=1e-6)

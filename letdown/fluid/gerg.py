@@ -96,6 +96,8 @@ TPD_MAX_ITER = 150
 TPD_TOL = 1e-9
 TPD_TRIVIAL = 1e-5
 TPD_UNSTABLE = -1e-7
+#: Smallest trial-phase fraction kept (keeps ln w finite) [-].
+TPD_W_MIN = 1e-300
 #: Water-rich trial phase (mole fraction of water in it) for gases with water.
 TPD_WATER_TRIAL = 0.999
 #: Phase identification parameter above which a single phase is named liquid
@@ -395,8 +397,12 @@ class GergEngine:
                 tm = float(np.sum(w * (np.log(w) + rw[on] - d)))
                 if tm < TPD_UNSTABLE:
                     return True
-                W = np.exp(lnW)
-                wn = W / W.sum()
+                if not np.all(np.isfinite(lnW)):
+                    break
+                lnW = lnW - lnW.max()                     # scale: only w = W / sum W is used
+                wn = np.exp(lnW)
+                wn = np.maximum(wn / wn.sum(), TPD_W_MIN)
+                wn = wn / wn.sum()
                 if np.sum((np.log(wn) - np.log(zc)) ** 2) < TPD_TRIVIAL:
                     break
                 if np.max(np.abs(np.log(wn) - np.log(w))) < TPD_TOL:
@@ -595,5 +601,56 @@ class GergEngine:
         return out
 
     def saturation_P(self, T, zs, kind):
-        raise ModelError("GERG-2008: saturation pressure at a given temperature is not "
-                         "provided; use a cubic model (peng-robinson, soave-redlich-kwong)")
+        """Saturation pressure of a pure fluid at T from the model itself (equal Gibbs energies of
+        the two roots; Newton on ln P with d(g_V - g_L)/d ln P = P (v_V - v_L)); NaN at or above
+        the critical temperature. Mixtures are refused."""
+        pure, ip = fl._pure_index(zs)
+        if not pure.all():
+            raise ModelError("GERG-2008 is used here for single-phase states of mixtures only; "
+                             "use a cubic model (peng-robinson, soave-redlich-kwong) for dew and "
+                             "bubble points")
+        out = np.full(T.shape[0], np.nan)
+        for k in range(T.shape[0]):
+            self._set(zs[k])
+            out[k] = self._saturation_P_solve(T[k], ip[k])
+        return out
+
+    def _saturation_P_solve(self, T, ip):
+        if T >= 1.05 * self.comps.Tcs[ip]:
+            return np.nan
+        P0 = fl.pure_saturation_P(self._guard, np.array([min(T, 0.999 * self.comps.Tcs[ip])]),
+                                  np.array([ip]))[0][0]
+        if not np.isfinite(P0):
+            P0 = 0.9 * self.comps.Pcs[ip]
+        lo, hi = np.log(1e-3), np.log(1.2 * self.comps.Pcs[ip])
+        x = np.log(P0)
+        for _ in range(SAT_MAX_ITER):
+            P = np.exp(x)
+            gv, gl = self._roots(T, P)
+            two = (gv is not None and gl is not None and gl.d > gv.d * (1.0 + SAME_ROOT_REL))
+            if not two:
+                one = gv if gl is None else gl
+                if one is None:
+                    return np.nan
+                # one root only: a liquid lies above the saturation pressure, a gas below
+                if one.is_liquid:
+                    hi = x
+                else:
+                    lo = x
+                xn = 0.5 * (lo + hi)
+            else:
+                F = gv.g - gl.g                   # > 0: the liquid is stable, P is above Psat
+                if F > 0:
+                    hi = x
+                else:
+                    lo = x
+                dF = P * (1.0 / gv.d - 1.0 / gl.d) / 1000.0       # [J/mol] per unit ln P
+                xn = x - F / dF if dF > 0 else 0.5 * (lo + hi)
+                if not (lo < xn < hi):
+                    xn = 0.5 * (lo + hi)
+                if abs(xn - x) < 1e-12 and abs(F) < 1e-9 * R_GERG * T:
+                    return P
+            if hi - lo < 1e-13:
+                break
+            x = xn
+        return np.nan

@@ -50,6 +50,9 @@ NEAR_PURE_GRID = np.concatenate([np.linspace(-3.0, 3.0, 121), np.linspace(-0.05,
 #: Outward steps where no single-phase candidate lies beyond a two-phase one [K] / [-] in ln P.
 STEP_T = 2.0
 STEP_LNP = 0.1
+#: Upper ends of those steps [K] / [Pa] (the lower ends: the temperature floor, 1 kPa).
+STEP_T_MAX = 1500.0
+STEP_P_MAX = 1e9
 MAX_STEPS = 40
 #: Bisection: iterations and relative bracket at which it stops [-].
 BISECT_MAX = 80
@@ -223,18 +226,31 @@ def boundary(fluid, engine, fixed, zs, kind, axis, branch="upper"):
     step = STEP_T if axis == "T" else STEP_LNP
     sign = 1.0 if upper else -1.0
     probe = inside.copy()
+    if axis == "T":
+        lo_lim = np.maximum(T_FLOOR_ABS, T_FLOOR_TPC * (zs @ engine.comps.Tcs))
+        hi_lim = np.full(n, STEP_T_MAX)
+    else:
+        lo_lim = np.full(n, GRID_P[0] / 10.0)
+        hi_lim = np.full(n, STEP_P_MAX)
     for _ in range(MAX_STEPS):
         if not need.any():
             break
         i = np.nonzero(need)[0]
         if axis == "T":
-            probe[i] = probe[i] + sign * step
+            probe[i] = np.clip(probe[i] + sign * step, lo_lim[i], hi_lim[i])
             u = _unstable(engine, probe[i], fixed[i], zs[i])
         else:
-            probe[i] = probe[i] * np.exp(sign * step)
+            probe[i] = np.clip(probe[i] * np.exp(sign * step), lo_lim[i], hi_lim[i])
             u = _unstable(engine, fixed[i], probe[i], zs[i])
         inside[i] = np.where(u, probe[i], inside[i])
         outside[i] = np.where(u, np.nan, probe[i])
+        at_limit = (probe[i] <= lo_lim[i]) | (probe[i] >= hi_lim[i])
+        if np.any(u & at_limit):
+            k = int(i[np.nonzero(u & at_limit)[0][0]])
+            raise ConvergenceError(
+                f"{kind} point at {fixed[k]:.6g}: two phases persist to the end of the search "
+                f"range ({probe[k]:.6g} {'K' if axis == 'T' else 'Pa'}); there is no {kind} "
+                f"point within it")
         need[i] = u
         step *= 1.5
     if need.any():
