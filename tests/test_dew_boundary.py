@@ -144,3 +144,15 @@ def test_gerg_mixture_dew_point_is_refused_pure_is_answered():
     with pytest.raises(ModelError, match="use a cubic model"):
         letdown.Fluid(GASES["wet-co2"], model="gerg-2008").dew_point(P=30e5)
     assert 200 < letdown.Fluid({"propane": 1.0}, model="gerg-2008").dew_point(P=5e5) < 300
+
+
+def test_wet_gas_has_no_bubble_point_above_the_floor():
+    """An invented wet lean gas at 25 bar: water stays liquid (two phases) down to the search floor
+    (0.45 of the mole-averaged critical temperature, 88.7 K here), so there is no bubble point to
+    give; the solve says so (it stepped down to 6.4 K before the floor was applied)."""
+    gas = letdown.Fluid({"methane": 0.94198, "ethane": 0.01249, "propane": 0.01542,
+                         "n-butane": 0.00351, "nitrogen": 0.01423, "carbon-dioxide": 0.00965,
+                         "water": 0.00272})
+    with pytest.raises(ConvergenceError, match="no bubble point"):
+        gas.bubble_point(P=25e5)
+    assert 273.0 < gas.dew_point(P=25e5) < 330.0      # the water dew point
