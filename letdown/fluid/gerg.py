@@ -190,7 +190,7 @@ class GergEngine:
             return None
         return _Root(g)
 
-    def _liquid_root(self, T, P, z):
+    def _liquid_root(self, T, P, z, check=True):
         """The densest mechanically stable root at (T, P): Newton on P(rho) from above.
 
         The reference code's liquid search (flag 2) fails on cold liquids (pure propane at 250 K,
@@ -229,7 +229,7 @@ class GergEngine:
             return None
         if not (g.dp_dd > 0.0 and abs(g.z * d * RT - Pk) <= 1e-9 * Pk and np.isfinite(g.g)):
             return None
-        return self._physical(_Root(g), T, P)
+        return self._physical(_Root(g), T, P) if check else _Root(g)
 
     def _physical(self, r, T, P):
         """False for a spurious root: at low temperatures the equation's P(rho) oscillates wildly
@@ -253,9 +253,11 @@ class GergEngine:
             return None
         return r
 
-    def _gas_root(self, T, P):
+    def _gas_root(self, T, P, check=True):
         for flag in GAS_FLAGS:
-            r = self._physical(self._eval(T, P, flag), T, P)
+            r = self._eval(T, P, flag)
+            if check:
+                r = self._physical(r, T, P)
             if r is not None:
                 return r
         return None
@@ -327,12 +329,16 @@ class GergEngine:
         return None
 
     # ----------------------------------------------------------------- mixture stability
-    def _g_rest(self, x, T, P, flag):
+    def _g_rest(self, x, T, P, flag, d_ref=None):
         """Gibbs energy less the ideal mixing term R T sum x ln x [J/mol], on the root that
-        ``flag`` finds (None where it finds none)."""
+        ``flag`` finds (None where it finds none). With ``d_ref`` (a neighbour of a root already
+        checked, in the composition differences) the root must lie within 1 % of that density
+        instead of passing the spurious-root filter again."""
         self._set(x)
-        r = self._gas_root(T, P) if flag != LIQUID_FLAG else self._liquid_root(T, P, x)
-        if r is None:
+        check = d_ref is None
+        r = (self._gas_root(T, P, check) if flag != LIQUID_FLAG
+             else self._liquid_root(T, P, x, check))
+        if r is None or (d_ref is not None and abs(r.d - d_ref) > 0.01 * d_ref):
             return None
         with np.errstate(divide="ignore", invalid="ignore"):
             mix = np.sum(np.where(x > 0, x * np.log(np.where(x > 0, x, 1.0)), 0.0))
@@ -346,7 +352,8 @@ class GergEngine:
         if a is None and b is None:
             return None
         flag = LIQUID_FLAG if (a is None or (b is not None and b.g < a.g)) else GAS_FLAGS[0]
-        g0 = self._g_rest(x, T, P, flag)
+        d0 = (b if flag == LIQUID_FLAG else a).d
+        g0 = self._g_rest(x, T, P, flag, d0)
         if g0 is None:
             return None
         nc = x.size
@@ -355,11 +362,11 @@ class GergEngine:
         for i in range(nc):
             xp = x * (1.0 / (1.0 + e))
             xp[i] += e / (1.0 + e)
-            gp = self._g_rest(xp, T, P, flag)
+            gp = self._g_rest(xp, T, P, flag, d0)
             if x[i] > 2.0 * e:
                 xm = x * (1.0 / (1.0 - e))
                 xm[i] -= e / (1.0 - e)
-                gm = self._g_rest(xm, T, P, flag)
+                gm = self._g_rest(xm, T, P, flag, d0)
                 if gp is None or gm is None:
                     return None
                 D[i] = (gp - gm) / (2.0 * e)
