@@ -7,7 +7,7 @@ from importlib import resources
 
 import numpy as np
 
-from ..errors import ConvergenceError, InputError, ModelError
+from ..errors import ConvergenceError, InputError, LetdownError, ModelError
 from .components import ComponentSet, canonical_name
 from .cubic import KINDS, CubicEOS
 from .cubic_fluid import CubicEngine
@@ -56,7 +56,8 @@ class Fluid:
         {component: mole fraction}. Names may be aliases (C1, nC4, CO2, MeOH, ...).
     model : str
         ``peng-robinson`` (1976), ``peng-robinson-1978``, ``soave-redlich-kwong`` or ``gerg-2008``
-        (optional extra ``letdown[gerg]``; single-phase states only).
+        (optional extra ``letdown[gerg]``; single-phase states of mixtures, both phases of pure
+        fluids).
     kij : None, "zero" or dict
         Interaction parameters: None uses the library table (Peng-Robinson values, also used for
         SRK -- see the README); "zero" switches them off; a dict {(a, b): k} overrides pairs.
@@ -228,7 +229,7 @@ class Fluid:
         ConvergenceError
             A scalar flash did not converge (a batch marks such cases ``converged=False``).
         ModelError
-            The model cannot represent the state (GERG-2008 asked for two phases).
+            The model cannot represent the state (GERG-2008 asked for two phases of a mixture).
         """
         given = {k: v for k, v in (("T", T), ("P", P), ("h", h), ("s", s)) if v is not None}
         if len(given) != 2:
@@ -325,17 +326,35 @@ class Fluid:
         from .quality import quality
         return quality(self.components, self._zs if zs is None else zs, combustion_T, metering_T)
 
-    def dew_point(self, P=None, T=None, zs=None):
-        """Dew point: temperature [K] at pressure P (the highest T at which liquid exists), or
-        pressure [Pa] at temperature T (the lowest P at which liquid exists). NaN where the gas
-        never forms a liquid. Array inputs give arrays."""
-        return self._saturation("dew", P, T, zs)
+    def dew_point(self, P=None, T=None, zs=None, branch="upper"):
+        """Dew point: temperature [K] at pressure P, or pressure [Pa] at temperature T.
+
+        At P: the upper dew point by default -- the highest temperature at which liquid exists
+        (the one a sales-gas specification means); ``branch="lower"`` gives the lower
+        (retrograde) dew point, which exists between the critical pressure and the cricondenbar
+        (NaN elsewhere); ``branch="both"`` gives the pair (upper, lower). At T: the lowest
+        pressure at which liquid exists. NaN where no liquid forms on that line (above the
+        cricondenbar, say). Mixtures on the cubic models are solved as verified boundaries (see
+        :mod:`letdown.fluid.saturation`); a pure fluid's dew and bubble points are its saturation
+        point (GERG-2008 answers pure fluids only). Array inputs give arrays.
+
+        Raises
+        ------
+        ConvergenceError
+            A boundary that could not be confirmed by flashes either side.
+        ModelError
+            A mixture on GERG-2008 (no phase equilibrium of mixtures on it here).
+        """
+        if branch == "both":
+            return (self._saturation("dew", P, T, zs, "upper"),
+                    self._saturation("dew", P, T, zs, "lower"))
+        return self._saturation("dew", P, T, zs, branch)
 
     def bubble_point(self, P=None, T=None, zs=None):
         """Bubble point: temperature [K] at P (the lowest T at which vapour exists), or pressure
         [Pa] at T (the highest P at which vapour exists; above the critical temperature this is the
         upper, retrograde dew point)."""
-        return self._saturation("bubble", P, T, zs)
+        return self._saturation("bubble", P, T, zs, "upper")
 
     def envelope(self, zs=None, betas=()):
         """Phase envelope: dew and bubble curves traced through the critical point.
@@ -374,26 +393,63 @@ class Fluid:
         _check_composition(Z[None, :], self.n_components)
         return phase_envelope(self._engine, Z, betas)
 
-    def _saturation(self, kind, P, T, zs):
+    def _saturation(self, kind, P, T, zs, branch="upper"):
         if (P is None) == (T is None):
             raise InputError(f"{kind} point needs exactly one of P or T")
-        if self.model == "gerg-2008":
-            raise ModelError("GERG-2008 is used for single-phase states only here; use a cubic "
-                             "model (peng-robinson, soave-redlich-kwong) for dew and bubble points")
+        if branch not in ("upper", "lower"):
+            raise InputError(f"branch must be 'upper', 'lower' or 'both' (got {branch!r})")
+        if branch == "lower" and T is not None:
+            raise InputError("the lower dew point is asked for at a pressure (P=...)")
         x = P if T is None else T
         scalar = np.ndim(x) == 0 and (zs is None or np.ndim(zs) == 1)
         xa = np.atleast_1d(np.asarray(x, dtype=float))
+        if np.any(~np.isfinite(xa)) or np.any(xa <= 0):
+            raise InputError(f"{kind} point needs a positive, finite "
+                             f"{'pressure' if T is None else 'temperature'}")
         Z = self._zs if zs is None else np.asarray(zs, dtype=float)
         n = max(xa.shape[0], Z.shape[0] if Z.ndim == 2 else 1)
         xa = np.broadcast_to(xa, (n,)).copy()
         Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
         _check_composition(Zb, self.n_components)
-        if T is None:
-            out = self._engine.saturation_T(xa, Zb, kind)
-        else:
-            out = self._engine.saturation_P(xa, Zb, kind)
+        axis = "T" if T is None else "P"
+        pure = np.count_nonzero(Zb > 0.0, axis=1) == 1
+        out = np.full(n, np.nan)
+        if pure.any():
+            i = np.nonzero(pure)[0]
+            if axis == "T":
+                out[i] = self._engine.saturation_T(xa[i], Zb[i], kind)
+            else:
+                out[i] = self._engine.saturation_P(xa[i], Zb[i], kind)
+            if branch == "lower":
+                out[i] = np.nan          # a pure fluid has one saturation point
+        if (~pure).any():
+            if self.model == "gerg-2008":
+                raise ModelError("GERG-2008 is used here for the phase equilibrium of pure "
+                                 "fluids and single-phase states of mixtures only; use a cubic "
+                                 "model (peng-robinson, soave-redlich-kwong) for dew and bubble "
+                                 "points")
+            from .saturation import boundary
+            i = np.nonzero(~pure)[0]
+            out[i] = boundary(self, self._engine, xa[i], Zb[i], kind, axis, branch)
         return float(out[0]) if scalar else out
 
+    def _envelope_cached(self, z):
+        """Phase envelope of composition z (cached per composition; may raise LetdownError)."""
+        cache = self.__dict__.setdefault("_env_cache", {})
+        key = np.asarray(z, dtype=float).tobytes()
+        if key not in cache:
+            if len(cache) > 64:
+                cache.clear()
+            from .envelope import phase_envelope
+            try:
+                cache[key] = phase_envelope(self._engine, np.asarray(z, dtype=float))
+            except (ValueError, ArithmeticError, FloatingPointError) as exc:
+                # the trace failing is not an answer; the caller falls back to its grid
+                cache[key] = exc if isinstance(exc, LetdownError) else ConvergenceError(str(exc))
+        got = cache[key]
+        if isinstance(got, Exception):
+            raise got
+        return got
 
     # ----------------------------------------------------------------- water and hydrates
     def hydrate_T(self, P, water_activity=1.0, zs=None):

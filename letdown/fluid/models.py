@@ -65,8 +65,9 @@ MODELS = {
     "gerg-2008": ModelInfo(
         "gerg-2008",
         "Multi-parameter reference equation for natural gases (Kunz & Wagner 2012, ISO 20765-2), "
-        "21 components including hydrogen; used for single-phase states only here (a state that "
-        "would split is refused).",
+        "21 components including hydrogen; the density root of lowest Gibbs energy; pure fluids in "
+        "both phases (saturation from the model itself); mixtures in one phase only (a state that "
+        "would split, by a stability test on GERG-2008 or Peng-Robinson, is refused).",
         (90.0, 450.0), 35e6, {}, False),
 }
 
