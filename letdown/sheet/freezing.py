@@ -404,8 +404,20 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
     n = next(iter(streams.values())).n_cases
     if "water" in fluid.components:
         iw = fluid.components.index("water")
+        water = lambda s: np.asarray(streams[s].zs, float)[:, iw] * np.asarray(streams[s].flow,
+                                                                              float)
+        free, split = {}, {}
+        for block, spec in fs.blocks.items():
+            if spec.kind != "separator" or "water" not in spec.outlets:
+                continue
+            wat = spec.outlets["water"]
+            free[wat] = water(wat)
+            split[block] = {"water_in_mol_s": water(spec.inlets["in"]),
+                            "water_in_vapour_mol_s": water(spec.outlets["vapour"]),
+                            "water_in_liquid_mol_s": water(spec.outlets["liquid"]),
+                            "free_water_mol_s": free[wat]}
         return WaterCarry({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
-                           for name, s in streams.items()}, {}, {}, [], iw)
+                           for name, s in streams.items()}, free, split, [], iw)
     r, notes = _feed_ratios(fs, fluid, streams)
     free: dict = {}
     split: dict = {}
@@ -437,26 +449,58 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
 PROTECTED_T_TIE = 1e-6
 
 
+def gas_carrying(fs, streams, name) -> np.ndarray:
+    """Cases in which stream ``name`` carries gas [bool (n,)]: it flows, has a vapour (vapour
+    fraction above 0; a single dense phase named vapour-like counts), and is not a separator's
+    ``water`` or ``liquid`` outlet (free water, or a hydrocarbon liquid that left its gas in the
+    drum). Only such streams are protected points of an inhibitor dose and get hydrate warnings."""
+    s = streams[name]
+    out = (np.asarray(s.flow, float) > 0.0) & (np.nan_to_num(np.asarray(s.vapour_fraction,
+                                                                         float)) > 0.0)
+    for spec in fs.blocks.values():
+        if spec.kind == "separator" and name in (spec.outlets.get("water"),
+                                                 spec.outlets.get("liquid")):
+            return np.zeros(out.shape, bool)
+    return out
+
+
 def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:
-    """The coldest flowing stream downstream of an ``inject`` block, per case (the point its dose
-    must protect; :class:`letdown.equipment.inject.ProtectedPoint`). Of streams equally cold (to
-    :data:`PROTECTED_T_TIE` K; a separator's inlet and its outlets), the one carrying the most
-    water per dry gas: the drum's inlet with all the free water, not its saturated vapour."""
+    """The coldest gas-carrying stream downstream of an ``inject`` block, per case (the point its
+    dose must protect; :class:`letdown.equipment.inject.ProtectedPoint`). Only streams that carry
+    gas count (:func:`gas_carrying`): never a separator's water outlet (free water only: sized
+    there, a dose per mole of gas became a dose per mole of water, 1e8 kg/h and more) nor its
+    hydrocarbon-liquid outlet. Of streams equally cold (to :data:`PROTECTED_T_TIE` K; a
+    separator's inlet and its vapour), the one carrying the most water per dry gas: the drum's
+    inlet with all the free water, not its saturated vapour. Cases with no gas-carrying stream
+    downstream get a NaN point (nothing to protect; the dose refuses them)."""
     names = [s for s in downstream_streams(fs, block) if s in streams]
-    T = np.stack([np.where(np.asarray(streams[s].flow, float) > 0.0,
-                           np.asarray(streams[s].T, float), np.inf) for s in names])
+    carries = np.stack([gas_carrying(fs, streams, s) for s in names])
+    T = np.stack([np.where(carries[k], np.asarray(streams[s].T, float), np.inf)
+                  for k, s in enumerate(names)])
     n = T.shape[1]
     W = np.stack([np.broadcast_to(np.asarray(water[s], float), (n,)) for s in names])
     coldest = T <= T.min(axis=0) + PROTECTED_T_TIE
-    k = np.argmax(np.where(coldest, np.nan_to_num(W, nan=-1.0), -np.inf), axis=0)
+    k = np.argmax(np.where(coldest & carries, np.nan_to_num(W, nan=-1.0), -np.inf), axis=0)
     rows = np.arange(n)
-    pick = lambda get: np.stack([np.asarray(get(streams[s]), float) for s in names])[k, rows]
+    none = ~carries.any(axis=0)
+    pick = lambda get: np.where(none, np.nan, np.stack([np.asarray(get(streams[s]), float)
+                                                        for s in names])[k, rows])
     zs = np.stack([np.asarray(streams[s].zs, float) for s in names])[k, rows]
-    w = W[k, rows]
+    w = np.where(none, np.nan, W[k, rows])
     inlet = fs.blocks[block].inlets["in"]
-    return ProtectedPoint(fluid, np.array([names[i] for i in k], dtype=object),
+    return ProtectedPoint(fluid, np.array(["" if none[i] else names[j] for i, j in enumerate(k)],
+                                          dtype=object),
                           pick(lambda st: st.T), pick(lambda st: st.P), zs, w,
-                          np.asarray(streams[inlet].flow, float))
+                          dry_flow(fluid, streams[inlet]))
+
+
+def dry_flow(fluid, stream) -> np.ndarray:
+    """Molar flow of a stream's dry gas [mol/s]: its flow, less its water where water is a
+    component of the gas (the basis of every ratio per dry gas)."""
+    F = np.asarray(stream.flow, float)
+    if "water" in fluid.components:
+        return F * (1.0 - np.asarray(stream.zs, float)[:, fluid.components.index("water")])
+    return F
 
 
 def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium):
@@ -479,9 +523,9 @@ def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilib
     wat = spec.outlets.get("water")
     zero = np.zeros((n, k))
     r_in = np.broadcast_to(np.asarray(r.get(inlet, zero), float), (n, k))
-    F = np.asarray(streams[inlet].flow, float)[:, None]
-    FV = np.asarray(streams[vap].flow, float)[:, None]
-    FL = np.asarray(streams[liq].flow, float)[:, None]
+    F = dry_flow(fluid, streams[inlet])[:, None]
+    FV = dry_flow(fluid, streams[vap])[:, None]
+    FL = dry_flow(fluid, streams[liq])[:, None]
     to_V, to_L, to_W = zero.copy(), zero.copy(), zero.copy()
     rows = np.flatnonzero((r_in.sum(axis=1) > 0.0) & (F[:, 0] > 0.0))
     if rows.size and equilibrium:
@@ -491,7 +535,9 @@ def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilib
                       np.asarray(water.ratios[inlet], float)[rows], r_in[rows])
         to_V[rows], to_L[rows], to_W[rows] = p.vapour, p.hc_liquid, p.aqueous
     elif rows.size:
-        drops = np.asarray(water.separators[block]["free_water_mol_s"], float) > 0.0
+        split = water.separators.get(block)
+        drops = (np.asarray(split["free_water_mol_s"], float) > 0.0 if split is not None
+                 else np.zeros(n, bool))
         to_W[rows] = np.where(drops[rows, None], r_in[rows], 0.0)
         to_V[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FV[rows] / F[rows])
         to_L[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FL[rows] / F[rows])
@@ -505,6 +551,52 @@ def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilib
         r[liq] = per(to_L, FL)
         r[wat] = zero.copy()
         free[wat] = to_W * F
+
+
+#: An inhibitor dose above this fraction of the mass of the gas it is injected into is refused as
+#: not a hydrate-inhibitor dose [kg/kg]. Methanol doses at let-down stations and chilling trains
+#: are of the order of a kilogram per thousand standard cubic metres (about 0.1 % of the gas
+#: mass; from memory), aqueous need plus vapour losses; 2 % is our own bound, well above any
+#: design seen, far below the 1e8 kg/h that a dose sized on a water-only stream gave (issue 10).
+MAX_DOSE_TO_GAS = 0.02
+
+
+def _check_dose(block, d, inlet, water_kg_s, why=None) -> list:
+    """Refuse the cases of a dose that failed or is absurd against the gas and water it treats:
+    their rate becomes NaN (so no number is printed as if converged) and a hazard record
+    ``inhibitor_dose`` names them (the sheet marks those cases not converged). Returns the
+    records (empty when the dose is sound)."""
+    rate = np.asarray(d["rate_kg_s"], float)
+    gas_kg_s = np.asarray(inlet.mass_flow, float)
+    no_point = np.asarray([not s for s in d["protected_stream"]], bool)
+    absurd = np.isfinite(rate) & (rate > MAX_DOSE_TO_GAS * gas_kg_s)
+    failed = ~np.isfinite(rate) & ~no_point if why is None else np.ones(rate.shape, bool)
+    out = []
+    for mask, text in (
+            (failed, why or "the dose is not a number (the inhibitor split at the protected "
+                            "point failed)"),
+            (no_point & ~failed & ~np.isfinite(rate), "no stream downstream carries gas to protect (only free water or "
+                                 "hydrocarbon liquid): a dose sized by depression has no point to "
+                                 "hold at"),
+            (absurd, "the dose found, {r:.4g} kg/h, is more than {lim:g} % of the "
+                     "{g:.4g} kg/h of gas it is injected into (water carried {w:.4g} kg/h): not "
+                     "a hydrate-inhibitor dose; check the water and the protected point")):
+        if not mask.any():
+            continue
+        i = int(np.flatnonzero(mask)[0])
+        out.append(WarningRecord(block, "inhibitor dose refused: " + text.format(
+            r=rate[i] * 3600.0, lim=100 * MAX_DOSE_TO_GAS, g=gas_kg_s[i] * 3600.0,
+            w=water_kg_s[i] * 3600.0), tuple(np.flatnonzero(mask).tolist()),
+            kind="inhibitor_dose", severity="hazard",
+            numbers={"rate_kg_s": rate.copy(), "gas_mass_flow_kg_s": gas_kg_s,
+                     "water_kg_s": np.asarray(water_kg_s, float),
+                     "max_dose_to_gas": MAX_DOSE_TO_GAS}))
+    bad = failed | absurd | (no_point & ~np.isfinite(rate))
+    if bad.any():
+        for key in ("rate_kg_s", "wt_pct", "aqueous_kg_s", "vapour_kg_s", "hc_liquid_kg_s",
+                    "depression_K", "depression_nielsen_bucklin_K", "depression_hydrate_model_K"):
+            d[key] = np.where(bad, np.nan, np.asarray(d[key], float))
+    return out
 
 
 def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=None
@@ -548,7 +640,6 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
 
     free = {} if free is None else free
     warned: set = set()
-    beside = fluid is not None and "water" not in fluid.components
 
     # the loss treatment of the sheet (as stream_freezing decides it): equilibrium if any inject
     # block asks for it (an invalid value is refused, with its place, by the block's dose below)
@@ -558,23 +649,33 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
 
     def through(block):
         spec = fs.blocks[block]
-        if spec.kind == "separator" and beside:
+        if spec.kind == "separator" and fluid is not None:
             _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium)
             return
         if spec.kind != "inject":
             _mix(fs, block, streams, r, n, k)
             return
         inlet = spec.inlets["in"]
-        flow = np.asarray(streams[inlet].flow, float)
+        flow = dry_flow(fluid, streams[inlet])
         if block not in doses:
             try:
                 given = (params or {}).get(block, spec.params)
                 point = protected_point(fs, fluid, streams, water.ratios, block)
-                doses[block] = dose(block, given, flow * water.ratios[inlet] * M_WATER, point)
+                water_kg_s = water.flow(inlet, streams[inlet]) * M_WATER
+                try:
+                    doses[block] = dose(block, given, water_kg_s, point)
+                    why = None
+                except ConvergenceError as exc:
+                    # refused below in every case: no number comes out of a failed search
+                    doses[block] = dose(block, given, water_kg_s, ProtectedPoint(
+                        fluid, point.stream, np.full(n, np.nan), point.P, point.zs,
+                        point.water_ratio, point.flow))
+                    why = f"the dose search did not converge ({exc.message})"
             except InputError as exc:
                 w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
                 raise exc.located(file=(w.file if w else None) or fs.source,
                                   line=w.line if w else spec.where.line) from None
+            notes.extend(_check_dose(block, doses[block], streams[inlet], water_kg_s, why))
         d = doses[block]
         if block not in warned and d["losses"] == "equilibrium":
             warned.add(block)
@@ -589,7 +690,8 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
                                            kind="inhibitor_hc_loss", severity="check"))
         j = INHIBITOR_NAMES.index(d["inhibitor"])
         added = np.zeros((n, k))
-        added[:, j] = np.where(flow > 0.0, d["rate_kg_s"] / (INHIBITORS[d["inhibitor"]].M * 1e-3)
+        added[:, j] = np.where(flow > 0.0, np.nan_to_num(d["rate_kg_s"])
+                               / (INHIBITORS[d["inhibitor"]].M * 1e-3)
                                / np.where(flow > 0.0, flow, 1.0), 0.0)
         r[spec.outlets["out"]] = np.asarray(r.get(inlet, np.zeros((n, k))), float) + added
 
@@ -789,7 +891,7 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
                                 wt[sl].copy() if dosed else None,
                                 aw[sl].copy() if dosed else None,
                                 carried.flow(s, streams[s]),
-                                (inh[s] * np.asarray(streams[s].flow, float)[:, None]
+                                (inh[s] * dry_flow(fluid, streams[s])[:, None]
                                  + free_inh.get(s, 0.0)) if dosed else None)
     if doses is not None:
         for b, split in carried.separators.items():
