@@ -90,3 +90,147 @@ def test_both_water_routes_give_the_same_dose_with_losses():
         d = r.equipment["dose"]
         assert r.streams["water-out"].freezing["inhibitor_flow_kg_s"] == pytest.approx(
             d["inhibitor_aqueous_kg_s"], rel=5e-2)
+
+
+def test_an_absurd_dose_is_refused_and_the_case_marked_failed(monkeypatch):
+    # the guard itself: with the bound set below the (sound) dose, the dose must be refused, not
+    # printed: rate NaN (null in JSON), a hazard record, the case not converged
+    import letdown.sheet.freezing as freezing
+    monkeypatch.setattr(freezing, "MAX_DOSE_TO_GAS", 1e-9)
+    res = dosed_sheet("beside", "none").solve()
+    assert res.converged is False
+    assert res.equipment["dose"]["inhibitor_rate_kg_s"] is None
+    refused = [w for w in res.warnings if w["kind"] == "inhibitor_dose"]
+    assert len(refused) == 1 and refused[0]["severity"] == "hazard"
+    assert refused[0]["numbers"]["gas_mass_flow_kg_s"] == pytest.approx(
+        res.streams["supply"].mass_flow, rel=1e-12)
+
+
+UNGUARDED = """\
+title: regulator without preheat, no limits and no water given (fictional)
+gas:
+  model: peng-robinson
+  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
+feeds:
+  supply: {T: 6 degC, P: 70 barg, flow: 85000 Sm3/h}
+equipment:
+  regulator: {kind: throttle, from: supply, to: network, P_out: 10 barg}
+"""
+
+
+def test_checks_are_on_without_limits_or_gas_water():
+    # regression (issue 10, Why 2): no limits and no gas.water gave no hydrate or ice warning
+    res = Sheet(loads(UNGUARDED, source="unguarded.yaml")).solve()
+    fz = res.streams["network"].freezing
+    assert fz["hydrate_margin_K"] < -15.0              # deep inside the hydrate region
+    assert fz["water_dew_margin_K"] < 0.0              # below its water dew point: free water
+    hydrate = [w for w in res.warnings if w["where"] == "network" and w["kind"] == "hydrate"]
+    assert len(hydrate) == 1 and hydrate[0]["severity"] == "hazard"
+    assert hydrate[0]["numbers"]["wanted_margin_K"] == 3.0
+    # the default margin and the water assumption are stated in the JSON
+    basis = res.freezing_basis
+    assert basis["hydrate_margin_K"] == 3.0
+    assert "common practice" in basis["hydrate_margin_source"]
+    assert "saturated" in basis["water"]
+
+
+# -- limits.min_T is the material's limit; ice from free water --------------------------------
+DISTRICT = """\
+title: district main off a small regulator, cold-rated steel (fictional)
+gas:
+  model: peng-robinson
+  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
+%s
+feeds:
+  supply: {T: 2 degC, P: 30 barg, flow: 5000 Sm3/h}
+equipment:
+  regulator: {kind: throttle, from: supply, to: main, P_out: 4 barg}
+limits:
+  min_T: -20 degC
+%s
+"""
+
+
+def _district(water="", extra=""):
+    return Sheet(loads(DISTRICT % (water, extra), source="district.yaml")).solve()
+
+
+def _kinds(res, where):
+    return {w["kind"]: w for w in res.warnings if w["where"] == where}
+
+
+def test_min_T_below_zero_does_not_switch_the_ice_check_off():
+    # regression (issue 10, Why 3): min_T -20 degC silenced the ice check of a main below 0 degC
+    # wet gas (saturated at 20 degC upstream) reaching the station at 2 degC: free water
+    res = _district("  water: {saturated: {T: 20 degC, P: 30 barg}}")
+    main = res.streams["main"]
+    assert main.T < 273.15 and main.freezing["water_dew_margin_K"] < 0.0
+    ice = _kinds(res, "main")["ice"]
+    assert ice["severity"] == "hazard"
+    assert main.freezing["ice_T_K"] == 273.15          # no inhibitor: pure water's ice point
+    assert main.freezing["ice_margin_K"] == pytest.approx(main.T - 273.15, abs=1e-12)
+    assert "min_T" not in _kinds(res, "main")         # the steel is fine
+
+
+def test_no_ice_where_no_free_water_can_form():
+    res = _district("  water: 20 mg/Sm3")             # dry gas: water dew point far below
+    main = res.streams["main"]
+    assert main.T < 273.15 and main.freezing["water_dew_margin_K"] > 0.0
+    assert "ice" not in _kinds(res, "main")
+    assert main.freezing["ice_margin_K"] is None and main.freezing["ice_T_K"] is None
+
+
+def test_the_inhibitor_lowers_the_freezing_point():
+    res = dosed_sheet("beside", "equilibrium").solve()
+    cold = res.streams["cold"].freezing
+    # about 20 wt % methanol in the free water at -7.5 degC: it freezes near -13 degC (the ideal
+    # solution; Melinder 2010 measures -15 degC), so no ice
+    assert res.streams["cold"].T < 273.15
+    assert cold["ice_T_K"] < res.streams["cold"].T - 3.0
+    assert all(w["kind"] != "ice" for w in res.warnings)
+
+
+def test_outlet_rule_for_the_pipe_downstream():
+    rule = "  outlet_min_T: 0 degC"
+    res = _district("  water: 20 mg/Sm3", rule)
+    w = _kinds(res, "main")["outlet_min_T"]
+    assert w["severity"] == "hazard" and w["numbers"]["outlet_min_T_K"] == 273.15
+    assert res.streams["main"].freezing["outlet_min_T_margin_K"] == pytest.approx(
+        res.streams["main"].T - 273.15, abs=1e-12)
+    # the feed is not an outlet
+    assert res.streams["supply"].freezing["outlet_min_T_margin_K"] is None
+    named = _district("  water: 20 mg/Sm3", "  outlet_min_T: {T: 0 degC, streams: [supply]}")
+    assert "outlet_min_T" not in _kinds(named, "main")
+
+
+def test_outlet_rule_names_unknown_streams_as_bad_input():
+    from letdown.errors import InputError
+    with pytest.raises(InputError, match="no stream named 'mian'") as err:
+        loads(DISTRICT % ("", "  outlet_min_T: {T: 0 degC, streams: [mian]}"), source="d.yaml")
+    assert err.value.line == 12 and err.value.field == "limits.outlet_min_T.streams[0]"
+
+
+# -- warnings people act on ---------------------------------------------------------------------
+def test_no_hydrate_warnings_on_a_refrigerant_loop():
+    # pure propane in a closed loop carries no water: no hydrate warning, whatever its temperature
+    from pathlib import Path
+    text = (Path(__file__).parent.parent / "flowsheets" / "propane-chiller.yaml").read_text()
+    res = Sheet(loads(text + "limits:\n  hydrate_margin: 3 K\n", source="chiller.yaml")).solve()
+    assert not [w for w in res.warnings if w["kind"].startswith("hydrate") or w["kind"] == "ice"]
+
+
+def test_no_hydrate_warnings_on_hydrocarbon_liquid_and_one_per_stream_and_cause():
+    from pathlib import Path
+    res = letdown_load(Path(__file__).parent.parent / "flowsheets" / "cold-separation.yaml")
+    hc_liquid = {"inlet-liquid", "cold-liquid"}
+    assert not [w for w in res.warnings if w["where"] in hc_liquid
+                and w["kind"].startswith("hydrate")]
+    keys = [(w["where"], w["kind"]) for w in res.warnings]
+    assert len(keys) == len(set(keys))
+    for w in res.warnings:
+        assert w["severity"] in ("hazard", "check", "note") and isinstance(w["numbers"], dict)
+
+
+def letdown_load(path):
+    import letdown
+    return letdown.load(path).solve()

@@ -235,7 +235,7 @@ def test_json_contract():
     result = letdown.load(EXAMPLES / "gate-station.yaml").solve()
     data = json.loads(result.to_json())
     assert set(data) == {"title", "model", "converged", "streams", "equipment", "goals", "loops",
-                         "warnings"}
+                         "warnings", "freezing_basis"}
     assert data["converged"] is True and data["model"] == "peng-robinson"
     for stream in data["streams"].values():
         for key in ("T_K", "P_Pa", "flow_mol_s", "mass_flow_kg_s", "vapour_fraction", "composition",

@@ -104,6 +104,7 @@ import numpy as np
 from ..equipment.inject import PARAM_DETAILS, ProtectedPoint, dose
 from ..errors import ConvergenceError, InputError
 from ..fluid.hydrate import LANGMUIR
+from ..fluid.aqueous import density as aqueous_density, freezing_point
 from ..fluid.inhibitor import INHIBITORS, partition
 from ..fluid.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE, water_content,
                            water_dew_point)
@@ -113,6 +114,11 @@ from .result import WarningRecord
 #: The ice point used for the ice margin [K] (pure water at about 1 atm; the depression by pressure,
 #: 0.0073 K/bar, is within any margin; common practice).
 ICE_T = 273.15
+#: The hydrate margin of the checks when the file gives no ``limits.hydrate_margin`` [K]: 3 K
+#: (about 5 degF) above the predicted hydrate temperature is what station engineers commonly keep
+#: (common practice; 3-5 K), covering the prediction's own error of 1-2 K and the swing of the
+#: gas temperature.
+DEFAULT_HYDRATE_MARGIN = 3.0
 #: A loop's water ratios are iterated until no ratio changes by more than this, relative [-] ...
 LOOP_TOLERANCE = 1e-12
 #: ... or for this many passes (a recycle of fraction f converges as f^k; 500 passes cover f = 0.95).
@@ -151,6 +157,15 @@ class StreamFreezing:
     inhibitor_flow : ndarray (n, k) or None
         All the inhibitor the stream carries [mol/s]: ``inhibitor_ratio`` times the dry flow plus
         what a separator sent with its free water (None: no inhibitor anywhere).
+    free_water : ndarray of bool (n,) or None
+        Free (liquid) water can be in the stream: it is at or below its water dew point, or it
+        carries a separator's free water (:func:`free_water`).
+    ice_T : ndarray (n,) or None
+        Freezing point of that free water with its inhibitor [K] (:func:`letdown.fluid.aqueous.
+        freezing_point` of ``water_activity``; 273.15 K without inhibitor); NaN where no free
+        water can form.
+    outlet_min_T : float or None
+        ``limits.outlet_min_T`` [K] where the rule applies to this stream.
     """
 
     water_ratio: np.ndarray
@@ -162,6 +177,9 @@ class StreamFreezing:
     water_activity: np.ndarray | None = None
     water_flow: np.ndarray | None = None
     inhibitor_flow: np.ndarray | None = None
+    free_water: np.ndarray | None = None
+    ice_T: np.ndarray | None = None
+    outlet_min_T: float | None = None
 
     @property
     def water_mole_fraction(self) -> np.ndarray:
@@ -883,8 +901,10 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
                                    kind="hydrate_unconverged", severity="check"))
     out = {}
     dosed = bool(block_doses)
+    rule_T, rule_streams = outlet_rule(fs, streams)
     for k, s in enumerate(names):
         sl = slice(k * n, (k + 1) * n)
+        free = free_water(streams[s], dew[sl], carried.free.get(s))
         out[s] = StreamFreezing(shown[s].copy(), dew[sl].copy(), hT[sl].copy(),
                                 np.asarray(hs[sl], dtype=object),
                                 inh[s].copy() if dosed else None,
@@ -892,7 +912,9 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
                                 aw[sl].copy() if dosed else None,
                                 carried.flow(s, streams[s]),
                                 (inh[s] * dry_flow(fluid, streams[s])[:, None]
-                                 + free_inh.get(s, 0.0)) if dosed else None)
+                                 + free_inh.get(s, 0.0)) if dosed else None,
+                                free, np.where(free, freezing_point(aw[sl]), np.nan),
+                                rule_T if s in rule_streams else None)
     if doses is not None:
         for b, split in carried.separators.items():
             doses[b] = {**split, "free_water_kg_s": split["free_water_mol_s"] * M_WATER}
@@ -923,12 +945,13 @@ def inject_params(fs, outcomes) -> dict:
 def inject_doses(fs, fluid, streams, steps, params=None) -> dict:
     """The ``inject`` blocks' details without the hydrate solves (for a solve without margins):
     ``inhibitor_rate_kg_s``, ``inhibitor_wt_pct``, ``hydrate_depression_K`` (see
-    :func:`stream_freezing`)."""
+    :func:`stream_freezing`), and the records of any dose refused (kind ``inhibitor_dose``)."""
     if not any(b.kind == "inject" for b in fs.blocks.values()):
-        return {}
+        return {}, []
     carried = water_flows(fs, fluid, streams, steps)
-    _, block_doses, _ = inhibitor_ratios(fs, streams, steps, carried, params, fluid)
-    return {b: dose_details(d) for b, d in block_doses.items()}
+    _, block_doses, notes = inhibitor_ratios(fs, streams, steps, carried, params, fluid)
+    return ({b: dose_details(d) for b, d in block_doses.items()},
+            [w for w in notes if w.kind == "inhibitor_dose"])
 
 
 def dose_details(d) -> dict:
@@ -949,57 +972,137 @@ def dose_details(d) -> dict:
             "protected_P_Pa": d["protected_P_Pa"]}
 
 
-def margins(stream, fz: StreamFreezing, min_T=None) -> dict:
-    """Margins ``T - limit`` [K] of a stream batch: hydrate, water dew point, ice, min_T."""
+def free_water(stream, water_dew_T, free=None) -> np.ndarray:
+    """Cases in which a stream can hold free (liquid) water [bool (n,)]: it is at or below its
+    water dew point (:data:`DEW_T_SLACK`), or it carries a separator's free water (``free``
+    [mol/s], a ``water`` outlet or a drum's liquid without a water port)."""
     T = np.asarray(stream.T, float)
-    return {"hydrate": T - fz.hydrate_T, "water_dew": T - fz.water_dew_T, "ice": T - ICE_T,
-            "min_T": T - min_T if min_T is not None else np.full(T.shape, np.nan)}
+    out = T <= np.asarray(water_dew_T, float) + DEW_T_SLACK
+    if free is not None:
+        out |= np.asarray(free, float) > 0.0
+    return out
 
 
-def checks_active(fs) -> bool:
-    """Whether the flowsheet asks for freezing warnings (a ``limits`` section or ``gas.water``)."""
-    return bool(fs.limits) or fs.gas.water is not None
+def hydrate_margin(fs) -> tuple[float, str]:
+    """The hydrate margin of the checks [K] and where it comes from: ``limits.hydrate_margin``,
+    or :data:`DEFAULT_HYDRATE_MARGIN` (common practice) when the file gives none."""
+    if "hydrate_margin" in fs.limits:
+        return float(fs.limits["hydrate_margin"]), "limits.hydrate_margin"
+    return DEFAULT_HYDRATE_MARGIN, "default (common practice; set limits.hydrate_margin)"
+
+
+def outlet_rule(fs, streams) -> tuple[float | None, tuple]:
+    """``limits.outlet_min_T`` [K] and the streams it applies to: those the file names, else
+    every gas outlet of the sheet (a stream no block takes in, not a feed, not a separator's
+    water or liquid outlet)."""
+    T = fs.limits.get("outlet_min_T")
+    if T is None:
+        return None, ()
+    named = fs.limits.get("outlet_streams")
+    if named:
+        return float(T), tuple(named)
+    taken = {s for b in fs.blocks.values() for s in b.inlets.values()}
+    drains = {s for b in fs.blocks.values() if b.kind == "separator"
+              for p, s in b.outlets.items() if p in ("water", "liquid")}
+    return float(T), tuple(s for s in streams
+                           if s not in taken and s not in fs.feeds and s not in drains)
+
+
+def basis(fs, fluid) -> dict:
+    """What the freezing checks assumed, for the report and the JSON (``freezing_basis``):
+    ``hydrate_margin_K`` and ``hydrate_margin_source``; ``water`` (where each stream's water
+    comes from); ``hydrate_T`` and ``ice`` (what each limit assumes); ``min_T_K`` and
+    ``outlet_min_T_K`` (None when not given)."""
+    m, source = hydrate_margin(fs)
+    if "water" in fluid.components:
+        water = "water as a component of the gas (each stream's own water)"
+    elif fs.gas.water is None:
+        water = ("no gas.water: every feed taken as saturated with water at its own temperature "
+                 "and pressure (the safe assumption for hydrates)")
+    else:
+        water = "given in gas.water, carried through the blocks; separators take out free water"
+    return {"hydrate_margin_K": m, "hydrate_margin_source": source, "water": water,
+            "hydrate_T": "free water assumed (vdW-P; lowered by the stream's inhibitor); a "
+                         "hazard where the stream is at or below its water dew point, a check "
+                         "above it",
+            "ice": "judged only where free water can form (at or below the water dew point, or "
+                   "a separator's free water), against its freezing point lowered by the "
+                   "inhibitor it carries; no margin",
+            "min_T_K": fs.limits.get("min_T"), "outlet_min_T_K": fs.limits.get("outlet_min_T")}
+
+
+def _separator_port(fs, name, port) -> bool:
+    return any(b.kind == "separator" and b.outlets.get(port) == name for b in fs.blocks.values())
 
 
 def freezing_warnings(fs, streams, freezing) -> list:
-    """Warnings for streams inside a margin (see the module docstring for the rules)."""
+    """Warnings for streams inside a margin (module docstring, "The warning rules"): one
+    :class:`WarningRecord` per stream and cause, with its numbers (SI)."""
     out = []
-    m = float(fs.limits.get("hydrate_margin", 0.0))
-    min_T = fs.limits.get("min_T")
-    ice_applies = min_T is None or min_T >= ICE_T
+    m, source = hydrate_margin(fs)
+    rule_T, rule_streams = outlet_rule(fs, streams)
     for name, s in streams.items():
         fz = freezing[name]
         T = np.asarray(s.T, float)
-        flowing = np.asarray(s.flow, float) > 0.0
-        near = flowing & (T < fz.hydrate_T + m)
-        wet = T <= fz.water_dew_T + DEW_T_SLACK
-        for wet_case, mask, tail in ((True, near & wet, "and at or below its water dew point {dew}: free water can "
-                                        "form hydrate (hydrate risk)"),
-                           (False, near & ~wet, "but above its water dew point {dew}: no free water by the "
-                                         "dew point; hydrate straight from the vapour is not "
-                                         "modelled (check, or keep the margin)")):
-            if mask.any():
-                i = int(np.flatnonzero(mask)[0])
-                dew = (f"{fz.water_dew_T[i] - 273.15:.2f} degC" if np.isfinite(fz.water_dew_T[i])
-                       else "(dry gas)")
+        P = np.asarray(s.P, float)
+        flowing = (np.asarray(s.flow, float) > 0.0) | (np.nan_to_num(fz.water_flow) > 0.0
+                                                        if fz.water_flow is not None else False)
+        carries = gas_carrying(fs, streams, name)
+        water = np.nan_to_num(fz.water_ratio) > 0.0
+        free = fz.free_water if fz.free_water is not None else np.zeros(T.shape, bool)
+        # a drum's vapour leaves at its own dew point with its free water taken out
+        drum_vapour = _separator_port(fs, name, "vapour")
+        saturated = drum_vapour & (np.abs(T - fz.water_dew_T) <= DEW_T_SLACK)
+        wet = free & ~saturated
+        near = carries & water & (T < fz.hydrate_T + m)
+        numbers = {"T_K": T, "hydrate_T_K": fz.hydrate_T, "P_Pa": P, "margin_K": T - fz.hydrate_T,
+                   "wanted_margin_K": m, "water_dew_T_K": fz.water_dew_T}
+        for mask, kind, severity, tail in (
+                (near & wet, "hydrate", "hazard",
+                 "and at or below its water dew point {dew}: free water can form hydrate"),
+                (near & ~wet, "hydrate_no_free_water", "check",
+                 "{sat}; the margin assumes free water (slugs, carry-over, a wetter day): "
+                 "check the water, or keep the margin")):
+            if not mask.any():
+                continue
+            i = int(np.flatnonzero(mask)[0])
+            dew = (f"{fz.water_dew_T[i] - 273.15:.2f} degC" if np.isfinite(fz.water_dew_T[i])
+                   else "(dry gas)")
+            sat = (f"at its water dew point {dew}, its free water taken out by the separator"
+                   if saturated[i] else f"but above its water dew point {dew}: no free water by "
+                                        "the dew point")
+            out.append(WarningRecord(name, (
+                f"hydrate margin {T[i] - fz.hydrate_T[i]:+.2f} K is below the {m:g} K wanted "
+                f"({source}): {T[i] - 273.15:.2f} degC against a hydrate temperature of "
+                f"{fz.hydrate_T[i] - 273.15:.2f} degC at {P[i] / 1e5:.4g} bar "
+                f"({fz.hydrate_structure[i]}), " + tail.format(dew=dew, sat=sat)),
+                tuple(np.flatnonzero(mask).tolist()), kind=kind, severity=severity,
+                numbers=numbers))
+        if fz.ice_T is not None:
+            cold = flowing & (free | saturated) & (T < fz.ice_T)
+            if cold.any():
+                i = int(np.flatnonzero(cold)[0])
+                hazard = bool(np.any(cold & wet))
+                inhibited = fz.ice_T[i] < ICE_T - 1e-9
                 out.append(WarningRecord(name, (
-                    f"hydrate margin {T[i] - fz.hydrate_T[i]:+.2f} K is below the {m:g} K wanted: "
-                    f"{T[i] - 273.15:.2f} degC against a hydrate temperature of "
-                    f"{fz.hydrate_T[i] - 273.15:.2f} degC at {s.P[i] / 1e5:.4g} bar ({fz.hydrate_structure[i]}), "
-                    + tail.format(dew=dew)), tuple(np.flatnonzero(mask).tolist()),
-                    kind="hydrate", severity="hazard" if wet_case else "check",
-                    numbers={"T_K": T, "hydrate_T_K": fz.hydrate_T, "P_Pa": np.asarray(s.P, float),
-                             "margin_K": T - fz.hydrate_T, "wanted_margin_K": m,
+                    f"ice: {T[i] - 273.15:.2f} degC is {fz.ice_T[i] - T[i]:.2f} K below the "
+                    f"freezing point of its free water ({fz.ice_T[i] - 273.15:.2f} degC"
+                    + (", lowered by its inhibitor" if inhibited else "") + ")"
+                    + (": free water freezes; regulator bodies and pilot lines ice up"
+                       if hazard else ": at its water dew point, the drum took its free water; "
+                                      "any further cooling condenses water that freezes")),
+                    tuple(np.flatnonzero(cold).tolist()), kind="ice",
+                    severity="hazard" if hazard else "check",
+                    numbers={"T_K": T, "ice_T_K": fz.ice_T, "margin_K": T - fz.ice_T,
                              "water_dew_T_K": fz.water_dew_T}))
-        if ice_applies:
-            cold = flowing & (T < ICE_T + m)
+        if rule_T is not None and name in rule_streams:
+            cold = flowing & (T < rule_T)
             if cold.any():
                 i = int(np.flatnonzero(cold)[0])
                 out.append(WarningRecord(name, (
-                    f"ice margin {T[i] - ICE_T:+.2f} K is below the {m:g} K wanted: "
-                    f"{T[i] - 273.15:.2f} degC (free water freezes; regulator bodies and pilot "
-                    "lines ice up; buried pipe heaves)"), tuple(np.flatnonzero(cold).tolist()),
-                    kind="ice", severity="hazard",
-                    numbers={"T_K": T, "ice_T_K": ICE_T, "margin_K": T - ICE_T,
-                             "wanted_margin_K": m}))
+                    f"{T[i] - 273.15:.2f} degC is below limits.outlet_min_T "
+                    f"{rule_T - 273.15:.2f} degC, the coldest gas allowed into the pipe "
+                    "downstream"), tuple(np.flatnonzero(cold).tolist()), kind="outlet_min_T",
+                    severity="hazard",
+                    numbers={"T_K": T, "outlet_min_T_K": rule_T, "margin_K": T - rule_T}))
     return out

@@ -32,8 +32,6 @@ INHIBITOR_M = np.array([INHIBITORS[nm].M * 1e-3 for nm in INHIBITORS])
 MOLE_CLOSURE = 1e-9
 #: Largest relative energy-balance closure accepted for any block (DESIGN.md requirement).
 ENERGY_CLOSURE = 1e-6
-#: The ice point of the ice margin [K] (as :data:`letdown.sheet.freezing.ICE_T`).
-ICE_T = 273.15
 
 
 @dataclass(frozen=True)
@@ -65,9 +63,20 @@ class StreamResult:
         ``water_mole_fraction``, ``water_flow_mol_s`` and ``water_flow_kg_s`` (all the water the
         stream carries), with inject blocks ``inhibitor_wt_pct``, ``water_activity`` and
         ``inhibitor_flow_kg_s`` (all the inhibitor the stream carries), ``water_dew_T_K``, ``hydrate_T_K``,
-        ``hydrate_structure`` and the margins ``T - limit`` ``hydrate_margin_K``,
-        ``water_dew_margin_K``, ``ice_margin_K``, ``min_T_margin_K`` (None where the limit does
-        not exist: dry gas, no hydrate former, no ``limits.min_T``).
+        ``hydrate_structure``, ``ice_T_K`` and the margins ``T - limit`` [K], positive when the
+        stream is warmer than the limit, None where the limit does not exist:
+
+        * ``hydrate_margin_K``: T minus the hydrate formation temperature at the stream's
+          pressure, free water assumed, lowered by the stream's inhibitor (None: no hydrate
+          former, or none above 230 K);
+        * ``water_dew_margin_K``: T minus the water dew point (negative: free water can form;
+          None: dry gas, or a stream of free water only);
+        * ``ice_margin_K``: T minus the freezing point of the stream's free water with its
+          inhibitor (``ice_T_K``); None where no free water can form (above the water dew point,
+          no separator free water);
+        * ``min_T_margin_K``: T minus ``limits.min_T``, the material's limit (None without it);
+        * ``outlet_min_T_margin_K``: T minus ``limits.outlet_min_T`` for the streams that rule
+          covers (None elsewhere).
     """
 
     name: str
@@ -105,8 +114,11 @@ class StreamResult:
                   "hydrate_structure": str(freezing.hydrate_structure[i]) or None,
                   "hydrate_margin_K": _num(T - freezing.hydrate_T[i]),
                   "water_dew_margin_K": _num(T - freezing.water_dew_T[i]),
-                  "ice_margin_K": _num(T - ICE_T),
-                  "min_T_margin_K": None if min_T is None else _num(T - min_T)}
+                  "ice_T_K": _num(_at(freezing.ice_T, i)),
+                  "ice_margin_K": _num(T - _at(freezing.ice_T, i)),
+                  "min_T_margin_K": None if min_T is None else _num(T - min_T),
+                  "outlet_min_T_margin_K": None if freezing.outlet_min_T is None
+                  else _num(T - freezing.outlet_min_T)}
             if freezing.inhibitor_wt_pct is not None:
                 # inhibitor from inject blocks, all the water taken as free water
                 fz["inhibitor_wt_pct"] = _num(freezing.inhibitor_wt_pct[i])
@@ -281,6 +293,11 @@ class WarningRecord:
                 "severity": self.severity, "numbers": numbers}
 
 
+def _at(values, i) -> float:
+    """Element ``i`` of an optional array over the cases (NaN when the array is absent)."""
+    return math.nan if values is None else float(values[i])
+
+
 def _num(x) -> float | None:
     """A JSON number (None for NaN or infinity, which JSON cannot hold)."""
     x = float(x)
@@ -320,6 +337,7 @@ class BatchResult:
     converged: np.ndarray | None = None
     freezing: Mapping | None = None
     min_T: float | None = None
+    freezing_basis: Mapping | None = None
 
     def __post_init__(self):
         if self.converged is None:
@@ -400,7 +418,7 @@ class BatchResult:
                    for name, s in self.streams.items()}
         return Result(title=self.title, model=self.model, converged=bool(self.converged[i]),
                       streams=streams, equipment=equipment, goals=goals, loops=loops,
-                      warnings=warnings)
+                      warnings=warnings, freezing_basis=self.freezing_basis)
 
 
 @dataclass(frozen=True)
@@ -416,6 +434,9 @@ class Result:
     goals : list of dict  {"hold", "target", "achieved", "by", "value", "met", "iterations"}
     loops : list of dict  {"blocks", "tears", "iterations", "residual", "residual_history"}
     warnings : list of dict  {"where", "what", "kind", "severity", "numbers"}, most severe first
+    freezing_basis : dict or None  what the freezing checks assumed (``hydrate_margin_K`` and its
+        source, the water, what the hydrate and ice limits assume, ``min_T_K``,
+        ``outlet_min_T_K``; :func:`letdown.sheet.freezing.basis`), when they ran
     """
 
     title: str
@@ -426,14 +447,18 @@ class Result:
     goals: list
     loops: list
     warnings: list
+    freezing_basis: Mapping | None = None
 
     def to_dict(self) -> dict:
         """The JSON contract of DESIGN.md as plain Python objects (SI, unit in each key)."""
-        return {"title": self.title, "model": self.model, "converged": self.converged,
-                "streams": {n: s.to_dict() for n, s in self.streams.items()},
-                "equipment": {n: dict(e) for n, e in self.equipment.items()},
-                "goals": [dict(g) for g in self.goals], "loops": [dict(lp) for lp in self.loops],
-                "warnings": [dict(w) for w in self.warnings]}
+        out = {"title": self.title, "model": self.model, "converged": self.converged,
+               "streams": {n: s.to_dict() for n, s in self.streams.items()},
+               "equipment": {n: dict(e) for n, e in self.equipment.items()},
+               "goals": [dict(g) for g in self.goals], "loops": [dict(lp) for lp in self.loops],
+               "warnings": [dict(w) for w in self.warnings]}
+        if self.freezing_basis is not None:
+            out["freezing_basis"] = dict(self.freezing_basis)
+        return out
 
     def to_json(self, indent: int | None = 2) -> str:
         """The JSON contract of DESIGN.md as text (NaN written as null)."""

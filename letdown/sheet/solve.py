@@ -33,8 +33,7 @@ from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
 from ..fluid.models import out_of_range
-from .freezing import (checks_active, freezing_warnings, inject_doses, inject_params,
-                       stream_freezing)
+from .freezing import basis, freezing_warnings, inject_doses, inject_params, stream_freezing
 from .graph import build_graph, solve_order
 from .result import (BatchResult, EquipmentBatch, GoalRecord, LoopRecord, Result,
                      WarningRecord)
@@ -575,15 +574,17 @@ class _Engine:
         doses: dict = {}
         given = inject_params(self.fs, ev.outcomes)
         if margins:
+            # the freezing checks run on every solve, with or without limits or gas.water
             freezing, notes = stream_freezing(self.fs, self.fluid, ev.streams, self.steps, doses,
                                               given)
-            if checks_active(self.fs):
-                warnings.extend(notes)
-                warnings.extend(freezing_warnings(self.fs, ev.streams, freezing))
-            else:
-                warnings.extend(n for n in notes if n.where != "gas")
+            warnings.extend(notes)
+            warnings.extend(freezing_warnings(self.fs, ev.streams, freezing))
         else:
-            doses = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given)
+            doses, notes = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given)
+            warnings.extend(notes)
+        for w in notes:
+            if w.kind == "inhibitor_dose":    # a refused dose: its cases did not solve
+                ev.ok[list(w.cases)] = False
         texts = {"two_phase_outlet": "throttle outlet is in two phases",
                  "temperature_cross": "temperature cross inside the exchanger",
                  "spec_unmet": "the specification cannot be met with these inlet temperatures",
@@ -620,7 +621,9 @@ class _Engine:
                              warnings=tuple(warnings), converged=ev.ok.copy(),
                              freezing=None if freezing is None else
                              {s: freezing[s] for s in order},
-                             min_T=self.fs.limits.get("min_T"))
+                             min_T=self.fs.limits.get("min_T"),
+                             freezing_basis=None if freezing is None else
+                             basis(self.fs, self.fluid))
         result.check_balances()
         return result
 
