@@ -234,3 +234,46 @@ def test_no_hydrate_warnings_on_hydrocarbon_liquid_and_one_per_stream_and_cause(
 def letdown_load(path):
     import letdown
     return letdown.load(path).solve()
+
+
+# -- zero-flow streams and water outlets ----------------------------------------------------------
+def test_a_zero_flow_stream_reports_no_properties():
+    res = dosed_sheet("beside", "none").solve()
+    hc = res.streams["hc-out"]                         # no hydrocarbon liquid at the drum
+    assert hc.flow == 0.0
+    d = hc.to_dict()
+    for key in ("vapour_fraction", "Z", "density_kg_m3", "h_J_mol", "s_J_molK",
+                "molar_mass_kg_mol", "gross_cv_J_m3", "wobbe_gross_J_m3"):
+        assert d[key] is None, key
+    assert set(d["composition"].values()) == {None}
+    assert d["T_K"] == pytest.approx(res.streams["cold"].T, abs=1e-9)   # the drum's state stays
+
+
+@pytest.mark.parametrize("route", ["beside", "component"])
+def test_a_water_outlet_reports_the_aqueous_liquid_it_carries(route):
+    # regression (issue 10, Why 5): the water outlet showed the inlet's vapour (vapour fraction
+    # 0.96, Z 0.80 for a stream of water and MEG)
+    res = dosed_sheet(route, "equilibrium").solve()
+    w = res.streams["water-out"]
+    assert w.freezing["water_flow_kg_s"] > 0.0
+    assert w.vapour_fraction == 0.0
+    # water with about 20 wt % methanol at -7 degC: 950-990 kg/m3 (Melinder 2010 via CoolProp:
+    # 970 kg/m3 at 20 wt %, 10 degC); the cubic's own aqueous density with water a component is
+    # lower (Peng-Robinson with a volume shift)
+    lo = 800.0 if route == "component" else 940.0
+    assert lo < w.density < 1000.0
+    if route == "beside":
+        d = w.to_dict()
+        assert d["Z"] is None and d["h_J_mol"] is None
+
+
+def test_water_outlet_of_the_meg_example():
+    from pathlib import Path
+    res = letdown_load(Path(__file__).parent.parent / "flowsheets" / "cold-separation.yaml")
+    w = res.streams["cold-water"]
+    assert w.vapour_fraction == 0.0 and w.Z is None
+    wt = w.freezing["inhibitor_wt_pct"]
+    assert 30.0 < wt < 80.0
+    # ideal volumes against Melinder (2010): within 1.5 % up to 40 wt % (tests/test_aqueous.py);
+    # here only checked to lie between water and neat MEG (CRC, from memory)
+    assert 999.0 < w.density < 1113.5

@@ -166,6 +166,10 @@ class StreamFreezing:
         water can form.
     outlet_min_T : float or None
         ``limits.outlet_min_T`` [K] where the rule applies to this stream.
+    aqueous_density : ndarray (n,) or None
+        Density of the free water and its inhibitor where the stream holds nothing else (a
+        separator's ``water`` outlet, water beside the gas) [kg/m3]
+        (:func:`letdown.fluid.aqueous.density`); NaN elsewhere.
     """
 
     water_ratio: np.ndarray
@@ -180,6 +184,7 @@ class StreamFreezing:
     free_water: np.ndarray | None = None
     ice_T: np.ndarray | None = None
     outlet_min_T: float | None = None
+    aqueous_density: np.ndarray | None = None
 
     @property
     def water_mole_fraction(self) -> np.ndarray:
@@ -905,6 +910,14 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     for k, s in enumerate(names):
         sl = slice(k * n, (k + 1) * n)
         free = free_water(streams[s], dew[sl], carried.free.get(s))
+        rho = None
+        if s in carried.free and carried.water_index is None:
+            only = (np.asarray(streams[s].flow, float) <= 0.0) & (carried.free[s] > 0.0)
+            fi = free_inh.get(s, np.zeros((n, len(INHIBITOR_NAMES))))
+            rho = np.where(only, aqueous_density(
+                np.asarray(streams[s].T, float), carried.free[s] * M_WATER,
+                {nm: fi[:, j] * INHIBITORS[nm].M * 1e-3 for j, nm in enumerate(INHIBITOR_NAMES)}),
+                np.nan)
         out[s] = StreamFreezing(shown[s].copy(), dew[sl].copy(), hT[sl].copy(),
                                 np.asarray(hs[sl], dtype=object),
                                 inh[s].copy() if dosed else None,
@@ -914,7 +927,7 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
                                 (inh[s] * dry_flow(fluid, streams[s])[:, None]
                                  + free_inh.get(s, 0.0)) if dosed else None,
                                 free, np.where(free, freezing_point(aw[sl]), np.nan),
-                                rule_T if s in rule_streams else None)
+                                rule_T if s in rule_streams else None, rho)
     if doses is not None:
         for b, split in carried.separators.items():
             doses[b] = {**split, "free_water_kg_s": split["free_water_mol_s"] * M_WATER}
@@ -988,7 +1001,7 @@ def hydrate_margin(fs) -> tuple[float, str]:
     or :data:`DEFAULT_HYDRATE_MARGIN` (common practice) when the file gives none."""
     if "hydrate_margin" in fs.limits:
         return float(fs.limits["hydrate_margin"]), "limits.hydrate_margin"
-    return DEFAULT_HYDRATE_MARGIN, "default (common practice; set limits.hydrate_margin)"
+    return DEFAULT_HYDRATE_MARGIN, "the default, common practice; set limits.hydrate_margin"
 
 
 def outlet_rule(fs, streams) -> tuple[float | None, tuple]:

@@ -57,6 +57,11 @@ class StreamResult:
     Z : float  compressibility factor [-]
     density : float  [kg/m3]
     molar_mass : float  [kg/mol]
+    A stream with zero flow reports its ``T`` and ``P`` (the state of the block it leaves) and
+    None for every other property and its compositions, except a separator's ``water`` outlet
+    carrying free water beside the gas: vapour fraction 0 and the density of that water with its
+    inhibitor (:func:`letdown.fluid.aqueous.density`).
+
     freezing : dict or None
         Water and hydrate figures when they were computed (JSON keys, SI): ``water_mg_Sm3`` (per
         Sm3 of dry gas; None for a separator's water outlet, which holds no gas),
@@ -130,6 +135,25 @@ class StreamResult:
                 # all the water the stream carries (a separator's water outlet: its free water)
                 fz["water_flow_mol_s"] = _num(freezing.water_flow[i])
                 fz["water_flow_kg_s"] = _num(freezing.water_flow[i] * M_WATER)
+        if not float(stream.flow[i]) > 0.0:
+            # a zero-flow stream has no properties of its own (its T and P, the state of the
+            # block it leaves, stay); a separator's water outlet with free water beside the gas
+            # is that aqueous liquid: vapour fraction 0 and its own density
+            blank = {c: None for c in components}
+            rho = _at(getattr(freezing, "aqueous_density", None), i) if freezing is not None \
+                else math.nan
+            aqueous = math.isfinite(rho)
+            if fz is not None and not aqueous:
+                # nor figures that follow from a composition it does not carry
+                fz = {k: (v if k in ("water_flow_mol_s", "water_flow_kg_s",
+                                     "inhibitor_flow_kg_s") else None) for k, v in fz.items()}
+            return cls(name=name, T=float(stream.T[i]), P=float(stream.P[i]),
+                       flow=float(stream.flow[i]), mass_flow=0.0,
+                       vapour_fraction=0.0 if aqueous else None, zs=blank, ys=dict(blank),
+                       xs=dict(blank), h=None, s=None, Z=None,
+                       density=rho if aqueous else None, molar_mass=None, freezing=fz,
+                       quality=dict.fromkeys(("gross_cv_J_m3", "wobbe_gross_J_m3",
+                                              "relative_density")))
         return cls(name=name, T=float(stream.T[i]), P=float(stream.P[i]), flow=float(stream.flow[i]),
                    mass_flow=float(stream.mass_flow[i]),
                    vapour_fraction=float(stream.vapour_fraction[i]), zs=comp(stream.zs),
@@ -140,6 +164,8 @@ class StreamResult:
 
     def to_dict(self) -> dict:
         """The stream's entry of the JSON contract."""
+        _num = _opt
+
         def comp(d):
             return {c: _num(v) for c, v in d.items()}
         return {"T_K": _num(self.T), "P_Pa": _num(self.P), "flow_mol_s": _num(self.flow),
@@ -302,6 +328,12 @@ def _num(x) -> float | None:
     """A JSON number (None for NaN or infinity, which JSON cannot hold)."""
     x = float(x)
     return x if math.isfinite(x) else None
+
+
+
+def _opt(x) -> float | None:
+    """As :func:`_num`, with None kept (a property a zero-flow stream does not have)."""
+    return None if x is None else _num(x)
 
 
 @dataclass(frozen=True)
