@@ -28,11 +28,11 @@ def _comp(with_water):
         + f", water: {Y_WATER}" + "}"
 
 
-def dosed_sheet(route, losses="none", depression="10 K"):
+def dosed_text(route, losses="none", depression="10 K"):
     """Methanol sized by a depression, a throttle, a drum with a water port: the water either a
     component of the gas (``component``) or carried beside it (``beside``), the same amount."""
     water = "" if route == "component" else f"  water: {Y_WATER}\n"
-    text = (
+    return (
         "title: dosed let-down (fictional)\n"
         "gas:\n  model: peng-robinson\n"
         f"  composition: {_comp(route == 'component')}\n{water}"
@@ -43,7 +43,11 @@ def dosed_sheet(route, losses="none", depression="10 K"):
         "  regulator: {kind: throttle, from: dosed, to: cold, P_out: 20 barg}\n"
         "  sep: {kind: separator, from: cold, to: {vapour: gas-out, liquid: hc-out, "
         "water: water-out}}\n")
-    return Sheet(loads(text, source=f"{route}.yaml"))
+
+
+def dosed_sheet(route, losses="none", depression="10 K"):
+    """The sheet of :func:`dosed_text`, loaded."""
+    return Sheet(loads(dosed_text(route, losses, depression), source=f"{route}.yaml"))
 
 
 def _water_kg_s(res, stream="supply"):
@@ -277,3 +281,44 @@ def test_water_outlet_of_the_meg_example():
     # ideal volumes against Melinder (2010): within 1.5 % up to 40 wt % (tests/test_aqueous.py);
     # here only checked to lie between water and neat MEG (CRC, from memory)
     assert 999.0 < w.density < 1113.5
+
+
+# -- fuzzing the new parts with inputs a practitioner could write ---------------------------------
+def test_a_batch_with_one_refused_dose_keeps_the_other_cases(monkeypatch):
+    # studies take the path without margins (inject_doses): one case refused, the other kept
+    import letdown.sheet.freezing as freezing
+    sheet = dosed_sheet("beside", "none")
+    good = sheet.solve_cases({"dose.depression": np.array([10.0])})
+    rate = float(good.equipment["dose"].details["inhibitor_rate_kg_s"][0])
+    gas = float(good.streams["supply"].mass_flow[0])
+    # the bound between the two cases' doses (the dose grows with the depression)
+    monkeypatch.setattr(freezing, "MAX_DOSE_TO_GAS", 0.5 * rate / gas)
+    batch = sheet.solve_cases({"dose.depression": np.array([2.0, 10.0])}, strict=False)
+    assert batch.converged.tolist() == [True, False]
+    rates = batch.equipment["dose"].details["inhibitor_rate_kg_s"]
+    assert np.isfinite(rates[0]) and np.isnan(rates[1])
+    refused = [w for w in batch.warnings if w.kind == "inhibitor_dose"]
+    assert len(refused) == 1 and refused[0].cases == (1,)
+
+
+@pytest.mark.parametrize("rule, words", [
+    ("{streams: [main]}", "missing field 'T'"),
+    ("{T: 0 degC, streams: main}", "streams"),
+    ("{T: 0 degC, streams: [main], margin: 2 K}", "margin"),
+    ("0 bar", "temperature"),
+])
+def test_mutated_outlet_rules_are_bad_input(rule, words):
+    from letdown.errors import InputError
+    with pytest.raises(InputError, match=words) as err:
+        loads(DISTRICT % ("", f"  outlet_min_T: {rule}"), source="d.yaml")
+    assert err.value.file == "d.yaml" and err.value.line == 12
+
+
+def test_cli_exit_code_of_a_refused_dose(tmp_path, monkeypatch):
+    # a refused dose is a failed solve (exit 1) with the report and its hazard, never exit 0
+    import letdown.sheet.freezing as freezing
+    from letdown import cli
+    monkeypatch.setattr(freezing, "MAX_DOSE_TO_GAS", 1e-9)
+    path = tmp_path / "dosed.yaml"
+    path.write_text(dosed_text("beside", "none"))
+    assert cli.main(["solve", str(path), "--json"]) == 1

@@ -56,14 +56,18 @@ With **water as a component** (listed in ``gas.composition``) the separator is a
 **Inhibitor** (``inject`` blocks, :mod:`letdown.equipment.inject`): carried the same way, per
 stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ratios`), never in the
 hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds its
-rate; a separator splits it with its phases (:func:`_separate_inhibitor`: the three-phase split
+rate; a separator splits it with its phases, whichever way the water is carried
+(:func:`_separate_inhibitor`: the three-phase split
 at the drum with ``losses: equilibrium``, all with the free water with ``losses: none``); the
 others carry it as the water. With all of a stream's water taken as free water, the
 stream's aqueous phase holds ``inhibitor_wt_pct`` and has water activity a_w = x_w
 (:func:`aqueous`), and its hydrate temperature is found with that activity. When an ``inject``
 block counts its losses (``losses: equilibrium``), each stream's aqueous phase comes instead from
 the split of water and inhibitor at the stream's own T and P (:func:`aqueous_equilibrium`), and
-the block is sized at the coldest stream downstream (:func:`protected_point`).
+the block is sized at the coldest gas-carrying stream downstream (:func:`protected_point`:
+never a separator's ``water`` or ``liquid`` outlet). A dose that did not converge, has no gas
+to protect, or exceeds :data:`MAX_DOSE_TO_GAS` of the gas mass is refused: NaN, a hazard record
+``inhibitor_dose``, and the case marked not converged (:func:`_check_dose`).
 
 Per stream and case:
 
@@ -75,25 +79,42 @@ Per stream and case:
   lowered by dissolved gas: :mod:`letdown.fluid.hydrate`, and by the stream's inhibitor), NaN
   where the gas has no hydrate former
   or no hydrate forms above 230 K;
-* margins ``T - limit`` [K] (positive: warmer than the limit): hydrate, water dew point, ice (0 degC)
-  and ``limits.min_T``.
+* ``free_water`` -- free water can be in the stream: at or below its water dew point, or a
+  separator's free water (:func:`free_water`);
+* ``ice_T`` -- where free water can form, its freezing point with the stream's inhibitor
+  (:func:`letdown.fluid.aqueous.freezing_point` of the water activity; 0 degC without
+  inhibitor), NaN elsewhere;
+* margins ``T - limit`` [K] (positive: warmer than the limit): hydrate, water dew point, ice
+  (against ``ice_T``; none where no free water can form), ``limits.min_T`` and
+  ``limits.outlet_min_T`` (the streams it covers).
 
-The warning rules (:func:`freezing_warnings`; ``m`` = ``limits.hydrate_margin``, 0 K if absent):
+The checks run on **every** solve, whatever the file holds; what they assumed is stated in the
+result (:func:`basis`: the margin and its source, the water, the rules below). The warning rules
+(:func:`freezing_warnings`; one record per stream and cause; ``m`` = ``limits.hydrate_margin``,
+or :data:`DEFAULT_HYDRATE_MARGIN` = 3 K, common practice, when absent):
 
-* **hydrate risk** where ``T < hydrate_T + m`` and ``T <= water_dew_T``: hydrate needs water, and at
-  or below its water dew point the gas has free water to form it (common practice, e.g. the gas
-  processors' handbooks: "free water" is the first condition of hydrate formation);
-* **hydrate, no free water** where ``T < hydrate_T + m`` but ``T > water_dew_T``: the gas holds no
-  liquid water by the dew point; hydrate can still grow straight from the vapour when its water
-  content exceeds the (lower) water content in equilibrium with hydrate, which is not modelled here,
-  so this is reported as a weaker warning rather than passed;
-* **ice** where ``T < 0 degC + m``: free water freezes, regulator bodies and pilot lines ice up,
-  buried pipe heaves -- unless ``limits.min_T`` is set below 0 degC, which states that the plant is
-  built for colder gas (a chilling train);
-* ``limits.min_T`` as written (no margin: it is the user's own coldest allowed temperature).
+* hydrate warnings only on streams that carry gas (:func:`gas_carrying`: not a separator's
+  ``water`` or hydrocarbon ``liquid`` outlet, not all liquid) and water: none on a hydrocarbon
+  liquid or a dry refrigerant loop;
+* **hydrate** (hazard) where ``T < hydrate_T + m`` and ``T <= water_dew_T``: hydrate needs water,
+  and at or below its water dew point the gas has free water to form it (common practice, e.g.
+  the gas processors' handbooks: "free water" is the first condition of hydrate formation);
+* **hydrate_no_free_water** (check) where ``T < hydrate_T + m`` but the gas is above its water
+  dew point, or is a separator's vapour leaving at its dew point with its free water taken out:
+  hydrate can still grow straight from the vapour when its water content exceeds the (lower)
+  content in equilibrium with hydrate (not modelled), and the margin assumes free water (slugs,
+  carry-over, a wetter day), so this is a check rather than a pass;
+* **ice** where free water can form and ``T < ice_T`` (no margin: the freezing point is a
+  property of the water, not a prediction with a scatter; the ideal-solution point is on the warm
+  side of measured ones): a hazard with free water, a check on a separator's saturated vapour;
+  ``limits.min_T`` does **not** switch it off;
+* **min_T** (hazard, :mod:`letdown.sheet.solve`): ``limits.min_T`` is the material's limit, checked
+  as written in every stream, and nothing else;
+* **outlet_min_T** (hazard): the user's rule for the pipe downstream (buried pipe: frost heave;
+  exposed pipe, coatings), ``limits.outlet_min_T`` as written, on the streams named or every gas
+  outlet (:func:`outlet_rule`).
 
-The checks run when the file has a ``limits`` section or ``gas.water``; the numbers are computed for
-every solve either way.
+Engineering estimates; designs must follow local codes and be checked by qualified, licensed staff.
 """
 from __future__ import annotations
 
@@ -527,7 +548,8 @@ def dry_flow(fluid, stream) -> np.ndarray:
 
 
 def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium):
-    """Split a separator's inlet inhibitor between its outlets (water carried beside the gas).
+    """Split a separator's inlet inhibitor between its outlets (water beside the gas or a
+    component of it; ratios per mole of dry gas, :func:`dry_flow`).
 
     With equilibrium losses (any ``inject`` block on ``losses: equilibrium``) the split is the
     three-phase one at the drum's T and P (:func:`letdown.fluid.inhibitor.partition` of the inlet
