@@ -322,3 +322,20 @@ def test_cli_exit_code_of_a_refused_dose(tmp_path, monkeypatch):
     path = tmp_path / "dosed.yaml"
     path.write_text(dosed_text("beside", "none"))
     assert cli.main(["solve", str(path), "--json"]) == 1
+
+
+def test_a_given_rate_is_injected_even_with_no_gas_downstream():
+    # inject on a drum's (empty) hydrocarbon-liquid line: a depression has nothing to be sized
+    # for and is refused; a rate the file gives is an input and is kept
+    def on_liquid(spec):
+        return dosed_text("beside", "equilibrium").replace(
+            "  dose: {kind: inject, from: supply, to: dosed,",
+            "  dose: {kind: inject, from: hc-out, to: hc-dosed,").replace(
+            "from: dosed, to: cold", "from: supply, to: cold").replace("depression: 10 K", spec)
+    sized = Sheet(loads(on_liquid("depression: 10 K"), source="a.yaml")).solve()
+    assert sized.converged is False
+    assert any(w["kind"] == "inhibitor_dose" and "no stream downstream carries gas" in w["what"]
+               for w in sized.warnings)
+    given = Sheet(loads(on_liquid("rate: 5 kg/h"), source="b.yaml")).solve()
+    assert given.converged is True
+    assert given.equipment["dose"]["inhibitor_rate_kg_s"] == pytest.approx(5.0 / 3600.0)

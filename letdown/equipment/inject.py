@@ -206,7 +206,7 @@ def dose(name: str, params, water_kg_s, point: ProtectedPoint) -> dict:
             np.asarray(point.water_ratio)[rows], np.asarray(point.flow)[rows]))
     inh = inhibitor(params.get("inhibitor", "methanol"))
     sized_by, losses = options(name, params)
-    out = {"inhibitor": inh.name, "sized_by": sized_by, "losses": losses}
+    out = {"inhibitor": inh.name, "spec": spec, "sized_by": sized_by, "losses": losses}
     for key in ("rate_kg_s", "wt_pct", "aqueous_kg_s", "vapour_kg_s", "hc_liquid_kg_s",
                 "depression_K", "depression_nielsen_bucklin_K", "depression_hydrate_model_K",
                 "protected_T_K", "protected_P_Pa"):
@@ -241,7 +241,8 @@ def _dose(name: str, params, water_kg_s, point: ProtectedPoint) -> dict:
     Returns
     -------
     dict
-        ``inhibitor``, ``sized_by``, ``losses`` (str); arrays (n,): ``rate_kg_s`` injected [kg/s];
+        ``inhibitor``, ``spec`` (``rate`` or ``depression``), ``sized_by``, ``losses`` (str);
+        arrays (n,): ``rate_kg_s`` injected [kg/s];
         ``wt_pct`` inhibitor of this block in the aqueous phase at the protected point [wt %]
         (NaN without free water); ``aqueous_kg_s``, ``vapour_kg_s``, ``hc_liquid_kg_s`` where
         the injected inhibitor goes there [kg/s] (NaN with ``losses: none``); the depressions
@@ -300,7 +301,8 @@ def _dose(name: str, params, water_kg_s, point: ProtectedPoint) -> dict:
         dT["depression_nielsen_bucklin_K"][wet] = nielsen_bucklin_depression(W[wet], inh.name)
         dT["depression_hydrate_model_K"][wet] = hydrate_model_depression(
             point.fluid, point.P[wet], x_w[wet], zs=point.zs[wet])
-    return {"inhibitor": inh.name, "sized_by": sized_by, "losses": losses, "rate_kg_s": rate,
+    return {"inhibitor": inh.name, "spec": spec, "sized_by": sized_by, "losses": losses,
+            "rate_kg_s": rate,
             "wt_pct": W, "aqueous_kg_s": aq, "vapour_kg_s": vap, "hc_liquid_kg_s": hcl, **dT,
             "protected_stream": np.asarray(point.stream, dtype=object),
             "protected_T_K": np.asarray(point.T, float), "protected_P_Pa": np.asarray(point.P, float)}
