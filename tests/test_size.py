@@ -113,7 +113,8 @@ def test_margins_of_a_stream_by_hand():
     assert s["water_dew_T_K"] == pytest.approx(dew, abs=1e-5)
     assert s["hydrate_margin_K"] == pytest.approx(T - hT, abs=1e-6)
     assert s["water_dew_margin_K"] == pytest.approx(T - dew, abs=1e-5)
-    assert s["ice_margin_K"] == pytest.approx(T - 273.15, abs=1e-9)
+    # no free water can form (far above the water dew point): no ice limit (issue 10)
+    assert s["ice_margin_K"] is None and s["ice_T_K"] is None
     assert s["min_T_margin_K"] == pytest.approx(T - 273.15, abs=1e-9)
     # 5 degC is within 3 K of the hydrate temperature (4.8 degC at 18 bar) but well above the
     # water dew point: the weaker warning, not the free-water one
@@ -130,7 +131,10 @@ def test_wet_cold_stream_warns_hydrate_risk_and_ice():
     assert s["water_dew_margin_K"] < 0 and s["hydrate_margin_K"] < 3.0
     what = [w["what"] for w in d["warnings"] if w["where"] == "network"]
     assert any(w.startswith("hydrate margin") and "free water can form hydrate" in w for w in what)
-    assert any(w.startswith("ice margin +1.00 K") for w in what), what
+    # free water at 1 degC: its ice point is 0 degC and the ice check has no margin (issue 10:
+    # ice is judged against the freezing point of the free water), so +1 K and no ice warning
+    assert s["ice_T_K"] == 273.15 and s["ice_margin_K"] == pytest.approx(1.0, abs=1e-5)
+    assert not any(w["kind"] == "ice" for w in d["warnings"] if w["where"] == "network")
 
 
 def test_no_water_given_assumes_saturated_feed_and_says_so():

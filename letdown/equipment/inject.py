@@ -186,6 +186,44 @@ def target_wt_pct(inh, sized_by: str, dT, point: ProtectedPoint):
 
 
 def dose(name: str, params, water_kg_s, point: ProtectedPoint) -> dict:
+    """As :func:`_dose`, for the cases that have a protected point (a finite ``point.T``); the
+    others (no gas-carrying stream downstream: nothing the dose could be sized for) get NaN
+    numbers and an empty ``protected_stream``, for the sheet to refuse."""
+    water = np.asarray(water_kg_s, dtype=float)
+    n = water.shape[0]
+    has = np.isfinite(np.asarray(point.T, float))
+    if has.all():
+        return _dose(name, params, water, point)
+    _, spec, value = checked(name, params, n)
+    rows = np.flatnonzero(has)
+    sub = None
+    if rows.size:
+        given = {k: (np.asarray(v, float)[rows] if k in SPECS and np.ndim(v) else v)
+                 for k, v in params.items()}
+        sub = _dose(name, given, water[rows], ProtectedPoint(
+            point.fluid, np.asarray(point.stream)[rows], np.asarray(point.T)[rows],
+            np.asarray(point.P)[rows], np.asarray(point.zs)[rows],
+            np.asarray(point.water_ratio)[rows], np.asarray(point.flow)[rows]))
+    inh = inhibitor(params.get("inhibitor", "methanol"))
+    sized_by, losses = options(name, params)
+    out = {"inhibitor": inh.name, "spec": spec, "sized_by": sized_by, "losses": losses}
+    for key in ("rate_kg_s", "wt_pct", "aqueous_kg_s", "vapour_kg_s", "hc_liquid_kg_s",
+                "depression_K", "depression_nielsen_bucklin_K", "depression_hydrate_model_K",
+                "protected_T_K", "protected_P_Pa"):
+        full = np.full(n, np.nan)
+        if sub is not None:
+            full[rows] = sub[key]
+        out[key] = full
+    if spec == "rate":          # a given rate is injected whatever it protects
+        out["rate_kg_s"] = value
+    stream = np.full(n, "", dtype=object)
+    if sub is not None:
+        stream[rows] = sub["protected_stream"]
+    out["protected_stream"] = stream
+    return out
+
+
+def _dose(name: str, params, water_kg_s, point: ProtectedPoint) -> dict:
     """The inhibitor this block injects, where it goes at the protected point, and what each rule
     says it achieves there.
 
@@ -203,7 +241,8 @@ def dose(name: str, params, water_kg_s, point: ProtectedPoint) -> dict:
     Returns
     -------
     dict
-        ``inhibitor``, ``sized_by``, ``losses`` (str); arrays (n,): ``rate_kg_s`` injected [kg/s];
+        ``inhibitor``, ``spec`` (``rate`` or ``depression``), ``sized_by``, ``losses`` (str);
+        arrays (n,): ``rate_kg_s`` injected [kg/s];
         ``wt_pct`` inhibitor of this block in the aqueous phase at the protected point [wt %]
         (NaN without free water); ``aqueous_kg_s``, ``vapour_kg_s``, ``hc_liquid_kg_s`` where
         the injected inhibitor goes there [kg/s] (NaN with ``losses: none``); the depressions
@@ -262,7 +301,8 @@ def dose(name: str, params, water_kg_s, point: ProtectedPoint) -> dict:
         dT["depression_nielsen_bucklin_K"][wet] = nielsen_bucklin_depression(W[wet], inh.name)
         dT["depression_hydrate_model_K"][wet] = hydrate_model_depression(
             point.fluid, point.P[wet], x_w[wet], zs=point.zs[wet])
-    return {"inhibitor": inh.name, "sized_by": sized_by, "losses": losses, "rate_kg_s": rate,
+    return {"inhibitor": inh.name, "spec": spec, "sized_by": sized_by, "losses": losses,
+            "rate_kg_s": rate,
             "wt_pct": W, "aqueous_kg_s": aq, "vapour_kg_s": vap, "hc_liquid_kg_s": hcl, **dT,
             "protected_stream": np.asarray(point.stream, dtype=object),
             "protected_T_K": np.asarray(point.T, float), "protected_P_Pa": np.asarray(point.P, float)}

@@ -10,7 +10,7 @@ balance closes to rounding. An absent phase leaves an empty outlet (zero flow, t
 The water the gas carries beside this water-free flash is split in the flowsheet's water carry
 (:mod:`letdown.sheet.freezing`): the vapour keeps at most its saturated content at the drum's T and
 P, the hydrocarbon liquid what dissolves in it, and the ``water`` outlet (a stream with no gas:
-zero flow here) gets the rest as free water.
+zero flow here, vapour fraction 0: never the inlet's vapour) gets the rest as free water.
 
 **Three phases** (``water`` is a component of the gas): the drum is adiabatic and three-phase. Its
 temperature T solves
@@ -39,6 +39,8 @@ three phases too; the name is kept from when they did not), and flags ``three_ph
 beyond :data:`T_SHIFT_FLAG` (a warning in the flowsheet result): a check that the two agree.
 """
 from __future__ import annotations
+
+import dataclasses
 
 import numpy as np
 
@@ -120,6 +122,8 @@ def run(fluid, name: str, inlets, params):
                            has_vapour)
     liquid = _phase_stream(states, "liquid", L, xs, has_liquid)
     water = _phase_stream(states, "liquid", np.zeros_like(F), inlet.zs, np.zeros_like(has_liquid))
+    # no aqueous phase in the water-free flash: an empty liquid outlet, never the inlet's vapour
+    water = dataclasses.replace(water, vapour_fraction=np.zeros_like(F))
     outlets = {"vapour": vapour, "liquid": liquid, "water": water}
     return finish(inlets, outlets, 0.0, dP=inlet.P - P_out)
 
@@ -180,7 +184,8 @@ def _three_phase(fluid, inlet, P_out, states, water_port: bool):
                   "molar_mass": np.where(present, p["molar_mass"], zs @ fluid.molar_masses)}
         values["density"] = np.where(present, p["density"],
                                      values["molar_mass"] / whole["v"])
-        vapour_fraction = np.where(present, 1.0 if name == "vapour" else 0.0, res.beta_V)
+        vapour_fraction = np.where(present, 1.0 if name == "vapour" else 0.0,
+                                   0.0 if port == "water" else res.beta_V)
         out[port] = StreamBatch(flow=flow, T=T, P=P_out, zs=xs, ys=xs, xs=xs,
                                 vapour_fraction=vapour_fraction, converged=ok, **values)
     return out

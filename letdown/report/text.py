@@ -104,8 +104,9 @@ def margins_table(result, units: str = "si", *, case: int = 0,
     """Freezing margins of every stream (streams as columns), or None when not computed.
 
     Rows: temperature, hydrate formation temperature (free water assumed) and structure, water
-    dew point, water content (per standard volume of dry gas), and the margins ``T - limit``
-    (hydrate, water dew point, ice at 0 degC, ``limits.min_T``).
+    dew point, water content (per standard volume of dry gas), the ice point of the free water
+    (blank where none can form), and the margins ``T - limit`` (hydrate, water dew point, ice,
+    ``limits.min_T``, and ``limits.outlet_min_T`` where the file sets it).
     """
     u = unit_system(units, atmosphere)
     streams = _get(result, "streams", None) or {}
@@ -138,20 +139,47 @@ def margins_table(result, units: str = "si", *, case: int = 0,
         (f"Water, dry gas [{water_unit}]",
          *(None if fz.get(water_key) is None else pick(fz.get(water_key), case) * scale
            for *_, fz in cols)),
+        (f"Ice point of free water [{T.label}]", *(temp(fz.get("ice_T_K")) for *_, fz in cols)),
         (f"Hydrate margin [{dT.label}]", *(diff(fz.get("hydrate_margin_K")) for *_, fz in cols)),
         (f"Water dew margin [{dT.label}]",
          *(diff(fz.get("water_dew_margin_K")) for *_, fz in cols)),
-        (f"Ice margin (0 degC) [{dT.label}]", *(diff(fz.get("ice_margin_K")) for *_, fz in cols)),
-        (f"min_T margin [{dT.label}]", *(diff(fz.get("min_T_margin_K")) for *_, fz in cols)),
+        (f"Ice margin [{dT.label}]", *(diff(fz.get("ice_margin_K")) for *_, fz in cols)),
+        (f"min_T (material) margin [{dT.label}]",
+         *(diff(fz.get("min_T_margin_K")) for *_, fz in cols)),
     ]
-    decimals = (2, 2, None, 2, 1, 2, 2, 2, 2)
+    decimals = (2, 2, None, 2, 1, 2, 2, 2, 2, 2)
+    if any(fz.get("outlet_min_T_margin_K") is not None for *_, fz in cols):
+        rows.append((f"outlet_min_T margin [{dT.label}]",
+                     *(diff(fz.get("outlet_min_T_margin_K")) for *_, fz in cols)))
+        decimals = decimals + (2,)
     if any(fz.get("inhibitor_wt_pct") is not None for *_, fz in cols):
         # inject blocks upstream: the inhibitor in the free water (all the water condensed)
         rows.insert(5, ("Inhibitor in free water [wt %]",
                         *(pick(fz.get("inhibitor_wt_pct"), case) for *_, fz in cols)))
         decimals = decimals[:5] + (2,) + decimals[5:]
-    return Table("Freezing margins (T - limit; hydrate temperature with free water assumed)",
-                 ("", *(n for n, *_ in cols)), tuple(rows), decimals)
+    return Table("Freezing margins (T - limit, positive on the safe side; blank where the limit "
+                 "does not exist)", ("", *(n for n, *_ in cols)), tuple(rows), decimals)
+
+
+def freezing_basis_text(result, units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:
+    """What the freezing checks assumed (the result's ``freezing_basis``), or "" without it."""
+    b = _get(result, "freezing_basis", None)
+    if not b:
+        return ""
+    dT = unit_system(units, atmosphere)["dT"]
+    T = unit_system(units, atmosphere)["T"]
+    lines = [f"  Hydrate margin wanted: {dT(b['hydrate_margin_K']):g} {dT.label} "
+             f"({b['hydrate_margin_source']}).",
+             f"  Water: {b['water']}.",
+             f"  Hydrate temperature: {b['hydrate_T']}.",
+             f"  Ice: {b['ice']}."]
+    if b.get("min_T_K") is not None:
+        lines.append(f"  limits.min_T {T(b['min_T_K']):.2f} {T.label}: the material's limit "
+                     "(checked in every stream; it switches no other check).")
+    if b.get("outlet_min_T_K") is not None:
+        lines.append(f"  limits.outlet_min_T {T(b['outlet_min_T_K']):.2f} {T.label}: the coldest "
+                     "gas allowed into the pipe downstream.")
+    return "Freezing checks assumed\n" + "\n".join(lines)
 
 
 def conditions_text(units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:
@@ -224,6 +252,9 @@ def report_text(result, units: str = "si", *, case: int = 0, atmosphere: float |
     margins = margins_table(result, units, case=case, atmosphere=atm)
     if margins is not None:
         parts.append(render(margins, width))
+    basis = freezing_basis_text(result, units, atm)
+    if basis:
+        parts.append(basis)
     for section in (dew_points_text(result, units, atm), loops_text(result),
                     goals_text(result, units, atm), warnings_text(result)):
         if section:

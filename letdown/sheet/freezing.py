@@ -56,14 +56,18 @@ With **water as a component** (listed in ``gas.composition``) the separator is a
 **Inhibitor** (``inject`` blocks, :mod:`letdown.equipment.inject`): carried the same way, per
 stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ratios`), never in the
 hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds its
-rate; a separator splits it with its phases (:func:`_separate_inhibitor`: the three-phase split
+rate; a separator splits it with its phases, whichever way the water is carried
+(:func:`_separate_inhibitor`: the three-phase split
 at the drum with ``losses: equilibrium``, all with the free water with ``losses: none``); the
 others carry it as the water. With all of a stream's water taken as free water, the
 stream's aqueous phase holds ``inhibitor_wt_pct`` and has water activity a_w = x_w
 (:func:`aqueous`), and its hydrate temperature is found with that activity. When an ``inject``
 block counts its losses (``losses: equilibrium``), each stream's aqueous phase comes instead from
 the split of water and inhibitor at the stream's own T and P (:func:`aqueous_equilibrium`), and
-the block is sized at the coldest stream downstream (:func:`protected_point`).
+the block is sized at the coldest gas-carrying stream downstream (:func:`protected_point`:
+never a separator's ``water`` or ``liquid`` outlet). A dose that did not converge, has no gas
+to protect, or exceeds :data:`MAX_DOSE_TO_GAS` of the gas mass is refused: NaN, a hazard record
+``inhibitor_dose``, and the case marked not converged (:func:`_check_dose`).
 
 Per stream and case:
 
@@ -75,25 +79,42 @@ Per stream and case:
   lowered by dissolved gas: :mod:`letdown.fluid.hydrate`, and by the stream's inhibitor), NaN
   where the gas has no hydrate former
   or no hydrate forms above 230 K;
-* margins ``T - limit`` [K] (positive: warmer than the limit): hydrate, water dew point, ice (0 degC)
-  and ``limits.min_T``.
+* ``free_water`` -- free water can be in the stream: at or below its water dew point, or a
+  separator's free water (:func:`free_water`);
+* ``ice_T`` -- where free water can form, its freezing point with the stream's inhibitor
+  (:func:`letdown.fluid.aqueous.freezing_point` of the water activity; 0 degC without
+  inhibitor), NaN elsewhere;
+* margins ``T - limit`` [K] (positive: warmer than the limit): hydrate, water dew point, ice
+  (against ``ice_T``; none where no free water can form), ``limits.min_T`` and
+  ``limits.outlet_min_T`` (the streams it covers).
 
-The warning rules (:func:`freezing_warnings`; ``m`` = ``limits.hydrate_margin``, 0 K if absent):
+The checks run on **every** solve, whatever the file holds; what they assumed is stated in the
+result (:func:`basis`: the margin and its source, the water, the rules below). The warning rules
+(:func:`freezing_warnings`; one record per stream and cause; ``m`` = ``limits.hydrate_margin``,
+or :data:`DEFAULT_HYDRATE_MARGIN` = 3 K, common practice, when absent):
 
-* **hydrate risk** where ``T < hydrate_T + m`` and ``T <= water_dew_T``: hydrate needs water, and at
-  or below its water dew point the gas has free water to form it (common practice, e.g. the gas
-  processors' handbooks: "free water" is the first condition of hydrate formation);
-* **hydrate, no free water** where ``T < hydrate_T + m`` but ``T > water_dew_T``: the gas holds no
-  liquid water by the dew point; hydrate can still grow straight from the vapour when its water
-  content exceeds the (lower) water content in equilibrium with hydrate, which is not modelled here,
-  so this is reported as a weaker warning rather than passed;
-* **ice** where ``T < 0 degC + m``: free water freezes, regulator bodies and pilot lines ice up,
-  buried pipe heaves -- unless ``limits.min_T`` is set below 0 degC, which states that the plant is
-  built for colder gas (a chilling train);
-* ``limits.min_T`` as written (no margin: it is the user's own coldest allowed temperature).
+* hydrate warnings only on streams that carry gas (:func:`gas_carrying`: not a separator's
+  ``water`` or hydrocarbon ``liquid`` outlet, not all liquid) and water: none on a hydrocarbon
+  liquid or a dry refrigerant loop;
+* **hydrate** (hazard) where ``T < hydrate_T + m`` and ``T <= water_dew_T``: hydrate needs water,
+  and at or below its water dew point the gas has free water to form it (common practice, e.g.
+  the gas processors' handbooks: "free water" is the first condition of hydrate formation);
+* **hydrate_no_free_water** (check) where ``T < hydrate_T + m`` but the gas is above its water
+  dew point, or is a separator's vapour leaving at its dew point with its free water taken out:
+  hydrate can still grow straight from the vapour when its water content exceeds the (lower)
+  content in equilibrium with hydrate (not modelled), and the margin assumes free water (slugs,
+  carry-over, a wetter day), so this is a check rather than a pass;
+* **ice** where free water can form and ``T < ice_T`` (no margin: the freezing point is a
+  property of the water, not a prediction with a scatter; the ideal-solution point is on the warm
+  side of measured ones): a hazard with free water, a check on a separator's saturated vapour;
+  ``limits.min_T`` does **not** switch it off;
+* **min_T** (hazard, :mod:`letdown.sheet.solve`): ``limits.min_T`` is the material's limit, checked
+  as written in every stream, and nothing else;
+* **outlet_min_T** (hazard): the user's rule for the pipe downstream (buried pipe: frost heave;
+  exposed pipe, coatings), ``limits.outlet_min_T`` as written, on the streams named or every gas
+  outlet (:func:`outlet_rule`).
 
-The checks run when the file has a ``limits`` section or ``gas.water``; the numbers are computed for
-every solve either way.
+Engineering estimates; designs must follow local codes and be checked by qualified, licensed staff.
 """
 from __future__ import annotations
 
@@ -104,6 +125,7 @@ import numpy as np
 from ..equipment.inject import PARAM_DETAILS, ProtectedPoint, dose
 from ..errors import ConvergenceError, InputError
 from ..fluid.hydrate import LANGMUIR
+from ..fluid.aqueous import density as aqueous_density, freezing_point
 from ..fluid.inhibitor import INHIBITORS, partition
 from ..fluid.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE, water_content,
                            water_dew_point)
@@ -113,6 +135,11 @@ from .result import WarningRecord
 #: The ice point used for the ice margin [K] (pure water at about 1 atm; the depression by pressure,
 #: 0.0073 K/bar, is within any margin; common practice).
 ICE_T = 273.15
+#: The hydrate margin of the checks when the file gives no ``limits.hydrate_margin`` [K]: 3 K
+#: (about 5 degF) above the predicted hydrate temperature is what station engineers commonly keep
+#: (common practice; 3-5 K), covering the prediction's own error of 1-2 K and the swing of the
+#: gas temperature.
+DEFAULT_HYDRATE_MARGIN = 3.0
 #: A loop's water ratios are iterated until no ratio changes by more than this, relative [-] ...
 LOOP_TOLERANCE = 1e-12
 #: ... or for this many passes (a recycle of fraction f converges as f^k; 500 passes cover f = 0.95).
@@ -151,6 +178,19 @@ class StreamFreezing:
     inhibitor_flow : ndarray (n, k) or None
         All the inhibitor the stream carries [mol/s]: ``inhibitor_ratio`` times the dry flow plus
         what a separator sent with its free water (None: no inhibitor anywhere).
+    free_water : ndarray of bool (n,) or None
+        Free (liquid) water can be in the stream: it is at or below its water dew point, or it
+        carries a separator's free water (:func:`free_water`).
+    ice_T : ndarray (n,) or None
+        Freezing point of that free water with its inhibitor [K] (:func:`letdown.fluid.aqueous.
+        freezing_point` of ``water_activity``; 273.15 K without inhibitor); NaN where no free
+        water can form.
+    outlet_min_T : float or None
+        ``limits.outlet_min_T`` [K] where the rule applies to this stream.
+    aqueous_density : ndarray (n,) or None
+        Density of the free water and its inhibitor where the stream holds nothing else (a
+        separator's ``water`` outlet, water beside the gas) [kg/m3]
+        (:func:`letdown.fluid.aqueous.density`); NaN elsewhere.
     """
 
     water_ratio: np.ndarray
@@ -162,6 +202,10 @@ class StreamFreezing:
     water_activity: np.ndarray | None = None
     water_flow: np.ndarray | None = None
     inhibitor_flow: np.ndarray | None = None
+    free_water: np.ndarray | None = None
+    ice_T: np.ndarray | None = None
+    outlet_min_T: float | None = None
+    aqueous_density: np.ndarray | None = None
 
     @property
     def water_mole_fraction(self) -> np.ndarray:
@@ -404,8 +448,20 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
     n = next(iter(streams.values())).n_cases
     if "water" in fluid.components:
         iw = fluid.components.index("water")
+        water = lambda s: np.asarray(streams[s].zs, float)[:, iw] * np.asarray(streams[s].flow,
+                                                                              float)
+        free, split = {}, {}
+        for block, spec in fs.blocks.items():
+            if spec.kind != "separator" or "water" not in spec.outlets:
+                continue
+            wat = spec.outlets["water"]
+            free[wat] = water(wat)
+            split[block] = {"water_in_mol_s": water(spec.inlets["in"]),
+                            "water_in_vapour_mol_s": water(spec.outlets["vapour"]),
+                            "water_in_liquid_mol_s": water(spec.outlets["liquid"]),
+                            "free_water_mol_s": free[wat]}
         return WaterCarry({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
-                           for name, s in streams.items()}, {}, {}, [], iw)
+                           for name, s in streams.items()}, free, split, [], iw)
     r, notes = _feed_ratios(fs, fluid, streams)
     free: dict = {}
     split: dict = {}
@@ -437,30 +493,63 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
 PROTECTED_T_TIE = 1e-6
 
 
+def gas_carrying(fs, streams, name) -> np.ndarray:
+    """Cases in which stream ``name`` carries gas [bool (n,)]: it flows, has a vapour (vapour
+    fraction above 0; a single dense phase named vapour-like counts), and is not a separator's
+    ``water`` or ``liquid`` outlet (free water, or a hydrocarbon liquid that left its gas in the
+    drum). Only such streams are protected points of an inhibitor dose and get hydrate warnings."""
+    s = streams[name]
+    out = (np.asarray(s.flow, float) > 0.0) & (np.nan_to_num(np.asarray(s.vapour_fraction,
+                                                                         float)) > 0.0)
+    for spec in fs.blocks.values():
+        if spec.kind == "separator" and name in (spec.outlets.get("water"),
+                                                 spec.outlets.get("liquid")):
+            return np.zeros(out.shape, bool)
+    return out
+
+
 def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:
-    """The coldest flowing stream downstream of an ``inject`` block, per case (the point its dose
-    must protect; :class:`letdown.equipment.inject.ProtectedPoint`). Of streams equally cold (to
-    :data:`PROTECTED_T_TIE` K; a separator's inlet and its outlets), the one carrying the most
-    water per dry gas: the drum's inlet with all the free water, not its saturated vapour."""
+    """The coldest gas-carrying stream downstream of an ``inject`` block, per case (the point its
+    dose must protect; :class:`letdown.equipment.inject.ProtectedPoint`). Only streams that carry
+    gas count (:func:`gas_carrying`): never a separator's water outlet (free water only: sized
+    there, a dose per mole of gas became a dose per mole of water, 1e8 kg/h and more) nor its
+    hydrocarbon-liquid outlet. Of streams equally cold (to :data:`PROTECTED_T_TIE` K; a
+    separator's inlet and its vapour), the one carrying the most water per dry gas: the drum's
+    inlet with all the free water, not its saturated vapour. Cases with no gas-carrying stream
+    downstream get a NaN point (nothing to protect; the dose refuses them)."""
     names = [s for s in downstream_streams(fs, block) if s in streams]
-    T = np.stack([np.where(np.asarray(streams[s].flow, float) > 0.0,
-                           np.asarray(streams[s].T, float), np.inf) for s in names])
+    carries = np.stack([gas_carrying(fs, streams, s) for s in names])
+    T = np.stack([np.where(carries[k], np.asarray(streams[s].T, float), np.inf)
+                  for k, s in enumerate(names)])
     n = T.shape[1]
     W = np.stack([np.broadcast_to(np.asarray(water[s], float), (n,)) for s in names])
     coldest = T <= T.min(axis=0) + PROTECTED_T_TIE
-    k = np.argmax(np.where(coldest, np.nan_to_num(W, nan=-1.0), -np.inf), axis=0)
+    k = np.argmax(np.where(coldest & carries, np.nan_to_num(W, nan=-1.0), -np.inf), axis=0)
     rows = np.arange(n)
-    pick = lambda get: np.stack([np.asarray(get(streams[s]), float) for s in names])[k, rows]
+    none = ~carries.any(axis=0)
+    pick = lambda get: np.where(none, np.nan, np.stack([np.asarray(get(streams[s]), float)
+                                                        for s in names])[k, rows])
     zs = np.stack([np.asarray(streams[s].zs, float) for s in names])[k, rows]
-    w = W[k, rows]
+    w = np.where(none, np.nan, W[k, rows])
     inlet = fs.blocks[block].inlets["in"]
-    return ProtectedPoint(fluid, np.array([names[i] for i in k], dtype=object),
+    return ProtectedPoint(fluid, np.array(["" if none[i] else names[j] for i, j in enumerate(k)],
+                                          dtype=object),
                           pick(lambda st: st.T), pick(lambda st: st.P), zs, w,
-                          np.asarray(streams[inlet].flow, float))
+                          dry_flow(fluid, streams[inlet]))
+
+
+def dry_flow(fluid, stream) -> np.ndarray:
+    """Molar flow of a stream's dry gas [mol/s]: its flow, less its water where water is a
+    component of the gas (the basis of every ratio per dry gas)."""
+    F = np.asarray(stream.flow, float)
+    if "water" in fluid.components:
+        return F * (1.0 - np.asarray(stream.zs, float)[:, fluid.components.index("water")])
+    return F
 
 
 def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium):
-    """Split a separator's inlet inhibitor between its outlets (water carried beside the gas).
+    """Split a separator's inlet inhibitor between its outlets (water beside the gas or a
+    component of it; ratios per mole of dry gas, :func:`dry_flow`).
 
     With equilibrium losses (any ``inject`` block on ``losses: equilibrium``) the split is the
     three-phase one at the drum's T and P (:func:`letdown.fluid.inhibitor.partition` of the inlet
@@ -479,9 +568,9 @@ def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilib
     wat = spec.outlets.get("water")
     zero = np.zeros((n, k))
     r_in = np.broadcast_to(np.asarray(r.get(inlet, zero), float), (n, k))
-    F = np.asarray(streams[inlet].flow, float)[:, None]
-    FV = np.asarray(streams[vap].flow, float)[:, None]
-    FL = np.asarray(streams[liq].flow, float)[:, None]
+    F = dry_flow(fluid, streams[inlet])[:, None]
+    FV = dry_flow(fluid, streams[vap])[:, None]
+    FL = dry_flow(fluid, streams[liq])[:, None]
     to_V, to_L, to_W = zero.copy(), zero.copy(), zero.copy()
     rows = np.flatnonzero((r_in.sum(axis=1) > 0.0) & (F[:, 0] > 0.0))
     if rows.size and equilibrium:
@@ -491,7 +580,9 @@ def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilib
                       np.asarray(water.ratios[inlet], float)[rows], r_in[rows])
         to_V[rows], to_L[rows], to_W[rows] = p.vapour, p.hc_liquid, p.aqueous
     elif rows.size:
-        drops = np.asarray(water.separators[block]["free_water_mol_s"], float) > 0.0
+        split = water.separators.get(block)
+        drops = (np.asarray(split["free_water_mol_s"], float) > 0.0 if split is not None
+                 else np.zeros(n, bool))
         to_W[rows] = np.where(drops[rows, None], r_in[rows], 0.0)
         to_V[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FV[rows] / F[rows])
         to_L[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FL[rows] / F[rows])
@@ -505,6 +596,53 @@ def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilib
         r[liq] = per(to_L, FL)
         r[wat] = zero.copy()
         free[wat] = to_W * F
+
+
+#: An inhibitor dose above this fraction of the mass of the gas it is injected into is refused as
+#: not a hydrate-inhibitor dose [kg/kg]. Methanol doses at let-down stations and chilling trains
+#: are of the order of a kilogram per thousand standard cubic metres (about 0.1 % of the gas
+#: mass; from memory), aqueous need plus vapour losses; 2 % is our own bound, well above any
+#: design seen, far below the 1e8 kg/h that a dose sized on a water-only stream gave (issue 10).
+MAX_DOSE_TO_GAS = 0.02
+
+
+def _check_dose(block, d, inlet, water_kg_s, why=None) -> list:
+    """Refuse the cases of a dose that failed or is absurd against the gas and water it treats:
+    their rate becomes NaN (so no number is printed as if converged) and a hazard record
+    ``inhibitor_dose`` names them (the sheet marks those cases not converged). Returns the
+    records (empty when the dose is sound)."""
+    rate = np.asarray(d["rate_kg_s"], float)
+    gas_kg_s = np.asarray(inlet.mass_flow, float)
+    no_point = np.asarray([not s for s in d["protected_stream"]], bool)
+    # a rate the file gives is an input (checked where inputs are); a rate found is checked here
+    absurd = np.isfinite(rate) & (rate > MAX_DOSE_TO_GAS * gas_kg_s) & (d.get("spec") != "rate")
+    failed = ~np.isfinite(rate) & ~no_point if why is None else np.ones(rate.shape, bool)
+    out = []
+    for mask, text in (
+            (failed, why or "the dose is not a number (the inhibitor split at the protected "
+                            "point failed)"),
+            (no_point & ~failed & ~np.isfinite(rate), "no stream downstream carries gas to protect (only free water or "
+                                 "hydrocarbon liquid): a dose sized by depression has no point to "
+                                 "hold at"),
+            (absurd, "the dose found, {r:.4g} kg/h, is more than {lim:g} % of the "
+                     "{g:.4g} kg/h of gas it is injected into (water carried {w:.4g} kg/h): not "
+                     "a hydrate-inhibitor dose; check the water and the protected point")):
+        if not mask.any():
+            continue
+        i = int(np.flatnonzero(mask)[0])
+        out.append(WarningRecord(block, "inhibitor dose refused: " + text.format(
+            r=rate[i] * 3600.0, lim=100 * MAX_DOSE_TO_GAS, g=gas_kg_s[i] * 3600.0,
+            w=water_kg_s[i] * 3600.0), tuple(np.flatnonzero(mask).tolist()),
+            kind="inhibitor_dose", severity="hazard",
+            numbers={"rate_kg_s": rate.copy(), "gas_mass_flow_kg_s": gas_kg_s,
+                     "water_kg_s": np.asarray(water_kg_s, float),
+                     "max_dose_to_gas": MAX_DOSE_TO_GAS}))
+    bad = failed | absurd | (no_point & ~np.isfinite(rate))
+    if bad.any():
+        for key in ("rate_kg_s", "wt_pct", "aqueous_kg_s", "vapour_kg_s", "hc_liquid_kg_s",
+                    "depression_K", "depression_nielsen_bucklin_K", "depression_hydrate_model_K"):
+            d[key] = np.where(bad, np.nan, np.asarray(d[key], float))
+    return out
 
 
 def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=None
@@ -548,7 +686,6 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
 
     free = {} if free is None else free
     warned: set = set()
-    beside = fluid is not None and "water" not in fluid.components
 
     # the loss treatment of the sheet (as stream_freezing decides it): equilibrium if any inject
     # block asks for it (an invalid value is refused, with its place, by the block's dose below)
@@ -558,23 +695,33 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
 
     def through(block):
         spec = fs.blocks[block]
-        if spec.kind == "separator" and beside:
+        if spec.kind == "separator" and fluid is not None:
             _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium)
             return
         if spec.kind != "inject":
             _mix(fs, block, streams, r, n, k)
             return
         inlet = spec.inlets["in"]
-        flow = np.asarray(streams[inlet].flow, float)
+        flow = dry_flow(fluid, streams[inlet])
         if block not in doses:
             try:
                 given = (params or {}).get(block, spec.params)
                 point = protected_point(fs, fluid, streams, water.ratios, block)
-                doses[block] = dose(block, given, flow * water.ratios[inlet] * M_WATER, point)
+                water_kg_s = water.flow(inlet, streams[inlet]) * M_WATER
+                try:
+                    doses[block] = dose(block, given, water_kg_s, point)
+                    why = None
+                except ConvergenceError as exc:
+                    # refused below in every case: no number comes out of a failed search
+                    doses[block] = dose(block, given, water_kg_s, ProtectedPoint(
+                        fluid, point.stream, np.full(n, np.nan), point.P, point.zs,
+                        point.water_ratio, point.flow))
+                    why = f"the dose search did not converge ({exc.message})"
             except InputError as exc:
                 w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
                 raise exc.located(file=(w.file if w else None) or fs.source,
                                   line=w.line if w else spec.where.line) from None
+            notes.extend(_check_dose(block, doses[block], streams[inlet], water_kg_s, why))
         d = doses[block]
         if block not in warned and d["losses"] == "equilibrium":
             warned.add(block)
@@ -589,7 +736,8 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
                                            kind="inhibitor_hc_loss", severity="check"))
         j = INHIBITOR_NAMES.index(d["inhibitor"])
         added = np.zeros((n, k))
-        added[:, j] = np.where(flow > 0.0, d["rate_kg_s"] / (INHIBITORS[d["inhibitor"]].M * 1e-3)
+        added[:, j] = np.where(flow > 0.0, np.nan_to_num(d["rate_kg_s"])
+                               / (INHIBITORS[d["inhibitor"]].M * 1e-3)
                                / np.where(flow > 0.0, flow, 1.0), 0.0)
         r[spec.outlets["out"]] = np.asarray(r.get(inlet, np.zeros((n, k))), float) + added
 
@@ -781,16 +929,28 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
                                    kind="hydrate_unconverged", severity="check"))
     out = {}
     dosed = bool(block_doses)
+    rule_T, rule_streams = outlet_rule(fs, streams)
     for k, s in enumerate(names):
         sl = slice(k * n, (k + 1) * n)
+        free = free_water(streams[s], dew[sl], carried.free.get(s))
+        rho = None
+        if s in carried.free and carried.water_index is None:
+            only = (np.asarray(streams[s].flow, float) <= 0.0) & (carried.free[s] > 0.0)
+            fi = free_inh.get(s, np.zeros((n, len(INHIBITOR_NAMES))))
+            rho = np.where(only, aqueous_density(
+                np.asarray(streams[s].T, float), carried.free[s] * M_WATER,
+                {nm: fi[:, j] * INHIBITORS[nm].M * 1e-3 for j, nm in enumerate(INHIBITOR_NAMES)}),
+                np.nan)
         out[s] = StreamFreezing(shown[s].copy(), dew[sl].copy(), hT[sl].copy(),
                                 np.asarray(hs[sl], dtype=object),
                                 inh[s].copy() if dosed else None,
                                 wt[sl].copy() if dosed else None,
                                 aw[sl].copy() if dosed else None,
                                 carried.flow(s, streams[s]),
-                                (inh[s] * np.asarray(streams[s].flow, float)[:, None]
-                                 + free_inh.get(s, 0.0)) if dosed else None)
+                                (inh[s] * dry_flow(fluid, streams[s])[:, None]
+                                 + free_inh.get(s, 0.0)) if dosed else None,
+                                free, np.where(free, freezing_point(aw[sl]), np.nan),
+                                rule_T if s in rule_streams else None, rho)
     if doses is not None:
         for b, split in carried.separators.items():
             doses[b] = {**split, "free_water_kg_s": split["free_water_mol_s"] * M_WATER}
@@ -821,12 +981,13 @@ def inject_params(fs, outcomes) -> dict:
 def inject_doses(fs, fluid, streams, steps, params=None) -> dict:
     """The ``inject`` blocks' details without the hydrate solves (for a solve without margins):
     ``inhibitor_rate_kg_s``, ``inhibitor_wt_pct``, ``hydrate_depression_K`` (see
-    :func:`stream_freezing`)."""
+    :func:`stream_freezing`), and the records of any dose refused (kind ``inhibitor_dose``)."""
     if not any(b.kind == "inject" for b in fs.blocks.values()):
-        return {}
+        return {}, []
     carried = water_flows(fs, fluid, streams, steps)
-    _, block_doses, _ = inhibitor_ratios(fs, streams, steps, carried, params, fluid)
-    return {b: dose_details(d) for b, d in block_doses.items()}
+    _, block_doses, notes = inhibitor_ratios(fs, streams, steps, carried, params, fluid)
+    return ({b: dose_details(d) for b, d in block_doses.items()},
+            [w for w in notes if w.kind == "inhibitor_dose"])
 
 
 def dose_details(d) -> dict:
@@ -847,57 +1008,137 @@ def dose_details(d) -> dict:
             "protected_P_Pa": d["protected_P_Pa"]}
 
 
-def margins(stream, fz: StreamFreezing, min_T=None) -> dict:
-    """Margins ``T - limit`` [K] of a stream batch: hydrate, water dew point, ice, min_T."""
+def free_water(stream, water_dew_T, free=None) -> np.ndarray:
+    """Cases in which a stream can hold free (liquid) water [bool (n,)]: it is at or below its
+    water dew point (:data:`DEW_T_SLACK`), or it carries a separator's free water (``free``
+    [mol/s], a ``water`` outlet or a drum's liquid without a water port)."""
     T = np.asarray(stream.T, float)
-    return {"hydrate": T - fz.hydrate_T, "water_dew": T - fz.water_dew_T, "ice": T - ICE_T,
-            "min_T": T - min_T if min_T is not None else np.full(T.shape, np.nan)}
+    out = T <= np.asarray(water_dew_T, float) + DEW_T_SLACK
+    if free is not None:
+        out |= np.asarray(free, float) > 0.0
+    return out
 
 
-def checks_active(fs) -> bool:
-    """Whether the flowsheet asks for freezing warnings (a ``limits`` section or ``gas.water``)."""
-    return bool(fs.limits) or fs.gas.water is not None
+def hydrate_margin(fs) -> tuple[float, str]:
+    """The hydrate margin of the checks [K] and where it comes from: ``limits.hydrate_margin``,
+    or :data:`DEFAULT_HYDRATE_MARGIN` (common practice) when the file gives none."""
+    if "hydrate_margin" in fs.limits:
+        return float(fs.limits["hydrate_margin"]), "limits.hydrate_margin"
+    return DEFAULT_HYDRATE_MARGIN, "the default, common practice; set limits.hydrate_margin"
+
+
+def outlet_rule(fs, streams) -> tuple[float | None, tuple]:
+    """``limits.outlet_min_T`` [K] and the streams it applies to: those the file names, else
+    every gas outlet of the sheet (a stream no block takes in, not a feed, not a separator's
+    water or liquid outlet)."""
+    T = fs.limits.get("outlet_min_T")
+    if T is None:
+        return None, ()
+    named = fs.limits.get("outlet_streams")
+    if named:
+        return float(T), tuple(named)
+    taken = {s for b in fs.blocks.values() for s in b.inlets.values()}
+    drains = {s for b in fs.blocks.values() if b.kind == "separator"
+              for p, s in b.outlets.items() if p in ("water", "liquid")}
+    return float(T), tuple(s for s in streams
+                           if s not in taken and s not in fs.feeds and s not in drains)
+
+
+def basis(fs, fluid) -> dict:
+    """What the freezing checks assumed, for the report and the JSON (``freezing_basis``):
+    ``hydrate_margin_K`` and ``hydrate_margin_source``; ``water`` (where each stream's water
+    comes from); ``hydrate_T`` and ``ice`` (what each limit assumes); ``min_T_K`` and
+    ``outlet_min_T_K`` (None when not given)."""
+    m, source = hydrate_margin(fs)
+    if "water" in fluid.components:
+        water = "water as a component of the gas (each stream's own water)"
+    elif fs.gas.water is None:
+        water = ("no gas.water: every feed taken as saturated with water at its own temperature "
+                 "and pressure (the safe assumption for hydrates)")
+    else:
+        water = "given in gas.water, carried through the blocks; separators take out free water"
+    return {"hydrate_margin_K": m, "hydrate_margin_source": source, "water": water,
+            "hydrate_T": "free water assumed (vdW-P; lowered by the stream's inhibitor); a "
+                         "hazard where the stream is at or below its water dew point, a check "
+                         "above it",
+            "ice": "judged only where free water can form (at or below the water dew point, or "
+                   "a separator's free water), against its freezing point lowered by the "
+                   "inhibitor it carries; no margin",
+            "min_T_K": fs.limits.get("min_T"), "outlet_min_T_K": fs.limits.get("outlet_min_T")}
+
+
+def _separator_port(fs, name, port) -> bool:
+    return any(b.kind == "separator" and b.outlets.get(port) == name for b in fs.blocks.values())
 
 
 def freezing_warnings(fs, streams, freezing) -> list:
-    """Warnings for streams inside a margin (see the module docstring for the rules)."""
+    """Warnings for streams inside a margin (module docstring, "The warning rules"): one
+    :class:`WarningRecord` per stream and cause, with its numbers (SI)."""
     out = []
-    m = float(fs.limits.get("hydrate_margin", 0.0))
-    min_T = fs.limits.get("min_T")
-    ice_applies = min_T is None or min_T >= ICE_T
+    m, source = hydrate_margin(fs)
+    rule_T, rule_streams = outlet_rule(fs, streams)
     for name, s in streams.items():
         fz = freezing[name]
         T = np.asarray(s.T, float)
-        flowing = np.asarray(s.flow, float) > 0.0
-        near = flowing & (T < fz.hydrate_T + m)
-        wet = T <= fz.water_dew_T + DEW_T_SLACK
-        for wet_case, mask, tail in ((True, near & wet, "and at or below its water dew point {dew}: free water can "
-                                        "form hydrate (hydrate risk)"),
-                           (False, near & ~wet, "but above its water dew point {dew}: no free water by the "
-                                         "dew point; hydrate straight from the vapour is not "
-                                         "modelled (check, or keep the margin)")):
-            if mask.any():
-                i = int(np.flatnonzero(mask)[0])
-                dew = (f"{fz.water_dew_T[i] - 273.15:.2f} degC" if np.isfinite(fz.water_dew_T[i])
-                       else "(dry gas)")
+        P = np.asarray(s.P, float)
+        flowing = (np.asarray(s.flow, float) > 0.0) | (np.nan_to_num(fz.water_flow) > 0.0
+                                                        if fz.water_flow is not None else False)
+        carries = gas_carrying(fs, streams, name)
+        water = np.nan_to_num(fz.water_ratio) > 0.0
+        free = fz.free_water if fz.free_water is not None else np.zeros(T.shape, bool)
+        # a drum's vapour leaves at its own dew point with its free water taken out
+        drum_vapour = _separator_port(fs, name, "vapour")
+        saturated = drum_vapour & (np.abs(T - fz.water_dew_T) <= DEW_T_SLACK)
+        wet = free & ~saturated
+        near = carries & water & (T < fz.hydrate_T + m)
+        numbers = {"T_K": T, "hydrate_T_K": fz.hydrate_T, "P_Pa": P, "margin_K": T - fz.hydrate_T,
+                   "wanted_margin_K": m, "water_dew_T_K": fz.water_dew_T}
+        for mask, kind, severity, tail in (
+                (near & wet, "hydrate", "hazard",
+                 "and at or below its water dew point {dew}: free water can form hydrate"),
+                (near & ~wet, "hydrate_no_free_water", "check",
+                 "{sat}; the margin assumes free water (slugs, carry-over, a wetter day): "
+                 "check the water, or keep the margin")):
+            if not mask.any():
+                continue
+            i = int(np.flatnonzero(mask)[0])
+            dew = (f"{fz.water_dew_T[i] - 273.15:.2f} degC" if np.isfinite(fz.water_dew_T[i])
+                   else "(dry gas)")
+            sat = (f"at its water dew point {dew}, its free water taken out by the separator"
+                   if saturated[i] else f"but above its water dew point {dew}: no free water by "
+                                        "the dew point")
+            out.append(WarningRecord(name, (
+                f"hydrate margin {T[i] - fz.hydrate_T[i]:+.2f} K is below the {m:g} K wanted "
+                f"({source}): {T[i] - 273.15:.2f} degC against a hydrate temperature of "
+                f"{fz.hydrate_T[i] - 273.15:.2f} degC at {P[i] / 1e5:.4g} bar "
+                f"({fz.hydrate_structure[i]}), " + tail.format(dew=dew, sat=sat)),
+                tuple(np.flatnonzero(mask).tolist()), kind=kind, severity=severity,
+                numbers=numbers))
+        if fz.ice_T is not None:
+            cold = flowing & (free | saturated) & (T < fz.ice_T)
+            if cold.any():
+                i = int(np.flatnonzero(cold)[0])
+                hazard = bool(np.any(cold & wet))
+                inhibited = fz.ice_T[i] < ICE_T - 1e-9
                 out.append(WarningRecord(name, (
-                    f"hydrate margin {T[i] - fz.hydrate_T[i]:+.2f} K is below the {m:g} K wanted: "
-                    f"{T[i] - 273.15:.2f} degC against a hydrate temperature of "
-                    f"{fz.hydrate_T[i] - 273.15:.2f} degC at {s.P[i] / 1e5:.4g} bar ({fz.hydrate_structure[i]}), "
-                    + tail.format(dew=dew)), tuple(np.flatnonzero(mask).tolist()),
-                    kind="hydrate", severity="hazard" if wet_case else "check",
-                    numbers={"T_K": T, "hydrate_T_K": fz.hydrate_T, "P_Pa": np.asarray(s.P, float),
-                             "margin_K": T - fz.hydrate_T, "wanted_margin_K": m,
+                    f"ice: {T[i] - 273.15:.2f} degC is {fz.ice_T[i] - T[i]:.2f} K below the "
+                    f"freezing point of its free water ({fz.ice_T[i] - 273.15:.2f} degC"
+                    + (", lowered by its inhibitor" if inhibited else "") + ")"
+                    + (": free water freezes; regulator bodies and pilot lines ice up"
+                       if hazard else ": at its water dew point, the drum took its free water; "
+                                      "any further cooling condenses water that freezes")),
+                    tuple(np.flatnonzero(cold).tolist()), kind="ice",
+                    severity="hazard" if hazard else "check",
+                    numbers={"T_K": T, "ice_T_K": fz.ice_T, "margin_K": T - fz.ice_T,
                              "water_dew_T_K": fz.water_dew_T}))
-        if ice_applies:
-            cold = flowing & (T < ICE_T + m)
+        if rule_T is not None and name in rule_streams:
+            cold = flowing & (T < rule_T)
             if cold.any():
                 i = int(np.flatnonzero(cold)[0])
                 out.append(WarningRecord(name, (
-                    f"ice margin {T[i] - ICE_T:+.2f} K is below the {m:g} K wanted: "
-                    f"{T[i] - 273.15:.2f} degC (free water freezes; regulator bodies and pilot "
-                    "lines ice up; buried pipe heaves)"), tuple(np.flatnonzero(cold).tolist()),
-                    kind="ice", severity="hazard",
-                    numbers={"T_K": T, "ice_T_K": ICE_T, "margin_K": T - ICE_T,
-                             "wanted_margin_K": m}))
+                    f"{T[i] - 273.15:.2f} degC is below limits.outlet_min_T "
+                    f"{rule_T - 273.15:.2f} degC, the coldest gas allowed into the pipe "
+                    "downstream"), tuple(np.flatnonzero(cold).tolist()), kind="outlet_min_T",
+                    severity="hazard",
+                    numbers={"T_K": T, "outlet_min_T_K": rule_T, "margin_K": T - rule_T}))
     return out

@@ -788,6 +788,23 @@ def _limits(doc: _Doc, q: _Quantities) -> dict:
         if out["hydrate_margin"] < 0.0:
             raise doc.err(f"a hydrate margin must not be negative, got {raw['hydrate_margin']!r}",
                           ("limits", "hydrate_margin"), key=False)
+    if "outlet_min_T" in raw:
+        # the coldest gas allowed into the pipe downstream of the station (buried pipe: frost
+        # heave; exposed pipe and coatings): a temperature for every gas outlet, or {T, streams}
+        rule = raw["outlet_min_T"]
+        if isinstance(rule, dict):
+            if "T" not in rule:
+                raise doc.err("give the rule's temperature as T (and the streams it applies to "
+                              "as streams)", ("limits", "outlet_min_T"))
+            out["outlet_min_T"] = q(rule["T"], "temperature", ("limits", "outlet_min_T", "T"))
+            streams = rule.get("streams")
+            if streams is not None:
+                if not isinstance(streams, list) or not all(isinstance(x, str) for x in streams):
+                    raise doc.err("streams must be a list of stream names",
+                                  ("limits", "outlet_min_T", "streams"), key=False)
+                out["outlet_streams"] = tuple(streams)
+        else:
+            out["outlet_min_T"] = q(rule, "temperature", ("limits", "outlet_min_T"))
     return out
 
 
@@ -983,8 +1000,13 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
         streams.update(b.outlets.values())
     measurements = _measurements(doc, (streams, blocks), atmosphere)
     cases = _cases(doc, q, feeds, blocks, goals, gas.composition)
+    limits = _limits(doc, q)
+    for k, name in enumerate(limits.get("outlet_streams", ())):
+        if name not in streams:
+            raise doc.err(f"no stream named {name!r} (streams: {', '.join(sorted(streams))})",
+                          ("limits", "outlet_min_T", "streams", k), key=False)
     fs = Flowsheet(title=title, gas=gas, feeds=feeds, blocks=blocks, goals=goals,
-                   limits=_limits(doc, q), solver=solver, source=source,
+                   limits=limits, solver=solver, source=source,
                    extra={"atmosphere": atmosphere, "normalise": normalise}, guesses=guesses,
                    measurements=measurements, cases=cases)
     from .graph import build_graph

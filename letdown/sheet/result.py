@@ -33,8 +33,6 @@ INHIBITOR_M = np.array([INHIBITORS[nm].M * 1e-3 for nm in INHIBITORS])
 MOLE_CLOSURE = 1e-9
 #: Largest relative energy-balance closure accepted for any block (DESIGN.md requirement).
 ENERGY_CLOSURE = 1e-6
-#: The ice point of the ice margin [K] (as :data:`letdown.sheet.freezing.ICE_T`).
-ICE_T = 273.15
 
 
 @dataclass(frozen=True)
@@ -61,15 +59,31 @@ class StreamResult:
     density : float  [kg/m3]
     molar_mass : float  [kg/mol]
     converged : bool  the stream's case was solved (False: its case failed, every number is NaN)
+    A stream with zero flow reports its ``T`` and ``P`` (the state of the block it leaves) and
+    None for every other property and its compositions, except a separator's ``water`` outlet
+    carrying free water beside the gas: vapour fraction 0 and the density of that water with its
+    inhibitor (:func:`letdown.fluid.aqueous.density`).
+
     freezing : dict or None
         Water and hydrate figures when they were computed (JSON keys, SI): ``water_mg_Sm3`` (per
         Sm3 of dry gas; None for a separator's water outlet, which holds no gas),
         ``water_mole_fraction``, ``water_flow_mol_s`` and ``water_flow_kg_s`` (all the water the
         stream carries), with inject blocks ``inhibitor_wt_pct``, ``water_activity`` and
         ``inhibitor_flow_kg_s`` (all the inhibitor the stream carries), ``water_dew_T_K``, ``hydrate_T_K``,
-        ``hydrate_structure`` and the margins ``T - limit`` ``hydrate_margin_K``,
-        ``water_dew_margin_K``, ``ice_margin_K``, ``min_T_margin_K`` (None where the limit does
-        not exist: dry gas, no hydrate former, no ``limits.min_T``).
+        ``hydrate_structure``, ``ice_T_K`` and the margins ``T - limit`` [K], positive when the
+        stream is warmer than the limit, None where the limit does not exist:
+
+        * ``hydrate_margin_K``: T minus the hydrate formation temperature at the stream's
+          pressure, free water assumed, lowered by the stream's inhibitor (None: no hydrate
+          former, or none above 230 K);
+        * ``water_dew_margin_K``: T minus the water dew point (negative: free water can form;
+          None: dry gas, or a stream of free water only);
+        * ``ice_margin_K``: T minus the freezing point of the stream's free water with its
+          inhibitor (``ice_T_K``); None where no free water can form (above the water dew point,
+          no separator free water);
+        * ``min_T_margin_K``: T minus ``limits.min_T``, the material's limit (None without it);
+        * ``outlet_min_T_margin_K``: T minus ``limits.outlet_min_T`` for the streams that rule
+          covers (None elsewhere).
     """
 
     name: str
@@ -108,8 +122,11 @@ class StreamResult:
                   "hydrate_structure": str(freezing.hydrate_structure[i]) or None,
                   "hydrate_margin_K": _num(T - freezing.hydrate_T[i]),
                   "water_dew_margin_K": _num(T - freezing.water_dew_T[i]),
-                  "ice_margin_K": _num(T - ICE_T),
-                  "min_T_margin_K": None if min_T is None else _num(T - min_T)}
+                  "ice_T_K": _num(_at(freezing.ice_T, i)),
+                  "ice_margin_K": _num(T - _at(freezing.ice_T, i)),
+                  "min_T_margin_K": None if min_T is None else _num(T - min_T),
+                  "outlet_min_T_margin_K": None if freezing.outlet_min_T is None
+                  else _num(T - freezing.outlet_min_T)}
             if freezing.inhibitor_wt_pct is not None:
                 # inhibitor from inject blocks, all the water taken as free water
                 fz["inhibitor_wt_pct"] = _num(freezing.inhibitor_wt_pct[i])
@@ -121,6 +138,25 @@ class StreamResult:
                 # all the water the stream carries (a separator's water outlet: its free water)
                 fz["water_flow_mol_s"] = _num(freezing.water_flow[i])
                 fz["water_flow_kg_s"] = _num(freezing.water_flow[i] * M_WATER)
+        if not float(stream.flow[i]) > 0.0:
+            # a zero-flow stream has no properties of its own (its T and P, the state of the
+            # block it leaves, stay); a separator's water outlet with free water beside the gas
+            # is that aqueous liquid: vapour fraction 0 and its own density
+            blank = {c: None for c in components}
+            rho = _at(getattr(freezing, "aqueous_density", None), i) if freezing is not None \
+                else math.nan
+            aqueous = math.isfinite(rho)
+            if fz is not None and not aqueous:
+                # nor figures that follow from a composition it does not carry
+                fz = {k: (v if k in ("water_flow_mol_s", "water_flow_kg_s",
+                                     "inhibitor_flow_kg_s") else None) for k, v in fz.items()}
+            return cls(name=name, T=float(stream.T[i]), P=float(stream.P[i]),
+                       flow=float(stream.flow[i]), mass_flow=0.0,
+                       vapour_fraction=0.0 if aqueous else None, zs=blank, ys=dict(blank),
+                       xs=dict(blank), h=None, s=None, Z=None,
+                       density=rho if aqueous else None, molar_mass=None, freezing=fz,
+                       quality=dict.fromkeys(("gross_cv_J_m3", "wobbe_gross_J_m3",
+                                              "relative_density")))
         return cls(name=name, T=float(stream.T[i]), P=float(stream.P[i]), flow=float(stream.flow[i]),
                    mass_flow=float(stream.mass_flow[i]),
                    vapour_fraction=float(stream.vapour_fraction[i]), zs=comp(stream.zs),
@@ -132,6 +168,8 @@ class StreamResult:
 
     def to_dict(self) -> dict:
         """The stream's entry of the JSON contract."""
+        _num = _opt
+
         def comp(d):
             return {c: _num(v) for c, v in d.items()}
         return {"converged": self.converged,
@@ -286,10 +324,21 @@ class WarningRecord:
                 "severity": self.severity, "numbers": numbers}
 
 
+def _at(values, i) -> float:
+    """Element ``i`` of an optional array over the cases (NaN when the array is absent)."""
+    return math.nan if values is None else float(values[i])
+
+
 def _num(x) -> float | None:
     """A JSON number (None for NaN or infinity, which JSON cannot hold)."""
     x = float(x)
     return x if math.isfinite(x) else None
+
+
+
+def _opt(x) -> float | None:
+    """As :func:`_num`, with None kept (a property a zero-flow stream does not have)."""
+    return None if x is None else _num(x)
 
 
 @dataclass(frozen=True)
@@ -331,6 +380,7 @@ class BatchResult:
     freezing: Mapping | None = None
     min_T: float | None = None
     failures: tuple | None = None
+    freezing_basis: Mapping | None = None
 
     def __post_init__(self):
         if self.converged is None:
@@ -414,7 +464,8 @@ class BatchResult:
                    for name, s in self.streams.items()}
         return Result(title=self.title, model=self.model, converged=bool(self.converged[i]),
                       streams=streams, equipment=equipment, goals=goals, loops=loops,
-                      warnings=warnings, failure=self.failures[i] or None)
+                      warnings=warnings, failure=self.failures[i] or None,
+                      freezing_basis=self.freezing_basis)
 
 
 def _spread(a, idx, n):
@@ -478,7 +529,7 @@ def spread_result(lived: BatchResult, idx, n: int, goals, loops, converged,
                        loops=tuple(loops), warnings=warnings,
                        converged=np.array(converged, dtype=bool),
                        failures=tuple(str(f) for f in failures), freezing=freezing,
-                       min_T=lived.min_T)
+                       min_T=lived.min_T, freezing_basis=lived.freezing_basis)
 
 
 @dataclass(frozen=True)
@@ -495,6 +546,9 @@ class Result:
     loops : list of dict  {"blocks", "tears", "iterations", "residual", "residual_history"}
     warnings : list of dict  {"where", "what", "kind", "severity", "numbers"}, most severe first
     failure : str or None  why the case failed (None when it was solved); its numbers are then null
+    freezing_basis : dict or None  what the freezing checks assumed (``hydrate_margin_K`` and its
+        source, the water, what the hydrate and ice limits assume, ``min_T_K``,
+        ``outlet_min_T_K``; :func:`letdown.sheet.freezing.basis`), when they ran
     """
 
     title: str
@@ -506,15 +560,19 @@ class Result:
     loops: list
     warnings: list
     failure: str | None = None
+    freezing_basis: Mapping | None = None
 
     def to_dict(self) -> dict:
         """The JSON contract of DESIGN.md as plain Python objects (SI, unit in each key)."""
-        return {"title": self.title, "model": self.model, "converged": self.converged,
-                "failure": self.failure,
-                "streams": {n: s.to_dict() for n, s in self.streams.items()},
-                "equipment": {n: dict(e) for n, e in self.equipment.items()},
-                "goals": [dict(g) for g in self.goals], "loops": [dict(lp) for lp in self.loops],
-                "warnings": [dict(w) for w in self.warnings]}
+        out = {"title": self.title, "model": self.model, "converged": self.converged,
+               "failure": self.failure,
+               "streams": {n: s.to_dict() for n, s in self.streams.items()},
+               "equipment": {n: dict(e) for n, e in self.equipment.items()},
+               "goals": [dict(g) for g in self.goals], "loops": [dict(lp) for lp in self.loops],
+               "warnings": [dict(w) for w in self.warnings]}
+        if self.freezing_basis is not None:
+            out["freezing_basis"] = dict(self.freezing_basis)
+        return out
 
     def to_json(self, indent: int | None = 2) -> str:
         """The JSON contract of DESIGN.md as text (NaN written as null)."""

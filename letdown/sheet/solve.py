@@ -41,8 +41,7 @@ from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
 from ..fluid.models import out_of_range
-from .freezing import (checks_active, freezing_warnings, inject_doses, inject_params,
-                       stream_freezing)
+from .freezing import basis, freezing_warnings, inject_doses, inject_params, stream_freezing
 from .graph import build_graph, solve_order
 from .modelchoice import solve_default_model
 from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, GoalRecord,
@@ -829,8 +828,11 @@ class _Engine:
                     b: _spread_outcome(None, self.fs.blocks[b].kind, {}, keep, n)
                     for b in ev.outcomes}, ok=ev.ok, reasons=ev.reasons),
                 False, goals, ev.loops, ev.ok, ev.reasons, quiet=True)
-        return _spread_result(self._assemble(lived, margins, (), (), lived.ok, lived.reasons),
-                              keep, n, goals, ev.loops, ev.ok, ev.reasons)
+        assembled = self._assemble(lived, margins, (), (), lived.ok, lived.reasons)
+        # a case refused while assembling (an absurd inhibitor dose) fails in the whole batch too
+        late = keep[~lived.ok]
+        ev.ok[late], ev.reasons[late] = False, lived.reasons[~lived.ok]
+        return _spread_result(assembled, keep, n, goals, ev.loops, ev.ok, ev.reasons)
 
     def _assemble(self, ev: _Evaluation, margins: bool, goals, loops, ok, reasons, *,
                   quiet: bool = False) -> BatchResult:
@@ -855,15 +857,17 @@ class _Engine:
         doses: dict = {}
         given = inject_params(self.fs, ev.outcomes)
         if margins:
+            # the freezing checks run on every solve, with or without limits or gas.water
             freezing, notes = stream_freezing(self.fs, self.fluid, ev.streams, self.steps, doses,
                                               given)
-            if checks_active(self.fs):
-                warnings.extend(notes)
-                warnings.extend(freezing_warnings(self.fs, ev.streams, freezing))
-            else:
-                warnings.extend(n for n in notes if n.where != "gas")
+            warnings.extend(notes)
+            warnings.extend(freezing_warnings(self.fs, ev.streams, freezing))
         else:
-            doses = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given)
+            doses, notes = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given)
+            warnings.extend(notes)
+        for w in notes:
+            if w.kind == "inhibitor_dose":    # a refused dose: its cases did not solve
+                ev.fail(np.asarray(w.cases, dtype=int), f"block '{w.where}': {w.what}")
         texts = {"two_phase_outlet": "throttle outlet is in two phases",
                  "temperature_cross": "temperature cross inside the exchanger",
                  "spec_unmet": "the specification cannot be met with these inlet temperatures",
@@ -904,7 +908,9 @@ class _Engine:
                            failures=tuple(str(r) for r in reasons),
                            freezing=None if freezing is None else
                            {s: freezing[s] for s in order},
-                           min_T=self.fs.limits.get("min_T"))
+                           min_T=self.fs.limits.get("min_T"),
+                           freezing_basis=None if freezing is None else
+                           basis(self.fs, self.fluid))
 
     def _model_warnings(self, ev) -> list:
         """Where the model's data or tested range does not cover the flowsheet."""
