@@ -138,7 +138,7 @@ class StreamResult:
                 # all the water the stream carries (a separator's water outlet: its free water)
                 fz["water_flow_mol_s"] = _num(freezing.water_flow[i])
                 fz["water_flow_kg_s"] = _num(freezing.water_flow[i] * M_WATER)
-        if not float(stream.flow[i]) > 0.0:
+        if stream.converged[i] and not float(stream.flow[i]) > 0.0:
             # a zero-flow stream has no properties of its own (its T and P, the state of the
             # block it leaves, stay); a separator's water outlet with free water beside the gas
             # is that aqueous liquid: vapour fraction 0 and its own density
@@ -156,7 +156,7 @@ class StreamResult:
                        xs=dict(blank), h=None, s=None, Z=None,
                        density=rho if aqueous else None, molar_mass=None, freezing=fz,
                        quality=dict.fromkeys(("gross_cv_J_m3", "wobbe_gross_J_m3",
-                                              "relative_density")))
+                                              "relative_density")), converged=True)
         return cls(name=name, T=float(stream.T[i]), P=float(stream.P[i]), flow=float(stream.flow[i]),
                    mass_flow=float(stream.mass_flow[i]),
                    vapour_fraction=float(stream.vapour_fraction[i]), zs=comp(stream.zs),
