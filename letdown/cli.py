@@ -8,8 +8,10 @@ Verbs::
     letdown compare FILE [--data CSV] [--fit block.parameter --within LO HI] [--models M,M] [--json]
     letdown envelope FILE --stream NAME [--lines 0.1,0.5] [--csv DIR] [--json] [--plot F.png|F.svg]
     letdown sweep FILE --vary PATH=VALUES [...] [--zip] [--out DIR] [--plot X:Y] [--workers N|--dask A]
-    letdown year FILE --profile CSV [--efficiency E] [--out DIR] [--workers N|--dask A]
-    letdown size FILE [--efficiency E] [--model M] [--json] [--units si|field]
+    letdown year FILE --profile CSV [--efficiency E] [--calorific gross|net] [--out DIR]
+                 [--workers N|--dask A]
+    letdown size FILE [--efficiency E] [--model M] [--free-water always|by-dew-point]
+                 [--calorific gross|net] [--json] [--units si|field]
     letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
 
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
@@ -109,6 +111,11 @@ def _parser() -> argparse.ArgumentParser:
                     help="heater efficiency 0..1 when the file's heater has none (water-bath "
                          "heaters run about 0.5-0.8; default 0.75, stated as assumed)")
     sz.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+    sz.add_argument("--free-water", choices=("always", "by-dew-point"), default="always",
+                    help="assume free water in every stream (default), or only below its water "
+                         "dew point (trust the water dew point)")
+    sz.add_argument("--calorific", choices=("gross", "net"), default="gross",
+                    help="calorific value of the fuel gas volume (ISO 6976:2016; default gross)")
     sz.add_argument("--json", action="store_true", help="print only the JSON sizing on stdout")
     sz.add_argument("--units", choices=("si", "field"), default="si", help="display units")
     cm = sub.add_parser("compare", parents=[common],
@@ -353,12 +360,18 @@ def _size(args) -> int:
     from .study.size import size
 
     fs = load(args.file)
-    res = size(fs, efficiency=args.efficiency, model=args.model)
+    res = size(fs, efficiency=args.efficiency, model=args.model, free_water=args.free_water,
+               calorific=args.calorific)
     if args.json:
         print(json.dumps(res.to_dict(), indent=2, allow_nan=False))
         print(f"letdown: {res.to_dict()['caution']}", file=sys.stderr)
     else:
         print(size_text(res, args.units, atmosphere=fs.extra.get("atmosphere")))
+    if not res.all_met:
+        bad = [c.name for c in res.cases if not c.met]
+        print(f"letdown: {args.file}: {len(bad)} of {len(res.cases)} cases failed or not met "
+              f"({', '.join(bad)}); every case is reported", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
     return EXIT_OK
 
 
