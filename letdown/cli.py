@@ -96,8 +96,10 @@ def _parser() -> argparse.ArgumentParser:
     y.add_argument("file", metavar="FILE")
     y.add_argument("--profile", required=True, metavar="CSV",
                    help="hourly profile: time,flow [unit],T_in [unit],P_in [unit][,P_out][,ground_T]")
-    y.add_argument("--efficiency", type=float, default=0.75,
-                   help="heater efficiency on the gross calorific value (default 0.75, assumed)")
+    y.add_argument("--efficiency", type=float, metavar="E",
+                   help="efficiency 0..1 of heaters the file gives none (default 0.75, assumed)")
+    y.add_argument("--calorific", choices=("gross", "net"), default="gross",
+                   help="calorific value of the fuel gas volume (ISO 6976:2016; default gross)")
     y.add_argument("--feed", metavar="NAME", help="the feed the profile drives (default: the only one)")
     y.add_argument("--outlet", metavar="BLOCK", help="the throttle whose P_out the profile sets")
     y.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
@@ -343,7 +345,7 @@ def _year(args) -> int:
     try:
         res = year(fs, profile, efficiency=args.efficiency, feed=args.feed,
                    outlet_block=args.outlet, model=args.model, executor=executor,
-                   show_progress=sys.stderr.isatty())
+                   show_progress=sys.stderr.isatty(), calorific=args.calorific)
     finally:
         executor.close()
     print(year_text(res))
@@ -351,6 +353,11 @@ def _year(args) -> int:
         files = year_files(res, flowsheet=args.file)
         _write_csv(target, files)
         print(f"letdown: wrote {', '.join(str(target / f) for f in files)}", file=sys.stderr)
+    failed = int((~res.converged).sum())
+    if failed:
+        print(f"letdown: {args.file}: {failed} of {res.profile.n} hours failed; every hour is "
+              "written with its reason", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
     return EXIT_OK
 
 
