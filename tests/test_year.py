@@ -245,3 +245,22 @@ def test_cubic_year_states_its_bias_against_gerg_2008(tmp_path):
         text = year_text(res)
         assert sum("against GERG-2008" in x for x in text.splitlines()) == 1
         assert f"{CUBIC_BIAS[model]['year_heat_pct']:+.1f} %" in text
+
+
+def test_a_goal_too_warm_for_its_bracket_turns_the_heater_off_not_a_failure(tmp_path):
+    # bracket [20 degC, 90 degC]; at 30 barg in the network needs a preheater outlet of about
+    # 11 degC. With 35 degC gas the heater stays off (network floats warmer: kept); with 2 degC gas
+    # the heater is needed below its bracket: that hour fails, with its reason.
+    from letdown.sheet.loader import loads
+    fs = loads(gate_text(**{"within: [0 degC, 90 degC]": "within: [20 degC, 90 degC]"}),
+               source="g.yaml")
+    prof = read_profile(write_profile(tmp_path, [(70000, 35.0, 30.0, 17.41),
+                                                 (70000, 2.0, 30.0, 17.41)]))
+    res = year(fs, prof)
+    assert res.converged.tolist() == [True, False]
+    assert "goal 1" in res.reasons[1]
+    assert res.heater_duty["preheat"][0] == 0.0 and res.floored_hours["preheat"] == 1
+    fluid = letdown.Fluid(GAS)
+    h = fluid.flash(T=308.15, P=30e5 + ATM).h
+    T_net = fluid.flash(P=17.41e5 + ATM, h=fluid.flash(P=30e5 + ATM - 0.3e5, h=h).h).T
+    assert res.stream_T["network"][0] == pytest.approx(T_net, abs=1e-6)

@@ -15,7 +15,10 @@ temperature range, and the hours that failed (with the reason; the other hours a
 **A heater never cools.** In an hour where a heater's duty comes out negative (warm gas, and a
 goal or a fixed outlet temperature below the inlet's), the heater stays cold: that hour is solved
 again with the heater at zero duty and without the goals that vary it, so its outlet floats warmer
-than the goal's target. Such hours are counted per heater (``floored_hours``) and shown. Summing
+than the goal's target. The same holds for an hour whose goal fails because the gas is too warm
+even at the low end of the goal's bracket: it is solved with that heater off and kept when its
+held stream is then at or above the target. Such hours are counted per heater
+(``floored_hours``) and shown. Summing
 the negative duties instead would bill the warm hours as heat recovered (on a warm-day profile
 that gave a twentieth of the heat the cold hours needed).
 """
@@ -167,6 +170,29 @@ def _solve_chunk(task):
                 out["heaters"][h][idx] = part["heaters"][h]
             for s_name in out["T"]:
                 out["T"][s_name][idx] = part["T"][s_name]
+    # a goal that fails because the gas is too warm even at the low end of its bracket: the
+    # heater it varies stays cold, and the hour is kept if its held stream is then warm enough
+    for g in fs.goals:
+        stream, _, attr = g.hold.partition(".")
+        h = g.by.partition(".")[0]
+        if attr != "T" or h not in off or stream not in out["T"]:
+            continue
+        idx = np.flatnonzero(~out["converged"] & ~np.any([o for o in off.values()], axis=0))
+        if not idx.size:
+            continue
+        sub = solve_cases(_heaters_off(fs, [h]), {k: np.asarray(v)[idx] if np.ndim(v) else v
+                                                   for k, v in cases.items()},
+                          model=model, strict=False)
+        part = _chunk_arrays(sub)
+        warm = part["converged"] & (part["T"][stream] >= g.target - fs.solver.goal_tolerance)
+        for j in np.flatnonzero(warm):
+            i = idx[j]
+            out["converged"][i], out["reasons"][i] = True, ""
+            off[h][i] = True
+            for name in out["heaters"]:
+                out["heaters"][name][i] = part["heaters"][name][j]
+            for s_name in out["T"]:
+                out["T"][s_name][i] = part["T"][s_name][j]
     out["off"] = off
     out["model"] = res.model
     return out
