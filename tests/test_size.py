@@ -382,3 +382,30 @@ def test_cubic_size_output_states_its_bias_against_gerg_2008():
         assert len(line) == 1 and f"{bias['preheat_T_out_K']:+.2f} K" in line[0]
         assert res.to_dict()["model_bias"] == line[0].strip()
     assert ref.to_dict()["model_bias"] is None
+
+
+def test_two_sized_heaters_each_hold_their_own_stream_at_its_limit():
+    # the two-stage station with a second goal: the preheater holds 'mid' (between the regulators)
+    # and the interstage heater 'grid'. Hand calculation, stage by stage, with the same fluid.
+    text = (ROOT / "flowsheets" / "two-stage-letdown.yaml").read_text().replace(
+        "goals:\n", "goals:\n  - {hold: mid.T, at: 15 degC, by: preheat.T_out, "
+                    "within: [5 degC, 90 degC]}\n")
+    res = size(loads(text, source="two.yaml"), efficiency=0.8)
+    c = res.cases[0]
+    assert c.met, c.short
+    assert [s["heater"] for s in c.sized] == ["preheat", "interheat"]
+    fluid = letdown.Fluid({"methane": 0.902, "ethane": 0.055, "propane": 0.014, "n-butane": 0.004,
+                           "nitrogen": 0.013, "carbon-dioxide": 0.012})
+    atm = 101325.0
+    flow = 150000.0 / 3600.0 * MOL_PER_SM3
+    d1, lim1 = _hand_duty(fluid, 281.15, 70e5 + atm, 0.2e5, 36e5 + atm, flow)
+    d2, lim2 = _hand_duty(fluid, lim1, 36e5 + atm, 0.2e5, 8e5 + atm, flow)
+    first, second = c.sized
+    assert first["held"] == "mid" and first["target_T_K"] == pytest.approx(lim1, abs=1e-6)
+    assert second["held"] == "grid" and second["target_T_K"] == pytest.approx(lim2, abs=1e-6)
+    assert first["duty_W"] == pytest.approx(d1, rel=5e-3)
+    assert second["duty_W"] == pytest.approx(d2, rel=5e-3)
+    assert res.design_heat == pytest.approx(d1 + d2, rel=5e-3)
+    assert res.design_fuel == pytest.approx((d1 + d2) / 0.8, rel=5e-3)
+    from letdown.report.size import size_text
+    assert "interheat" in size_text(res) and "Met: yes" in size_text(res)

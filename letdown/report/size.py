@@ -47,6 +47,15 @@ def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
                    f"{d['heater']} T_out [{T.label}]", f"{d['heater']} [{duty.label}]",
                    *(f"{h} [{duty.label}]" for h in fixed), f"Heat [{duty.label}]",
                    f"Fuel [{duty.label}]", "Met"), tuple(rows))
+    more = []
+    for c in d["cases"]:
+        for sz in c.get("sized_heaters", [])[1:]:
+            gov = _limit(sz["governing_limit"])
+            if sz["governing_stream"] != sz["held"]:
+                gov += f" at {sz['governing_stream']}"
+            more.append((c["name"], sz["heater"], sz["held"], q(P, sz["held_P_Pa"]),
+                         t(sz["hydrate_T_K"]), t(sz["water_dew_T_K"]), t(sz["target_T_K"]), gov,
+                         t(sz["heater_T_out_K"]), q(duty, sz["duty_W"])))
     kinds = []
     for c in d["cases"]:
         kinds.extend(k for k in c["limits_K"] if k not in kinds)
@@ -56,6 +65,12 @@ def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
              + f"; margin {dT(d['hydrate_margin_K']):g} {dT.label} (limits.hydrate_margin).",
              f"Free water: {d['free_water_rule']}.", "",
              render(table), ""]
+    if more:
+        lines += [render(Table("Further sized heaters (each holds its own stream)",
+                               ("Case", "Heater", "Held", f"P held [{P.label}]",
+                                f"Hydrate T [{T.label}]", f"Water dew [{T.label}]",
+                                f"Target [{T.label}]", "Governing limit", f"T_out [{T.label}]",
+                                f"Duty [{duty.label}]"), tuple(more))), ""]
     g = d["design"]
     cv = (f"{d['calorific_basis']} calorific value {d['calorific_value_J_Sm3'] / 1e6:.3f} MJ/Sm3, "
           f"{d['calorific_standard']}")
@@ -64,10 +79,11 @@ def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
     else:
         by = _limit(g["governing_limit"]) + (f" at {g['governing_stream']}"
                                              if g["governing_stream"] != d["held"] else "")
-        lines.append(f"Design heat: {duty(g['heat_W']):.1f} {duty.label} in case {g['case']} "
-                     f"({d['heater']} {duty(g['duty_W']):.1f} {duty.label}"
-                     + "".join(f", {h} {duty(g['heaters_W'][h]):.1f} {duty.label}" for h in fixed)
-                     + f"), governed by {by} ({T(g['target_T_K']):.2f} {T.label} at {d['held']}).")
+        lines.append(f"Design heat: {duty(g['heat_W']):.1f} {duty.label} in case {g['case']} ("
+                     + ", ".join(f"{h} {duty(v):.1f} {duty.label}"
+                                 for h, v in g["heaters_W"].items())
+                     + f"), {d['heater']} governed by {by} ({T(g['target_T_K']):.2f} {T.label} at "
+                     f"{d['held']}).")
         lines.append(f"Fuel in the design case: {duty(g['fuel_W']):.1f} {duty.label} of fuel, "
                      f"{g['fuel_Sm3_h']:.1f} Sm3/h of feed gas ({cv}).")
         if not g["met"]:
@@ -86,13 +102,14 @@ def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
                 lines.append(f"Case {c['name']}: {h} needs no heat (it would have to remove "
                              f"{duty(-v):.1f} {duty.label}); counted as zero.")
         for s in c["streams_not_met"]:
+            h = s.get("sized_heater", d["heater"])
             if s["downstream_of_sized_heater"]:
-                why = (f"downstream of {d['heater']}, which could not bring it to its limit "
-                       "within the goal's bracket")
+                why = f"downstream of {h}, which did not bring it to its limit"
             elif s["upstream_of_sized_heater"]:
-                why = f"upstream of {d['heater']}: the sized heater cannot warm it"
+                why = f"upstream of {h}: no sized heater can warm it; hold it with a goal on a " \
+                      "heater before it"
             else:
-                why = f"not downstream of {d['heater']}: the sized heater cannot warm it"
+                why = f"not downstream of {h}: no sized heater can warm it"
             lines.append(f"Case {c['name']}: NOT MET at stream {s['stream']}: {T(s['T_K']):.2f} "
                          f"{T.label}, below its {_limit(s['limit'])} {T(s['limit_K']):.2f} "
                          f"{T.label} ({why}).")

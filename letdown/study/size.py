@@ -1,8 +1,10 @@
 """Preheat sizing over operating cases (``letdown size``): the station, not one stream.
 
-The flowsheet's first goal that holds a stream temperature by varying a heater names the **held
-stream** (typically the regulator outlet) and the **sized heater**. Every other heater is a
-**fixed heater**: it runs as the file says, and its duty counts in the station's heat and fuel.
+Each goal that holds a stream temperature by varying a heater names a **held stream** (typically
+a regulator outlet) and a **sized heater** (several goals: several sized heaters, such as a
+preheater holding the stream between two regulators and an interstage heater holding the outlet;
+the first is the one the single-heater figures refer to). Every other heater is a **fixed
+heater**: it runs as the file says, and its duty counts in the station's heat and fuel.
 
 Limits of a stream (``m`` = ``limits.hydrate_margin``, 0 K when absent, with a note)::
 
@@ -25,11 +27,12 @@ in how the margins are computed flows through. Two ways to judge free water (``f
 For every case (the ``cases`` section, or the file as written) the held stream's target is its own
 governing limit (the largest). All cases are solved in one batch (``strict=False``: a case whose
 goal or loop fails is recorded with its reason and the others go on). Then every stream
-**downstream of the sized heater** is checked against its limits: where one is colder than its
-limit, the held target of that case is raised (secant steps on the largest shortfall, at most
+**downstream of a sized heater** is checked against its limits (a stream belongs to the nearest
+sized heater upstream of it): where one is colder than its limit, that heater's held target in
+that case is raised (secant steps on the largest shortfall, at most
 :data:`MAX_RAISES` passes) until every downstream stream meets its limit; the stream that then
-sets the target is reported as governing. Streams **not downstream** of the sized heater (a
-regulator before it, a parallel branch) cannot be warmed by it: one colder than its limit makes the
+sets the target is reported as governing. Streams **not downstream** of any sized heater (a
+regulator before it, a parallel branch) cannot be warmed by one: one colder than its limit makes the
 case **not met**, with the stream named. Feeds are taken as they arrive (the station cannot change
 the gas it receives): a feed inside its limits is reported in a note, not judged.
 
@@ -116,8 +119,13 @@ class CaseSize:
         Why the case failed to solve ("" when it solved).
     short : tuple of dict
         Streams colder than a limit: ``stream``, ``limit``, ``T_K``, ``limit_K``,
-        ``downstream_of_sized_heater``, ``upstream_of_sized_heater``.
+        ``downstream_of_sized_heater``, ``upstream_of_sized_heater``, ``sized_heater`` (the one
+        that owns it, or all of them when none can warm it).
     warnings : tuple of dict
+    sized : tuple of dict
+        Per sized heater (the first is the one above): ``heater``, ``held``, ``held_P_Pa``,
+        ``hydrate_T_K``, ``water_dew_T_K``, ``limits_K``, ``governing_limit``,
+        ``governing_stream``, ``target_T_K``, ``heater_T_out_K``, ``duty_W``, ``heater_duty_W``.
     """
 
     name: str
@@ -138,6 +146,7 @@ class CaseSize:
     reason: str
     short: tuple
     warnings: tuple
+    sized: tuple = ()
 
     @property
     def heat(self) -> float:
@@ -259,21 +268,30 @@ class SizeResult:
                        "fuel_Sm3_h": num(self.case_fuel(c) / self.cv * 3600.0),
                        "met": c.met, "reason": c.reason,
                        "streams_not_met": [dict(x) for x in c.short],
+                       "sized_heaters": [{k: (num(v) if isinstance(v, float) else v)
+                                          for k, v in sz.items()} for sz in c.sized],
                        "warnings": [dict(w) for w in c.warnings]}
                       for c in self.cases],
             "notes": list(self.notes), "model_bias": self.model_bias, "caution": CAUTION}
 
 
-def _sizing_goal(fs: Flowsheet):
+def _sizing_goals(fs: Flowsheet) -> list:
+    """[(goal index, held stream, heater)] of the goals that hold a stream temperature by varying
+    a heater (one per heater: a second goal on the same heater is left as written)."""
+    out, seen = [], set()
     for k, g in enumerate(fs.goals):
         stream, _, attr = g.hold.partition(".")
         block, _, _param = g.by.partition(".")
-        if attr == "T" and block in fs.blocks and fs.blocks[block].kind == "heater":
-            return k, stream, block
-    raise InputError("letdown size needs a goal that holds the coldest point's temperature by "
-                     "varying the preheater, e.g. goals: [{hold: network.T, at: 5 degC, by: "
-                     "preheat.T_out, within: [-10 degC, 90 degC]}]; its target is replaced by "
-                     "each case's limit", file=fs.source, field="goals")
+        if attr == "T" and block in fs.blocks and fs.blocks[block].kind == "heater" \
+                and stream not in fs.blocks and block not in seen:
+            out.append((k, stream, block))
+            seen.add(block)
+    if not out:
+        raise InputError("letdown size needs a goal that holds the coldest point's temperature by "
+                         "varying the preheater, e.g. goals: [{hold: network.T, at: 5 degC, by: "
+                         "preheat.T_out, within: [-10 degC, 90 degC]}]; its target is replaced by "
+                         "each case's limit", file=fs.source, field="goals")
+    return out
 
 
 def _case_arrays(fs: Flowsheet):
@@ -417,7 +435,8 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
         No goal holding a stream temperature by a heater; an efficiency outside (0, 1]; an unknown
         ``free_water`` or ``calorific``; a case that leaves a parameter unset.
     """
-    k, held, heater = _sizing_goal(fs)
+    goals = _sizing_goals(fs)
+    k, held, heater = goals[0]
     if efficiency is not None and not 0.0 < float(efficiency) <= 1.0:
         raise InputError(f"heater efficiency must lie in (0, 1] (got {efficiency})",
                          field="--efficiency")
@@ -436,65 +455,80 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
     names, cases, values = _case_arrays(fs)
     if not fs.cases:
         notes.append("the file has no cases section: its one case is sized as written")
-    n = len(names)
-    # pass 1, goals off: the held stream's limits in every case (they depend on its pressure,
+    n, ng = len(names), len(goals)
+    # pass 1, goals off: each held stream's limits in every case (they depend on its pressure,
     # composition, water and inhibitor, not on its temperature)
     bare = dataclasses.replace(fs, goals=())
     first = solve_cases(bare, cases or None, model=model, margins=True, strict=False)
     fluid = make_fluid(fs, model)
-    limits, held_P, hyd_T, dew_T = [], np.full(n, np.nan), np.full(n, np.nan), np.full(n, np.nan)
+    limits = [[None] * n for _ in range(ng)]
+    held_P, hyd_T, dew_T = (np.full((ng, n), np.nan) for _ in range(3))
     for i in range(n):
-        st = first.case(i).streams[held]
-        limits.append(stream_limits(st.T, st.freezing, margin, min_T, free_water))
-        fz = st.freezing or {}
-        held_P[i] = st.P
-        hyd_T[i] = np.nan if fz.get("hydrate_T_K") is None else fz["hydrate_T_K"]
-        dew_T[i] = np.nan if fz.get("water_dew_T_K") is None else fz["water_dew_T_K"]
-    if not any(limits):
+        case = first.case(i)
+        for j, (_, h_stream, _) in enumerate(goals):
+            st = case.streams[h_stream]
+            limits[j][i] = stream_limits(st.T, st.freezing, margin, min_T, free_water)
+            fz = st.freezing or {}
+            held_P[j, i] = st.P
+            hyd_T[j, i] = np.nan if fz.get("hydrate_T_K") is None else fz["hydrate_T_K"]
+            dew_T[j, i] = np.nan if fz.get("water_dew_T_K") is None else fz["water_dew_T_K"]
+    if not any(limits[0]):
         raise InputError("no limit applies to the held stream (no limits.min_T, and no free "
                          "water by the dew point): give limits.min_T", file=fs.source,
                          field="limits")
-    governing = [max(lim, key=lim.get) if lim else "goal as written" for lim in limits]
-    gstream = [held] * n
-    own = np.array([lim[g] if lim else fs.goals[k].target for lim, g in zip(limits, governing)])
-    # pass 2: every case at its target; raise the target where a stream downstream is colder
-    # than its own limit (secant steps on the largest shortfall)
-    down = [s for s in downstream_streams(fs, heater) if s not in fs.feeds]
-    x, x_prev, g_prev = own.copy(), np.full(n, np.nan), np.full(n, np.nan)
+    governing = [[max(lim, key=lim.get) if lim else "goal as written" for lim in limits[j]]
+                 for j in range(ng)]
+    gstream = [[goals[j][1]] * n for j in range(ng)]
+    own = np.array([[lim[g] if lim else fs.goals[goals[j][0]].target
+                     for lim, g in zip(limits[j], governing[j])] for j in range(ng)])
+    # each stream downstream of a sized heater belongs to the nearest one (the smallest
+    # downstream set holding it); its limits raise that heater's held target
+    downs = [[s for s in downstream_streams(fs, h) if s not in fs.feeds] for _, _, h in goals]
+    owner = {}
+    for j in sorted(range(ng), key=lambda j: -len(downs[j])):
+        owner.update({s: j for s in downs[j]})
+    mine = [[s for s in downs[j] if owner[s] == j] for j in range(ng)]
+    down = set(owner)
+    # pass 2: every case at its targets; raise a target where a stream it owns is colder than its
+    # own limit (secant steps on the largest shortfall, per case and sized heater)
+    x, x_prev, g_prev = own.copy(), np.full((ng, n), np.nan), np.full((ng, n), np.nan)
     for _ in range(MAX_RAISES + 1):
-        res = solve_cases(fs, {**cases, f"goal{k + 1}.at": x}, model=model, margins=True,
-                          strict=False)
+        res = solve_cases(fs, {**cases, **{f"goal{goals[j][0] + 1}.at": x[j] for j in range(ng)}},
+                          model=model, margins=True, strict=False)
         x_new, moved = x.copy(), False
         for i in range(n):
             if not res.converged[i]:
                 continue
-            found, _ = _shortfalls(res, i, down, margin, min_T, free_water)
-            g, s, kind = max(((f[0], f[1], f[2]) for f in found), default=(-np.inf, held, ""))
-            if g <= RAISE_TOL and (x[i] <= own[i] or g >= -RAISE_TOL):
-                continue
-            if np.isfinite(g_prev[i]) and g != g_prev[i]:
-                step = -g * (x[i] - x_prev[i]) / (g - g_prev[i])
-            else:
-                step = g
-            x_prev[i], g_prev[i] = x[i], g
-            x_new[i] = max(own[i], x[i] + step)
-            if x_new[i] != x[i]:
-                moved = True
-                if x_new[i] > own[i]:
-                    governing[i], gstream[i] = kind, s
+            found, _ = _shortfalls(res, i, sorted(down), margin, min_T, free_water)
+            for j in range(ng):
+                g, s, kind = max(((f[0], f[1], f[2]) for f in found if owner[f[1]] == j),
+                                 default=(-np.inf, goals[j][1], ""))
+                if g <= RAISE_TOL and (x[j, i] <= own[j, i] or g >= -RAISE_TOL):
+                    continue
+                if np.isfinite(g_prev[j, i]) and g != g_prev[j, i]:
+                    step = -g * (x[j, i] - x_prev[j, i]) / (g - g_prev[j, i])
                 else:
-                    governing[i], gstream[i] = max(limits[i], key=limits[i].get), held
+                    step = g
+                x_prev[j, i], g_prev[j, i] = x[j, i], g
+                x_new[j, i] = max(own[j, i], x[j, i] + step)
+                if x_new[j, i] != x[j, i]:
+                    moved = True
+                    if x_new[j, i] > own[j, i]:
+                        governing[j][i], gstream[j][i] = kind, s
+                    else:
+                        governing[j][i] = max(limits[j][i], key=limits[j][i].get)
+                        gstream[j][i] = goals[j][1]
         if not moved:
             break
         x = x_new
-    eq = res.equipment[heater]
     heater_names = [h for h, e in res.equipment.items() if e.kind == "heater"]
     raw = {h: np.broadcast_to(res.equipment[h].duty, (n,)) for h in heater_names}
-    out_stream = next(iter(fs.blocks[heater].outlets.values()))
-    T_out = np.broadcast_to(res.streams[out_stream].T, (n,))
+    T_outs = [np.broadcast_to(res.streams[next(iter(fs.blocks[h].outlets.values()))].T, (n,))
+              for _, _, h in goals]
     reasons = _reasons(res, n)
-    up = _upstream_streams(fs, heater)
+    up = set().union(*(_upstream_streams(fs, h) for _, _, h in goals))
     others = [s for s in res.streams if s not in fs.feeds]
+    sized_names = ", ".join(h for _, _, h in goals)
     feed_cold: dict = {}
     out = []
     for i in range(n):
@@ -506,7 +540,9 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
                 if g > LIMIT_SLACK:
                     short.append({"stream": s, "limit": kind, "T_K": T, "limit_K": lim,
                                   "downstream_of_sized_heater": s in down,
-                                  "upstream_of_sized_heater": s in up})
+                                  "upstream_of_sized_heater": s in up and s not in down,
+                                  "sized_heater": goals[owner[s]][2] if s in down
+                                  else sized_names})
             fed, _ = _shortfalls(res, i, list(fs.feeds), margin, min_T, free_water)
             for g, s, kind, T, lim in fed:
                 if g > LIMIT_SLACK:
@@ -514,18 +550,25 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
             warns = tuple(dict(w) for w in case.warnings)
         else:
             warns = tuple(dict(w) for w in res.case(i).warnings)
-        if res.converged[i]:
+        if ok:
             raw_i = {h: float(raw[h][i]) for h in heater_names}
         else:
             raw_i = {h: np.nan for h in heater_names}
         floored = {h: max(v, 0.0) if np.isfinite(v) else np.nan for h, v in raw_i.items()}
+        sized = tuple({"heater": h, "held": hs, "held_P_Pa": float(held_P[j, i]),
+                       "hydrate_T_K": float(hyd_T[j, i]), "water_dew_T_K": float(dew_T[j, i]),
+                       "limits_K": dict(limits[j][i]), "governing_limit": governing[j][i],
+                       "governing_stream": gstream[j][i], "target_T_K": float(x[j, i]),
+                       "heater_T_out_K": float(T_outs[j][i]) if ok else np.nan,
+                       "duty_W": floored[h], "heater_duty_W": raw_i[h]}
+                      for j, (_, hs, h) in enumerate(goals))
         out.append(CaseSize(
-            name=names[i], values=values[i], held_P=float(held_P[i]), hydrate_T=float(hyd_T[i]),
-            water_dew_T=float(dew_T[i]), limits=limits[i], governing=governing[i],
-            governing_stream=gstream[i], target=float(x[i]), duty=floored[heater],
-            raw_duty=raw_i[heater], heaters=floored, raw_heaters=raw_i,
-            heater_T_out=float(T_out[i]) if ok else np.nan, met=ok and not short,
-            reason=reasons[i], short=tuple(short), warnings=warns))
+            name=names[i], values=values[i], held_P=float(held_P[0, i]),
+            hydrate_T=float(hyd_T[0, i]), water_dew_T=float(dew_T[0, i]), limits=limits[0][i],
+            governing=governing[0][i], governing_stream=gstream[0][i], target=float(x[0, i]),
+            duty=floored[heater], raw_duty=raw_i[heater], heaters=floored, raw_heaters=raw_i,
+            heater_T_out=sized[0]["heater_T_out_K"], met=ok and not short, reason=reasons[i],
+            short=tuple(short), warnings=warns, sized=sized))
     for (s, kind), which in feed_cold.items():
         notes.append(f"feed {s} arrives below its {kind} limit in case(s) {', '.join(which)}: the "
                      "station cannot change the gas it receives, so feeds are not judged (see "
@@ -544,7 +587,7 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
             info[h] = {"efficiency": DEFAULT_EFFICIENCY,
                        "efficiency_source": "assumed (no efficiency given; water-bath heaters run "
                                             "about 50-80 %)"}
-        info[h]["sized"] = h == heater
+        info[h]["sized"] = any(h == g[2] for g in goals)
     if efficiency is not None and all(fs.blocks[h].params.get("efficiency") is not None
                                       for h in heater_names):
         notes.append(f"--efficiency {efficiency:g} ignored: every heater gives its own efficiency")
