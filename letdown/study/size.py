@@ -503,7 +503,8 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
             for j in range(ng):
                 g, s, kind = max(((f[0], f[1], f[2]) for f in found if owner[f[1]] == j),
                                  default=(-np.inf, goals[j][1], ""))
-                if g <= RAISE_TOL and (x[j, i] <= own[j, i] or g >= -RAISE_TOL):
+                if not np.isfinite(g) or (g <= RAISE_TOL
+                                          and (x[j, i] <= own[j, i] or g >= -RAISE_TOL)):
                     continue
                 if np.isfinite(g_prev[j, i]) and g != g_prev[j, i]:
                     step = -g * (x[j, i] - x_prev[j, i]) / (g - g_prev[j, i])
