@@ -409,3 +409,13 @@ def test_two_sized_heaters_each_hold_their_own_stream_at_its_limit():
     assert res.design_fuel == pytest.approx((d1 + d2) / 0.8, rel=5e-3)
     from letdown.report.size import size_text
     assert "interheat" in size_text(res) and "Met: yes" in size_text(res)
+
+
+def test_size_without_min_T_says_no_material_limit_was_applied():
+    # trusting a -19.5 degC water dew point with no limits.min_T sizes the main far below 0 degC;
+    # the note says why (found by fuzzing the sizing station without its limits section)
+    text = SIZING.read_text().split("limits:")[0] + SIZING.read_text().split("hydrate_margin: 3 K\n")[1]
+    res = size(loads(text, source="nolimits.yaml"), free_water="by-dew-point")
+    assert all(c.target < 273.15 - 15 for c in res.cases)
+    assert any("no limits.min_T: no material limit" in n and "far below 0 degC" in n
+               for n in res.notes)

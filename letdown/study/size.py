@@ -452,6 +452,11 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
         margin = 0.0
         notes.append("no limits.hydrate_margin: 0 K used (3-5 K is common practice)")
     min_T = fs.limits.get("min_T")
+    if min_T is None:
+        notes.append("no limits.min_T: no material limit applied (give the coldest temperature "
+                     "the pipe, regulators and heater may see)"
+                     + ("; trusting the water dew point, a dry stream may then be sized far "
+                        "below 0 degC" if free_water == "by-dew-point" else ""))
     names, cases, values = _case_arrays(fs)
     if not fs.cases:
         notes.append("the file has no cases section: its one case is sized as written")
