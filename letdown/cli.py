@@ -17,7 +17,8 @@ Verbs::
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
 :class:`ModelError`); 1 a failed solve (:class:`ConvergenceError`, or a result that did not
 converge; ``year``: an hour that failed; ``size``: a case that failed or does not meet its limits,
-with every other row written); 3 an internal error (a bug: please report it with the ``--debug`` traceback).
+with every other row written); 3 an internal error (a bug: please report it with the ``--debug``
+traceback).
 Errors are one line on stderr, ``letdown: FILE:LINE: field: message``; ``--debug`` adds the
 traceback. With ``--json`` stdout holds only the JSON object; messages for people go to stderr.
 ``--csv DIR`` writes ``streams.csv`` and ``equipment.csv`` only after a successful solve (into a

@@ -23,8 +23,9 @@ def year_text(res) -> str:
         peak = s["peak"].get(name)
         pk = f"; peak {peak['duty_W'] / 1e3:.1f} kW at {peak['time']}" if peak else ""
         h = s["heaters"][name]
-        lines.append(f"  {name}: {mwh:,.1f} MWh of heat{pk}; {s['fuel_MWh'][name]:,.1f} MWh of fuel "
-                     f"at an efficiency of {h['efficiency']:.0%} from {h['efficiency_source']}")
+        lines.append(f"  {name}: {mwh:,.1f} MWh of heat{pk}; "
+                     f"{s['fuel_MWh'][name]:,.1f} MWh of fuel at an efficiency of "
+                     f"{h['efficiency']:.0%} from {h['efficiency_source']}")
         off = s["heater_off_hours"].get(name, 0)
         if off:
             lines.append(f"    heater off in {off} hours: the gas arrived warm enough (it would "

@@ -585,7 +585,8 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
     for h in heater_names:
         eff_file = fs.blocks[h].params.get("efficiency")
         if eff_file is not None:
-            info[h] = {"efficiency": float(eff_file), "efficiency_source": f"the file ({h}.efficiency)"}
+            info[h] = {"efficiency": float(eff_file),
+                       "efficiency_source": f"the file ({h}.efficiency)"}
         elif efficiency is not None:
             info[h] = {"efficiency": float(efficiency),
                        "efficiency_source": "the command line (--efficiency)"}
