@@ -34,10 +34,11 @@ that case is raised (secant steps on the largest shortfall, at most
 sets the target is reported as governing. Streams **not downstream** of any sized heater (a
 regulator before it, a parallel branch) cannot be warmed by one: one colder than its limit makes the
 case **not met**, with the stream named. Feeds are taken as they arrive (the station cannot change
-the gas it receives): a feed inside its limits is reported in a note, not judged.
+the gas it receives): a feed colder than its limits is reported in a note, not judged.
 
 A heater's duty floors at zero (negative: the gas arrives warm enough and the heater stays cold;
-the negative figure is shown). The station's heat in a case is the sum over all heaters; the
+the negative figure is shown; the streams after it are still taken at the goal's temperature,
+colder than with the heater off, which is the safe side for the limits). The station's heat in a case is the sum over all heaters; the
 design case is the one with the largest station heat among the cases that solved. Fuel: each
 heater's duty over its own ``efficiency`` (the file's, else the command line's, else
 :data:`DEFAULT_EFFICIENCY`, stated as assumed; water-bath heaters run about 50-80 %, common
