@@ -8,13 +8,17 @@ Verbs::
     letdown compare FILE [--data CSV] [--fit block.parameter --within LO HI] [--models M,M] [--json]
     letdown envelope FILE --stream NAME [--lines 0.1,0.5] [--csv DIR] [--json] [--plot F.png|F.svg]
     letdown sweep FILE --vary PATH=VALUES [...] [--zip] [--out DIR] [--plot X:Y] [--workers N|--dask A]
-    letdown year FILE --profile CSV [--efficiency E] [--out DIR] [--workers N|--dask A]
-    letdown size FILE [--efficiency E] [--model M] [--json] [--units si|field]
+    letdown year FILE --profile CSV [--efficiency E] [--calorific gross|net] [--out DIR]
+                 [--workers N|--dask A]
+    letdown size FILE [--efficiency E] [--model M] [--free-water always|by-dew-point]
+                 [--calorific gross|net] [--json] [--units si|field]
     letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
 
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
 :class:`ModelError`); 1 a failed solve (:class:`ConvergenceError`, or a result that did not
-converge); 3 an internal error (a bug: please report it with the ``--debug`` traceback).
+converge; ``year``: an hour that failed; ``size``: a case that failed or does not meet its limits,
+with every other row written); 3 an internal error (a bug: please report it with the ``--debug``
+traceback).
 Errors are one line on stderr, ``letdown: FILE:LINE: field: message``; ``--debug`` adds the
 traceback. With ``--json`` stdout holds only the JSON object; messages for people go to stderr.
 ``--csv DIR`` writes ``streams.csv`` and ``equipment.csv`` only after a successful solve (into a
@@ -96,8 +100,10 @@ def _parser() -> argparse.ArgumentParser:
     y.add_argument("file", metavar="FILE")
     y.add_argument("--profile", required=True, metavar="CSV",
                    help="hourly profile: time,flow [unit],T_in [unit],P_in [unit][,P_out][,ground_T]")
-    y.add_argument("--efficiency", type=float, default=0.75,
-                   help="heater efficiency on the gross calorific value (default 0.75, assumed)")
+    y.add_argument("--efficiency", type=float, metavar="E",
+                   help="efficiency 0..1 of heaters the file gives none (default 0.75, assumed)")
+    y.add_argument("--calorific", choices=("gross", "net"), default="gross",
+                   help="calorific value of the fuel gas volume (ISO 6976:2016; default gross)")
     y.add_argument("--feed", metavar="NAME", help="the feed the profile drives (default: the only one)")
     y.add_argument("--outlet", metavar="BLOCK", help="the throttle whose P_out the profile sets")
     y.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
@@ -111,6 +117,11 @@ def _parser() -> argparse.ArgumentParser:
                     help="heater efficiency 0..1 when the file's heater has none (water-bath "
                          "heaters run about 0.5-0.8; default 0.75, stated as assumed)")
     sz.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+    sz.add_argument("--free-water", choices=("always", "by-dew-point"), default="always",
+                    help="assume free water in every stream (default), or only below its water "
+                         "dew point (trust the water dew point)")
+    sz.add_argument("--calorific", choices=("gross", "net"), default="gross",
+                    help="calorific value of the fuel gas volume (ISO 6976:2016; default gross)")
     sz.add_argument("--json", action="store_true", help="print only the JSON sizing on stdout")
     sz.add_argument("--units", choices=("si", "field"), default="si", help="display units")
     cm = sub.add_parser("compare", parents=[common],
@@ -392,7 +403,7 @@ def _year(args) -> int:
     try:
         res = year(fs, profile, efficiency=args.efficiency, feed=args.feed,
                    outlet_block=args.outlet, model=args.model, executor=executor,
-                   show_progress=sys.stderr.isatty())
+                   show_progress=sys.stderr.isatty(), calorific=args.calorific)
     finally:
         executor.close()
     print(year_text(res))
@@ -400,6 +411,11 @@ def _year(args) -> int:
         files = year_files(res, flowsheet=args.file)
         _write_csv(target, files)
         print(f"letdown: wrote {', '.join(str(target / f) for f in files)}", file=sys.stderr)
+    failed = int((~res.converged).sum())
+    if failed:
+        print(f"letdown: {args.file}: {failed} of {res.profile.n} hours failed; every hour is "
+              "written with its reason", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
     return EXIT_OK
 
 
@@ -410,12 +426,18 @@ def _size(args) -> int:
 
     fs = load(args.file)
     args.flowsheet = fs
-    res = size(fs, efficiency=args.efficiency, model=args.model)
+    res = size(fs, efficiency=args.efficiency, model=args.model, free_water=args.free_water,
+               calorific=args.calorific)
     if args.json:
         print(json.dumps(res.to_dict(), indent=2, allow_nan=False))
         print(f"letdown: {res.to_dict()['caution']}", file=sys.stderr)
     else:
         print(size_text(res, args.units, atmosphere=fs.extra.get("atmosphere")))
+    if not res.all_met:
+        bad = [c.name for c in res.cases if not c.met]
+        print(f"letdown: {args.file}: {len(bad)} of {len(res.cases)} cases failed or not met "
+              f"({', '.join(bad)}); every case is reported", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
     return EXIT_OK
 
 

@@ -7,13 +7,18 @@ from ..quantities import STANDARD_ATMOSPHERE, unit_system
 from .tables import Table, render
 
 
-#: Words for the limits in the report.
-LIMIT_NAMES = {"min_T": "limits.min_T", "ice": "0 degC ice + margin",
-               "hydrate": "hydrate T + margin"}
+#: Words for the limits in the report (any other kind is shown by its own name).
+LIMIT_NAMES = {"min_T": "limits.min_T", "ice": "ice point + margin",
+               "hydrate": "hydrate T + margin", "goal as written": "the goal as written"}
+
+
+def _limit(kind: str) -> str:
+    return LIMIT_NAMES.get(kind, kind)
 
 
 def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
-    """The sizing for a terminal: one row per case, the design duty, its fuel, notes, caution."""
+    """The sizing for a terminal: one row per case, the design heat, its fuel, every stream that
+    misses its limit, failed cases, notes, the model's bias and the caution."""
     d = res.to_dict()
     u = unit_system(units, STANDARD_ATMOSPHERE if atmosphere is None else atmosphere)
     T, P, duty, dT = u["T"], u["P"], u["duty"], u["dT"]
@@ -21,50 +26,105 @@ def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
     def t(v):
         return None if v is None else T(v)
 
+    def q(fn, v):
+        return None if v is None else fn(v)
+
+    fixed = [h for h, info in d["heaters"].items() if not info["sized"]]
     rows = []
     for c in d["cases"]:
-        rows.append((c["name"], P(c["held_P_Pa"]), t(c["hydrate_T_K"]), t(c["water_dew_T_K"]),
-                     T(c["target_T_K"]), LIMIT_NAMES[c["governing_limit"]], T(c["heater_T_out_K"]),
-                     duty(c["duty_W"]), duty(c["fuel_W"]), "yes" if c["met"] else "NO"))
-    table = Table(f"Cases (held: {d['held']}.T by {d['heater']}; hydrate T with free water assumed)",
+        gov = _limit(c["governing_limit"])
+        if c["governing_stream"] != d["held"]:
+            gov += f" at {c['governing_stream']}"
+        rows.append((c["name"], q(P, c["held_P_Pa"]), t(c["hydrate_T_K"]), t(c["water_dew_T_K"]),
+                     t(c["target_T_K"]), gov, t(c["heater_T_out_K"]), q(duty, c["duty_W"]),
+                     *(q(duty, c["heaters_W"][h]) for h in fixed), q(duty, c["heat_W"]),
+                     q(duty, c["fuel_W"]), "yes" if c["met"] else "NO"))
+    rule = ("free water assumed in every stream" if d["free_water"] == "always"
+            else "free water only below the water dew point")
+    table = Table(f"Cases (held: {d['held']}.T by {d['heater']}; {rule})",
                   ("Case", f"P held [{P.label}]", f"Hydrate T [{T.label}]",
                    f"Water dew [{T.label}]", f"Target [{T.label}]", "Governing limit",
-                   f"{d['heater']} T_out [{T.label}]", f"Duty [{duty.label}]",
+                   f"{d['heater']} T_out [{T.label}]", f"{d['heater']} [{duty.label}]",
+                   *(f"{h} [{duty.label}]" for h in fixed), f"Heat [{duty.label}]",
                    f"Fuel [{duty.label}]", "Met"), tuple(rows))
-    g = d["design"]
-    lines = [f"Preheat sizing: {d['title']} (model {d['model']})", "",
-             f"Limits at {d['held']}: " + ", ".join(
-                 x for x in (f"limits.min_T {T(d['min_T_K']):.2f} {T.label}"
-                             if d["min_T_K"] is not None else "",
-                             "0 degC ice + margin" if any("ice" in c["limits_K"]
-                                                           for c in d["cases"]) else "",
-                             "hydrate T + margin") if x)
-             + f"; margin {dT(d['hydrate_margin_K']):g} {dT.label} (limits.hydrate_margin).", "",
-             render(table), "",
-             f"Design duty: {duty(g['duty_W']):.1f} {duty.label} in case {g['case']}, governed by "
-             f"{LIMIT_NAMES[g['governing_limit']]} ({T(g['target_T_K']):.2f} {T.label} at "
-             f"{d['held']}).",
-             f"Fuel at the design duty: {duty(g['fuel_W']):.1f} {duty.label} of fuel, "
-             f"{g['fuel_Sm3_h']:.1f} Sm3/h of feed gas (gross calorific value "
-             f"{d['gross_cv_J_Sm3'] / 1e6:.3f} MJ/Sm3, ISO 6976:2016, 15 degC / 15 degC), at a heater "
-             f"efficiency of {d['efficiency']:.0%} from {d['efficiency_source']}."]
+    more = []
     for c in d["cases"]:
-        if c["heater_duty_W"] < 0.0:
-            lines.append(f"Case {c['name']}: no heat needed (the heater would have to remove "
-                         f"{duty(-c['heater_duty_W']):.1f} {duty.label}).")
-        for s in c["colder_streams"]:
-            lines.append(f"Case {c['name']}: stream {s['stream']} is at {T(s['T_K']):.2f} "
-                         f"{T.label}, below its own limit {T(s['limit_K']):.2f} {T.label}: it is "
-                         f"colder than the held stream; hold it instead.")
+        for sz in c.get("sized_heaters", [])[1:]:
+            gov = _limit(sz["governing_limit"])
+            if sz["governing_stream"] != sz["held"]:
+                gov += f" at {sz['governing_stream']}"
+            more.append((c["name"], sz["heater"], sz["held"], q(P, sz["held_P_Pa"]),
+                         t(sz["hydrate_T_K"]), t(sz["water_dew_T_K"]), t(sz["target_T_K"]), gov,
+                         t(sz["heater_T_out_K"]), q(duty, sz["duty_W"])))
+    kinds = []
+    for c in d["cases"]:
+        kinds.extend(k for k in c["limits_K"] if k not in kinds)
+    lines = [f"Preheat sizing: {d['title']} (model {d['model']})", "",
+             "Limits of every stream the station makes: "
+             + ", ".join(_limit(k) for k in kinds)
+             + f"; margin {dT(d['hydrate_margin_K']):g} {dT.label} (limits.hydrate_margin).",
+             f"Free water: {d['free_water_rule']}.", "",
+             render(table), ""]
+    if more:
+        lines += [render(Table("Further sized heaters (each holds its own stream)",
+                               ("Case", "Heater", "Held", f"P held [{P.label}]",
+                                f"Hydrate T [{T.label}]", f"Water dew [{T.label}]",
+                                f"Target [{T.label}]", "Governing limit", f"T_out [{T.label}]",
+                                f"Duty [{duty.label}]"), tuple(more))), ""]
+    g = d["design"]
+    cv = (f"{d['calorific_basis']} calorific value {d['calorific_value_J_Sm3'] / 1e6:.3f} MJ/Sm3, "
+          f"{d['calorific_standard']}")
+    if g is None:
+        lines.append("No case solved: there is no design heat.")
+    else:
+        by = _limit(g["governing_limit"]) + (f" at {g['governing_stream']}"
+                                             if g["governing_stream"] != d["held"] else "")
+        lines.append(f"Design heat: {duty(g['heat_W']):.1f} {duty.label} in case {g['case']} ("
+                     + ", ".join(f"{h} {duty(v):.1f} {duty.label}"
+                                 for h, v in g["heaters_W"].items())
+                     + f"), {d['heater']} governed by {by} ({T(g['target_T_K']):.2f} {T.label} at "
+                     f"{d['held']}).")
+        lines.append(f"Fuel in the design case: {duty(g['fuel_W']):.1f} {duty.label} of fuel, "
+                     f"{g['fuel_Sm3_h']:.1f} Sm3/h of feed gas ({cv}).")
+        if not g["met"]:
+            lines.append("The design case does not meet every limit (below): its heat is a lower "
+                         "bound.")
+    for h, info in d["heaters"].items():
+        lines.append(f"  {h}: efficiency {info['efficiency']:.0%} from {info['efficiency_source']}"
+                     + (" (sized)" if info["sized"] else " (fixed, as the file says)"))
+    lines.append("Met: " + ("yes, in every case" if d["all_met"] else
+                            "NO: " + ", ".join(c["name"] for c in d["cases"] if not c["met"])))
+    for c in d["cases"]:
+        if c["reason"]:
+            lines.append(f"Case {c['name']} failed: {c['reason']}.")
+        for h, v in c["heaters_as_solved_W"].items():
+            if v is not None and v < 0.0:
+                lines.append(f"Case {c['name']}: {h} needs no heat (it would have to remove "
+                             f"{duty(-v):.1f} {duty.label}); counted as zero.")
+        for s in c["streams_not_met"]:
+            h = s.get("sized_heater", d["heater"])
+            if s["downstream_of_sized_heater"]:
+                why = f"downstream of {h}, which did not bring it to its limit"
+            elif s["upstream_of_sized_heater"]:
+                why = f"upstream of {h}: no sized heater can warm it; hold it with a goal on a " \
+                      "heater before it"
+            else:
+                why = f"not downstream of {h}: no sized heater can warm it"
+            lines.append(f"Case {c['name']}: NOT MET at stream {s['stream']}: {T(s['T_K']):.2f} "
+                         f"{T.label}, below its {_limit(s['limit'])} {T(s['limit_K']):.2f} "
+                         f"{T.label} ({why}).")
     warnings = []
     for c in d["cases"]:
         for w in c["warnings"]:
-            line = f"  {w['where']}: {w['what']}"
+            line = f"  [{w.get('severity', 'check')}] {w['where']}: {w['what']}"
             if line not in warnings:
                 warnings.append(line)
     if warnings:
         lines += ["", "Warnings (any case)"] + warnings
     if d["notes"]:
         lines += ["", "Notes"] + [f"  {n}" for n in d["notes"]]
-    lines += ["", "Standard volumes at 15 degC and 101.325 kPa (ISO 13443).", CAUTION]
+    lines.append("")
+    if d["model_bias"]:
+        lines.append(d["model_bias"])
+    lines += ["Standard volumes at 15 degC and 101.325 kPa (ISO 13443).", CAUTION]
     return "\n".join(lines)

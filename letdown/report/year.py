@@ -22,12 +22,19 @@ def year_text(res) -> str:
     for name, mwh in s["heat_MWh"].items():
         peak = s["peak"].get(name)
         pk = f"; peak {peak['duty_W'] / 1e3:.1f} kW at {peak['time']}" if peak else ""
-        lines.append(f"  {name}: {mwh:,.1f} MWh of heat{pk}")
-    lines.append(f"  fuel gas: {s['fuel_Sm3']:,.0f} Sm3 at a heater efficiency of "
-                 f"{s['heater_efficiency']:.0%} (gross calorific value "
-                 f"{s['gross_cv_J_Sm3'] / 1e6:.3f} MJ/Sm3, ISO 6976:2016, 15 degC / 15 degC)")
-    lo, hi = s["outlet_T_K"]["min"] - 273.15, s["outlet_T_K"]["max"] - 273.15
-    lines.append(f"  {s['outlet']} temperature: {lo:.2f} to {hi:.2f} degC")
+        h = s["heaters"][name]
+        lines.append(f"  {name}: {mwh:,.1f} MWh of heat{pk}; "
+                     f"{s['fuel_MWh'][name]:,.1f} MWh of fuel at an efficiency of "
+                     f"{h['efficiency']:.0%} from {h['efficiency_source']}")
+        off = s["heater_off_hours"].get(name, 0)
+        if off:
+            lines.append(f"    heater off in {off} hours: the gas arrived warm enough (it would "
+                         "have had to cool it); its outlet floats warmer, counted as zero heat")
+    lines.append(f"  fuel gas: {s['fuel_Sm3']:,.0f} Sm3 ({s['calorific_basis']} calorific value "
+                 f"{s['calorific_value_J_Sm3'] / 1e6:.3f} MJ/Sm3, {s['calorific_standard']})")
+    lo, hi = s["outlet_T_K"]["min"], s["outlet_T_K"]["max"]
+    if lo is not None:
+        lines.append(f"  {s['outlet']} temperature: {lo - 273.15:.2f} to {hi - 273.15:.2f} degC")
     if s["min_T_K"] is not None:
         lines.append(f"  hours with a stream below limits.min_T ({s['min_T_K'] - 273.15:.1f} degC): "
                      f"{s['hours_below_min_T']}")
@@ -37,10 +44,18 @@ def year_text(res) -> str:
                      f"{s['hours_below_hydrate_T_plus_margin']}")
     lines.append(f"  failed hours: {s['failed_hours']}")
     if s["failed_hours"]:
-        bad = np.flatnonzero(~res.converged)[:5]
-        for i in bad:
+        bad = np.flatnonzero(~res.converged)
+        for i in bad[:5]:
             lines.append(f"    {res.profile.time[i]}: {res.reasons[i]}")
-    lines += ["", "Standard volumes at 15 degC and 101.325 kPa (ISO 13443).", CAUTION]
+        if bad.size > 5:
+            lines.append(f"    ... and {bad.size - 5} more (every hour with its reason in "
+                         "hourly.csv with --out); the totals leave them out")
+        else:
+            lines.append("    the totals leave them out")
+    lines.append("")
+    if s["model_bias"]:
+        lines.append(s["model_bias"])
+    lines += ["Standard volumes at 15 degC and 101.325 kPa (ISO 13443).", CAUTION]
     return "\n".join(lines)
 
 
@@ -51,10 +66,12 @@ def year_files(res, *, flowsheet: str, plot: bool = True) -> dict:
     w = csv.writer(buf, lineterminator="\n")
     heaters = list(res.heater_duty)
     streams = list(res.stream_T)
-    w.writerow(["time", *(f"{n}.duty [W]" for n in heaters), *(f"{n}.T [K]" for n in streams),
-                "converged", "reason"])
+    w.writerow(["time", *(f"{n}.duty [W]" for n in heaters), *(f"{n}.off" for n in heaters),
+                *(f"{n}.T [K]" for n in streams), "converged", "reason"])
     for i, t in enumerate(res.profile.time):
         w.writerow([t, *(_num(res.heater_duty[n][i]) for n in heaters),
+                    *(bool(res.heater_off[n][i]) if n in res.heater_off else False
+                      for n in heaters),
                     *(_num(res.stream_T[n][i]) for n in streams), bool(res.converged[i]),
                     res.reasons[i]])
     files = {"hourly.csv": buf.getvalue(),
@@ -64,7 +81,8 @@ def year_files(res, *, flowsheet: str, plot: bool = True) -> dict:
                  "flowsheet_sha256": hashlib.sha256(Path(flowsheet).read_bytes()).hexdigest(),
                  "profile": res.profile.source,
                  "profile_sha256": hashlib.sha256(Path(res.profile.source).read_bytes()).hexdigest(),
-                 "model": res.model, "heater_efficiency": res.efficiency,
+                 "model": res.model, "heater_efficiencies": res.efficiencies,
+                 "calorific_basis": res.calorific,
                  "letdown_version": __version__,
                  "written_utc": datetime.now(timezone.utc).isoformat(timespec="seconds")},
                  indent=2) + "\n"}

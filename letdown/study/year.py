@@ -5,14 +5,27 @@ The profile is a CSV file with a header ``time,flow [unit],T_in [unit],P_in [uni
 where ``T_in`` is absent: buried supply lines bring the gas to the ground temperature -- common
 practice). Units are those of the flowsheet file (``Sm3/h``, ``degC``, ``barg``...).
 
-Reported: the heat each heater delivers over the year [MWh], the fuel gas it burns at a stated
-heater efficiency (standard m3 at 15 degC / 101.325 kPa, with the gross calorific value of the feed
-gas by ISO 6976:2016, 15 degC combustion), the peak duty and its hour, the hours in which a stream is
-below ``limits.min_T``, the outlet temperature range, and the hours that failed (with the reason).
+Reported: the heat each heater delivers over the year [MWh], the fuel gas it burns (standard m3 at
+15 degC / 101.325 kPa) at its own efficiency (the heater's ``efficiency`` in the file; the command
+line's value only for a heater without one; else 0.75, stated as assumed) with the calorific value
+of the feed gas by ISO 6976:2016, 15 degC combustion (gross by default, net on request, stated),
+the peak duty and its hour, the hours in which a stream is below ``limits.min_T``, the outlet
+temperature range, and the hours that failed (with the reason; the other hours are kept).
+
+**A heater never cools.** In an hour where a heater's duty comes out negative (warm gas, and a
+goal or a fixed outlet temperature below the inlet's), the heater stays cold: that hour is solved
+again with the heater at zero duty and without the goals that vary it, so its outlet floats warmer
+than the goal's target. The same holds for an hour whose goal fails because the gas is too warm
+even at the low end of the goal's bracket: it is solved with that heater off and kept when its
+held stream is then at or above the target. Such hours are counted per heater
+(``floored_hours``) and shown. Summing
+the negative duties instead would bill the warm hours as heat recovered (on a warm-day profile
+that gave a twentieth of the heat the cold hours needed).
 """
 from __future__ import annotations
 
 import csv
+import dataclasses
 from dataclasses import dataclass
 
 import numpy as np
@@ -22,6 +35,7 @@ from ..quantities import parse_quantity
 from ..sheet.solve import solve_cases
 from ..sheet.spec import Flowsheet
 from .executors import Serial, chunks
+from .model_bias import bias_line
 from .sweep import _reasons
 
 #: Profile columns and the quantity kind of each.
@@ -31,6 +45,11 @@ COLUMNS = {"flow": "flow", "T_in": "temperature", "P_in": "pressure", "P_out": "
 HOURS_PER_ROW = 1.0
 #: Cases per chunk handed to an executor: large enough to keep the batch flash efficient.
 CHUNK_CASES = 2190
+#: Heater efficiency used when neither the file nor the command line gives one [-] (the middle of
+#: the 50-80 % of water-bath heaters; common practice), stated as assumed.
+DEFAULT_EFFICIENCY = 0.75
+#: Calorific bases of the fuel figures (ISO 6976:2016, 15 degC combustion and metering).
+CALORIFIC = ("gross", "net")
 
 
 @dataclass(frozen=True)
@@ -116,21 +135,94 @@ def read_profile(path, atmosphere=None) -> Profile:
     return Profile(tuple(r[0] for r in data), values, file)
 
 
-def _solve_chunk(task):
-    """Solve one chunk of hours (top level, so process pools and Dask can ship it)."""
-    fs, cases, model = task
-    res = solve_cases(fs, cases, model=model, strict=False)
+def _heaters_off(fs: Flowsheet, names) -> Flowsheet:
+    """``fs`` with the heaters ``names`` at zero duty and the goals that vary them dropped."""
+    blocks = dict(fs.blocks)
+    for h in names:
+        params = {k: v for k, v in blocks[h].params.items() if k not in ("T_out", "fuel")}
+        params["duty"] = 0.0
+        blocks[h] = dataclasses.replace(blocks[h], params=params)
+    goals = tuple(g for g in fs.goals if g.by.partition(".")[0] not in names)
+    return dataclasses.replace(fs, blocks=blocks, goals=goals)
+
+
+def _chunk_arrays(res):
     m = res.n_cases
     heaters = {n: np.where(res.converged, e.duty, np.nan) for n, e in res.equipment.items()
                if e.kind in ("heater",) and e.duty is not None}
     streams_T = {n: np.where(res.converged, s.T, np.nan) for n, s in res.streams.items()}
-    return {"converged": np.asarray(res.converged, dtype=bool), "reasons": _reasons(res, m),
-            "heaters": heaters, "T": streams_T, "model": res.model}
+    return {"converged": np.asarray(res.converged, dtype=bool), "reasons": list(_reasons(res, m)),
+            "heaters": heaters, "T": streams_T}
+
+
+def _solve_chunk(task):
+    """Solve one chunk of hours (top level, so process pools and Dask can ship it); hours where a
+    heater would cool are solved again with that heater off (module docstring)."""
+    fs, cases, model = task
+    res = solve_cases(fs, cases, model=model, strict=False)
+    out = _chunk_arrays(res)
+    m = res.n_cases
+    off = {h: np.zeros(m, dtype=bool) for h in out["heaters"]}
+    for _ in range(len(off)):           # each pass can only add heaters to an hour's off set
+        grew = False
+        for h, d in out["heaters"].items():
+            neg = out["converged"] & (np.nan_to_num(d, nan=0.0) < 0.0) & ~off[h]
+            if neg.any():
+                off[h] |= neg
+                grew = True
+        if not grew:
+            break
+        keys = np.array([tuple(bool(off[h][i]) for h in off) for i in range(m)]) \
+            if off else np.zeros((m, 0), bool)
+        for key in {tuple(k) for k in keys if any(k)}:
+            idx = np.flatnonzero(np.all(keys == np.array(key), axis=1))
+            names = [h for h, flag in zip(off, key) if flag]
+            sub = solve_cases(_heaters_off(fs, names), {k: np.asarray(v)[idx] if np.ndim(v) else v
+                                                        for k, v in cases.items()},
+                              model=model, strict=False)
+            part = _chunk_arrays(sub)
+            out["converged"][idx] = part["converged"]
+            for j, i in enumerate(idx):
+                out["reasons"][i] = part["reasons"][j]
+            for h in out["heaters"]:
+                out["heaters"][h][idx] = part["heaters"][h]
+            for s_name in out["T"]:
+                out["T"][s_name][idx] = part["T"][s_name]
+    # a goal that fails because the gas is too warm even at the low end of its bracket: the
+    # heater it varies stays cold, and the hour is kept if its held stream is then warm enough
+    for g in fs.goals:
+        stream, _, attr = g.hold.partition(".")
+        h = g.by.partition(".")[0]
+        if attr != "T" or h not in off or stream not in out["T"]:
+            continue
+        idx = np.flatnonzero(~out["converged"] & ~np.any([o for o in off.values()], axis=0))
+        if not idx.size:
+            continue
+        sub = solve_cases(_heaters_off(fs, [h]), {k: np.asarray(v)[idx] if np.ndim(v) else v
+                                                   for k, v in cases.items()},
+                          model=model, strict=False)
+        part = _chunk_arrays(sub)
+        warm = part["converged"] & (part["T"][stream] >= g.target - fs.solver.goal_tolerance)
+        for j in np.flatnonzero(warm):
+            i = idx[j]
+            out["converged"][i], out["reasons"][i] = True, ""
+            off[h][i] = True
+            for name in out["heaters"]:
+                out["heaters"][name][i] = part["heaters"][name][j]
+            for s_name in out["T"]:
+                out["T"][s_name][i] = part["T"][s_name][j]
+    out["off"] = off
+    out["model"] = res.model
+    return out
 
 
 @dataclass(frozen=True)
 class YearResult:
-    """Hour-by-hour results and the year's totals."""
+    """Hour-by-hour results and the year's totals.
+
+    ``heater_duty`` holds each heater's duty per hour [W], zero in the hours it stays cold
+    (``heater_off``, bool per hour); ``efficiencies`` each heater's efficiency [-] with
+    ``efficiency_sources``; ``cv`` the calorific value on ``calorific`` basis [J/Sm3]."""
 
     profile: Profile
     model: str
@@ -139,20 +231,46 @@ class YearResult:
     heater_duty: dict          # heater -> W per hour
     stream_T: dict             # stream -> K per hour
     outlet: str
-    efficiency: float
-    gross_cv: float            # J per standard m3 (15 degC, 101.325 kPa), ISO 6976
+    efficiencies: dict         # heater -> [-]
+    efficiency_sources: dict   # heater -> where it came from
+    cv: float                  # J per standard m3 (15 degC, 101.325 kPa), ISO 6976:2016
+    calorific: str             # "gross" or "net"
     min_T: float | None
     outlet_hydrate_T: np.ndarray | None = None   # K per hour at the outlet pressure (free water)
     hydrate_margin: float = 0.0                  # K (limits.hydrate_margin)
+    heater_off: dict = dataclasses.field(default_factory=dict)   # heater -> bool per hour
+    model_bias: str | None = None
+
+    @property
+    def efficiency(self) -> float | None:
+        """The one efficiency when every heater has the same, else None [-]."""
+        values = set(self.efficiencies.values())
+        return values.pop() if len(values) == 1 else None
+
+    @property
+    def gross_cv(self) -> float:
+        """The calorific value used [J/Sm3] (its basis in ``calorific``)."""
+        return self.cv
+
+    @property
+    def floored_hours(self) -> dict:
+        """Heater -> hours it stayed cold because the gas needed no heat (a solved hour only)."""
+        return {n: int(np.sum(off & self.converged)) for n, off in self.heater_off.items()}
 
     @property
     def energy_MWh(self) -> dict:
         return {n: float(np.nansum(d)) * HOURS_PER_ROW / 1e6 for n, d in self.heater_duty.items()}
 
     @property
+    def fuel_MWh(self) -> dict:
+        """Heat of the fuel each heater burns over the year [MWh] (duty / its efficiency)."""
+        return {n: e / self.efficiencies[n] for n, e in self.energy_MWh.items()}
+
+    @property
     def fuel_Sm3(self) -> float:
-        heat_J = sum(float(np.nansum(d)) * HOURS_PER_ROW * 3600.0 for d in self.heater_duty.values())
-        return heat_J / self.efficiency / self.gross_cv
+        heat_J = sum(float(np.nansum(d)) * HOURS_PER_ROW * 3600.0 / self.efficiencies[n]
+                     for n, d in self.heater_duty.items())
+        return heat_J / self.cv
 
     @property
     def hours_below_min_T(self) -> int:
@@ -181,29 +299,38 @@ class YearResult:
             i = int(np.nanargmax(d))
             peak[n] = {"duty_W": float(d[i]), "time": self.profile.time[i]}
         T_out = self.stream_T[self.outlet]
+        finite = T_out[np.isfinite(T_out)]
         return {"model": self.model, "hours": self.profile.n,
                 "failed_hours": int((~self.converged).sum()),
-                "heat_MWh": self.energy_MWh, "fuel_Sm3": self.fuel_Sm3,
-                "heater_efficiency": self.efficiency, "gross_cv_J_Sm3": self.gross_cv,
+                "heat_MWh": self.energy_MWh, "fuel_MWh": self.fuel_MWh, "fuel_Sm3": self.fuel_Sm3,
+                "heaters": {n: {"efficiency": self.efficiencies[n],
+                                "efficiency_source": self.efficiency_sources[n]}
+                            for n in self.heater_duty},
+                "heater_off_hours": self.floored_hours,
+                "calorific_basis": self.calorific, "calorific_value_J_Sm3": self.cv,
+                "calorific_standard": "ISO 6976:2016, 15 degC / 15 degC",
                 "peak": peak, "hours_below_min_T": self.hours_below_min_T,
                 "min_T_K": self.min_T, "outlet": self.outlet,
                 "hours_below_hydrate_T_plus_margin": self.hours_below_hydrate,
                 "hydrate_margin_K": self.hydrate_margin,
-                "outlet_T_K": {"min": float(np.nanmin(T_out)), "max": float(np.nanmax(T_out))}}
+                "outlet_T_K": {"min": float(finite.min()) if finite.size else None,
+                               "max": float(finite.max()) if finite.size else None},
+                "model_bias": self.model_bias}
 
 
-def year(fs: Flowsheet, profile: Profile, *, efficiency: float = 0.75, feed: str | None = None,
-         outlet_block: str | None = None, model: str | None = None, executor=None,
-         show_progress: bool = False) -> YearResult:
+def year(fs: Flowsheet, profile: Profile, *, efficiency: float | None = None,
+         feed: str | None = None, outlet_block: str | None = None, model: str | None = None,
+         executor=None, show_progress: bool = False, calorific: str = "gross") -> YearResult:
     """Solve every hour of ``profile`` on ``fs`` with its goals held.
 
     Parameters
     ----------
     fs : Flowsheet
     profile : Profile
-    efficiency : float
-        Heater efficiency on the gross calorific value [-] (water-bath heaters run about 0.5-0.8;
-        common practice). The default 0.75 is an assumption the report states.
+    efficiency : float, optional
+        Heater efficiency on the chosen calorific value [-] for heaters whose ``efficiency`` the
+        file does not give (water-bath heaters run about 0.5-0.8; common practice). Default
+        :data:`DEFAULT_EFFICIENCY`, an assumption the report states.
     feed : str, optional
         The feed the profile drives (default: the flowsheet's only feed).
     outlet_block : str, optional
@@ -214,15 +341,21 @@ def year(fs: Flowsheet, profile: Profile, *, efficiency: float = 0.75, feed: str
         :mod:`letdown.study.executors` executor (default: this process).
     show_progress : bool
         A progress bar over the chunks on the terminal (for the command line).
+    calorific : str
+        ``"gross"`` (default) or ``"net"``: the calorific value of the fuel gas (ISO 6976:2016).
 
     Raises
     ------
     InputError
-        An ambiguous or unknown feed or outlet block, an efficiency outside (0, 1].
+        An ambiguous or unknown feed or outlet block, an efficiency outside (0, 1], an unknown
+        calorific basis.
     """
-    if not 0.0 < float(efficiency) <= 1.0:
+    if efficiency is not None and not 0.0 < float(efficiency) <= 1.0:
         raise InputError(f"heater efficiency must lie in (0, 1] (got {efficiency})",
                          field="--efficiency")
+    if calorific not in CALORIFIC:
+        raise InputError(f"the calorific basis is 'gross' or 'net' (got '{calorific}')",
+                         field="--calorific")
     feed = _only(feed, list(fs.feeds), "feed")
     consumed = {s for b in fs.blocks.values() for s in b.inlets.values()}
     throttles = [n for n, b in fs.blocks.items() if b.kind == "throttle"
@@ -247,17 +380,29 @@ def year(fs: Flowsheet, profile: Profile, *, efficiency: float = 0.75, feed: str
     reasons = tuple(r for o in outs for r in o["reasons"])
     heaters = {n: np.concatenate([o["heaters"][n] for o in outs]) for n in outs[0]["heaters"]}
     temps = {n: np.concatenate([o["T"][n] for o in outs]) for n in outs[0]["T"]}
+    off = {n: np.concatenate([o["off"][n] for o in outs]) for n in outs[0]["off"]}
     if outlet_stream is None:
         outlet_stream = list(temps)[-1]
+    effs, sources = {}, {}
+    for n in heaters:
+        own = fs.blocks[n].params.get("efficiency")
+        if own is not None:
+            effs[n], sources[n] = float(own), f"the file ({n}.efficiency)"
+        elif efficiency is not None:
+            effs[n], sources[n] = float(efficiency), "the command line (--efficiency)"
+        else:
+            effs[n], sources[n] = DEFAULT_EFFICIENCY, "assumed (no efficiency given)"
     from ..fluid.quality import quality
     comps = list(fs.gas.composition)
     feed_comp = fs.feeds[feed].composition or fs.gas.composition
     z = np.array([feed_comp.get(c, 0.0) for c in comps], dtype=float)
-    cv = float(quality(comps, z / z.sum(), 288.15, 288.15).gross_volumetric)
+    q = quality(comps, z / z.sum(), 288.15, 288.15)
+    cv = float(q.gross_volumetric if calorific == "gross" else q.net_volumetric)
     hyd = _outlet_hydrate_T(fs, comps, z / z.sum(), cases, outlet_block, outlet_stream, profile.n)
     return YearResult(profile, outs[0]["model"], conv, reasons, heaters, temps, outlet_stream,
-                      float(efficiency), cv, fs.limits.get("min_T"), hyd,
-                      float(fs.limits.get("hydrate_margin", 0.0)))
+                      effs, sources, cv, calorific, fs.limits.get("min_T"), hyd,
+                      float(fs.limits.get("hydrate_margin", 0.0)), off,
+                      bias_line(outs[0]["model"]))
 
 
 def _outlet_hydrate_T(fs, comps, z, cases, outlet_block, outlet_stream, n):
