@@ -246,6 +246,7 @@ def test_bad_cases_are_located(case, field, message):
 # the station is sized, not one stream (issue 10, "size says met when it is not")
 # ---------------------------------------------------------------------------------------------
 GAS = """gas:
+  model: peng-robinson
   composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
   water: 50 mg/Sm3
 """

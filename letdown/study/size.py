@@ -6,7 +6,8 @@ preheater holding the stream between two regulators and an interstage heater hol
 the first is the one the single-heater figures refer to). Every other heater is a **fixed
 heater**: it runs as the file says, and its duty counts in the station's heat and fuel.
 
-Limits of a stream (``m`` = ``limits.hydrate_margin``, 0 K when absent, with a note)::
+Limits of a stream (``m`` = ``limits.hydrate_margin``; the freezing checks' default,
+3 K, common practice, when absent, with a note)::
 
     min_T      limits.min_T                   (the material's limit, as written, no margin)
     ice        ice point + m                  (the ice point the result carries, 0 degC)
@@ -55,7 +56,7 @@ import numpy as np
 from ..caution import CAUTION
 from ..errors import InputError
 from ..fluid.quality import quality
-from ..sheet.freezing import ICE_T
+from ..sheet.freezing import ICE_T, hydrate_margin
 from ..sheet.graph import downstream_streams
 from ..sheet.solve import make_fluid, solve_cases
 from ..sheet.spec import Flowsheet
@@ -448,10 +449,9 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
         raise InputError(f"the calorific basis is 'gross' or 'net' (got '{calorific}')",
                          field="--calorific")
     notes = []
-    margin = fs.limits.get("hydrate_margin")
-    if margin is None:
-        margin = 0.0
-        notes.append("no limits.hydrate_margin: 0 K used (3-5 K is common practice)")
+    margin, source = hydrate_margin(fs)
+    if "hydrate_margin" not in fs.limits:
+        notes.append(f"no limits.hydrate_margin: {margin:g} K used ({source})")
     min_T = fs.limits.get("min_T")
     if min_T is None:
         notes.append("no limits.min_T: no material limit applied (give the coldest temperature "
