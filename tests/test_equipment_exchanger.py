@@ -4,6 +4,7 @@ import pytest
 
 from tests.blocks import assert_balanced, feed, fluid
 from letdown.equipment import exchanger, flash_stream
+from letdown.equipment.common import BY_GOAL
 from letdown.errors import InputError
 
 N = exchanger.SLICES
@@ -77,9 +78,10 @@ def test_UA_spec_against_slice_wise_LMTD():
     np.testing.assert_allclose(again.details["UA_W_K"], 8000.0, rtol=1e-8)
 
 
-def test_cross_inside_with_both_ends_fine_is_flagged():
+def test_cross_inside_with_both_ends_fine_is_refused_or_flagged_under_a_goal():
     """A condensing rich gas against a lean gas: the hot curve bends at its dew point and crosses
-    the cold line inside the exchanger although both end differences are positive."""
+    the cold line inside the exchanger although both end differences are positive. Given in the
+    file the specification is refused (issue 10); where a goal varies it, the cross is flagged."""
     gas = fluid("rich")
     lean = np.array([0.95, 0.03, 0.005, 0.0, 0.0, 0.01, 0.005])
     lean = lean / lean.sum()
@@ -87,7 +89,11 @@ def test_cross_inside_with_both_ends_fine_is_flagged():
                               "carbon-dioxide")
     hot = feed(gas, 300.0, 70e5, 100.0)
     cold = flash_stream(gas, [170.0], lean[None, :], T=[230.0], P=[60e5])
-    out = exchanger.run(gas, "x", {"hot": hot, "cold": cold}, {"cold_T_out": 298.0})
+    with pytest.raises(InputError, match="cannot be met without a temperature cross") as info:
+        exchanger.run(gas, "x", {"hot": hot, "cold": cold}, {"cold_T_out": 298.0})
+    assert info.value.field == "equipment.x.cold_T_out" and list(info.value.cases) == [True]
+    out = exchanger.run(gas, "x", {"hot": hot, "cold": cold},
+                        {"cold_T_out": 298.0, BY_GOAL: ("cold_T_out",)})
     assert_balanced({"hot": hot, "cold": cold}, out)
     assert 300.0 - 298.0 > 0 and out.outlets["hot"].T[0] - 230.0 > 0      # both ends fine
     assert out.flags["temperature_cross"][0]
@@ -95,9 +101,11 @@ def test_cross_inside_with_both_ends_fine_is_flagged():
     assert 0 < out.details["min_approach_at"][0] < 1                      # inside, not at an end
 
 
-def test_min_approach_larger_than_inlet_difference_is_unmet():
+def test_min_approach_larger_than_inlet_difference_is_refused_or_unmet_under_a_goal():
     gas, inlets = _streams()
-    out = exchanger.run(gas, "x", inlets, {"min_approach": 80.0})
+    with pytest.raises(InputError, match="min_approach 80 K is wider"):
+        exchanger.run(gas, "x", inlets, {"min_approach": 80.0})
+    out = exchanger.run(gas, "x", inlets, {"min_approach": 80.0, BY_GOAL: ("min_approach",)})
     assert np.all(out.flags["spec_unmet"])
     np.testing.assert_array_equal(out.duty, 0.0)
 

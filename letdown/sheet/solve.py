@@ -27,7 +27,7 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..equipment import KINDS, StreamBatch, flash_stream
-from ..equipment.common import TINY_FLOW
+from ..equipment.common import BY_GOAL, TINY_FLOW, TRIAL
 from ..fluid.rootfind import bracketed_root
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
@@ -35,6 +35,7 @@ from ..fluid.components import R
 from ..fluid.models import out_of_range
 from .freezing import (checks_active, freezing_warnings, inject_doses, inject_params,
                        stream_freezing)
+from .blockflags import FLAG_KINDS, flag_warning  # noqa: F401 (FLAG_KINDS: block flag -> kind)
 from .graph import build_graph, solve_order
 from .result import (BatchResult, EquipmentBatch, GoalRecord, LoopRecord, Result,
                      WarningRecord)
@@ -188,13 +189,6 @@ class Sheet:
                 f"{len(fs.goals)} goals)")
 
 
-#: Block flag -> (warning kind, severity). A flag not listed here is a "check" of its own name.
-FLAG_KINDS = {"two_phase_outlet": ("two_phase_outlet", "check"),
-              "temperature_cross": ("temperature_cross", "hazard"),
-              "spec_unmet": ("spec_unmet", "hazard"),
-              "three_phase_T_shift": ("three_phase_T_shift", "check")}
-
-
 # ------------------------------------------------------------------------------------------------
 # cases
 # ------------------------------------------------------------------------------------------------
@@ -265,6 +259,9 @@ class _Engine:
         self.guess_zs = {name: self._zs(g.composition, g.where, f"guesses.{name}")
                          for name, g in fs.guesses.items()}
         self.producer = {s: b for b, spec in fs.blocks.items() for s in spec.outlets.values()}
+        # > 0 while a loop iterates or a goal searches: blocks refuse nothing in such trial passes
+        # (an iterate may break a rule the answer keeps; letdown.equipment.common)
+        self._trial = 0
 
     # -- small helpers ----------------------------------------------------------------------------
     def _zs(self, composition, where: Where, field_path: str) -> np.ndarray:
@@ -292,6 +289,9 @@ class _Engine:
         for key in list(self.base) + list(over):
             if key.startswith(prefix):
                 params[key[len(prefix):]] = self._value(key, sel, over, None)
+        # the parameters goals vary (flagged, not refused) and whether this pass is a trial
+        params[BY_GOAL] = tuple(k[len(prefix):] for k in over if k.startswith(prefix))
+        params[TRIAL] = self._trial > 0
         return params
 
     def _locate(self, exc: InputError, name: str) -> InputError:
@@ -342,6 +342,15 @@ class _Engine:
         for port, stream in spec.outlets.items():
             streams[stream] = outcome.outlets[port]
         outcomes[name] = outcome
+
+    def _trial_blocks(self, names, streams, outcomes, sel, over):
+        """Run blocks in a trial pass (a loop iteration): they refuse nothing."""
+        self._trial += 1
+        try:
+            for name in names:
+                self._run_block(name, streams, outcomes, sel, over)
+        finally:
+            self._trial -= 1
 
     # -- loops ------------------------------------------------------------------------------------
     def _guess(self, tear: str, step, streams, sel) -> StreamBatch:
@@ -422,8 +431,7 @@ class _Engine:
             streams.update(zip(tears, self._unpack(x[a], [z[a] for z in zs_fallback],
                                                    [T[a] for T in T_last])))
             outcomes: dict = {}
-            for name in step.blocks:
-                self._run_block(name, streams, outcomes, sel[a], over_a)
+            self._trial_blocks(step.blocks, streams, outcomes, sel[a], over_a)
             produced = [streams[t] for t in tears]
             for T, s in zip(T_last, produced):
                 T[a] = s.T
@@ -487,10 +495,14 @@ class _Engine:
             self._value(f"goal{number + 1}.at", sel, over, goal.target), dtype=float), (m,))
         tol = np.maximum(self.fs.solver.goal_tolerance, GOAL_RELATIVE_FLOOR * np.abs(target))
 
-        def run(local, x):
+        def run(local, x, trial=True):
             o = {k: v[local] for k, v in over.items()}
             o[goal.by] = np.asarray(x, dtype=float)
-            return self.evaluate(sel[local], o, rest)
+            self._trial += trial          # the search is a trial; only the final pass refuses
+            try:
+                return self.evaluate(sel[local], o, rest)
+            finally:
+                self._trial -= trial
 
         every = np.arange(m)
         ends = run(np.r_[every, every], np.r_[np.full(m, lo), np.full(m, hi)])
@@ -513,7 +525,7 @@ class _Engine:
                 ftol=tol[search], max_iterations=self.fs.solver.goal_max_iterations)
             x[search] = report.x
             iterations[search] = report.iterations
-        final = run(every, x)
+        final = run(every, x, trial=False)
         achieved = self._held(goal, final)
         met = np.abs(achieved - target) <= tol
         if not np.all(met | no_root) and self.strict:
@@ -584,27 +596,15 @@ class _Engine:
                 warnings.extend(n for n in notes if n.where != "gas")
         else:
             doses = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given)
-        texts = {"two_phase_outlet": "throttle outlet is in two phases",
-                 "temperature_cross": "temperature cross inside the exchanger",
-                 "spec_unmet": "the specification cannot be met with these inlet temperatures",
-                 "three_phase_T_shift": "the three-phase drum temperature differs by more than "
-                                        "0.1 K from its inlet's temperature at the same "
-                                        "enthalpy: the inlet's flash missed a phase"}
+        # block flags: texts, kinds and severities in letdown.sheet.blockflags
         for name, outcome in ev.outcomes.items():
+            spec = self.fs.blocks[name]
             for flag, values in outcome.flags.items():
                 if np.any(values):
-                    what = texts.get(flag, flag)
-                    if flag == "three_phase_T_shift":
-                        i = int(np.flatnonzero(values)[0])
-                        what += f" (by {outcome.details['dT_vs_two_phase_K'][i]:+.2f} K)"
-                    if flag == "temperature_cross":
-                        i = int(np.flatnonzero(values)[0])
-                        what += (f" (smallest approach {outcome.details['min_approach_K'][i]:.2f} K "
-                                 f"at {100 * outcome.details['min_approach_at'][i]:.0f} % of the "
-                                 "duty from the hot end)")
-                    kind, severity = FLAG_KINDS.get(flag, (flag, "check"))
-                    warnings.append(WarningRecord(name, what, tuple(np.flatnonzero(values).tolist()),
-                                                  kind=kind, severity=severity))
+                    warnings.append(flag_warning(
+                        self.fluid, name, flag, values, outcome,
+                        {p: ev.streams[s] for p, s in spec.inlets.items()},
+                        {p: ev.streams[s] for p, s in spec.outlets.items()}))
         equipment = {}
         for name, outcome in ev.outcomes.items():
             spec = self.fs.blocks[name]
