@@ -386,3 +386,81 @@ def test_mixer_splitter_throttle_on_empty_streams_give_finite_balanced_outlets()
 def test_every_guard_flag_has_a_kind_and_severity(flag, severity):
     kind, sev = FLAG_KINDS[flag]
     assert sev == severity and kind
+
+
+# ------------------------------------------------------------------------------------------------
+# in a flowsheet: warnings with numbers; refusals only in the final pass
+# ------------------------------------------------------------------------------------------------
+MACHINES = """\
+title: guard machines
+gas:
+  composition: {methane: 0.82, ethane: 0.08, propane: 0.05, n-butane: 0.025, n-pentane: 0.01,
+                nitrogen: 0.01, carbon-dioxide: 0.005}
+feeds:
+  suction: {T: -3.15 degC, P: 40 bar, flow: 10 mol/s}
+  rich: {T: -3.15 degC, P: 70 bar, flow: 100 mol/s}
+equipment:
+  booster: {kind: compressor, from: suction, to: discharge, P_out: 80 bar, efficiency: 0.75}
+  turbine: {kind: expander, from: rich, to: exhaust, P_out: 20 bar, efficiency: 0.8}
+"""
+
+
+def test_wet_compressor_and_expander_warnings_carry_their_liquid_fractions():
+    fs = loads(MACHINES, source="machines.yaml")
+    result = solve(fs)
+    warnings = {w["kind"]: w for w in result.warnings}
+    wet = warnings["compressor_liquid"]
+    assert wet["where"] == "booster" and wet["severity"] == "hazard"
+    gas = fluid("rich")
+    inlet = feed(gas, 270.0, 40e5, 10.0)
+    assert wet["numbers"]["liquid_mass_fraction"] == pytest.approx(_mass_liquid(gas, inlet)[0],
+                                                                   rel=1e-9)
+    assert wet["numbers"]["liquid_fraction"] == pytest.approx(1.0 - inlet.vapour_fraction[0],
+                                                              rel=1e-9)
+    assert "scrubber" in wet["what"] and "%" in wet["what"]
+    high = warnings["expander_liquid_high"]
+    assert high["where"] == "turbine" and high["severity"] == "hazard"
+    exhaust = result.streams["exhaust"]
+    assert high["numbers"]["liquid_fraction"] == pytest.approx(1.0 - exhaust.vapour_fraction)
+    assert high["numbers"]["liquid_mass_fraction"] > expander.LIQUID_HAZARD
+    assert result.equipment["turbine"]["outlet_liquid_mass_fraction"] == pytest.approx(
+        high["numbers"]["liquid_mass_fraction"])
+
+
+TRIM = """\
+title: guard trim cooler
+gas:
+  model: peng-robinson
+  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
+feeds:
+  supply: {T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}
+equipment:
+  preheat:   {kind: heater,   from: supply,  to: warm,    T_out: 38 degC, dP: 0.3 bar}
+  regulator: {kind: throttle, from: warm,    to: network, P_out: 17 barg}
+  trim:      {kind: cooler,   from: network, to: town,    T_out: %s}
+goals:
+  - {hold: network.T, at: 5 degC, by: preheat.T_out, within: [-40 degC, 90 degC]}
+"""
+
+
+def test_a_goal_bracket_end_that_breaks_a_downstream_block_is_not_refused():
+    # at the bracket's cold end (-40 degC) the trim cooler's inlet is far below its 0 degC outlet;
+    # the goal's answer (network at 5 degC) keeps it a cooler, so the solve must go through
+    result = solve(loads(TRIM % "0 degC", source="trim.yaml"))
+    assert result.streams["network"].T == pytest.approx(278.15, abs=1e-3)
+    assert result.equipment["trim"]["duty_W"] > 0.0
+    assert not [w for w in result.warnings if w["kind"] == "cooler_heating"]
+
+
+def test_a_goal_answer_that_breaks_a_downstream_block_is_refused():
+    with pytest.raises(InputError, match=r"trim.yaml:\d+: equipment.trim.T_out: .*heater"):
+        solve(loads(TRIM % "10 degC", source="trim.yaml"))
+
+
+def test_exchanger_driven_backwards_by_a_goal_is_flagged():
+    gas, inlets = _exchanger_inlets()
+    outcome = exchanger.run(gas, "gas-gas", inlets,
+                            {"cold_T_out": np.array([300.0, 270.0]), BY_GOAL: ("cold_T_out",)})
+    np.testing.assert_array_equal(outcome.flags["reverse_duty"], [False, True])
+    assert FLAG_KINDS["reverse_duty"] == ("exchanger_reverse_duty", "hazard")
+    assert_balanced(inlets, outcome)

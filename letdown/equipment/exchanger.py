@@ -108,8 +108,9 @@ def _approach_and_ua(Q, T_hot, T_cold):
     with np.errstate(divide="ignore", invalid="ignore"):
         lmtd = np.where(np.abs(a - b) > 1e-12 * np.abs(a), (a - b) / np.log(a / b), a)
         slices = (np.abs(Q) / SLICES)[:, None] / lmtd
+        total = np.sum(slices, axis=1)      # NaN where the profile touches: replaced below
     touching = np.any(dT <= 0.0, axis=1)
-    UA = np.where(touching, np.inf, np.sum(slices, axis=1))
+    UA = np.where(touching, np.inf, total)
     UA = np.where(Q == 0.0, 0.0, UA)
     return min_dT, k_min / SLICES, UA
 

@@ -20,6 +20,7 @@ from .result import WarningRecord
 FLAG_KINDS = {"two_phase_outlet": ("two_phase_outlet", "check"),
               "temperature_cross": ("temperature_cross", "hazard"),
               "spec_unmet": ("spec_unmet", "hazard"),
+              "reverse_duty": ("exchanger_reverse_duty", "hazard"),
               "three_phase_T_shift": ("three_phase_T_shift", "check"),
               "heater_cooling": ("heater_cooling", "hazard"),
               "cooler_heating": ("cooler_heating", "hazard"),
@@ -91,6 +92,15 @@ def _temperature_cross(fluid, i, outcome, d, inlets, outlets):
 
 def _spec_unmet(fluid, i, outcome, d, inlets, outlets):
     return "the specification cannot be met with these inlet temperatures", {}
+
+
+def _reverse_duty(fluid, i, outcome, d, inlets, outlets):
+    hot, cold = inlets["hot"], inlets["cold"]
+    return (f"the exchanger's duty is negative ({outcome.duty[i] / 1e3:.1f} kW): heat would pass "
+            f"from the cold side (inlet {_C(cold.T[i])}) to the hot side (inlet {_C(hot.T[i])}), "
+            "which no exchanger does. A goal drove it there: move the goal's target or bracket, "
+            "or swap the hot and cold streams",
+            {"duty_W": outcome.duty, "hot_T_in_K": hot.T, "cold_T_in_K": cold.T})
 
 
 def _three_phase_T_shift(fluid, i, outcome, d, inlets, outlets):
@@ -184,7 +194,8 @@ def _single_phase_inlet(dense):
 
 
 _TEXTS = {"two_phase_outlet": _two_phase_outlet, "temperature_cross": _temperature_cross,
-          "spec_unmet": _spec_unmet, "three_phase_T_shift": _three_phase_T_shift,
+          "spec_unmet": _spec_unmet, "reverse_duty": _reverse_duty,
+          "three_phase_T_shift": _three_phase_T_shift,
           "heater_cooling": _backwards("heater", "cooler"),
           "cooler_heating": _backwards("cooler", "heater"),
           "liquid_feed": _liquid_feed, "liquid_feed_trace": _liquid_feed_trace,
