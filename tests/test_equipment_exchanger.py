@@ -114,3 +114,20 @@ def test_exchanger_needs_one_specification():
     gas, inlets = _streams()
     with pytest.raises(InputError, match="exactly one of"):
         exchanger.run(gas, "x", inlets, {"duty": 1e5, "UA": 1e4})
+
+
+def test_large_UA_met_only_at_the_pinch_gives_the_largest_duty_not_zero():
+    """Regression (found by fuzzing the guards): UA grows only with the log of the vanishing end
+    approach, so this UA is met about 1e-13 K from the pinch, below the flash's rounding. The search
+    used to stop at a duty of 2e-10 W and flag the UA as unmeetable; the answer is the largest duty
+    (hot outlet at the cold inlet temperature), computed here with the same fluid's T-P flashes."""
+    gas = fluid()
+    hot = feed(gas, 261.17860354663475, 1061533.0861956836, 8.786272233835515)
+    cold = feed(gas, 249.79440901187775, 12716348.43719752, 154.96613743392868)
+    out = exchanger.run(gas, "x", {"hot": hot, "cold": cold}, {"UA": 34792.4})
+    h_hot_end = gas.flash(T=float(cold.T[0]), P=float(hot.P[0])).h
+    h_cold_end = gas.flash(T=float(hot.T[0]), P=float(cold.P[0])).h
+    Q_max = min(hot.flow[0] * (hot.h[0] - h_hot_end), cold.flow[0] * (h_cold_end - cold.h[0]))
+    assert out.duty[0] == pytest.approx(Q_max, rel=1e-6)
+    assert not out.flags["spec_unmet"][0]
+    assert_balanced({"hot": hot, "cold": cold}, out)
