@@ -18,6 +18,8 @@ Conventions tested here (each stated in the block's module):
 The fluids are the invented test gases of ``tests.blocks``; every expected number is computed
 independently here (inlet temperatures, the phase split of the same fluid).
 """
+from pathlib import Path
+
 import numpy as np
 import pytest
 
@@ -25,7 +27,7 @@ from letdown.cli import main
 from letdown.equipment import compressor, exchanger, expander, heater, mixer, separator, splitter
 from letdown.equipment import throttle
 from letdown.equipment.common import BY_GOAL, TRIAL
-from letdown.errors import InputError
+from letdown.errors import ConvergenceError, InputError
 from letdown.sheet.loader import loads
 from letdown.sheet.solve import FLAG_KINDS, solve, solve_cases
 from tests.blocks import assert_balanced, feed, fluid
@@ -464,3 +466,18 @@ def test_exchanger_driven_backwards_by_a_goal_is_flagged():
     np.testing.assert_array_equal(outcome.flags["reverse_duty"], [False, True])
     assert FLAG_KINDS["reverse_duty"] == ("exchanger_reverse_duty", "hazard")
     assert_balanced(inlets, outcome)
+
+
+def test_a_loop_that_fails_on_an_impossible_exchanger_duty_says_so():
+    # the cold-separation example with a gas-gas duty no inlet temperatures allow: the loop cannot
+    # converge, and its error now names the refusal at the last iterate
+    text = (Path(__file__).resolve().parents[1] / "flowsheets" / "cold-separation.yaml").read_text()
+    assert "cold_T_out: 24 degC" in text
+    assert "loop_max_iterations: 60" in text
+    text = text.replace("cold_T_out: 24 degC", "duty: 5 MW").replace(
+        "loop_max_iterations: 60", "loop_max_iterations: 8")          # fails the same way, sooner
+    fs = loads(text, source="cold-separation.yaml")
+    with pytest.raises(ConvergenceError,
+                       match=r"did not converge.*at the last iterate .*equipment.gas-gas.duty: "
+                             r"duty 5e\+06 W cannot be met without a temperature cross"):
+        solve(fs)

@@ -261,7 +261,8 @@ def _refuse_profile(refuse, spec, Q, T_hot, T_cold, min_dT, where, flowing, earl
     refuse.add(flowing & (min_dT < -CROSS_TOLERANCE) & (Q > 0.0),
            lambda i: f"{spec} {_quantity(spec, Q, T_hot, T_cold, i)} cannot be met without a "
                      f"temperature cross: the hot side would be {-min_dT[i]:.2f} K colder than the "
-                     f"cold side at {100 * where[i]:.0f} % of the duty ({Q[i]:.6g} W) from the hot "
+                     f"cold side at {100 * where[i]:.0f} % of the duty"
+                     + ("" if spec == "duty" else f" ({Q[i]:.6g} W)") + " from the hot "
                      "end; ask for less heat (give min_approach, or a smaller duty or outlet "
                      "change)", spec)
     refuse.add(flowing & (Q < 0.0),

@@ -468,7 +468,8 @@ class _Engine:
                 f"converge in {self.fs.solver.loop_max_iterations} iterations: residual "
                 f"{residual[i]:.3g} (tolerance {tol:g})"
                 + (f" in {bad.size} of {m} cases" if m > 1 else "")
-                + "; last residuals " + ", ".join(f"{r:.3g}" for r in history[-5:]),
+                + "; last residuals " + ", ".join(f"{r:.3g}" for r in history[-5:])
+                + self._refusal_hint(step, ev.streams, tears, x, zs_fallback, T_last, sel, over),
                 result=record)
         # final pass over every case from the converged tear values
         ev.streams.update(zip(tears, self._unpack(x, zs_fallback, T_last)))
@@ -476,6 +477,18 @@ class _Engine:
             self._run_block(name, ev.streams, ev.outcomes, sel, over)
         ev.loops.append(record)
         ev.ok &= converged
+
+    def _refusal_hint(self, step, streams, tears, x, zs_fallback, T_last, sel, over) -> str:
+        """What a block of a loop that did not converge refuses at the last iterate, or "" (a
+        specification no iterate can meet often keeps a loop from converging)."""
+        trial = dict(streams)
+        trial.update(zip(tears, self._unpack(x, zs_fallback, T_last)))
+        try:
+            for name in step.blocks:
+                self._run_block(name, trial, {}, sel, over)
+        except InputError as exc:
+            return f"; at the last iterate {exc}"
+        return ""
 
     # -- goals ------------------------------------------------------------------------------------
     def _held(self, goal, ev: _Evaluation) -> np.ndarray:
