@@ -177,16 +177,18 @@ def _single_phase_inlet(dense):
         inlet = inlets["in"]
         T, P = outlets["liquid"].T, outlets["liquid"].P
         T_pc, P_pc = pseudo_critical(fluid, inlet.zs)
+        ports = [p for p in ("liquid", "water") if p in outlets and outlets[p].flow[i] > 0]
+        port = " and ".join(ports or ["liquid"]) + (" outlets" if len(ports) > 1 else " outlet")
         if dense:
             what = (f"the drum's inlet is one dense phase at {_C(T[i])} and {_bar(P[i])} (above its "
                     f"pseudo-critical temperature, {_C(T_pc[i])} by Kay's rule): no gas and liquid "
-                    "separate, so all of it is sent out of the liquid outlet and the vapour outlet "
+                    f"separate, so all of it is sent out of the {port} and the vapour outlet "
                     "carries no flow; a real drum passes a dense fluid out of whichever outlet is "
                     "open, so the streams downstream are not what the plant would see. Lower the "
                     "drum's pressure below the gas's cricondenbar or cool its inlet into two phases")
         else:
             what = (f"the drum's inlet is all liquid at {_C(T[i])} and {_bar(P[i])}: no vapour forms, "
-                    "all of it leaves by the liquid outlet and the vapour outlet carries no flow. "
+                    f"all of it leaves by the {port} and the vapour outlet carries no flow. "
                     "Check that a drum is meant here (a drum fed liquid separates nothing)")
         return what, {"T_K": T, "P_Pa": P, "pseudo_critical_T_K": T_pc,
                       "pseudo_critical_P_Pa": P_pc, "flow_mol_s": inlet.flow}
