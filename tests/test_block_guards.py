@@ -481,3 +481,12 @@ def test_a_loop_that_fails_on_an_impossible_exchanger_duty_says_so():
                        match=r"did not converge.*at the last iterate .*equipment.gas-gas.duty: "
                              r"duty 5e\+06 W cannot be met without a temperature cross"):
         solve(fs)
+
+
+def test_empty_streams_raise_no_two_phase_or_three_phase_flags():
+    gas = fluid("rich")
+    inlet = feed(gas, np.array([250.0, 250.0]), 40e5, np.array([0.0, 10.0]))   # two-phase state
+    t = throttle.run(gas, "valve", {"in": inlet}, {"P_out": 20e5})
+    np.testing.assert_array_equal(t.flags["two_phase_outlet"], [False, True])
+    s = separator.run(gas, "drum", {"in": feed(gas, 290.0, 150e5, np.array([0.0, 10.0]))}, {})
+    np.testing.assert_array_equal(s.flags["dense_phase_inlet"], [False, True])

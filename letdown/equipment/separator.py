@@ -112,7 +112,8 @@ def run(fluid, name: str, inlets, params):
         shift = outlets["vapour"].T - np.asarray(states.T, dtype=float)
         return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
                       details={"dT_vs_two_phase_K": shift},
-                      flags={"three_phase_T_shift": ~(np.abs(shift) <= T_SHIFT_FLAG),
+                      flags={"three_phase_T_shift": ~(np.abs(shift) <= T_SHIFT_FLAG)
+                                                    & (inlet.flow > 0),
                              **_single_phase_flags(fluid, inlet, outlets)})
     states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs)
     beta = np.asarray(states.vapour_fraction, dtype=float)
