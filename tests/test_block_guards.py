@@ -490,3 +490,28 @@ def test_empty_streams_raise_no_two_phase_or_three_phase_flags():
     np.testing.assert_array_equal(t.flags["two_phase_outlet"], [False, True])
     s = separator.run(gas, "drum", {"in": feed(gas, 290.0, 150e5, np.array([0.0, 10.0]))}, {})
     np.testing.assert_array_equal(s.flags["dense_phase_inlet"], [False, True])
+
+
+def test_a_dense_drum_leaves_an_empty_gas_line_that_throttle_mixer_splitter_carry_quietly():
+    fs = loads("""\
+title: guard empty line
+gas:
+  composition: {methane: 0.82, ethane: 0.08, propane: 0.05, n-butane: 0.025, n-pentane: 0.01,
+                nitrogen: 0.01, carbon-dioxide: 0.005}
+feeds:
+  field: {T: 17 degC, P: 150 bar, flow: 10 mol/s}
+  sales: {T: 10 degC, P: 30 bar, flow: 50 mol/s}
+equipment:
+  drum:  {kind: separator, from: field, to: {vapour: gas, liquid: condensate}}
+  valve: {kind: throttle,  from: gas, to: let-down, P_out: 10 bar}
+  join:  {kind: mixer,     from: [let-down, sales], to: joined}
+  tee:   {kind: splitter,  from: joined, to: {east: 0.5, west: rest}}
+""", source="empty.yaml")
+    result = solve(fs)
+    assert result.streams["let-down"].flow == 0.0
+    # the empty line at 10 bar does not pull the joined gas down from 30 bar
+    assert result.streams["joined"].P == pytest.approx(30e5)
+    assert result.streams["joined"].T == pytest.approx(283.15, abs=1e-6)
+    assert result.streams["east"].flow == pytest.approx(25.0)
+    kinds = {w["kind"] for w in result.warnings}
+    assert "separator_dense_inlet" in kinds and "two_phase_outlet" not in kinds

@@ -300,7 +300,8 @@ def liquid_fractions(fluid, stream: StreamBatch) -> tuple[np.ndarray, np.ndarray
 
 def pseudo_critical(fluid, zs) -> tuple[np.ndarray, np.ndarray]:
     """Pseudo-critical temperature [K] and pressure [Pa] of compositions ``zs`` (n, nc) by Kay's
-    rule, ``T_pc = sum z_i Tc_i``, ``P_pc = sum z_i Pc_i`` (Kay, Ind. Eng. Chem. 28 (1936) 1014; citation from memory).
+    rule, ``T_pc = sum z_i Tc_i``, ``P_pc = sum z_i Pc_i`` (Kay, Ind. Eng. Chem. 28 (1936) 1014;
+    citation from memory).
 
     A rough marker of where a single phase stops being a liquid: above ``T_pc`` a liquid-like phase
     is a dense (supercritical) gas, not a liquid with a free surface. It is not the mixture's true

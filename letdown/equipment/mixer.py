@@ -3,7 +3,8 @@
 Outlet pressure: the lowest pressure of the inlets that flow unless ``P_out`` is given (which may not
 exceed any of theirs). An empty inlet (zero flow) has no say: its pressure is that of a stream that
 carries nothing (an idle branch, a dry drum's liquid outlet) and would otherwise drag the outlet
-down. Where every inlet is empty the lowest of all counts. Outlet composition and enthalpy are the flow-weighted means; the outlet is a P-h flash::
+down. Where every inlet is empty the lowest of all counts. Outlet composition and enthalpy are the
+flow-weighted means; the outlet is a P-h flash::
 
     F = sum F_k,   F z_i = sum F_k z_k,i,   F h = sum F_k h_k
 """

@@ -115,9 +115,10 @@ def _backwards(kind, other):
         if kind == "heater":
             what = (f"the heater's duty is negative ({duty[i] / 1e3:.1f} kW): it takes heat out of "
                     f"the gas, from {_C(T_in[i])} at its inlet to {_C(T_out[i])}, which a heater "
-                    "cannot do. The gas arrives warmer than needed (a goal drove it there, or the "
-                    "outlet is warmer on a pressure drop): let the heater stand idle (no heat, the "
-                    "outlet floats warmer), move the goal's target or bracket, or use a cooler")
+                    "cannot do. The gas arrives warmer than needed (a goal drove it there, or a "
+                    "liquid warms on the heater's pressure drop): let the heater stand idle (no "
+                    "heat, the outlet floats warmer), move the goal's target or bracket, or use a "
+                    "cooler")
         else:
             what = (f"the cooler's duty is negative ({duty[i] / 1e3:.1f} kW): it adds heat to the "
                     f"gas, from {_C(T_in[i])} at its inlet to {_C(T_out[i])}, which a cooler "
