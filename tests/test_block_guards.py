@@ -515,3 +515,10 @@ equipment:
     assert result.streams["east"].flow == pytest.approx(25.0)
     kinds = {w["kind"] for w in result.warnings}
     assert "separator_dense_inlet" in kinds and "two_phase_outlet" not in kinds
+
+
+def test_a_batch_with_a_goal_refuses_only_the_case_whose_answer_breaks_a_block():
+    fs = loads(TRIM % "0 degC", source="trim.yaml")
+    with pytest.raises(InputError, match="equipment.trim.T_out") as info:
+        solve_cases(fs, {"trim.T_out": [273.15, 283.15, 276.15]})
+    np.testing.assert_array_equal(info.value.cases, [False, True, False])
