@@ -4,6 +4,7 @@ import pytest
 
 from tests.blocks import assert_balanced, feed, fluid
 from letdown.equipment import exchanger, flash_stream
+from letdown.equipment.common import BY_GOAL
 from letdown.errors import InputError
 
 N = exchanger.SLICES
@@ -77,9 +78,10 @@ def test_UA_spec_against_slice_wise_LMTD():
     np.testing.assert_allclose(again.details["UA_W_K"], 8000.0, rtol=1e-8)
 
 
-def test_cross_inside_with_both_ends_fine_is_flagged():
+def test_cross_inside_with_both_ends_fine_is_refused_or_flagged_under_a_goal():
     """A condensing rich gas against a lean gas: the hot curve bends at its dew point and crosses
-    the cold line inside the exchanger although both end differences are positive."""
+    the cold line inside the exchanger although both end differences are positive. Given in the
+    file the specification is refused (issue 10); where a goal varies it, the cross is flagged."""
     gas = fluid("rich")
     lean = np.array([0.95, 0.03, 0.005, 0.0, 0.0, 0.01, 0.005])
     lean = lean / lean.sum()
@@ -87,7 +89,11 @@ def test_cross_inside_with_both_ends_fine_is_flagged():
                               "carbon-dioxide")
     hot = feed(gas, 300.0, 70e5, 100.0)
     cold = flash_stream(gas, [170.0], lean[None, :], T=[230.0], P=[60e5])
-    out = exchanger.run(gas, "x", {"hot": hot, "cold": cold}, {"cold_T_out": 298.0})
+    with pytest.raises(InputError, match="cannot be met without a temperature cross") as info:
+        exchanger.run(gas, "x", {"hot": hot, "cold": cold}, {"cold_T_out": 298.0})
+    assert info.value.field == "equipment.x.cold_T_out" and list(info.value.cases) == [True]
+    out = exchanger.run(gas, "x", {"hot": hot, "cold": cold},
+                        {"cold_T_out": 298.0, BY_GOAL: ("cold_T_out",)})
     assert_balanced({"hot": hot, "cold": cold}, out)
     assert 300.0 - 298.0 > 0 and out.outlets["hot"].T[0] - 230.0 > 0      # both ends fine
     assert out.flags["temperature_cross"][0]
@@ -95,9 +101,11 @@ def test_cross_inside_with_both_ends_fine_is_flagged():
     assert 0 < out.details["min_approach_at"][0] < 1                      # inside, not at an end
 
 
-def test_min_approach_larger_than_inlet_difference_is_unmet():
+def test_min_approach_larger_than_inlet_difference_is_refused_or_unmet_under_a_goal():
     gas, inlets = _streams()
-    out = exchanger.run(gas, "x", inlets, {"min_approach": 80.0})
+    with pytest.raises(InputError, match="min_approach 80 K is wider"):
+        exchanger.run(gas, "x", inlets, {"min_approach": 80.0})
+    out = exchanger.run(gas, "x", inlets, {"min_approach": 80.0, BY_GOAL: ("min_approach",)})
     assert np.all(out.flags["spec_unmet"])
     np.testing.assert_array_equal(out.duty, 0.0)
 
@@ -106,3 +114,20 @@ def test_exchanger_needs_one_specification():
     gas, inlets = _streams()
     with pytest.raises(InputError, match="exactly one of"):
         exchanger.run(gas, "x", inlets, {"duty": 1e5, "UA": 1e4})
+
+
+def test_large_UA_met_only_at_the_pinch_gives_the_largest_duty_not_zero():
+    """Regression (found by fuzzing the guards): UA grows only with the log of the vanishing end
+    approach, so this UA is met about 1e-13 K from the pinch, below the flash's rounding. The search
+    used to stop at a duty of 2e-10 W and flag the UA as unmeetable; the answer is the largest duty
+    (hot outlet at the cold inlet temperature), computed here with the same fluid's T-P flashes."""
+    gas = fluid()
+    hot = feed(gas, 261.17860354663475, 1061533.0861956836, 8.786272233835515)
+    cold = feed(gas, 249.79440901187775, 12716348.43719752, 154.96613743392868)
+    out = exchanger.run(gas, "x", {"hot": hot, "cold": cold}, {"UA": 34792.4})
+    h_hot_end = gas.flash(T=float(cold.T[0]), P=float(hot.P[0])).h
+    h_cold_end = gas.flash(T=float(hot.T[0]), P=float(cold.P[0])).h
+    Q_max = min(hot.flow[0] * (hot.h[0] - h_hot_end), cold.flow[0] * (h_cold_end - cold.h[0]))
+    assert out.duty[0] == pytest.approx(Q_max, rel=1e-6)
+    assert not out.flags["spec_unmet"][0]
+    assert_balanced({"hot": hot, "cold": cold}, out)

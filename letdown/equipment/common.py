@@ -9,6 +9,20 @@ Sign conventions (all blocks)
 * ``energy_in`` [W] is the net heat plus work that enters the process streams through the block
   (heater ``+duty``, cooler ``-duty``, compressor ``+power``, expander ``-power``, others 0). The energy
   balance is ``sum(flow_in * h_in) + energy_in = sum(flow_out * h_out)``.
+
+Guards (a number is right, warned or refused)
+---------------------------------------------
+A block refuses (:class:`letdown.errors.InputError` with ``cases=``, the field named) what its
+parameters ask for explicitly against its physics -- a heater given an outlet colder than its inlet,
+an exchanger given a cold outlet hotter than its hot inlet -- and flags (a warning in the flowsheet
+result) what the flowsheet drives it to. Two reserved entries of ``params``, set by the solver and
+never by a file, decide which applies:
+
+* ``params[BY_GOAL]``: the parameters a goal is varying (a tuple of names). A goal may pass through
+  a cooling heater on its way and may even end there: that is flagged, not refused.
+* ``params[TRIAL]``: True while a loop iterates or a goal searches. Those passes are not the answer,
+  and an iterate may break a rule the converged flowsheet keeps, so nothing is refused in them
+  (:func:`refuse` returns); the final pass refuses.
 """
 from __future__ import annotations
 
@@ -18,12 +32,20 @@ from typing import Mapping
 import numpy as np
 
 from ..errors import InputError
-from ..fluid.components import R
+from ..fluid.components import COMPONENTS, R
 from .stream import StreamBatch
 
 #: Flows below this [mol/s] count as an empty stream (no division by them). Far below any real
 #: process flow; common practice for guarding divisions.
 TINY_FLOW = 1e-300
+
+#: Reserved ``params`` entry: the names of the parameters a goal varies (see the module docstring).
+BY_GOAL = "_by_goal"
+#: Reserved ``params`` entry: True in a trial pass of a loop or goal (see the module docstring).
+TRIAL = "_trial"
+#: A vapour fraction strictly between these bounds counts as two phases [-] (flash noise around 0
+#: and 1 is not a second phase; common practice).
+TWO_PHASE_BOUNDS = (1e-9, 1.0 - 1e-9)
 
 
 @dataclass(frozen=True)
@@ -184,6 +206,111 @@ def check_fraction(values: np.ndarray, key: str, block: str, *, low_open=True) -
         interval = "(0, 1]" if low_open else "[0, 1]"
         raise InputError(f"{values[i]:.6g} is outside {interval}" + case_text(i, len(values)),
                          field=field_name(block, key))
+
+
+def by_goal(params: Mapping, key: str) -> bool:
+    """Whether a goal varies parameter ``key`` of this block (see the module docstring)."""
+    return key in (params.get(BY_GOAL) or ())
+
+
+def refuse(params: Mapping, bad: np.ndarray, message, block: str, key: str) -> None:
+    """Raise an :class:`InputError` for the cases ``bad`` (n,) unless this is a trial pass.
+
+    Parameters
+    ----------
+    params : Mapping
+        The block's parameters (for :data:`TRIAL`).
+    bad : ndarray of bool (n,)
+        The cases refused.
+    message : callable
+        ``message(i)`` -> the text for the first refused case ``i`` (its numbers and what to change).
+    block, key : str
+        The block's name and the parameter at fault (the error's field).
+
+    Raises
+    ------
+    InputError
+        With ``cases=bad`` and ``field`` ``equipment.<block>.<key>``, if any case is bad and this
+        is not a trial pass.
+    """
+    refusals = Refusals(params, block)
+    refusals.add(bad, message, key)
+    refusals.raise_any()
+
+
+class Refusals:
+    """Several reasons to refuse cases of one block, raised together as one :class:`InputError`.
+
+    The error's ``cases`` is the union of every reason's cases, so that a batch that sets the
+    refused cases aside meets no second refusal of the same block; its message is the first reason
+    given (with its first case) and says how many cases are refused in all.
+    """
+
+    def __init__(self, params: Mapping, block: str):
+        self.trial = bool(params.get(TRIAL))
+        self.block = block
+        self.reasons: list = []
+
+    def add(self, bad, message, key: str) -> None:
+        """Refuse the cases ``bad`` (n,) for ``message(i)``, parameter ``key`` at fault."""
+        bad = np.asarray(bad, dtype=bool)
+        if np.any(bad):
+            self.reasons.append((bad, message, key))
+
+    def raise_any(self) -> None:
+        """Raise the refusal if there is one and this is not a trial pass.
+
+        Raises
+        ------
+        InputError
+            See the class docstring.
+        """
+        if self.trial or not self.reasons:
+            return
+        bad, message, key = self.reasons[0]
+        every = np.logical_or.reduce([b for b, _, _ in self.reasons])
+        i = int(np.flatnonzero(bad)[0])
+        n, count = every.shape[0], int(every.sum())
+        where = ""
+        if n > 1:
+            where = f" (case {i}" + (f"; {count} of {n} cases refused" if count > 1 else "") + ")"
+        raise InputError(f"{message(i)}{where}", field=field_name(self.block, key),
+                         cases=every.copy())
+
+
+def liquid_fractions(fluid, stream: StreamBatch) -> tuple[np.ndarray, np.ndarray]:
+    """Molar and mass fractions of a stream that are liquid [-], (n,) each.
+
+    Two phases: ``1 - beta`` and ``(1 - beta) M(xs) / M(zs)``. A single phase the flash names
+    liquid-like (``beta = 0``) counts as liquid below the pseudo-critical temperature of its
+    composition (:func:`pseudo_critical`) and as a dense gas above it (fraction 0), so that a rich
+    gas above its cricondenbar is not called a liquid.
+    """
+    beta = np.asarray(stream.vapour_fraction, dtype=float)
+    lo, hi = TWO_PHASE_BOUNDS
+    Ms = np.asarray(fluid.molar_masses, dtype=float)
+    M_all = stream.zs @ Ms
+    two = (beta > lo) & (beta < hi)
+    T_pc, _ = pseudo_critical(fluid, stream.zs)
+    liquid_like = (beta <= lo) & (stream.T < T_pc)
+    molar = np.where(two, 1.0 - beta, np.where(liquid_like, 1.0, 0.0))
+    mass = np.where(two, (1.0 - beta) * (stream.xs @ Ms) / np.maximum(M_all, TINY_FLOW), molar)
+    return molar, mass
+
+
+def pseudo_critical(fluid, zs) -> tuple[np.ndarray, np.ndarray]:
+    """Pseudo-critical temperature [K] and pressure [Pa] of compositions ``zs`` (n, nc) by Kay's
+    rule, ``T_pc = sum z_i Tc_i``, ``P_pc = sum z_i Pc_i`` (Kay, Ind. Eng. Chem. 28 (1936) 1014;
+    citation from memory).
+
+    A rough marker of where a single phase stops being a liquid: above ``T_pc`` a liquid-like phase
+    is a dense (supercritical) gas, not a liquid with a free surface. It is not the mixture's true
+    critical point, which the phase envelope gives.
+    """
+    Tcs = np.array([COMPONENTS[c].Tc for c in fluid.components])
+    Pcs = np.array([COMPONENTS[c].Pc for c in fluid.components])
+    zs = np.atleast_2d(np.asarray(zs, dtype=float))
+    return zs @ Tcs, zs @ Pcs
 
 
 def case_text(i: int, n: int) -> str:

@@ -10,13 +10,25 @@ J. Eng. Power 84 (1962) 69, from memory), i.e. ``dh / d(ln P) = P v / eta_p``, b
 second-order method over ``POLYTROPIC_STEPS`` and half as many equal steps of ``ln P``, combined by
 Richardson extrapolation ``h = h_N + (h_N - h_N/2) / 3``; ``v`` is the molar volume of the actual
 state. It needs no polytropic exponent. Power ``F (h_out - h_in)``.
+
+Liquid in the feed: a compressor takes no liquid (common practice: droplets erode and slugs break
+the machine, which is why a suction scrubber stands before every stage). The block reports the
+feed's liquid fraction (``inlet_liquid_fraction``, molar, and ``inlet_liquid_mass_fraction``) and
+flags it -- it does not refuse: the feed is what the flowsheet upstream makes of it, not a number
+the file gave the compressor, and a loop or goal may pass through a wet iterate on its way to a dry
+answer. Up to :data:`LIQUID_TRACE` by mass the flag is ``liquid_feed_trace`` (a check: a feed at its
+dew point, whose trace a scrubber catches; the power is hardly touched); beyond it ``liquid_feed``
+(a hazard: a two-phase feed, whose power here -- the two phases compressed as one fluid -- means
+nothing for a real machine). A single liquid-like phase counts as liquid below its pseudo-critical
+temperature and as dense gas above it (:func:`letdown.equipment.common.liquid_fractions`).
 """
 from __future__ import annotations
 
 import numpy as np
 
 from ..errors import InputError
-from .common import array_param, case_text, check_fraction, field_name, finish, outlet_pressure
+from .common import (array_param, case_text, check_fraction, field_name, finish,
+                     liquid_fractions, outlet_pressure)
 from .stream import flash_stream
 
 #: Steps of ln P on the polytropic path (and half as many for the extrapolation). Heun's error falls
@@ -26,6 +38,12 @@ from .stream import flash_stream
 POLYTROPIC_STEPS = 20
 
 EFFICIENCY_KINDS = ("isentropic", "polytropic")
+
+#: Largest liquid mass fraction of a compressor's feed that counts as a trace [-] (a check rather
+#: than a hazard). Our choice: 0.1 % by mass is what a feed a fraction of a kelvin inside its dew
+#: point carries, well within what a suction scrubber removes (common practice), and it changes the
+#: compression power by less than the uncertainty of an efficiency.
+LIQUID_TRACE = 1e-3
 
 
 def efficiency_spec(params, name: str, n: int) -> tuple[str, np.ndarray]:
@@ -103,7 +121,9 @@ def run(fluid, name: str, inlets, params):
     -------
     BlockOutcome
         ``outlets={"out": ...}``, ``power`` [W] absorbed, ``dP`` [Pa] (negative: a rise), details
-        ``discharge_T_K`` and ``isentropic_power_W`` (the ideal power ``F (h(P_out, s_in) - h_in)``).
+        ``discharge_T_K``, ``isentropic_power_W`` (the ideal power ``F (h(P_out, s_in) - h_in)``),
+        ``inlet_liquid_fraction`` and ``inlet_liquid_mass_fraction`` [-]; flags
+        ``liquid_feed_trace`` and ``liquid_feed`` (see the module docstring).
 
     Raises
     ------
@@ -127,5 +147,10 @@ def run(fluid, name: str, inlets, params):
         out = polytropic_path(fluid, inlet, P_out, eta)
         dh_ideal = np.asarray(fluid.flash(P=P_out, s=inlet.s, zs=inlet.zs).h) - inlet.h
     power = inlet.flow * (out.h - inlet.h)
+    molar, mass = liquid_fractions(fluid, inlet)
+    wet = (inlet.flow > 0) & (mass > 0.0)
     return finish(inlets, {"out": out}, power, power=power, dP=inlet.P - P_out,
-                  details={"discharge_T_K": out.T, "isentropic_power_W": inlet.flow * dh_ideal})
+                  details={"discharge_T_K": out.T, "isentropic_power_W": inlet.flow * dh_ideal,
+                           "inlet_liquid_fraction": molar, "inlet_liquid_mass_fraction": mass},
+                  flags={"liquid_feed_trace": wet & (mass <= LIQUID_TRACE),
+                         "liquid_feed": wet & (mass > LIQUID_TRACE)})

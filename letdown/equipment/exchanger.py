@@ -20,12 +20,24 @@ A ``min_approach`` or ``UA`` specification is met by the bracketed root finder o
 :mod:`letdown.fluid.rootfind` over ``0 <= Q <= Q_max``, where ``Q_max`` is the smaller of the
 duties that bring the hot outlet to the cold inlet temperature or the cold outlet to the hot inlet
 temperature.
+
+Guards: heat passes from hot to cold and never across a temperature cross. A specification the file
+(or a case array) gives that cannot be met otherwise is refused for the cases concerned
+(``InputError`` with ``cases=``, the parameter named): a ``cold_T_out`` above the hot inlet
+temperature, a ``hot_T_out`` below the cold inlet temperature, a negative ``duty``, an outlet
+temperature that sends heat from the cold side to the hot, a ``min_approach`` wider than the
+difference of the inlet temperatures, a ``UA`` with a hot inlet no warmer than the cold, and any
+``duty``, ``hot_T_out`` or ``cold_T_out`` whose profile crosses (by more than
+:data:`CROSS_TOLERANCE`) at an end or inside. Where a goal varies the specification, the same
+conditions are flagged instead (``temperature_cross``, ``reverse_duty``, ``spec_unmet``: hazards in
+the flowsheet result). A profile that only touches (zero approach, infinite area) is flagged
+``temperature_cross``. Empty streams pass no heat and are not judged.
 """
 from __future__ import annotations
 
 import numpy as np
 
-from .common import TINY_FLOW, array_param, finish, one_of, outlet_pressure
+from .common import TINY_FLOW, Refusals, array_param, by_goal, finish, one_of, outlet_pressure
 from ..fluid.rootfind import bracketed_root
 from .stream import StreamBatch, flash_stream
 
@@ -34,6 +46,11 @@ from .stream import StreamBatch, flash_stream
 SLICES = 20
 
 SPECS = ("hot_T_out", "cold_T_out", "duty", "min_approach", "UA")
+
+#: A given outlet temperature counts as beyond the other side's inlet, and a profile as crossed,
+#: past this [K]: the rounding of the P-h flashes of the profile (about 1e-9 K), far below any
+#: design approach. Within it a profile only touches (flagged, not refused).
+CROSS_TOLERANCE = 1e-6
 
 #: Minimum-approach target is met to this [K]; far below any design margin.
 APPROACH_TOLERANCE = 1e-6
@@ -50,6 +67,14 @@ SURROGATE_MARGIN = 5.0
 #: relative duty step of the surrogate's slope estimate.
 MAX_POLISH_STEPS = 8
 POLISH_STEP = 1e-4
+#: A UA whose root the search leaves unsettled is accepted where the exact profile brackets it
+#: within this fraction of the duty [-] (or reaches it only within it of the largest duty). Near a
+#: pinch UA grows only with the logarithm of the vanishing approach, so a large UA can need an
+#: approach below the flash's rounding, where no residual tolerance is met although the duty is
+#: fixed to this fraction (measured: a lean gas at 10.6 bar against one at 127 bar, UA 3.5e4 W/K,
+#: met 1e-13 K from the pinch; the search used to leave the duty at 2e-10 W instead of 3.7 kW and
+#: call the UA unmeetable).
+UA_DUTY_TOLERANCE = 1e-9
 
 
 def _profile(fluid, hot: StreamBatch, cold: StreamBatch, Q, P_hot_out, P_cold_out, guess=None):
@@ -91,8 +116,9 @@ def _approach_and_ua(Q, T_hot, T_cold):
     with np.errstate(divide="ignore", invalid="ignore"):
         lmtd = np.where(np.abs(a - b) > 1e-12 * np.abs(a), (a - b) / np.log(a / b), a)
         slices = (np.abs(Q) / SLICES)[:, None] / lmtd
+        total = np.sum(slices, axis=1)      # NaN where the profile touches: replaced below
     touching = np.any(dT <= 0.0, axis=1)
-    UA = np.where(touching, np.inf, np.sum(slices, axis=1))
+    UA = np.where(touching, np.inf, total)
     UA = np.where(Q == 0.0, 0.0, UA)
     return min_dT, k_min / SLICES, UA
 
@@ -128,12 +154,16 @@ def run(fluid, name: str, inlets, params):
         ``outlets={"hot": ..., "cold": ...}``, ``duty`` [W] (hot to cold); details ``UA_W_K``,
         ``min_approach_K``, ``min_approach_at`` (fraction of the duty from the hot end),
         ``hot_dP_Pa``, ``cold_dP_Pa``; flags ``temperature_cross`` (the profile touches or crosses)
-        and ``spec_unmet`` (a ``min_approach`` or ``UA`` the inlet temperatures cannot give).
+        , ``reverse_duty`` (heat from the cold side to the hot) and ``spec_unmet`` (a
+        ``min_approach`` or ``UA`` the inlet temperatures cannot give), set where a goal varies
+        the specification or the search failed (see the module docstring).
 
     Raises
     ------
     InputError
-        If none or several specifications are given, or an outlet pressure is not positive.
+        If none or several specifications are given, an outlet pressure is not positive, or (with
+        ``cases=``) a given specification cannot be met without a temperature cross or heat
+        flowing from cold to hot (see the module docstring).
     """
     hot, cold = inlets["hot"], inlets["cold"]
     n = hot.n_cases
@@ -141,6 +171,12 @@ def run(fluid, name: str, inlets, params):
     P_hot_out = outlet_pressure({"dP": params.get("hot_dP", 0.0)}, hot, name, required=True)
     P_cold_out = outlet_pressure({"dP": params.get("cold_dP", 0.0)}, cold, name, required=True)
     value = array_param(params, spec, n, name)
+    flowing = (hot.flow > 0) & (cold.flow > 0)
+    given = not by_goal(params, spec)
+    # refusals are collected and raised together once the profile is known (one error, every case)
+    refusals = Refusals(params, name)
+    if given:
+        _refuse_given(refusals, spec, value, hot, cold, flowing)
     unmet = np.zeros(n, dtype=bool)
     guess = None
     if spec == "duty":
@@ -160,11 +196,87 @@ def run(fluid, name: str, inlets, params):
     hot_out = states.take(np.arange(n) * m + SLICES)
     cold_out = states.take(n * m + np.arange(n) * m)
     cross = np.any(T_hot - T_cold <= 0.0, axis=1) & (Q != 0.0)
+    reverse = flowing & (Q < 0.0)
+    if given:
+        _refuse_profile(refusals, spec, Q, T_hot, T_cold, min_dT, where, flowing, refusals.reasons)
+    refusals.raise_any()
     details = {"UA_W_K": np.where(np.isfinite(UA), UA, np.nan), "min_approach_K": min_dT,
                "min_approach_at": where, "hot_dP_Pa": hot.P - P_hot_out,
                "cold_dP_Pa": cold.P - P_cold_out}
     return finish(inlets, {"hot": hot_out, "cold": cold_out}, 0.0, duty=Q, details=details,
-                  flags={"temperature_cross": cross, "spec_unmet": unmet})
+                  flags={"temperature_cross": cross, "spec_unmet": unmet, "reverse_duty": reverse})
+
+
+def _K(T) -> str:
+    return f"{T:.2f} K ({T - 273.15:.2f} degC)"
+
+
+def _refuse_given(refuse, spec, value, hot, cold, flowing):
+    """Refuse the cases whose given specification the inlet temperatures rule out."""
+    tol = CROSS_TOLERANCE
+    if spec == "cold_T_out":
+        refuse.add(flowing & (value > hot.T + tol),
+               lambda i: f"the cold outlet {_K(value[i])} would be hotter than the hot inlet "
+                         f"{_K(hot.T[i])}, a temperature cross: lower cold_T_out below the hot inlet "
+                         "by the approach the exchanger is designed for, or give min_approach",
+               spec)
+        refuse.add(flowing & (value < cold.T - tol),
+               lambda i: f"the cold outlet {_K(value[i])} is colder than the cold inlet "
+                         f"{_K(cold.T[i])}: heat would pass from the cold side to the hot; raise "
+                         "cold_T_out above the cold inlet, or swap the hot and cold streams",
+               spec)
+    elif spec == "hot_T_out":
+        refuse.add(flowing & (value < cold.T - tol),
+               lambda i: f"the hot outlet {_K(value[i])} would be colder than the cold inlet "
+                         f"{_K(cold.T[i])}, a temperature cross: raise hot_T_out above the cold "
+                         "inlet by the approach the exchanger is designed for, or give min_approach",
+               spec)
+        refuse.add(flowing & (value > hot.T + tol),
+               lambda i: f"the hot outlet {_K(value[i])} is hotter than the hot inlet "
+                         f"{_K(hot.T[i])}: heat would pass from the cold side to the hot; lower "
+                         "hot_T_out below the hot inlet, or swap the hot and cold streams", spec)
+    elif spec == "duty":
+        refuse.add(flowing & (value < 0.0),
+               lambda i: f"duty {value[i]:.6g} W is negative: the duty is the heat passed from the "
+                         "hot side to the cold; give zero or more, or swap the hot and cold streams",
+               spec)
+    elif spec == "min_approach":
+        refuse.add(flowing & (hot.T - cold.T < value - tol),
+               lambda i: f"min_approach {value[i]:.6g} K is wider than the difference of the inlet "
+                         f"temperatures, {hot.T[i] - cold.T[i]:.6g} K (hot inlet {_K(hot.T[i])}, "
+                         f"cold inlet {_K(cold.T[i])}): no duty keeps it; give a smaller "
+                         "min_approach or warmer hot (colder cold) inlets",
+               spec)
+    elif spec == "UA":
+        refuse.add(flowing & (hot.T <= cold.T),
+               lambda i: f"the hot inlet {_K(hot.T[i])} is no warmer than the cold inlet "
+                         f"{_K(cold.T[i])}: no heat passes from hot to cold; swap the hot and "
+                         "cold streams", spec)
+
+
+def _refuse_profile(refuse, spec, Q, T_hot, T_cold, min_dT, where, flowing, earlier):
+    """Refuse the cases whose profile crosses, or passes heat from cold to hot (beyond the cases
+    refused ``earlier`` for their inlet temperatures)."""
+    flowing = flowing & ~np.logical_or.reduce([b for b, _, _ in earlier] + [np.zeros_like(flowing)])
+    refuse.add(flowing & (min_dT < -CROSS_TOLERANCE) & (Q > 0.0),
+           lambda i: f"{spec} {_quantity(spec, Q, T_hot, T_cold, i)} cannot be met without a "
+                     f"temperature cross: the hot side would be {-min_dT[i]:.2f} K colder than the "
+                     f"cold side at {100 * where[i]:.0f} % of the duty"
+                     + ("" if spec == "duty" else f" ({Q[i]:.6g} W)") + " from the hot "
+                     "end; ask for less heat (give min_approach, or a smaller duty or outlet "
+                     "change)", spec)
+    refuse.add(flowing & (Q < 0.0),
+           lambda i: f"{spec} {_quantity(spec, Q, T_hot, T_cold, i)} makes the duty negative "
+                     f"({Q[i]:.6g} W): heat would pass from the cold side to the hot; swap the hot "
+                     "and cold streams", spec)
+
+
+def _quantity(spec, Q, T_hot, T_cold, i) -> str:
+    if spec == "hot_T_out":
+        return _K(T_hot[i, -1])
+    if spec == "cold_T_out":
+        return _K(T_cold[i, 0])
+    return f"{Q[i]:.6g} W"
 
 
 def _interp_rows(x, xp, fp):
@@ -289,4 +401,23 @@ def _solve_duty(fluid, hot, cold, P_hot_out, P_cold_out, spec, target):
                                 e_lo, e_hi, ftol=ftol[rest], max_iterations=MAX_ROOT_ITERATIONS)
         Q[rest] = report.x
         unmet[rest] = ~(report.converged & bracketed)
+    if spec == "UA":
+        _settle_ua(Q, unmet, Q_max, target, exact)
     return Q, unmet, model
+
+
+def _settle_ua(Q, unmet, Q_max, target, exact) -> None:
+    """Accept (in place) the unsettled UA cases whose duty the exact profile fixes to within
+    :data:`UA_DUTY_TOLERANCE`: the search's duty, else the largest duty (see the constant)."""
+    for candidate in (Q, Q_max):
+        late = np.flatnonzero(unmet & (Q_max > 0.0) & (target > 0.0))
+        if late.size == 0:
+            return
+        c = np.clip(candidate[late], 0.0, Q_max[late])
+        lo = c * (1.0 - UA_DUTY_TOLERANCE)
+        hi = np.minimum(c * (1.0 + UA_DUTY_TOLERANCE), Q_max[late])
+        below = exact(lo, late) < 0.0                    # UA rises with the duty
+        r_hi = exact(hi, late)
+        ok = below & (c > 0.0) & ((r_hi >= 0.0) | (hi >= Q_max[late]))
+        Q[late[ok]] = c[ok]
+        unmet[late[ok]] = False

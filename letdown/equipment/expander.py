@@ -1,14 +1,27 @@
 """Expander (turbo-expander): lets a stream down to ``P_out`` recovering shaft power.
 
 ``h_out = h_in - eta_s (h_in - h(P_out, s_in))``; power recovered ``F (h_in - h_out)``.
+
+Liquid at the outlet: the block reports the outlet's liquid fraction (``outlet_liquid_fraction``,
+molar, and ``outlet_liquid_mass_fraction``) and flags it. Turbo-expanders of gas plants commonly
+run with a few % of liquid at the outlet (common practice), so any liquid is ``outlet_liquid``, a
+check: the machine must be meant for it, and the constant isentropic efficiency used here does not
+allow for it. Beyond :data:`LIQUID_HAZARD` by mass it is ``outlet_liquid_high``, a hazard.
 """
 from __future__ import annotations
 
 import numpy as np
 
 from ..errors import InputError
-from .common import case_text, field_name, finish, outlet_pressure
+from .common import case_text, field_name, finish, liquid_fractions, outlet_pressure
 from .compressor import efficiency_spec, isentropic_step
+
+#: Largest liquid mass fraction at an expander's outlet that is a check rather than a hazard [-].
+#: From memory: expanders of gas-processing plants are designed for up to about 10-20 % liquid by
+#: mass at the exhaust; we take the low end of that range, 10 %, since a let-down station's
+#: power-recovery expander is usually built for dry gas. Beyond it wheel erosion and an efficiency
+#: below the one assumed are expected.
+LIQUID_HAZARD = 0.10
 
 
 def run(fluid, name: str, inlets, params):
@@ -27,8 +40,10 @@ def run(fluid, name: str, inlets, params):
     Returns
     -------
     BlockOutcome
-        ``outlets={"out": ...}``, ``power`` [W] recovered, ``dP`` [Pa], details ``outlet_T_K``
-        and ``isentropic_power_W`` (the ideal power ``F (h_in - h(P_out, s_in))``).
+        ``outlets={"out": ...}``, ``power`` [W] recovered, ``dP`` [Pa], details ``outlet_T_K``,
+        ``isentropic_power_W`` (the ideal power ``F (h_in - h(P_out, s_in))``),
+        ``outlet_liquid_fraction`` and ``outlet_liquid_mass_fraction`` [-]; flags
+        ``outlet_liquid`` and ``outlet_liquid_high`` (see the module docstring).
 
     Raises
     ------
@@ -52,5 +67,10 @@ def run(fluid, name: str, inlets, params):
                          field=field_name(name, "efficiency_kind"))
     out, dh_ideal = isentropic_step(fluid, inlet, P_out, eta, compress=False)
     power = inlet.flow * (inlet.h - out.h)
+    molar, mass = liquid_fractions(fluid, out)
+    wet = (inlet.flow > 0) & (mass > 0.0)
     return finish(inlets, {"out": out}, -power, power=power, dP=inlet.P - P_out,
-                  details={"outlet_T_K": out.T, "isentropic_power_W": -inlet.flow * dh_ideal})
+                  details={"outlet_T_K": out.T, "isentropic_power_W": -inlet.flow * dh_ideal,
+                           "outlet_liquid_fraction": molar, "outlet_liquid_mass_fraction": mass},
+                  flags={"outlet_liquid": wet & (mass <= LIQUID_HAZARD),
+                         "outlet_liquid_high": wet & (mass > LIQUID_HAZARD)})

@@ -12,18 +12,35 @@ burnt, on the fuel's calorific value) [-]. It then reports ``fuel_W``, the heat 
 
 and may be specified by ``fuel`` instead of ``T_out`` or ``duty`` (duty = eta * fuel). The fuel gas
 flow is ``fuel`` divided by the fuel's calorific value (not modelled here).
+
+Guards: a heater removes no heat and a cooler adds none. Where the parameters ask for it explicitly
+-- a heater's ``T_out`` below its inlet temperature, a cooler's above it, a negative ``duty`` or
+``fuel`` -- the cases concerned are refused (``InputError`` with ``cases=``). Where a goal varies the
+parameter and drives the duty negative, or the duty comes out negative although ``T_out`` lies on
+the right side of the inlet (a liquid warming on a pressure drop), the outcome flags
+``heater_cooling`` (``cooler_heating``), a hazard in the flowsheet result. Empty streams (zero
+flow) are neither refused nor flagged: they take no heat.
 """
 from __future__ import annotations
 
 import numpy as np
 
 from ..errors import InputError
-from .common import TINY_FLOW, array_param, field_name, finish, one_of, outlet_pressure
+from ..fluid.components import R
+from .common import (TINY_FLOW, array_param, by_goal, field_name, finish, one_of, outlet_pressure,
+                     refuse)
 from .stream import flash_stream
 
 SPECS = ("T_out", "duty")
 #: A heater's specifications: a cooler's, plus the heat of the fuel burnt (with an efficiency).
 HEATER_SPECS = ("T_out", "duty", "fuel")
+
+#: A given ``T_out`` counts as on the wrong side of the inlet temperature beyond this [K] (rounding
+#: of an inlet computed upstream; far below any design figure).
+T_TOLERANCE = 1e-6
+#: A duty counts as negative below ``-DUTY_NOISE * F (|h_in| + R T_in)`` [-]: the flash's rounding
+#: (about 1e-12 relative) of a heater asked for no change is no cooling.
+DUTY_NOISE = 1e-9
 
 
 def _efficiency(params, n, name):
@@ -36,32 +53,61 @@ def _efficiency(params, n, name):
     return eta
 
 
+def _degC(T) -> str:
+    return f"{T:.2f} K ({T - 273.15:.2f} degC)"
+
+
 def _run(fluid, name, inlets, params, sign, specs=SPECS):
     inlet = inlets["in"]
     n = inlet.n_cases
+    kind, other = ("heater", "cooler") if sign > 0 else ("cooler", "heater")
     spec = one_of(params, specs, name)
+    flowing = inlet.flow > 0
     eta = _efficiency(params, n, name) if sign > 0 else None
     if spec == "fuel":
         if eta is None:
             raise InputError("a heater given its fuel needs its efficiency",
                              field=field_name(name, "fuel"))
-        params = {**params, "duty": eta * array_param(params, "fuel", n, name)}
+        fuel = array_param(params, "fuel", n, name)
+        if not by_goal(params, "fuel"):
+            refuse(params, flowing & (fuel < 0.0),
+                   lambda i: f"fuel {fuel[i]:.6g} W is negative: the fuel is the heat of the fuel "
+                             "burnt; give zero or more, or use a cooler to take heat out",
+                   name, "fuel")
+        params = {**params, "duty": eta * fuel}
         spec = "duty"
     P_out = outlet_pressure({"dP": params.get("dP", 0.0)}, inlet, name, required=True)
     if spec == "T_out":
         T_out = array_param(params, "T_out", n, name)
+        if not by_goal(params, "T_out"):
+            wrong = flowing & (sign * (T_out - inlet.T) < -T_TOLERANCE)
+            side, verb, change = (("below", "cool", "raise") if sign > 0
+                                  else ("above", "heat", "lower"))
+            refuse(params, wrong,
+                   lambda i: f"T_out {_degC(T_out[i])} is {side} the inlet temperature "
+                             f"{_degC(inlet.T[i])}: a {kind} cannot {verb} the gas; {change} "
+                             f"T_out to the inlet temperature or beyond, or use a {other}",
+                   name, "T_out")
         out = flash_stream(fluid, inlet.flow, inlet.zs, T=T_out, P=P_out)
         heat_in = inlet.flow * (out.h - inlet.h)
     else:
+        duty = array_param(params, "duty", n, name)
+        if not (by_goal(params, "duty") or by_goal(params, "fuel")):
+            what = "adds" if sign > 0 else "removes"
+            refuse(params, flowing & (duty < 0.0),
+                   lambda i: f"duty {duty[i]:.6g} W is negative: a {kind}'s duty is the heat it "
+                             f"{what}; give zero or more, or use a {other}", name, "duty")
         # an empty stream takes no heat: its outlet keeps the inlet enthalpy
-        heat_in = np.where(inlet.flow > 0, sign * array_param(params, "duty", n, name), 0.0)
+        heat_in = np.where(flowing, sign * duty, 0.0)
         h_out = inlet.h + heat_in / np.maximum(inlet.flow, TINY_FLOW)
         out = flash_stream(fluid, inlet.flow, inlet.zs, P=P_out, h=h_out)
     details = {}
     if eta is not None:
         details["fuel_W"] = sign * heat_in / eta
+    noise = DUTY_NOISE * inlet.flow * (np.abs(inlet.h) + R * inlet.T)
+    backwards = flowing & (sign * heat_in < -noise)
     return finish(inlets, {"out": out}, heat_in, duty=sign * heat_in, dP=inlet.P - P_out,
-                  details=details)
+                  details=details, flags={f"{kind}_{'cooling' if sign > 0 else 'heating'}": backwards})
 
 
 def run_heater(fluid, name: str, inlets, params):

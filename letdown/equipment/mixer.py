@@ -1,7 +1,10 @@
 """Mixer: several streams joined adiabatically.
 
-Outlet pressure: the lowest inlet pressure unless ``P_out`` is given (which may not exceed any
-inlet's). Outlet composition and enthalpy are the flow-weighted means; the outlet is a P-h flash::
+Outlet pressure: the lowest pressure of the inlets that flow unless ``P_out`` is given (which may not
+exceed any of theirs). An empty inlet (zero flow) has no say: its pressure is that of a stream that
+carries nothing (an idle branch, a dry drum's liquid outlet) and would otherwise drag the outlet
+down. Where every inlet is empty the lowest of all counts. Outlet composition and enthalpy are the
+flow-weighted means; the outlet is a P-h flash::
 
     F = sum F_k,   F z_i = sum F_k z_k,i,   F h = sum F_k h_k
 """
@@ -30,16 +33,21 @@ def run(fluid, name: str, inlets, params):
     Returns
     -------
     BlockOutcome
-        ``outlets={"out": ...}``, ``dP`` [Pa] (lowest inlet pressure - outlet pressure).
+        ``outlets={"out": ...}``, ``dP`` [Pa] (lowest pressure of the inlets that flow - outlet
+        pressure).
 
     Raises
     ------
     InputError
-        If ``P_out`` is above an inlet's pressure.
+        If ``P_out`` is above the pressure of an inlet that flows.
     """
     streams = list(inlets.values())
     n = streams[0].n_cases
-    P_low = np.min([s.P for s in streams], axis=0)
+    Ps = np.array([s.P for s in streams])
+    flowing = np.array([s.flow > 0 for s in streams])
+    # the lowest pressure among the inlets that flow; of all of them where none flows
+    P_low = np.where(flowing.any(axis=0), np.min(np.where(flowing, Ps, np.inf), axis=0),
+                     np.min(Ps, axis=0))
     P_out = array_param(params, "P_out", n, name)
     if P_out is None:
         P_out = P_low
@@ -47,8 +55,9 @@ def run(fluid, name: str, inlets, params):
     if np.any(above):
         i = int(np.flatnonzero(above)[0])
         raise InputError(f"outlet pressure {P_out[i]:.6g} Pa is above the lowest inlet pressure "
-                         f"{P_low[i]:.6g} Pa{case_text(i, n)}", field=field_name(name, "P_out"),
-                         cases=above)
+                         f"{P_low[i]:.6g} Pa{case_text(i, n)}; a mixer cannot raise the pressure: "
+                         "lower P_out or leave it out (the lowest inlet pressure)",
+                         field=field_name(name, "P_out"), cases=above)
     flow = sum(s.flow for s in streams)
     component_flows = sum(s.component_flows for s in streams)
     empty = flow <= TINY_FLOW

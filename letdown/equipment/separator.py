@@ -37,6 +37,14 @@ outcome reports ``dT_vs_two_phase_K``, the drum temperature minus that of the in
 (``Fluid.flash``, three-phase where it applies: the blocks upstream flash water-bearing gas in
 three phases too; the name is kept from when they did not), and flags ``three_phase_T_shift``
 beyond :data:`T_SHIFT_FLAG` (a warning in the flowsheet result): a check that the two agree.
+
+**A single liquid-like inlet.** Where no vapour forms at the drum's temperature and pressure, every
+mole leaves by the liquid (or water) outlet and the vapour outlet carries no flow. The outcome flags
+it: ``dense_phase_inlet`` where the drum temperature is above the inlet's pseudo-critical
+temperature (Kay's rule, :func:`letdown.equipment.common.pseudo_critical`: a dense gas above its
+cricondenbar, which a real drum cannot separate and would pass out of whichever outlet is open --
+a hazard in the flowsheet result), ``liquid_inlet`` below it (a subcooled liquid: the drum separates
+nothing -- a check).
 """
 from __future__ import annotations
 
@@ -47,7 +55,7 @@ import numpy as np
 from ..fluid.components import R
 from ..fluid.flash import is_vapour_like
 from ..fluid.threephase import PHASES, flash_PX_3, phase_properties
-from .common import TINY_FLOW, finish, outlet_pressure
+from .common import TINY_FLOW, finish, outlet_pressure, pseudo_critical
 from .stream import StreamBatch
 
 #: Phase properties the fluid's batch ``States`` gives per phase (``States.vapour``/``.liquid``).
@@ -88,7 +96,9 @@ def run(fluid, name: str, inlets, params):
     Returns
     -------
     BlockOutcome
-        ``outlets={"vapour": ..., "liquid": ..., "water": ...}``, ``dP`` [Pa].
+        ``outlets={"vapour": ..., "liquid": ..., "water": ...}``, ``dP`` [Pa]; flags
+        ``dense_phase_inlet`` and ``liquid_inlet`` (no vapour forms; see the module docstring)
+        and, three-phase, ``three_phase_T_shift``.
 
     Raises
     ------
@@ -104,7 +114,9 @@ def run(fluid, name: str, inlets, params):
         shift = outlets["vapour"].T - np.asarray(states.T, dtype=float)
         return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
                       details={"dT_vs_two_phase_K": shift},
-                      flags={"three_phase_T_shift": ~(np.abs(shift) <= T_SHIFT_FLAG)})
+                      flags={"three_phase_T_shift": ~(np.abs(shift) <= T_SHIFT_FLAG)
+                                                    & (inlet.flow > 0),
+                             **_single_phase_flags(fluid, inlet, outlets)})
     states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs)
     beta = np.asarray(states.vapour_fraction, dtype=float)
     ys = np.asarray(states.ys, dtype=float)
@@ -125,7 +137,17 @@ def run(fluid, name: str, inlets, params):
     # no aqueous phase in the water-free flash: an empty liquid outlet, never the inlet's vapour
     water = dataclasses.replace(water, vapour_fraction=np.zeros_like(F))
     outlets = {"vapour": vapour, "liquid": liquid, "water": water}
-    return finish(inlets, outlets, 0.0, dP=inlet.P - P_out)
+    return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
+                  flags=_single_phase_flags(fluid, inlet, outlets))
+
+
+def _single_phase_flags(fluid, inlet, outlets) -> dict:
+    """``dense_phase_inlet`` and ``liquid_inlet``: cases with flow in and none out of the vapour
+    outlet, above or below the inlet's pseudo-critical temperature (Kay's rule)."""
+    no_vapour = (inlet.flow > 0) & ~(outlets["vapour"].flow > 0)
+    T_pc, _ = pseudo_critical(fluid, inlet.zs)
+    dense = outlets["vapour"].T >= T_pc
+    return {"dense_phase_inlet": no_vapour & dense, "liquid_inlet": no_vapour & ~dense}
 
 
 def _three_phase(fluid, inlet, P_out, states, water_port: bool):

@@ -52,6 +52,7 @@ def run(fluid, name: str, inlets, params):
                          cases=raise_above)
     out = flash_stream(fluid, inlet.flow, inlet.zs, P=P_out, h=inlet.h)
     lo, hi = TWO_PHASE_BOUNDS
-    two_phase = (out.vapour_fraction > lo) & (out.vapour_fraction < hi)
+    # an empty stream has no phases to speak of: it is not flagged
+    two_phase = (out.vapour_fraction > lo) & (out.vapour_fraction < hi) & (inlet.flow > 0)
     return finish(inlets, {"out": out}, 0.0, dP=inlet.P - P_out,
                   flags={"two_phase_outlet": two_phase})

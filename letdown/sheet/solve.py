@@ -35,13 +35,14 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..equipment import KINDS, BlockOutcome, StreamBatch, closures, flash_stream
-from ..equipment.common import TINY_FLOW
+from ..equipment.common import BY_GOAL, TINY_FLOW, TRIAL
 from ..fluid.rootfind import bracketed_root
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
 from ..fluid.models import out_of_range
 from .freezing import basis, freezing_warnings, inject_doses, inject_params, stream_freezing
+from .blockflags import FLAG_KINDS, flag_warning  # noqa: F401 (FLAG_KINDS: block flag -> kind)
 from .graph import build_graph, solve_order
 from .modelchoice import solve_default_model
 from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, GoalRecord,
@@ -207,13 +208,6 @@ class Sheet:
         fs = self.flowsheet
         return (f"Sheet({fs.title!r}, {len(fs.feeds)} feeds, {len(fs.blocks)} blocks, "
                 f"{len(fs.goals)} goals)")
-
-
-#: Block flag -> (warning kind, severity). A flag not listed here is a "check" of its own name.
-FLAG_KINDS = {"two_phase_outlet": ("two_phase_outlet", "check"),
-              "temperature_cross": ("temperature_cross", "hazard"),
-              "spec_unmet": ("spec_unmet", "hazard"),
-              "three_phase_T_shift": ("three_phase_T_shift", "check")}
 
 
 # ------------------------------------------------------------------------------------------------
@@ -388,6 +382,9 @@ class _Engine:
         self.guess_zs = {name: self._zs(g.composition, g.where, f"guesses.{name}")
                          for name, g in fs.guesses.items()}
         self.producer = {s: b for b, spec in fs.blocks.items() for s in spec.outlets.values()}
+        # > 0 while a loop iterates or a goal searches: blocks refuse nothing in such trial passes
+        # (an iterate may break a rule the answer keeps; letdown.equipment.common)
+        self._trial = 0
 
     # -- small helpers ----------------------------------------------------------------------------
     def _zs(self, composition, where: Where, field_path: str) -> np.ndarray:
@@ -415,6 +412,9 @@ class _Engine:
         for key in list(self.base) + list(over):
             if key.startswith(prefix):
                 params[key[len(prefix):]] = self._value(key, sel, over, None)
+        # the parameters goals vary (flagged, not refused) and whether this pass is a trial
+        params[BY_GOAL] = tuple(k[len(prefix):] for k in over if k.startswith(prefix))
+        params[TRIAL] = self._trial > 0
         return params
 
     def _locate(self, exc: InputError, name: str) -> InputError:
@@ -530,6 +530,15 @@ class _Engine:
             return None
         return mask
 
+    def _trial_blocks(self, names, streams, outcomes, sel, over):
+        """Run blocks in a trial pass (a loop iteration): they refuse nothing."""
+        self._trial += 1
+        try:
+            for name in names:
+                self._run_block(name, streams, outcomes, sel, over)
+        finally:
+            self._trial -= 1
+
     # -- loops ------------------------------------------------------------------------------------
     def _guess(self, tear: str, step, streams, sel) -> StreamBatch:
         """Starting value of a tear stream: its ``guesses`` entry, else the loop's main inlet."""
@@ -626,8 +635,9 @@ class _Engine:
                                                  [T[a] for T in T_last])))
             outcomes: dict = {}
             try:
-                for name in step.blocks:
-                    self._run_block(name, local, outcomes, sel[a], over_a)
+                # a trial pass: blocks refuse nothing while the loop iterates (an iterate may
+                # break a rule the answer keeps); the final pass refuses
+                self._trial_blocks(step.blocks, local, outcomes, sel[a], over_a)
             except _CasesFailed as exc:
                 # refused inside the loop: those cases leave it; the iteration is done again for
                 # the others from the same values (so their numbers are as if alone)
@@ -673,7 +683,8 @@ class _Engine:
                 raise ConvergenceError(
                     f"{text}: residual {residual[i]:.3g} (tolerance {tol:g})"
                     + (f" in {bad.size} of {m} cases" if m > 1 else "")
-                    + "; last residuals " + ", ".join(f"{r:.3g}" for r in history[-5:]),
+                    + "; last residuals " + ", ".join(f"{r:.3g}" for r in history[-5:])
+                    + self._refusal_hint(step, streams, tears, x, zs_fallback, T_last, sel, over),
                     result=record)
             reasons[bad] = [f"{text}: residual {r:.3g} (tolerance {tol:g})"
                             for r in residual[bad]]
@@ -684,6 +695,18 @@ class _Engine:
         streams.update(zip(step.tears, self._unpack(end.x, end.zs_fallback, end.T_last)))
         for name in step.blocks:
             self._run_block(name, streams, outcomes, sel, over)
+
+    def _refusal_hint(self, step, streams, tears, x, zs_fallback, T_last, sel, over) -> str:
+        """What a block of a loop that did not converge refuses at the last iterate, or "" (a
+        specification no iterate can meet often keeps a loop from converging)."""
+        trial = dict(streams)
+        trial.update(zip(tears, self._unpack(x, zs_fallback, T_last)))
+        try:
+            for name in step.blocks:
+                self._run_block(name, trial, {}, sel, over)
+        except InputError as exc:
+            return f"; at the last iterate {exc}"
+        return ""
 
     # -- goals ------------------------------------------------------------------------------------
     def _held(self, goal, ev: _Evaluation) -> np.ndarray:
@@ -707,10 +730,14 @@ class _Engine:
             self._value(f"goal{number + 1}.at", sel, over, goal.target), dtype=float), (m,))
         tol = np.maximum(self.fs.solver.goal_tolerance, GOAL_RELATIVE_FLOOR * np.abs(target))
 
-        def run(local, x):
+        def run(local, x, trial=True):
             o = {k: v[local] for k, v in over.items()}
             o[goal.by] = np.asarray(x, dtype=float)
-            return self.evaluate(sel[local], o, rest)
+            self._trial += trial          # the search is a trial; only the final pass refuses
+            try:
+                return self.evaluate(sel[local], o, rest)
+            finally:
+                self._trial -= trial
 
         every = np.arange(m)
         ends = run(np.r_[every, every], np.r_[np.full(m, lo), np.full(m, hi)])
@@ -733,7 +760,7 @@ class _Engine:
                 ftol=tol[search], max_iterations=self.fs.solver.goal_max_iterations)
             x[search] = report.x
             iterations[search] = report.iterations
-        final = run(every, x)
+        final = run(every, x, trial=False)
         achieved = self._held(goal, final)
         met = np.abs(achieved - target) <= tol
         unmet = ~met & ~no_root
@@ -868,27 +895,15 @@ class _Engine:
         for w in notes:
             if w.kind == "inhibitor_dose":    # a refused dose: its cases did not solve
                 ev.fail(np.asarray(w.cases, dtype=int), f"block '{w.where}': {w.what}")
-        texts = {"two_phase_outlet": "throttle outlet is in two phases",
-                 "temperature_cross": "temperature cross inside the exchanger",
-                 "spec_unmet": "the specification cannot be met with these inlet temperatures",
-                 "three_phase_T_shift": "the three-phase drum temperature differs by more than "
-                                        "0.1 K from its inlet's temperature at the same "
-                                        "enthalpy: the inlet's flash missed a phase"}
+        # block flags: texts, kinds and severities in letdown.sheet.blockflags
         for name, outcome in ev.outcomes.items():
+            spec = self.fs.blocks[name]
             for flag, values in outcome.flags.items():
                 if np.any(values):
-                    what = texts.get(flag, flag)
-                    if flag == "three_phase_T_shift":
-                        i = int(np.flatnonzero(values)[0])
-                        what += f" (by {outcome.details['dT_vs_two_phase_K'][i]:+.2f} K)"
-                    if flag == "temperature_cross":
-                        i = int(np.flatnonzero(values)[0])
-                        what += (f" (smallest approach {outcome.details['min_approach_K'][i]:.2f} K "
-                                 f"at {100 * outcome.details['min_approach_at'][i]:.0f} % of the "
-                                 "duty from the hot end)")
-                    kind, severity = FLAG_KINDS.get(flag, (flag, "check"))
-                    warnings.append(WarningRecord(name, what, tuple(np.flatnonzero(values).tolist()),
-                                                  kind=kind, severity=severity))
+                    warnings.append(flag_warning(
+                        self.fluid, name, flag, values, outcome,
+                        {p: ev.streams[s] for p, s in spec.inlets.items()},
+                        {p: ev.streams[s] for p, s in spec.outlets.items()}))
         return self._batch(ev, doses, freezing, warnings, goals, loops, ok, reasons)
 
     def _batch(self, ev, doses, freezing, warnings, goals, loops, ok, reasons) -> BatchResult:
