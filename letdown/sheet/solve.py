@@ -360,7 +360,7 @@ def _refusal_text(exc: InputError, n_failed: int) -> str:
     index (which means nothing outside the block's own batch)."""
     text = CASE_TEXT.sub("", str(exc))
     if n_failed > 1:
-        text += f" (the figures are those of the first of {n_failed} cases it refused)"
+        text += " (the figures are those of the first case it refused in the batch)"
     return text
 
 
