@@ -259,3 +259,30 @@ def test_the_sweep_table_of_a_refused_case_keeps_inputs_and_reason(gate):
     assert np.isnan(table.column("network.T [K]")[0])
     assert "above the inlet pressure" in table.rows[0][-1]
     assert table.rows[1][-1] == ""
+
+
+@pytest.mark.parametrize("path, seed", [(GATE, 3), ("flowsheets/two-stage-expander.yaml", 5),
+                                        ("flowsheets/two-stage-letdown.yaml", 11)])
+def test_random_batches_fail_case_by_case(path, seed):
+    """A fixed-seed fuzz of what a practitioner sweeps (feed T and P, set points, goal targets,
+    some out of reach): every case is either failed (a reason, blank numbers) or has exactly the
+    numbers of the batch of the solved cases alone."""
+    fs = load(path)
+    rng = np.random.default_rng(seed)
+    n = 12
+    feed = next(iter(fs.feeds))
+    cases = {f"{feed}.T": fs.feeds[feed].T + rng.uniform(-25.0, 30.0, n),
+             f"{feed}.P": fs.feeds[feed].P * rng.uniform(0.3, 1.3, n),
+             "goal1.at": fs.goals[0].target + rng.uniform(-20.0, 60.0, n)}
+    for name, spec in fs.blocks.items():
+        if "P_out" in spec.params:
+            cases[f"{name}.P_out"] = spec.params["P_out"] * rng.uniform(0.5, 2.5, n)
+    batch = solve_cases(fs, cases, strict=False)
+    failed = np.flatnonzero(~batch.converged)
+    solved = np.flatnonzero(batch.converged)
+    assert failed.size and solved.size          # the seed gives both kinds
+    for i in failed:
+        _assert_blank_case(batch, i)
+    alone = solve_cases(fs, {k: v[solved] for k, v in cases.items()})
+    for j, i in enumerate(solved):
+        _assert_same_case(batch, i, alone, j)
