@@ -286,3 +286,22 @@ def test_random_batches_fail_case_by_case(path, seed):
     alone = solve_cases(fs, {k: v[solved] for k, v in cases.items()})
     for j, i in enumerate(solved):
         _assert_same_case(batch, i, alone, j)
+
+
+@pytest.mark.parametrize("key, values, words", [
+    ("supply.flow", [1000.0, -1000.0], "negative"),
+    ("supply.T", [280.0, float("nan")], "not a number"),
+    ("supply.P", [60e5, -1e5], "not positive"),
+    ("supply.T", [280.0, 0.0], "not positive"),
+])
+def test_a_feed_value_no_gas_can_have_is_refused_for_its_case(gate, key, values, words):
+    """A negative flow, a NaN or a non-positive absolute temperature or pressure in one case is that
+    case's input error (strict: raised, naming the case variable), not a balance that 'closes only
+    to 1.9e+291' or a flash that did not converge."""
+    batch = solve_cases(gate, {key: np.array(values)}, strict=False)
+    assert batch.converged.tolist() == [True, False]
+    assert words in batch.failures[1] and key in batch.failures[1]
+    _assert_blank_case(batch, 1)
+    with pytest.raises(InputError, match=words) as err:
+        solve_cases(gate, {key: np.array(values)})
+    assert err.value.field == f"cases.{key}"
