@@ -123,12 +123,15 @@ def test_a_strict_batch_and_a_single_solve_still_raise_the_located_refusal(gate)
     with pytest.raises(InputError, match="above the inlet pressure") as err:
         solve_cases(gate, {"regulator.P_out": P_out})
     assert err.value.file and err.value.line
+    assert "(case 1)" in str(err.value) and err.value.cases.tolist() == [False, True]
     bad = dataclasses.replace(gate, blocks={**gate.blocks, "regulator": dataclasses.replace(
         gate.blocks["regulator"], params={**gate.blocks["regulator"].params,
                                           "P_out": 80 * BAR + ATM})})
     with pytest.raises(InputError, match="above the inlet pressure") as err:
         solve(bad)
     assert err.value.line is not None
+    # one case: no batch index (the goal's two bracket ends are an internal batch of two)
+    assert "(case" not in str(err.value)
 
 
 def test_every_case_refused_gives_a_blank_batch_not_an_error(gate):

@@ -535,13 +535,27 @@ class _Engine:
         except InputError as exc:
             located = self._locate(exc, name)
             mask = self._case_mask(exc, len(sel))
-            if self.strict or mask is None:
+            if mask is None:
                 raise located from None
+            if self.strict:
+                # the block's batch index means nothing outside it (a goal runs its bracket ends
+                # as one batch): name the case of the solve instead
+                i = int(sel[np.flatnonzero(mask)[0]])
+                raise type(located)(CASE_TEXT.sub("", located.message)
+                                    + (f" (case {i})" if self.n > 1 else ""), file=located.file,
+                                    line=located.line, field=located.field,
+                                    cases=self._case_mask_of_solve(sel, mask)) from None
             raise _CasesFailed(mask, np.full(len(sel), _refusal_text(located, int(mask.sum())),
                                              dtype=object)) from None
         for port, stream in spec.outlets.items():
             streams[stream] = outcome.outlets[port]
         outcomes[name] = outcome
+
+    def _case_mask_of_solve(self, sel, mask) -> np.ndarray:
+        """A mask over the block's batch as a mask over the solve's ``n`` cases."""
+        out = np.zeros(self.n, dtype=bool)
+        out[np.asarray(sel)[mask]] = True
+        return out
 
     @staticmethod
     def _case_mask(exc: InputError, m: int):
