@@ -308,3 +308,22 @@ def test_a_feed_value_no_gas_can_have_is_refused_for_its_case(gate, key, values,
     with pytest.raises(InputError, match=words) as err:
         solve_cases(gate, {key: np.array(values)})
     assert err.value.field == f"cases.{key}"
+
+
+def test_margins_of_a_batch_with_a_failed_case_are_those_of_the_solved_cases_alone(gate):
+    """The freezing margins (water, hydrate temperature) are computed on the cases that lived:
+    equal to their solve alone; the failed case has none, and no warning of its own."""
+    P_out = np.array([17.0, 80.0, 12.0]) * BAR + ATM
+    batch = solve_cases(gate, {"regulator.P_out": P_out}, strict=False, margins=True)
+    alone = solve_cases(gate, {"regulator.P_out": P_out[[0, 2]]}, margins=True)
+    assert batch.converged.tolist() == [True, False, True]
+    for name, fz in alone.freezing.items():
+        got = batch.freezing[name]
+        np.testing.assert_allclose(got.hydrate_T[[0, 2]], fz.hydrate_T, rtol=SAME)
+        np.testing.assert_allclose(got.water_dew_T[[0, 2]], fz.water_dew_T, rtol=SAME)
+        assert np.isnan(got.hydrate_T[1]) and np.isnan(got.water_dew_T[1])
+    bad = batch.case(1).to_dict()
+    assert bad["streams"]["network"]["hydrate_T_K"] is None and bad["warnings"] == []
+    whats = {(w.where, w.kind): w.cases for w in batch.warnings}
+    for w in alone.warnings:
+        assert whats[(w.where, w.kind)] == tuple(int([0, 2][c]) for c in w.cases)
