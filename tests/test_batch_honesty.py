@@ -327,3 +327,13 @@ def test_margins_of_a_batch_with_a_failed_case_are_those_of_the_solved_cases_alo
     whats = {(w.where, w.kind): w.cases for w in batch.warnings}
     for w in alone.warnings:
         assert whats[(w.where, w.kind)] == tuple(int([0, 2][c]) for c in w.cases)
+
+
+def test_sweep_out_writes_its_files_when_a_case_failed(tmp_path):
+    out = tmp_path / "run"
+    proc = subprocess.run([sys.executable, "-m", "letdown.cli", "sweep", GATE,
+                           "--vary", "regulator.P_out=80barg,17barg", "--out", str(out)],
+                          capture_output=True, text=True)
+    assert proc.returncode == 1, proc.stderr
+    assert len((out / "sweep.csv").read_text().splitlines()) == 3
+    assert json.loads((out / "run.json").read_text())["failed"] == 1
