@@ -123,12 +123,15 @@ def test_a_strict_batch_and_a_single_solve_still_raise_the_located_refusal(gate)
     with pytest.raises(InputError, match="above the inlet pressure") as err:
         solve_cases(gate, {"regulator.P_out": P_out})
     assert err.value.file and err.value.line
+    assert "(case 1)" in str(err.value) and err.value.cases.tolist() == [False, True]
     bad = dataclasses.replace(gate, blocks={**gate.blocks, "regulator": dataclasses.replace(
         gate.blocks["regulator"], params={**gate.blocks["regulator"].params,
                                           "P_out": 80 * BAR + ATM})})
     with pytest.raises(InputError, match="above the inlet pressure") as err:
         solve(bad)
     assert err.value.line is not None
+    # one case: no batch index (the goal's two bracket ends are an internal batch of two)
+    assert "(case" not in str(err.value)
 
 
 def test_every_case_refused_gives_a_blank_batch_not_an_error(gate):
@@ -261,3 +264,78 @@ def test_the_sweep_table_of_a_refused_case_keeps_inputs_and_reason(gate):
     assert np.isnan(table.column("network.T [K]")[0])
     assert "above the inlet pressure" in table.rows[0][-1]
     assert table.rows[1][-1] == ""
+
+
+@pytest.mark.parametrize("path, seed", [(GATE, 3), ("flowsheets/two-stage-expander.yaml", 5),
+                                        ("flowsheets/two-stage-letdown.yaml", 11)])
+def test_random_batches_fail_case_by_case(path, seed):
+    """A fixed-seed fuzz of what a practitioner sweeps (feed T and P, set points, goal targets,
+    some out of reach): every case is either failed (a reason, blank numbers) or has exactly the
+    numbers of the batch of the solved cases alone."""
+    fs = load(path)
+    rng = np.random.default_rng(seed)
+    n = 12
+    feed = next(iter(fs.feeds))
+    cases = {f"{feed}.T": fs.feeds[feed].T + rng.uniform(-25.0, 30.0, n),
+             f"{feed}.P": fs.feeds[feed].P * rng.uniform(0.3, 1.3, n),
+             "goal1.at": fs.goals[0].target + rng.uniform(-20.0, 60.0, n)}
+    for name, spec in fs.blocks.items():
+        if "P_out" in spec.params:
+            cases[f"{name}.P_out"] = spec.params["P_out"] * rng.uniform(0.5, 2.5, n)
+    batch = solve_cases(fs, cases, strict=False)
+    failed = np.flatnonzero(~batch.converged)
+    solved = np.flatnonzero(batch.converged)
+    assert failed.size and solved.size          # the seed gives both kinds
+    for i in failed:
+        _assert_blank_case(batch, i)
+    alone = solve_cases(fs, {k: v[solved] for k, v in cases.items()})
+    for j, i in enumerate(solved):
+        _assert_same_case(batch, i, alone, j)
+
+
+@pytest.mark.parametrize("key, values, words", [
+    ("supply.flow", [1000.0, -1000.0], "negative"),
+    ("supply.T", [280.0, float("nan")], "not a number"),
+    ("supply.P", [60e5, -1e5], "not positive"),
+    ("supply.T", [280.0, 0.0], "not positive"),
+])
+def test_a_feed_value_no_gas_can_have_is_refused_for_its_case(gate, key, values, words):
+    """A negative flow, a NaN or a non-positive absolute temperature or pressure in one case is that
+    case's input error (strict: raised, naming the case variable), not a balance that 'closes only
+    to 1.9e+291' or a flash that did not converge."""
+    batch = solve_cases(gate, {key: np.array(values)}, strict=False)
+    assert batch.converged.tolist() == [True, False]
+    assert words in batch.failures[1] and key in batch.failures[1]
+    _assert_blank_case(batch, 1)
+    with pytest.raises(InputError, match=words) as err:
+        solve_cases(gate, {key: np.array(values)})
+    assert err.value.field == f"cases.{key}"
+
+
+def test_margins_of_a_batch_with_a_failed_case_are_those_of_the_solved_cases_alone(gate):
+    """The freezing margins (water, hydrate temperature) are computed on the cases that lived:
+    equal to their solve alone; the failed case has none, and no warning of its own."""
+    P_out = np.array([17.0, 80.0, 12.0]) * BAR + ATM
+    batch = solve_cases(gate, {"regulator.P_out": P_out}, strict=False, margins=True)
+    alone = solve_cases(gate, {"regulator.P_out": P_out[[0, 2]]}, margins=True)
+    assert batch.converged.tolist() == [True, False, True]
+    for name, fz in alone.freezing.items():
+        got = batch.freezing[name]
+        np.testing.assert_allclose(got.hydrate_T[[0, 2]], fz.hydrate_T, rtol=SAME)
+        np.testing.assert_allclose(got.water_dew_T[[0, 2]], fz.water_dew_T, rtol=SAME)
+        assert np.isnan(got.hydrate_T[1]) and np.isnan(got.water_dew_T[1])
+    bad = batch.case(1).to_dict()
+    assert bad["streams"]["network"]["hydrate_T_K"] is None and bad["warnings"] == []
+    whats = {(w.where, w.kind): w.cases for w in batch.warnings}
+    for w in alone.warnings:
+        assert whats[(w.where, w.kind)] == tuple(int([0, 2][c]) for c in w.cases)
+
+
+def test_sweep_out_writes_its_files_when_a_case_failed(tmp_path):
+    out = tmp_path / "run"
+    proc = subprocess.run([sys.executable, "-m", "letdown.cli", "sweep", GATE,
+                           "--vary", "regulator.P_out=80barg,17barg", "--out", str(out)],
+                          capture_output=True, text=True)
+    assert proc.returncode == 1, proc.stderr
+    assert len((out / "sweep.csv").read_text().splitlines()) == 3
+    assert json.loads((out / "run.json").read_text())["failed"] == 1

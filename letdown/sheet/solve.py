@@ -359,7 +359,7 @@ def _refusal_text(exc: InputError, n_failed: int) -> str:
     index (which means nothing outside the block's own batch)."""
     text = CASE_TEXT.sub("", str(exc))
     if n_failed > 1:
-        text += f" (the figures are those of the first of {n_failed} cases it refused)"
+        text += " (the figures are those of the first case it refused in the batch)"
     return text
 
 
@@ -439,11 +439,13 @@ class _Engine:
         the very numbers they would get alone; at the end the removed cases are blank (NaN).
         """
         m = len(sel)
-        streams: dict = {}
+        ev = _Evaluation(streams={}, outcomes={}, ok=np.ones(m, dtype=bool),
+                         reasons=np.full(m, "", dtype=object))
+        feeds = {}
         for name, feed in self.fs.feeds.items():
-            T = self._value(f"{name}.T", sel, over, feed.T)
-            P = self._value(f"{name}.P", sel, over, feed.P)
-            flow = self._value(f"{name}.flow", sel, over, feed.flow)
+            values = {attr: np.broadcast_to(np.asarray(self._value(
+                f"{name}.{attr}", sel, over, getattr(feed, attr)), dtype=float), (m,))
+                for attr in FEED_FIELDS}
             zs = self._value(f"{name}.zs", sel, over, None)
             if zs is None:
                 zs = np.tile(self.feed_zs[name], (m, 1))
@@ -451,14 +453,18 @@ class _Engine:
                 raise InputError(f"case compositions for feed '{name}' have {zs.shape[-1]} "
                                  f"entries; the gas has {self.nc} components",
                                  field=f"cases.{name}.zs")
-            streams[name] = flash_stream(self.fluid, np.broadcast_to(flow, (m,)), zs,
-                                         T=np.broadcast_to(T, (m,)), P=np.broadcast_to(P, (m,)))
-        ev = _Evaluation(streams={}, outcomes={}, ok=np.ones(m, dtype=bool),
-                         reasons=np.full(m, "", dtype=object))
+            self._check_feed(name, values, ev)
+            feeds[name] = (values, zs)
+        alive = np.flatnonzero(ev.ok)  # the cases still in the pass
+        now_sel = sel[alive] if alive.size < m else sel
+        now_over = {k: v[alive] for k, v in over.items()} if alive.size < m else over
+        streams: dict = {}
+        if alive.size:
+            for name, (values, zs) in feeds.items():
+                streams[name] = flash_stream(self.fluid, values["flow"][alive], zs[alive],
+                                             T=values["T"][alive], P=values["P"][alive])
         outcomes: dict = {}
         loops = []                     # (record, the cases it was made for)
-        alive = np.arange(m)           # the cases still in the pass
-        now_sel, now_over = sel, over
 
         def drop(lost, why):
             """Remove the failed cases ``lost`` (mask over ``alive``) from the pass."""
@@ -503,6 +509,29 @@ class _Engine:
         ev.loops = [_spread_loop(record, idx, m) for record, idx in loops]
         return ev
 
+    def _check_feed(self, name: str, values: dict, ev: _Evaluation) -> None:
+        """Refuse a feed value no gas can have (NaN, a non-positive absolute temperature or
+        pressure, a negative flow) for its case: strict raises, naming the case variable."""
+        units = {"T": "K", "P": "Pa", "flow": "mol/s"}
+        for attr, v in values.items():
+            with np.errstate(invalid="ignore"):
+                nan = ~np.isfinite(v)
+                bad = nan | ((v < 0) if attr == "flow" else (v <= 0))
+            if not np.any(bad):
+                continue
+            key = f"{name}.{attr}"
+
+            def error(i):
+                what = ("is not a number" if nan[i] else "is negative" if attr == "flow" else
+                        "is not positive (an absolute value)")
+                return InputError(f"{key} = {v[i]:.6g} {units[attr]} {what}"
+                                  + (f" (case {i})" if len(v) > 1 and self.strict else ""),
+                                  field=f"cases.{key}")
+            if self.strict:
+                raise error(int(np.flatnonzero(bad)[0]))
+            idx = np.flatnonzero(bad)
+            ev.fail(idx, [str(error(i)) for i in idx])
+
     def _run_block(self, name, streams, outcomes, sel, over):
         spec = self.fs.blocks[name]
         inlets = {port: streams[s] for port, s in spec.inlets.items()}
@@ -511,13 +540,27 @@ class _Engine:
         except InputError as exc:
             located = self._locate(exc, name)
             mask = self._case_mask(exc, len(sel))
-            if self.strict or mask is None:
+            if mask is None:
                 raise located from None
+            if self.strict:
+                # the block's batch index means nothing outside it (a goal runs its bracket ends
+                # as one batch): name the case of the solve instead
+                i = int(sel[np.flatnonzero(mask)[0]])
+                raise type(located)(CASE_TEXT.sub("", located.message)
+                                    + (f" (case {i})" if self.n > 1 else ""), file=located.file,
+                                    line=located.line, field=located.field,
+                                    cases=self._case_mask_of_solve(sel, mask)) from None
             raise _CasesFailed(mask, np.full(len(sel), _refusal_text(located, int(mask.sum())),
                                              dtype=object)) from None
         for port, stream in spec.outlets.items():
             streams[stream] = outcome.outlets[port]
         outcomes[name] = outcome
+
+    def _case_mask_of_solve(self, sel, mask) -> np.ndarray:
+        """A mask over the block's batch as a mask over the solve's ``n`` cases."""
+        out = np.zeros(self.n, dtype=bool)
+        out[np.asarray(sel)[mask]] = True
+        return out
 
     @staticmethod
     def _case_mask(exc: InputError, m: int):
