@@ -21,7 +21,9 @@ counted and listed:
   ``letdown: ...`` on stderr, an exit 0 ``solve --json`` whose JSON holds a NaN or infinity, an
   absolute temperature or pressure at or below zero, a negative flow, a vapour fraction outside
   [0, 1], a block balance open beyond the result's own limits, or stdout that is not one JSON object;
-* numpy RuntimeWarnings seen (counted, listed with ``--show-warnings``: not a failure by itself).
+* numpy RuntimeWarnings seen (counted, listed with ``--show-warnings``: not a failure by itself);
+* refusals (exit 2) whose message names no line of the file (counted and their distinct messages
+  listed: every refusal should name file, line and field).
 
 Each failure is listed with its flowsheet, mutation and the first line of its message, and written
 to ``--out DIR`` (default ``bench/fuzz-failures``) as a reproducer file ``<n>.yaml`` when given.
@@ -224,8 +226,32 @@ def mutate(text: str, rng: random.Random):
     return out, "; ".join(done)
 
 
-def mutants(path: Path, per_file: int, seed: int):
-    """The fixed list of (index, content, description) of one flowsheet."""
+#: The one-number changes of ``--numbers`` mode: slips that still load.
+NUMBER_SLIPS = (("x10", 10.0), ("x0.1", 0.1), ("x-1", -1.0), ("x1000", 1000.0), ("x0.001", 1e-3),
+                ("x2", 2.0), ("x0.5", 0.5))
+
+
+def number_slips(path: Path):
+    """Every number of the file changed alone by every slip of :data:`NUMBER_SLIPS`, in order:
+    (index, content, description)."""
+    text = path.read_text(encoding="utf-8")
+    out = []
+    for m in NUMBER_RE.finditer(text):
+        line = text.count("\n", 0, m.start()) + 1
+        if text[text.rfind("\n", 0, m.start()) + 1:m.start()].lstrip().startswith("#"):
+            continue                                    # a comment
+        for how, factor in NUMBER_SLIPS:
+            new = f"{float(m.group()) * factor:.6g}"
+            out.append((len(out), text[:m.start()] + new + text[m.end():],
+                        f"number {m.group()!r} {how} on line {line}"))
+    return out
+
+
+def mutants(path: Path, per_file: int, seed: int, numbers: bool = False):
+    """The fixed list of (index, content, description) of one flowsheet (``numbers``: the
+    one-number slips instead, all of them)."""
+    if numbers:
+        return number_slips(path)
     text = path.read_text(encoding="utf-8")
     rng = random.Random(f"{seed}:{path.name}")
     return [(k, *mutate(text, rng)) for k in range(per_file)]
@@ -323,10 +349,11 @@ def judge(argv, rc, out, err, escaped) -> list:
 
 def fuzz_file(task):
     """Run every mutant of one file (one worker's share): list of records."""
-    path, per_file, seed, start, stop, tmpdir = task
+    path, per_file, seed, start, stop, tmpdir, *more = task
+    numbers = bool(more and more[0])
     records = []
     target = Path(tmpdir) / f"{Path(path).stem}-mutant.yaml"
-    for k, content, what in mutants(Path(path), per_file, seed)[start:stop]:
+    for k, content, what in mutants(Path(path), per_file, seed, numbers)[start:stop]:
         if isinstance(content, bytes):
             target.write_bytes(content)
         else:
@@ -351,6 +378,9 @@ def main(argv=None) -> int:
     p.add_argument("--workers", type=int, default=1, help="processes (default 1)")
     p.add_argument("--out", default=None, help="write each failing mutant here as a reproducer")
     p.add_argument("--show-warnings", action="store_true", help="list the RuntimeWarnings seen")
+    p.add_argument("--numbers", action="store_true",
+                   help="instead of random mutants: every number of each file changed alone by "
+                        "x10, x0.1, x-1, x1000, x0.001, x2, x0.5 (--per-file and --seed unused)")
     args = p.parse_args(argv)
     files = sorted(glob.glob(args.files))
     if not files:
@@ -361,12 +391,13 @@ def main(argv=None) -> int:
     with tempfile.TemporaryDirectory(prefix="letdown-fuzz-") as tmp:
         tasks = []
         for f in files:
-            step = max(1, math.ceil(args.per_file / max(1, args.workers)))
-            for start in range(0, args.per_file, step):
+            total = len(number_slips(Path(f))) if args.numbers else args.per_file
+            step = max(1, math.ceil(total / max(1, args.workers)))
+            for start in range(0, total, step):
                 wdir = Path(tmp) / f"w{len(tasks)}"
                 wdir.mkdir()
-                tasks.append((f, args.per_file, args.seed, start, min(start + step, args.per_file),
-                              str(wdir)))
+                tasks.append((f, args.per_file, args.seed, start, min(start + step, total),
+                              str(wdir), args.numbers))
         if args.workers > 1:
             import multiprocessing
             with multiprocessing.get_context("spawn").Pool(args.workers) as pool:
@@ -393,10 +424,18 @@ def main(argv=None) -> int:
     return 1 if failures else 0
 
 
+def _shape(message: str) -> str:
+    """A refusal with its numbers and file names blanked, to group alike messages."""
+    text = re.sub(r"letdown: \S+?(?=: )", "letdown: FILE", message)
+    return re.sub(r"\d+(\.\d+)?(e[-+]?\d+)?", "N", text)[:160]
+
+
 def report(records, files, args, seconds) -> None:
     mutants_run = len({(r["file"], r["k"]) for r in records})
-    print(f"fuzz_files: {len(files)} flowsheet(s), {args.per_file} mutants each "
-          f"({mutants_run} in all), seed {args.seed}, {len(records)} runs in {seconds:.0f} s")
+    each = "every number alone x10, x0.1, x-1, x1000, x0.001, x2, x0.5" if args.numbers else \
+        f"{args.per_file} mutants each, seed {args.seed}"
+    print(f"fuzz_files: {len(files)} flowsheet(s), {each} ({mutants_run} mutants in all), "
+          f"{len(records)} runs in {seconds:.0f} s")
     for verb, *_ in VERBS:
         counts = Counter(r["rc"] for r in records if r["verb"] == verb)
         print(f"  {verb:6s} exit codes: " + ", ".join(f"{rc}: {n}" for rc, n in
@@ -413,6 +452,11 @@ def report(records, files, args, seconds) -> None:
     for r in failures:
         print(f"    {r['file']} #{r['k']} {r['verb']} ({r['what']}): rc {r['rc']}: "
               f"{'; '.join(r['problems'])[:400]}")
+    unlocated = Counter(_shape(r["message"]) for r in records
+                        if r["rc"] == 2 and not re.match(r"letdown: [^:]+:\d+: ", r["message"]))
+    print(f"  refusals naming no line: {sum(unlocated.values())}")
+    for m, n in unlocated.most_common(20):
+        print(f"    {n:5d}  {m}")
     warned = [r for r in records if r["runtime"]]
     print(f"  runs with numpy RuntimeWarnings: {len(warned)}")
     if args.show_warnings:
