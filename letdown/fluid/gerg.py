@@ -181,6 +181,7 @@ class GergEngine:
         g = self._g
         g.temperature = float(T)
         g.pressure = float(P) / 1000.0
+        g.d = 0.0          # no carry-over from the previous call (batch and scalar alike)
         try:
             g.calc_density(flag)
         except RuntimeError:
