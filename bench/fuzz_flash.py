@@ -238,7 +238,16 @@ def _one_composition(tally, fluid, family, T, P, rng, thermo):
     conv = np.asarray(st.converged)
     tally.add("PT unconverged in batch", int(np.count_nonzero(~conv)))
     if fluid.model == "gerg-2008":
-        tally.add("GERG-2008 states refused or unanswered (batch)", int(np.count_nonzero(~conv)))
+        # why each unanswered state was not answered: refused as two-phase (ModelError) or not
+        for k in np.nonzero(~conv)[0]:
+            try:
+                fluid.flash(T=float(T[k]), P=float(P[k]))
+                tally.add("BATCH/SCALAR DIFFER (GERG PT: batch unanswered, scalar answered)")
+            except LetdownError as exc:
+                two = "two phases" in str(exc)
+                tally.add("GERG-2008 PT refused: two phases" if two else
+                          f"GERG-2008 PT unanswered: {type(exc).__name__}",
+                          example=None if two else f"{fluid!r} T={T[k]:.3f} P={P[k]:.6g}")
     idx = np.nonzero(conv)[0]
     # round trips
     for which in ("h", "s"):

@@ -227,3 +227,17 @@ def test_pure_saturation_pressure_against_reference_equation(name, cp_name, T):
     P = gas.dew_point(T=T)
     assert P == pytest.approx(PropsSI("P", "T", T, "Q", 1.0, cp_name), rel=2e-3)
     assert gas.bubble_point(P=P) == pytest.approx(T, abs=1e-6)
+
+
+def test_cold_liquid_ps_round_trip():
+    """Regression (found by bench/fuzz_flash.py): an invented lean gas as a dense liquid at
+    160.58 K, 57.2 bar. The P-s solve from 300 K stepped below the liquid branch to where no
+    density root is found and then kept stepping down to 50 K instead of back up."""
+    comp = {"methane": 0.9219, "ethane": 0.03006, "propane": 0.009154, "n-butane": 0.0002693,
+            "isobutane": 0.001847, "n-pentane": 0.0009816, "nitrogen": 0.01862,
+            "carbon-dioxide": 0.01715}
+    gas = letdown.Fluid(comp, model="gerg-2008", normalise=True)
+    st = gas.flash(T=160.5823, P=5.71977e6)
+    assert st.vapour_fraction == 0.0
+    assert gas.flash(P=5.71977e6, s=st.s).T == pytest.approx(160.5823, abs=1e-6)
+    assert gas.flash(P=5.71977e6, h=st.h).T == pytest.approx(160.5823, abs=1e-6)

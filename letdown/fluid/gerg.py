@@ -181,6 +181,7 @@ class GergEngine:
         g = self._g
         g.temperature = float(T)
         g.pressure = float(P) / 1000.0
+        g.d = 0.0          # no carry-over from the previous call (batch and scalar alike)
         try:
             g.calc_density(flag)
         except RuntimeError:
@@ -522,13 +523,20 @@ class GergEngine:
         met) -- met is False where the bracket closed on a jump of the stable root (two phases)
         or the solver failed."""
         r = None
+        t_ok = None                               # the last temperature with a root
         for _ in range(PH_MAX_ITER):
             r = self._stable(t, P)
             if r is None:
-                # no root here: step towards the middle of the bracket
-                hi = t
-                t = 0.5 * (lo + hi)
+                # no root here (the density searches fail on very cold states): step back
+                # towards the last temperature that had one
+                if t_ok is None or t > t_ok:
+                    hi = t
+                    t = 0.5 * (lo + t) if t_ok is None else 0.5 * (t_ok + t)
+                else:
+                    lo = t
+                    t = 0.5 * (t + t_ok)
                 continue
+            t_ok = t
             f = (r.h if which == "h" else r.s) - target
             slope = r.cp if which == "h" else r.cp / t
             if not (np.isfinite(slope) and slope > 0):

@@ -332,18 +332,23 @@ def _refine(engine, fixed, zs, res, a, start, envs, axis, kind):
     eos = engine.eos
     res = res.copy()
     a = a.copy()
-    for k in np.nonzero(np.isfinite(res))[0]:
+    todo = np.nonzero(np.isfinite(res))[0]
+    if todo.size == 0:
+        return res, a
+    # the trial phases just inside, all cases in one stability batch
+    Ts = a[todo] if axis == "T" else fixed[todo]
+    Ps = fixed[todo] if axis == "T" else a[todo]
+    stb = fl.stability(eos, Ts, Ps, zs[todo])
+    for j, k in enumerate(todo):
         T, P = (res[k], fixed[k]) if axis == "T" else (fixed[k], res[k])
         z = zs[k]
         nc = z.size
-        stb = fl.stability(eos, np.array([a[k] if axis == "T" else T]),
-                           np.array([P if axis == "T" else a[k]]), z[None, :])
-        w = stb.ws[0]
+        w = stb.ws[j]
         with np.errstate(divide="ignore", invalid="ignore"):
             lnK = np.where((z > 0) & (w > 0), np.log(z / w), 0.0)
         X0 = np.concatenate([lnK, [np.log(T), np.log(P)]])
         spec = nc + 1 if axis == "T" else nc
-        ok = bool(stb.unstable[0])
+        ok = bool(stb.unstable[j])
         got = np.nan
         if ok:
             X, _, _, resid, ok = EnvelopeSystem(eos, z, 1.0).solve(X0, spec, X0[spec])
