@@ -170,3 +170,18 @@ def test_random_compositions_trace_or_say_why():
                 assert res < FUGACITY_TOL and closure < FUGACITY_TOL, fam
         for name, r in env.reports.items():
             assert r.converged or r.status, (fam, name)
+
+
+def test_line_of_a_co2_rich_gas_starts_where_it_has_a_two_phase_range():
+    """Failed before: 'no two-phase range found at 100000 Pa' and no line at all. The line of
+    vapour fraction 0.5 starts at the lowest pressure of a ladder up to the critical pressure where
+    the gas splits; every point of it is checked against the PT flash (a different solver)."""
+    fluid = letdown.Fluid({"carbon-dioxide": 0.6, "methane": 0.37, "ethane": 0.03})
+    env = fluid.envelope(betas=(0.5,))
+    rep = env.reports["line 0.5"]
+    assert rep.converged and "started at" in rep.message
+    T, P = env.lines[0.5]
+    st = fluid.flash(T=T, P=P)
+    keep = st.n_phases == 2
+    assert keep.mean() > 0.9
+    np.testing.assert_allclose(st.vapour_fraction[keep], 0.5, atol=1e-6)

@@ -40,6 +40,17 @@ sum (y - x) = 0 is the Rachford-Rice equation at that beta). A line of vapour fr
 low pressure, ends at the critical point and, traced beyond it, continues as the line of
 1 - beta (the phases swap): one trace gives both.
 
+Edges (issue 11):
+
+* components at exactly zero take no part in the trace (it runs on the others) and are given their
+  K-value of infinite dilution at every point;
+* a nearly pure fluid (largest fraction 0.95 or more), whose dew and bubble points lie too close
+  for the stability scan, starts from its main component's saturation point;
+* a branch that still rises at :data:`MAX_P` past the critical point (a liquid dissolving
+  hydrogen or helium) is reported open, and so is the missing cricondenbar; a dew branch that
+  reaches the limit without a critical point (a water dew line) says so;
+* a trace that stops early reports where (T, P) and why; only letdown errors leave this module.
+
 Everything is SI: T [K], P [Pa]; compositions and K-values [-].
 """
 from __future__ import annotations
@@ -62,6 +73,9 @@ START_P = 1e5
 MAX_P = 1e8
 #: Trace stops below this temperature [K] (the flash's own lower bound).
 MIN_T = fl.T_LOW
+#: A line of constant vapour fraction with no first point at the start pressure is tried at this
+#: many pressures between it and the critical pressure (geometric ladder).
+LINE_START_RUNGS = 12
 #: Largest number of points in one trace.
 MAX_POINTS = 600
 #: Newton iterations per point; a point that needs more is retried with a shorter step.
@@ -952,15 +966,35 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
     lines = {}
     for b in sorted({min(b, 1.0 - b) for b in betas}):
         lsys = EnvelopeSystem(eos, zs, b)
-        with np.errstate(all="ignore"):
-            Xl, tl, msg = _start(engine, lsys, P_start)
+        # where the mixture has no two-phase range at P_start (its bubble point there is below
+        # the scan: hydrogen, CO2-rich and sour gases), the line starts at the lowest pressure of a
+        # geometric ladder up to the critical pressure that has one
+        ladder = [P_start]
+        if critical is not None and critical.P > P_start:
+            ladder += list(np.geomspace(P_start, critical.P, LINE_START_RUNGS + 2)[1:-1])
+        Xl = tl = None
+        first_msg = ""
+        for P0 in ladder:
+            with np.errstate(all="ignore"):
+                try:
+                    Xl, tl, msg = _start(engine, lsys, P0)
+                except ConvergenceError as exc:
+                    # a line that cannot start is reported, the envelope stands
+                    Xl, tl, msg = None, None, f"no first point at {P0:g} Pa ({exc})"
+            first_msg = first_msg or msg
+            if Xl is not None:
+                break
         key = f"line {b:g}"
         if Xl is None:
-            reports[key] = _report(None, f"line of vapour fraction {b:g}", msg)
+            tried = (f"; nor at {len(ladder) - 1} pressures from there up to the critical pressure"
+                     if len(ladder) > 1 else "")
+            reports[key] = _report(None, f"line of vapour fraction {b:g}", first_msg + tried)
             continue
         ltr = trace(lsys, Xl, tl, P_start)
+        started = ("" if P0 == P_start else f", started at {P0:.6g} Pa ({first_msg} at "
+                   f"{P_start:g} Pa)")
         reports[key] = _report(ltr, f"line of vapour fraction {b:g} (and {1 - b:g} past the "
-                                    f"critical point)")
+                                    f"critical point){started}")
         if ltr.crossing is None:
             reports[key] = TraceReport(False, "no critical point reached: " + ltr.status,
                                        reports[key].message, ltr.iterations, ltr.residual,
