@@ -15,7 +15,8 @@ Data:
 * Methanol only, for the temperature dependence: NRTL with the DECHEMA water-methanol parameters
   (Gmehling & Onken, DECHEMA Chemistry Data Series Vol. I/1 (1977) p. 61: A12 = -189.0469,
   A21 = 792.8020 cal/mol, alpha 0.2999, 1 = methanol; VLE at 337-373 K) at 313-373 K,
-  x_methanol 0.05-0.6. MEG has no verified VLE parameter set here: C = D = 0 for it.
+  x_methanol 0.03-0.27 (the range of the freezing points). MEG has no verified VLE parameter set
+  here: C = D = 0 for it.
 """
 import numpy as np
 import CoolProp.CoolProp as CP
@@ -27,6 +28,9 @@ DCP = 38.0
 M_W = 18.01528
 M = {"methanol": 32.04186, "ethylene-glycol": 62.06784}
 FLUID = {"methanol": ("MMA", 0.40), "ethylene-glycol": ("MEG", 0.50)}
+#: The NRTL points reach the same methanol mole fraction as the freezing points (40 wt %): beyond
+#: it the model holds gamma_w (letdown.fluid.inhibitor.ACTIVITY_X_MAX).
+X_MAX = 0.27264
 
 
 def ln_aw_at_freezing(T):
@@ -58,7 +62,7 @@ def main():
         w, Tf, xi, lng = freezing_points(name)
         X, T, y, wt = xi, Tf, lng, np.full(xi.size, 3.0)
         if name == "methanol":
-            xs, Ts = np.meshgrid(np.linspace(0.05, 0.6, 12), [313.15, 333.15, 353.15, 373.15])
+            xs, Ts = np.meshgrid(np.linspace(0.03, X_MAX, 9), [313.15, 333.15, 353.15, 373.15])
             X = np.r_[X, xs.ravel()]
             T = np.r_[T, Ts.ravel()]
             y = np.r_[y, nrtl_ln_gamma_water(1.0 - xs.ravel(), Ts.ravel())]

@@ -68,7 +68,7 @@ def test_vdwp_with_ideal_activity_tracks_nielsen_bucklin():
 
 def test_vdwp_with_the_activity_model_depresses_more_than_the_ideal_solution():
     # methanol with gamma_w < 1 (tests/test_inhibitor_activity.py) depresses more than the ideal
-    # solution: measured at 7 MPa 10 wt % 4.45 K, 20 wt % 9.50 K, 30 wt % 14.94 K (ideal 4.36,
+    # solution: measured at 7 MPa 10 wt % 4.45 K, 20 wt % 9.50 K, 30 wt % 14.95 K (ideal 4.36,
     # 9.18, 14.42; Nielsen-Bucklin 4.36, 9.47, 15.54; Hammerschmidt 4.50, 10.12, 17.35)
     gas = letdown.Fluid(NATGAS)
     T0 = gas.hydrate_T(7e6)

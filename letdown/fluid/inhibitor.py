@@ -18,7 +18,9 @@ Three ways to the hydrate temperature depression dT of an aqueous phase holding 
   equilibrium with ice, which fixes a_w at 218-272 K, the temperatures of hydrate inhibition) and,
   for methanol's temperature dependence, to NRTL with the DECHEMA water-methanol parameters
   (Gmehling & Onken, DECHEMA Chemistry Data Series Vol. I/1, 1977, p. 61; VLE at 337-373 K) at
-  313-373 K. MEG has no verified VLE set here (C = D = 0).
+  313-373 K. MEG has no verified VLE set here (C = D = 0). The data reach 40 wt % methanol and
+  50 wt % MEG: beyond, gamma_w is held at its value there (:data:`ACTIVITY_X_MAX`) and
+  :func:`vdwp_wt_pct` refuses a dose.
 
   Both solutions are slightly **non-ideal on the negative side** where hydrates are inhibited:
   gamma_w = 0.965 at 30 wt % methanol (247 K) and 0.906 at 50 wt % MEG (237 K) from the freezing
@@ -150,10 +152,15 @@ def wt_pct_from_water_mole_fraction(x_w, name="methanol"):
 # ------------------------------------------------------------------ water activity
 #: ln gamma_w = x_i^2 (A + B x_i) + x_i^2 (C + D x_i)(T0/T - 1) per inhibitor: (A, B, C, D) [-]
 #: (module docstring; ``bench/fit_inhibitor_activity.py``). Fit quality: the freezing points of
-#: 2.5-40 wt % methanol within 0.38 K and of 2.5-50 wt % MEG within 0.25 K; the DECHEMA NRTL at
-#: 313-373 K within 0.044 in ln gamma_w.
-ACTIVITY = {"methanol": (-0.94138, 3.48934, -10.2803, 20.34008),
+#: 5-40 wt % methanol within 0.25 K and of 5-50 wt % MEG within 0.28 K; the DECHEMA NRTL at
+#: 313-373 K (up to 40 wt % methanol) within 0.038 in ln gamma_w.
+ACTIVITY = {"methanol": (-0.91617, 3.34376, -10.2599, 19.69926),
             "ethylene-glycol": (-2.19356, 0.81892, 0.0, 0.0)}
+#: Largest inhibitor mole fraction of the data behind :data:`ACTIVITY` (40 wt % methanol, 50 wt %
+#: MEG: the freezing points) [-]. Beyond it the polynomial is not used (for methanol it turns
+#: upward and a_w stops rising with the water fraction): gamma_w is held at its value there, and
+#: :func:`vdwp_wt_pct` refuses a dose beyond it.
+ACTIVITY_X_MAX = {"methanol": 0.27264, "ethylene-glycol": 0.22496}
 #: Reference temperature of the temperature term [K].
 ACTIVITY_T0 = 273.15
 #: The range the activity model is used in [K]: outside it gamma_w is taken at the nearer end (the
@@ -176,7 +183,9 @@ def water_activity_coefficient(x_water, x_methanol, T):
     xg = np.clip(1.0 - xw - xm, 0.0, None)
     tau = ACTIVITY_T0 / np.clip(np.asarray(T, float), *ACTIVITY_T_RANGE) - 1.0
     ln_g = 0.0
-    for x, (A, B, C, D) in ((xm, ACTIVITY["methanol"]), (xg, ACTIVITY["ethylene-glycol"])):
+    for name, x in (("methanol", xm), ("ethylene-glycol", xg)):
+        A, B, C, D = ACTIVITY[name]
+        x = np.minimum(x, ACTIVITY_X_MAX[name])          # held at the edge of the data beyond
         ln_g = ln_g + x * x * (A + B * x) + x * x * (C + D * x) * tau
     return _out(np.exp(ln_g))
 
@@ -222,7 +231,8 @@ def wt_pct_from_water_activity(a_w, name="methanol", T=273.15):
         f = activity(mid) - a
         lo = np.where(f < 0.0, mid, lo)
         hi = np.where(f < 0.0, hi, mid)
-    return wt_pct_from_water_mole_fraction(0.5 * (lo + hi), inh.name)
+    x = np.where(a >= 1.0, 1.0, 0.5 * (lo + hi))       # pure water: no inhibitor, exactly
+    return wt_pct_from_water_mole_fraction(x, inh.name)
 
 
 # ------------------------------------------------------------------ Hammerschmidt
@@ -378,6 +388,13 @@ def vdwp_wt_pct(fluid, P, T_target, name="methanol", zs=None):
     # at the answer the hydrate temperature is T_target: gamma_w is taken there
     W = wt_pct_from_water_activity(np.exp(lna), name, np.where(need, Tt, 273.15))
     W = np.atleast_1d(W)
+    inh = inhibitor(name)
+    W_max = float(wt_pct_from_water_mole_fraction(1.0 - ACTIVITY_X_MAX[inh.name], inh.name))
+    if np.any(W > W_max + 1e-9):
+        raise InputError(f"the target hydrate temperature needs {np.max(W):.1f} wt % {inh.name} in "
+                         f"the water, beyond the {W_max:.0f} wt % the water activity model has data "
+                         f"for (size by hammerschmidt or nielsen-bucklin, or a smaller depression)",
+                         cases=W > W_max + 1e-9)
     scalar = np.ndim(T_target) == 0 and np.ndim(P_in) == 0 and (zs is None or np.ndim(zs) == 1)
     return float(W[0]) if scalar else W
 
