@@ -53,8 +53,9 @@ Q1_WEIGHT = {"ethane": 0.0}
 
 
 def points(gas):
-    pts = [(T, P, Q1_WEIGHT.get(gas, 5.0)) for T, P in [Q1[gas]]] + [(T, P, 1.0) for T, P in DATA[gas]
-                                                      if T >= T_MIN_GAS.get(gas, T_MIN)]
+    t_min = T_MIN_GAS.get(gas, T_MIN)
+    pts = [(T, P, Q1_WEIGHT.get(gas, 5.0)) for T, P in [Q1[gas]]]
+    pts += [(T, P, 1.0) for T, P in DATA[gas] if T >= t_min]
     if gas in Q2:
         pts.append((*Q2[gas], 1.0))
     a = np.array(pts)

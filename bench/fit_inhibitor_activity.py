@@ -1,7 +1,7 @@
 """Fit of the water activity coefficient in methanol and MEG solutions
 (letdown.fluid.inhibitor.ACTIVITY). Not a test: run it to reproduce the constants.
 
-    ln gamma_w = x_i^2 (A + B x_i) + x_i^2 (C + D x_i) (T0 / T - 1),   x_i the inhibitor mole fraction
+    ln gamma_w = x_i^2 (A + B x_i) + x_i^2 (C + D x_i) (T0 / T - 1)   (x_i: inhibitor mole fraction)
 
 Data:
 

@@ -69,7 +69,8 @@ def _thermo_nrtl_gamma_water(x_w, T):
                         "nrtl.json")
     data = json.load(open(path))["data"]
     mw, wm = data["67-56-1 7732-18-5"], data["7732-18-5 67-56-1"]
-    # the transcription of the DECHEMA set in the module docstring (A / R, A in cal/mol, thermochemical calorie)
+    # the transcription of the DECHEMA set in the module docstring (A / R, A in cal/mol,
+    # thermochemical calorie)
     R_cal = 8.314462618 / 4.184
     assert mw["bij"] == pytest.approx(-189.0469 / R_cal, rel=1e-6)
     assert wm["bij"] == pytest.approx(792.8020 / R_cal, rel=1e-6)
