@@ -5,13 +5,14 @@ Sources beside each value:
 
 * Quadruple points Q1 (and Q2, liquid water - hydrate - vapour - liquid former): Sloan & Koh,
   *Clathrate Hydrates of Natural Gases*, 3rd ed. (2008), Table 4.1. **From memory**: the book was
-  not available. Two of them were checked against the measured points of the open Colorado School
-  of Mines hydrate data files (the files ``H2S.csv`` and ``CH4.csv`` ... of the P2F hydrate project;
-  the experimental papers are not named in the files): H2S.csv lists 272.8 K at 0.0931 MPa and
-  302.7 K at 2.2387 MPa, i.e. both H2S quadruple points as remembered. The others are consistent with
-  the neighbouring measurements (methane, propane, CO2, nitrogen) except ethane: C2H6.csv has
-  273.68 K at 0.499 MPa, which cannot lie on a line through 273.1 K at 0.530 MPa, so ethane is
-  checked against that measurement instead and its remembered Q1 is only reported.
+  not available. H2S's were checked against the measured points of the open Colorado School of
+  Mines hydrate data files (CH4.csv, C2H6.csv, C3H8.csv, CO2.csv, H2S.csv, N2.csv of the P2F
+  hydrate project; the experimental papers are not named in the files): H2S.csv lists 272.8 K at
+  0.0931 MPa and 302.7 K at 2.2387 MPa, i.e. both H2S quadruple points as remembered. The others
+  are consistent with the neighbouring measurements (methane, propane, CO2, nitrogen) except
+  ethane: C2H6.csv has 273.68 K at 0.499 MPa, which cannot lie on a line through 273.1 K at
+  0.530 MPa, so ethane is checked against that measurement instead and its remembered Q1 is only
+  reported.
 * Measured points: the same data files (values as listed there).
 
 Before the per-guest correction of the Langmuir constants (``hydrate.LANGMUIR_CORRECTION``, fitted
