@@ -40,6 +40,17 @@ sum (y - x) = 0 is the Rachford-Rice equation at that beta). A line of vapour fr
 low pressure, ends at the critical point and, traced beyond it, continues as the line of
 1 - beta (the phases swap): one trace gives both.
 
+Edges (issue 11):
+
+* components at exactly zero take no part in the trace (it runs on the others) and are given their
+  K-value of infinite dilution at every point;
+* a nearly pure fluid (largest fraction 0.95 or more), whose dew and bubble points lie too close
+  for the stability scan, starts from its main component's saturation point;
+* a branch that still rises at :data:`MAX_P` past the critical point (a liquid dissolving
+  hydrogen or helium) is reported open, and so is the missing cricondenbar; a dew branch that
+  reaches the limit without a critical point (a water dew line) says so;
+* a trace that stops early reports where (T, P) and why; only letdown errors leave this module.
+
 Everything is SI: T [K], P [Pa]; compositions and K-values [-].
 """
 from __future__ import annotations
@@ -56,11 +67,15 @@ from .cubic import CubicEOS
 #: Pressure of the first point (the low-pressure dew point) and of the last (the low-pressure
 #: bubble point) [Pa]: 1 bar, below every pressure of a let-down or chilling plant.
 START_P = 1e5
-#: Trace stops above this pressure [Pa] (a curve still rising there has no critical point in
-#: reach: hydrogen- or helium-rich liquids).
-MAX_P = 1e9
+#: Trace stops above this pressure [Pa]: 1000 bar, ten times a let-down or chilling plant's (a
+#: curve still rising there has no critical point or no upper turn in reach: a hydrogen- or
+#: helium-bearing liquid, a water dew line; the reports say so).
+MAX_P = 1e8
 #: Trace stops below this temperature [K] (the flash's own lower bound).
 MIN_T = fl.T_LOW
+#: A line of constant vapour fraction with no first point at the start pressure is tried at this
+#: many pressures between it and the critical pressure (geometric ladder).
+LINE_START_RUNGS = 12
 #: Largest number of points in one trace.
 MAX_POINTS = 600
 #: Newton iterations per point; a point that needs more is retried with a shorter step.
@@ -103,6 +118,13 @@ CRIT_APPROACH = 0.3
 CRIT_NODES = np.array([0.05, 0.1, 0.15, 0.2])
 #: A point whose largest |ln K| is below this has fallen onto the trivial solution K = 1.
 TRIVIAL_LNK = 1e-6
+#: A composition whose largest fraction is at least this starts, where the stability scan finds no
+#: dew or bubble point, from the main component's saturation point (nearly pure fluids) [-].
+NEARLY_PURE = 0.95
+#: Nearly pure start: successive-substitution passes per trial temperature, and the half-widths of
+#: the brackets tried around the main component's saturation temperature [K].
+NEARLY_PURE_SS_ITER = 50
+NEARLY_PURE_BRACKET_K = (0.5, 2.0, 8.0, 30.0)
 #: Root finder tolerance for the extrema, in ln T or ln P [-] (1e-12 ~ 3e-10 K).
 EXTREMUM_XTOL = 1e-12
 
@@ -347,6 +369,15 @@ class EnvelopeSystem:
         return X, None, NEWTON_MAX_ITER, res, False
 
 
+def _root(f, a, b, **kw):
+    """scipy's brentq, with its ValueError (no sign change, non-finite values) turned into
+    letdown's ConvergenceError: only letdown errors leave the fluid layer."""
+    try:
+        return brentq(f, a, b, **kw)
+    except ValueError as exc:
+        raise ConvergenceError(f"phase envelope: a bracketed root search failed ({exc})") from None
+
+
 def _unit(t, ref=None):
     t = t / np.linalg.norm(t)
     if ref is not None and np.dot(t, ref) < 0:
@@ -466,7 +497,7 @@ def _critical_from(tr: _Trace, nc: int):
 
     def lnK(sig):
         return _hermite(Xa[r], ta[r], Xb[r], tb[r], L, sig)
-    sig = brentq(lnK, 0.0, L, xtol=1e-14 * max(L, 1.0))
+    sig = _root(lnK, 0.0, L, xtol=1e-14 * max(L, 1.0))
     X = _hermite(Xa, ta, Xb, tb, L, sig)
     return X[nc], X[nc + 1]
 
@@ -512,7 +543,7 @@ def _refine_critical(system: EnvelopeSystem, tr: _Trace):
             a0, a1 = Xs[i, r] - u, Xs[i + 1, r] - u
             if a0 == 0.0 or np.sign(a0) != np.sign(a1):
                 L = float(np.linalg.norm(Xs[i + 1] - Xs[i]))
-                sig = brentq(lambda q: _hermite(Xs[i, r], ts[i, r], Xs[i + 1, r], ts[i + 1, r],
+                sig = _root(lambda q: _hermite(Xs[i, r], ts[i, r], Xs[i + 1, r], ts[i + 1, r],
                                                 L, q) - u, 0.0, L)
                 guess = _hermite(Xs[i], ts[i], Xs[i + 1], ts[i + 1], L, sig)
                 break
@@ -539,45 +570,160 @@ def _extremum(system: EnvelopeSystem, tr: _Trace, which: str):
     """Cricondentherm (``which='T'``) or cricondenbar (``'P'``) on a trace, or None.
 
     The extremum of X_e (e = ln T or ln P) is bracketed by the traced pair, around the largest
-    X_e, whose tangent component t_e changes sign; along the curve there the other variable o
-    (ln P or ln T) is monotonic, and g(o) = (dX_e/dX_o) on the curve is driven to zero by Brent's
-    method, each trial point solved with X_o specified.
+    X_e, whose tangent component t_e changes sign. Along the curve there a parameter p is chosen
+    that is monotonic between the pair: the other variable o (ln P or ln T) if its tangent keeps
+    its sign, else the ln K changing fastest (a pair that straddles the critical point of a nearly
+    pure fluid, where the curve turns in T and P at once). g(p) = dX_e/dp on the curve is driven
+    to zero by Brent's method, each trial point solved with X_p specified. Where a trial point
+    cannot be solved (the trivial solution K = 1 next to the critical point) the extremum is taken
+    on the cubic Hermite arc between the pair, as the critical point is.
+
+    Returns (X or None, status).
     """
+    nc = system.nc
     e = system.iT if which == "T" else system.iP
     o = system.iP if which == "T" else system.iT
     Xs = np.array(tr.X)
     ts = np.array(tr.t)
     k = int(np.argmax(Xs[:, e]))
-    pairs = [(k - 1, k), (k, k + 1)]
-    for a, b in pairs:
+    for a, b in ((k - 1, k), (k, k + 1)):
         if a < 0 or b >= len(Xs):
             continue
-        if np.sign(ts[a, e]) != np.sign(ts[b, e]) and np.sign(ts[a, o]) == np.sign(ts[b, o]):
+        if np.sign(ts[a, e]) != np.sign(ts[b, e]):
             break
     else:
+        if k == len(Xs) - 1:
+            return None, "none: the curve still rises at the end of its trace"
         return None, "no sign change of the tangent next to the largest value"
     Xa, Xb = Xs[a], Xs[b]
-    cache = {}
+    r = int(np.argmax(np.abs(Xb[:nc] - Xa[:nc])))
+    if np.sign(ts[a, o]) == np.sign(ts[b, o]) and Xa[o] != Xb[o]:
+        q = o
+    elif np.sign(ts[a, r]) == np.sign(ts[b, r]) and Xa[r] != Xb[r]:
+        q = r
+    else:
+        q = None
+
+    def hermite_max():
+        L = float(np.linalg.norm(Xb - Xa))
+        sig = np.linspace(0.0, L, 201)
+        vals = _hermite(Xa[e], ts[a, e], Xb[e], ts[b, e], L, sig)
+        j = int(np.argmax(vals))
+        lo, hi = sig[max(j - 1, 0)], sig[min(j + 1, sig.size - 1)]
+
+        def d(u):
+            h = 1e-7 * L
+            return (_hermite(Xa[e], ts[a, e], Xb[e], ts[b, e], L, u + h)
+                    - _hermite(Xa[e], ts[a, e], Xb[e], ts[b, e], L, u - h))
+        if lo < hi and d(lo) > 0 > d(hi):
+            u = brentq(d, lo, hi, xtol=1e-14 * max(L, 1.0))
+        else:
+            u = sig[j]
+        return _hermite(Xa, ts[a], Xb, ts[b], L, u)
+
+    if q is None:
+        return hermite_max(), "interpolated on the arc between the two traced points around it"
 
     def point(u):
-        w = (u - Xa[o]) / (Xb[o] - Xa[o])
-        X, t, _, _, ok = system.solve((1 - w) * Xa + w * Xb, o, u)
+        w = (u - Xa[q]) / (Xb[q] - Xa[q])
+        X, t, _, _, ok = system.solve((1 - w) * Xa + w * Xb, q, u)
         if not ok:
-            raise ConvergenceError(f"envelope point at {'ln P' if o == system.iP else 'ln T'} = "
-                                   f"{u:.12g} did not converge while locating the extremum")
-        cache[u] = X
+            raise ConvergenceError(f"envelope point at X[{q}] = {u:.12g} did not converge while "
+                                   f"locating the extremum")
         return X, t
 
     def g(u):
-        if u == Xa[o]:
-            return ts[a, e] / ts[a, o]
-        if u == Xb[o]:
-            return ts[b, e] / ts[b, o]
-        X, t = point(u)
-        return t[e] / t[o]
-    u = brentq(g, Xa[o], Xb[o], xtol=EXTREMUM_XTOL, rtol=4 * np.finfo(float).eps)
-    X, _ = point(u)
+        if u == Xa[q]:
+            return ts[a, e] / ts[a, q]
+        if u == Xb[q]:
+            return ts[b, e] / ts[b, q]
+        return point(u)[1][e] / point(u)[1][q]
+    try:
+        u = _root(g, Xa[q], Xb[q], xtol=EXTREMUM_XTOL, rtol=4 * np.finfo(float).eps)
+        X, _ = point(u)
+    except ConvergenceError:
+        return hermite_max(), ("interpolated on the arc between two traced points (a trial point "
+                               "on the curve did not converge)")
     return X, "found"
+
+
+def _start_nearly_pure(system: EnvelopeSystem, P0: float):
+    """First point of a nearly pure fluid, whose dew and bubble points are too close together for
+    the stability scan. With the roots fixed (the phase of composition z as vapour on the dew
+    side, as liquid on the bubble side, the incipient phase the other), the saturation temperature
+    is bracketed around the main component's and found by Brent's method on sum z/K - 1 (dew) or
+    sum K z - 1 (bubble), the K-values at each trial temperature by successive substitution from
+    infinite dilution in the main component; Newton on the envelope equations then polishes it.
+
+    Returns (X, tangent, message) or (None, None, why)."""
+    eos = system.eos
+    zs = system.zs
+    nc = system.nc
+    ip = int(np.argmax(zs))
+    if zs[ip] < NEARLY_PURE:
+        return None, None, "not nearly pure"
+    dew = system.beta == 1.0
+    P = np.array([P0])
+    Ts = fl.pure_saturation_T(eos, P, np.array([ip]))
+    if not np.all(np.isfinite(Ts)):
+        return None, None, f"the main component has no saturation temperature at {P0:g} Pa"
+    pure = np.zeros((2, nc))
+    pure[:, ip] = 1.0
+    lnphi, _ = eos.lnphi(np.repeat(Ts, 2), np.repeat(P, 2), pure, np.array([-1, 1]))
+    lnK0 = lnphi[0] - lnphi[1]              # ln(phi_L / phi_V) = ln(y / x) at infinite dilution
+    lnK0[ip] = 0.0
+    state = {"lnK": lnK0.copy()}
+
+    def g(T):
+        lnK = state["lnK"].copy()
+        for _ in range(NEARLY_PURE_SS_ITER):
+            K = np.exp(lnK)
+            if dew:
+                y, x = zs, zs / K
+            else:
+                x, y = zs, zs * K
+            xy = np.vstack([x / x.sum(), y / y.sum()])
+            lp, _ = eos.lnphi(np.full(2, T), np.full(2, P0), xy, np.array([-1, 1]))
+            new = lp[0] - lp[1]
+            if np.max(np.abs(new - lnK)) < 1e-12:
+                lnK = new
+                break
+            lnK = new
+        state["lnK"] = lnK
+        K = np.exp(lnK)
+        return float(np.sum(zs / K) - 1.0) if dew else float(np.sum(zs * K) - 1.0)
+
+    T_sat = float(Ts[0])
+    lo = hi = None
+    for d in NEARLY_PURE_BRACKET_K:
+        a, b = T_sat - d, T_sat + d
+        try:
+            state["lnK"] = lnK0.copy()
+            ga = g(a)
+            state["lnK"] = lnK0.copy()
+            gb = g(b)
+        except FloatingPointError:
+            continue
+        if np.isfinite(ga) and np.isfinite(gb) and np.sign(ga) != np.sign(gb):
+            lo, hi = a, b
+            break
+    if lo is None:
+        return None, None, "no saturation temperature bracketed around the main component's"
+    state["lnK"] = lnK0.copy()
+    try:
+        T = _root(g, lo, hi, xtol=1e-10)
+    except ConvergenceError as exc:
+        return None, None, str(exc)
+    g(T)
+    X0 = np.concatenate([state["lnK"], [np.log(T), np.log(P0)]])
+    X, t, _, res, ok = system.solve(X0, nc + 1, np.log(P0))
+    if not ok:
+        return None, None, (f"the first point of the nearly pure fluid at {P0:g} Pa did not "
+                            f"converge (residual {res:.3g})")
+    t = _unit(t)
+    if t[nc + 1] < 0:
+        t = -t
+    return X, t, "started from the main component's saturation point"
 
 
 def _start(engine, system: EnvelopeSystem, P0: float):
@@ -594,7 +740,10 @@ def _start(engine, system: EnvelopeSystem, P0: float):
         kind = "dew" if beta == 1.0 else "bubble"
         T = float(engine.saturation_T(P, z1, kind)[0])
         if not np.isfinite(T):
-            return None, None, f"no {kind} point found at {P0:g} Pa"
+            X, t, msg = _start_nearly_pure(system, P0)
+            if X is not None:
+                return X, t, msg
+            return None, None, f"no {kind} point found at {P0:g} Pa ({msg})"
         # the incipient phase: the stability test's trial phase just inside the two-phase region
         Ti = T * (1.0 - 1e-7) if kind == "dew" else T * (1.0 + 1e-7)
         st = fl.stability(eos, np.array([Ti]), P, z1)
@@ -612,7 +761,7 @@ def _start(engine, system: EnvelopeSystem, P0: float):
 
         def f(T):
             return float(split(T).beta[0]) - beta
-        T = brentq(f, Tb, Td, xtol=1e-9)
+        T = _root(f, Tb, Td, xtol=1e-9)
         sp = split(T)
         with np.errstate(divide="ignore", invalid="ignore"):
             lnK = np.log(sp.ys[0] / sp.xs[0])
@@ -636,6 +785,55 @@ def _report(tr: _Trace | None, message: str, status: str | None = None) -> Trace
     if tr is None:
         return TraceReport(False, status or "not started", message, 0, np.nan, 0)
     return TraceReport(tr.converged, tr.status, message, tr.iterations, tr.residual, len(tr.X))
+
+
+def _sub_engine(engine, present):
+    """The engine of the components flagged ``present`` (same model and interaction parameters)."""
+    from .components import ComponentSet
+    from .cubic_fluid import CubicEngine
+    idx = np.flatnonzero(present)
+    comps = ComponentSet([engine.comps.names[i] for i in idx])
+    eos = CubicEOS(comps, engine.eos.kind, engine.eos.kijs[np.ix_(idx, idx)])
+    return CubicEngine(comps, eos, getattr(engine, "volume_shift", False))
+
+
+def _full_Ks(engine, zs, present, T, P, Ks_sub):
+    """K-values of all components at points (T, P) whose present components have ``Ks_sub``: the
+    absent ones from their equilibrium equation, ln K_i = ln phi_i(x) - ln phi_i(y), y = z."""
+    T = np.atleast_1d(np.asarray(T, float))
+    P = np.atleast_1d(np.asarray(P, float))
+    m, nc = T.shape[0], zs.shape[0]
+    Ks = np.ones((m, nc))
+    if m == 0:
+        return Ks
+    Ks_sub = np.asarray(Ks_sub, float).reshape(m, -1)
+    Ks[:, present] = Ks_sub
+    y = np.broadcast_to(zs / zs.sum(), (m, nc)).copy()
+    x = np.zeros((m, nc))
+    x[:, present] = zs[present] / Ks_sub
+    x /= x.sum(axis=1, keepdims=True)
+    lnphi, _ = engine.eos.lnphi(np.concatenate([T, T]), np.concatenate([P, P]),
+                                np.concatenate([y, x]), "stable")
+    absent = ~present
+    Ks[:, absent] = np.exp(lnphi[m:, absent] - lnphi[:m, absent])
+    return Ks
+
+
+def _expand(env: Envelope, engine, zs, present) -> Envelope:
+    """An envelope traced on the present components, given back on all of them."""
+    def curve(c):
+        return Curve(c.T, c.P, _full_Ks(engine, zs, present, c.T, c.P, c.Ks))
+
+    def point(p, critical=False):
+        if p is None:
+            return None
+        Ks = np.ones(zs.shape[0]) if critical else _full_Ks(engine, zs, present, p.T, p.P,
+                                                              p.Ks)[0]
+        return EnvelopePoint(p.T, p.P, Ks)
+    return Envelope(zs=zs.copy(), components=tuple(engine.comps.names), dew=curve(env.dew),
+                    bubble=curve(env.bubble), critical=point(env.critical, True),
+                    cricondentherm=point(env.cricondentherm), cricondenbar=point(env.cricondenbar),
+                    lines=env.lines, converged=env.converged, reports=env.reports)
 
 
 def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
@@ -664,9 +862,10 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
         The first point could not be found or the dew branch could not be traced at all.
     """
     zs = np.asarray(zs, dtype=float)
-    eos = engine.eos
-    nc = zs.shape[0]
-    names = tuple(engine.comps.names)
+    if zs.ndim != 1 or zs.shape[0] != engine.comps.n or not np.all(np.isfinite(zs)) \
+            or np.any(zs < 0.0) or zs.sum() <= 0.0:
+        raise InputError("phase envelope needs one composition of finite, non-negative mole "
+                         "fractions, one per component")
     if np.count_nonzero(zs > 0) < 2:
         raise InputError("a pure component has a vapour-pressure curve, not a phase envelope")
     betas = tuple(float(b) for b in betas)
@@ -674,6 +873,16 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
         if not 0.0 < b < 1.0:
             raise InputError(f"vapour fractions of envelope lines must lie strictly between 0 and 1 "
                              f"(got {b:g})")
+    present = zs > 0
+    if not present.all():
+        # components at exactly zero take no part: trace the mixture of the others, then give the
+        # absent ones the K-value of infinite dilution at every point (their own equation F_i = 0)
+        sub = _sub_engine(engine, present)
+        env = phase_envelope(sub, zs[present], betas, P_start)
+        return _expand(env, engine, zs, present)
+    eos = engine.eos
+    nc = zs.shape[0]
+    names = tuple(engine.comps.names)
     reports = {}
     main = EnvelopeSystem(eos, zs, 1.0)
     with np.errstate(all="ignore"):     # Wilson K-values overflow at the stability test's trials
@@ -687,8 +896,20 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
         raise ConvergenceError(f"phase envelope: the dew branch could not be traced ({tr.status})",
                                result=reports["envelope"])
     critical = None
+    at_limit = tr.status.startswith("ended at the pressure limit")
+    open_top = False
     if tr.crossing is not None:
         lnTc, lnPc, reports["critical"] = _locate_critical(main, tr)
+        if at_limit:
+            # the branch past the critical point (the bubble side) rises without turning down: a
+            # liquid that dissolves a supercritical component (hydrogen, helium) needs ever higher
+            # pressure; the trace stops at the limit and says so
+            open_top = True
+            reports["envelope"] = TraceReport(
+                True, f"open: past the critical point the bubble branch still rises at the pressure "
+                f"limit {MAX_P:g} Pa (no upper turn: a supercritical component such as hydrogen "
+                f"dissolving in the liquid)", reports["envelope"].message, tr.iterations,
+                tr.residual, len(tr.X))
         critical = EnvelopePoint(float(np.exp(lnTc)), float(np.exp(lnPc)), np.ones(nc))
         crit_X = np.concatenate([np.zeros(nc), [lnTc, lnPc]])
         dew = _curve(tr.X[:tr.crossing] + [crit_X], nc)
@@ -697,6 +918,12 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
     else:
         # no critical point on the way (the trace ended at a limit or failed): the bubble branch
         # from its own low-pressure end
+        reports["critical"] = TraceReport(
+            False, "none: the dew branch " + (
+                f"rises to the pressure limit {MAX_P:g} Pa without a critical point (a component "
+                f"that forms a second liquid, such as water, or a supercritical one)" if at_limit
+                else f"stopped before a critical point ({tr.status})"),
+            "critical point", 0, np.nan, 0)
         dew = _curve(tr.X, nc)
         bsys = EnvelopeSystem(eos, zs, 0.0)
         with np.errstate(all="ignore"):
@@ -720,29 +947,54 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
             if len(trc.X) < 2:
                 continue
             try:
-                X, status = _extremum(main, trc, which)
+                X, st = _extremum(main, trc, which)
             except ConvergenceError as exc:
-                X, status = None, str(exc)
+                X, st = None, str(exc)
             if X is not None and (best is None or X[nc + (which == "P")] > best[nc + (which == "P")]):
-                best = X
+                best, status = X, st
+            elif best is None:
+                status = st
         name = "cricondentherm" if which == "T" else "cricondenbar"
+        if best is None and which == "P" and open_top:
+            status = ("none: the bubble branch still rises at the pressure limit past the critical "
+                      "point (no largest pressure)")
         extrema[which] = None if best is None else EnvelopePoint(
             float(np.exp(best[nc])), float(np.exp(best[nc + 1])), np.exp(best[:nc]))
-        reports[name] = TraceReport(best is not None, "found" if best is not None else status,
+        reports[name] = TraceReport(best is not None, status,
                                     f"{name}: extremum on the curve by Brent's method", 0,
                                     0.0 if best is not None else np.nan, 1 if best is not None else 0)
     lines = {}
     for b in sorted({min(b, 1.0 - b) for b in betas}):
         lsys = EnvelopeSystem(eos, zs, b)
-        with np.errstate(all="ignore"):
-            Xl, tl, msg = _start(engine, lsys, P_start)
+        # where the mixture has no two-phase range at P_start (its bubble point there is below
+        # the scan: hydrogen, CO2-rich and sour gases), the line starts at the lowest pressure of a
+        # geometric ladder up to the critical pressure that has one
+        ladder = [P_start]
+        if critical is not None and critical.P > P_start:
+            ladder += list(np.geomspace(P_start, critical.P, LINE_START_RUNGS + 2)[1:-1])
+        Xl = tl = None
+        first_msg = ""
+        for P0 in ladder:
+            with np.errstate(all="ignore"):
+                try:
+                    Xl, tl, msg = _start(engine, lsys, P0)
+                except ConvergenceError as exc:
+                    # a line that cannot start is reported, the envelope stands
+                    Xl, tl, msg = None, None, f"no first point at {P0:g} Pa ({exc})"
+            first_msg = first_msg or msg
+            if Xl is not None:
+                break
         key = f"line {b:g}"
         if Xl is None:
-            reports[key] = _report(None, f"line of vapour fraction {b:g}", msg)
+            tried = (f"; nor at {len(ladder) - 1} pressures from there up to the critical pressure"
+                     if len(ladder) > 1 else "")
+            reports[key] = _report(None, f"line of vapour fraction {b:g}", first_msg + tried)
             continue
         ltr = trace(lsys, Xl, tl, P_start)
+        started = ("" if P0 == P_start else f", started at {P0:.6g} Pa ({first_msg} at "
+                   f"{P_start:g} Pa)")
         reports[key] = _report(ltr, f"line of vapour fraction {b:g} (and {1 - b:g} past the "
-                                    f"critical point)")
+                                    f"critical point){started}")
         if ltr.crossing is None:
             reports[key] = TraceReport(False, "no critical point reached: " + ltr.status,
                                        reports[key].message, ltr.iterations, ltr.residual,

@@ -10,9 +10,24 @@ Three ways to the hydrate temperature depression dT of an aqueous phase holding 
   dT = -72 ln x_w [K], x_w the mole fraction of water in the inhibitor-water phase (salt-free,
   gas-free). Derived for methanol; applied to MEG here as well (common practice, less accurate).
 * **van der Waals-Platteeuw with the inhibited water activity**: the hydrate model of
-  :mod:`letdown.fluid.hydrate` with a_w = x_w, the ideal-solution relation ln a_w = ln x_w that
-  underlies Nielsen-Bucklin. The real activity coefficient of water in methanol and MEG solutions
-  is near 1 on the water-rich side (common practice), so this is a first model, not a fit.
+  :mod:`letdown.fluid.hydrate` with a_w = gamma_w x_w (:func:`water_activity`), gamma_w from
+  ln gamma_w = x_i^2 (A + B x_i) + x_i^2 (C + D x_i)(T0/T - 1) (:data:`ACTIVITY`, x_i the inhibitor
+  mole fraction), fitted by ``bench/fit_inhibitor_activity.py`` to the **freezing points** of the
+  solutions (Melinder, *Properties of Secondary Working Fluids for Indirect Systems*, 2nd ed., IIR
+  2010, as fitted in CoolProp's incompressible mixtures; at the freezing point the solution is in
+  equilibrium with ice, which fixes a_w at 218-272 K, the temperatures of hydrate inhibition) and,
+  for methanol's temperature dependence, to NRTL with the DECHEMA water-methanol parameters
+  (Gmehling & Onken, DECHEMA Chemistry Data Series Vol. I/1, 1977, p. 61; VLE at 337-373 K) at
+  313-373 K. MEG has no verified VLE set here (C = D = 0). The data reach 40 wt % methanol and
+  50 wt % MEG: beyond, gamma_w is held at its value there (:data:`ACTIVITY_X_MAX`) and
+  :func:`vdwp_wt_pct` refuses a dose.
+
+  Both solutions are slightly **non-ideal on the negative side** where hydrates are inhibited:
+  gamma_w = 0.965 at 30 wt % methanol (247 K) and 0.906 at 50 wt % MEG (237 K) from the freezing
+  points, so the ideal a_w = x_w of earlier versions understated the depression (conservative
+  doses). The DECHEMA NRTL, extrapolated 70-120 K below its data, gives the opposite sign
+  (gamma_w 1.06 at 30 wt %, 255 K) and would overstate a_w; it is not used below 313 K. In a phase
+  holding both inhibitors the two binary terms are added (no ternary term; common practice).
 
 Rates: for W wt % in the aqueous phase and a lean inhibitor solution of W_lean wt %, the lean
 injection rate per free-water rate is W / (W_lean - W) (mass balance, common practice;
@@ -134,6 +149,92 @@ def wt_pct_from_water_mole_fraction(x_w, name="methanol"):
     return _out(100.0 * mi / (mi + x * M_WATER_G))
 
 
+# ------------------------------------------------------------------ water activity
+#: ln gamma_w = x_i^2 (A + B x_i) + x_i^2 (C + D x_i)(T0/T - 1) per inhibitor: (A, B, C, D) [-]
+#: (module docstring; ``bench/fit_inhibitor_activity.py``). Fit quality: the freezing points of
+#: 5-40 wt % methanol within 0.25 K and of 5-50 wt % MEG within 0.28 K; the DECHEMA NRTL at
+#: 313-373 K (up to 40 wt % methanol) within 0.038 in ln gamma_w.
+ACTIVITY = {"methanol": (-0.91617, 3.34376, -10.2599, 19.69926),
+            "ethylene-glycol": (-2.19356, 0.81892, 0.0, 0.0)}
+#: Largest inhibitor mole fraction of the data behind :data:`ACTIVITY` (40 wt % methanol, 50 wt %
+#: MEG: the freezing points) [-]. Beyond it the polynomial is not used (for methanol it turns
+#: upward and a_w stops rising with the water fraction): gamma_w is held at its value there, and
+#: :func:`vdwp_wt_pct` refuses a dose beyond it.
+ACTIVITY_X_MAX = {"methanol": 0.27264, "ethylene-glycol": 0.22496}
+#: Reference temperature of the temperature term [K].
+ACTIVITY_T0 = 273.15
+#: The range the activity model is used in [K]: outside it gamma_w is taken at the nearer end (the
+#: freezing-point data reach down to 218 K, the NRTL points up to 373 K).
+ACTIVITY_T_RANGE = (218.0, 373.15)
+
+
+def water_activity_coefficient(x_water, x_methanol, T):
+    """Activity coefficient of water in a water-methanol-MEG liquid [-] (:data:`ACTIVITY`).
+
+    Parameters
+    ----------
+    x_water, x_methanol : float or ndarray
+        Mole fractions of water and methanol in the liquid; the rest is MEG [-].
+    T : float or ndarray
+        Temperature [K] (clipped to :data:`ACTIVITY_T_RANGE`).
+    """
+    xw = np.asarray(x_water, float)
+    xm = np.clip(np.asarray(x_methanol, float), 0.0, None)
+    xg = np.clip(1.0 - xw - xm, 0.0, None)
+    tau = ACTIVITY_T0 / np.clip(np.asarray(T, float), *ACTIVITY_T_RANGE) - 1.0
+    ln_g = 0.0
+    for name, x in (("methanol", xm), ("ethylene-glycol", xg)):
+        A, B, C, D = ACTIVITY[name]
+        x = np.minimum(x, ACTIVITY_X_MAX[name])          # held at the edge of the data beyond
+        ln_g = ln_g + x * x * (A + B * x) + x * x * (C + D * x) * tau
+    return _out(np.exp(ln_g))
+
+
+def _x_methanol(name, x_w):
+    return 1.0 - x_w if inhibitor(name).name == "methanol" else np.zeros_like(x_w)
+
+
+def water_activity(W, name="methanol", T=273.15):
+    """Water activity a_w = gamma_w x_w of a water-inhibitor solution of W wt % inhibitor at T [-]
+    (:func:`water_activity_coefficient`)."""
+    inh = inhibitor(name)
+    x_w = np.asarray(water_mole_fraction(W, inh.name), float)
+    return _out(x_w * np.asarray(water_activity_coefficient(x_w, _x_methanol(inh.name, x_w), T),
+                                 float))
+
+
+def wt_pct_from_water_activity(a_w, name="methanol", T=273.15):
+    """wt % inhibitor of a water-inhibitor solution whose water activity at T is a_w [wt %]: the
+    inverse of :func:`water_activity` (a_w rises with x_w over 0-60 wt %, where the model is fitted;
+    bisection on x_w, all cases together, to 1e-15 in x_w).
+
+    Raises
+    ------
+    InputError
+        a_w outside (0, 1], or below what neat inhibitor gives.
+    """
+    inh = inhibitor(name)
+    a = np.asarray(a_w, float)
+    if np.any(~np.isfinite(a)) or np.any(a <= 0.0) or np.any(a > 1.0):
+        raise InputError(f"water activity must be in (0, 1] (got {a_w!r})")
+    a, T = np.broadcast_arrays(a, np.asarray(T, float))
+    lo = np.full(a.shape, 1e-9)
+    hi = np.ones(a.shape)
+
+    def activity(x):
+        return x * np.asarray(water_activity_coefficient(x, _x_methanol(inh.name, x), T), float)
+
+    if np.any(activity(lo) > a):
+        raise InputError("water activity below that of the neat inhibitor")
+    for _ in range(60):          # bisection: 2^-60 of the unit interval is below 1e-17
+        mid = 0.5 * (lo + hi)
+        f = activity(mid) - a
+        lo = np.where(f < 0.0, mid, lo)
+        hi = np.where(f < 0.0, hi, mid)
+    x = np.where(a >= 1.0, 1.0, 0.5 * (lo + hi))       # pure water: no inhibitor, exactly
+    return wt_pct_from_water_mole_fraction(x, inh.name)
+
+
 # ------------------------------------------------------------------ Hammerschmidt
 def hammerschmidt_depression(W, name="methanol", K=None):
     """Hammerschmidt (1934) hydrate depression dT = K W / (M (100 - W)) [K].
@@ -180,16 +281,51 @@ def nielsen_bucklin_wt_pct(dT, name="methanol"):
 
 
 # ------------------------------------------------------------------ vdW-P
+#: Fixed point on the temperature at which gamma_w is taken (it moves the hydrate temperature by
+#: about 0.01 K per K): stop when the hydrate temperature changes by less than this [K] ...
+ACTIVITY_T_TOL = 1e-7
+#: ... or after this many passes (3-4 are needed; measured).
+ACTIVITY_MAX_PASSES = 20
+
+
+def _solution_hydrate_T(fluid, P, x_water, x_methanol, zs=None):
+    """vdW-P hydrate temperature [K] over an aqueous liquid of water and methanol mole fractions
+    x_water, x_methanol (the rest MEG): a_w = gamma_w(T) x_w with gamma_w taken at the hydrate
+    temperature itself (fixed point, :data:`ACTIVITY_T_TOL`; NaN where no hydrate forms)."""
+    P = np.atleast_1d(np.asarray(P, float))
+    xw, xm = np.broadcast_arrays(np.asarray(x_water, float), np.asarray(x_methanol, float))
+    xw = np.broadcast_to(xw, P.shape) if xw.ndim == 0 else xw
+    xm = np.broadcast_to(xm, xw.shape)
+    T = np.full(xw.shape, 273.15)
+    T_new = T
+    for _ in range(ACTIVITY_MAX_PASSES):
+        aw = np.minimum(xw * np.asarray(water_activity_coefficient(xw, xm, T), float), 1.0)
+        T_new = np.asarray(fluid.hydrate_T(P, water_activity=aw, zs=zs), float).reshape(xw.shape)
+        done = np.all(np.abs(np.nan_to_num(T_new - T, nan=0.0)) < ACTIVITY_T_TOL)
+        T = np.where(np.isfinite(T_new), T_new, T)
+        if done:
+            break
+    else:
+        raise ConvergenceError("hydrate temperature with the water activity model: the fixed point "
+                               "on the temperature did not settle")
+    return T_new
+
+
 def inhibited_hydrate_T(fluid, P, W, name="methanol"):
     """Hydrate formation temperature with W wt % inhibitor in the free water [K]: vdW-P with
-    a_w = x_w (module docstring)."""
-    x = water_mole_fraction(W, name)
-    return fluid.hydrate_T(P, water_activity=x)
+    a_w = gamma_w x_w (:func:`water_activity`, gamma_w at the hydrate temperature; module
+    docstring)."""
+    inh = inhibitor(name)
+    x = np.asarray(water_mole_fraction(W, inh.name), float)
+    T = _solution_hydrate_T(fluid, P, x, _x_methanol(inh.name, x))
+    return float(T[0]) if np.ndim(P) == 0 and np.ndim(W) == 0 else T
 
 
 def vdwp_wt_pct(fluid, P, T_target, name="methanol", zs=None):
     """Inhibitor needed in the aqueous phase so that the vdW-P hydrate temperature at P falls to
-    T_target [wt %] (0 where the uninhibited hydrate temperature is already at or below it).
+    T_target [wt %] (0 where the uninhibited hydrate temperature is already at or below it). The
+    water activity is solved for, then turned into wt % by the activity model at T_target
+    (:func:`wt_pct_from_water_activity`).
 
     Parameters
     ----------
@@ -249,8 +385,16 @@ def vdwp_wt_pct(fluid, P, T_target, name="methanol", zs=None):
                                    result=SolveReport(rep.converged, rep.iterations,
                                                       np.abs(rep.fx), "ln a_w, Illinois"))
         lna[i] = rep.x
-    W = wt_pct_from_water_mole_fraction(np.exp(lna), name)
+    # at the answer the hydrate temperature is T_target: gamma_w is taken there
+    W = wt_pct_from_water_activity(np.exp(lna), name, np.where(need, Tt, 273.15))
     W = np.atleast_1d(W)
+    inh = inhibitor(name)
+    W_max = float(wt_pct_from_water_mole_fraction(1.0 - ACTIVITY_X_MAX[inh.name], inh.name))
+    if np.any(W > W_max + 1e-9):
+        raise InputError(f"the target hydrate temperature needs {np.max(W):.1f} wt % {inh.name} in "
+                         f"the water, beyond the {W_max:.0f} wt % the water activity model has data "
+                         f"for (size by hammerschmidt or nielsen-bucklin, or a smaller depression)",
+                         cases=W > W_max + 1e-9)
     scalar = np.ndim(T_target) == 0 and np.ndim(P_in) == 0 and (zs is None or np.ndim(zs) == 1)
     return float(W[0]) if scalar else W
 
@@ -373,6 +517,9 @@ class Partition:
         Phase fractions of the flash [-].
     report : SolveReport
         The flash's convergence, or the dose search's.
+    water_activity : ndarray (n,) or None
+        a_w = gamma_w x_w of the aqueous liquid at its T (:func:`water_activity_coefficient`) [-]
+        (NaN where there is no aqueous liquid).
     """
 
     injected: np.ndarray
@@ -386,6 +533,7 @@ class Partition:
     beta_L: np.ndarray
     beta_W: np.ndarray
     report: SolveReport
+    water_activity: np.ndarray | None = None
 
     @property
     def balance_closure(self) -> np.ndarray:
@@ -498,9 +646,15 @@ def partition(fluid, T, P, zs_dry, water_ratio, inhibitor_ratio, pf=None) -> Par
     m_w = water_aq * M_WATER_G
     wet = water_aq > 0.0
     wt = np.where(wet, 100.0 * m_inh / np.where(wet, m_inh + m_w, 1.0), np.nan)
-    xw = np.where(wet, water_aq / np.where(wet, water_aq + aq.sum(axis=1), 1.0), np.nan)
+    tot_aq = np.where(wet, water_aq + aq.sum(axis=1), 1.0)
+    xw = np.where(wet, water_aq / tot_aq, np.nan)
+    xm = np.where(wet, aq[:, list(INHIBITORS).index("methanol")] / tot_aq, np.nan)
+    gam = np.asarray(water_activity_coefficient(np.nan_to_num(xw, nan=1.0),
+                                                np.nan_to_num(xm, nan=0.0),
+                                                np.broadcast_to(T, (n,))), float)
+    aw = np.where(wet, np.minimum(xw * gam, 1.0), np.nan)
     return Partition(np.array(inh, float), aq, vap, hcl, water_aq, wt, xw, r.beta_V, r.beta_L,
-                     r.beta_W, r.report)
+                     r.beta_W, r.report, aw)
 
 
 def dose_with_losses(fluid, T, P, zs_dry, water_ratio, W, name="methanol", pf=None) -> Partition:
@@ -601,13 +755,21 @@ def dose_with_losses(fluid, T, P, zs_dry, water_ratio, W, name="methanol", pf=No
     out = partition(fluid, T, P, zs_dry, rw, ratios(dose, np.arange(n)), pf)
     return Partition(out.injected, out.aqueous, out.vapour, out.hc_liquid, out.water_aqueous,
                      np.where(need, out.wt_pct, np.nan), out.water_mole_fraction, out.beta_V,
-                     out.beta_L, out.beta_W, SolveReport(conv, its, res, "dose, Illinois on ln n"))
+                     out.beta_L, out.beta_W, SolveReport(conv, its, res, "dose, Illinois on ln n"),
+                     out.water_activity)
 
 
-def hydrate_model_depression(fluid, P, x_w, zs=None):
+def hydrate_model_depression(fluid, P, x_w, zs=None, name=None):
     """Depression of the vdW-P hydrate temperature at P by an aqueous liquid of water mole
-    fraction x_w (a_w = x_w, module docstring) [K]: hydrate_T(a_w = 1) - hydrate_T(a_w = x_w)."""
+    fraction x_w [K]: hydrate_T(a_w = 1) - hydrate_T(a_w).
+
+    ``name`` is the inhibitor of the water-inhibitor liquid: a_w = gamma_w x_w
+    (:func:`water_activity_coefficient`, gamma_w at the inhibited hydrate temperature); None keeps
+    the ideal a_w = x_w of earlier versions for callers that do not name the inhibitor (it
+    understates the depression, module docstring)."""
     P = np.atleast_1d(np.asarray(P, float))
     xw = np.broadcast_to(np.asarray(x_w, float), P.shape)
-    return np.asarray(fluid.hydrate_T(P, zs=zs)) - np.asarray(fluid.hydrate_T(P, water_activity=xw,
-                                                                               zs=zs))
+    free = np.asarray(fluid.hydrate_T(P, zs=zs))
+    if name is not None:
+        return free - _solution_hydrate_T(fluid, P, xw, _x_methanol(name, xw), zs=zs)
+    return free - np.asarray(fluid.hydrate_T(P, water_activity=xw, zs=zs))
