@@ -108,9 +108,9 @@ def test_hydrate_model_dose_gives_the_asked_depression(name):
     # the fluid layer's depression, told the inhibitor, gives the 8 K back ...
     named = ih.hydrate_model_depression(gas, st.P, x_w, name=name)
     assert float(named[0]) == pytest.approx(8.0, abs=1e-3)
-    # ... but letdown/equipment/inject.py does not pass name= yet (not this branch's file), so the
-    # block reports the ideal-solution depression, below 8 K with both inhibitors (gamma_w < 1)
-    assert d["hydrate_depression_hydrate_model_K"] < 8.0
+    # ... and so does the block, which names its inhibitor (it reported the ideal-solution
+    # depression, below 8 K with both inhibitors, before it did)
+    assert d["hydrate_depression_hydrate_model_K"] == pytest.approx(8.0, abs=1e-3)
 
 
 def test_vdwp_wt_pct_with_a_composition():

@@ -300,7 +300,7 @@ def _dose(name: str, params, water_kg_s, point: ProtectedPoint) -> dict:
         dT["depression_K"][wet] = hammerschmidt_depression(W[wet], inh.name)
         dT["depression_nielsen_bucklin_K"][wet] = nielsen_bucklin_depression(W[wet], inh.name)
         dT["depression_hydrate_model_K"][wet] = hydrate_model_depression(
-            point.fluid, point.P[wet], x_w[wet], zs=point.zs[wet])
+            point.fluid, point.P[wet], x_w[wet], zs=point.zs[wet], name=inh.name)
     return {"inhibitor": inh.name, "spec": spec, "sized_by": sized_by, "losses": losses,
             "rate_kg_s": rate,
             "wt_pct": W, "aqueous_kg_s": aq, "vapour_kg_s": vap, "hc_liquid_kg_s": hcl, **dT,

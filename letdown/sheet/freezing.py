@@ -60,8 +60,11 @@ rate; a separator splits it with its phases, whichever way the water is carried
 (:func:`_separate_inhibitor`: the three-phase split
 at the drum with ``losses: equilibrium``, all with the free water with ``losses: none``); the
 others carry it as the water. With all of a stream's water taken as free water, the
-stream's aqueous phase holds ``inhibitor_wt_pct`` and has water activity a_w = x_w
-(:func:`aqueous`), and its hydrate temperature is found with that activity. When an ``inject``
+stream's aqueous phase holds ``inhibitor_wt_pct`` (:func:`aqueous`), and its hydrate
+temperature is found with the water activity a_w = gamma_w x_w of that phase (gamma_w at the
+hydrate temperature, :func:`letdown.fluid.inhibitor.water_activity_coefficient`; reported as
+``water_activity``); the freezing point of its free water keeps the ideal a_w = x_w (warm: the
+safe side). When an ``inject``
 block counts its losses (``losses: equilibrium``), each stream's aqueous phase comes instead from
 the split of water and inhibitor at the stream's own T and P (:func:`aqueous_equilibrium`), and
 the block is sized at the coldest gas-carrying stream downstream (:func:`protected_point`:
@@ -126,7 +129,8 @@ from ..equipment.inject import PARAM_DETAILS, ProtectedPoint, dose
 from ..errors import ConvergenceError, InputError
 from ..fluid.hydrate import LANGMUIR
 from ..fluid.aqueous import density as aqueous_density, freezing_point
-from ..fluid.inhibitor import INHIBITORS, partition
+from ..fluid.inhibitor import INHIBITORS, partition, water_activity_coefficient
+from ..fluid.inhibitor import _solution_hydrate_T as solution_hydrate_T
 from ..fluid.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE, water_content,
                            water_dew_point)
 from .graph import downstream_streams
@@ -150,6 +154,8 @@ LOOP_MAX_PASSES = 500
 DEW_T_SLACK = 1e-6
 #: The inhibitors carried per stream, in the column order of the inhibitor ratios.
 INHIBITOR_NAMES = tuple(INHIBITORS)
+#: Column of methanol in the inhibitor arrays (the rest is MEG).
+METHANOL = INHIBITOR_NAMES.index("methanol")
 
 
 @dataclass(frozen=True, eq=False)
@@ -764,8 +770,11 @@ def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
     wt_pct : ndarray (n,)
         Inhibitor in the water-inhibitor phase [wt %] (NaN without water).
     water_activity : ndarray (n,)
-        a_w = x_w, the water mole fraction of that phase (Nielsen-Bucklin's ideal solution,
-        :mod:`letdown.fluid.inhibitor`); 1 without inhibitor or without water [-].
+        x_w, the water mole fraction of that phase (the ideal a_w); 1 without inhibitor or
+        without water [-]. The hydrate temperature takes a_w = gamma_w x_w from it
+        (:func:`_hydrate_Ts`).
+    methanol_fraction : ndarray (n,)
+        Methanol mole fraction of that phase (the rest of the inhibitor is MEG) [-].
     """
     w = np.asarray(water_ratio, float)
     inh = np.asarray(inhibitor_ratio, float)
@@ -776,7 +785,8 @@ def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
     wt = np.where(wet, 100.0 * mi / np.where(wet, mi + mw, 1.0), np.nan)
     ni = inh.sum(axis=1)
     aw = np.where(wet & (ni > 0.0), w / np.where(wet, w + ni, 1.0), 1.0)
-    return wt, aw
+    xm = np.where(wet & (ni > 0.0), inh[:, METHANOL] / np.where(wet, w + ni, 1.0), 0.0)
+    return wt, aw, xm
 
 
 def aqueous_equilibrium(fluid, T, P, zs, water_ratio, inhibitor_ratio):
@@ -788,10 +798,10 @@ def aqueous_equilibrium(fluid, T, P, zs, water_ratio, inhibitor_ratio):
 
     Returns
     -------
-    wt_pct, water_activity : ndarray (n,)
+    wt_pct, water_activity, methanol_fraction : ndarray (n,)
         As for :func:`aqueous`.
     """
-    wt, aw = aqueous(water_ratio, inhibitor_ratio)
+    wt, aw, xm = aqueous(water_ratio, inhibitor_ratio)
     rows = np.flatnonzero((np.asarray(inhibitor_ratio).sum(axis=1) > 0.0)
                           & (np.asarray(water_ratio) > 0.0) & np.isfinite(T) & (P > 0.0))
     if rows.size:
@@ -799,7 +809,10 @@ def aqueous_equilibrium(fluid, T, P, zs, water_ratio, inhibitor_ratio):
                       inhibitor_ratio[rows])
         wt[rows] = p.wt_pct
         aw[rows] = np.where(np.isfinite(p.water_mole_fraction), p.water_mole_fraction, 1.0)
-    return wt, aw
+        total = p.water_aqueous + p.aqueous.sum(axis=1)
+        xm[rows] = np.where(total > 0.0, p.aqueous[:, METHANOL] / np.where(total > 0.0, total, 1.0),
+                            0.0)
+    return wt, aw, xm
 
 
 def _dew_points(fluid, method, y, P, zs) -> np.ndarray:
@@ -822,19 +835,41 @@ def _dew_points(fluid, method, y, P, zs) -> np.ndarray:
     return out
 
 
-def _hydrate_Ts(fluid, P, zs, aw=None) -> tuple[np.ndarray, np.ndarray, list]:
-    """Hydrate temperatures [K] and structures of rows (P, zs, water activity aw), each distinct row
-    solved once."""
+def _hydrate_Ts(fluid, P, zs, aw=None, xm=None) -> tuple:
+    """Hydrate temperatures [K] and structures of rows (P, zs, water mole fraction aw of the free
+    water and methanol mole fraction xm in it), each distinct row solved once.
+
+    With an inhibitor (aw < 1 and ``xm`` given) the water activity is gamma_w x_w, gamma_w of
+    :func:`letdown.fluid.inhibitor.water_activity_coefficient` at the inhibited hydrate temperature
+    itself (its fixed point); where that fixed point does not settle, the ideal a_w = x_w stays (it
+    understates the depression: the safe side).
+
+    Returns
+    -------
+    T, structure, failed, water_activity
+        ``water_activity`` the a_w each row was solved with [-].
+    """
     names = list(fluid.components)
     formers = [j for j, nm in enumerate(names) if nm in LANGMUIR]
     T = np.full(P.shape, np.nan)
     st = np.full(P.shape, "", dtype=object)
     failed = []
-    aw = np.ones(P.shape) if aw is None else np.asarray(aw, float)
+    aw = np.ones(P.shape) if aw is None else np.array(aw, float)
     has = (np.asarray(zs)[:, formers].sum(axis=1) > 0.0) if formers else np.zeros(P.shape, bool)
     has &= np.isfinite(P) & (P > 0.0)
     if not has.any():
-        return T, st, failed
+        return T, st, failed, aw
+    inhibited = has & (aw < 1.0) & np.isfinite(aw)
+    if xm is not None and inhibited.any():
+        xw, xmi = aw[inhibited], np.asarray(xm, float)[inhibited]
+        try:
+            T_fix = solution_hydrate_T(fluid, P[inhibited], xw, xmi, zs=np.asarray(zs)[inhibited])
+        except ConvergenceError:
+            T_fix = None
+        if T_fix is not None:
+            gamma = np.asarray(water_activity_coefficient(
+                xw, xmi, np.where(np.isfinite(T_fix), T_fix, ICE_T)), float)
+            aw[inhibited] = np.minimum(xw * gamma, 1.0)
     rows = np.column_stack([P[has], aw[has], zs[has]])
     uniq, inverse = np.unique(rows, axis=0, return_inverse=True)
     inverse = np.asarray(inverse).reshape(-1)
@@ -853,7 +888,7 @@ def _hydrate_Ts(fluid, P, zs, aw=None) -> tuple[np.ndarray, np.ndarray, list]:
                 failed.append(float(row[0]))
     T[has] = Tu[inverse]
     st[has] = np.asarray(su, dtype=object)[inverse]
-    return T, st, failed
+    return T, st, failed, aw
 
 
 def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple[dict, list]:
@@ -903,17 +938,18 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     inh_all = np.concatenate([inh[s] for s in names])
     if any(d["losses"] == "equilibrium" for d in block_doses.values()):
         T_all = np.concatenate([np.asarray(streams[s].T, float) for s in names])
-        wt, aw = aqueous_equilibrium(fluid, T_all, P, zs, r, inh_all)
+        wt, aw, xm = aqueous_equilibrium(fluid, T_all, P, zs, r, inh_all)
     else:
-        wt, aw = aqueous(r, inh_all)
+        wt, aw, xm = aqueous(r, inh_all)
     # a stream of free water only (a separator's water outlet): its own water and inhibitor
     for k, s in enumerate(names):
         if s in free_inh and s in carried.free and np.isnan(shown[s]).any():
             sl = slice(k * n, (k + 1) * n)
-            w_free, a_free = aqueous(carried.free[s], free_inh[s])
+            w_free, a_free, m_free = aqueous(carried.free[s], free_inh[s])
             only = np.isnan(shown[s])
             wt[sl] = np.where(only, w_free, wt[sl])
             aw[sl] = np.where(only, a_free, aw[sl])
+            xm[sl] = np.where(only, m_free, xm[sl])
     y = r / (1.0 + r)
     dew = _dew_points(fluid, fs.gas.water_method, y, P, zs)
     # the inject outlets once more without inhibitor, for the vdW-P depression of each block
@@ -921,8 +957,12 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     P_all = np.concatenate([P] + [np.asarray(streams[s].P, float) for s in outs])
     zs_all = np.concatenate([zs] + [np.asarray(streams[s].zs, float) for s in outs])
     aw_all = np.concatenate([aw, np.ones(n * len(outs))])
-    hT_all, hs_all, failed = _hydrate_Ts(fluid, P_all, zs_all, aw_all)
+    xm_all = np.concatenate([xm, np.zeros(n * len(outs))])
+    hT_all, hs_all, failed, a_eff = _hydrate_Ts(fluid, P_all, zs_all, aw_all, xm_all)
     hT, hs = hT_all[: P.size], hs_all[: P.size]
+    # the water activity reported is the one the hydrate temperature was solved with; the freezing
+    # point of the free water keeps the ideal solution (x_w), which errs warm (the safe side)
+    x_w, aw = aw, np.where(np.isfinite(a_eff[: P.size]), a_eff[: P.size], aw)
     for p in failed:
         notes.append(WarningRecord("hydrate", f"the hydrate temperature at {p / 1e5:.4g} bar did not "
                                               "converge; that stream's hydrate margin is blank",
@@ -949,7 +989,7 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
                                 carried.flow(s, streams[s]),
                                 (inh[s] * dry_flow(fluid, streams[s])[:, None]
                                  + free_inh.get(s, 0.0)) if dosed else None,
-                                free, np.where(free, freezing_point(aw[sl]), np.nan),
+                                free, np.where(free, freezing_point(x_w[sl]), np.nan),
                                 rule_T if s in rule_streams else None, rho)
     if doses is not None:
         for b, split in carried.separators.items():
