@@ -13,6 +13,8 @@ References (test-only):
   reports: the pressure there must be the requested one (the density is a root of the model's
   own equation, not a neighbour).
 """
+from pathlib import Path
+
 import numpy as np
 import pyaga8
 import pytest
@@ -28,8 +30,6 @@ R_GERG = 8.314472   # gas constant of GERG-2008 (Kunz & Wagner 2012) [J/(mol K)]
 from letdown.sheet.loader import load as load_flowsheet
 from letdown.sheet.solve import solve
 from tests.cases import BAR
-
-from pathlib import Path
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "flowsheets"
 
