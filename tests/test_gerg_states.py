@@ -25,11 +25,11 @@ from CoolProp import AbstractState
 import letdown
 from letdown.errors import ModelError
 from letdown.fluid.gerg import GERG_NAMES
-
-R_GERG = 8.314472   # gas constant of GERG-2008 (Kunz & Wagner 2012) [J/(mol K)]
 from letdown.sheet.loader import load as load_flowsheet
 from letdown.sheet.solve import solve
 from tests.cases import BAR
+
+R_GERG = 8.314472   # gas constant of GERG-2008 (Kunz & Wagner 2012) [J/(mol K)]
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "flowsheets"
 
