@@ -13,6 +13,8 @@ References (test-only):
   reports: the pressure there must be the requested one (the density is a root of the model's
   own equation, not a neighbour).
 """
+from pathlib import Path
+
 import numpy as np
 import pyaga8
 import pytest
@@ -21,15 +23,13 @@ import CoolProp
 from CoolProp import AbstractState
 
 import letdown
-from letdown.errors import ConvergenceError, ModelError
+from letdown.errors import ModelError
 from letdown.fluid.gerg import GERG_NAMES
-
-R_GERG = 8.314472   # gas constant of GERG-2008 (Kunz & Wagner 2012) [J/(mol K)]
 from letdown.sheet.loader import load as load_flowsheet
 from letdown.sheet.solve import solve
 from tests.cases import BAR
 
-from pathlib import Path
+R_GERG = 8.314472   # gas constant of GERG-2008 (Kunz & Wagner 2012) [J/(mol K)]
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "flowsheets"
 
@@ -86,7 +86,8 @@ def gerg_pressure_at(comp, T, rho_molar):
 
 
 @pytest.mark.parametrize("comp, T, P", LIQUID_STATES,
-                         ids=[f"{'+'.join(c)}-{T:.0f}K-{P / BAR:.0f}bar" for c, T, P in LIQUID_STATES])
+                         ids=[f"{'+'.join(c)}-{T:.0f}K-{P / BAR:.0f}bar"
+                              for c, T, P in LIQUID_STATES])
 def test_liquid_density_against_coolprop(comp, T, P):
     st = letdown.Fluid(comp, model="gerg-2008").flash(T=T, P=P)
     assert st.vapour_fraction == 0.0
@@ -155,7 +156,8 @@ def test_pure_ps_inside_the_dome_and_round_trip():
     sl = gas.flash(T=Ts - 1e-6, P=P).s
     sv = gas.flash(T=Ts + 1e-6, P=P).s
     st = gas.flash(P=P, s=0.4 * sl + 0.6 * sv)
-    assert st.vapour_fraction == pytest.approx(0.6, abs=1e-6) and st.T == pytest.approx(Ts, abs=1e-6)
+    assert st.vapour_fraction == pytest.approx(0.6, abs=1e-6)
+    assert st.T == pytest.approx(Ts, abs=1e-6)
     for T in (200.0, Ts - 5.0, Ts + 5.0, 350.0):
         one = gas.flash(T=T, P=P)
         assert gas.flash(P=P, h=one.h).T == pytest.approx(T, abs=1e-6)

@@ -15,11 +15,12 @@ The solve has three steps, for all cases of a batch together:
    interval where the gas is the vapour there (above the critical pressure, near the
    cricondenbar); the bubble point is the lower end of the lowest interval. Each is bracketed by
    a two-phase candidate and the nearest single-phase candidate beyond it (or steps outward).
-3. **Bisection** on the stability test down to a bracket of 1e-9 of the value, then a check: a
-   full flash just inside (two phases; near a critical point, where the split itself may not
-   converge, the flash's stability test finding the second phase) and just outside (one phase). A case that fails the check
-   raises :class:`~letdown.errors.ConvergenceError`; NaN means that no two-phase state exists on
-   the line (the envelope, traced, does not cross it and no candidate is two-phase).
+3. **Bisection** on the stability test down to a bracket of 1e-9 of the value; refinement by the
+   envelope equations (see :func:`_refine`); then a check: a full flash just inside (two phases;
+   near a critical point, where the split itself may not converge, the flash's stability test
+   finding the second phase) and just outside (one phase). A case that fails the check raises
+   :class:`~letdown.errors.ConvergenceError`; NaN means that no two-phase state exists on the line
+   (the envelope, traced, does not cross it and no candidate is two-phase).
 
 Liquid-liquid splits the cubic models find far below a natural gas's freezing point (near 45 K
 above a lean gas's cricondenbar) are not dew points: candidates below ``T_floor`` (0.45 of the
