@@ -18,7 +18,9 @@ counted and listed:
 * exit codes per verb;
 * **failures** (the target is none): exit 3 (internal error), a traceback on stderr or escaping
   ``main``, an exit code that is not 0, 1, 2, a refusal (exit 1 or 2) that is not one line
-  ``letdown: ...`` on stderr, an exit 0 ``solve --json`` whose JSON holds a NaN or infinity, an
+  ``letdown: ...`` on stderr, an exit 0 ``solve --json`` whose JSON holds a NaN or infinity (or a
+  null, which is how the JSON writes a NaN, for a stream's T, P or flow or a block's duty, power
+  or dP), an
   absolute temperature or pressure at or below zero, a negative flow, a vapour fraction outside
   [0, 1], a block balance open beyond the result's own limits, or stdout that is not one JSON object;
 * numpy RuntimeWarnings seen (counted, listed with ``--show-warnings``: not a failure by itself);
@@ -289,6 +291,9 @@ def judge_json(out: str) -> list:
             v = s.get(k)
             if isinstance(v, (int, float)) and v <= 0.0:
                 problems.append(f"streams.{name}.{k} = {v}")
+        for k in ("T_K", "P_Pa", "flow_mol_s"):   # the JSON writes a NaN as null
+            if k not in s or s[k] is None:
+                problems.append(f"streams.{name}.{k} = null (NaN)")
         v = s.get("flow_mol_s")
         if isinstance(v, (int, float)) and v < 0.0:
             problems.append(f"streams.{name}.flow_mol_s = {v}")
@@ -296,6 +301,9 @@ def judge_json(out: str) -> list:
         if isinstance(v, (int, float)) and not -1e-9 <= v <= 1.0 + 1e-9:
             problems.append(f"streams.{name}.vapour_fraction = {v}")
     for name, e in (data.get("equipment") or {}).items():
+        for k in ("duty_W", "power_W", "dP_Pa"):
+            if k in e and e[k] is None:
+                problems.append(f"equipment.{name}.{k} = null (NaN)")
         for k, limit in (("mole_balance_closure", MOLE_CLOSURE),
                          ("energy_balance_closure", ENERGY_CLOSURE)):
             v = e.get(k)

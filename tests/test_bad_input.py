@@ -351,3 +351,11 @@ def test_sweep_too_many_cases_refused_before_solving(capsys):
 def test_state_gas_fraction_named_for_what_it_is(capsys, gas, needle):
     rc, out, err = run(capsys, "state", "--T", "10degC", "--P", "70barg", "--gas", gas)
     assert rc == 2 and needle in err and err.count("\n") == 1
+
+
+def test_implausibly_low_efficiency_refused(tmp_path, capsys):
+    # a compressor at 0.00075 (0.75 slipped) reported its discharge at 2000 K with exit 0 before
+    text = (ROOT / "flowsheets" / "propane-chiller.yaml").read_text().replace(
+        "efficiency: 0.75", "efficiency: 0.00075")
+    for line in refused(tmp_path, capsys, text):
+        assert "equipment.compressor.efficiency:" in line and "below any real compressor" in line

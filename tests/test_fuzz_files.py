@@ -65,3 +65,14 @@ def test_the_judge_catches_what_it_looks_for():
     assert fuzz.judge(("solve",), 3, "", "letdown: internal error: KeyError", None)
     assert fuzz.judge(("check",), 2, "", "letdown: a\nb\n", None)
     assert fuzz.judge(("check",), 2, "", "letdown: x.yaml:3: gas: bad\n", None) == []
+
+
+def test_the_judge_reads_null_as_nan():
+    # the result JSON writes NaN as null: a stream without a temperature is a NaN answer
+    fuzz = _fuzz()
+    base = ('{"converged": true, "streams": {"a": {"T_K": 280.0, "P_Pa": 1e6, "flow_mol_s": 1.0}},'
+            ' "equipment": {"b": {"duty_W": 5.0, "mole_balance_closure": 0.0, '
+            '"energy_balance_closure": 0.0}}}')
+    assert fuzz.judge_json(base) == []
+    assert fuzz.judge_json(base.replace("280.0", "null"))
+    assert fuzz.judge_json(base.replace('"duty_W": 5.0', '"duty_W": null'))

@@ -109,6 +109,11 @@ MAX_LOOP_TOLERANCE = 0.1
 MAX_DEPTH = 64
 MAX_NODES = 200_000
 
+#: An efficiency below this is refused as a slip (0.75 written 0.00075, or 75 without '%'):
+#: water-bath heaters run about 0.5-0.8 and compressors and expanders 0.6-0.9 (common practice); a
+#: compressor at 0.00075 would heat its gas past any model's range [-] (our choice).
+EFFICIENCY_MIN = 0.1
+
 KINDS = tuple(PARAMETERS)
 MODELS = ("peng-robinson", "peng-robinson-1978", "soave-redlich-kwong", "gerg-2008")
 
@@ -648,6 +653,9 @@ def parameter_problem(kind: str, key: str, value: float, text) -> str | None:
         return f"{key} must be positive, got {text!r}"
     if key == "efficiency" and not 0.0 < value <= 1.0:
         return f"efficiency must lie in (0, 1], got {text!r}"
+    if key == "efficiency" and value < EFFICIENCY_MIN:
+        return (f"an efficiency of {text!r} is below any real {kind}'s ({EFFICIENCY_MIN:g}); "
+                f"a slip of digits?")
     return None
 
 
