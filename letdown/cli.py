@@ -166,6 +166,13 @@ def main(argv=None) -> int:
     """Run the command line; return the exit code (the console script exits with it)."""
     argv = list(sys.argv[1:] if argv is None else argv)
     debug = "--debug" in argv
+    if not argv:                   # a bare 'letdown': the usage and the verbs
+        _parser().print_help()
+        return EXIT_OK
+    if argv == ["--version"]:
+        from ._version import __version__
+        print(f"letdown {__version__}")
+        return EXIT_OK
     try:
         args = _parser().parse_args(argv)
     except _ArgumentError as exc:

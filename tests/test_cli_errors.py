@@ -187,3 +187,14 @@ solver: {loop_max_iterations: 2}
 """
     line = solve_bad(tmp_path, capsys, text, expect_rc=1)
     assert "did not converge in 2 iterations" in line and "tears: back" in line
+
+
+def test_bare_command_prints_the_usage_and_version_is_named(capsys):
+    # issue 15, small things people expect: 'letdown' alone shows the verbs; --version the version
+    from letdown import __version__
+    from letdown.cli import main
+    assert main([]) == 0
+    out = capsys.readouterr().out
+    assert out.startswith("usage: letdown") and "solve" in out and "size" in out
+    assert main(["--version"]) == 0
+    assert capsys.readouterr().out.strip() == f"letdown {__version__}"
