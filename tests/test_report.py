@@ -131,3 +131,20 @@ def test_real_gate_station_report():
     assert r["Pressure [barg]"] == (pytest.approx(64.0), pytest.approx(63.7), pytest.approx(17.0))
     assert r["Standard gas flow [Sm3/h]"][0] == pytest.approx(85000.0, rel=1e-12)
     assert "preheat" in text and ": met" in text
+
+
+def test_warnings_are_rendered_in_the_display_units():
+    # issue 10: a warning is rendered in the display units of the report; the numbers are checked
+    # against the unit definitions (degF = degC * 1.8 + 32; 1 K = 1.8 delta_degF; 1 psi =
+    # 6894.757 Pa, NIST SP 811)
+    from letdown.report.text import display_text, warnings_text
+    text = "hydrate margin -18.11 K: -2.84 degC against 15.27 degC at 41.01 bar (17.00 barg)"
+    assert display_text(text, "si") == text
+    field = display_text(text, "field")
+    assert "-32.60 delta_degF" in field and "26.89 degF" in field and "59.49 degF" in field
+    assert "594.8 psia" in field and "246.6 psig" in field
+    assert "degC" not in field and " bar" not in field
+    # absolute temperatures in K stay in K; numbers inside names are left alone
+    assert display_text("T_out 283.15 K on stream-2 K1", "field") == "T_out 283.15 K on stream-2 K1"
+    result = {"warnings": [{"where": "network", "what": text, "severity": "hazard"}]}
+    assert "26.89 degF" in warnings_text(result, "field")

@@ -236,7 +236,7 @@ def test_json_contract():
     result = letdown.load(EXAMPLES / "gate-station.yaml").solve()
     data = json.loads(result.to_json())
     assert set(data) == {"title", "model", "converged", "failure", "streams", "equipment", "goals",
-                         "loops", "warnings", "freezing_basis"}
+                         "loops", "warnings", "freezing_basis", "caution"}
     assert data["converged"] is True and data["model"] == "peng-robinson"
     assert data["failure"] is None
     for stream in data["streams"].values():

@@ -19,7 +19,7 @@ from ..caution import CAUTION
 from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
 from .drawing import flowsheet_svg
 from .tables import Table, _cell_text, equipment_table, pick, stream_table
-from .text import SEVERITY_HEADINGS, conditions_text, margins_table
+from .text import SEVERITY_HEADINGS, conditions_text, display_text, margins_table
 
 #: The stream table's rows under our headings, by the row's quantity (the label before " [").
 STREAM_GROUPS = (
@@ -114,7 +114,7 @@ def _table_html(table: Table, groups=None, cls: str = "") -> str:
             + "".join(body) + "</tbody></table></div>")
 
 
-def _warnings_html(result) -> str:
+def _warnings_html(result, units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:
     groups: dict = {}
     for w in _get(result, "warnings", None) or ():
         sev = _get(w, "severity", None) or "check"
@@ -125,7 +125,8 @@ def _warnings_html(result) -> str:
     for sev in sorted(groups, key=lambda k: list(SEVERITY_HEADINGS).index(k)
                       if k in SEVERITY_HEADINGS else 99):
         items = "".join(f"<li><b>{escape(str(_get(w, 'where', '')))}</b>: "
-                        f"{escape(str(_get(w, 'what', '')))}</li>" for w in groups[sev])
+                        f"{escape(display_text(str(_get(w, 'what', '')), units, atmosphere))}</li>"
+                        for w in groups[sev])
         out.append(f'<h3 class="sev-{escape(sev)}">{escape(SEVERITY_HEADINGS.get(sev, sev))} '
                    f"({len(groups[sev])})</h3><ul class=\"warnings sev-{escape(sev)}\">{items}</ul>")
     return "".join(out)
@@ -224,7 +225,7 @@ def html_report(result, *, run: dict, input_text: str = "", units: str = "si",
         f'<div class="scroll"><table class="run">{run_rows}</table></div>',
         f'<p class="caution">{escape(CAUTION)}</p></header>',
         "<h2>Flowsheet</h2>", svg,
-        "<h2>Warnings</h2>", _warnings_html(result),
+        "<h2>Warnings</h2>", _warnings_html(result, units, atm),
         "<h2>Streams</h2>",
         _table_html(stream_table(result, units, atmosphere=atm), STREAM_GROUPS, "streams"),
     ]

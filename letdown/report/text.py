@@ -7,6 +7,7 @@ Goals, loops and warnings are read as in the JSON contract (``result.goals``: [{
 """
 from __future__ import annotations
 
+import re
 from typing import Mapping
 
 from ..caution import CAUTION
@@ -83,12 +84,59 @@ SEVERITY_HEADINGS = {"hazard": "Hazards (act before use)", "check": "Checks (ver
                      "note": "Notes"}
 
 
-def warnings_text(result) -> str:
-    """The warnings grouped by severity (hazards, checks, notes), one line each: where, what."""
+#: Quantities inside a warning's text (written in SI by the solver: degC, K differences, bar
+#: absolute, barg) that :func:`display_text` turns into the display units.
+_T_TEXT = re.compile(r"(?<![\w.])(-?\d+(?:\.\d+)?) degC\b")
+_DT_TEXT = re.compile(r"(?<![\w.])([+-]?\d+(?:\.\d+)?) K\b")
+_PA_TEXT = re.compile(r"(?<![\w.])(\d+(?:\.\d+)?) bar\b")
+_PG_TEXT = re.compile(r"(?<![\w.])(-?\d+(?:\.\d+)?) barg\b")
+#: A number of kelvin below this is a temperature difference (margins, approaches); above it, an
+#: absolute temperature, which stays in K (no display system hides it).
+DT_TEXT_MAX = 200.0
+
+
+def display_text(text: str, units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:
+    """A warning's text with its temperatures, differences and pressures in the display units.
+
+    The solver writes warnings in SI (degC, K differences, bar absolute, barg); ``si`` returns the
+    text as it is, ``field`` converts each quantity it recognises (degF, delta_degF, psia, psig).
+
+    >>> display_text("margin -2.00 K: -2.84 degC at 41.01 bar", "field")
+    'margin -3.60 delta_degF: 26.89 degF at 594.8 psia'
+    """
+    if units == "si":
+        return text
+    u = unit_system(units, atmosphere)
+    psi = u["dP"].scale                       # psi per Pa
+
+    def temp(m):
+        x = float(m.group(1)) + 273.15
+        return f"{u['T'](x):.2f} {u['T'].label}"
+
+    def diff(m):
+        x = float(m.group(1))
+        if abs(x) >= DT_TEXT_MAX:
+            return m.group(0)
+        sign = "+" if m.group(1).startswith("+") else ""
+        return f"{sign}{u['dT'](x):.2f} {u['dT'].label}"
+
+    def absolute(m):
+        return f"{float(m.group(1)) * 1e5 * psi:.1f} psia"
+
+    def gauge(m):
+        return f"{u['P'](float(m.group(1)) * 1e5 + atmosphere):.1f} {u['P'].label}"
+    for pattern, fn in ((_T_TEXT, temp), (_DT_TEXT, diff), (_PG_TEXT, gauge), (_PA_TEXT, absolute)):
+        text = pattern.sub(fn, text)
+    return text
+
+
+def warnings_text(result, units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE) -> str:
+    """The warnings grouped by severity (hazards, checks, notes), one line each: where, what (its
+    quantities in the display units, :func:`display_text`)."""
     groups: dict = {}
     for w in _get(result, "warnings", None) or ():
         where = _get(w, "where", "")
-        what = _get(w, "what", w if isinstance(w, str) else "")
+        what = display_text(_get(w, "what", w if isinstance(w, str) else ""), units, atmosphere)
         severity = _get(w, "severity", None) or "check"
         groups.setdefault(severity, []).append(f"    {where}: {what}" if where else f"    {what}")
     lines = []
@@ -256,7 +304,7 @@ def report_text(result, units: str = "si", *, case: int = 0, atmosphere: float |
     if basis:
         parts.append(basis)
     for section in (dew_points_text(result, units, atm), loops_text(result),
-                    goals_text(result, units, atm), warnings_text(result)):
+                    goals_text(result, units, atm), warnings_text(result, units, atm)):
         if section:
             parts.append(section)
     parts.append(conditions_text(units, atm))

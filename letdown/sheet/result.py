@@ -22,6 +22,7 @@ from typing import Any, Mapping
 import numpy as np
 
 from ..equipment import StreamBatch, closures
+from ..caution import CAUTION
 from ..errors import ConvergenceError
 from ..fluid.inhibitor import INHIBITORS
 from ..fluid.water import M_WATER
@@ -545,6 +546,7 @@ class Result:
     goals : list of dict  {"hold", "target", "achieved", "by", "value", "met", "iterations"}
     loops : list of dict  {"blocks", "tears", "iterations", "residual", "residual_history"}
     warnings : list of dict  {"where", "what", "kind", "severity", "numbers"}, most severe first
+    (the JSON also carries ``caution``: engineering estimates, local codes, qualified staff)
     failure : str or None  why the case failed (None when it was solved); its numbers are then null
     freezing_basis : dict or None  what the freezing checks assumed (``hydrate_margin_K`` and its
         source, the water, what the hydrate and ice limits assume, ``min_T_K``,
@@ -572,6 +574,8 @@ class Result:
                "warnings": [dict(w) for w in self.warnings]}
         if self.freezing_basis is not None:
             out["freezing_basis"] = dict(self.freezing_basis)
+        # the figures size heaters and judge freezing: the caution goes with them
+        out["caution"] = CAUTION
         return out
 
     def to_json(self, indent: int | None = 2) -> str:
