@@ -42,6 +42,10 @@ LOOSE_UNTIL_STEP = 0.05
 #: A P-h (P-s) answer must meet its target to the enthalpy (entropy) of this temperature error [K]
 #: at the local slope; a bracket that closes with a larger residual marks the case unconverged.
 PH_RESIDUAL_K = 1e-6
+#: A pure fluid's single-phase P-h (P-s) answer must meet its target to the enthalpy (entropy) of
+#: this temperature error [K]; looser than PH_RESIDUAL_K, since its Newton loop stops on the step
+#: (PH_TOL_T), but far below anything a report shows.
+PURE_RESIDUAL_K = 1e-5
 SAT_BISECTIONS = 48
 #: Temperature step of the forward difference that gives the slope on a first two-phase P-h
 #: iterate [K].
@@ -648,6 +652,11 @@ class CubicEngine:
                 Tn = np.where(bad, _bisect(lo, hi, Ti, f), Tn)
                 ok = ok | (np.abs(Tn - Ti) < fl.PH_TOL_T)
                 Ti = np.where(ok, Ti, Tn)
+            # a step that stopped moving is an answer only where it meets the target: a target
+            # beyond the bracket (h far above any state up to T_HIGH) ends pinned at the bound
+            ph = self._phase(Ti, P[i], zs[i], code)
+            slope = ph["cp"] if which == "h" else ph["cp"] / Ti
+            ok &= np.abs(ph[which] - target[i]) <= PURE_RESIDUAL_K * np.abs(slope)
             T[i] = Ti
             conv[i] = ok
             beta[i] = np.where(code < 0, 0.0, 1.0)
