@@ -126,7 +126,8 @@ def _replace_match(text, rng, regex, choices, what, group=0):
     new = rng.choice(choices)
     a, b = m.span(group)
     line = text.count("\n", 0, a) + 1
-    return text[:a] + new + text[b:], f"{what} {m.group(group)!r} -> {new!r} on line {line}"
+    shown = new if len(new) <= 40 else f"{new[:12]}... ({len(new)} characters)"
+    return text[:a] + new + text[b:], f"{what} {m.group(group)!r} -> {shown!r} on line {line}"
 
 
 def number(text, rng):

@@ -76,3 +76,43 @@ def test_the_judge_reads_null_as_nan():
     assert fuzz.judge_json(base) == []
     assert fuzz.judge_json(base.replace("280.0", "null"))
     assert fuzz.judge_json(base.replace('"duty_W": 5.0', '"duty_W": null'))
+
+
+def test_mutated_profile_and_measurement_csvs_are_read_or_refused_with_a_line(tmp_path):
+    # the same mutations on the year profile and the --data measurement CSV: each file is read
+    # (every profile value finite, every flow positive) or refused with its line, never a bug
+    import random
+
+    import numpy as np
+
+    from letdown.errors import InputError
+    from letdown.sheet.loader import load
+    from letdown.sheet.measurements import read_csv
+    from letdown.study.year import read_profile
+    fuzz = _fuzz()
+    fs = load(ROOT / "flowsheets" / "fired-gate-station.yaml")
+    profile = "".join((ROOT / "flowsheets" / "profiles" / "harrowfield-2026.csv")
+                      .read_text().splitlines(keepends=True)[:20])
+    data = (ROOT / "flowsheets" / "fired-gate-station-readings.csv").read_text()
+    rng = random.Random(SEED)
+    target = tmp_path / "mutant.csv"
+    outcomes = set()
+    for which, base in (("profile", profile), ("data", data)):
+        for _ in range(150):
+            content, what = fuzz.mutate(base, rng)
+            if isinstance(content, bytes):
+                target.write_bytes(content)
+            else:
+                target.write_text(content, encoding="utf-8", errors="surrogatepass")
+            try:
+                if which == "profile":
+                    p = read_profile(target)
+                    assert all(np.all(np.isfinite(v)) for v in p.values.values()), what
+                    assert np.all(p.values["flow"] > 0.0), what
+                else:
+                    read_csv(target, fs)
+                outcomes.add((which, "read"))
+            except InputError as exc:
+                assert exc.line is not None and exc.file == str(target), (what, str(exc))
+                outcomes.add((which, "refused"))
+    assert len(outcomes) == 4                 # both files both read and refused
