@@ -18,7 +18,7 @@ from html import escape
 from ..caution import CAUTION
 from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
 from .drawing import flowsheet_svg
-from .tables import Table, _cell_text, equipment_table, pick, stream_table
+from .tables import Table, _cell_text, _get, equipment_table, pick, stream_table
 from .text import SEVERITY_HEADINGS, conditions_text, display_text, margins_table
 
 #: The stream table's rows under our headings, by the row's quantity (the label before " [").
@@ -67,12 +67,6 @@ pre.input { background: var(--band); padding: 8px; overflow-x: auto; font-size: 
   h2 { break-after: avoid; } table, svg.flowsheet { break-inside: avoid; } pre.input { white-space: pre-wrap; } }
 @page { margin: 14mm; }
 """
-
-
-def _get(obj, name, default=None):
-    if isinstance(obj, dict):
-        return obj.get(name, default)
-    return getattr(obj, name, default)
 
 
 def _table_html(table: Table, groups=None, cls: str = "") -> str:
@@ -132,7 +126,7 @@ def _warnings_html(result, units: str = "si", atmosphere: float = STANDARD_ATMOS
     return "".join(out)
 
 
-def _goals_loops_html(result, u) -> str:
+def _goals_loops_html(result) -> str:
     out = []
     goals = _get(result, "goals", None) or ()
     if goals:
@@ -233,7 +227,7 @@ def html_report(result, *, run: dict, input_text: str = "", units: str = "si",
         parts += ["<h3>Water and hydrates</h3>", _table_html(margins, None, "margins")]
     parts += ["<h2>Equipment</h2>",
               _table_html(equipment_table(result, units, atmosphere=atm), None, "equipment")]
-    gl = _goals_loops_html(result, u)
+    gl = _goals_loops_html(result)
     if gl:
         parts += ["<h2>Goals and loops</h2>", gl]
     parts += [f"<h2>Reference conditions</h2><p>{escape(conditions_text(units, atm))}</p>",

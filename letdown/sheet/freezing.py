@@ -862,8 +862,12 @@ def _hydrate_Ts(fluid, P, zs, aw=None, xm=None) -> tuple:
     inhibited = has & (aw < 1.0) & np.isfinite(aw)
     if xm is not None and inhibited.any():
         xw, xmi = aw[inhibited], np.asarray(xm, float)[inhibited]
+        # each distinct row once, as for the hydrate temperatures below
+        rows = np.column_stack([P[inhibited], xw, xmi, np.asarray(zs)[inhibited]])
+        uniq, back = np.unique(rows, axis=0, return_inverse=True)
         try:
-            T_fix = solution_hydrate_T(fluid, P[inhibited], xw, xmi, zs=np.asarray(zs)[inhibited])
+            T_fix = solution_hydrate_T(fluid, uniq[:, 0], uniq[:, 1], uniq[:, 2],
+                                       zs=uniq[:, 3:])[np.asarray(back).reshape(-1)]
         except ConvergenceError:
             T_fix = None
         if T_fix is not None:

@@ -21,8 +21,9 @@ from dataclasses import replace
 
 import numpy as np
 
-from ..errors import ConvergenceError, LetdownError
+from ..errors import ConvergenceError, LetdownError, ModelError
 from ..fluid.gerg import GERG_NAMES
+from ..fluid.gerg import _import as gerg_import
 from .result import BatchResult, WarningRecord
 
 #: The model for a file whose streams stay in one vapour-like phase and whose components GERG-2008
@@ -36,9 +37,10 @@ VAPOUR_LIKE = 1.0 - 1e-9
 
 
 def _gerg_available() -> bool:
+    """Whether the optional GERG-2008 engine (pyaga8) is installed (the engine's own import)."""
     try:
-        import pyaga8  # noqa: F401  (the optional GERG-2008 engine)
-    except ImportError:
+        gerg_import()
+    except ModelError:
         return False
     return True
 

@@ -493,7 +493,6 @@ def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = 
     owner = {}
     for j in sorted(range(ng), key=lambda j: -len(downs[j])):
         owner.update({s: j for s in downs[j]})
-    mine = [[s for s in downs[j] if owner[s] == j] for j in range(ng)]
     down = set(owner)
     # pass 2: every case at its targets; raise a target where a stream it owns is colder than its
     # own limit (secant steps on the largest shortfall, per case and sized heater)
