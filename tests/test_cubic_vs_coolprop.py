@@ -52,7 +52,12 @@ CO2 = Gas("carbon-dioxide", {"carbon-dioxide": 1.0}, "pure component")
 NATURAL_GASES = (GULF_COAST, AMARILLO, EKOFISK, HIGH_N2, HIGH_CO2)
 
 #: Tolerances of issue 2 ("What it must show").
-Z_REL_TOL = 2e-3          # Z within 0.2 %
+#: Z: the issue asked for 0.2 %, but the same equation with the same constants agrees far closer
+#: (max 1.33e-5 relative, PR Ekofisk, re-measured 2026-12-02; the rest is the rounded Omega_a,
+#: Omega_b and the ethane/isobutane/hexane constants listed above). 3e-5 guards that agreement: a
+#: wrong mixing rule, a kij of 0.01 left on or a volume shift applied would each move Z by 1e-4 or
+#: more.
+Z_REL_TOL = 3e-5
 T_OUT_TOL = 0.1           # [K] isenthalpic outlet temperature
 #: Residual part only (same ideal gas on both sides): what is left is the rounded Omega_a/Omega_b
 #: and the few differing constants, 0.0027 K at most when written; 0.005 K leaves room for neither a

@@ -2,7 +2,7 @@
 follow-up).
 
 Every reference number here is recomputed in the test from other routes -- the three-phase PT flash
-(``Fluid.flash3``), single-phase flashes of each phase's composition, the two-phase kernels of
+(``Fluid.flash_three_phase``), single-phase flashes of each phase's composition, the two-phase kernels of
 :mod:`letdown.fluid.flash` -- never copied from a run. The gases are invented for the tests.
 """
 import numpy as np
@@ -35,7 +35,7 @@ INVERT_K = 1e-6
 
 
 def _phase_sum(gas, T, P, res):
-    """h, s and molar volume of the whole from flash3's phases, each phase flashed on its own."""
+    """h, s and molar volume of the whole from flash_three_phase's phases, each phase flashed on its own."""
     h = np.zeros(T.size)
     s = np.zeros(T.size)
     v = np.zeros(T.size)
@@ -53,7 +53,7 @@ def _phase_sum(gas, T, P, res):
 def test_pt_flash_of_wet_gas_is_the_three_phase_equilibrium(comp):
     gas = letdown.Fluid(comp)
     st = gas.flash(T=LTS_T, P=LTS_P)
-    res = gas.flash3(LTS_T, LTS_P)
+    res = gas.flash_three_phase(LTS_T, LTS_P)
     assert np.all(res.n_phases == 3)
     np.testing.assert_array_equal(st.n_phases, res.n_phases)
     h, s, v = _phase_sum(gas, LTS_T, LTS_P, res)
@@ -74,7 +74,7 @@ def test_pt_flash_of_wet_gas_is_the_three_phase_equilibrium(comp):
                                np.tile(gas.zs, (LTS_T.size, 1)), rtol=0.0, atol=1e-10)
     # the effective heat capacity is (dh/dT)_P along the three-phase equilibrium
     dT = 0.01
-    res2 = gas.flash3(LTS_T + dT, LTS_P)
+    res2 = gas.flash_three_phase(LTS_T + dT, LTS_P)
     h2, _, _ = _phase_sum(gas, LTS_T + dT, LTS_P, res2)
     np.testing.assert_allclose(st.cp, (h2 - h) / dT, rtol=1e-5)
 
@@ -82,7 +82,7 @@ def test_pt_flash_of_wet_gas_is_the_three_phase_equilibrium(comp):
 def test_scalar_wet_state_counts_three_phases_and_lumps_the_liquids():
     gas = letdown.Fluid(RICH)
     one = gas.flash(T=260.0, P=50e5)
-    res = gas.flash3(260.0, 50e5)
+    res = gas.flash_three_phase(260.0, 50e5)
     assert one.n_phases == 3
     assert [p.name for p in one.phases] == ["vapour", "liquid"]
     assert one.aqueous_fraction == pytest.approx(float(res.beta_W[0]), rel=1e-15)
@@ -115,8 +115,8 @@ def test_throttle_of_wet_gas_is_not_the_two_phase_answer():
     inlet = gas.flash(T=np.array([278.15]), P=np.array([71.01325e5]))
     P = np.array([41.01325e5])
     out = gas.flash(P=P, h=inlet.h)
-    # the equilibrium at the answer: flash3's phases, each flashed on its own, give its enthalpy
-    res = gas.flash3(out.T, P)
+    # the equilibrium at the answer: flash_three_phase's phases, each flashed on its own, give its enthalpy
+    res = gas.flash_three_phase(out.T, P)
     assert res.n_phases[0] == 3
     h, _, _ = _phase_sum(gas, out.T, P, res)
     assert abs(h[0] - inlet.h[0]) <= PX_H_TOL
@@ -125,7 +125,7 @@ def test_throttle_of_wet_gas_is_not_the_two_phase_answer():
     T2 = eng._flash_P_X_two(P, inlet.h, inlet.zs, "h", None).T
     split = fl.flash_PT(eng.eos, T2, P, inlet.zs)
     assert split.n_phases[0] == 2
-    res2 = gas.flash3(T2, P)
+    res2 = gas.flash_three_phase(T2, P)
     assert res2.n_phases[0] == 3                     # that two-phase state is not stable
     assert abs(out.T[0] - T2[0]) > 1.0
 
@@ -185,8 +185,8 @@ def test_lts3_throttle_outlet_is_the_drum_temperature():
     assert st.n_phases[0] == 3
     # both solve the same three-phase enthalpy balance to PX_H_TOL: they agree to that over cp
     assert abs(drum.T - cold.T) <= 2.0 * PX_H_TOL / st.cp[0]
-    # and the throttle outlet's enthalpy is the chiller outlet's, by flash3's phases
-    r3 = gas.flash3(np.array([cold.T]), np.array([cold.P]))
+    # and the throttle outlet's enthalpy is the chiller outlet's, by flash_three_phase's phases
+    r3 = gas.flash_three_phase(np.array([cold.T]), np.array([cold.P]))
     h, _, _ = _phase_sum(gas, np.array([cold.T]), np.array([cold.P]), r3)
     assert abs(h[0] - res.streams["chilled"].h) <= PX_H_TOL
     assert abs(res.equipment["lts"]["dT_vs_two_phase_K"]) <= 2.0 * PX_H_TOL / st.cp[0]
@@ -218,11 +218,11 @@ def test_hydrocarbon_liquid_beside_much_water_is_found():
     gas = letdown.Fluid({"water": 0.5, "n-hexane": 0.3, "methane": 0.2})
     eos = gas.engine.eos
     T, P = 343.15, 6.4e5
-    res = gas.flash3(T, P)
+    res = gas.flash_three_phase(T, P)
     assert res.n_phases[0] == 3
     three = _gibbs(eos, T, P, [(res.beta_V[0], res.y[0]), (res.beta_L[0], res.x[0]),
                                (res.beta_W[0], res.w[0])])
-    # the vapour + water split (from the two-phase kernel, K-values of flash3's V and W) is higher
+    # the vapour + water split (from the two-phase kernel, K-values of flash_three_phase's V and W) is higher
     tp2 = fl.two_phase_flash(eos, np.array([T]), np.array([P]), gas.zs[None, :],
                              (res.y[0] / res.w[0])[None, :])
     assert tp2.report.converged[0] and 0.0 < tp2.beta[0] < 1.0

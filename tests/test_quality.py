@@ -29,12 +29,29 @@ def test_net_value_is_gross_less_the_water_formed():
     assert h2.net_molar == pytest.approx((286.15 - 44.431) * 1e3, abs=1e-6)
 
 
-def test_wobbe_and_relative_density_definitions():
-    q = letdown.Fluid(EXAMPLE_1).quality()
-    # G = (M / M_air)(Z_air / Z), W = H_v / sqrt(G) (ISO 6976:2016 clause 7)
-    G = (q.molar_mass / 28.96546e-3) * (0.999595 / q.Z)
-    assert q.relative_density == pytest.approx(G, rel=1e-15)
-    assert q.wobbe_gross == pytest.approx(q.gross_volumetric / np.sqrt(G), rel=1e-15)
+#: ISO 6976:2016 Annex D, example 3 (clause D.4): an 11-component gas with its printed net values,
+#: density, relative density and Wobbe indices at 15/15 degC (D.4.3.1) and 25/0 degC (D.4.4.1).
+#: Values as transcribed from the standard in the test file of an open-source ISO 6976
+#: implementation (read 2026-12-02); they replace a test that recomputed the Wobbe and relative
+#: density formulas with this module's own constants.
+EXAMPLE_3 = {"methane": 0.922393, "ethane": 0.025358, "propane": 0.015190, "n-butane": 0.000523,
+             "isobutane": 0.001512, "n-pentane": 0.002846, "isopentane": 0.002832,
+             "neopentane": 0.001015, "n-hexane": 0.002865, "nitrogen": 0.010230,
+             "carbon-dioxide": 0.015236}
+#: (combustion T, metering T) -> Hv gross, Hv net [MJ/m3], density [kg/m3], G [-], W gross, W net
+#: [MJ/m3], printed to five decimals.
+EXAMPLE_3_PRINTED = {(288.15, 288.15): (39.73351, 35.86811, 0.76462, 0.62391, 50.30318, 45.40954),
+                     (298.15, 273.15): (41.89360, 37.85228, 0.80701, 0.62411, 53.02930, 47.91376)}
+
+
+@pytest.mark.parametrize("temps", sorted(EXAMPLE_3_PRINTED))
+def test_iso_6976_annex_d_example_3_wobbe_and_relative_density(temps):
+    q = letdown.Fluid(EXAMPLE_3).quality(combustion_T=temps[0], metering_T=temps[1])
+    got = (q.gross_volumetric / 1e6, q.net_volumetric / 1e6, q.density, q.relative_density,
+           q.wobbe_gross / 1e6, q.wobbe_net / 1e6)
+    for name, g, printed in zip(("Hv gross", "Hv net", "D", "G", "W gross", "W net"), got,
+                                EXAMPLE_3_PRINTED[temps]):
+        assert round(g, 5) == printed, (name, g, printed)
     assert q.wobbe_net < q.wobbe_gross
 
 

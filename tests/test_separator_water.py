@@ -291,7 +291,7 @@ def test_three_phase_drum_temperature_solves_the_enthalpy(drum3):
     P = np.asarray(s["gas"].P)
     F = np.asarray(s["cold"].flow)
     # the three-phase flash at the drum's T and P, by the public route
-    res = gas.flash3(T, P, zs=np.asarray(s["cold"].zs))
+    res = gas.flash_three_phase(T, P, zs=np.asarray(s["cold"].zs))
     for k, beta, x in (("gas", res.beta_V, res.y), ("condensate", res.beta_L, res.x),
                        ("free-water", res.beta_W, res.w)):
         np.testing.assert_allclose(np.asarray(s[k].flow), beta * F, rtol=1e-9)
@@ -373,7 +373,7 @@ def test_three_phase_drum_sends_single_phases_by_their_names():
     out = separator.run(gas, "drum", {"in": inlet}, {})
     assert out.outlets["vapour"].flow[0] == pytest.approx(10.0, rel=1e-14)
     assert out.outlets["water"].flow[0] == 0.0
-    res = gas.flash3(out.outlets["vapour"].T[1:], 50e5)
+    res = gas.flash_three_phase(out.outlets["vapour"].T[1:], 50e5)
     assert out.outlets["water"].flow[1] == pytest.approx(10.0 * res.beta_W[0], rel=1e-9)
     assert out.outlets["water"].flow[1] > 0.0
     assert np.all(out.energy_closure < 1e-8) and np.all(out.mole_closure < 1e-12)

@@ -24,7 +24,7 @@ LTS_P = np.array([70e5, 50e5, 60e5, 40e5])
 @pytest.fixture(scope="module")
 def rich():
     f = Fluid(RICH)
-    return f, f.flash3(LTS_T, LTS_P)
+    return f, f.flash_three_phase(LTS_T, LTS_P)
 
 
 def _phases(r, i):
@@ -111,7 +111,7 @@ def test_hot_wet_methane_water_content_within_ten_percent():
     # hot (350 K, where even the Soave alpha was only 7 % low), the vapour of a
     # methane + water flash is within 10 % of letdown.fluid.water's EOS route
     f = Fluid({"methane": 0.5, "water": 0.5})
-    r = f.flash3(np.array([350.0]), np.array([100e5]))
+    r = f.flash_three_phase(np.array([350.0]), np.array([100e5]))
     y_route = water_content_eos(f, 350.0, 100e5, zs=np.array([1.0, 0.0]))
     assert r.n_phases[0] == 2 and r.beta_L[0] == 0.0
     assert abs(r.y[0, 1] / y_route[0] - 1.0) < 0.10
@@ -120,7 +120,7 @@ def test_hot_wet_methane_water_content_within_ten_percent():
 def test_dry_gas_has_no_aqueous_phase():
     f = Fluid({"methane": 0.85, "ethane": 0.07, "propane": 0.04, "n-butane": 0.02,
                "n-hexane": 0.005, "nitrogen": 0.015})
-    r = f.flash3(np.array([260.0, 250.0, 300.0]), np.array([50e5, 60e5, 70e5]))
+    r = f.flash_three_phase(np.array([260.0, 250.0, 300.0]), np.array([50e5, 60e5, 70e5]))
     assert np.all(r.beta_W == 0.0) and np.all(np.isnan(r.w))
     assert list(r.n_phases) == [2, 2, 1]
     assert np.all(r.beta_L[:2] > 0.0) and r.beta_V[2] == 1.0
@@ -130,7 +130,7 @@ def test_methane_and_water_give_vapour_and_aqueous():
     f = Fluid({"methane": 0.5, "water": 0.5})
     T = np.array([280.0, 300.0, 330.0])
     P = np.array([50e5, 70e5, 100e5])
-    r = f.flash3(T, P)
+    r = f.flash_three_phase(T, P)
     assert np.all(r.n_phases == 2)
     assert np.all(r.beta_L == 0.0) and np.all(np.isnan(r.x))
     assert np.all(r.beta_V > 0.49) and np.all(r.beta_W > 0.49)
@@ -143,15 +143,15 @@ def test_methane_and_water_give_vapour_and_aqueous():
 
 def test_wet_lean_gas_single_phase_when_undersaturated_and_scalar_inputs():
     f = Fluid({"methane": 0.9995, "water": 0.0005})
-    r = f.flash3(300.0, 50e5)          # saturated content at 300 K, 50 bar is ~8e-4
+    r = f.flash_three_phase(300.0, 50e5)          # saturated content at 300 K, 50 bar is ~8e-4
     assert r.n_phases[0] == 1 and r.beta_V[0] == 1.0 and r.beta_W[0] == 0.0
-    r = f.flash3(270.0, 50e5)          # ~1e-4 at 270 K: free water drops out
+    r = f.flash_three_phase(270.0, 50e5)          # ~1e-4 at 270 K: free water drops out
     assert r.n_phases[0] == 2 and 0.0 < r.beta_W[0] < 5e-4
 
 
 def test_gerg_refused():
     with pytest.raises(ModelError):
-        Fluid({"methane": 0.9, "water": 0.1}, model="gerg-2008").flash3(280.0, 50e5)
+        Fluid({"methane": 0.9, "water": 0.1}, model="gerg-2008").flash_three_phase(280.0, 50e5)
 
 
 def test_gas_solubility_in_water_is_a_stated_limit():
@@ -164,7 +164,7 @@ def test_gas_solubility_in_water_is_a_stated_limit():
     for comp in ("methane", "carbon-dioxide"):
         f = Fluid({comp: 0.5, "water": 0.5})
         T, P = np.array([298.15]), np.array([50e5])
-        r = f.flash3(T, P)
+        r = f.flash_three_phase(T, P)
         lnphi, _ = f.engine.eos.lnphi(T, P, r.y, "vapour")
         fugacity = r.y[0, 0] * np.exp(lnphi[0, 0]) * P[0]
         A, B = HENRY[comp]

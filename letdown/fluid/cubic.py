@@ -178,6 +178,10 @@ class CubicEOS:
         Symmetric binary interaction parameters [-].
     """
 
+    #: Newton polishing steps of every density root (:data:`ROOT_POLISH_STEPS`); the compiled
+    #: kernels read it from here, so the kernel driver needs no import of this module.
+    root_polish_steps = ROOT_POLISH_STEPS
+
     def __init__(self, comps: ComponentSet, kind: CubicKind, kijs: np.ndarray):
         self.comps = comps
         self.kind = kind

@@ -262,7 +262,7 @@ class Fluid:
             return one
         return st
 
-    def flash3(self, T, P, zs=None):
+    def flash_three_phase(self, T, P, zs=None):
         """Three-phase PT flash: vapour, hydrocarbon liquid and aqueous liquid (see
         :mod:`letdown.fluid.threephase` for the method and the model's limits for water).
 
@@ -299,7 +299,7 @@ class Fluid:
         Ta = np.broadcast_to(Ta, (n,)).copy()
         Pa = np.broadcast_to(Pa, (n,)).copy()
         if np.any(~np.isfinite(Ta)) or np.any(Ta <= 0) or np.any(~np.isfinite(Pa)) or np.any(Pa <= 0):
-            raise InputError("flash3 needs positive, finite temperatures and pressures")
+            raise InputError("flash_three_phase needs positive, finite temperatures and pressures")
         Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
         _check_composition(Zb, self.n_components)
         res = flash_PT_3(self._engine.eos, Ta, Pa, Zb)

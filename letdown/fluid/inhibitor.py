@@ -580,7 +580,7 @@ def _feed(pf, fluid, zs_dry, water_ratio, inh_ratio):
 
 def partition(fluid, T, P, zs_dry, water_ratio, inhibitor_ratio, pf=None) -> Partition:
     """Split water and inhibitor between vapour, hydrocarbon liquid and aqueous liquid by the
-    three-phase flash (:meth:`letdown.fluid.Fluid.flash3`) of the gas with its water and inhibitor.
+    three-phase flash (:meth:`letdown.fluid.Fluid.flash_three_phase`) of the gas with its water and inhibitor.
 
     Parameters
     ----------
@@ -626,7 +626,7 @@ def partition(fluid, T, P, zs_dry, water_ratio, inhibitor_ratio, pf=None) -> Par
     flash_inh = np.array(inh, float)
     flash_inh[:, j_meg] = 0.0
     Z, total = _feed(pf, fluid, zs_dry, w_in, flash_inh)
-    r = pf.flash3(np.broadcast_to(T, (n,)), np.broadcast_to(P, (n,)), Z)
+    r = pf.flash_three_phase(np.broadcast_to(T, (n,)), np.broadcast_to(P, (n,)), Z)
     names = list(pf.components)
     cols = [names.index(c) for c in INHIBITORS]
     iw = names.index("water")

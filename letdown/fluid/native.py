@@ -148,10 +148,9 @@ def _pack(eos):
     """Parameter block of one CubicEOS (cached per object; the EOS is immutable)."""
     par = _PACKS.get(eos)
     if par is None:
-        from .cubic import ROOT_POLISH_STEPS
         c = eos.comps
         head = np.zeros(_HEADER)
-        head[:5] = (R, eos.d1, eos.d2, ROOT_DISTINCT_REL, ROOT_POLISH_STEPS)
+        head[:5] = (R, eos.d1, eos.d2, ROOT_DISTINCT_REL, eos.root_polish_steps)
         par = np.ascontiguousarray(np.concatenate([
             head, eos.sqrt_ac, eos.ms, eos.sqrt_Tc, eos.bs, c.Tcs, c.Pcs, c.omegas,
             np.asarray(eos.omk, dtype=float).ravel(), eos.cs, eos.twu[:, 0], eos.twu[:, 1],

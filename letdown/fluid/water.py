@@ -136,11 +136,12 @@ def water_content_bukacek(T, P):
 def _fluid_with_water(fluid):
     if "water" in fluid.components:
         return fluid
-    from .fluid import Fluid
     comp = fluid.composition()
     comp["water"] = 0.0
     spec = fluid._kij_spec
-    return Fluid(comp, model=fluid.model if fluid.model != "gerg-2008" else "peng-robinson",
+    # The same class as the fluid given (a Fluid), built from its own constructor: no import of
+    # the core's public class from this module, which that class itself imports.
+    return type(fluid)(comp, model=fluid.model if fluid.model != "gerg-2008" else "peng-robinson",
                  kij=spec, volume_shift=fluid.volume_shift)
 
 

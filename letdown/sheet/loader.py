@@ -26,11 +26,9 @@ The graph checks (a stream produced twice, never produced, a feed nobody takes) 
 """
 from __future__ import annotations
 
-import codecs
 import difflib
 import json
 import math
-import re
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
@@ -42,6 +40,8 @@ from ..equipment.inject import MAX_DEPRESSION, options as inject_options
 from ..errors import InputError
 from ..fluid.inhibitor import inhibitor
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
+from .inputtext import _check_characters, _line_column, read_text
+from .kinds import EXACTLY_ONE, MASS_RATE, PARAMETERS  # noqa: F401 (re-exported)
 from .spec import (BlockSpec, CaseSpec, FeedSpec, Flowsheet, GasSpec, GoalSpec, SolverSpec,
                    WaterSpec, Where)
 
@@ -52,38 +52,6 @@ SUM_TOLERANCE = 1e-6
 #: Splitter fractions without a ``rest`` must sum to 1 within this [-] (decimal rounding only; the
 #: same limit as the splitter block, :data:`letdown.equipment.splitter.SUM_TOLERANCE`).
 SPLIT_SUM_TOLERANCE = 1e-9
-
-#: A mass flow kept in kg/s (an inhibitor's rate), not turned into a molar flow of the gas: a
-#: quantity kind of this loader only, parsed as a ``flow`` that must be given by mass.
-MASS_RATE = "mass_rate"
-
-#: Block kinds and, for each, its numeric parameters and their quantity kinds
-#: (see :mod:`letdown.quantities`). The schema documents the same set.
-PARAMETERS: dict[str, dict[str, str]] = {
-    "throttle": {"P_out": "pressure", "dP": "pressure_difference"},
-    "heater": {"T_out": "temperature", "duty": "power", "fuel": "power",
-               "efficiency": "fraction", "dP": "pressure_difference"},
-    "cooler": {"T_out": "temperature", "duty": "power", "dP": "pressure_difference"},
-    "separator": {"dP": "pressure_difference"},
-    "compressor": {"P_out": "pressure", "efficiency": "fraction"},
-    "expander": {"P_out": "pressure", "efficiency": "fraction"},
-    "mixer": {"P_out": "pressure"},
-    "splitter": {},
-    "exchanger": {"hot_T_out": "temperature", "cold_T_out": "temperature", "duty": "power",
-                  "min_approach": "temperature_difference", "UA": "ua",
-                  "hot_dP": "pressure_difference", "cold_dP": "pressure_difference"},
-    "inject": {"rate": "mass_rate", "depression": "temperature_difference"},
-}
-
-#: For each kind, groups of alternative specifications of which exactly one must be given
-#: (in the file or as the parameter a goal varies).
-EXACTLY_ONE: dict[str, tuple[tuple[str, ...], ...]] = {
-    "throttle": (("P_out", "dP"),),
-    "heater": (("T_out", "duty", "fuel"),),
-    "cooler": (("T_out", "duty"),),
-    "exchanger": (("hot_T_out", "cold_T_out", "duty", "min_approach", "UA"),),
-    "inject": (("rate", "depression"),),
-}
 
 #: Quantities a goal may hold: on a stream, and on a block.
 STREAM_GOAL_ATTRIBUTES = {"T": "temperature", "P": "pressure", "vapour_fraction": "fraction",
@@ -163,72 +131,6 @@ def _dotted(path) -> str | None:
     for p in path:
         out += f"[{p}]" if isinstance(p, int) else (f".{p}" if out else str(p))
     return out or None
-
-
-#: Characters a flowsheet may hold: those YAML 1.1 allows (tab, line breaks, printable Unicode),
-#: less NEL (U+0085) and the line and paragraph separators (U+2028, U+2029), which YAML reads as
-#: line breaks that no editor shows.
-_BAD_CHARACTER = re.compile("[^\t\n\r\x20-\x7e\xa0-\u2027\u202a-\ud7ff\ue000-\ufffd"
-                            "\U00010000-\U0010ffff]")
-
-
-def _line_column(text, pos):
-    """1-based line and column of character ``pos`` of ``text``."""
-    return text.count("\n", 0, pos) + 1, pos - (text.rfind("\n", 0, pos) + 1) + 1
-
-
-def _check_characters(text: str, file: str, what: str = "a flowsheet file") -> None:
-    """Refuse control characters (NUL, escape, form feed, ...) with their line and column."""
-    m = _BAD_CHARACTER.search(text)
-    if m is None:
-        return
-    line, column = _line_column(text, m.start())
-    code = ord(m.group())
-    kind = "a control character" if code < 0x20 or 0x7f <= code <= 0x9f else "a character"
-    raise InputError(f"{kind} U+{code:04X} at column {column} does not belong in {what} "
-                     f"(remove it; a stray byte from a copy or a transfer)", file=file, line=line)
-
-
-def decode(raw: bytes, file: str) -> str:
-    """The text of a flowsheet or CSV file: UTF-8 (with or without a byte-order mark).
-
-    Raises
-    ------
-    InputError
-        A UTF-16 or UTF-32 file (some editors save so), or a byte that is not UTF-8, with its line.
-    """
-    if raw.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE, codecs.BOM_UTF32_BE)):
-        raise InputError("the file is UTF-16 or UTF-32 text; save it as UTF-8", file=file, line=1)
-    try:
-        return raw.decode("utf-8-sig")
-    except UnicodeDecodeError as exc:
-        line = raw.count(b"\n", 0, exc.start) + 1
-        column = exc.start - (raw.rfind(b"\n", 0, exc.start) + 1) + 1
-        raise InputError(f"byte 0x{raw[exc.start]:02x} at column {column} is not UTF-8 text "
-                         f"(save the file as UTF-8)", file=file, line=line) from None
-
-
-def read_text(path, what: str = "a flowsheet file", field: str | None = None) -> str:
-    """The text of an input file (flowsheet, profile or measurement CSV): UTF-8, no control
-    characters.
-
-    Raises
-    ------
-    InputError
-        A missing or unreadable file, a byte that is not UTF-8 or a control character (with its
-        line).
-    """
-    name = str(path)
-    try:
-        raw = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise InputError("no such file", file=name, field=field) from None
-    except OSError as exc:
-        raise InputError(f"cannot read the file: {exc.strerror or exc}", file=name,
-                         field=field) from None
-    text = decode(raw, name)
-    _check_characters(text, name, what)
-    return text
 
 
 def _read_yaml(text: str, file: str) -> _Doc:

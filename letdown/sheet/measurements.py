@@ -36,6 +36,8 @@ from dataclasses import replace
 
 from ..errors import InputError
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
+from .inputtext import read_text
+from .kinds import PARAMETERS
 from .spec import Flowsheet, MeasurementSpec, Where
 
 #: Stream quantities that may be measured, with their quantity kinds (:mod:`letdown.quantities`).
@@ -184,7 +186,6 @@ def read_csv(path, fs: Flowsheet) -> tuple:
     InputError
         An unreadable file, a missing or unknown column, or a bad entry (file, line, field).
     """
-    from .loader import read_text
     name = str(path)
     text = read_text(path, "a measurement file", field="--data")
     reader = csv.reader(io.StringIO(text))
@@ -259,7 +260,6 @@ def parse_fit(fs: Flowsheet, parameter: str, within) -> tuple[str, tuple]:
         An unknown block or parameter (field ``--fit``), a bracket end of the wrong unit
         (field ``--within``).
     """
-    from .loader import PARAMETERS
     block, _, name = parameter.partition(".")
     if block not in fs.blocks:
         raise InputError(f"unknown block '{block}'{_nearest(block, fs.blocks)} (write "

@@ -78,7 +78,7 @@ def read_profile(path, atmosphere=None) -> Profile:
         or unit, a row with the wrong number of columns or none, a value that is not a number or not
         plausible, a flow that is zero or negative (file, line and column named).
     """
-    from ..sheet.loader import read_text
+    from ..sheet.inputtext import read_text
     file = str(path)
     lines = read_text(path, "a profile", field="--profile").splitlines()
     try:
