@@ -588,3 +588,73 @@ def test_random_batches_are_refused_per_case_or_balanced():
         for values in outcome.flags.values():
             assert np.asarray(values).shape == (n,)
     assert seen["refused"] >= 10 and seen["solved"] >= 10, seen
+
+
+# ---------------------------------------------------------------------------------------------
+# a duty or fuel beyond the model's range is the block's parameter at fault (fuzz find
+# bench/fuzz-finds/heater-fuel-beyond-range.yaml: it failed as "stream 'warm': the flash did not
+# converge", naming no block or line)
+# ---------------------------------------------------------------------------------------------
+FIND = Path(__file__).resolve().parent.parent / "bench" / "fuzz-finds" / "heater-fuel-beyond-range.yaml"
+
+
+def test_fuel_beyond_the_model_range_names_the_heater_and_its_line():
+    text = FIND.read_text()
+    with pytest.raises(InputError) as err:
+        solve(loads(text, source=str(FIND)))
+    e = err.value
+    assert e.field == "equipment.preheat.fuel"
+    assert e.line == next(k for k, row in enumerate(text.splitlines(), 1) if "preheat:" in row)
+    assert "2000 K" in str(e) and "flow" in str(e)
+
+
+def test_duty_beyond_range_is_refused_only_in_its_own_cases():
+    """A batch: the sane duty solves, the absurd one is refused alone (non-strict batch)."""
+    text = FIND.read_text().replace("fuel: 1300 kW, efficiency: 0.80", "duty: 1000 kW")
+    text = text.replace("flow: 85 Sm3/h", "flow: 85000 Sm3/h")
+    fs = loads(text, source=str(FIND))
+    flows = np.array([85000.0, 85.0]) / 3600.0 * 101325.0 / (8.314462618 * 288.15)
+    res = solve_cases(fs, {"supply.flow": flows}, strict=False)
+    assert res.converged.tolist() == [True, False]
+    assert "preheat" in res.failures[1] and "duty" in res.failures[1]
+
+
+# ---------------------------------------------------------------------------------------------
+# hot gas is vapour; a loop that runs off the model's range stops and says so (fuzz find
+# bench/fuzz-finds/cold-separation-loop-iterate-1e302.yaml: a 300 degC feed drove the tear to
+# 1862 K, where the flash named the gas liquid, the cold separator sent it all down its liquid
+# outlet, and the loop spun 60 iterations with a residual of 2.77e302)
+# ---------------------------------------------------------------------------------------------
+LOOP_FIND = FIND.with_name("cold-separation-loop-iterate-1e302.yaml")
+
+
+@pytest.mark.parametrize("T", [1500.0, 1862.0])
+def test_hot_gas_is_named_vapour_on_both_flash_paths(T):
+    from letdown.fluid import flash as fl
+    from letdown.fluid import native
+    gas = fluid("rich")
+    eos = gas._engine.eos
+    zs = np.tile(gas.zs, (1, 1))
+    # the phase identification parameter alone says liquid here (Pi > 1) ...
+    from letdown.fluid.cubic import phase_identification
+    assert phase_identification(eos, np.array([T]), np.array([41e5]), zs)[0] > 1.0
+    # ... the flash, compiled or numpy, names it vapour (it is 2.5 Tpc or more)
+    state = gas.flash(T=T, P=41e5)
+    assert state.vapour_fraction == 1.0
+    saved = native.AVAILABLE
+    try:
+        native.AVAILABLE = False
+        split = fl.flash_PT(eos, np.array([T]), np.array([41e5]), zs)
+    finally:
+        native.AVAILABLE = saved
+    assert split.n_phases[0] == 1 and split.single_is_vapour[0]
+
+
+def test_a_loop_that_leaves_the_model_range_stops_and_says_diverged():
+    fs = loads(LOOP_FIND.read_text(), source=str(LOOP_FIND))
+    with pytest.raises(ConvergenceError, match=r"diverged: at iteration \d+ .*equipment.gas-gas") as err:
+        solve(fs)
+    record = err.value.result
+    assert int(np.max(record.iterations)) < 10           # not 60 iterations of an absurd iterate
+    assert all(np.isfinite(r) or r == np.inf for r in record.history)
+    assert max(r for r in record.history if np.isfinite(r)) < 1e3

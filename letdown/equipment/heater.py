@@ -27,8 +27,9 @@ import numpy as np
 
 from ..errors import InputError
 from ..fluid.components import R
-from .common import (TINY_FLOW, array_param, by_goal, field_name, finish, one_of, outlet_pressure,
-                     refuse)
+from ..fluid.flash import T_HIGH, T_LOW
+from .common import (TINY_FLOW, Refusals, array_param, by_goal, field_name, finish, one_of,
+                     outlet_pressure, refuse)
 from .stream import flash_stream
 
 SPECS = ("T_out", "duty")
@@ -57,12 +58,39 @@ def _degC(T) -> str:
     return f"{T:.2f} K ({T - 273.15:.2f} degC)"
 
 
+def _beyond_range(fluid, name, params, given, inlet, h_out, P_out, sign, refusals):
+    """Refuse the cases whose outlet enthalpy lies beyond the model's temperature range (a duty or
+    fuel too large for the flow, often a unit slip): no outlet state exists there, and the fault is
+    this block's parameter (``given``: ``duty`` or ``fuel``), not the stream (a fuzz find: a fixed
+    fuel heating 85 Sm3/h instead of 85,000 failed as "stream 'warm': the flash did not converge",
+    naming no block)."""
+    T_edge = T_HIGH if sign > 0 else T_LOW
+    n = h_out.size
+    live = (inlet.flow > 0.0) & np.isfinite(h_out)
+    edge = flash_stream(fluid, inlet.flow, inlet.zs, T=np.full(n, T_edge), P=P_out)
+    beyond = live & edge.converged & (sign * (h_out - edge.h) > 0.0)
+    if not np.any(beyond):
+        return
+    value = array_param(params, given, n, name)
+    verb = "adds" if sign > 0 else "removes"
+    refusals.add(beyond,
+                 lambda i: f"{given} {value[i] / 1e3:.6g} kW {verb} "
+                           f"{abs(h_out[i] - inlet.h[i]) / 1e3:.4g} kJ/mol on a flow of "
+                           f"{inlet.flow[i]:.4g} mol/s: more than it takes to bring the gas to "
+                           f"{T_edge:.0f} K at the outlet pressure, the model's "
+                           f"{'upper' if sign > 0 else 'lower'} limit; check the {given} (its "
+                           f"unit) and the feed's flow", given)
+
+
 def _run(fluid, name, inlets, params, sign, specs=SPECS):
     inlet = inlets["in"]
     n = inlet.n_cases
     kind, other = ("heater", "cooler") if sign > 0 else ("cooler", "heater")
-    spec = one_of(params, specs, name)
+    spec = given = one_of(params, specs, name)
     flowing = inlet.flow > 0
+    # every refusal of a duty or fuel is raised together, before the flash (one error holds all
+    # the refused cases, so the rest of a batch then passes)
+    refusals = Refusals(params, name)
     eta = _efficiency(params, n, name) if sign > 0 else None
     if spec == "fuel":
         if eta is None:
@@ -70,10 +98,10 @@ def _run(fluid, name, inlets, params, sign, specs=SPECS):
                              field=field_name(name, "fuel"))
         fuel = array_param(params, "fuel", n, name)
         if not by_goal(params, "fuel"):
-            refuse(params, flowing & (fuel < 0.0),
-                   lambda i: f"fuel {fuel[i]:.6g} W is negative: the fuel is the heat of the fuel "
-                             "burnt; give zero or more, or use a cooler to take heat out",
-                   name, "fuel")
+            refusals.add(flowing & (fuel < 0.0),
+                         lambda i: f"fuel {fuel[i]:.6g} W is negative: the fuel is the heat of the "
+                                   "fuel burnt; give zero or more, or use a cooler to take heat out",
+                         "fuel")
         params = {**params, "duty": eta * fuel}
         spec = "duty"
     P_out = outlet_pressure({"dP": params.get("dP", 0.0)}, inlet, name, required=True)
@@ -92,14 +120,18 @@ def _run(fluid, name, inlets, params, sign, specs=SPECS):
         heat_in = inlet.flow * (out.h - inlet.h)
     else:
         duty = array_param(params, "duty", n, name)
-        if not (by_goal(params, "duty") or by_goal(params, "fuel")):
+        fixed = not (by_goal(params, "duty") or by_goal(params, "fuel"))
+        if fixed:
             what = "adds" if sign > 0 else "removes"
-            refuse(params, flowing & (duty < 0.0),
-                   lambda i: f"duty {duty[i]:.6g} W is negative: a {kind}'s duty is the heat it "
-                             f"{what}; give zero or more, or use a {other}", name, "duty")
+            refusals.add(flowing & (duty < 0.0),
+                         lambda i: f"duty {duty[i]:.6g} W is negative: a {kind}'s duty is the heat "
+                                   f"it {what}; give zero or more, or use a {other}", "duty")
         # an empty stream takes no heat: its outlet keeps the inlet enthalpy
         heat_in = np.where(flowing, sign * duty, 0.0)
         h_out = inlet.h + heat_in / np.maximum(inlet.flow, TINY_FLOW)
+        if fixed:
+            _beyond_range(fluid, name, params, given, inlet, h_out, P_out, sign, refusals)
+        refusals.raise_any()
         out = flash_stream(fluid, inlet.flow, inlet.zs, P=P_out, h=h_out)
     details = {}
     if eta is not None:

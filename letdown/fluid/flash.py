@@ -83,6 +83,16 @@ K_CLIP = (1e-300, 1e300)
 #: Phase identification parameter above which a single phase is called liquid (Venkatarathnam &
 #: Oellrich 2011: the ideal gas has 1).
 PHASE_ID_LIQUID = 1.0
+#: A single phase at or above this multiple of its pseudo-critical temperature (Kay 1936: the
+#: mole-fraction average of the critical temperatures) is called vapour whatever its phase
+#: identification parameter. That parameter exceeds 1 for a hot gas where repulsion dominates (a
+#: lean gas at 1000 K and 50 bar: 1.001; at 1500 K: 1.007), which the flash then named liquid, so
+#: a separator sent 1500 K gas down its liquid outlet (a fuzz find). Below this bound the parameter
+#: decides, so a dense gas near ambient temperature keeps its liquid-like name and the separator's
+#: dense-phase hazard. The bound clears every cricondentherm measured here (by letdown's envelope,
+#: Peng-Robinson): 1.10-1.32 Tpc for the natural gases of tests/cases.py and a rich gas, 1.55 for
+#: methane + 30 % n-hexane, 2.15 for methane + 10 % n-decane.
+VAPOUR_ABOVE_TPR = 2.5
 
 
 @dataclass(frozen=True)
@@ -509,10 +519,14 @@ def _pure_index(zs):
 
 
 def is_vapour_like(eos: CubicEOS, T, P, zs):
-    """Name a single phase 'vapour' when its phase identification parameter is at most 1
+    """Name a single phase 'vapour' when its temperature is at least its pseudo-critical one
+    (:data:`VAPOUR_ABOVE_TPR`) or, below it, when its phase identification parameter is at most 1
     (Venkatarathnam & Oellrich 2011; see :func:`letdown.fluid.cubic.phase_identification`). The
     name decides which separator outlet a single phase leaves by; it changes no property."""
-    return phase_identification(eos, T, P, zs) <= PHASE_ID_LIQUID
+    zs = np.atleast_2d(zs)
+    Tpc = zs @ eos.comps.Tcs
+    return (np.asarray(T) >= VAPOUR_ABOVE_TPR * Tpc) | (
+        phase_identification(eos, T, P, zs) <= PHASE_ID_LIQUID)
 
 
 def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL):
@@ -616,7 +630,8 @@ def native_flash_constants():
                 neg_hi=NEGATIVE_FLASH_BOUNDS[1], tm_unstable=TM_UNSTABLE, wilson_c=WILSON_C,
                 newton_max_iter=NEWTON_MAX_ITER, newton_fd_step=NEWTON_FD_STEP,
                 newton_max_step=NEWTON_MAX_STEP, gibbs_margin_rel=GIBBS_MARGIN_REL,
-                k_min=K_CLIP[0], k_max=K_CLIP[1], phase_id_liquid=PHASE_ID_LIQUID)
+                k_min=K_CLIP[0], k_max=K_CLIP[1], phase_id_liquid=PHASE_ID_LIQUID,
+                vapour_above_tpr=VAPOUR_ABOVE_TPR)
 
 
 def _flash_PT_native(eos, T, P, zs, K_init, assume, tol):

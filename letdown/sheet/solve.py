@@ -666,6 +666,7 @@ class _Engine:
         active = np.ones(m, dtype=bool)
         refused = np.zeros(m, dtype=bool)
         reasons = np.full(m, "", dtype=object)
+        diverged = np.zeros(m, dtype=bool)
         history = []
         done_iterations = 0
         while done_iterations < self.fs.solver.loop_max_iterations:
@@ -701,6 +702,13 @@ class _Engine:
             residual[a] = r_all
             history.append(float(np.max(r_all)))
             done = (r_all <= tol) & (r_flow <= flow_tol)
+            # an iterate with no state (a tear's flash failed: the loop has run off the model's
+            # range) ends those cases at once; x keeps their last iterate that had one
+            lost_state = ~np.isfinite(np.max(g, axis=1))
+            if np.any(lost_state):
+                gone = a[lost_state]
+                active[gone], diverged[gone] = False, True
+                done = done | lost_state
             # Wegstein step for the cases still going
             xa, xp, gp = x[a], x_prev[a], g_prev[a]
             dx = xa - xp
@@ -713,15 +721,20 @@ class _Engine:
             x_prev[a], g_prev[a] = xa, g
             x[a] = np.where(done[:, None], xa, x_new)
             active[a[done]] = False
-        converged = ~active & ~refused
+        converged = ~active & ~refused & ~diverged
         record = LoopRecord(blocks=tuple(step.blocks), tears=tuple(tears), iterations=iterations,
                             residual=residual, history=tuple(history), converged=converged)
-        unconverged = active
+        unconverged = active | diverged
         if np.any(unconverged):
             bad = np.flatnonzero(unconverged)
             i = int(bad[0])
-            text = (f"the loop through {', '.join(step.blocks)} (tears: {', '.join(tears)}) did "
-                    f"not converge in {self.fs.solver.loop_max_iterations} iterations")
+            if diverged[i]:
+                text = (f"the loop through {', '.join(step.blocks)} (tears: {', '.join(tears)}) "
+                        f"diverged: at iteration {iterations[i]} a tear stream's state fell "
+                        f"outside the model's range")
+            else:
+                text = (f"the loop through {', '.join(step.blocks)} (tears: {', '.join(tears)}) "
+                        f"did not converge in {self.fs.solver.loop_max_iterations} iterations")
             if self.strict:
                 raise ConvergenceError(
                     f"{text}: residual {residual[i]:.3g} (tolerance {tol:g})"
