@@ -357,3 +357,30 @@ def test_bad_valve_in_a_file_is_located(old, new, message, line):
         assert e.line == line
     if message is not None:
         assert message in str(e)
+
+
+def test_fuzz_random_states_are_numbers_or_flagged():
+    # 300 random states, flows from 0 to 1e4 mol/s, outlet pressures from none to nearly all of the
+    # drop: no numpy warning; every blank Kv is explained by a flag; no noise is blank for a
+    # flowing gas case with a finite Kv; a sonic outlet pipe is flagged
+    import warnings
+    gas = fluid("lean")
+    rng = np.random.default_rng(5)
+    n = 300
+    T, P = rng.uniform(250.0, 400.0, n), rng.uniform(2e5, 1.2e7, n)
+    F = rng.choice([0.0, 1e-3, 1.0, 100.0, 1e4], n)
+    inlet = feed(gas, T, P, F)
+    P_out = np.maximum(P * rng.uniform(0.0, 1.0, n), 1e4)
+    P_out = np.where(rng.random(n) < 0.1, P, P_out)
+    with warnings.catch_warnings():
+        warnings.simplefilter("error")
+        out = throttle.run(gas, "v", {"in": inlet}, {"P_out": P_out, "valve": RATING})
+    d, f = out.details, out.flags
+    blank = ~np.isfinite(d["Kv_required"])
+    assert not np.any(blank & ~(f["valve_not_gas"] | f["valve_fittings_limit"]
+                                | f["valve_undersized"]))
+    assert np.all(f["valve_undersized"][np.isinf(d["Kv_required"])])
+    ok = (F > 0) & np.isfinite(d["Kv_required"])
+    assert np.all(np.isfinite(d["noise_dBA"][ok]))
+    np.testing.assert_array_equal(f["valve_outlet_sonic"], (F > 0) & (d["outlet_mach"] >= 1.0))
+    assert f["valve_outlet_sonic"].any() and f["valve_fittings_limit"].any()

@@ -82,6 +82,10 @@ def run(fluid, name: str, inlets, params):
                   flags=flags)
 
 
+#: Outlet Mach number at which the outlet pipe itself chokes [-] (a pipe cannot carry gas faster
+#: than its speed of sound; Fanno flow).
+SONIC_MACH = 1.0
+
 #: The entries of a throttle's ``valve`` mapping (SI: sizes in m; Kv in m3/h, Cv in US gal/min at
 #: 1 psi, as the coefficients are defined). ``xT`` is required (it governs choking and is a
 #: property of the valve style and its trim, with no typical value to fall back on); ``FL`` and
@@ -168,7 +172,9 @@ def rate(v, inlet, in_states, out, out_states):
         ``valve_undersized`` (the required Kv exceeds the rated one), ``valve_below_range``
         (below 1/rangeability of the rated Kv), ``valve_fittings_limit`` (no Kv passes the flow
         through these reducers), ``valve_not_gas`` (liquid at the inlet or outlet: the gas
-        equations do not apply; the numbers are NaN there).
+        equations do not apply; the numbers are NaN there), ``valve_outlet_sonic`` (the outlet
+        pipe would carry the gas at or above its speed of sound: the pipe, not the valve, sets
+        the pressure there, and the flowsheet's outlet state cannot be reached).
 
     Notes
     -----
@@ -209,8 +215,11 @@ def rate(v, inlet, in_states, out, out_states):
             Fp=sized["Fp"] if D1 is not None else None, FLP=FLP, An=v.get("An", iec.AN_DEFAULT))
     rangeability = v.get("rangeability")
     flags = {"valve_undersized": flowing & (phi > 1.0),
-             "valve_fittings_limit": flowing & ~not_gas & ~sized["converged"],
+             "valve_fittings_limit": flowing & ~not_gas & np.isnan(sized["Kv"]),
              "valve_not_gas": not_gas}
+    if D2 is not None:
+        with np.errstate(invalid="ignore"):
+            flags["valve_outlet_sonic"] = flowing & (details["outlet_mach"] >= SONIC_MACH)
     if rangeability is not None:
         flags["valve_below_range"] = flowing & (phi < 1.0 / rangeability)
     return details, flags

@@ -220,7 +220,9 @@ def size(mass_flow, P1, P2, rho1, kappa, xT, d=None, D1=None, D2=None):
         d_mm = _arr(d, n) * 1e3
         zeta, zeta_i = loss_coefficients(d_mm, None if D1 is None else _arr(D1, n) * 1e3,
                                          None if D2 is None else _arr(D2, n) * 1e3)
-    with np.errstate(divide="ignore", invalid="ignore"):
+    # a case with no solution diverges (C grows without bound): its numbers overflow to inf/NaN
+    # and it stays marked not converged
+    with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         x_choked, x_s, Y = _flow_terms(x, kappa, xT)
         Kv = W / (N6_KV * Y * np.sqrt(x_s * P1 * 1e-3 * rho1))
         Fp, xTP = np.ones(n), xT.copy()
@@ -238,7 +240,9 @@ def size(mass_flow, P1, P2, rho1, kappa, xT, d=None, D1=None, D2=None):
                     break
             Fp, xTP = _fittings(Kv, d_mm, zeta, zeta_i, xT)
             x_choked, x_s, Y = _flow_terms(x, kappa, xTP)
-    Kv = np.where(m == 0.0, 0.0, np.where(converged & (root > 0), Kv, np.nan))
+    # no pressure drop and some flow: no finite C passes it (inf, and the caller flags it)
+    Kv = np.where(m == 0.0, 0.0, np.where(root > 0, np.where(converged, Kv, np.nan),
+                                          np.where(np.isnan(rho1 * kappa), np.nan, np.inf)))
     return {"Kv": Kv, "Cv": Kv * CV_PER_KV, "x": x, "x_choked": x_choked, "Y": Y, "Fp": Fp,
             "xTP": xTP, "choked": x >= x_choked, "converged": converged}
 

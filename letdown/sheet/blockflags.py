@@ -33,7 +33,8 @@ FLAG_KINDS = {"two_phase_outlet": ("two_phase_outlet", "check"),
               "valve_undersized": ("valve_undersized", "hazard"),
               "valve_fittings_limit": ("valve_undersized", "hazard"),
               "valve_below_range": ("valve_below_range", "check"),
-              "valve_not_gas": ("valve_not_gas", "check")}
+              "valve_not_gas": ("valve_not_gas", "check"),
+              "valve_outlet_sonic": ("valve_outlet_sonic", "hazard")}
 
 
 def _C(T) -> str:
@@ -200,7 +201,19 @@ def _single_phase_inlet(dense):
     return text
 
 
+def _valve_outlet_sonic(fluid, i, outcome, d, inlets, outlets):
+    return (f"the gas would leave the valve at Mach {d['outlet_mach'][i]:.2f} in its outlet pipe "
+            f"({d['outlet_velocity_m_s'][i]:.0f} m/s): a pipe cannot carry gas at or above its "
+            "speed of sound, so this flow and outlet pressure cannot be reached; use a larger "
+            "outlet pipe", {"outlet_mach": d["outlet_mach"],
+                            "outlet_velocity_m_s": d["outlet_velocity_m_s"]})
+
+
 def _valve_undersized(fluid, i, outcome, d, inlets, outlets):
+    if not np.isfinite(d["Kv_required"][i]):
+        return ("the valve is asked to pass a flow with no pressure drop, which needs an "
+                "unbounded flow coefficient: give the throttle a pressure drop",
+                {"Kv_required": d["Kv_required"], "Kv_rated": d["Kv_rated"]})
     return (f"the valve cannot pass the flow: it needs Kv {d['Kv_required'][i]:.4g} m3/h "
             f"(Cv {d['Cv_required'][i]:.4g}) and is rated Kv {d['Kv_rated'][i]:.4g} m3/h at full "
             "travel (IEC 60534-2-1). Choose a larger valve or trim, or a smaller pressure drop "
@@ -237,7 +250,8 @@ _TEXTS = {"two_phase_outlet": _two_phase_outlet, "temperature_cross": _temperatu
           "dense_phase_inlet": _single_phase_inlet(True),
           "liquid_inlet": _single_phase_inlet(False),
           "valve_undersized": _valve_undersized, "valve_fittings_limit": _valve_fittings_limit,
-          "valve_below_range": _valve_below_range, "valve_not_gas": _valve_not_gas}
+          "valve_below_range": _valve_below_range, "valve_not_gas": _valve_not_gas,
+          "valve_outlet_sonic": _valve_outlet_sonic}
 
 
 #: Limits on the blocks' hydraulic numbers: ``limits`` entry -> (detail keys it bounds, warning
