@@ -34,7 +34,8 @@ module does not rate. No viscosity is needed.
 
 **Which specific heat ratio**: the standard writes ``gamma`` for the ratio of specific heats,
 derived for an ideal gas, where it equals the isentropic exponent. For a real gas the two differ
-(methane at 70 bar and 15 degC: cp/cv about 1.7, isentropic exponent about 1.4). The expansion to
+(methane at 70 bar and 15 degC, CoolProp's reference equation: cp/cv 1.58, isentropic exponent
+1.40, ideal-gas cp/cv 1.31). The expansion to
 the vena contracta, and with it the choked pressure ratio and Y, follows the isentrope, so this
 module takes the real-gas **isentropic exponent** ``kappa = rho w^2 / P`` at the inlet (``w`` the
 model's speed of sound), as ISO 5167-1:2003 (clause 3.3.6, the isentropic exponent in the
