@@ -409,3 +409,75 @@ def test_isentropic_exponent_of_methane_against_coolprop():
         assert kappa == pytest.approx(rho * w * w / P[i], rel=0.02)
         if P[i] >= 70e5:
             assert abs(cp_cv / kappa - 1.0) > 0.10
+
+
+# -- fail-open flow into the downstream protection (issue 13 part 6b) ----------------------------
+FAIL_OPEN = """\
+title: fail-open demo (fictional)
+gas:
+  model: peng-robinson
+  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
+feeds:
+  supply: {T: 38 degC, P: 64 barg, flow: 85000 Sm3/h}
+equipment:
+  regulator:
+    kind: throttle
+    from: supply
+    to: network
+    P_out: 17 barg
+    valve: {Kv: 250, xT: 0.7, characteristic: linear}
+    protection: {set_pressure: SET}
+"""
+
+
+def test_fail_open_flow_against_a_hand_calculation():
+    # by hand, IEC 60534-2-1 eq. for W with the rated Kv at full travel, no fittings, FR = 1:
+    # x = (P1 - P_set) / P1 against F_gamma xT; choked: x_s = F_gamma xT and Y = 2/3;
+    # W [kg/h] = 3.16 Kv Y sqrt(x_s P1[kPa] rho1)
+    import letdown
+    result = solve(loads(FAIL_OPEN.replace("SET", "19 barg")))
+    reg = json.loads(result.to_json())["equipment"]["regulator"]
+    gas = letdown.Fluid({"methane": 0.9135, "ethane": 0.048, "propane": 0.012, "nitrogen": 0.015,
+                         "carbon-dioxide": 0.0115}, model="peng-robinson")
+    P1, T1, P_set = 64e5 + 101325.0, 311.15, 19e5 + 101325.0
+    st = gas.flash(T=T1, P=P1)
+    kappa = st.density * st.w ** 2 / P1
+    x, x_choked = (P1 - P_set) / P1, kappa / 1.4 * 0.7
+    assert x > x_choked                                  # 65 -> 20 bar is choked
+    W = 3.16 * 250.0 * (2.0 / 3.0) * math.sqrt(x_choked * P1 / 1e3 * st.density) / 3600.0
+    assert reg["fail_open_flow_kg_s"] == pytest.approx(W, rel=1e-9)
+    assert reg["fail_open_choked"] is True
+    assert reg["fail_open_flow_mol_s"] == pytest.approx(W / st.molar_mass, rel=1e-9)
+    note = [w for w in result.warnings if w["kind"] == "fail_open_load"]
+    assert len(note) == 1 and note[0]["where"] == "regulator" and note[0]["severity"] == "note"
+    assert "local codes and licensed practice" in note[0]["what"]
+    # choked: the load does not depend on the set pressure below the choked ratio
+    lower = solve(loads(FAIL_OPEN.replace("SET", "18 barg")))
+    assert json.loads(lower.to_json())["equipment"]["regulator"]["fail_open_flow_kg_s"] == \
+        pytest.approx(W, rel=1e-12)
+
+
+def test_fail_open_flow_not_choked_and_with_fittings_matches_the_forward_equation():
+    gas = fluid("lean")
+    inlet = feed(gas, 300.0, 30e5, 100.0)
+    out = throttle.run(gas, "v", {"in": inlet}, {"P_out": 20e5, "valve": RATING,
+                                                 "protection": {"set_pressure": 25e5}})
+    d = out.details
+    assert not d["fail_open_choked"][0]
+    W = iec.mass_flow(250.0, 30e5, 25e5, inlet.density, d["isentropic_exponent"], 0.7,
+                      0.1, 0.154, 0.254)
+    assert d["fail_open_flow_kg_s"][0] == pytest.approx(W[0], rel=1e-12)
+    # a set pressure at or above the inlet: nothing flows into the protection
+    out = throttle.run(gas, "v", {"in": inlet}, {"P_out": 20e5, "valve": RATING,
+                                                 "protection": {"set_pressure": 31e5}})
+    assert out.details["fail_open_flow_kg_s"][0] == 0.0
+
+
+def test_fail_open_bad_input_is_refused_and_located():
+    with pytest.raises(InputError, match="act in normal operation") as err:
+        solve(loads(FAIL_OPEN.replace("SET", "16 barg"), "fo.yaml"))
+    assert err.value.file == "fo.yaml" and err.value.line == 14
+    no_valve = FAIL_OPEN.replace("    valve: {Kv: 250, xT: 0.7, characteristic: linear}\n", "")
+    with pytest.raises(InputError, match="needs the valve's rating") as err:
+        loads(no_valve.replace("SET", "19 barg"), "fo.yaml")
+    assert err.value.line == 13

@@ -15,7 +15,7 @@ import numpy as np
 
 from ..errors import InputError
 from . import valve as iec
-from .common import case_text, field_name, finish, outlet_pressure
+from .common import case_text, field_name, finish, outlet_pressure, refuse
 from .stream import StreamBatch, flash_stream
 
 #: A vapour fraction strictly between these bounds counts as a two-phase outlet [-] (flash noise
@@ -58,6 +58,17 @@ def run(fluid, name: str, inlets, params):
                          "lower the pressure", field=field_name(name, key),
                          cases=raise_above)
     rating = params.get("valve")
+    protection = params.get("protection")
+    if protection is not None and rating is None:
+        raise InputError("the fail-open flow into the protection needs the valve's rating "
+                         "(valve: {Kv: ...})", field=field_name(name, "protection"))
+    if protection is not None:
+        P_set = np.broadcast_to(np.asarray(protection["set_pressure"], dtype=float),
+                                (inlet.n_cases,))
+        refuse(params, (P_set <= P_out) & (inlet.flow > 0),
+               lambda i: (f"the protection's set pressure {P_set[i]:.6g} Pa is not above the "
+                          f"throttle's outlet pressure {P_out[i]:.6g} Pa: it would act in normal "
+                          "operation"), name, "protection")
     if rating is not None:
         problem = valve_problem(rating)
         if problem is not None:
@@ -78,8 +89,62 @@ def run(fluid, name: str, inlets, params):
                                 P=np.asarray(inlet.P))
         details, more = rate(rating, inlet, in_states, out, out_states)
         flags.update(more)
+        if protection is not None:
+            fo_details, fo_flags = fail_open(rating, inlet, details["isentropic_exponent"],
+                                             protection["set_pressure"])
+            details.update(fo_details)
+            flags.update(fo_flags)
     return finish(inlets, {"out": out}, 0.0, dP=inlet.P - P_out, details=details,
                   flags=flags)
+
+
+def fail_open(v, inlet, kappa, set_pressure):
+    """The flow through a rated valve failed wide open into its downstream protection.
+
+    The valve passes its rated Kv (full travel) from the throttle's inlet state, held as in
+    normal operation (conservative: a larger flow would draw the upstream pressure down), into
+    the pressure at which the downstream protection acts (a monitor regulator, slam-shut or relief
+    device): the load that protection must take (IEC 60534-2-1, forward equation, FR = 1).
+
+    Parameters
+    ----------
+    v : Mapping
+        The ``valve`` mapping.
+    inlet : StreamBatch
+        The throttle's inlet.
+    kappa : ndarray (n,)
+        The inlet's isentropic exponent [-].
+    set_pressure : float or ndarray (n,)
+        The protection's set pressure [Pa].
+
+    Returns
+    -------
+    details : dict of ndarray (n,)
+        ``fail_open_flow_kg_s`` [kg/s], ``fail_open_flow_mol_s`` [mol/s], ``fail_open_choked``
+        (bool), ``protection_set_pressure_Pa`` [Pa]; zero flow where the set pressure is at or
+        above the inlet pressure.
+    flags : dict of ndarray of bool (n,)
+        ``fail_open_load``: the note that carries the numbers and the caution.
+    """
+    n = inlet.n_cases
+    P_set = np.broadcast_to(np.asarray(set_pressure, dtype=float), (n,))
+    P2 = np.minimum(P_set, inlet.P)
+    Kv_rated = v["Kv"] if "Kv" in v else v["Cv"] / iec.CV_PER_KV
+    xT = np.full(n, float(v["xT"]))
+    W = iec.mass_flow(np.full(n, float(Kv_rated)), inlet.P, P2, inlet.density, kappa, xT,
+                      v.get("size"), v.get("inlet_pipe"), v.get("outlet_pipe"))
+    x = (inlet.P - P2) / inlet.P
+    d, D1, D2 = v.get("size"), v.get("inlet_pipe"), v.get("outlet_pipe")
+    if d is not None and (D1 is not None or D2 is not None):
+        zeta, zeta_i = iec.loss_coefficients(d * 1e3, None if D1 is None else D1 * 1e3,
+                                             None if D2 is None else D2 * 1e3)
+        _, xTP = iec._fittings(np.full(n, float(Kv_rated)), d * 1e3, zeta, zeta_i, xT)
+    else:
+        xTP = xT
+    choked = x >= kappa / iec.GAMMA_AIR * xTP
+    return ({"fail_open_flow_kg_s": W, "fail_open_flow_mol_s": W / inlet.molar_mass,
+             "fail_open_choked": choked, "protection_set_pressure_Pa": P_set.copy()},
+            {"fail_open_load": np.isfinite(W)})
 
 
 #: Outlet Mach number at which the outlet pipe itself chokes [-] (a pipe cannot carry gas faster

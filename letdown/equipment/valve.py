@@ -162,7 +162,7 @@ def loss_coefficients(d, D1=None, D2=None):
 
 
 def _fittings(Kv, d_mm, zeta, zeta_i, xT):
-    """Fp and xTP at flow coefficient Kv (arrays)."""
+    """Fp and xTP at flow coefficient Kv [m3/h], valve bore d_mm [mm] (arrays)."""
     k2 = (Kv / d_mm ** 2) ** 2
     Fp = 1.0 / np.sqrt(1.0 + zeta / N2_KV * k2)
     xTP = (xT / Fp ** 2) / (1.0 + xT * zeta_i / N5_KV * k2)

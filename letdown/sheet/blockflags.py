@@ -34,7 +34,8 @@ FLAG_KINDS = {"two_phase_outlet": ("two_phase_outlet", "check"),
               "valve_fittings_limit": ("valve_undersized", "hazard"),
               "valve_below_range": ("valve_below_range", "check"),
               "valve_not_gas": ("valve_not_gas", "check"),
-              "valve_outlet_sonic": ("valve_outlet_sonic", "hazard")}
+              "valve_outlet_sonic": ("valve_outlet_sonic", "hazard"),
+              "fail_open_load": ("fail_open_load", "note")}
 
 
 def _C(T) -> str:
@@ -201,6 +202,21 @@ def _single_phase_inlet(dense):
     return text
 
 
+def _fail_open_load(fluid, i, outcome, d, inlets, outlets):
+    inlet = inlets["in"]
+    W = d["fail_open_flow_kg_s"]
+    return (f"if this valve fails wide open, {W[i] * 3600.0:.0f} kg/h "
+            f"({d['fail_open_flow_mol_s'][i] * 3.6:.1f} kmol/h"
+            f"{', choked' if d['fail_open_choked'][i] else ''}) flows through its rated Kv "
+            f"{d['Kv_rated'][i]:.4g} m3/h from {_bar(inlet.P[i])} into the protection set at "
+            f"{_bar(d['protection_set_pressure_Pa'][i])}: the load that protection must take "
+            f"(normal flow {inlet.mass_flow[i] * 3600.0:.0f} kg/h; inlet pressure held). "
+            "Overpressure protection and material selection follow local codes and licensed "
+            "practice",
+            {"fail_open_flow_kg_s": W, "fail_open_flow_mol_s": d["fail_open_flow_mol_s"],
+             "set_pressure_Pa": d["protection_set_pressure_Pa"], "P_in_Pa": inlet.P})
+
+
 def _valve_outlet_sonic(fluid, i, outcome, d, inlets, outlets):
     return (f"the gas would leave the valve at Mach {d['outlet_mach'][i]:.2f} in its outlet pipe "
             f"({d['outlet_velocity_m_s'][i]:.0f} m/s): a pipe cannot carry gas at or above its "
@@ -251,7 +267,7 @@ _TEXTS = {"two_phase_outlet": _two_phase_outlet, "temperature_cross": _temperatu
           "liquid_inlet": _single_phase_inlet(False),
           "valve_undersized": _valve_undersized, "valve_fittings_limit": _valve_fittings_limit,
           "valve_below_range": _valve_below_range, "valve_not_gas": _valve_not_gas,
-          "valve_outlet_sonic": _valve_outlet_sonic}
+          "valve_outlet_sonic": _valve_outlet_sonic, "fail_open_load": _fail_open_load}
 
 
 #: Limits on the blocks' hydraulic numbers: ``limits`` entry -> (detail keys it bounds, warning

@@ -573,6 +573,17 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
         if kind == "throttle" and raw.get("valve") is not None:
             params["valve"] = _valve(doc, q, raw["valve"], path + ("valve",))
             field_where["valve"] = _where(doc, path + ("valve",))
+        if kind == "throttle" and raw.get("protection") is not None:
+            prot = raw["protection"]
+            if "valve" not in params:
+                raise doc.err("the fail-open flow into the protection needs the valve's rating "
+                              "(valve: {Kv: ...})", path + ("protection",))
+            if not isinstance(prot, dict) or "set_pressure" not in prot:
+                raise doc.err("protection is {set_pressure: ...}, the pressure at which the "
+                              "downstream protection acts", path + ("protection",))
+            params["protection"] = {"set_pressure": q(prot["set_pressure"], "pressure",
+                                                      path + ("protection", "set_pressure"))}
+            field_where["protection"] = _where(doc, path + ("protection",))
         if kind == "separator":
             params["water_port"] = "water" in raw["to"]
         if kind == "splitter":
