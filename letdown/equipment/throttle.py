@@ -134,14 +134,8 @@ def fail_open(v, inlet, kappa, set_pressure):
     W = iec.mass_flow(np.full(n, float(Kv_rated)), inlet.P, P2, inlet.density, kappa, xT,
                       v.get("size"), v.get("inlet_pipe"), v.get("outlet_pipe"))
     x = (inlet.P - P2) / inlet.P
-    d, D1, D2 = v.get("size"), v.get("inlet_pipe"), v.get("outlet_pipe")
-    if d is not None and (D1 is not None or D2 is not None):
-        zeta, zeta_i = iec.loss_coefficients(d * 1e3, None if D1 is None else D1 * 1e3,
-                                             None if D2 is None else D2 * 1e3)
-        _, xTP = iec._fittings(np.full(n, float(Kv_rated)), d * 1e3, zeta, zeta_i, xT)
-    else:
-        xTP = xT
-    choked = x >= kappa / iec.GAMMA_AIR * xTP
+    choked = x >= iec.choked_ratio(np.full(n, float(Kv_rated)), kappa, xT, v.get("size"),
+                                   v.get("inlet_pipe"), v.get("outlet_pipe"))
     return ({"fail_open_flow_kg_s": W, "fail_open_flow_mol_s": W / inlet.molar_mass,
              "fail_open_choked": choked, "protection_set_pressure_Pa": P_set.copy()},
             {"fail_open_load": np.isfinite(W)})

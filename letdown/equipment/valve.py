@@ -283,6 +283,26 @@ def mass_flow(Kv, P1, P2, rho1, kappa, xT, d=None, D1=None, D2=None):
     return N6_KV * Fp * Kv * Y * np.sqrt(np.maximum(x_s, 0.0) * P1 * 1e-3 * rho1) / 3600.0
 
 
+def choked_ratio(Kv, kappa, xT, d=None, D1=None, D2=None):
+    """The pressure-drop ratio at which a valve of flow coefficient ``Kv`` [m3/h] chokes,
+    ``F_gamma xTP`` [-] (``xTP = xT`` without fittings; arguments as :func:`size`).
+
+    Examples
+    --------
+    >>> round(float(choked_ratio(100.0, 1.4, 0.7)[0]), 12)
+    0.7
+    """
+    Kv, kappa, xT = np.broadcast_arrays(*(np.atleast_1d(_arr(v)) for v in (Kv, kappa, xT)))
+    xTP = xT
+    if d is not None and (D1 is not None or D2 is not None):
+        n = Kv.shape[0]
+        d_mm = _arr(d, n) * 1e3
+        zeta, zeta_i = loss_coefficients(d_mm, None if D1 is None else _arr(D1, n) * 1e3,
+                                         None if D2 is None else _arr(D2, n) * 1e3)
+        _, xTP = _fittings(Kv, d_mm, zeta, zeta_i, xT)
+    return kappa / GAMMA_AIR * xTP
+
+
 def opening(phi, characteristic: str, rangeability):
     """Relative travel for a relative flow coefficient (IEC 60534-2-4 inherent characteristic).
 
