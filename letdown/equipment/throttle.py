@@ -34,18 +34,22 @@ def run(fluid, name: str, inlets, params):
     inlets : Mapping[str, StreamBatch]
         ``{"in": stream}``.
     params : Mapping
-        ``P_out`` [Pa] or ``dP`` [Pa] (number or array over cases).
+        ``P_out`` [Pa] or ``dP`` [Pa] (number or array over cases); optional ``valve`` (the
+        rating, :data:`VALVE_KEYS`, SI) and ``protection`` (``{"set_pressure": [Pa]}``).
 
     Returns
     -------
     BlockOutcome
-        ``outlets={"out": ...}``, ``dP`` [Pa], flag ``two_phase_outlet``.
+        ``outlets={"out": ...}``, ``dP`` [Pa], flag ``two_phase_outlet``; with a rating the
+        details and flags of :func:`rate` (and of :func:`fail_open` with a protection).
 
     Raises
     ------
     InputError
         If the outlet pressure is above the inlet pressure (a throttle cannot raise pressure), or
-        neither or both of ``P_out`` and ``dP`` are given.
+        neither or both of ``P_out`` and ``dP`` are given; a bad ``valve`` mapping
+        (:func:`valve_problem`); a ``protection`` without a rating, or whose set pressure is not
+        above the outlet pressure (those cases).
     """
     inlet = inlets["in"]
     P_out = outlet_pressure(params, inlet, name, required=True)
