@@ -102,6 +102,9 @@ FAST_UNITS: dict[str, tuple[str, float, float]] = {
     "kJ/kmol": ("molar_enthalpy", 1.0, 0.0),
     "J/(mol*K)": ("molar_entropy", 1.0, 0.0), "J/(mol K)": ("molar_entropy", 1.0, 0.0),
     "percent": ("fraction", 0.01, 0.0),
+    "m": ("length", 1.0, 0.0), "mm": ("length", 1e-3, 0.0), "cm": ("length", 1e-2, 0.0),
+    "in": ("length", 0.0254, 0.0), "m/s": ("velocity", 1.0, 0.0),
+    "ft/s": ("velocity", 0.3048, 0.0),
 }
 
 #: Which FAST_UNITS kinds each quantity kind accepts (a plain ``K`` is also a difference).
@@ -110,6 +113,7 @@ _FAST_ACCEPTS = {
     "pressure": ("pressure",), "pressure_difference": ("pressure",),
     "power": ("power",), "ua": ("ua",), "molar_enthalpy": ("molar_enthalpy",),
     "molar_entropy": ("molar_entropy",), "fraction": ("fraction",),
+    "length": ("length",), "velocity": ("velocity",),
 }
 
 
@@ -196,6 +200,8 @@ PLAUSIBLE: dict[str, tuple[float, float]] = {
     "ua": (-1e10, 1e10),
     "molar_enthalpy": (-1e7, 1e7),
     "molar_entropy": (-1e5, 1e5),
+    "length": (0.0, 1e6),
+    "velocity": (-1e3, 1e3),
 }
 #: How each bound is shown in a message.
 _PLAUSIBLE_TEXT = {
@@ -206,15 +212,16 @@ _PLAUSIBLE_TEXT = {
     "mass_flow": "at most 1e5 kg/s in size", "power": "at most 10 GW in size",
     "ua": "at most 10 GW/K in size", "molar_enthalpy": "at most 1e7 J/mol in size",
     "molar_entropy": "at most 1e5 J/(mol K) in size",
+    "length": "0-1000 km", "velocity": "at most 1000 m/s in size",
 }
 
 #: Kinds of quantity this module parses, with the pint dimensionality expected.
 KINDS = ("temperature", "temperature_difference", "pressure", "pressure_difference", "flow",
-         "power", "fraction", "ua", "molar_enthalpy", "molar_entropy")
+         "power", "fraction", "ua", "molar_enthalpy", "molar_entropy", "length", "velocity")
 #: The SI unit each quantity kind is converted to (labels for tables and column names).
 SI_UNITS = {"temperature": "K", "temperature_difference": "K", "pressure": "Pa",
             "pressure_difference": "Pa", "flow": "mol/s", "power": "W", "fraction": "-",
-            "ua": "W/K"}
+            "ua": "W/K", "length": "m", "velocity": "m/s"}
 
 _DIMS = {
     "pressure": "[pressure]",
@@ -224,6 +231,8 @@ _DIMS = {
     "molar_enthalpy": "[energy] / [substance]",
     "molar_entropy": "[energy] / [substance] / [temperature]",
     "fraction": "[]",
+    "length": "[length]",
+    "velocity": "[length] / [time]",
 }
 
 _EXAMPLES = {
@@ -237,6 +246,8 @@ _EXAMPLES = {
     "ua": "'25 kW/K'",
     "molar_enthalpy": "'-1200 J/mol', '-1.2 kJ/mol'",
     "molar_entropy": "'-20 J/(mol*K)'",
+    "length": "'154 mm', '0.154 m', '6 in'",
+    "velocity": "'20 m/s', '65 ft/s'",
 }
 
 
@@ -432,7 +443,7 @@ def _parse(text, kind, atmosphere, bare, field, file, line):
     if kind == "fraction":
         return _convert(value, unit, "dimensionless", kind, field, file, line)
     to = {"power": "W", "ua": "W/K", "molar_enthalpy": "J/mol",
-          "molar_entropy": "J/(mol*K)"}[kind]
+          "molar_entropy": "J/(mol*K)", "length": "m", "velocity": "m/s"}[kind]
     return _convert(value, unit, to, kind, field, file, line)
 
 
@@ -594,6 +605,7 @@ def unit_system(name: str, atmosphere: float = STANDARD_ATMOSPHERE) -> dict[str,
             "power": DisplayUnit("kW", 1e-3),
             "molar_mass": DisplayUnit("kg/kmol", 1e3),
             "ua": DisplayUnit("kW/K", 1e-3),
+            "velocity": DisplayUnit("m/s"),
         }
     if name == "field":
         mmscf = STANDARD_CONDITIONS["mmscf"]
@@ -614,6 +626,7 @@ def unit_system(name: str, atmosphere: float = STANDARD_ATMOSPHERE) -> dict[str,
             "power": DisplayUnit("hp", 1.0 / 745.6998715822702),  # mechanical hp, NIST SP 811
             "molar_mass": DisplayUnit("lb/lbmol", 1e3),
             "ua": DisplayUnit("Btu/(h F)", 3600.0 / btu / 1.8),
+            "velocity": DisplayUnit("ft/s", 1.0 / 0.3048),   # 1 ft = 0.3048 m exactly
         }
     raise InputError(f"unknown unit system '{name}' (use 'si' or 'field')", field="units")
 

@@ -156,7 +156,8 @@ def test_fast_units_agree_with_pint():
     ureg = registry()
     si = {"temperature": "K", "pressure": "Pa", "temperature_difference": "K", "power": "W",
           "molar_flow": "mol/s", "mass_flow": "kg/s", "ua": "W/K", "molar_enthalpy": "J/mol",
-          "molar_entropy": "J/(mol*K)", "fraction": "dimensionless"}
+          "molar_entropy": "J/(mol*K)", "fraction": "dimensionless", "length": "m",
+          "velocity": "m/s"}
     for unit, (kind, scale, offset) in FAST_UNITS.items():
         for value in (-40.0, 1.0, 123.456):
             expected = ureg.Quantity(value, ureg.parse_units(unit.replace(" K", "*K"))).to(si[kind])

@@ -196,7 +196,7 @@ def _detail(key: str, value, u) -> str:
     if isinstance(v, bool):
         return key.replace("_", " ")      # a flag that is set (unset flags are left out)
     for suffix, kind in (("_W_K", "ua"), ("_W", "duty"), ("_kg_s", "mass_flow"), ("_Pa", None),
-                         ("_K", None)):
+                         ("_K", None), ("_m_s", "velocity")):
         if key.endswith(suffix):
             base = key[: -len(suffix)]
             if suffix == "_Pa":

@@ -90,6 +90,7 @@ _T_TEXT = re.compile(r"(?<![\w.])(-?\d+(?:\.\d+)?) degC\b")
 _DT_TEXT = re.compile(r"(?<![\w.])([+-]?\d+(?:\.\d+)?) K\b")
 _PA_TEXT = re.compile(r"(?<![\w.])(\d+(?:\.\d+)?) bar\b")
 _PG_TEXT = re.compile(r"(?<![\w.])(-?\d+(?:\.\d+)?) barg\b")
+_V_TEXT = re.compile(r"(?<![\w.])(-?\d+(?:\.\d+)?) m/s\b")
 #: A number of kelvin below this is a temperature difference (margins, approaches); above it, an
 #: absolute temperature, which stays in K (no display system hides it).
 DT_TEXT_MAX = 200.0
@@ -125,7 +126,10 @@ def display_text(text: str, units: str = "si", atmosphere: float = STANDARD_ATMO
 
     def gauge(m):
         return f"{u['P'](float(m.group(1)) * 1e5 + atmosphere):.1f} {u['P'].label}"
-    for pattern, fn in ((_T_TEXT, temp), (_DT_TEXT, diff), (_PG_TEXT, gauge), (_PA_TEXT, absolute)):
+    def speed(m):
+        return f"{u['velocity'](float(m.group(1))):.1f} {u['velocity'].label}"
+    for pattern, fn in ((_T_TEXT, temp), (_DT_TEXT, diff), (_PG_TEXT, gauge), (_PA_TEXT, absolute),
+                        (_V_TEXT, speed)):
         text = pattern.sub(fn, text)
     return text
 

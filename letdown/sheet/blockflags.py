@@ -29,7 +29,13 @@ FLAG_KINDS = {"two_phase_outlet": ("two_phase_outlet", "check"),
               "outlet_liquid": ("expander_liquid", "check"),
               "outlet_liquid_high": ("expander_liquid_high", "hazard"),
               "dense_phase_inlet": ("separator_dense_inlet", "hazard"),
-              "liquid_inlet": ("separator_liquid_inlet", "check")}
+              "liquid_inlet": ("separator_liquid_inlet", "check"),
+              "valve_undersized": ("valve_undersized", "hazard"),
+              "valve_fittings_limit": ("valve_undersized", "hazard"),
+              "valve_below_range": ("valve_below_range", "check"),
+              "valve_not_gas": ("valve_not_gas", "check"),
+              "valve_outlet_sonic": ("valve_outlet_sonic", "hazard"),
+              "fail_open_load": ("fail_open_load", "note")}
 
 
 def _C(T) -> str:
@@ -196,6 +202,60 @@ def _single_phase_inlet(dense):
     return text
 
 
+def _fail_open_load(fluid, i, outcome, d, inlets, outlets):
+    inlet = inlets["in"]
+    W = d["fail_open_flow_kg_s"]
+    return (f"if this valve fails wide open, {W[i] * 3600.0:.0f} kg/h "
+            f"({d['fail_open_flow_mol_s'][i] * 3.6:.1f} kmol/h"
+            f"{', choked' if d['fail_open_choked'][i] else ''}) flows through its rated Kv "
+            f"{d['Kv_rated'][i]:.4g} m3/h from {_bar(inlet.P[i])} into the protection set at "
+            f"{_bar(d['protection_set_pressure_Pa'][i])}: the load that protection must take "
+            f"(normal flow {inlet.mass_flow[i] * 3600.0:.0f} kg/h; inlet pressure held). "
+            "Overpressure protection and material selection follow local codes and licensed "
+            "practice",
+            {"fail_open_flow_kg_s": W, "fail_open_flow_mol_s": d["fail_open_flow_mol_s"],
+             "set_pressure_Pa": d["protection_set_pressure_Pa"], "P_in_Pa": inlet.P})
+
+
+def _valve_outlet_sonic(fluid, i, outcome, d, inlets, outlets):
+    return (f"the gas would leave the valve at Mach {d['outlet_mach'][i]:.2f} in its outlet pipe "
+            f"({d['outlet_velocity_m_s'][i]:.0f} m/s): a pipe cannot carry gas at or above its "
+            "speed of sound, so this flow and outlet pressure cannot be reached; use a larger "
+            "outlet pipe", {"outlet_mach": d["outlet_mach"],
+                            "outlet_velocity_m_s": d["outlet_velocity_m_s"]})
+
+
+def _valve_undersized(fluid, i, outcome, d, inlets, outlets):
+    if not np.isfinite(d["Kv_required"][i]):
+        return ("the valve is asked to pass a flow with no pressure drop, which needs an "
+                "unbounded flow coefficient: give the throttle a pressure drop",
+                {"Kv_required": d["Kv_required"], "Kv_rated": d["Kv_rated"]})
+    return (f"the valve cannot pass the flow: it needs Kv {d['Kv_required'][i]:.4g} m3/h "
+            f"(Cv {d['Cv_required'][i]:.4g}) and is rated Kv {d['Kv_rated'][i]:.4g} m3/h at full "
+            "travel (IEC 60534-2-1). Choose a larger valve or trim, or a smaller pressure drop "
+            "elsewhere", {"Kv_required": d["Kv_required"], "Kv_rated": d["Kv_rated"],
+                          "opening_fraction": d["opening_fraction"]})
+
+
+def _valve_fittings_limit(fluid, i, outcome, d, inlets, outlets):
+    return ("no flow coefficient passes the flow through this valve size with its reducers to "
+            "the pipes (IEC 60534-2-1 piping geometry factor): the valve's bore is too small for "
+            "the flow; choose a larger size", {"Kv_required": d["Kv_required"]})
+
+
+def _valve_below_range(fluid, i, outcome, d, inlets, outlets):
+    return (f"the valve works below its controllable range: it needs "
+            f"{_pct(d['Kv_required'][i] / d['Kv_rated'][i])} of its rated Kv, under "
+            "1/rangeability (the opening is shown as 0); it may not control steadily. Consider a "
+            "smaller valve or trim, or split the range between two valves",
+            {"Kv_required": d["Kv_required"], "Kv_rated": d["Kv_rated"]})
+
+
+def _valve_not_gas(fluid, i, outcome, d, inlets, outlets):
+    return ("the valve's inlet or outlet holds liquid: the gas sizing and noise equations of "
+            "IEC 60534 do not apply, and the valve's numbers are left blank", {})
+
+
 _TEXTS = {"two_phase_outlet": _two_phase_outlet, "temperature_cross": _temperature_cross,
           "spec_unmet": _spec_unmet, "reverse_duty": _reverse_duty,
           "three_phase_T_shift": _three_phase_T_shift,
@@ -204,4 +264,77 @@ _TEXTS = {"two_phase_outlet": _two_phase_outlet, "temperature_cross": _temperatu
           "liquid_feed": _liquid_feed, "liquid_feed_trace": _liquid_feed_trace,
           "outlet_liquid": _outlet_liquid, "outlet_liquid_high": _outlet_liquid_high,
           "dense_phase_inlet": _single_phase_inlet(True),
-          "liquid_inlet": _single_phase_inlet(False)}
+          "liquid_inlet": _single_phase_inlet(False),
+          "valve_undersized": _valve_undersized, "valve_fittings_limit": _valve_fittings_limit,
+          "valve_below_range": _valve_below_range, "valve_not_gas": _valve_not_gas,
+          "valve_outlet_sonic": _valve_outlet_sonic, "fail_open_load": _fail_open_load}
+
+
+#: Limits on the blocks' hydraulic numbers: ``limits`` entry -> (detail keys it bounds, warning
+#: kind). ``max_velocity`` bounds every detail whose key holds ``velocity`` and ends in ``_m_s``
+#: (a valve's inlet and outlet pipes, and any other block that reports a velocity).
+LIMITED_DETAILS = {"max_velocity": "velocity_limit", "max_opening": "opening_limit",
+                   "max_noise": "noise_limit"}
+
+
+#: The detail each limit other than max_velocity bounds, and the unit-keyed name of each limit in a
+#: warning's ``numbers``.
+_LIMIT_DETAIL = {"max_opening": "opening_fraction", "max_noise": "noise_dBA"}
+_LIMIT_NUMBER = {"max_velocity": "max_velocity_m_s", "max_opening": "max_opening_fraction",
+                 "max_noise": "max_noise_dBA"}
+
+
+def _limited_keys(limit: str, details) -> list:
+    if limit == "max_velocity":
+        return [k for k in details if "velocity" in k and k.endswith("_m_s")]
+    return [k for k in (_LIMIT_DETAIL[limit],) if k in details]
+
+
+def limit_warnings(limits, outcomes) -> list:
+    """Warnings (``check``) where a block's velocity, valve opening or valve noise is above the
+    flowsheet's ``limits.max_velocity`` [m/s], ``max_opening`` [-] or ``max_noise`` [dB(A)].
+
+    Parameters
+    ----------
+    limits : Mapping[str, float]
+        The flowsheet's limits (SI).
+    outcomes : Mapping[str, BlockOutcome]
+        The blocks' outcomes by name (their ``details``).
+
+    Returns
+    -------
+    list of WarningRecord
+        One per block and number over its limit, naming the block, with the first case's figures
+        and the SI ``numbers`` over the cases.
+    """
+    out = []
+    for limit, kind in LIMITED_DETAILS.items():
+        bound = limits.get(limit)
+        if bound is None:
+            continue
+        for name, outcome in outcomes.items():
+            for key in _limited_keys(limit, outcome.details):
+                values = np.asarray(outcome.details[key], dtype=float)
+                over = values > bound
+                if not np.any(over):
+                    continue
+                i = int(np.flatnonzero(over)[0])
+                if limit == "max_velocity":
+                    where = key.replace("_velocity_m_s", "").replace("velocity_", "")
+                    where = where.replace("_m_s", "").replace("_", " ")
+                    what = (f"gas velocity {values[i]:.1f} m/s ({where}) is above "
+                            f"limits.max_velocity {bound:.1f} m/s: expect noise, erosion by "
+                            "any dust or liquid and vibration; use a larger pipe")
+                elif limit == "max_opening":
+                    what = (f"the valve needs {_pct(values[i])} of its travel, above "
+                            f"limits.max_opening {_pct(bound)}: too little margin to control a "
+                            "rise in flow; choose a larger valve or trim")
+                else:
+                    what = (f"valve noise {values[i]:.1f} dBA at 1 m from the outlet pipe "
+                            f"(IEC 60534-8-3) is above limits.max_noise {bound:.1f} dBA; "
+                            "consider a low-noise trim, a smaller pressure drop per stage, a "
+                            "thicker pipe wall or acoustic insulation")
+                out.append(WarningRecord(name, what, tuple(np.flatnonzero(over).tolist()),
+                                         kind=kind, severity="check",
+                                         numbers={key: values, _LIMIT_NUMBER[limit]: bound}))
+    return out

@@ -37,6 +37,7 @@ import jsonschema
 import yaml
 
 from ..equipment.inject import MAX_DEPRESSION, options as inject_options
+from ..equipment.throttle import valve_problem
 from ..errors import InputError
 from ..fluid.inhibitor import inhibitor
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
@@ -471,6 +472,20 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
             params["inhibitor"] = _inhibitor(doc, raw.get("inhibitor"), path + ("inhibitor",))
             field_where["inhibitor"] = _where(doc, path + ("inhibitor",))
             _inject_options(doc, name, raw, params, field_where, path)
+        if kind == "throttle" and raw.get("valve") is not None:
+            params["valve"] = _valve(doc, q, raw["valve"], path + ("valve",))
+            field_where["valve"] = _where(doc, path + ("valve",))
+        if kind == "throttle" and raw.get("protection") is not None:
+            prot = raw["protection"]
+            if "valve" not in params:
+                raise doc.err("the fail-open flow into the protection needs the valve's rating "
+                              "(valve: {Kv: ...})", path + ("protection",))
+            if not isinstance(prot, dict) or "set_pressure" not in prot:
+                raise doc.err("protection is {set_pressure: ...}, the pressure at which the "
+                              "downstream protection acts", path + ("protection",))
+            params["protection"] = {"set_pressure": q(prot["set_pressure"], "pressure",
+                                                      path + ("protection", "set_pressure"))}
+            field_where["protection"] = _where(doc, path + ("protection",))
         if kind == "separator":
             params["water_port"] = "water" in raw["to"]
         if kind == "splitter":
@@ -489,6 +504,32 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
         blocks[name] = BlockSpec(name=name, kind=kind, inlets=inlets, outlets=outlets,
                                  params=params, where=_where(doc, path), field_where=field_where)
     return blocks
+
+
+#: Entries of a throttle's ``valve`` rating given as lengths (with a unit: '154 mm', '6 in').
+VALVE_LENGTHS = ("size", "inlet_pipe", "outlet_pipe", "wall_thickness")
+
+
+def _valve(doc: _Doc, q: _Quantities, raw, path) -> dict:
+    """A throttle's ``valve`` rating in SI, checked (:func:`letdown.equipment.throttle.valve_problem`).
+    Kv [m3/h], Cv [US gal/min at 1 psi], xT, FL, Fd, An and the rangeability are plain numbers."""
+    if not isinstance(raw, dict):
+        raise doc.err("valve is a mapping (Kv or Cv, xT, characteristic, ...)", path, key=False)
+    out: dict = {}
+    for key, text in raw.items():
+        if key in VALVE_LENGTHS:
+            out[key] = q(text, "length", path + (key,))
+        elif key == "characteristic":
+            out[key] = text
+        elif isinstance(text, bool) or not isinstance(text, (int, float)):
+            raise doc.err(f"{key} is a plain number, got {text!r}", path + (key,), key=False)
+        else:
+            out[key] = float(text)
+    problem = valve_problem(out)
+    if problem is not None:
+        key, message = problem
+        raise doc.err(message, path + (key,) if key in raw else path, key=key not in raw)
+    return out
 
 
 def _a(kind: str) -> str:
@@ -715,7 +756,41 @@ def _limits(doc: _Doc, q: _Quantities) -> dict:
                 out["outlet_streams"] = tuple(streams)
         else:
             out["outlet_min_T"] = q(rule, "temperature", ("limits", "outlet_min_T"))
+    # limits on the hydraulic numbers of the blocks (letdown.sheet.blockflags.limit_warnings)
+    if "max_velocity" in raw:
+        out["max_velocity"] = q(raw["max_velocity"], "velocity", ("limits", "max_velocity"))
+        if not out["max_velocity"] > 0.0:
+            raise doc.err(f"max_velocity must be positive, got {raw['max_velocity']!r}",
+                          ("limits", "max_velocity"), key=False)
+    if "max_opening" in raw:
+        out["max_opening"] = q(raw["max_opening"], "fraction", ("limits", "max_opening"))
+        if not 0.0 < out["max_opening"] <= 1.0:
+            raise doc.err(f"max_opening is a fraction of travel in (0, 1], got "
+                          f"{raw['max_opening']!r}", ("limits", "max_opening"), key=False)
+    if "max_noise" in raw:
+        out["max_noise"] = _decibels(doc, raw["max_noise"], ("limits", "max_noise"))
     return out
+
+
+#: A sound level limit outside this range [dB(A)] is a slip (hearing damage begins near 85 dB(A);
+#: no limit is set below the quiet of a room; common practice).
+NOISE_LIMIT_RANGE = (20.0, 200.0)
+
+
+def _decibels(doc: _Doc, text, path) -> float:
+    """A sound pressure level in dB(A): a number, or text such as '85 dBA' or '85 dB(A)'."""
+    value = None
+    if isinstance(text, (int, float)) and not isinstance(text, bool):
+        value = float(text)
+    elif isinstance(text, str):
+        m = re.fullmatch(r"\s*([-+]?\d+(?:\.\d*)?)\s*(dBA|dB\(A\)|dB)?\s*", text)
+        value = float(m.group(1)) if m else None
+    if value is None or not (math.isfinite(value)
+                             and NOISE_LIMIT_RANGE[0] <= value <= NOISE_LIMIT_RANGE[1]):
+        raise doc.err(f"max_noise is a sound level such as '85 dBA' (between "
+                      f"{NOISE_LIMIT_RANGE[0]:g} and {NOISE_LIMIT_RANGE[1]:g}), got {text!r}",
+                      path, key=False)
+    return value
 
 
 #: Units of a water content written as a string (``gas.water``), per standard volume of dry gas.

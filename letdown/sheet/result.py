@@ -441,7 +441,10 @@ class BatchResult:
                 entry["dP_Pa"] = _num(eq.dP[i])
             for key, values in eq.details.items():
                 # words (an inject block's sizing rule, its protected stream) stay words
-                entry[key] = values[i] if isinstance(values[i], str) else _num(values[i])
+                # and yes/no numbers (a valve's ``choked``) stay booleans
+                v = values[i]
+                entry[key] = v if isinstance(v, str) else (
+                    bool(v) if isinstance(v, (bool, np.bool_)) else _num(v))
             for key, values in eq.flags.items():
                 entry[key] = bool(values[i])
             entry["mole_balance_closure"] = _num(closure[name][0][i])

@@ -42,7 +42,7 @@ from ..fluid import Fluid
 from ..fluid.components import R
 from ..fluid.models import out_of_range
 from .freezing import basis, freezing_warnings, inject_doses, inject_params, stream_freezing
-from .blockflags import FLAG_KINDS, flag_warning  # noqa: F401 (FLAG_KINDS: block flag -> kind)
+from .blockflags import FLAG_KINDS, flag_warning, limit_warnings  # noqa: F401 (FLAG_KINDS: block flag -> kind)
 from .graph import build_graph, solve_order
 from .modelchoice import solve_default_model
 from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, GoalRecord,
@@ -960,6 +960,8 @@ class _Engine:
                         self.fluid, name, flag, values, outcome,
                         {p: ev.streams[s] for p, s in spec.inlets.items()},
                         {p: ev.streams[s] for p, s in spec.outlets.items()}))
+        # limits on velocities, valve openings and noise (letdown.sheet.blockflags)
+        warnings.extend(limit_warnings(self.fs.limits, ev.outcomes))
         return self._batch(ev, doses, freezing, warnings, goals, loops, ok, reasons)
 
     def _batch(self, ev, doses, freezing, warnings, goals, loops, ok, reasons) -> BatchResult:
