@@ -29,6 +29,7 @@ from __future__ import annotations
 import difflib
 import json
 import math
+import re
 from dataclasses import dataclass
 from importlib import resources
 from pathlib import Path
