@@ -97,6 +97,45 @@ def display_table(table, units: str = "si", atmosphere: float = STANDARD_ATMOSPH
                  tuple(rows))
 
 
+def plot_series(table, spec: str, units: str = "si",
+                atmosphere: float = STANDARD_ATMOSPHERE, n_inputs: int | None = None):
+    """What :func:`plot_files` draws: (x label, {unit: [(line label, x, y)]}), x sorted within
+    each line, one panel per unit, one line per output and combination of the other inputs."""
+    x_name, _, ys = spec.partition(":")
+    names = {c.split(" [")[0]: c for c in table.columns}
+    wanted = [x_name.strip()] + [y.strip() for y in ys.split(",") if y.strip()]
+    missing = [w for w in wanted if w not in names]
+    if not ys or missing:
+        raise InputError(f"--plot {spec!r}: give X:Y[,Y] from the columns "
+                         f"({', '.join(n for n in names if n not in ('converged', 'reason'))})",
+                         field="--plot")
+    x_col = names[wanted[0]]
+    x_label, x_fn = column_unit(x_col, units, atmosphere)
+    x = np.array([x_fn(v) for v in table.column(x_col)], dtype=float)
+    inputs = list(table.columns[:n_inputs]) if n_inputs else []
+    others = [c for c in inputs if c != x_col]
+    if others:
+        keys = [tuple(r[table.columns.index(c)] for c in others) for r in table.rows]
+        groups = list(dict.fromkeys(keys))
+    else:
+        keys, groups = [()] * len(table.rows), [()]
+    panels: dict = {}
+    for y_name in wanted[1:]:
+        label, fn = column_unit(names[y_name], units, atmosphere)
+        unit = label.rpartition(" [")[2].rstrip("]") if " [" in label else "-"
+        y = np.array([fn(v) for v in table.column(names[y_name])], dtype=float)
+        for g in groups:
+            sel = np.array([k == g for k in keys])
+            order = np.argsort(x[sel], kind="stable")
+            tag = ", ".join(f"{column_unit(c, units, atmosphere)[0].split(' [')[0]} = "
+                            f"{_fmt(column_unit(c, units, atmosphere)[1](v))} "
+                            f"{column_unit(c, units, atmosphere)[0].partition(' [')[2][:-1]}"
+                            for c, v in zip(others, g))
+            panels.setdefault(unit, []).append(
+                (y_name + (f" ({tag})" if tag else ""), x[sel][order], y[sel][order]))
+    return x_label, panels
+
+
 def plot_files(table, spec: str, units: str = "si", atmosphere: float = STANDARD_ATMOSPHERE,
                n_inputs: int | None = None) -> dict:
     """PNG and SVG of outputs against one input: ``spec`` is ``X:Y1,Y2`` (column names without the
@@ -117,37 +156,14 @@ def plot_files(table, spec: str, units: str = "si", atmosphere: float = STANDARD
     plt = pyplot()
     if plt is None:
         raise InputError("plots need matplotlib: pip install 'letdown[plot]'", field="--plot")
-    x_col = names[wanted[0]]
-    x_label, x_fn = column_unit(x_col, units, atmosphere)
-    x = np.array([x_fn(v) for v in table.column(x_col)], dtype=float)
-    inputs = list(table.columns[:n_inputs]) if n_inputs else []
-    others = [c for c in inputs if c != x_col]
-    # one line per combination of the other inputs (a grid); a single line otherwise
-    if others:
-        keys = [tuple(r[table.columns.index(c)] for c in others) for r in table.rows]
-        groups = list(dict.fromkeys(keys))
-    else:
-        keys, groups = [()] * len(table.rows), [()]
-    panels: dict = {}
-    for y_name in wanted[1:]:
-        label, fn = column_unit(names[y_name], units, atmosphere)
-        unit = label.rpartition(" [")[2].rstrip("]") if " [" in label else "-"
-        panels.setdefault(unit, []).append((y_name, label, fn))
+    x_label, panels = plot_series(table, spec, units, atmosphere, n_inputs)
     fig, axes = plt.subplots(len(panels), 1, figsize=(7, 2.2 + 2.6 * len(panels)), sharex=True,
                              squeeze=False)
     for ax, (unit, series) in zip(axes[:, 0], panels.items()):
-        for y_name, label, fn in series:
-            y = np.array([fn(v) for v in table.column(names[y_name])], dtype=float)
-            for g in groups:
-                sel = np.array([k == g for k in keys])
-                order = np.argsort(x[sel], kind="stable")
-                tag = ", ".join(f"{column_unit(c, units, atmosphere)[0].split(' [')[0]} = "
-                                f"{_fmt(column_unit(c, units, atmosphere)[1](v))} "
-                                f"{column_unit(c, units, atmosphere)[0].partition(' [')[2][:-1]}"
-                                for c, v in zip(others, g))
-                ax.plot(x[sel][order], y[sel][order], marker="o",
-                        label=f"{y_name}" + (f" ({tag})" if tag else ""))
-        ax.set_ylabel(", ".join(n for n, _, _ in series) + f" [{unit}]")
+        for label, x, y in series:
+            ax.plot(x, y, marker="o", label=label)
+        ax.set_ylabel(", ".join(dict.fromkeys(lab.split(" (")[0] for lab, _, _ in series))
+                      + f" [{unit}]")
         ax.grid(True, alpha=0.3)
         ax.legend(fontsize=8)
     axes[-1, 0].set_xlabel(x_label)

@@ -125,10 +125,12 @@ def _units(units: str, atmosphere: float | None):
     u = unit_system("si" if units == "display" else units,
                     STANDARD_ATMOSPHERE if atmosphere is None else atmosphere)
     if units == "field":
-        # 1 MWh = 3.412142 MMBtu (1 Btu = 1055.05585 J, IT Btu); 1 Sm3 (15 degC) = 35.31467 ft3
+        # 1 Btu (IT) = 1055.05585262 J (NIST SP 811, B.8), so 1 MWh = 3.412142 MMBtu; 1 m3 =
+        # 1 / 0.3048**3 ft3 = 35.31467 ft3
         # at the same conditions: fuel volume kept at 15 degC / 101.325 kPa, in thousand ft3
-        return {"T": u["T"], "duty": u["duty"], "energy": DisplayUnit("MMBtu", 3.6e9 / 1055.05585e6),
-                "vol": DisplayUnit("Mft3 (15 degC, 101.325 kPa)", 35.31466672 / 1e3)}
+        return {"T": u["T"], "duty": u["duty"],
+                "energy": DisplayUnit("MMBtu", 3.6e9 / 1055.05585262e6),
+                "vol": DisplayUnit("Mft3 (15 degC, 101.325 kPa)", 1e-3 / 0.3048 ** 3)}
     return {"T": u["T"], "duty": u["duty"], "energy": DisplayUnit("MWh"), "vol": DisplayUnit("Sm3")}
 
 
