@@ -2,16 +2,19 @@
 
 Verbs::
 
-    letdown solve FILE [--json] [--csv DIR] [--model M] [--units si|field] [--debug]
+    letdown solve FILE [--json] [--csv DIR] [--model M] [--units si|field] [--html P] [--xlsx P]
     letdown check FILE [--debug]
-    letdown crosscheck FILE [--models M,M] [--json] [--units si|field]
+    letdown new station|train [FILE]
+    letdown crosscheck FILE [--models M,M] [--json] [--units si|field] [--html P]
     letdown compare FILE [--data CSV] [--fit block.parameter --within LO HI] [--models M,M] [--json]
+                 [--html P]
     letdown envelope FILE --stream NAME [--lines 0.1,0.5] [--csv DIR] [--json] [--plot F.png|F.svg]
     letdown sweep FILE --vary PATH=VALUES [...] [--zip] [--out DIR] [--plot X:Y] [--workers N|--dask A]
+                 [--units si|display|field] [--html P] [--xlsx P] [--quiet]
     letdown year FILE --profile CSV [--efficiency E] [--calorific gross|net] [--out DIR]
-                 [--workers N|--dask A]
+                 [--workers N|--dask A] [--units display|si|field] [--html P] [--xlsx P] [--quiet]
     letdown size FILE [--efficiency E] [--model M] [--free-water always|by-dew-point]
-                 [--calorific gross|net] [--json] [--units si|field]
+                 [--calorific gross|net] [--json] [--units si|field] [--html P] [--xlsx P]
     letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
 
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
@@ -22,7 +25,8 @@ traceback).
 Errors are one line on stderr, ``letdown: FILE:LINE: field: message``; ``--debug`` adds the
 traceback. With ``--json`` stdout holds only the JSON object; messages for people go to stderr.
 ``--csv DIR`` writes ``streams.csv`` and ``equipment.csv`` only after a successful solve (into a
-temporary directory first, then moved into place), so a failure leaves nothing behind.
+temporary directory first, then moved into place), so a failure leaves nothing behind; ``--html``
+and ``--xlsx`` files likewise go to a temporary file beside the target, then renamed.
 """
 from __future__ import annotations
 
@@ -56,8 +60,11 @@ class _Parser(argparse.ArgumentParser):
 def _parser() -> argparse.ArgumentParser:
     common = argparse.ArgumentParser(add_help=False)
     common.add_argument("--debug", action="store_true", help="show the traceback of an error")
+    common.add_argument("--quiet", action="store_true",
+                        help="no progress bar (sweep and year show one on a terminal only)")
     p = _Parser(prog="letdown", description="Steady-state flowsheets for natural-gas let-down "
-                "stations and gas chilling trains.", parents=[common])
+                "stations and gas chilling trains.", parents=[common], epilog=HELP_EPILOG,
+                formatter_class=argparse.RawDescriptionHelpFormatter)
     sub = p.add_subparsers(dest="verb", metavar="VERB", parser_class=_Parser)
     sub.required = True
 
@@ -75,6 +82,13 @@ def _parser() -> argparse.ArgumentParser:
 
     c = sub.add_parser("check", parents=[common], help="validate a flowsheet file without solving")
     c.add_argument("file", metavar="FILE")
+
+    nw = sub.add_parser("new", parents=[common],
+                        help="write a commented starter file: a let-down station or a chilling "
+                             "train")
+    nw.add_argument("kind", choices=("station", "train"), help="which starter")
+    nw.add_argument("file", metavar="FILE", nargs="?",
+                    help="where to write it (default: print it); an existing file is kept")
 
     x = sub.add_parser("crosscheck", parents=[common],
                        help="solve a flowsheet with every applicable model and compare")
@@ -176,6 +190,29 @@ def _parser() -> argparse.ArgumentParser:
     return p
 
 
+#: The end of ``letdown --help``: the models and the unit spellings (tests/test_new_and_help.py
+#: checks the lists against the model table and the unit parser).
+HELP_EPILOG = """\
+models (gas.model or --model):
+  peng-robinson (pr, pr76; the default), peng-robinson-1978 (pr78),
+  soave-redlich-kwong (srk), gerg-2008 (gerg, gerg2008; single-phase mixtures)
+
+unit spellings (a quantity is text with a unit, e.g. '6 degC', '64 barg'):
+  temperature   degC, degF, K, degR
+  difference    K, delta_degC, delta_degF (margins, approaches)
+  pressure      bar, bara, mbar, Pa, kPa, MPa, psi, psia; gauge barg, psig, kPag, MPag
+  pressure drop bar, psi, kPa (absolute units)
+  flow          Sm3/h, Sm3/d (15 degC), Nm3/h (0 degC), MMscfd, Mscfd, scf/h (60 degF);
+                mol/s, kmol/h, kmol/d, lbmol/h; kg/s, kg/h, t/h, t/d, lb/h
+  power, duty   W, kW, MW, hp, MMBtu/h        UA  W/K, kW/K
+  fractions     0.78 or 78 %
+
+display units of reports (--units): si (degC, barg, kW), field (degF, psig, MMBtu/h);
+sweep and year also take display, and their si is plain SI (K, Pa, W) as their CSV.
+Start with: letdown new station my-station.yaml
+"""
+
+
 def _record_options(parser, html: bool = True, xlsx: bool = True) -> None:
     """``--html PATH`` and ``--xlsx PATH``: the calculation record as a page and as a workbook."""
     if html:
@@ -212,6 +249,8 @@ def main(argv=None) -> int:
             return _solve(args)
         if args.verb == "check":
             return _check(args)
+        if args.verb == "new":
+            return _new(args)
         if args.verb == "crosscheck":
             return _crosscheck(args)
         if args.verb == "sweep":
@@ -479,7 +518,8 @@ def _sweep(args) -> int:
     executor = make_executor(args.workers, args.dask)
     try:
         table = sweep(fs, variables, mode="zip" if args.zip else "grid", model=args.model,
-                      outputs=outputs, executor=executor, show_progress=sys.stderr.isatty())
+                      outputs=outputs, executor=executor,
+                      show_progress=sys.stderr.isatty() and not args.quiet)
     finally:
         executor.close()
     if target is not None:
@@ -527,7 +567,8 @@ def _year(args) -> int:
     try:
         res = year(fs, profile, efficiency=args.efficiency, feed=args.feed,
                    outlet_block=args.outlet, model=args.model, executor=executor,
-                   show_progress=sys.stderr.isatty(), calorific=args.calorific)
+                   show_progress=sys.stderr.isatty() and not args.quiet,
+                   calorific=args.calorific)
     finally:
         executor.close()
     if args.units == "display":
@@ -769,6 +810,26 @@ def _envelope(args) -> int:
         print(f"letdown: {args.file}: the envelope is incomplete (see the warnings above)",
               file=sys.stderr)
         return EXIT_FAILED_SOLVE
+    return EXIT_OK
+
+
+def _new(args) -> int:
+    """Write (or print) a commented starter file that ``check`` accepts and ``solve`` solves."""
+    from .report.starters import STARTERS
+
+    text = STARTERS[args.kind]
+    if not args.file:
+        sys.stdout.write(text)
+        return EXIT_OK
+    target = Path(args.file)
+    if target.exists():
+        raise InputError(f"'{args.file}' exists; choose another name (nothing was written)",
+                         field="new")
+    if not target.resolve().parent.is_dir():
+        raise InputError(f"the directory of '{args.file}' does not exist", field="new")
+    _write_file(target, text, "new")
+    print(f"letdown: next: letdown check {args.file}  then  letdown solve {args.file}",
+          file=sys.stderr)
     return EXIT_OK
 
 
