@@ -61,7 +61,7 @@ def _parser() -> argparse.ArgumentParser:
     common = argparse.ArgumentParser(add_help=False)
     common.add_argument("--debug", action="store_true", help="show the traceback of an error")
     common.add_argument("--quiet", action="store_true",
-                        help="no progress bar (sweep and year show one on a terminal only)")
+                        help="no progress bar (sweep and year show one on a terminal, once a run takes a second)")
     p = _Parser(prog="letdown", description="Steady-state flowsheets for natural-gas let-down "
                 "stations and gas chilling trains.", parents=[common], epilog=HELP_EPILOG,
                 formatter_class=argparse.RawDescriptionHelpFormatter)
