@@ -243,6 +243,7 @@ def main(argv=None) -> int:
         return EXIT_BAD_INPUT
     except SystemExit as exc:      # --help prints and exits 0
         return int(exc.code or 0)
+    args.argv = argv               # the command as given, for the run record
     where = getattr(args, "file", None)
     try:
         if args.verb == "solve":
@@ -425,9 +426,11 @@ def _run_info(args, model: str, units: str) -> dict:
 
     from ._version import __version__
 
+    import shlex
+
     raw = Path(args.file).read_bytes()
-    verb = getattr(args, "verb", "solve")
-    return {"Command": "letdown " + " ".join(sys.argv[1:]) if sys.argv[1:] else f"letdown {verb}",
+    argv = getattr(args, "argv", None) or [getattr(args, "verb", "solve"), str(args.file)]
+    return {"Command": "letdown " + shlex.join(argv),
             "letdown version": __version__,
             "Input file": str(args.file),
             "Input SHA-256": hashlib.sha256(raw).hexdigest(),
@@ -487,12 +490,12 @@ def _write_study_html(args, title: str, model: str, sections, units: str) -> Non
 
 def _write_workbook(args, model: str, sheets) -> None:
     """Write ``sheets`` (run information first) as the ``--xlsx`` workbook."""
-    from .report.workbook import workbook_bytes
+    from .report.workbook import _run_rows, workbook_bytes
 
     run = _run_info(args, model, XLSX_UNITS)
     name, header, rows = sheets[0]
     if name == "Run":
-        sheets = [(name, header, tuple(run.items()) + tuple(rows))] + list(sheets[1:])
+        sheets = [(name, header, _run_rows(run) + tuple(rows))] + list(sheets[1:])
     _write_file(Path(args.xlsx), workbook_bytes(sheets), "--xlsx")
 
 

@@ -180,3 +180,31 @@ def test_year_in_field_units(tmp_path, capsys):
     assert main(["year", str(GATE), "--profile", _profile(tmp_path, 4), "--units", "field"]) == 0
     out = capsys.readouterr().out
     assert "MMBtu" in out and "degF" in out and "licensed staff" in out
+
+
+@pytest.mark.slow
+@pytest.mark.parametrize("verb", ["sweep", "year", "size"])
+def test_study_record_renders_in_a_browser(verb, tmp_path):
+    """Headless Chromium draws the record (a screenshot with more than one colour) and lays the
+    inline plot out at a real size; skips where no Chromium is installed."""
+    from tests.test_html_browser import BROWSER, _png_is_not_blank, _run
+    if BROWSER is None:
+        pytest.skip("no headless Chromium installed (apt-get install chromium; .ci/run does)")
+    source, args = _runs(tmp_path)[verb]
+    page = tmp_path / f"{verb}.html"
+    assert main(args + ["--html", str(page)]) == 0
+    shot = tmp_path / "shot.png"
+    _run(f"--screenshot={shot}", "--window-size=1000,1400", page.as_uri())
+    assert shot.exists() and _png_is_not_blank(shot)
+    if verb == "size":
+        return
+    probe = tmp_path / "probe.html"
+    probe.write_text(page.read_text(encoding="utf-8").replace("</body>", """<script>
+window.addEventListener('load', function () {
+  var r = document.querySelector('svg.plot').getBoundingClientRect();
+  var pre = document.createElement('pre'); pre.id = 'probe';
+  pre.textContent = JSON.stringify([r.width, r.height]); document.body.appendChild(pre); });
+</script></body>"""), encoding="utf-8")
+    dom = _run("--dump-dom", "--virtual-time-budget=3000", probe.as_uri())
+    w, h = json.loads(re.search(r'<pre id="probe">(.*?)</pre>', dom, re.S).group(1))
+    assert w > 300 and h > 200, (w, h)

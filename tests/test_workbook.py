@@ -89,6 +89,7 @@ def test_solve_workbook_holds_the_json_numbers(path, tmp_path, capsys):
     import hashlib
     assert run["Input SHA-256"] == hashlib.sha256(path.read_bytes()).hexdigest()
     assert run["Model"] == data["model"] and run["letdown version"]
+    assert run["Command"] == f"letdown solve {path} --json --xlsx {target}"   # as given
     assert "licensed" in run["caution"]
     assert n > 100
 

@@ -14,7 +14,10 @@ from __future__ import annotations
 import io
 import json
 import math
+import re
 from typing import Mapping
+
+import numpy as np
 
 #: SI unit of a JSON key, by the key's suffix (longest first), as written in a column header.
 _SUFFIX_UNITS = (
@@ -57,17 +60,27 @@ def header_of(key: str) -> str:
     return key
 
 
+#: Characters a workbook cell cannot hold (XML 1.0 control characters).
+_ILLEGAL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f]")
+
+
 def _cell(v):
-    """A JSON value as a cell: numbers stay numbers, NaN/None blank, containers as JSON text."""
+    """A JSON value as a cell: numbers stay numbers, NaN/None blank, containers as JSON text.
+
+    >>> _cell(float("nan")), _cell(np.float64(2.5)), _cell(np.bool_(True)), _cell("a\x07b")
+    (None, 2.5, True, 'a?b')
+    """
     if v is None:
         return None
+    if isinstance(v, np.generic):
+        v = v.item()
     if isinstance(v, bool):
         return v
     if isinstance(v, (int, float)):
         return None if isinstance(v, float) and not math.isfinite(v) else v
     if isinstance(v, (list, tuple, dict)):
         return json.dumps(v, allow_nan=False, default=str) if v else None
-    return str(v)
+    return _ILLEGAL.sub("?", str(v))
 
 
 def _records(items, first: str) -> tuple:
@@ -82,7 +95,7 @@ def _records(items, first: str) -> tuple:
 
 
 def _run_rows(run: Mapping) -> tuple:
-    return tuple((str(k), _cell(v) if not isinstance(v, str) else v) for k, v in run.items())
+    return tuple((str(k), _cell(v)) for k, v in run.items())
 
 
 def solve_sheets(data: Mapping, run: Mapping) -> list:

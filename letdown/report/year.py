@@ -199,7 +199,8 @@ def year_html_sections(res, units: str = "display", atmosphere: float | None = N
     plots = year_plot_files(res, units, atmosphere)
     if "year.svg" in plots:
         parts.append(("Plot", inline_svg(plots["year.svg"], "a year of operation")))
-    parts.append(("Report", text_html(year_text(res))))
+    if units == "display":      # the terminal report is in display units; others have the table
+        parts.append(("Report", text_html(year_text(res))))
     bad = np.flatnonzero(~res.converged)
     if bad.size:
         parts.append(("Failed hours", "<ul>" + "".join(
