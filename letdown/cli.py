@@ -622,7 +622,8 @@ def _size(args) -> int:
         from .report.workbook import size_sheets
         _write_workbook(args, res.model, size_sheets(res.to_dict()))
     if args.html:
-        from .report.html import text_html, warnings_list_html
+        from .report.html import table_html, text_html, warnings_list_html
+        from .report.size import size_tables
         d = res.to_dict()
         seen, ws = set(), []
         for c in d["cases"]:
@@ -631,10 +632,12 @@ def _size(args) -> int:
                 if key not in seen:
                     seen.add(key)
                     ws.append(key)
+        atm = fs.extra.get("atmosphere")
         _write_study_html(args, f"{fs.title}: preheat sizing", res.model, [
-            ("Sizing", text_html(size_text(res, args.units,
-                                           atmosphere=fs.extra.get("atmosphere")))),
-            ("Warnings (any case)", warnings_list_html(ws))], args.units)
+            ("Cases", "".join(table_html(t) for t in size_tables(res, args.units, atm))),
+            ("Warnings (any case)", warnings_list_html(ws)),
+            ("Report as printed", text_html(size_text(res, args.units, atmosphere=atm)))],
+            args.units)
     if not res.all_met:
         bad = [c.name for c in res.cases if not c.met]
         print(f"letdown: {args.file}: {len(bad)} of {len(res.cases)} cases failed or not met "
@@ -663,12 +666,14 @@ def _crosscheck(args) -> int:
     else:
         print(crosscheck_text(cc, args.units))
     if args.html:
-        from .report.html import text_html, warnings_list_html
+        from .report.crosscheck import crosscheck_table
+        from .report.html import table_html, text_html, warnings_list_html
         ws = [("check", f"{m}: {where}", what) for m, items in cc.warnings.items()
               for where, what in items]
         _write_study_html(args, f"{cc.title}: second opinion by model", ", ".join(cc.models), [
-            ("Results by model", text_html(crosscheck_text(cc, args.units))),
-            ("Warnings by model", warnings_list_html(ws))], args.units)
+            ("Results by model", table_html(crosscheck_table(cc, args.units))),
+            ("Warnings by model", warnings_list_html(ws)),
+            ("Report as printed", text_html(crosscheck_text(cc, args.units)))], args.units)
     if not any(m not in cc.failures for m in cc.models):
         print(f"letdown: {args.file}: no model could solve the flowsheet", file=sys.stderr)
         return EXIT_FAILED_SOLVE
@@ -703,14 +708,18 @@ def _compare(args) -> int:
     else:
         print(compare_text(cmp, args.units, atmosphere=fs.extra.get("atmosphere")))
     if args.html:
-        from .report.html import text_html, warnings_list_html
+        from .report.compare import compare_table
+        from .report.html import table_html, text_html, warnings_list_html
+        atm = fs.extra.get("atmosphere")
         ws = [("check", f"{m}: {where}", what) for m, c in cmp.results.items()
               for where, what in c.warnings]
+        sections = [("Residuals by model", table_html(compare_table(cmp, args.units, atm)))] \
+            if cmp.results else []
         _write_study_html(args, f"{cmp.title}: check against measurements",
-                          ", ".join(cmp.results) or "-", [
-                              ("Comparison", text_html(compare_text(
-                                  cmp, args.units, atmosphere=fs.extra.get("atmosphere")))),
-                              ("Warnings by model", warnings_list_html(ws))], args.units)
+                          ", ".join(cmp.results) or "-", sections + [
+                              ("Warnings by model", warnings_list_html(ws)),
+                              ("Report as printed", text_html(compare_text(
+                                  cmp, args.units, atmosphere=atm)))], args.units)
     if not cmp.results:
         print(f"letdown: {args.file}: no model could solve the flowsheet", file=sys.stderr)
         return EXIT_FAILED_SOLVE

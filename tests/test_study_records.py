@@ -71,6 +71,7 @@ def test_study_record_is_self_contained_and_complete(verb, tmp_path, capsys):
     if verb == "size":
         assert main(["size", str(source), "--json"]) == 0
         d = json.loads(capsys.readouterr().out)
+        assert _first_table_rows(text, "Cases") == len(d["cases"])   # one row per case
         for c in d["cases"]:
             assert html.escape(c["name"]) in text
             for w in c["warnings"]:
@@ -81,10 +82,14 @@ def test_study_record_is_self_contained_and_complete(verb, tmp_path, capsys):
         for m, ws in d["warnings"].items():
             for w in ws:
                 assert html.escape(w["what"]) in text
-        assert "Results by model" in text
+        assert _first_table_rows(text, "Results by model") == len(d["rows"]) > 3
     elif verb == "compare":
-        for line in (EXAMPLES / "fired-gate-station-readings.csv").read_text().splitlines()[1:]:
-            assert html.escape(line.split(",")[0]) in text
+        assert main(args + ["--json"]) == 0
+        d = json.loads(capsys.readouterr().out)
+        residuals = next(iter(d["results"].values()))["residuals"]
+        assert _first_table_rows(text, "Residuals by model") == len(residuals) == 6
+        for r in residuals:
+            assert html.escape(r["at"]) in text
     elif verb == "sweep":
         assert text.count('class="plot"') == 1                 # the plot, inline
         cases = re.search(r"<h2>Cases</h2>.*?<tbody>(.*?)</tbody>", text, re.S).group(1)
@@ -93,6 +98,12 @@ def test_study_record_is_self_contained_and_complete(verb, tmp_path, capsys):
     elif verb == "year":
         assert text.count('class="plot"') == 1
         assert "The year&#x27;s figures" in text or "The year's figures" in text
+
+
+def _first_table_rows(text: str, heading: str) -> int:
+    """Rows of the first table under the <h2> ``heading``."""
+    part = text.split(f"<h2>{heading}</h2>", 1)[1]
+    return part.split("<tbody>", 1)[1].split("</tbody>", 1)[0].count("<tr>")
 
 
 def _grid_table():
