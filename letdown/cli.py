@@ -245,6 +245,24 @@ def main(argv=None) -> int:
         return int(exc.code or 0)
     args.argv = argv               # the command as given, for the run record
     where = getattr(args, "file", None)
+    if args.quiet:
+        return _quietly(args, debug)
+    return _dispatch(args, where, debug)
+
+
+def _quietly(args, debug) -> int:
+    """Run with the progress bar of the studies off (it never reaches its start delay)."""
+    from .study import executors
+    saved = executors.PROGRESS_DELAY
+    executors.PROGRESS_DELAY = float("inf")
+    try:
+        return _dispatch(args, getattr(args, "file", None), debug)
+    finally:
+        executors.PROGRESS_DELAY = saved
+
+
+def _dispatch(args, where, debug) -> int:
+    """Run the verb; turn each error into one located line and its exit code."""
     try:
         if args.verb == "solve":
             return _solve(args)
@@ -521,8 +539,7 @@ def _sweep(args) -> int:
     executor = make_executor(args.workers, args.dask)
     try:
         table = sweep(fs, variables, mode="zip" if args.zip else "grid", model=args.model,
-                      outputs=outputs, executor=executor,
-                      show_progress=sys.stderr.isatty() and not args.quiet)
+                      outputs=outputs, executor=executor, show_progress=sys.stderr.isatty())
     finally:
         executor.close()
     if target is not None:
@@ -570,8 +587,7 @@ def _year(args) -> int:
     try:
         res = year(fs, profile, efficiency=args.efficiency, feed=args.feed,
                    outlet_block=args.outlet, model=args.model, executor=executor,
-                   show_progress=sys.stderr.isatty() and not args.quiet,
-                   calorific=args.calorific)
+                   show_progress=sys.stderr.isatty(), calorific=args.calorific)
     finally:
         executor.close()
     if args.units == "display":

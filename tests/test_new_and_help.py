@@ -64,8 +64,19 @@ def test_help_lists_every_model_and_accepted_units(capsys):
     assert checked >= 30
 
 
-def test_quiet_is_accepted(capsys):
+def test_quiet_turns_the_progress_bar_off(capsys, monkeypatch):
+    pytest.importorskip("tqdm")
+    import sys
     from pathlib import Path
+
+    from letdown.study import executors
     gate = Path(__file__).resolve().parents[1] / "flowsheets" / "gate-station.yaml"
-    assert main(["sweep", str(gate), "--vary", "supply.T=0degC,5degC", "--quiet"]) == 0
-    assert capsys.readouterr().out.startswith("supply.T [K]")
+    monkeypatch.setattr(executors, "PROGRESS_DELAY", 0.0)     # show it at once, for the test
+    monkeypatch.setattr(sys.stderr, "isatty", lambda: True, raising=False)
+    args = ["sweep", str(gate), "--vary", "supply.T=0degC,5degC"]
+    assert main(args) == 0
+    assert "solving" in capsys.readouterr().err                # a terminal: the bar
+    assert main(args + ["--quiet"]) == 0
+    out = capsys.readouterr()
+    assert "solving" not in out.err and out.out.startswith("supply.T [K]")
+    assert executors.PROGRESS_DELAY == 0.0                     # restored after the run

@@ -60,6 +60,8 @@ def header_of(key: str) -> str:
     return key
 
 
+#: Most characters a cell holds (the spreadsheet format's own limit is 32,767).
+CELL_LIMIT = 32_000
 #: Characters a workbook cell cannot hold (XML 1.0 control characters).
 _ILLEGAL = re.compile(r"[\x00-\x08\x0b\x0c\x0e-\x1f]")
 
@@ -79,8 +81,13 @@ def _cell(v):
     if isinstance(v, (int, float)):
         return None if isinstance(v, float) and not math.isfinite(v) else v
     if isinstance(v, (list, tuple, dict)):
-        return json.dumps(v, allow_nan=False, default=str) if v else None
-    return _ILLEGAL.sub("?", str(v))
+        v = json.dumps(v, default=str) if v else None
+        if v is None:
+            return None
+    text = _ILLEGAL.sub("?", str(v))
+    if len(text) > CELL_LIMIT:         # a spreadsheet cell holds at most 32,767 characters
+        return text[: CELL_LIMIT - 40] + " ... (cut: see the JSON or CSV output)"
+    return text
 
 
 def _records(items, first: str) -> tuple:
@@ -214,11 +221,15 @@ def year_sheets(res) -> list:
     heaters = list(res.heater_duty)
     streams = list(res.stream_T)
     off = getattr(res, "heater_off", {}) or {}
+    hyd = getattr(res, "stream_hydrate_T", None) or {}      # where the year carries it
+    hydrate = [n for n in streams if n in hyd]
     header = ("time", *(f"{n}.duty [W]" for n in heaters), *(f"{n}.off" for n in heaters),
-              *(f"{n}.T [K]" for n in streams), "converged", "reason")
+              *(f"{n}.T [K]" for n in streams), *(f"{n}.hydrate_T [K]" for n in hydrate),
+              "converged", "reason")
     rows = tuple((t, *(_cell(float(res.heater_duty[n][i])) for n in heaters),
                   *(bool(off[n][i]) if n in off else False for n in heaters),
-                  *(_cell(float(res.stream_T[n][i])) for n in streams), bool(res.converged[i]),
+                  *(_cell(float(res.stream_T[n][i])) for n in streams),
+                  *(_cell(float(hyd[n][i])) for n in hydrate), bool(res.converged[i]),
                   _cell(res.reasons[i]))
                  for i, t in enumerate(res.profile.time))
     summary = flatten(res.summary())
