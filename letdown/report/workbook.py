@@ -97,7 +97,7 @@ def _records(items, first: str) -> tuple:
     for _, d in items:
         keys.extend(k for k in d if k not in keys)
     header = (first, *(header_of(k) for k in keys))
-    rows = tuple((name, *(_cell(d.get(k)) for k in keys)) for name, d in items)
+    rows = tuple((_cell(name), *(_cell(d.get(k)) for k in keys)) for name, d in items)
     return header, rows
 
 
@@ -113,8 +113,9 @@ def solve_sheets(data: Mapping, run: Mapping) -> list:
     list of (sheet name, header, rows)
     """
     sheets = [("Run", ("item", "value"), _run_rows(run)
-               + (("title", data.get("title")), ("converged", data.get("converged")),
-                  ("failure", _cell(data.get("failure"))), ("caution", data.get("caution"))))]
+               + (("title", _cell(data.get("title"))), ("converged", data.get("converged")),
+                  ("failure", _cell(data.get("failure"))),
+                  ("caution", _cell(data.get("caution")))))]
     streams, margins, comps = [], [], []
     names: list = []
     for name, s in (data.get("streams") or {}).items():
@@ -126,7 +127,7 @@ def solve_sheets(data: Mapping, run: Mapping) -> list:
         comps.append((name, comp))
     sheets.append(("Streams", *_records(streams, "stream")))
     sheets.append(("Composition", ("stream", *(f"{c} [mole fraction]" for c in names)),
-                   tuple((n, *(_cell(c.get(k)) for k in names)) for n, c in comps)))
+                   tuple((_cell(n), *(_cell(c.get(k)) for k in names)) for n, c in comps)))
     sheets.append(("Margins", *_records(margins, "stream")))
     equipment = []
     for name, e in (data.get("equipment") or {}).items():
@@ -169,11 +170,15 @@ def workbook_bytes(sheets) -> bytes:
     bold = Font(bold=True)
     for name, header, rows in sheets:
         ws = wb.create_sheet(name[:31])
-        ws.append(list(header))
+        ws.append([_cell(h) for h in header])
         for c in ws[1]:
             c.font = bold
         for r in rows:
             ws.append(list(r))
+        for row in ws.iter_rows():
+            for c in row:
+                if c.data_type == "f":      # text that starts with '=' stays text, never a formula
+                    c.data_type = "s"
         ws.freeze_panes = "B2" if name != "Run" and len(header) > 1 else "A2"
         for j, h in enumerate(header, start=1):
             width = max([len(str(h))] + [len(str(r[j - 1])) for r in rows[:200] if j <= len(r)
