@@ -2,16 +2,19 @@
 
 Verbs::
 
-    letdown solve FILE [--json] [--csv DIR] [--model M] [--units si|field] [--debug]
+    letdown solve FILE [--json] [--csv DIR] [--model M] [--units si|field] [--html P] [--xlsx P]
     letdown check FILE [--debug]
-    letdown crosscheck FILE [--models M,M] [--json] [--units si|field]
+    letdown new station|train [FILE]
+    letdown crosscheck FILE [--models M,M] [--json] [--units si|field] [--html P]
     letdown compare FILE [--data CSV] [--fit block.parameter --within LO HI] [--models M,M] [--json]
+                 [--html P]
     letdown envelope FILE --stream NAME [--lines 0.1,0.5] [--csv DIR] [--json] [--plot F.png|F.svg]
     letdown sweep FILE --vary PATH=VALUES [...] [--zip] [--out DIR] [--plot X:Y] [--workers N|--dask A]
+                 [--units si|display|field] [--html P] [--xlsx P] [--quiet]
     letdown year FILE --profile CSV [--efficiency E] [--calorific gross|net] [--out DIR]
-                 [--workers N|--dask A]
+                 [--workers N|--dask A] [--units display|si|field] [--html P] [--xlsx P] [--quiet]
     letdown size FILE [--efficiency E] [--model M] [--free-water always|by-dew-point]
-                 [--calorific gross|net] [--json] [--units si|field]
+                 [--calorific gross|net] [--json] [--units si|field] [--html P] [--xlsx P]
     letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
 
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
@@ -22,7 +25,8 @@ traceback).
 Errors are one line on stderr, ``letdown: FILE:LINE: field: message``; ``--debug`` adds the
 traceback. With ``--json`` stdout holds only the JSON object; messages for people go to stderr.
 ``--csv DIR`` writes ``streams.csv`` and ``equipment.csv`` only after a successful solve (into a
-temporary directory first, then moved into place), so a failure leaves nothing behind.
+temporary directory first, then moved into place), so a failure leaves nothing behind; ``--html``
+and ``--xlsx`` files likewise go to a temporary file beside the target, then renamed.
 """
 from __future__ import annotations
 
@@ -56,8 +60,11 @@ class _Parser(argparse.ArgumentParser):
 def _parser() -> argparse.ArgumentParser:
     common = argparse.ArgumentParser(add_help=False)
     common.add_argument("--debug", action="store_true", help="show the traceback of an error")
+    common.add_argument("--quiet", action="store_true",
+                        help="no progress bar (sweep and year show one on a terminal, once a run takes a second)")
     p = _Parser(prog="letdown", description="Steady-state flowsheets for natural-gas let-down "
-                "stations and gas chilling trains.", parents=[common])
+                "stations and gas chilling trains.", parents=[common], epilog=HELP_EPILOG,
+                formatter_class=argparse.RawDescriptionHelpFormatter)
     sub = p.add_subparsers(dest="verb", metavar="VERB", parser_class=_Parser)
     sub.required = True
 
@@ -71,9 +78,17 @@ def _parser() -> argparse.ArgumentParser:
                    help="also give each product gas's hydrocarbon dew point and cricondentherm")
     s.add_argument("--html", metavar="PATH",
                    help="also write the calculation record as one self-contained HTML file")
+    _record_options(s, html=False)
 
     c = sub.add_parser("check", parents=[common], help="validate a flowsheet file without solving")
     c.add_argument("file", metavar="FILE")
+
+    nw = sub.add_parser("new", parents=[common],
+                        help="write a commented starter file: a let-down station or a chilling "
+                             "train")
+    nw.add_argument("kind", choices=("station", "train"), help="which starter")
+    nw.add_argument("file", metavar="FILE", nargs="?",
+                    help="where to write it (default: print it); an existing file is kept")
 
     x = sub.add_parser("crosscheck", parents=[common],
                        help="solve a flowsheet with every applicable model and compare")
@@ -81,6 +96,7 @@ def _parser() -> argparse.ArgumentParser:
     x.add_argument("--models", metavar="M,M", help="comma-separated models (default: all that apply)")
     x.add_argument("--json", action="store_true", help="print only the JSON comparison on stdout")
     x.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+    _record_options(x, xlsx=False)
 
     w = sub.add_parser("sweep", parents=[common],
                        help="solve a flowsheet over a list, range or grid of input values")
@@ -94,6 +110,11 @@ def _parser() -> argparse.ArgumentParser:
     w.add_argument("--plot", metavar="X:Y[,Y]", help="plot outputs Y against input X into DIR")
     w.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
     w.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")
+    w.add_argument("--units", choices=("si", "field", "display"), default="si",
+                   help="units of the printed table, plots and HTML: si (K, Pa, W; stdout stays "
+                        "CSV), display (degC, barg, kW) or field (degF, psig, MMBtu/h); "
+                        "sweep.csv stays SI")
+    _record_options(w)
 
     y = sub.add_parser("year", parents=[common],
                        help="solve every hour of an operating profile with the goals held")
@@ -110,6 +131,11 @@ def _parser() -> argparse.ArgumentParser:
     y.add_argument("--out", metavar="DIR", help="write hourly.csv, summary.json, run.json, plots")
     y.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
     y.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")
+    y.add_argument("--units", choices=("si", "field", "display"), default="display",
+                   help="units of the printed figures, plots and HTML: display (degC, kW, MWh; "
+                        "the default), si (K, W) or field (degF, MMBtu/h, MMBtu); hourly.csv "
+                        "stays SI")
+    _record_options(y)
     sz = sub.add_parser("size", parents=[common],
                         help="size the preheater over the file's operating cases")
     sz.add_argument("file", metavar="FILE")
@@ -124,6 +150,7 @@ def _parser() -> argparse.ArgumentParser:
                     help="calorific value of the fuel gas volume (ISO 6976:2016; default gross)")
     sz.add_argument("--json", action="store_true", help="print only the JSON sizing on stdout")
     sz.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+    _record_options(sz)
     cm = sub.add_parser("compare", parents=[common],
                         help="compare a flowsheet with plant measurements, per model; fit one "
                              "parameter")
@@ -136,6 +163,7 @@ def _parser() -> argparse.ArgumentParser:
     cm.add_argument("--models", metavar="M,M", help="comma-separated models (default: all that apply)")
     cm.add_argument("--json", action="store_true", help="print only the JSON comparison on stdout")
     cm.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+    _record_options(cm, xlsx=False)
     e = sub.add_parser("envelope", parents=[common],
                        help="phase envelope of one stream of a solved flowsheet")
     e.add_argument("file", metavar="FILE")
@@ -162,6 +190,41 @@ def _parser() -> argparse.ArgumentParser:
     return p
 
 
+#: The end of ``letdown --help``: the models and the unit spellings (tests/test_new_and_help.py
+#: checks the lists against the model table and the unit parser).
+HELP_EPILOG = """\
+models (gas.model or --model):
+  peng-robinson (pr, pr76; the default), peng-robinson-1978 (pr78),
+  soave-redlich-kwong (srk), gerg-2008 (gerg, gerg2008; single-phase mixtures)
+
+unit spellings (a quantity is text with a unit, e.g. '6 degC', '64 barg'):
+  temperature   degC, degF, K, degR
+  difference    K, delta_degC, delta_degF (margins, approaches)
+  pressure      bar, bara, mbar, Pa, kPa, MPa, psi, psia; gauge barg, psig, kPag, MPag
+  pressure drop bar, psi, kPa (absolute units)
+  flow          Sm3/h, Sm3/d (15 degC), Nm3/h (0 degC), MMscfd, Mscfd, scf/h (60 degF);
+                mol/s, kmol/h, kmol/d, lbmol/h; kg/s, kg/h, t/h, t/d, lb/h
+  power, duty   W, kW, MW, hp, MMBtu/h        UA  W/K, kW/K
+  fractions     0.78 or 78 %
+
+display units of reports (--units): si (degC, barg, kW), field (degF, psig, MMBtu/h);
+sweep and year also take display, and their si is plain SI (K, Pa, W) as their CSV.
+Start with: letdown new station my-station.yaml
+"""
+
+
+def _record_options(parser, html: bool = True, xlsx: bool = True) -> None:
+    """``--html PATH`` and ``--xlsx PATH``: the calculation record as a page and as a workbook."""
+    if html:
+        parser.add_argument("--html", metavar="PATH",
+                            help="also write the calculation record as one self-contained HTML "
+                                 "file")
+    if xlsx:
+        parser.add_argument("--xlsx", metavar="PATH",
+                            help="also write a workbook (needs openpyxl: pip install "
+                                 "'letdown[xlsx]'); numbers in SI with the unit in each header")
+
+
 def main(argv=None) -> int:
     """Run the command line; return the exit code (the console script exits with it)."""
     argv = list(sys.argv[1:] if argv is None else argv)
@@ -180,12 +243,33 @@ def main(argv=None) -> int:
         return EXIT_BAD_INPUT
     except SystemExit as exc:      # --help prints and exits 0
         return int(exc.code or 0)
+    args.argv = argv               # the command as given, for the run record
     where = getattr(args, "file", None)
+    if args.quiet:
+        return _quietly(args, debug)
+    return _dispatch(args, where, debug)
+
+
+def _quietly(args, debug) -> int:
+    """Run with the progress bar of the studies off (it never reaches its start delay)."""
+    from .study import executors
+    saved = executors.PROGRESS_DELAY
+    executors.PROGRESS_DELAY = float("inf")
+    try:
+        return _dispatch(args, getattr(args, "file", None), debug)
+    finally:
+        executors.PROGRESS_DELAY = saved
+
+
+def _dispatch(args, where, debug) -> int:
+    """Run the verb; turn each error into one located line and its exit code."""
     try:
         if args.verb == "solve":
             return _solve(args)
         if args.verb == "check":
             return _check(args)
+        if args.verb == "new":
+            return _new(args)
         if args.verb == "crosscheck":
             return _crosscheck(args)
         if args.verb == "sweep":
@@ -294,6 +378,7 @@ def _solve(args) -> int:
     from .report.text import report_text
 
     target = _csv_target(args.csv) if args.csv else None
+    _record_targets(args)
     sheet = letdown.load(args.file)
     spec = getattr(sheet, "flowsheet", None)
     args.flowsheet = spec
@@ -326,38 +411,110 @@ def _solve(args) -> int:
               file=sys.stderr)
     if args.html:
         _write_record(Path(args.html), result, args, atmosphere)
+    if args.xlsx:
+        from .report.workbook import solve_sheets
+        _write_workbook(args, result.model, solve_sheets(json.loads(result.to_json()), {}))
     return EXIT_OK
 
 
-def _write_record(path: Path, result, args, atmosphere) -> None:
-    """Write the HTML calculation record of ``result`` to ``path`` (whole or not at all)."""
+def _record_targets(args) -> None:
+    """Check ``--html PATH`` and ``--xlsx PATH`` before any solving: a file name in an existing
+    directory, and openpyxl present for the workbook."""
+    for field in ("html", "xlsx"):
+        path = getattr(args, field, None)
+        if not path:
+            continue
+        target = Path(path)
+        if target.is_dir():
+            raise InputError(f"'{path}' is a directory, not a file name", field=f"--{field}")
+        if not target.resolve().parent.is_dir():
+            raise InputError(f"the directory of '{path}' does not exist", field=f"--{field}")
+        if field == "xlsx":
+            from .report.workbook import available
+            if not available():
+                raise InputError("the workbook needs openpyxl: pip install 'letdown[xlsx]' (or "
+                                 "write CSV with --csv / --out)", field="--xlsx")
+
+
+def _run_info(args, model: str, units: str) -> dict:
+    """What was run, for the header of a record: command, version, input file and its SHA-256,
+    model, date and units."""
     import datetime
     import hashlib
 
     from ._version import __version__
-    from .report.html import html_report
+
+    import shlex
 
     raw = Path(args.file).read_bytes()
-    run = {"Command": "letdown " + " ".join(sys.argv[1:]) if sys.argv[1:] else "letdown solve",
-           "letdown version": __version__,
-           "Input file": str(args.file),
-           "Input SHA-256": hashlib.sha256(raw).hexdigest(),
-           "Model": str(result.model),
-           "Made": datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
-           "Units": "SI (degC, barg, kW)" if args.units == "si" else "field (degF, psig, MMBtu/h)"}
-    text = html_report(result, run=run, input_text=raw.decode("utf-8", errors="replace"),
-                       units=args.units, atmosphere=atmosphere)
+    argv = getattr(args, "argv", None) or [getattr(args, "verb", "solve"), str(args.file)]
+    return {"Command": "letdown " + shlex.join(argv),
+            "letdown version": __version__,
+            "Input file": str(args.file),
+            "Input SHA-256": hashlib.sha256(raw).hexdigest(),
+            "Model": str(model),
+            "Made": datetime.datetime.now(datetime.timezone.utc).strftime("%Y-%m-%d %H:%M UTC"),
+            "Units": units}
+
+
+#: The unit system of a record's tables, as said in its header.
+UNITS_TEXT = {"si": "SI (degC, barg, kW)", "field": "field (degF, psig, MMBtu/h)"}
+#: The same for ``sweep`` and ``year``, whose ``si`` is plain SI as their CSV columns.
+STUDY_UNITS_TEXT = {"si": "SI (K, Pa, W), as the CSV columns",
+                    "display": "display (degC, barg, kW, MWh)",
+                    "field": "field (degF, psig, MMBtu/h, MMBtu)"}
+#: The units of a workbook (always the JSON result's SI units).
+XLSX_UNITS = "SI as in the JSON result (K, Pa, mol/s, kg/s, W, J/mol); the unit is in each header"
+
+
+def _write_file(path: Path, data, field: str) -> None:
+    """Write ``data`` (str or bytes) to ``path`` whole or not at all (a temporary file beside it,
+    then renamed)."""
     tmp = path.with_name(f".{path.name}.tmp")
     try:
-        tmp.write_text(text, encoding="utf-8")
+        if isinstance(data, bytes):
+            tmp.write_bytes(data)
+        else:
+            tmp.write_text(data, encoding="utf-8")
         os.replace(tmp, path)
     except OSError as exc:
-        raise InputError(f"cannot write the record: {exc.strerror or exc}",
-                         field="--html") from None
+        raise InputError(f"cannot write '{path}': {exc.strerror or exc}", field=field) from None
     finally:
         if tmp.exists():
             tmp.unlink()
     print(f"letdown: wrote {path}", file=sys.stderr)
+
+
+def _write_record(path: Path, result, args, atmosphere) -> None:
+    """Write the HTML calculation record of ``result`` to ``path`` (whole or not at all)."""
+    from .report.html import html_report
+
+    run = _run_info(args, result.model, UNITS_TEXT[args.units])
+    raw = Path(args.file).read_bytes()
+    text = html_report(result, run=run, input_text=raw.decode("utf-8", errors="replace"),
+                       units=args.units, atmosphere=atmosphere)
+    _write_file(path, text, "--html")
+
+
+def _write_study_html(args, title: str, model: str, sections, units: str) -> None:
+    """Write the HTML record of a study (``sections``: [(heading, HTML)])."""
+    from .report.html import study_html
+
+    raw = Path(args.file).read_bytes()
+    text = study_html(title, run=_run_info(args, model, UNITS_TEXT.get(units, units)),
+                      sections=sections, input_text=raw.decode("utf-8", errors="replace"))
+    _write_file(Path(args.html), text, "--html")
+
+
+def _write_workbook(args, model: str, sheets) -> None:
+    """Write ``sheets`` (run information first) as the ``--xlsx`` workbook."""
+    from .report.workbook import _run_rows, workbook_bytes
+
+    run = _run_info(args, model, XLSX_UNITS)
+    name, header, rows = sheets[0]
+    if name == "Run":
+        sheets = [(name, header, _run_rows(run) + tuple(rows))] + list(sheets[1:])
+    _write_file(Path(args.xlsx), workbook_bytes(sheets), "--xlsx")
 
 
 def _sweep(args) -> int:
@@ -365,14 +522,19 @@ def _sweep(args) -> int:
     from .sheet.loader import load
     from .study.sweep import case_count, parse_variable, sweep
 
+    from .quantities import STANDARD_ATMOSPHERE
+
     fs = load(args.file)
     args.flowsheet = fs
+    atm = (fs.extra.get("atmosphere") if fs.extra else None) or STANDARD_ATMOSPHERE
     variables = [parse_variable(fs, v) for v in args.vary]
     case_count(variables, "zip" if args.zip else "grid")
     outputs = [o.strip() for o in args.outputs.split(",")] if args.outputs else None
     target = _csv_target(args.out) if args.out else None
-    if args.plot and target is None:
-        raise InputError("--plot needs --out DIR to write the pictures into", field="--plot")
+    if args.plot and target is None and not args.html:
+        raise InputError("--plot needs --out DIR (or --html PATH) to put the pictures in",
+                         field="--plot")
+    _record_targets(args)
     from .study.executors import make_executor
     executor = make_executor(args.workers, args.dask)
     try:
@@ -382,11 +544,25 @@ def _sweep(args) -> int:
         executor.close()
     if target is not None:
         files = sweep_files(table, source=args.file, variables=args.vary,
-                            mode="zip" if args.zip else "grid", plot=args.plot)
+                            mode="zip" if args.zip else "grid", plot=args.plot,
+                            units=args.units, atmosphere=atm)
         _write_csv(target, files)
         print(f"letdown: wrote {', '.join(str(target / f) for f in files)}", file=sys.stderr)
-    else:
+    elif args.units == "si":
         sys.stdout.write(table.csv_text())
+    if args.units != "si":
+        from .report.sweep import display_table
+        from .report.tables import render
+        print(render(display_table(table, args.units, atm)))
+    if args.xlsx:
+        from .report.workbook import sweep_sheets
+        _write_workbook(args, table.model, sweep_sheets(table))
+    if args.html:
+        from .report.sweep import sweep_html_sections
+        sections = sweep_html_sections(table, args.vary, "zip" if args.zip else "grid",
+                                       plot=args.plot, units=args.units, atmosphere=atm)
+        _write_study_html(args, f"{fs.title}: sweep", table.model, sections,
+                          STUDY_UNITS_TEXT[args.units])
     failed = sum(1 for r in table.rows if not r[-2])
     if failed:
         print(f"letdown: {failed} of {len(table.rows)} cases failed (see the reason column)",
@@ -406,6 +582,7 @@ def _year(args) -> int:
     atm = fs.extra.get("atmosphere") if fs.extra else None
     profile = read_profile(args.profile, atmosphere=atm)
     target = _csv_target(args.out) if args.out else None
+    _record_targets(args)
     executor = make_executor(args.workers, args.dask)
     try:
         res = year(fs, profile, efficiency=args.efficiency, feed=args.feed,
@@ -413,11 +590,27 @@ def _year(args) -> int:
                    show_progress=sys.stderr.isatty(), calorific=args.calorific)
     finally:
         executor.close()
-    print(year_text(res))
+    if args.units == "display":
+        print(year_text(res))
+    else:
+        from .report.tables import render
+        from .report.year import year_table
+        print(render(year_table(res, args.units, atm)))
+        print(CAUTION)
     if target is not None:
-        files = year_files(res, flowsheet=args.file)
+        from .report.year import year_plot_files
+        files = year_files(res, flowsheet=args.file, plot=False)
+        files.update(year_plot_files(res, args.units, atm))
         _write_csv(target, files)
         print(f"letdown: wrote {', '.join(str(target / f) for f in files)}", file=sys.stderr)
+    if args.xlsx:
+        from .report.workbook import year_sheets
+        _write_workbook(args, res.model, year_sheets(res))
+    if args.html:
+        from .report.year import year_html_sections
+        _write_study_html(args, f"{fs.title}: a year of operation", res.model,
+                          year_html_sections(res, args.units, atm),
+                          STUDY_UNITS_TEXT[args.units])
     failed = int((~res.converged).sum())
     if failed:
         print(f"letdown: {args.file}: {failed} of {res.profile.n} hours failed; every hour is "
@@ -433,6 +626,7 @@ def _size(args) -> int:
 
     fs = load(args.file)
     args.flowsheet = fs
+    _record_targets(args)
     res = size(fs, efficiency=args.efficiency, model=args.model, free_water=args.free_water,
                calorific=args.calorific)
     if args.json:
@@ -440,6 +634,26 @@ def _size(args) -> int:
         print(f"letdown: {res.to_dict()['caution']}", file=sys.stderr)
     else:
         print(size_text(res, args.units, atmosphere=fs.extra.get("atmosphere")))
+    if args.xlsx:
+        from .report.workbook import size_sheets
+        _write_workbook(args, res.model, size_sheets(res.to_dict()))
+    if args.html:
+        from .report.html import table_html, text_html, warnings_list_html
+        from .report.size import size_tables
+        d = res.to_dict()
+        seen, ws = set(), []
+        for c in d["cases"]:
+            for w in c["warnings"]:
+                key = (w.get("severity"), w.get("where"), w.get("what"))
+                if key not in seen:
+                    seen.add(key)
+                    ws.append(key)
+        atm = fs.extra.get("atmosphere")
+        _write_study_html(args, f"{fs.title}: preheat sizing", res.model, [
+            ("Cases", "".join(table_html(t) for t in size_tables(res, args.units, atm))),
+            ("Warnings (any case)", warnings_list_html(ws)),
+            ("Report as printed", text_html(size_text(res, args.units, atmosphere=atm)))],
+            args.units)
     if not res.all_met:
         bad = [c.name for c in res.cases if not c.met]
         print(f"letdown: {args.file}: {len(bad)} of {len(res.cases)} cases failed or not met "
@@ -461,11 +675,21 @@ def _crosscheck(args) -> int:
     models = None
     if args.models:
         models = [canonical_model(m) for m in args.models.split(",") if m.strip()]
+    _record_targets(args)
     cc = crosscheck(fs, models)
     if args.json:
         print(json.dumps(cc.to_dict(), indent=2))
     else:
         print(crosscheck_text(cc, args.units))
+    if args.html:
+        from .report.crosscheck import crosscheck_table
+        from .report.html import table_html, text_html, warnings_list_html
+        ws = [("check", f"{m}: {where}", what) for m, items in cc.warnings.items()
+              for where, what in items]
+        _write_study_html(args, f"{cc.title}: second opinion by model", ", ".join(cc.models), [
+            ("Results by model", table_html(crosscheck_table(cc, args.units))),
+            ("Warnings by model", warnings_list_html(ws)),
+            ("Report as printed", text_html(crosscheck_text(cc, args.units)))], args.units)
     if not any(m not in cc.failures for m in cc.models):
         print(f"letdown: {args.file}: no model could solve the flowsheet", file=sys.stderr)
         return EXIT_FAILED_SOLVE
@@ -493,11 +717,25 @@ def _compare(args) -> int:
     models = None
     if args.models:
         models = [canonical_model(m) for m in args.models.split(",") if m.strip()]
+    _record_targets(args)
     cmp = compare(fs, models=models, fit=fit, within=within)
     if args.json:
         print(json.dumps(cmp.to_dict(), indent=2, allow_nan=False))
     else:
         print(compare_text(cmp, args.units, atmosphere=fs.extra.get("atmosphere")))
+    if args.html:
+        from .report.compare import compare_table
+        from .report.html import table_html, text_html, warnings_list_html
+        atm = fs.extra.get("atmosphere")
+        ws = [("check", f"{m}: {where}", what) for m, c in cmp.results.items()
+              for where, what in c.warnings]
+        sections = [("Residuals by model", table_html(compare_table(cmp, args.units, atm)))] \
+            if cmp.results else []
+        _write_study_html(args, f"{cmp.title}: check against measurements",
+                          ", ".join(cmp.results) or "-", sections + [
+                              ("Warnings by model", warnings_list_html(ws)),
+                              ("Report as printed", text_html(compare_text(
+                                  cmp, args.units, atmosphere=atm)))], args.units)
     if not cmp.results:
         print(f"letdown: {args.file}: no model could solve the flowsheet", file=sys.stderr)
         return EXIT_FAILED_SOLVE
@@ -600,6 +838,26 @@ def _envelope(args) -> int:
         print(f"letdown: {args.file}: the envelope is incomplete (see the warnings above)",
               file=sys.stderr)
         return EXIT_FAILED_SOLVE
+    return EXIT_OK
+
+
+def _new(args) -> int:
+    """Write (or print) a commented starter file that ``check`` accepts and ``solve`` solves."""
+    from .report.starters import STARTERS
+
+    text = STARTERS[args.kind]
+    if not args.file:
+        sys.stdout.write(text)
+        return EXIT_OK
+    target = Path(args.file)
+    if target.exists():
+        raise InputError(f"'{args.file}' exists; choose another name (nothing was written)",
+                         field="new")
+    if not target.resolve().parent.is_dir():
+        raise InputError(f"the directory of '{args.file}' does not exist", field="new")
+    _write_file(target, text, "new")
+    print(f"letdown: next: letdown check {args.file}  then  letdown solve {args.file}",
+          file=sys.stderr)
     return EXIT_OK
 
 

@@ -103,11 +103,15 @@ def test_command_line_year(tmp_path):
     assert {"summary.json", "run.json"} <= {p.name for p in out.iterdir()}
 
 
-def test_progress_bar_shows_and_changes_nothing(tmp_path, capsys):
+def test_progress_bar_shows_and_changes_nothing(tmp_path, capsys, monkeypatch):
     pytest.importorskip("tqdm")
+    from letdown.study import executors
     fs = load(GATE)
     variables = [parse_variable(fs, "supply.T=0degC:10degC:3")]
     quiet = sweep(fs, variables)
+    shown = sweep(fs, variables, show_progress=True)
+    assert "solving" not in capsys.readouterr().err      # under a second: no bar (issue 15)
+    monkeypatch.setattr(executors, "PROGRESS_DELAY", 0.0)
     shown = sweep(fs, variables, show_progress=True)
     assert "solving" in capsys.readouterr().err
     assert shown.rows == quiet.rows

@@ -37,6 +37,27 @@ def _score_text(s) -> str:
             f"({verdict[s.consistent]} with the stated uncertainties at 95 %)")
 
 
+def compare_table(cmp, units: str = "si", atmosphere: float | None = None) -> Table:
+    """Measured values with their uncertainty, each model's value and normalised residual z, in
+    ``units`` (one row per measurement)."""
+    u = unit_system(units, atmosphere if atmosphere is not None else STANDARD_ATMOSPHERE)
+    models = [m for m in cmp.models if m in cmp.results]
+    first = cmp.results[models[0]]
+    header = ["Measurement", "Unit", "Measured", "Uncertainty"]
+    for m in models:
+        header += [SHORT.get(m, m), f"z {SHORT.get(m, m)}"]
+    rows = []
+    for k, r in enumerate(first.residuals):
+        attribute = r.at.partition(".")[2]
+        conv, diff, label = _converters(u, r.unit, attribute)
+        row = [r.at, label, conv(r.measured), diff(r.uncertainty)]
+        for m in models:
+            rm = cmp.results[m].residuals[k]
+            row += [conv(rm.model), rm.normalised]
+        rows.append(tuple(row))
+    return Table("Residuals by model", tuple(header), tuple(rows))
+
+
 def compare_text(cmp, units: str = "si", atmosphere: float | None = None) -> str:
     """The comparison as text: measured values, each model's value and normalised residual, the
     scores, the fitted parameter with its 95 % interval, and the caution."""
@@ -45,20 +66,7 @@ def compare_text(cmp, units: str = "si", atmosphere: float | None = None) -> str
     lines = [cmp.title, "Check against plant measurements (residual = model - measured; "
              "z = residual / standard uncertainty)", ""]
     if models:
-        first = cmp.results[models[0]]
-        header = ["Measurement", "Unit", "Measured", "Uncertainty"]
-        for m in models:
-            header += [SHORT.get(m, m), f"z {SHORT.get(m, m)}"]
-        rows = []
-        for k, r in enumerate(first.residuals):
-            attribute = r.at.partition(".")[2]
-            conv, diff, label = _converters(u, r.unit, attribute)
-            row = [r.at, label, conv(r.measured), diff(r.uncertainty)]
-            for m in models:
-                rm = cmp.results[m].residuals[k]
-                row += [conv(rm.model), rm.normalised]
-            rows.append(tuple(row))
-        lines.append(render(Table("Residuals by model", tuple(header), tuple(rows))))
+        lines.append(render(compare_table(cmp, units, atmosphere)))
         lines += ["", "Scores"]
         lines += [f"  {m}: {_score_text(cmp.results[m].score)}" for m in models]
     if cmp.fit_parameter is not None:

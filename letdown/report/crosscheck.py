@@ -12,6 +12,13 @@ SHORT = {"peng-robinson": "PR", "peng-robinson-1978": "PR78", "soave-redlich-kwo
 
 def crosscheck_text(cc, units: str = "si") -> str:
     """The comparison as text: one row per quantity, one column per model, spread and flag."""
+    lines = [f"{cc.title}", "Second opinion: the same flowsheet with each model", "",
+             render(crosscheck_table(cc, units))]
+    return _crosscheck_tail(cc, lines)
+
+
+def crosscheck_table(cc, units: str = "si") -> Table:
+    """One row per quantity, one column per model (in ``units``), the spread and its flag."""
     u = unit_system(units, STANDARD_ATMOSPHERE)
     header = ("Result", "Unit", *(SHORT.get(m, m) for m in cc.models), "Spread", "")
     rows = []
@@ -27,8 +34,10 @@ def crosscheck_text(cc, units: str = "si") -> str:
         vals = [None if v != v else (conv(v) if conv else v) for v in (r.values[m] for m in cc.models)]
         spread = None if r.spread != r.spread else (diff(r.spread) if diff else r.spread)
         rows.append((r.what, unit, *vals, spread, "<- spread" if r.flagged else ""))
-    lines = [f"{cc.title}", "Second opinion: the same flowsheet with each model", "",
-             render(Table("Results by model", header, tuple(rows)))]
+    return Table("Results by model", header, tuple(rows))
+
+
+def _crosscheck_tail(cc, lines: list) -> str:
     n_flag = len(cc.flagged)
     lines.append("")
     lines.append(f"{n_flag} result(s) spread more than the thresholds (1 K, 0.01 vapour fraction, "

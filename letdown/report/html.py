@@ -234,3 +234,74 @@ def html_report(result, *, run: dict, input_text: str = "", units: str = "si",
               "<h2>Input file</h2>", f'<pre class="input">{escape(input_text)}</pre>',
               f'<p class="caution">{escape(CAUTION)}</p>', "</body></html>"]
     return "\n".join(parts)
+
+
+# --- studies ---------------------------------------------------------------------------------
+
+def inline_svg(data: bytes | str, label: str = "") -> str:
+    """A picture saved as SVG (matplotlib) made fit to sit inline in the page: no XML prolog, no
+    document type, no metadata block and no namespace declarations (an inline SVG in HTML needs
+    none), so the page names no address at all; ``xlink:href`` becomes ``href`` (SVG 2)."""
+    import re
+    text = data.decode("utf-8") if isinstance(data, bytes) else data
+    text = re.sub(r"<\?xml[^>]*\?>", "", text)
+    text = re.sub(r"<!DOCTYPE[^>]*>", "", text, flags=re.S)
+    text = re.sub(r"<metadata>.*?</metadata>", "", text, flags=re.S)
+    text = re.sub(r'\s+xmlns(:\w+)?="[^"]*"', "", text)
+    text = text.replace("xlink:href", "href")
+    text = text.replace("<svg ", f'<svg class="plot" role="img" aria-label="{escape(label)}" ', 1)
+    return f'<div class="scroll">{text.strip()}</div>'
+
+
+def table_html(table: Table) -> str:
+    """A :class:`Table` as an HTML table under its title."""
+    return f"<h3>{escape(table.title)}</h3>" + _table_html(table)
+
+
+def text_html(text: str) -> str:
+    """A report laid out for a terminal, kept as it is (fixed width)."""
+    return f'<pre class="report">{escape(text)}</pre>'
+
+
+def warnings_list_html(warnings) -> str:
+    """Warnings [(severity, where, what)] grouped by severity (hazard first)."""
+    groups: dict = {}
+    for sev, where, what in warnings:
+        groups.setdefault(sev or "check", []).append((where, what))
+    if not groups:
+        return "<p>No warnings.</p>"
+    out = []
+    for sev in sorted(groups, key=lambda k: list(SEVERITY_HEADINGS).index(k)
+                      if k in SEVERITY_HEADINGS else 99):
+        items = "".join(f"<li><b>{escape(str(w))}</b>: {escape(str(t))}</li>"
+                        for w, t in groups[sev])
+        out.append(f'<h3 class="sev-{escape(sev)}">{escape(SEVERITY_HEADINGS.get(sev, sev))} '
+                   f"({len(groups[sev])})</h3><ul class=\"warnings sev-{escape(sev)}\">{items}</ul>")
+    return "".join(out)
+
+
+def study_html(title: str, *, run: dict, sections, input_text: str = "") -> str:
+    """The calculation record of a study (size, year, sweep, crosscheck, compare) as one
+    self-contained HTML page: the header with what was run and the caution, then ``sections``
+    [(heading, HTML fragment)] in order (tables, plots as inline SVG, the report text), then the
+    input file echoed.
+
+    >>> page = study_html("Demo", run={"Model": "peng-robinson"}, sections=[("Cases", "<p>1</p>")])
+    >>> "<h2>Cases</h2>" in page and "peng-robinson" in page and "<script" not in page
+    True
+    """
+    run_rows = "".join(f"<tr><th>{escape(str(k))}</th><td>{escape(str(v))}</td></tr>"
+                       for k, v in run.items())
+    parts = ["<!DOCTYPE html>", '<html lang="en"><head><meta charset="utf-8">',
+             '<meta name="viewport" content="width=device-width, initial-scale=1">',
+             f"<title>{escape(title)}: letdown calculation record</title><style>{_CSS}"
+             "svg.plot { max-width: 100%; height: auto; }"
+             "pre.report { font-size: 12px; overflow-x: auto; }</style></head><body>",
+             f"<header><h1>{escape(title)}</h1><p>letdown calculation record.</p>",
+             f'<div class="scroll"><table class="run">{run_rows}</table></div>',
+             f'<p class="caution">{escape(CAUTION)}</p></header>']
+    for heading, fragment in sections:
+        parts += [f"<h2>{escape(heading)}</h2>", fragment]
+    parts += ["<h2>Input file</h2>", f'<pre class="input">{escape(input_text)}</pre>',
+              f'<p class="caution">{escape(CAUTION)}</p>', "</body></html>"]
+    return "\n".join(parts)

@@ -16,12 +16,12 @@ def _limit(kind: str) -> str:
     return LIMIT_NAMES.get(kind, kind)
 
 
-def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
-    """The sizing for a terminal: one row per case, the design heat, its fuel, every stream that
-    misses its limit, failed cases, notes, the model's bias and the caution."""
+def size_tables(res, units: str = "si", atmosphere: float | None = None) -> list:
+    """The sizing's tables in ``units``: one row per case, then (where the file sizes several
+    heaters) the further sized heaters. Used by the terminal text and the HTML record."""
     d = res.to_dict()
     u = unit_system(units, STANDARD_ATMOSPHERE if atmosphere is None else atmosphere)
-    T, P, duty, dT = u["T"], u["P"], u["duty"], u["dT"]
+    T, P, duty = u["T"], u["P"], u["duty"]
 
     def t(v):
         return None if v is None else T(v)
@@ -56,6 +56,23 @@ def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
             more.append((c["name"], sz["heater"], sz["held"], q(P, sz["held_P_Pa"]),
                          t(sz["hydrate_T_K"]), t(sz["water_dew_T_K"]), t(sz["target_T_K"]), gov,
                          t(sz["heater_T_out_K"]), q(duty, sz["duty_W"])))
+    tables = [table]
+    if more:
+        tables.append(Table("Further sized heaters (each holds its own stream)",
+                            ("Case", "Heater", "Held", f"P held [{P.label}]",
+                             f"Hydrate T [{T.label}]", f"Water dew [{T.label}]",
+                             f"Target [{T.label}]", "Governing limit", f"T_out [{T.label}]",
+                             f"Duty [{duty.label}]"), tuple(more)))
+    return tables
+
+
+def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
+    """The sizing for a terminal: one row per case, the design heat, its fuel, every stream that
+    misses its limit, failed cases, notes, the model's bias and the caution."""
+    d = res.to_dict()
+    u = unit_system(units, STANDARD_ATMOSPHERE if atmosphere is None else atmosphere)
+    T, duty, dT = u["T"], u["duty"], u["dT"]
+    tables = size_tables(res, units, atmosphere)
     kinds = []
     for c in d["cases"]:
         kinds.extend(k for k in c["limits_K"] if k not in kinds)
@@ -63,14 +80,9 @@ def size_text(res, units: str = "si", atmosphere: float | None = None) -> str:
              "Limits of every stream the station makes: "
              + ", ".join(_limit(k) for k in kinds)
              + f"; margin {dT(d['hydrate_margin_K']):g} {dT.label} (limits.hydrate_margin).",
-             f"Free water: {d['free_water_rule']}.", "",
-             render(table), ""]
-    if more:
-        lines += [render(Table("Further sized heaters (each holds its own stream)",
-                               ("Case", "Heater", "Held", f"P held [{P.label}]",
-                                f"Hydrate T [{T.label}]", f"Water dew [{T.label}]",
-                                f"Target [{T.label}]", "Governing limit", f"T_out [{T.label}]",
-                                f"Duty [{duty.label}]"), tuple(more))), ""]
+             f"Free water: {d['free_water_rule']}.", ""]
+    for t in tables:
+        lines += [render(t), ""]
     g = d["design"]
     cv = (f"{d['calorific_basis']} calorific value {d['calorific_value_J_Sm3'] / 1e6:.3f} MJ/Sm3, "
           f"{d['calorific_standard']}")

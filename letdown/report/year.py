@@ -115,3 +115,96 @@ def _plots(res) -> dict:
     a2.grid(True, alpha=0.3)
     fig.suptitle("A year of operation (engineering estimates)")
     return figure_files(fig, "year", dpi=110)
+
+
+def _units(units: str, atmosphere: float | None):
+    from ..quantities import STANDARD_ATMOSPHERE, DisplayUnit, unit_system
+    if units == "si":            # plain SI, as the CSV columns
+        return {"T": DisplayUnit("K"), "duty": DisplayUnit("W"), "energy": DisplayUnit("MWh"),
+                "vol": DisplayUnit("Sm3")}
+    u = unit_system("si" if units == "display" else units,
+                    STANDARD_ATMOSPHERE if atmosphere is None else atmosphere)
+    if units == "field":
+        # 1 Btu (IT) = 1055.05585262 J (NIST SP 811, B.8), so 1 MWh = 3.412142 MMBtu; 1 m3 =
+        # 1 / 0.3048**3 ft3 = 35.31467 ft3
+        # at the same conditions: fuel volume kept at 15 degC / 101.325 kPa, in thousand ft3
+        return {"T": u["T"], "duty": u["duty"],
+                "energy": DisplayUnit("MMBtu", 3.6e9 / 1055.05585262e6),
+                "vol": DisplayUnit("Mft3 (15 degC, 101.325 kPa)", 1e-3 / 0.3048 ** 3)}
+    return {"T": u["T"], "duty": u["duty"], "energy": DisplayUnit("MWh"), "vol": DisplayUnit("Sm3")}
+
+
+def year_table(res, units: str = "display", atmosphere: float | None = None):
+    """The year's figures as a :class:`~letdown.report.tables.Table` in ``units``: ``si`` (K, W,
+    MWh, Sm3 as the CSV), ``display`` (degC, kW, MWh, Sm3) or ``field`` (degF, MMBtu/h, MMBtu,
+    thousand ft3 at 15 degC and 101.325 kPa)."""
+    from .tables import Table
+    s = res.summary()
+    u = _units(units, atmosphere)
+    rows = [("hours", s["hours"], "-"), ("failed hours", s["failed_hours"], "-")]
+    for name, mwh in s["heat_MWh"].items():
+        rows.append((f"{name}: heat", u["energy"](mwh), u["energy"].label))
+        rows.append((f"{name}: fuel", u["energy"](s["fuel_MWh"][name]), u["energy"].label))
+        peak = s["peak"].get(name)
+        if peak:
+            rows.append((f"{name}: peak duty ({peak['time']})", u["duty"](peak["duty_W"]),
+                         u["duty"].label))
+        rows.append((f"{name}: hours off", s["heater_off_hours"].get(name, 0), "-"))
+    rows.append((f"fuel gas ({s['calorific_basis']})", u["vol"](s["fuel_Sm3"]), u["vol"].label))
+    for k in ("min", "max"):
+        v = s["outlet_T_K"][k]
+        rows.append((f"{s['outlet']} temperature, {k}", None if v is None else u["T"](v),
+                     u["T"].label))
+    if s["min_T_K"] is not None:
+        rows.append(("hours below limits.min_T", s["hours_below_min_T"], "-"))
+    if s["hours_below_hydrate_T_plus_margin"] is not None:
+        rows.append(("hours below hydrate T + margin", s["hours_below_hydrate_T_plus_margin"], "-"))
+    rows = [(q, str(v) if isinstance(v, int) else v, unit) for q, v, unit in rows]
+    return Table(f"A year of operation ({s['hours']} hours, model {s['model']})",
+                 ("", "value", "unit"), tuple(rows))
+
+
+def year_plot_files(res, units: str = "display", atmosphere: float | None = None) -> dict:
+    """year.png and year.svg in ``units``: heater duties and the outlet temperature on panels of
+    their own (never one axis for two units); {} without matplotlib."""
+    plt = pyplot()
+    if plt is None:
+        return {}
+    u = _units(units, atmosphere)
+    t = np.arange(res.profile.n) / 24.0
+    fig, (a1, a2) = plt.subplots(2, 1, figsize=(9, 6), sharex=True)
+    for name, d in res.heater_duty.items():
+        a1.plot(t, u["duty"](d), lw=0.6, label=f"{name} duty")
+    a1.set_ylabel(f"duty [{u['duty'].label}]")
+    a1.legend(loc="upper right")
+    a1.grid(True, alpha=0.3)
+    a2.plot(t, u["T"](res.stream_T[res.outlet]), lw=0.6, color="tab:red", label=res.outlet)
+    if res.min_T is not None:
+        a2.axhline(u["T"](res.min_T), color="k", ls="--", lw=0.8, label="limits.min_T")
+    a2.set_ylabel(f"temperature [{u['T'].label}]")
+    a2.set_xlabel("day of the year")
+    a2.legend(loc="upper right")
+    a2.grid(True, alpha=0.3)
+    fig.suptitle("A year of operation (engineering estimates)")
+    return figure_files(fig, "year", dpi=110)
+
+
+def year_html_sections(res, units: str = "display", atmosphere: float | None = None) -> list:
+    """[(heading, HTML)] of a year's record: the figures, the plot (inline SVG, with matplotlib),
+    the report text and the failed hours."""
+    from html import escape
+
+    from .html import inline_svg, table_html, text_html
+    parts = [("The year's figures", table_html(year_table(res, units, atmosphere)))]
+    plots = year_plot_files(res, units, atmosphere)
+    if "year.svg" in plots:
+        parts.append(("Plot", inline_svg(plots["year.svg"], "a year of operation")))
+    if units == "display":      # the terminal report is in display units; others have the table
+        parts.append(("Report", text_html(year_text(res))))
+    bad = np.flatnonzero(~res.converged)
+    if bad.size:
+        parts.append(("Failed hours", "<ul>" + "".join(
+            f"<li>{escape(str(res.profile.time[i]))}: {escape(str(res.reasons[i]))}</li>"
+            for i in bad[:200]) + "</ul>" + (f"<p>... and {bad.size - 200} more.</p>"
+                                             if bad.size > 200 else "")))
+    return parts

@@ -14,15 +14,21 @@ import numpy as np
 from ..errors import InputError
 
 
+#: Seconds before the progress bar appears: a run shorter than this shows none [s].
+PROGRESS_DELAY = 1.0
+
+
 def progress(iterable, total: int, desc: str, enabled: bool):
-    """Wrap ``iterable`` in a terminal progress bar (tqdm, on stderr) when ``enabled``."""
+    """Wrap ``iterable`` in a terminal progress bar (tqdm, on stderr) when ``enabled``; the bar
+    appears only once the run has taken :data:`PROGRESS_DELAY` seconds."""
     if not enabled:
         return iterable
     try:
         from tqdm import tqdm
-    except ImportError:       # the bar is a convenience: without tqdm, no bar
+    except ImportError:       # the bar is a convenience (the optional 'progress' extra)
         return iterable
-    return tqdm(iterable, total=total, desc=desc, unit="chunk", leave=False)
+    return tqdm(iterable, total=total, desc=desc, unit="chunk", leave=False,
+                delay=PROGRESS_DELAY)
 
 
 class Serial:
