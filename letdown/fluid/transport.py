@@ -231,8 +231,12 @@ def homogeneous_viscosity(mu_vapour, mu_liquid, x_mass):
         [Pa s]
     """
     x = np.asarray(x_mass, dtype=float)
-    inv = (np.where(x > 0.0, x / np.where(x > 0.0, mu_vapour, 1.0), 0.0)
-           + np.where(x < 1.0, (1.0 - x) / np.where(x < 1.0, mu_liquid, 1.0), 0.0))
+    mu_v = np.asarray(mu_vapour, dtype=float)
+    mu_l = np.asarray(mu_liquid, dtype=float)
+    # a phase that is absent (NaN) takes the whole flow's mass (rounding of x near 0 or 1)
+    x = np.where(np.isnan(mu_l), 1.0, np.where(np.isnan(mu_v), 0.0, x))
+    inv = (np.where(x > 0.0, x / np.where(x > 0.0, mu_v, 1.0), 0.0)
+           + np.where(x < 1.0, (1.0 - x) / np.where(x < 1.0, mu_l, 1.0), 0.0))
     return 1.0 / inv
 
 
