@@ -29,7 +29,9 @@ FLAG_KINDS = {"two_phase_outlet": ("two_phase_outlet", "check"),
               "outlet_liquid": ("expander_liquid", "check"),
               "outlet_liquid_high": ("expander_liquid_high", "hazard"),
               "dense_phase_inlet": ("separator_dense_inlet", "hazard"),
-              "liquid_inlet": ("separator_liquid_inlet", "check")}
+              "liquid_inlet": ("separator_liquid_inlet", "check"),
+              "velocity_high": ("max_velocity", "check"),
+              "two_phase_flow": ("pipe_two_phase", "check")}
 
 
 def _C(T) -> str:
@@ -196,6 +198,21 @@ def _single_phase_inlet(dense):
     return text
 
 
+def _velocity_high(fluid, i, outcome, d, inlets, outlets):
+    v, lim = d["velocity_max_m_s"], d["max_velocity_m_s"]
+    return (f"gas velocity {v[i]:.2f} m/s in the pipe is above limits.max_velocity "
+            f"{lim[i]:.2f} m/s (erosion, noise, vibration): give a larger diameter or a higher "
+            "pressure, or lower the flow",
+            {"velocity_max_m_s": v, "max_velocity_m_s": lim, "velocity_in_m_s":
+             d["velocity_in_m_s"], "velocity_out_m_s": d["velocity_out_m_s"]})
+
+
+def _two_phase_flow(fluid, i, outcome, d, inlets, outlets):
+    return ("liquid forms along the pipe: its pressure drop takes gas and liquid as one "
+            "homogeneous fluid (no slip, no liquid hold-up), an estimate only; check the line "
+            "with a two-phase flow method", {})
+
+
 _TEXTS = {"two_phase_outlet": _two_phase_outlet, "temperature_cross": _temperature_cross,
           "spec_unmet": _spec_unmet, "reverse_duty": _reverse_duty,
           "three_phase_T_shift": _three_phase_T_shift,
@@ -204,4 +221,5 @@ _TEXTS = {"two_phase_outlet": _two_phase_outlet, "temperature_cross": _temperatu
           "liquid_feed": _liquid_feed, "liquid_feed_trace": _liquid_feed_trace,
           "outlet_liquid": _outlet_liquid, "outlet_liquid_high": _outlet_liquid_high,
           "dense_phase_inlet": _single_phase_inlet(True),
-          "liquid_inlet": _single_phase_inlet(False)}
+          "liquid_inlet": _single_phase_inlet(False),
+          "velocity_high": _velocity_high, "two_phase_flow": _two_phase_flow}
