@@ -212,3 +212,25 @@ def test_fuzz_random_pipes_balance_and_stay_finite():
     lo = np.minimum(inlet.T, params["surroundings"]["ground_T"]) - 5.0
     hi = np.maximum(inlet.T, params["surroundings"]["ground_T"]) + 1.0
     assert np.all((T_out > lo) & (T_out < hi))
+
+
+def test_a_wet_gas_line_is_flagged_and_balances():
+    # a rich gas (tests.blocks RICH, invented) cooled by cold air condenses along the line: the
+    # homogeneous-flow estimate is used and flagged; its mixture viscosity lies between the
+    # phases' (McAdams), the numbers are finite and the balances close
+    gas = fluid("rich")
+    inlet = feed(gas, [300.0, 300.0], [60e5, 60e5], [200.0, 200.0])
+    out = pipe.run(gas, "line", {"in": inlet},
+                   {"length": 3000.0, "diameter": 0.2,
+                    "surroundings": {"kind": "air", "T": np.array([290.0, 240.0]), "U": 20.0}})
+    assert_balanced({"in": inlet}, out)
+    np.testing.assert_array_equal(out.flags["two_phase_flow"], [False, True])
+    beta = out.outlets["out"].vapour_fraction
+    assert beta[0] == 1.0 and 0.0 < beta[1] < 1.0
+    assert np.all(np.isfinite(out.dP)) and np.all(out.dP > 0)
+    st = gas.flash(T=out.outlets["out"].T[1:], P=out.outlets["out"].P[1:])
+    per = st.phase_transport()
+    mu_v, mu_l = per["vapour"][0][0], per["liquid"][0][0]
+    from letdown.fluid.transport import homogeneous_viscosity
+    mu = homogeneous_viscosity(mu_v, mu_l, 0.5)
+    assert mu_v < mu < mu_l
