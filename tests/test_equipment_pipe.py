@@ -160,6 +160,8 @@ def test_velocity_limit_flag():
     ({"length": 10.0, "diameter": 0.0}, "equipment.p.diameter", "must be positive"),
     ({"length": 10.0, "diameter": 0.3, "elevation_change": 20.0}, "equipment.p.elevation_change",
      "cannot exceed"),
+    ({"length": 1e5, "diameter": 0.3, "elevation_change": -2e4}, "equipment.p.elevation_change",
+     "cannot exceed the length or 10000 m"),
     ({"length": 10.0, "diameter": 0.6, "surroundings": {"kind": "buried", "depth": 0.2,
                                                         "soil_conductivity": 1.0,
                                                         "ground_T": 280.0}},

@@ -67,6 +67,7 @@ def test_pipe_parameters_in_si():
     ({"length": "-3 km"}, 11, "length must be positive"),
     ({"diameter": "0 mm"}, 12, "diameter must be positive"),
     ({"diameter": "3 m"}, 14, "less than half the diameter"),
+    ({"length": "300 m\n    elevation_change: 400 m"}, 12, "exceeds the length"),
     ({"surroundings": "buried: {depth: 1.2 m, soil_conductivity: 1.2 W/(m*K), ground_T: 5 degC, "
                       "cover: 2}"}, 14, "cover"),
     ({"surroundings": "water: {T: 5 degC}"}, 14, "water"),
@@ -87,6 +88,10 @@ def test_velocity_limit_warns_naming_the_pipe():
     v = out["equipment"]["line"]["velocity_max_m_s"]
     assert v > 20.0 and "above limits.max_velocity" in warnings[0]["what"]
     assert warnings[0]["numbers"]["velocity_max_m_s"] == pytest.approx(v)
+    from letdown.report.text import report_text
+    text = report_text(result, "field")
+    assert "line: gas velocity" in text and "above limits.max_velocity" in text
+    assert "velocity_max=" in text and "ft/s" in text          # the pipe's detail in field units
     slow = solve(loads(sheet(diameter="400 mm"), "slow.yaml"))
     assert not [w for w in slow.to_dict()["warnings"] if w["kind"] == "max_velocity"]
 

@@ -78,6 +78,11 @@ MIN_PRESSURE_FRACTION = 0.01
 #: quotient loses digits to cancellation there).
 NTU_SMALL = 1e-6
 
+#: An elevation change larger than this [m] is refused: about the height of the highest
+#: mountains; no gas line climbs or falls more, and 100 km of falling gas column would compress it
+#: past every model's range (our choice).
+MAX_ELEVATION = 1e4
+
 SURROUNDINGS = ("buried", "air", "U")
 
 
@@ -228,12 +233,12 @@ def run(fluid, name: str, inlets, params):
     dz = array_param(params, "elevation_change", n, name, default=0.0)
     for key, v, ok in (("length", L, L > 0.0), ("diameter", D, D > 0.0),
                        ("roughness", eps, (eps >= 0.0) & (eps < D / 2.0)),
-                       ("elevation_change", dz, np.abs(dz) <= L)):
+                       ("elevation_change", dz, (np.abs(dz) <= L) & (np.abs(dz) <= MAX_ELEVATION))):
         if np.any(~ok):
             i = int(np.flatnonzero(~ok)[0])
             what = {"length": "must be positive", "diameter": "must be positive",
                     "roughness": "must be zero or more and below the radius",
-                    "elevation_change": "cannot exceed the length"}[key]
+                    "elevation_change": f"cannot exceed the length or {MAX_ELEVATION:g} m"}[key]
             raise InputError(f"{key} {v[i]:.6g} m {what}" + case_text(i, n),
                              field=field_name(name, key))
     steps = params.get("steps", STEPS)

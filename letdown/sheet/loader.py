@@ -39,6 +39,7 @@ import jsonschema
 import yaml
 
 from ..equipment.inject import MAX_DEPRESSION, options as inject_options
+from ..equipment.pipe import MAX_ELEVATION
 from ..errors import InputError
 from ..fluid.inhibitor import inhibitor
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
@@ -609,9 +610,10 @@ def _pipe_options(doc, q, raw, params, field_where, path):
         params["steps"] = raw["steps"]
         field_where["steps"] = _where(doc, path + ("steps",))
     if "elevation_change" in params and "length" in params \
-            and abs(params["elevation_change"]) > params["length"]:
+            and abs(params["elevation_change"]) > min(params["length"], MAX_ELEVATION):
         raise doc.err(f"elevation_change {raw['elevation_change']!r} exceeds the length "
-                      f"{raw['length']!r}", path + ("elevation_change",), key=False)
+                      f"{raw['length']!r} or {MAX_ELEVATION:g} m", path + ("elevation_change",),
+                      key=False)
     if "surroundings" not in raw:
         return
     sur = raw["surroundings"]
