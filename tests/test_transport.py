@@ -157,6 +157,7 @@ def test_lee_gonzalez_eakin_against_coolprop(fluid):
     ref = np.array([_reference(cp_name, t, p)[1] for t, p in STATES])
     np.testing.assert_allclose(lee_gonzalez_eakin(T, rho, np.full_like(T, M)), ref, rtol=0.06)
     # and the two published methods agree with each other through letdown's own states
+    # (measured 5.6 % for methane, 3.6 % for the natural gas)
     st = letdown.Fluid(comp).flash(T=T, P=P)
     np.testing.assert_allclose(lee_gonzalez_eakin(T, st.density, st.molar_mass), st.viscosity,
                                rtol=0.08)
