@@ -19,7 +19,8 @@ DISTRICT = ROOT / "flowsheets" / "district-station.yaml"
 SHEET = """\
 title: test line (fictional)
 gas:
-  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
+  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015,
+                carbon-dioxide: 0.0115}
 feeds:
   inlet: {T: 10 degC, P: 5 barg, flow: 12000 Sm3/h}
 equipment:
@@ -64,15 +65,15 @@ def test_pipe_parameters_in_si():
 
 
 @pytest.mark.parametrize("kw, line, match", [
-    ({"length": "-3 km"}, 11, "length must be positive"),
-    ({"diameter": "0 mm"}, 12, "diameter must be positive"),
-    ({"diameter": "3 m"}, 14, "less than half the diameter"),
-    ({"length": "300 m\n    elevation_change: 400 m"}, 12, "exceeds the length"),
+    ({"length": "-3 km"}, 12, "length must be positive"),
+    ({"diameter": "0 mm"}, 13, "diameter must be positive"),
+    ({"diameter": "3 m"}, 15, "less than half the diameter"),
+    ({"length": "300 m\n    elevation_change: 400 m"}, 13, "exceeds the length"),
     ({"surroundings": "buried: {depth: 1.2 m, soil_conductivity: 1.2 W/(m*K), ground_T: 5 degC, "
-                      "cover: 2}"}, 14, "cover"),
-    ({"surroundings": "water: {T: 5 degC}"}, 14, "water"),
+                      "cover: 2}"}, 15, "cover"),
+    ({"surroundings": "water: {T: 5 degC}"}, 15, "water"),
     ({"surroundings": "buried: {depth: 1.2 m, soil_conductivity: 1.2 bar, ground_T: 5 degC}"},
-     14, "not a unit of thermal conductivity"),
+     15, "not a unit of thermal conductivity"),
 ])
 def test_bad_pipe_input_is_located(kw, line, match):
     e = bad(sheet(**kw))

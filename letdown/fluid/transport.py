@@ -267,7 +267,7 @@ def phase_transport(states):
 
 
 def lee_gonzalez_eakin(T, density, molar_mass):
-    """Gas viscosity by Lee, Gonzalez & Eakin (1966), a second, independent estimate for natural gas.
+    """Gas viscosity by Lee, Gonzalez & Eakin (1966): a second, independent estimate for gases.
 
     Lee, Gonzalez & Eakin, "The viscosity of natural gases", J. Pet. Technol. 18 (1966) 997-1000
     (coefficients from memory, checked against CoolProp in ``tests/test_transport.py``: within

@@ -633,8 +633,8 @@ def _pipe_options(doc, q, raw, params, field_where, path):
     for k in entries:
         if k not in table:
             known = "buried, air, or U with T" if form == "U" else ", ".join(table)
-            raise doc.err(f"unknown surroundings entry '{k}'{_nearest(k, list(table) + ['buried', 'air'])} "
-                          f"(known: {known})", epath + (k,))
+            near = _nearest(k, list(table) + ["buried", "air"])
+            raise doc.err(f"unknown surroundings entry '{k}'{near} (known: {known})", epath + (k,))
     out = {"kind": form}
     for k, qkind in table.items():
         if k not in entries:
