@@ -14,7 +14,7 @@ R = 8.314462618
 
 def _isothermal_P2(P1, T, G, D, L, f, M, Z_of_P):
     """Outlet pressure of a long isothermal gas pipe (Menon, Gas Pipeline Hydraulics, 2005,
-    ch. 2: the general flow equation in its Darcy form with the kinetic term,
+    ch. 2, from memory: the general flow equation in its Darcy form with the kinetic term,
     ``P1^2 - P2^2 = G^2 Z R T / M (f L / D + 2 ln(P1 / P2))``, Z at Menon's average pressure
     ``2/3 (P1 + P2 - P1 P2 / (P1 + P2))``)."""
     P2 = 0.8 * P1

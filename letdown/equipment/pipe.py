@@ -42,7 +42,9 @@ heat less the work done lifting and accelerating the gas, ``F M (g dz + (v_out^2
 so that the enthalpy balance closes.
 
 Default roughness 0.045 mm: commercial steel (Moody, Trans. ASME 66 (1944) 671, his chart's
-"commercial steel or wrought iron"; the handbook value, e.g. Crane TP-410; common practice).
+"commercial steel or wrought iron"; the usual handbook value; citation and value from memory,
+common practice). Colebrook, J. Inst. Civ. Eng. 11 (1939) 133; Haaland, J. Fluids Eng. 105 (1983)
+89 (citations from memory).
 """
 from __future__ import annotations
 
