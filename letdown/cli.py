@@ -2,7 +2,8 @@
 
 Verbs::
 
-    letdown solve FILE [--json] [--csv DIR] [--model M] [--units si|field] [--html P] [--xlsx P]
+    letdown solve FILE [--json] [--csv DIR] [--model M] [--units si|field] [--profile] [--debug]
+                 [--html P] [--xlsx P]
     letdown check FILE [--debug]
     letdown new station|train [FILE]
     letdown crosscheck FILE [--models M,M] [--json] [--units si|field] [--html P]
@@ -74,6 +75,8 @@ def _parser() -> argparse.ArgumentParser:
     s.add_argument("--csv", metavar="DIR", help="also write streams.csv and equipment.csv to DIR")
     s.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
     s.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+    s.add_argument("--profile", action="store_true",
+                   help="also give the temperature and pressure along each pipe (JSON and report)")
     s.add_argument("--dew-points", action="store_true",
                    help="also give each product gas's hydrocarbon dew point and cricondentherm")
     s.add_argument("--html", metavar="PATH",
@@ -391,13 +394,18 @@ def _solve(args) -> int:
         result = with_dew_points(result, spec)
     converged = bool(getattr(result, "converged", True))
     if args.json:
-        print(result.to_json())
+        print(result.to_json(profile=True) if args.profile else result.to_json())
         for w in getattr(result, "warnings", None) or ():
             where = w.get("where") if isinstance(w, dict) else getattr(w, "where", "")
             what = w.get("what") if isinstance(w, dict) else getattr(w, "what", w)
             print(f"letdown: warning: {where}: {what}", file=sys.stderr)
     else:
         print(report_text(result, args.units, atmosphere=atmosphere))
+        if args.profile:
+            from .report.tables import profile_tables, render
+            for table in profile_tables(result, args.units, atmosphere=atmosphere):
+                print()
+                print(render(table))
     if not converged:
         print(f"letdown: {args.file}: the solve did not converge (see the loops and goals above);"
               f" no CSV written", file=sys.stderr)

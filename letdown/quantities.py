@@ -200,8 +200,12 @@ PLAUSIBLE: dict[str, tuple[float, float]] = {
     "ua": (-1e10, 1e10),
     "molar_enthalpy": (-1e7, 1e7),
     "molar_entropy": (-1e5, 1e5),
-    "length": (0.0, 1e6),
-    "velocity": (-1e3, 1e3),
+    # pipes (letdown.equipment.pipe): lengths from a roughness to a long line, gas velocities, soil
+    # conductivities and overall coefficients (common practice for the bounds)
+    "length": (-1e6, 1e6),
+    "velocity": (-1e4, 1e4),
+    "thermal_conductivity": (-1e4, 1e4),
+    "heat_transfer_coefficient": (-1e6, 1e6),
 }
 #: How each bound is shown in a message.
 _PLAUSIBLE_TEXT = {
@@ -212,16 +216,20 @@ _PLAUSIBLE_TEXT = {
     "mass_flow": "at most 1e5 kg/s in size", "power": "at most 10 GW in size",
     "ua": "at most 10 GW/K in size", "molar_enthalpy": "at most 1e7 J/mol in size",
     "molar_entropy": "at most 1e5 J/(mol K) in size",
-    "length": "0-1000 km", "velocity": "at most 1000 m/s in size",
+    "length": "at most 1000 km in size", "velocity": "at most 10 km/s in size",
+    "thermal_conductivity": "at most 1e4 W/(m K) in size",
+    "heat_transfer_coefficient": "at most 1e6 W/(m2 K) in size",
 }
 
 #: Kinds of quantity this module parses, with the pint dimensionality expected.
 KINDS = ("temperature", "temperature_difference", "pressure", "pressure_difference", "flow",
-         "power", "fraction", "ua", "molar_enthalpy", "molar_entropy", "length", "velocity")
+         "power", "fraction", "ua", "molar_enthalpy", "molar_entropy",
+         "length", "velocity", "thermal_conductivity", "heat_transfer_coefficient")
 #: The SI unit each quantity kind is converted to (labels for tables and column names).
 SI_UNITS = {"temperature": "K", "temperature_difference": "K", "pressure": "Pa",
             "pressure_difference": "Pa", "flow": "mol/s", "power": "W", "fraction": "-",
-            "ua": "W/K", "length": "m", "velocity": "m/s"}
+            "ua": "W/K", "length": "m", "velocity": "m/s", "thermal_conductivity": "W/(m K)",
+            "heat_transfer_coefficient": "W/(m2 K)"}
 
 _DIMS = {
     "pressure": "[pressure]",
@@ -233,6 +241,8 @@ _DIMS = {
     "fraction": "[]",
     "length": "[length]",
     "velocity": "[length] / [time]",
+    "thermal_conductivity": "[power] / [length] / [temperature]",
+    "heat_transfer_coefficient": "[power] / [length] ** 2 / [temperature]",
 }
 
 _EXAMPLES = {
@@ -246,8 +256,10 @@ _EXAMPLES = {
     "ua": "'25 kW/K'",
     "molar_enthalpy": "'-1200 J/mol', '-1.2 kJ/mol'",
     "molar_entropy": "'-20 J/(mol*K)'",
-    "length": "'154 mm', '0.154 m', '6 in'",
-    "velocity": "'20 m/s', '65 ft/s'",
+    "length": "'12 km', '0.3 m', '300 mm', '12 in'",
+    "velocity": "'20 m/s', '60 ft/s'",
+    "thermal_conductivity": "'1.5 W/(m*K)', '0.9 Btu/(h*ft*degF)'",
+    "heat_transfer_coefficient": "'5 W/(m2*K)', '1 Btu/(h*ft2*degF)'",
 }
 
 
@@ -297,7 +309,7 @@ def _split(text, kind, field, file, line):
 def _pint_units(unit, kind, field, file, line):
     """Parse a unit string with the shared registry; ``m3`` -> ``m**3``."""
     import pint
-    spelled = re.sub(r"(?<=[A-Za-z])([23])(?![\d*])", r"**\1", unit)
+    spelled = re.sub(r"(?<=[A-Za-z])([23])(?!\d|\*\*)", r"**\1", unit)
     try:
         return registry().parse_units(spelled)
     except (pint.errors.UndefinedUnitError, pint.errors.DefinitionSyntaxError, AttributeError,
@@ -443,7 +455,8 @@ def _parse(text, kind, atmosphere, bare, field, file, line):
     if kind == "fraction":
         return _convert(value, unit, "dimensionless", kind, field, file, line)
     to = {"power": "W", "ua": "W/K", "molar_enthalpy": "J/mol",
-          "molar_entropy": "J/(mol*K)", "length": "m", "velocity": "m/s"}[kind]
+          "molar_entropy": "J/(mol*K)", "length": "m", "velocity": "m/s",
+          "thermal_conductivity": "W/(m*K)", "heat_transfer_coefficient": "W/(m**2*K)"}[kind]
     return _convert(value, unit, to, kind, field, file, line)
 
 
@@ -606,6 +619,7 @@ def unit_system(name: str, atmosphere: float = STANDARD_ATMOSPHERE) -> dict[str,
             "molar_mass": DisplayUnit("kg/kmol", 1e3),
             "ua": DisplayUnit("kW/K", 1e-3),
             "velocity": DisplayUnit("m/s"),
+            "length": DisplayUnit("m"),
         }
     if name == "field":
         mmscf = STANDARD_CONDITIONS["mmscf"]
@@ -626,7 +640,8 @@ def unit_system(name: str, atmosphere: float = STANDARD_ATMOSPHERE) -> dict[str,
             "power": DisplayUnit("hp", 1.0 / 745.6998715822702),  # mechanical hp, NIST SP 811
             "molar_mass": DisplayUnit("lb/lbmol", 1e3),
             "ua": DisplayUnit("Btu/(h F)", 3600.0 / btu / 1.8),
-            "velocity": DisplayUnit("ft/s", 1.0 / 0.3048),   # 1 ft = 0.3048 m exactly
+            "velocity": DisplayUnit("ft/s", 1.0 / 0.3048),   # international foot, NIST SP 811
+            "length": DisplayUnit("ft", 1.0 / 0.3048),
         }
     raise InputError(f"unknown unit system '{name}' (use 'si' or 'field')", field="units")
 

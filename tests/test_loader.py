@@ -71,7 +71,7 @@ def test_schema_is_valid_and_published():
     jsonschema.Draft202012Validator.check_schema(json.loads(schema_path().read_text()))
     kinds = schema()["$defs"]["block"]["properties"]["kind"]["enum"]
     assert set(kinds) == {"throttle", "heater", "cooler", "separator", "compressor", "expander",
-                          "mixer", "splitter", "exchanger", "inject"}
+                          "mixer", "splitter", "exchanger", "inject", "pipe"}
 
 
 def test_unknown_component_suggests_the_nearest():

@@ -134,7 +134,7 @@ def test_propane_loop_cop_matches_hand_calculation():
 
 # -- every example closes its balances -----------------------------------------------------------
 @pytest.mark.parametrize("name", [
-    "gate-station", "propane-chiller", "two-stage-letdown", "two-stage-expander",
+    "gate-station", "propane-chiller", "two-stage-letdown", "two-stage-expander", "district-station",
     pytest.param("cold-separation", marks=pytest.mark.slow)])
 def test_examples_close_their_balances(name):
     fs = load_flowsheet(EXAMPLES / f"{name}.yaml")

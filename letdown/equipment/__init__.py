@@ -13,7 +13,7 @@ Blocks know nothing of files or graphs; the sheet layer adds the file and line t
 """
 from __future__ import annotations
 
-from . import (compressor, exchanger, expander, heater, inject, mixer, separator, splitter,
+from . import (compressor, exchanger, expander, heater, inject, mixer, pipe, separator, splitter,
                throttle)
 from .common import BlockOutcome, closures
 from .stream import StreamBatch, flash_stream
@@ -30,6 +30,7 @@ KINDS = {
     "splitter": splitter.run,
     "exchanger": exchanger.run,
     "inject": inject.run,
+    "pipe": pipe.run,
 }
 
 __all__ = ["KINDS", "BlockOutcome", "StreamBatch", "closures", "flash_stream"]

@@ -138,6 +138,41 @@ class States:
         return State(**vals, zs=self.zs[i].copy(), ys=self.ys[i].copy(), xs=self.xs[i].copy(),
                      phases=tuple(phases), components=self.components, model=self.model, **wet)
 
+    # -- transport properties (Chung et al. 1988; letdown.fluid.transport) ---------------------
+    def phase_transport(self) -> dict:
+        """Viscosity [Pa s] and thermal conductivity [W/(m K)] of each phase.
+
+        Returns
+        -------
+        dict
+            ``{"vapour": (mu, k), "liquid": (mu, k)}``, arrays (n,), NaN where the phase is
+            absent (:func:`letdown.fluid.transport.phase_transport`; ranges stated there).
+        """
+        from .transport import phase_transport
+        return phase_transport(self)
+
+    def _whole(self, j: int) -> np.ndarray:
+        per = self.phase_transport()
+        beta = np.asarray(self.vapour_fraction, dtype=float)
+        single = np.asarray(self.n_phases) <= 1
+        return np.where(single & (beta >= 0.5), per["vapour"][j],
+                        np.where(single, per["liquid"][j], np.nan))
+
+    @property
+    def viscosity(self) -> np.ndarray:
+        """Dynamic viscosity of a single-phase state [Pa s], (n,).
+
+        NaN for two (or three) phases: a mixture of gas and liquid has no one viscosity (a flow
+        model chooses how to combine the phases' values, :meth:`phase_transport`).
+        """
+        return self._whole(0)
+
+    @property
+    def thermal_conductivity(self) -> np.ndarray:
+        """Thermal conductivity of a single-phase state [W/(m K)], (n,); NaN for two phases (see
+        :attr:`viscosity`)."""
+        return self._whole(1)
+
     def take(self, idx) -> "States":
         """A sub-batch of the cases ``idx`` (indices, slice or boolean mask)."""
         out = {}
@@ -218,6 +253,30 @@ class State:
     def n_phases(self) -> int:
         """Number of phases [-] (a lumped liquid of two liquids counts two)."""
         return len(self.phases) if self.phase_count is None else self.phase_count
+
+    def phase_transport(self) -> dict:
+        """Viscosity [Pa s] and thermal conductivity [W/(m K)] of each phase present:
+        ``{phase name: (mu, k)}`` (Chung et al. 1988, :mod:`letdown.fluid.transport`)."""
+        from .transport import transport
+        out = {}
+        for ph in self.phases:
+            mu, k = transport([self.T], [ph.density / ph.molar_mass], ph.zs[None, :],
+                              self.components)
+            out[ph.name] = (float(mu[0]), float(k[0]))
+        return out
+
+    @property
+    def viscosity(self) -> float:
+        """Dynamic viscosity [Pa s] of a single-phase state; NaN for two phases (a mixture of gas
+        and liquid has no one viscosity: see :meth:`phase_transport`)."""
+        per = self.phase_transport()
+        return next(iter(per.values()))[0] if len(per) == 1 else float("nan")
+
+    @property
+    def thermal_conductivity(self) -> float:
+        """Thermal conductivity [W/(m K)] of a single-phase state; NaN for two phases."""
+        per = self.phase_transport()
+        return next(iter(per.values()))[1] if len(per) == 1 else float("nan")
 
     def composition(self) -> dict:
         """Overall composition as {component: mole fraction}."""

@@ -314,3 +314,35 @@ def csv_text(table: Table) -> str:
     for r in table.rows:
         w.writerow(["" if c is None else (f"{c:.10g}" if isinstance(c, float) else c) for c in r])
     return buf.getvalue()
+
+
+def profile_tables(result, units: str = "si", *, atmosphere: float | None = None) -> list:
+    """One table per block that carries a profile along its length (a pipe's ``profile_x_m``,
+    ``profile_T_K``, ``profile_P_Pa``): position, temperature and pressure at each step.
+
+    Parameters
+    ----------
+    result : object
+        A solved result of one case (``result.equipment``: {name: dict}), with the profiles kept.
+    units : {"si", "field"}
+    atmosphere : float, optional
+        Atmosphere for gauge pressures [Pa].
+
+    Returns
+    -------
+    list of Table
+    """
+    atm = atmosphere if atmosphere is not None else _get(result, "atmosphere", STANDARD_ATMOSPHERE)
+    u = unit_system(units, atm if atm is not None else STANDARD_ATMOSPHERE)
+    tables = []
+    for name, data in dict(_get(result, "equipment", {}) or {}).items():
+        data = dict(data) if isinstance(data, Mapping) else dict(vars(data))
+        x, T, P = (data.get(k) for k in ("profile_x_m", "profile_T_K", "profile_P_Pa"))
+        if not isinstance(x, (list, tuple)) or T is None or P is None:
+            continue
+        header = (f"Position [{u['length'].label}]", f"Temperature [{u['T'].label}]",
+                  f"Pressure [{u['P'].label}]")
+        rows = tuple((None if a is None else u["length"](a), None if b is None else u["T"](b),
+                      None if c is None else u["P"](c)) for a, b, c in zip(x, T, P))
+        tables.append(Table(f"Profile along {name}", header, rows))
+    return tables

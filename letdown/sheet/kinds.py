@@ -24,6 +24,8 @@ PARAMETERS: dict[str, dict[str, str]] = {
                   "min_approach": "temperature_difference", "UA": "ua",
                   "hot_dP": "pressure_difference", "cold_dP": "pressure_difference"},
     "inject": {"rate": "mass_rate", "depression": "temperature_difference"},
+    "pipe": {"length": "length", "diameter": "length", "roughness": "length",
+             "elevation_change": "length"},
 }
 
 #: For each kind, groups of alternative specifications of which exactly one must be given

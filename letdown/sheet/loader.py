@@ -39,6 +39,7 @@ import yaml
 
 from ..equipment.inject import MAX_DEPRESSION, options as inject_options
 from ..equipment.throttle import valve_problem
+from ..equipment.pipe import MAX_ELEVATION
 from ..errors import InputError
 from ..fluid.inhibitor import inhibitor
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
@@ -492,6 +493,8 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
         if kind == "splitter":
             params["fractions"] = _fractions(doc, q, raw["to"], path + ("to",))
             field_where["fractions"] = _where(doc, path + ("to",))
+        if kind == "pipe":
+            _pipe_options(doc, q, raw, params, field_where, path)
         for group in EXACTLY_ONE.get(kind, ()):
             given = [k for k in group if k in params]
             varied = [k for k in group if (name, k) in goal_params and k not in params]
@@ -531,6 +534,64 @@ def _valve(doc: _Doc, q: _Quantities, raw, path) -> dict:
         key, message = problem
         raise doc.err(message, path + (key,) if key in raw else path, key=key not in raw)
     return out
+#: A pipe's ``surroundings``: each form and its entries with their quantity kinds.
+PIPE_SURROUNDINGS = {
+    "buried": {"depth": "length", "soil_conductivity": "thermal_conductivity",
+               "ground_T": "temperature"},
+    "air": {"T": "temperature", "U": "heat_transfer_coefficient"},
+    "U": {"U": "heat_transfer_coefficient", "T": "temperature"},
+}
+
+
+def _pipe_options(doc, q, raw, params, field_where, path):
+    """A pipe's ``steps`` and ``surroundings`` (SI, kind named), checked where they are written:
+    ``{buried: {depth, soil_conductivity, ground_T}}``, ``{air: {T, U}}`` or ``{U: .., T: ..}``."""
+    if "steps" in raw:
+        params["steps"] = raw["steps"]
+        field_where["steps"] = _where(doc, path + ("steps",))
+    if "elevation_change" in params and "length" in params \
+            and abs(params["elevation_change"]) > min(params["length"], MAX_ELEVATION):
+        raise doc.err(f"elevation_change {raw['elevation_change']!r} exceeds the length "
+                      f"{raw['length']!r} or {MAX_ELEVATION:g} m", path + ("elevation_change",),
+                      key=False)
+    if "surroundings" not in raw:
+        return
+    sur = raw["surroundings"]
+    spath = path + ("surroundings",)
+    field_where["surroundings"] = _where(doc, spath)
+    forms = [k for k in ("buried", "air") if k in sur]
+    if forms:
+        extra = [k for k in sur if k not in forms]
+        if len(forms) > 1 or extra:
+            bad = (forms[1:] + extra)[0]
+            raise doc.err(f"give one form of surroundings (buried, air, or U with T), not "
+                          f"'{forms[0]}' with '{bad}'", spath + (bad,))
+        form, entries, epath = forms[0], sur[forms[0]], spath + (forms[0],)
+    else:
+        form, entries, epath = "U", sur, spath
+    table = PIPE_SURROUNDINGS[form]
+    for k in entries:
+        if k not in table:
+            known = "buried, air, or U with T" if form == "U" else ", ".join(table)
+            near = _nearest(k, list(table) + ["buried", "air"])
+            raise doc.err(f"unknown surroundings entry '{k}'{near} (known: {known})", epath + (k,))
+    out = {"kind": form}
+    for k, qkind in table.items():
+        if k not in entries:
+            raise doc.err(f"{form} surroundings need '{k}'", epath)
+        out[k] = q(entries[k], qkind, epath + (k,))
+    if form == "buried":
+        if not out["soil_conductivity"] > 0.0:
+            raise doc.err("soil_conductivity must be positive", epath + ("soil_conductivity",),
+                          key=False)
+        D = params.get("diameter")
+        if D is not None and not out["depth"] > D / 2.0:
+            raise doc.err(f"depth {entries['depth']!r} (to the pipe's centre line) is less than "
+                          f"half the diameter {raw['diameter']!r}: the pipe would stick out of "
+                          "the ground", epath + ("depth",), key=False)
+    elif out["U"] < 0.0:
+        raise doc.err("U must not be negative", epath + ("U",), key=False)
+    params["surroundings"] = out
 
 
 def _a(kind: str) -> str:
@@ -593,6 +654,10 @@ def parameter_problem(kind: str, key: str, value: float, text) -> str | None:
             extra = f" (a {kind} duty is the heat {'added' if kind == 'heater' else 'removed'}; "\
                     f"use a {'cooler' if kind == 'heater' else 'heater'} for the other way)"
         return f"{key} must not be negative, got {text!r}{extra}"
+    if kind == "pipe" and key in ("length", "diameter") and not value > 0.0:
+        return f"{key} must be positive, got {text!r}"
+    if kind == "pipe" and key == "roughness" and value < 0.0:
+        return f"roughness must not be negative, got {text!r}"
     if key in ("UA", "min_approach") and value == 0.0:
         return f"{key} must be positive, got {text!r}"
     if key == "efficiency" and not 0.0 < value <= 1.0:
@@ -740,6 +805,12 @@ def _limits(doc: _Doc, q: _Quantities) -> dict:
         if out["hydrate_margin"] < 0.0:
             raise doc.err(f"a hydrate margin must not be negative, got {raw['hydrate_margin']!r}",
                           ("limits", "hydrate_margin"), key=False)
+    if "max_velocity" in raw:
+        # the fastest gas allowed in a pipe (erosion, noise, vibration): a warning above it
+        out["max_velocity"] = q(raw["max_velocity"], "velocity", ("limits", "max_velocity"))
+        if not out["max_velocity"] > 0.0:
+            raise doc.err(f"max_velocity must be positive, got {raw['max_velocity']!r}",
+                          ("limits", "max_velocity"), key=False)
     if "outlet_min_T" in raw:
         # the coldest gas allowed into the pipe downstream of the station (buried pipe: frost
         # heave; exposed pipe and coatings): a temperature for every gas outlet, or {T, streams}
@@ -991,6 +1062,11 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
         if name not in streams:
             raise doc.err(f"no stream named {name!r} (streams: {', '.join(sorted(streams))})",
                           ("limits", "outlet_min_T", "streams", k), key=False)
+    if "max_velocity" in limits:
+        # every pipe judges its own velocity against the limit (flag velocity_high)
+        for b in blocks.values():
+            if b.kind == "pipe":
+                b.params["max_velocity"] = limits["max_velocity"]
     fs = Flowsheet(title=title, gas=gas, feeds=feeds, blocks=blocks, goals=goals,
                    limits=limits, solver=solver, source=source,
                    extra={"atmosphere": atmosphere, "normalise": normalise}, guesses=guesses,

@@ -441,10 +441,12 @@ class BatchResult:
                 entry["dP_Pa"] = _num(eq.dP[i])
             for key, values in eq.details.items():
                 # words (an inject block's sizing rule, its protected stream) stay words
-                # and yes/no numbers (a valve's ``choked``) stay booleans
+                # and yes/no numbers (a valve's ``choked``) stay booleans; a profile along a
+                # block (a pipe's T and P at its steps) is a list
                 v = values[i]
-                entry[key] = v if isinstance(v, str) else (
-                    bool(v) if isinstance(v, (bool, np.bool_)) else _num(v))
+                entry[key] = (v if isinstance(v, str) else
+                              bool(v) if isinstance(v, (bool, np.bool_)) else
+                              [_num(x) for x in v] if np.ndim(v) > 0 else _num(v))
             for key, values in eq.flags.items():
                 entry[key] = bool(values[i])
             entry["mole_balance_closure"] = _num(closure[name][0][i])
@@ -536,6 +538,10 @@ def spread_result(lived: BatchResult, idx, n: int, goals, loops, converged,
                        min_T=lived.min_T, freezing_basis=lived.freezing_basis)
 
 
+#: Detail keys of a profile along a block (lists over its steps), in the JSON only on request.
+PROFILE_PREFIX = "profile_"
+
+
 @dataclass(frozen=True)
 class Result:
     """A flowsheet solved for one case (plain numbers, SI).
@@ -567,12 +573,18 @@ class Result:
     failure: str | None = None
     freezing_basis: Mapping | None = None
 
-    def to_dict(self) -> dict:
-        """The JSON contract of DESIGN.md as plain Python objects (SI, unit in each key)."""
+    def to_dict(self, profile: bool = False) -> dict:
+        """The JSON contract of DESIGN.md as plain Python objects (SI, unit in each key).
+
+        ``profile``: keep the profiles along blocks (``profile_*`` lists of a pipe: position,
+        T and P at each step); left out by default (``letdown solve --profile`` asks for them).
+        """
         out = {"title": self.title, "model": self.model, "converged": self.converged,
                "failure": self.failure,
                "streams": {n: s.to_dict() for n, s in self.streams.items()},
-               "equipment": {n: dict(e) for n, e in self.equipment.items()},
+               "equipment": {n: {k: v for k, v in e.items()
+                                 if profile or not k.startswith(PROFILE_PREFIX)}
+                             for n, e in self.equipment.items()},
                "goals": [dict(g) for g in self.goals], "loops": [dict(lp) for lp in self.loops],
                "warnings": [dict(w) for w in self.warnings]}
         if self.freezing_basis is not None:
@@ -581,6 +593,7 @@ class Result:
         out["caution"] = CAUTION
         return out
 
-    def to_json(self, indent: int | None = 2) -> str:
-        """The JSON contract of DESIGN.md as text (NaN written as null)."""
-        return json.dumps(self.to_dict(), indent=indent, allow_nan=False)
+    def to_json(self, indent: int | None = 2, profile: bool = False) -> str:
+        """The JSON contract of DESIGN.md as text (NaN written as null); ``profile`` as in
+        :meth:`to_dict`."""
+        return json.dumps(self.to_dict(profile=profile), indent=indent, allow_nan=False)
