@@ -70,8 +70,10 @@ def test_examples_load_and_match_the_schema(path):
 def test_schema_is_valid_and_published():
     jsonschema.Draft202012Validator.check_schema(json.loads(schema_path().read_text()))
     kinds = schema()["$defs"]["block"]["properties"]["kind"]["enum"]
-    assert set(kinds) == {"throttle", "heater", "cooler", "separator", "compressor", "expander",
-                          "mixer", "splitter", "exchanger", "inject", "pipe"}
+    from letdown.equipment import REGISTRY
+    assert kinds == list(REGISTRY)
+    assert {"throttle", "heater", "cooler", "separator", "compressor", "expander", "mixer",
+            "splitter", "exchanger", "inject", "pipe", "filter"} <= set(kinds)
 
 
 def test_unknown_component_suggests_the_nearest():

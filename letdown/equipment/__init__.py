@@ -13,24 +13,12 @@ Blocks know nothing of files or graphs; the sheet layer adds the file and line t
 """
 from __future__ import annotations
 
-from . import (compressor, exchanger, expander, heater, inject, mixer, pipe, separator, splitter,
-               throttle)
 from .common import BlockOutcome, closures
+from .registry import REGISTRY, BlockKind, Parameter
 from .stream import StreamBatch, flash_stream
 
-#: Block kind -> its ``run`` function.
-KINDS = {
-    "throttle": throttle.run,
-    "heater": heater.run_heater,
-    "cooler": heater.run_cooler,
-    "separator": separator.run,
-    "compressor": compressor.run,
-    "expander": expander.run,
-    "mixer": mixer.run,
-    "splitter": splitter.run,
-    "exchanger": exchanger.run,
-    "inject": inject.run,
-    "pipe": pipe.run,
-}
+#: Block kind -> its ``run`` function (from :data:`letdown.equipment.registry.REGISTRY`).
+KINDS = {name: kind.run for name, kind in REGISTRY.items()}
 
-__all__ = ["KINDS", "BlockOutcome", "StreamBatch", "closures", "flash_stream"]
+__all__ = ["KINDS", "REGISTRY", "BlockKind", "BlockOutcome", "Parameter", "StreamBatch", "closures",
+           "flash_stream"]

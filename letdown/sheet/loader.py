@@ -38,6 +38,7 @@ import jsonschema
 import yaml
 
 from ..equipment.inject import MAX_DEPRESSION, options as inject_options
+from ..equipment.registry import port_paths, ports
 from ..equipment.throttle import valve_problem
 from ..equipment.pipe import MAX_ELEVATION
 from ..errors import InputError
@@ -414,41 +415,10 @@ def _feeds(doc: _Doc, q: _Quantities, gas: GasSpec, normalise: bool,
     return feeds
 
 
-def _ports(kind: str, raw: dict):
-    """(inlets, outlets) port maps of a block, from its from/to/hot/cold fields."""
-    if kind == "exchanger":
-        return ({"hot": raw["hot"]["from"], "cold": raw["cold"]["from"]},
-                {"hot": raw["hot"]["to"], "cold": raw["cold"]["to"]})
-    if kind == "mixer":
-        return {f"in{i}": s for i, s in enumerate(raw["from"])}, {"out": raw["to"]}
-    if kind == "separator":
-        return {"in": raw["from"]}, dict(raw["to"])
-    if kind == "splitter":
-        return {"in": raw["from"]}, {s: s for s in raw["to"]}
-    return {"in": raw["from"]}, {"out": raw["to"]}
-
-
 def _port_where(doc: _Doc, kind: str, path) -> dict:
     """Where each port was written: keys ``in:PORT`` and ``out:PORT`` (port names as in the spec)."""
-    w = {}
     raw = doc.data["equipment"][path[-1]]
-    if kind == "exchanger":
-        for side in ("hot", "cold"):
-            w[f"in:{side}"] = _where(doc, path + (side, "from"))
-            w[f"out:{side}"] = _where(doc, path + (side, "to"))
-        return w
-    if kind == "mixer":
-        for i in range(len(raw["from"])):
-            w[f"in:in{i}"] = _where(doc, path + ("from", i))
-        w["out:out"] = _where(doc, path + ("to",))
-        return w
-    w["in:in"] = _where(doc, path + ("from",))
-    if kind in ("separator", "splitter"):
-        for port in raw["to"]:
-            w[f"out:{port}"] = _where(doc, path + ("to", port))
-    else:
-        w["out:out"] = _where(doc, path + ("to",))
-    return w
+    return {key: _where(doc, path + sub) for key, sub in port_paths(kind, raw).items()}
 
 
 def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
@@ -456,7 +426,7 @@ def _blocks(doc: _Doc, q: _Quantities, goal_params: dict) -> dict:
     for name, raw in doc.data["equipment"].items():
         path = ("equipment", name)
         kind = raw["kind"]
-        inlets, outlets = _ports(kind, raw)
+        inlets, outlets = ports(kind, raw)
         params: dict = {}
         field_where: dict = _port_where(doc, kind, path)
         for key, qkind in PARAMETERS[kind].items():

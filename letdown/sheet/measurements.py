@@ -37,17 +37,16 @@ from dataclasses import replace
 from ..errors import InputError
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
 from .inputtext import read_text
-from .kinds import PARAMETERS
+from .kinds import MEASURABLE, PARAMETERS
 from .spec import Flowsheet, MeasurementSpec, Where
 
 #: Stream quantities that may be measured, with their quantity kinds (:mod:`letdown.quantities`).
 STREAM_ATTRIBUTES = {"T": "temperature", "P": "pressure", "flow": "flow",
                      "vapour_fraction": "fraction"}
 
-#: Block quantities that may be measured: attribute -> (quantity kind, block kinds reporting it).
-BLOCK_ATTRIBUTES = {"duty": ("power", ("heater", "cooler", "exchanger")),
-                    "power": ("power", ("compressor", "expander")),
-                    "fuel": ("power", ("heater",))}
+#: Block quantities that may be measured: attribute -> (quantity kind, block kinds reporting it)
+#: (from each kind's declaration, :data:`letdown.equipment.registry.REGISTRY`).
+BLOCK_ATTRIBUTES = dict(MEASURABLE)
 
 #: Quantity kind of an uncertainty, by the measured quantity's kind.
 UNCERTAINTY_KINDS = {"temperature": "temperature_difference", "pressure": "pressure_difference",

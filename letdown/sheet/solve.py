@@ -44,6 +44,7 @@ from ..fluid.models import out_of_range
 from .freezing import basis, freezing_warnings, inject_doses, inject_params, stream_freezing
 from .blockflags import FLAG_KINDS, flag_warning, limit_warnings  # noqa: F401 (FLAG_KINDS: block flag -> kind)
 from .graph import build_graph, solve_order
+from .kinds import NUMBERS
 from .modelchoice import solve_default_model
 from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, GoalRecord,
                      LoopRecord, Result, WarningRecord, _spread, spread_result as _spread_result)
@@ -303,8 +304,7 @@ class _LoopEnd:
 
 #: Which of duty, power and dP each kind of block reports: the blank outcome of a block that no
 #: case of a batch reached (every case failed before it) has the same fields as a solved one.
-KIND_NUMBERS = {"heater": ("duty", "dP"), "cooler": ("duty", "dP"), "exchanger": ("duty",),
-                "compressor": ("power", "dP"), "expander": ("power", "dP")}
+KIND_NUMBERS = NUMBERS
 
 
 def _blank_stream(n: int, nc: int) -> StreamBatch:
@@ -337,7 +337,7 @@ def _spread_outcome(o: BlockOutcome | None, kind: str, outlets: dict, idx, n: in
     the block), blank elsewhere."""
     if o is None:
         nan = np.full(n, np.nan)
-        numbers = KIND_NUMBERS.get(kind, ("dP",))
+        numbers = KIND_NUMBERS[kind]
         return BlockOutcome(outlets=outlets, energy_in=nan, mole_closure=nan, energy_closure=nan,
                             **{k: nan for k in numbers})
     return BlockOutcome(outlets=outlets, energy_in=_spread(o.energy_in, idx, n),
