@@ -23,6 +23,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
+from ..fluid.water import M_WATER
 from ..fluid.components import canonical_name
 from ..quantities import SI_UNITS, MassFlow, parse_quantity
 from ..sheet.solve import FEED_FIELDS, solve_cases
@@ -214,8 +215,12 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
     model : str, optional
         Overrides the file's model.
     outputs : sequence of str, optional
-        Output columns (``stream.T|P|flow|vapour_fraction``, ``block.duty|power``, ``goal<k>``);
-        default: every stream's T, P and vapour fraction, every duty and power, every goal's value.
+        Output paths: any stream or block quantity of the JSON result by its key without the unit
+        suffix (``network.hydrate_margin``, ``network.gross_cv``, ``preheat.fuel``,
+        ``meoh.inhibitor_rate``) or with it (``network.hydrate_margin_K``), and ``goal<k>``;
+        default (:func:`default_outputs`): every stream's T, P, vapour fraction and hydrate
+        margin, every block's duty, fuel and power, every goal's value. The freezing margins are
+        computed in every case whenever an output needs them (the default does).
     executor : optional
         A :mod:`letdown.study.executors` executor; the cases are split into one chunk per worker.
 
@@ -285,7 +290,8 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
 def _sweep_chunk(task):
     """Solve one chunk of cases (top level, so process pools and Dask can ship it)."""
     fs, cases, model, outputs, m = task
-    res = solve_cases(fs, cases or None, model=model, strict=False)
+    res = solve_cases(fs, cases or None, model=model, strict=False,
+                      margins=needs_margins(outputs))
     names, values = _outputs(res, fs, outputs, m)
     return names, [np.asarray(v) for v in values], np.asarray(res.converged), _reasons(res, m), res.model
 
@@ -331,32 +337,163 @@ def _cases(fs, cols, n):
     return cases, goal_targets
 
 
-def _outputs(res, fs, outputs, m):
+#: Unit suffixes of the JSON contract's keys (longest first) and the unit they name: an output path
+#: is the key without its suffix (``hydrate_margin_K`` -> ``hydrate_margin [K]``).
+UNIT_SUFFIXES = (("_J_molK", "J/(mol K)"), ("_J_mol", "J/mol"), ("_kg_m3", "kg/m3"),
+                 ("_kg_mol", "kg/mol"), ("_J_m3", "J/m3"), ("_mg_Sm3", "mg/Sm3"),
+                 ("_mol_s", "mol/s"), ("_kg_s", "kg/s"), ("_m3_s", "m3/s"), ("_W_K", "W/K"),
+                 ("_wt_pct", "wt %"), ("_pct", "%"), ("_Pa", "Pa"), ("_W", "W"), ("_K", "K"),
+                 ("_m3", "m3"), ("_m", "m"))
+#: Stream quantities of the JSON contract that need the freezing margins (solved with margins on).
+FREEZING_KEYS = ("water_mg_Sm3", "water_mole_fraction", "water_dew_T_K", "hydrate_T_K",
+                 "hydrate_margin_K", "water_dew_margin_K", "ice_T_K", "ice_margin_K",
+                 "min_T_margin_K", "outlet_min_T_margin_K", "inhibitor_wt_pct", "water_activity",
+                 "inhibitor_flow_kg_s", "water_flow_mol_s", "water_flow_kg_s")
+#: Stream quantities from the composition by ISO 6976:2016 (15 degC / 15 degC).
+QUALITY_KEYS = ("gross_cv_J_m3", "wobbe_gross_J_m3", "relative_density")
+#: Stream quantities read from the stream batch itself: JSON key -> attribute.
+STREAM_KEYS = {"T_K": "T", "P_Pa": "P", "flow_mol_s": "flow", "mass_flow_kg_s": "mass_flow",
+               "vapour_fraction": "vapour_fraction", "h_J_mol": "h", "s_J_molK": "s", "Z": "Z",
+               "density_kg_m3": "density", "molar_mass_kg_mol": "molar_mass"}
+
+
+def split_unit(key: str) -> tuple[str, str]:
+    """A JSON key into its output name and unit: ``"hydrate_margin_K"`` -> ``("hydrate_margin",
+    "K")``; a key without a unit suffix is dimensionless (``"Z"`` -> ``("Z", "-")``).
+
+    >>> split_unit("gross_cv_J_m3"), split_unit("inhibitor_rate_kg_s"), split_unit("Z")
+    (('gross_cv', 'J/m3'), ('inhibitor_rate', 'kg/s'), ('Z', '-'))
+    """
+    for suffix, unit in UNIT_SUFFIXES:
+        if key.endswith(suffix) and len(key) > len(suffix):
+            return key[: -len(suffix)], unit
+    return key, "-"
+
+
+def needs_margins(outputs) -> bool:
+    """Whether the outputs asked for (None: the default set) need the freezing margins."""
+    if not outputs:
+        return True
+    names = {split_unit(k)[0] for k in FREEZING_KEYS} | set(FREEZING_KEYS)
+    return any(str(o).partition(".")[2] in names for o in outputs)
+
+
+def _stream_quantities(res, name, st, m):
+    """{JSON key: callable -> ndarray (m,)} of one stream (lazy: quality and margins cost)."""
+    out = {key: (lambda a=attr: getattr(st, a)) for key, attr in STREAM_KEYS.items()}
+    # blank where the margins were not computed (every case of the chunk failed)
+    out.update({key: (lambda: np.full(m, np.nan)) for key in FREEZING_KEYS})
+    fz = (res.freezing or {}).get(name)
+    if fz is not None:
+        T = np.asarray(st.T, float)
+
+        def opt(x):
+            return (lambda: np.full(m, np.nan)) if x is None else (lambda: np.asarray(x, float))
+        out.update({"water_mg_Sm3": lambda: fz.water_mg_Sm3,
+                    "water_mole_fraction": lambda: fz.water_mole_fraction,
+                    "water_dew_T_K": lambda: fz.water_dew_T, "hydrate_T_K": lambda: fz.hydrate_T,
+                    "hydrate_margin_K": lambda: T - fz.hydrate_T,
+                    "water_dew_margin_K": lambda: T - fz.water_dew_T,
+                    "ice_T_K": opt(fz.ice_T),
+                    "ice_margin_K": lambda: T - (np.full(m, np.nan) if fz.ice_T is None
+                                                 else np.asarray(fz.ice_T, float)),
+                    "min_T_margin_K": lambda: T - (np.nan if res.min_T is None else res.min_T),
+                    "inhibitor_wt_pct": opt(fz.inhibitor_wt_pct),
+                    "water_activity": opt(fz.water_activity),
+                    "water_flow_mol_s": opt(fz.water_flow),
+                    "water_flow_kg_s": lambda: (np.full(m, np.nan) if fz.water_flow is None
+                                                else np.asarray(fz.water_flow) * M_WATER)})
+        if fz.outlet_min_T is not None:
+            out["outlet_min_T_margin_K"] = lambda: T - fz.outlet_min_T
+
+    def quality_of(key):
+        def get():
+            from ..fluid.quality import quality
+            zs = np.asarray(st.zs, float)
+            ok = np.all(np.isfinite(zs), axis=1) & (np.asarray(st.flow) > 0.0)
+            vals = np.full(m, np.nan)
+            if ok.any():
+                try:
+                    q = quality(list(res.components), zs[ok], 288.15, 288.15)
+                except InputError:
+                    return vals             # a component without ISO 6976 data: no figure
+                vals[ok] = {"gross_cv_J_m3": q.gross_volumetric, "wobbe_gross_J_m3": q.wobbe_gross,
+                            "relative_density": q.relative_density}[key]
+            return vals
+        return get
+    out.update({key: quality_of(key) for key in QUALITY_KEYS})
+    return out
+
+
+def _block_quantities(res, eq):
+    out = {}
+    if eq.duty is not None:
+        out["duty_W"] = lambda: eq.duty
+    if eq.power is not None:
+        out["power_W"] = lambda: eq.power
+    if eq.dP is not None:
+        out["dP_Pa"] = lambda: eq.dP
+    for key, values in eq.details.items():
+        if isinstance(values, np.ndarray) and values.dtype.kind in "fiub":
+            out[key] = (lambda v=values: v)
+    return out
+
+
+def _available(res):
+    """{path: (column name, callable)} of every stream and block quantity of the JSON contract,
+    by its path (``network.hydrate_margin``) and by its full key (``network.hydrate_margin_K``)."""
+    m = res.n_cases
     avail = {}
+
+    def add(owner, key, get):
+        short, unit = split_unit(key)
+        col = f"{owner}.{short} [{unit}]"
+        for path in (f"{owner}.{short}", f"{owner}.{key}"):
+            avail.setdefault(path, (col, get))
     for name, st in res.streams.items():
-        avail[f"{name}.T [K]"] = st.T
-        avail[f"{name}.P [Pa]"] = st.P
-        avail[f"{name}.flow [mol/s]"] = st.flow
-        avail[f"{name}.vapour_fraction [-]"] = st.vapour_fraction
+        for key, get in _stream_quantities(res, name, st, m).items():
+            add(name, key, get)
     for name, eq in res.equipment.items():
-        if eq.duty is not None:
-            avail[f"{name}.duty [W]"] = eq.duty
-        if eq.power is not None:
-            avail[f"{name}.power [W]"] = eq.power
+        for key, get in _block_quantities(res, eq).items():
+            add(name, key, get)
     for k, g in enumerate(res.goals):
         value = g["value"] if isinstance(g, dict) else getattr(g, "value")
-        avail[f"goal{k + 1} [SI]"] = value
-    if outputs:
-        names = []
-        for o in outputs:
-            match = [a for a in avail if a.split(" [")[0] == o]
-            if not match:
-                raise InputError(f"unknown output '{o}' (available: "
-                                 f"{', '.join(a.split(' [')[0] for a in avail)})", field="outputs")
-            names.append(match[0])
-    else:
-        names = [a for a in avail if not a.split(" [")[0].endswith(".flow")]
-    values = [np.broadcast_to(np.asarray(avail[nm], dtype=float), (m,)) for nm in names]
+        avail[f"goal{k + 1}"] = (f"goal{k + 1} [SI]", lambda v=value: v)
+    return avail
+
+
+def default_outputs(res, margins: bool = True) -> list:
+    """The default output paths: every stream's T, P, vapour fraction and (when computed) hydrate
+    margin, every block's duty, power and fuel, every goal's value."""
+    paths = []
+    for name in res.streams:
+        paths += [f"{name}.T", f"{name}.P", f"{name}.vapour_fraction"]
+        if margins:
+            paths.append(f"{name}.hydrate_margin")
+    for name, eq in res.equipment.items():
+        if eq.duty is not None:
+            paths.append(f"{name}.duty")
+        if "fuel_W" in eq.details:
+            paths.append(f"{name}.fuel")
+        if eq.power is not None:
+            paths.append(f"{name}.power")
+    paths += [f"goal{k + 1}" for k in range(len(res.goals))]
+    return paths
+
+
+def _outputs(res, fs, outputs, m):
+    avail = _available(res)
+    paths = list(outputs) if outputs else default_outputs(res)
+    names, getters = [], []
+    for o in paths:
+        if o not in avail:
+            known = sorted({col.split(" [")[0] for col, _ in avail.values()})
+            raise InputError(f"unknown output '{o}' (known: {', '.join(known)})", field="outputs")
+        col, get = avail[o]
+        if col not in names:
+            names.append(col)
+            getters.append(get)
+    values = [np.broadcast_to(np.asarray(get(), dtype=float), (m,)) for get in getters]
     return names, values
 
 
