@@ -91,6 +91,9 @@ def _parser() -> argparse.ArgumentParser:
     w.add_argument("--outputs", metavar="A,B", help="output paths: any stream or block quantity of "
                    "the JSON result, e.g. network.T,network.hydrate_margin,network.gross_cv,preheat.fuel")
     w.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+    w.add_argument("--basis", choices=("volume", "energy"), default="volume",
+                   help="what a blend keeps: the feeds' standard flow (volume) or the energy they "
+                        "deliver, gross calorific value x standard flow (energy)")
     w.add_argument("--out", metavar="DIR", help="write sweep.csv, run.json (and plots) to DIR")
     w.add_argument("--plot", metavar="X:Y[,Y]", help="plot outputs Y against input X into DIR")
     w.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
@@ -378,7 +381,8 @@ def _sweep(args) -> int:
     executor = make_executor(args.workers, args.dask)
     try:
         table = sweep(fs, variables, mode="zip" if args.zip else "grid", model=args.model,
-                      outputs=outputs, executor=executor, show_progress=sys.stderr.isatty())
+                      outputs=outputs, executor=executor, show_progress=sys.stderr.isatty(),
+                      basis=args.basis)
     finally:
         executor.close()
     if target is not None:

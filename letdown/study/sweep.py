@@ -203,7 +203,8 @@ def _held_kind(fs, hold: str) -> str:
 
 
 def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = None,
-          outputs=None, executor=None, show_progress: bool = False) -> SweepTable:
+          outputs=None, executor=None, show_progress: bool = False,
+          basis: str = "volume") -> SweepTable:
     """Solve ``fs`` for every case of the swept variables.
 
     Parameters
@@ -223,6 +224,11 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
         computed in every case whenever an output needs them (the default does).
     executor : optional
         A :mod:`letdown.study.executors` executor; the cases are split into one chunk per worker.
+    basis : {"volume", "energy"}
+        What a composition change (a blend) keeps: the feeds' standard flow (``volume``), or the
+        energy they deliver (``energy``, :func:`energy_basis`): each feed's flow is scaled so that
+        gross calorific value times standard flow stays at the base case's, and the table shows
+        both flows and the energy.
 
     Returns
     -------
@@ -246,6 +252,14 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
     fs2 = _with_blend_components(fs, [v.path.split(".", 1)[1] for v in variables
                                       if v.path.startswith("blend.")])
     cases, goal_targets = _cases(fs2, cols, n)
+    if basis not in BASES:
+        raise InputError(f"unknown basis '{basis}' (known: {', '.join(BASES)})", field="--basis")
+    extra = energy_basis(fs2, cases, n) if basis == "energy" else {}
+    if extra:
+        # the energy basis shows each scaled feed's flow and calorific value beside the outputs
+        feeds = [k.rsplit(".energy [W]", 1)[0] for k in extra if k.endswith(".energy [W]")]
+        outputs = list(outputs or [DEFAULT]) + [f"{f}.{q}" for f in feeds
+                                                for q in ("flow", "gross_cv")]
     out_rows = [None] * n
     columns = None
     # one vectorised solve per distinct set of goal targets, split into chunks for the executor
@@ -278,13 +292,61 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
         names = [names[c] for c in keep]
         values = [values[c] for c in keep]
         if columns is None:
-            columns = inputs + tuple(names) + ("converged", "reason")
+            columns = inputs + tuple(names) + tuple(extra) + ("converged", "reason")
         for j, i in enumerate(idx):
             ok = bool(converged[j])
             outs = tuple(float(values[c][j]) if ok else float("nan") for c in range(len(names)))
             out_rows[i] = (tuple(float(cols[v.path][i]) for v in variables) + outs
+                           + tuple(float(a[i]) for a in extra.values())
                            + (ok, "" if ok else reasons[j]))
     return SweepTable(columns, tuple(out_rows), model_name)
+
+
+#: What a composition change keeps (see :func:`sweep`).
+BASES = ("volume", "energy")
+
+
+def energy_basis(fs, cases, n) -> dict:
+    """Put the cases on the energy basis: each feed whose composition the sweep changes gets its
+    flow scaled by Hs(base) / Hs(case), Hs the gross calorific value of ISO 6976:2016 (15 degC
+    combustion, :mod:`letdown.fluid.quality`), so the energy it delivers, gross calorific value
+    times standard flow, stays at the base case's (the file's composition at the case's flow).
+    On a molar basis that energy is the ideal molar gross value times the molar flow: the real
+    volumetric value is that molar value over the real molar volume at 15 degC and 101.325 kPa,
+    and the real standard volume is the molar flow times the same molar volume.
+
+    Changes ``cases`` in place; returns the extra columns {name: ndarray (n,)}: each such feed's
+    flow on the volume basis [mol/s] (what it would be at the same standard volume) and its
+    energy [W].
+
+    Raises
+    ------
+    InputError
+        A component without ISO 6976 data in such a feed.
+    """
+    from ..fluid.quality import quality
+    names = list(fs.gas.composition)
+    base_all = np.array([fs.gas.composition[c] for c in names], dtype=float)
+    extra = {}
+    for feed_name, feed in fs.feeds.items():
+        key = f"{feed_name}.zs"
+        if key not in cases:
+            continue
+        z = base_all if feed.composition is None else np.array(
+            [feed.composition.get(c, 0.0) for c in names], dtype=float)
+        z = z / z.sum()
+        try:
+            hs_base = float(np.asarray(quality(names, z).gross_molar).reshape(-1)[0])
+            hs = np.asarray(quality(names, cases[key]).gross_molar, dtype=float).reshape(-1)
+        except InputError as exc:
+            raise InputError(f"the energy basis needs the calorific value of feed "
+                             f"'{feed_name}': {exc.message}", field="--basis") from None
+        flow = np.broadcast_to(np.asarray(cases.get(f"{feed_name}.flow", feed.flow), float),
+                               (n,)).copy()
+        cases[f"{feed_name}.flow"] = flow * (hs_base / hs)
+        extra[f"{feed_name}.flow_volume_basis [mol/s]"] = flow
+        extra[f"{feed_name}.energy [W]"] = hs_base * flow
+    return extra
 
 
 def _sweep_chunk(task):
@@ -370,9 +432,13 @@ def split_unit(key: str) -> tuple[str, str]:
     return key, "-"
 
 
+#: An output entry that stands for the default set (:func:`default_outputs`).
+DEFAULT = "*"
+
+
 def needs_margins(outputs) -> bool:
     """Whether the outputs asked for (None: the default set) need the freezing margins."""
-    if not outputs:
+    if not outputs or DEFAULT in outputs:
         return True
     names = {split_unit(k)[0] for k in FREEZING_KEYS} | set(FREEZING_KEYS)
     return any(str(o).partition(".")[2] in names for o in outputs)
@@ -483,7 +549,9 @@ def default_outputs(res, margins: bool = True) -> list:
 
 def _outputs(res, fs, outputs, m):
     avail = _available(res)
-    paths = list(outputs) if outputs else default_outputs(res)
+    paths = []
+    for o in (outputs or [DEFAULT]):
+        paths += default_outputs(res) if o == DEFAULT else [o]
     names, getters = [], []
     for o in paths:
         if o not in avail:
