@@ -344,3 +344,27 @@ def test_hourly_csv_has_the_hydrate_temperature_of_every_stream(tmp_path):
     np.testing.assert_allclose(got, res.stream_hydrate_T["network"], rtol=1e-9)
     assert "supply.hydrate_T [K]" in rows[0] and "warm.hydrate_T [K]" in rows[0]
     assert "least margin" in year_text(res)
+
+
+def test_process_pool_after_a_large_serial_batch_does_not_hang():
+    """A process that has run a batch of 64 cases or more holds the compiled kernels' thread pool;
+    workers forked from it waited forever for threads that do not exist in the child (the year
+    benchmark hung so). The pool now starts its workers clean."""
+    import subprocess
+    import sys
+    script = (
+        "import numpy as np\n"
+        "from letdown.sheet.loader import load\n"
+        "from letdown.study.executors import ProcessPool\n"
+        "from letdown.study.year import _solve_chunk\n"
+        f"fs = load({GATE!r})\n"
+        "cases = {'supply.T': np.linspace(272.0, 285.0, 200)}\n"
+        "_solve_chunk((fs, cases, None))\n"
+        "pool = ProcessPool(2)\n"
+        "out = pool.map(_solve_chunk, [(fs, cases, None)] * 2)\n"
+        "pool.close()\n"
+        "print(all(o['converged'].all() for o in out))\n")
+    proc = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                          timeout=120)
+    assert proc.returncode == 0, proc.stderr
+    assert proc.stdout.strip() == "True"
