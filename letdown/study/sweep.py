@@ -13,6 +13,12 @@ Values are written with units as in the file (``0 degC:20 degC:5`` is a range of
 combination) or, with ``mode="zip"``, go together case by case. All cases are solved together through
 the batch solver (one vectorised pass per distinct goal target); a case that fails is kept in its row
 with the reason, never dropped.
+
+Outputs are named by path too: any stream or block quantity of the JSON result, by its key with or
+without the unit suffix (``network.hydrate_margin``, ``network.gross_cv``, ``preheat.fuel``,
+``meoh.inhibitor_rate``). The default set carries every stream's hydrate margin, so every case is
+solved with the freezing margins. With ``basis="energy"`` a blend keeps the energy each feed
+delivers instead of its standard flow (:func:`energy_basis`).
 """
 from __future__ import annotations
 

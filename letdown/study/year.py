@@ -12,6 +12,14 @@ of the feed gas by ISO 6976:2016, 15 degC combustion (gross by default, net on r
 the peak duty and its hour, the hours in which a stream is below ``limits.min_T``, the outlet
 temperature range, and the hours that failed (with the reason; the other hours are kept).
 
+Every hour is solved with the freezing margins (:mod:`letdown.sheet.freezing`), so each stream's
+hourly hydrate temperature is kept (``stream_hydrate_T``, a column of ``hourly.csv``) and the
+summary gives the hours each stream spends below its hydrate temperature, and below it plus
+``limits.hydrate_margin``, both with free water assumed and counted only where the stream can hold
+free water by its water dew point (:meth:`YearResult.hydrate_hours`); the heat and fuel of each
+calendar month (:meth:`YearResult.months`); a duty-duration summary (hours at or above each tenth
+of the peak, :meth:`YearResult.duty_duration`); and the peak hour of all heaters together.
+
 **A heater never cools.** In an hour where a heater's duty comes out negative (warm gas, and a
 goal or a fixed outlet temperature below the inlet's), the heater stays cold: that hour is solved
 again with the heater at zero duty and without the goals that vary it, so its outlet floats warmer
