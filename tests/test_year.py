@@ -277,3 +277,105 @@ def test_a_goal_too_warm_for_its_bracket_turns_the_heater_off_not_a_failure(tmp_
     h = fluid.flash(T=308.15, P=30e5 + ATM).h
     T_net = fluid.flash(P=17.41e5 + ATM, h=fluid.flash(P=30e5 + ATM - 0.3e5, h=h).h).T
     assert res.stream_T["network"][0] == pytest.approx(T_net, abs=1e-6)
+
+
+# ---------------------------------------------------------------------------------------------
+# margins in every hour, monthly figures, duty duration (issue 14 parts 2 and 5)
+
+def test_hydrate_hours_of_every_stream_match_the_scalar_hydrate_temperature(tmp_path):
+    fs = load(GATE)
+    prof = read_profile(short_profile(tmp_path, 24))
+    res = year(fs, prof)
+    gas = letdown.Fluid(dict(fs.gas.composition))
+    margin = fs.limits["hydrate_margin"]
+    hours = res.summary()["hydrate_hours"]
+    for s in ("supply", "network"):
+        # independently: the hydrate temperature at each hour's pressure of that stream, one by one
+        P = {"supply": prof.values["P_in"], "network": prof.values["P_out"]}[s]
+        hyd = np.array([gas.hydrate_T(float(p)) for p in P])
+        np.testing.assert_allclose(res.stream_hydrate_T[s], hyd, atol=1e-6)
+        T = res.stream_T[s]
+        assert hours[s]["below_hydrate_T_free_water_assumed"] == int(np.sum(T < hyd))
+        assert hours[s]["below_hydrate_T_plus_margin_free_water_assumed"] == int(
+            np.sum(T < hyd + margin))
+        # the file's gas is dried (50 mg/Sm3): no free water, so none by the dew point
+        assert hours[s]["below_hydrate_T_by_dew_point"] == 0
+    assert hours["supply"]["below_hydrate_T_free_water_assumed"] > 0      # cold supply hours
+    assert hours["warm"]["below_hydrate_T_free_water_assumed"] == 0       # after the preheater
+
+
+def test_wet_supply_counts_its_hydrate_hours_by_dew_point_too(tmp_path):
+    """Without gas.water every feed is saturated at its own T and P (freezing module): the
+    supply holds free water, so by the dew point it counts every hour free water assumed does."""
+    text = open(GATE).read().replace("  water: 50 mg/Sm3\n", "")
+    path = tmp_path / "wet.yaml"
+    path.write_text(text)
+    fs = load(str(path))
+    res = year(fs, read_profile(short_profile(tmp_path, 12)))
+    h = res.hydrate_hours()["supply"]
+    assert h["below_hydrate_T_free_water_assumed"] > 0
+    assert h["below_hydrate_T_by_dew_point"] == h["below_hydrate_T_free_water_assumed"]
+    assert res.stream_free_water["supply"].all()
+
+
+def test_months_and_duty_duration_add_up_to_the_year(tmp_path):
+    lines = open(PROFILE).read().splitlines()
+    # the last 20 hours of January and the first 20 of February
+    keep = [lines[0]] + lines[1 + 31 * 24 - 20: 1 + 31 * 24 + 20]
+    path = tmp_path / "two-months.csv"
+    path.write_text("\n".join(keep) + "\n")
+    fs = load(GATE)
+    res = year(fs, read_profile(str(path)), efficiency=0.8)
+    months = res.months()
+    assert list(months) == ["2026-01", "2026-02"]
+    assert [m["hours"] for m in months.values()] == [20, 20]
+    total = sum(m["heat_MWh"]["preheat"] for m in months.values())
+    assert total == pytest.approx(res.energy_MWh["preheat"], rel=1e-12)
+    assert sum(m["fuel_Sm3"] for m in months.values()) == pytest.approx(res.fuel_Sm3, rel=1e-12)
+    d = res.heater_duty["preheat"]
+    dd = res.duty_duration()["preheat"]
+    assert dd["duty_W"][-1] == pytest.approx(d.max(), rel=1e-15)
+    assert dd["hours_at_or_above"][-1] >= 1
+    assert dd["hours_at_or_above"] == sorted(dd["hours_at_or_above"], reverse=True)
+    for level, hours in zip(dd["duty_W"], dd["hours_at_or_above"]):
+        assert hours == int(np.sum(d >= level * (1 - 1e-12)))
+    peak = res.summary()["peak_total"]
+    assert peak["time"] == res.profile.time[int(np.argmax(d))]
+
+
+def test_hourly_csv_has_the_hydrate_temperature_of_every_stream(tmp_path):
+    from letdown.report.year import year_files
+    import csv
+    import io
+    fs = load(GATE)
+    res = year(fs, read_profile(short_profile(tmp_path, 6)))
+    text = year_files(res, flowsheet=GATE, plot=False)["hourly.csv"]
+    rows = list(csv.DictReader(io.StringIO(text)))
+    got = np.array([float(r["network.hydrate_T [K]"]) for r in rows])
+    np.testing.assert_allclose(got, res.stream_hydrate_T["network"], rtol=1e-9)
+    assert "supply.hydrate_T [K]" in rows[0] and "warm.hydrate_T [K]" in rows[0]
+    assert "least margin" in year_text(res)
+
+
+def test_process_pool_after_a_large_serial_batch_does_not_hang():
+    """A process that has run a batch of 64 cases or more holds the compiled kernels' thread pool;
+    workers forked from it waited forever for threads that do not exist in the child (the year
+    benchmark hung so). The pool now starts its workers clean."""
+    import subprocess
+    import sys
+    script = (
+        "import numpy as np\n"
+        "from letdown.sheet.loader import load\n"
+        "from letdown.study.executors import ProcessPool\n"
+        "from letdown.study.year import _solve_chunk\n"
+        f"fs = load({GATE!r})\n"
+        "cases = {'supply.T': np.linspace(272.0, 285.0, 200)}\n"
+        "_solve_chunk((fs, cases, None))\n"
+        "pool = ProcessPool(2)\n"
+        "out = pool.map(_solve_chunk, [(fs, cases, None)] * 2)\n"
+        "pool.close()\n"
+        "print(all(o['converged'].all() for o in out))\n")
+    proc = subprocess.run([sys.executable, "-c", script], capture_output=True, text=True,
+                          timeout=120)
+    assert proc.returncode == 0, proc.stderr
+    assert proc.stdout.strip() == "True"

@@ -63,8 +63,12 @@ def build_parser() -> argparse.ArgumentParser:
     w.add_argument("--vary", action="append", required=True, metavar="PATH=VALUES",
                    help="e.g. supply.T=0degC:20degC:5, blend.hydrogen=0:0.3:7, goal1.at=2degC,5degC")
     w.add_argument("--zip", action="store_true", help="take the variables together, not as a grid")
-    w.add_argument("--outputs", metavar="A,B", help="output columns, e.g. network.T,preheat.duty")
+    w.add_argument("--outputs", metavar="A,B", help="output paths: any stream or block quantity of "
+                   "the JSON result, e.g. network.T,network.hydrate_margin,network.gross_cv,preheat.fuel")
     w.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+    w.add_argument("--basis", choices=("volume", "energy"), default="volume",
+                   help="what a blend keeps: the feeds' standard flow (volume) or the energy they "
+                        "deliver, gross calorific value x standard flow (energy)")
     w.add_argument("--out", metavar="DIR", help="write sweep.csv, run.json (and plots) to DIR")
     w.add_argument("--plot", metavar="X:Y[,Y]", help="plot outputs Y against input X into DIR")
     w.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")

@@ -31,7 +31,8 @@ def run(args) -> int:
     executor = make_executor(args.workers, args.dask)
     try:
         table = sweep(fs, variables, mode="zip" if args.zip else "grid", model=args.model,
-                      outputs=outputs, executor=executor, show_progress=sys.stderr.isatty())
+                      outputs=outputs, executor=executor, show_progress=sys.stderr.isatty(),
+                      basis=args.basis)
     finally:
         executor.close()
     if target is not None:

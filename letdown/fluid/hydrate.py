@@ -82,6 +82,9 @@ DCP_SIGN = +1.0        # see the module docstring ("Sign of dcp")
 #: natural-gas hydrate (about 305 K at 100 MPa for methane), step small enough that the hydrate line
 #: of one structure crosses it once per interval.
 T_SCAN = np.arange(230.0, 320.0 + 1e-9, 2.0)
+#: Scan points evaluated together, from the top of :data:`T_SCAN` down, until a case has found its
+#: highest sign change (8 x 2 K: natural-gas hydrate lines lie 10-40 K below the top).
+SCAN_BLOCK = 8
 #: Bracketed (Illinois) refinement: stop when the bracket is narrower than this [K] ...
 T_TOL = 1e-8
 #: ... or when |dmu_H - dmu_W| / RT is below this (round-off of the terms is ~1e-15) ...
@@ -421,8 +424,192 @@ def formation_T(fugacity, P, names, structure: Structure, ln_aw=0.0, dissolved_g
     return T, rep
 
 
+def _structure_rows(sidx):
+    """Per-row reference properties of the structures ``sidx`` (0: sI, 1: sII), read at call time
+    (so a structure replaced in the module is used): nus (k, 2), dmu0, dh0_ice, dV_ice, dV_liq,
+    dcp_liq (k,)."""
+    structs = (SI, SII)
+    tab = np.array([[s.nus[0], s.nus[1], s.dmu0, s.dh0_ice, s.dV_ice, s.dV_liq, s.dcp_liq]
+                    for s in structs])
+    return tab[np.asarray(sidx, dtype=int)]
+
+
+class _Terms:
+    """The cavity and water terms of g = dmu_H/RT - dmu_W/RT for the components ``names``,
+    evaluated row by row with a structure per row (the same formulae as
+    :func:`delta_mu_hydrate_RT`, :func:`delta_mu_water_RT` and :func:`dissolved_gas_ln_aw`,
+    restricted to the hydrate formers, whose Langmuir constants are the only non-zero ones)."""
+
+    def __init__(self, names):
+        self.names = list(names)
+        self.formers = np.array([j for j, nm in enumerate(names) if nm in LANGMUIR], dtype=int)
+        nf = self.formers.size
+        AB = np.zeros((2, 2, nf, 2))           # structure, cavity, former, (A, B)
+        for s, key in enumerate(("sI", "sII")):
+            for k, j in enumerate(self.formers):
+                AB[s, :, k, :] = LANGMUIR[names[j]][key]
+        self.A, self.B = AB[..., 0], AB[..., 1]
+        self.corr = np.array([LANGMUIR_CORRECTION.get(names[j], (0.0, 0.0, T0))
+                              for j in self.formers], float).reshape(nf, 3)
+
+    def langmuir(self, T, sidx):
+        """Langmuir constants of the formers, shape (k, 2, nf) [1/Pa] (as
+        :func:`langmuir_constants`; the correction factor folded into the exponential)."""
+        A = self.A[sidx]
+        B = self.B[sidx]
+        Tb = np.asarray(T, dtype=float)[:, None, None]
+        ab = self.corr
+        Tc = np.clip(Tb, CORRECTION_T_MIN, ab[:, 2][None, None, :])
+        expo = B / Tb + (ab[:, 0][None, None, :] + ab[:, 1][None, None, :] * (T0 / Tc - 1.0))
+        return np.where(A > 0, (A / ATM) / Tb * np.exp(expo), 0.0)
+
+    def inv_henry(self, T):
+        """1 / H_j(T) of the soluble components (the others zero), shape (k, nc) [1/Pa]."""
+        AB = np.array([HENRY.get(nm, (np.inf, 0.0)) for nm in self.names])
+        T = np.asarray(T, dtype=float)
+        return np.exp(-(AB[:, 0][None, :] + AB[:, 1][None, :] / T[:, None]))
+
+    def g(self, T, P, fs, ln_aw, sidx, dissolved_gas, C=None, inv_h=None):
+        """dmu_H/RT - dmu_W/RT of each row [-] (hydrate stable where positive). ``C`` and
+        ``inv_h`` may be given precomputed (the scan grid)."""
+        T = np.asarray(T, dtype=float)
+        if np.ndim(sidx) == 0:                 # one structure for every row
+            st = _structure_rows([sidx])[0][None, :]
+            sidx = np.full(T.shape, int(sidx))
+        else:
+            st = _structure_rows(sidx)
+        if C is None:
+            C = self.langmuir(T, sidx)
+        s = np.einsum("imj,ij->im", C, fs[:, self.formers])
+        dmu_h = st[:, 0] * np.log1p(s[:, 0]) + st[:, 1] * np.log1p(s[:, 1])
+        if dissolved_gas:
+            if inv_h is None:
+                inv_h = self.inv_henry(T)
+            x = np.einsum("ij,ij->i", fs, inv_h)
+            lna = ln_aw + np.log1p(-np.minimum(x, 0.5))
+        else:
+            lna = ln_aw
+        # delta_mu_water_RT with the structure's constants per row
+        Tbar = 0.5 * (T + T0)
+        base = st[:, 2] / (R * T0)
+        inv = 1.0 / T - 1.0 / T0
+        ice = base + st[:, 3] * inv / R + st[:, 4] * P / (R * Tbar)
+        dh0_liq = st[:, 3] - H_FUSION
+        enthalpy = -dh0_liq * inv / R + st[:, 6] / R * (np.log(T / T0) + T0 / T - 1.0)
+        liq = base - enthalpy + st[:, 5] * P / (R * Tbar) - lna
+        return dmu_h - np.maximum(ice, liq)
+
+
+def _single_phase_fugacities(eos, T, P, zs):
+    """Fugacities of the gas as one phase (the root of lower Gibbs energy) [Pa], shape (n, nc):
+    what :func:`eos_fugacities` returns wherever the flash finds one phase, without the stability
+    test."""
+    lnphis, _ = eos.lnphi(T, P, zs, np.zeros(np.shape(T), dtype=int))
+    return zs * np.exp(lnphis) * np.asarray(P, dtype=float)[:, None]
+
+
+def _solve_both(fugacity, terms, P, ln_aw, dissolved_gas):
+    """Formation temperatures of sI and sII at every pressure (the method of :func:`formation_T`:
+    the highest sign change of g on :data:`T_SCAN`, refined by Illinois), both structures in one
+    batch and the scan's fugacities shared between them.
+
+    Parameters
+    ----------
+    fugacity : callable ``fugacity(T, idx)`` -> fugacities [Pa] (len(idx), nc) of the cases idx.
+
+    Returns
+    -------
+    T : ndarray (n, 2) [K] (NaN where no sign change); k : ndarray (n, 2) of int, the scan interval
+    of the bracket (-1 where none); iterations, residual : ndarray (n, 2); converged : (n, 2).
+    """
+    n = P.shape[0]
+    m = T_SCAN.size
+    G = np.full((2 * n, m), np.nan)                   # rows: sI cases, then sII
+    has = np.zeros(2 * n, dtype=bool)
+    k = np.zeros(2 * n, dtype=int)
+    C_grid = [terms.langmuir(T_SCAN, np.full(m, s)) for s in (0, 1)]
+    inv_h_grid = terms.inv_henry(T_SCAN)
+    hi = m
+    # the scan from the top down, SCAN_BLOCK points at a time, for the cases still without a
+    # sign change in either structure: the first sign change met is the highest one
+    while hi > 0:
+        pending = np.flatnonzero(~(has[:n] & has[n:]))
+        if pending.size == 0:
+            break
+        lo = max(0, hi - SCAN_BLOCK)
+        cols = np.arange(lo, hi)
+        w = cols.size
+        Tg = np.tile(T_SCAN[cols], pending.size)
+        idx = np.repeat(pending, w)
+        fs = fugacity(Tg, idx)
+        for s in (0, 1):
+            G[s * n + pending[:, None], cols[None, :]] = terms.g(
+                Tg, P[idx], fs, ln_aw[idx], s, dissolved_gas,
+                C=np.tile(C_grid[s][lo:hi], (pending.size, 1, 1)),
+                inv_h=np.tile(inv_h_grid[lo:hi], (pending.size, 1))).reshape(-1, w)
+        top = min(hi, m - 1)                          # pairs (j, j + 1) with j in [lo, top)
+        rows = np.concatenate([pending, n + pending])
+        rows = rows[~has[rows]]
+        if top > lo and rows.size:
+            Gr = G[rows, lo:top + 1]
+            cross = (Gr[:, :-1] > 0.0) & (Gr[:, 1:] <= 0.0)
+            got = cross.any(axis=1)
+            k[rows[got]] = lo + (cross.shape[1] - 1 - np.argmax(cross[got][:, ::-1], axis=1))
+            has[rows[got]] = True
+        hi = lo
+    rowcase = np.tile(np.arange(n), 2)
+    rowstruct = np.repeat([0, 1], n)
+    rows = np.arange(2 * n)
+    a = T_SCAN[k].astype(float)
+    b = T_SCAN[k + 1].astype(float)
+    ga = G[rows, k].copy()
+    gb = G[rows, k + 1].copy()
+    T = np.full(2 * n, np.nan)
+    iters = np.zeros(2 * n, dtype=int)
+    resid = np.where(has, np.minimum(np.abs(ga), np.abs(gb)), np.nan)
+    active = has.copy()
+    kept = np.zeros(2 * n, dtype=int)   # +1: the lower end a was replaced last, -1: the upper end b
+    for _ in range(MAX_ITER):
+        if not active.any():
+            break
+        i = np.nonzero(active)[0]
+        c = (a[i] * gb[i] - b[i] * ga[i]) / (gb[i] - ga[i])
+        c = np.where(np.isfinite(c) & (c > a[i]) & (c < b[i]), c, 0.5 * (a[i] + b[i]))
+        ci = rowcase[i]
+        gc = terms.g(c, P[ci], fugacity(c, ci), ln_aw[ci], rowstruct[i], dissolved_gas)
+        pos = gc > 0.0
+        # Illinois: halve the value kept at the end that survives twice running
+        ga[i] = np.where(pos, gc, np.where(kept[i] == -1, 0.5 * ga[i], ga[i]))
+        gb[i] = np.where(pos, np.where(kept[i] == 1, 0.5 * gb[i], gb[i]), gc)
+        a[i] = np.where(pos, c, a[i])
+        b[i] = np.where(pos, b[i], c)
+        kept[i] = np.where(pos, 1, -1)
+        iters[i] += 1
+        resid[i] = np.abs(gc)
+        done = (b[i] - a[i] < T_TOL) | (np.abs(gc) < G_TOL)
+        T[i[done]] = c[done]
+        active[i[done]] = False
+    conv = ~active
+    shape = lambda x: x.reshape(2, n).T                      # noqa: E731  (n, 2): sI, sII
+    return (shape(T), shape(np.where(has, k, -1)), shape(iters),
+            shape(np.where(has, resid, 0.0)), shape(conv))
+
+
 def hydrate_curve(fluid, P, zs=None, water_activity=1.0, dissolved_gas=True) -> HydrateCurve:
     """Hydrate formation temperatures of a gas at pressures P, structures I and II.
+
+    One vectorised pass over all cases (compositions may differ case by case). The gas fugacities
+    of the scan and the refinement are those of the gas as one phase (:func:`_single_phase_fugacities`,
+    no stability test), and **one batch flash** per case then checks that the dry gas is one
+    vapour-like phase at the lowest temperature the answer depends on (the lower end of the lower
+    of the two brackets, or the bottom of :data:`T_SCAN` where a structure has no sign change):
+    at a fixed pressure a gas splits only below its upper dew point, so the gas is then one phase
+    over every temperature the answer used and the fugacities equal the flash's
+    (:func:`eos_fugacities`). Cases that fail the check (a gas inside its two-phase region or
+    liquid-like there) are solved again with a flash at every temperature, as in
+    :func:`formation_T`. (A dense gas below a retrograde lower dew point, whose isobar re-enters the
+    two-phase region on heating, would pass the check; that lies outside the model's tested
+    range.)
 
     Parameters
     ----------
@@ -464,17 +651,29 @@ def hydrate_curve(fluid, P, zs=None, water_activity=1.0, dissolved_gas=True) -> 
     if not formers or np.all(dry[:, formers].sum(axis=1) <= 0.0):
         raise InputError(f"no hydrate former in the gas (formers: {', '.join(LANGMUIR)})")
 
-    def fugacity(T, Pc, idx):
-        return eos_fugacities(fluid, T, Pc, dry[idx])
-
+    terms = _Terms(names)
     ln_aw = np.log(aw)
-    T1, r1 = formation_T(fugacity, P, names, SI, ln_aw, dissolved_gas)
-    T2, r2 = formation_T(fugacity, P, names, SII, ln_aw, dissolved_gas)
-    conv = r1.converged & r2.converged
-    rep = SolveReport(converged=conv, iterations=np.maximum(r1.iterations, r2.iterations),
-                      residual=np.fmax(r1.residual, r2.residual),
+    eos_fluid = fluid if fluid.model != "gerg-2008" else fluid.with_model("peng-robinson")
+    eos = eos_fluid.engine.eos
+    T, k, iters, resid, conv = _solve_both(
+        lambda Tq, idx: _single_phase_fugacities(eos, Tq, P[idx], dry[idx]),
+        terms, P, ln_aw, dissolved_gas)
+    # the one-phase check at the lowest temperature each answer depends on
+    lowest = np.where((k < 0).any(axis=1), T_SCAN[0], T_SCAN[np.maximum(k, 0)].min(axis=1))
+    st = eos_fluid.flash(T=lowest, P=P, zs=dry)
+    one = st.converged & (st.n_phases == 1) & (st.vapour_fraction >= 1.0)
+    redo = np.flatnonzero(~one)
+    if redo.size:
+        Pr, dr, lr = P[redo], dry[redo], ln_aw[redo]
+        Tr, _, ir, rr, cr = _solve_both(lambda Tq, idx: eos_fugacities(fluid, Tq, Pr[idx], dr[idx]),
+                                        terms, Pr, lr, dissolved_gas)
+        T[redo], iters[redo], resid[redo], conv[redo] = Tr, ir, rr, cr
+    T1, T2 = T[:, 0], T[:, 1]
+    ok = conv.all(axis=1)
+    rep = SolveReport(converged=ok, iterations=iters.max(axis=1),
+                      residual=np.fmax(resid[:, 0], resid[:, 1]),
                       message="hydrate formation temperature, sI and sII (Illinois on a bracket)")
-    if not conv.all():
+    if not ok.all():
         raise ConvergenceError("hydrate formation temperature did not converge", result=rep)
     T = np.fmax(T1, T2)
     structure = np.where(np.isnan(T), "", np.where(np.nan_to_num(T1, nan=-1.0)

@@ -42,6 +42,27 @@ def year_text(res) -> str:
         lines.append(f"  hours with {s['outlet']} below its hydrate temperature + "
                      f"{s['hydrate_margin_K']:.1f} K (free water assumed): "
                      f"{s['hours_below_hydrate_T_plus_margin']}")
+    hh = s.get("hydrate_hours") or {}
+    if hh:
+        lines.append(f"  hours below the hydrate temperature (+ {s['hydrate_margin_K']:.1f} K), "
+                     "free water assumed / with free water by the water dew point; least margin:")
+        for name, h in hh.items():
+            least = "" if h["min_margin_K"] is None else f"; least margin {h['min_margin_K']:+.2f} K"
+            lines.append(f"    {name}: {h['below_hydrate_T_free_water_assumed']} "
+                         f"({h['below_hydrate_T_plus_margin_free_water_assumed']}) / "
+                         f"{h['below_hydrate_T_by_dew_point']} "
+                         f"({h['below_hydrate_T_plus_margin_by_dew_point']}){least}")
+    if s.get("peak_total") and len(s["heat_MWh"]) > 1:
+        lines.append(f"  peak of all heaters: {s['peak_total']['duty_W'] / 1e3:.1f} kW at "
+                     f"{s['peak_total']['time']}")
+    if s.get("months"):
+        lines.append("  by month (heat MWh, fuel Sm3): " + ", ".join(
+            f"{m[5:]} {sum(v['heat_MWh'].values()):,.0f} / {v['fuel_Sm3']:,.0f}"
+            for m, v in s["months"].items()))
+    for name, dd in (s.get("duty_duration") or {}).items():
+        pairs = list(zip(dd["duty_W"], dd["hours_at_or_above"]))[::-1]
+        lines.append(f"  {name} duty-duration (hours at or above): " + ", ".join(
+            f"{d / 1e3:,.0f} kW {h}" for d, h in pairs[::3]))
     lines.append(f"  failed hours: {s['failed_hours']}")
     if s["failed_hours"]:
         bad = np.flatnonzero(~res.converged)
@@ -66,13 +87,16 @@ def year_files(res, *, flowsheet: str, plot: bool = True) -> dict:
     w = csv.writer(buf, lineterminator="\n")
     heaters = list(res.heater_duty)
     streams = list(res.stream_T)
+    hydrate = [n for n in streams if n in getattr(res, "stream_hydrate_T", {})]
     w.writerow(["time", *(f"{n}.duty [W]" for n in heaters), *(f"{n}.off" for n in heaters),
-                *(f"{n}.T [K]" for n in streams), "converged", "reason"])
+                *(f"{n}.T [K]" for n in streams), *(f"{n}.hydrate_T [K]" for n in hydrate),
+                "converged", "reason"])
     for i, t in enumerate(res.profile.time):
         w.writerow([t, *(_num(res.heater_duty[n][i]) for n in heaters),
                     *(bool(res.heater_off[n][i]) if n in res.heater_off else False
                       for n in heaters),
-                    *(_num(res.stream_T[n][i]) for n in streams), bool(res.converged[i]),
+                    *(_num(res.stream_T[n][i]) for n in streams),
+                    *(_num(res.stream_hydrate_T[n][i]) for n in hydrate), bool(res.converged[i]),
                     res.reasons[i]])
     files = {"hourly.csv": buf.getvalue(),
              "summary.json": json.dumps(res.summary(), indent=2) + "\n",

@@ -54,9 +54,16 @@ class ProcessPool:
         self._pool = None
 
     def map(self, fn, items, show_progress: bool = False):
+        import multiprocessing
         from concurrent.futures import ProcessPoolExecutor
         if self._pool is None:
-            self._pool = ProcessPoolExecutor(max_workers=self.workers)
+            # not "fork": a process that has run a large batch holds the compiled kernels' thread
+            # pool, and a child forked from it can block forever on a lock a thread held
+            # (a year after a serial year hung so); "forkserver" starts the workers clean
+            method = ("forkserver" if "forkserver" in multiprocessing.get_all_start_methods()
+                      else "spawn")
+            self._pool = ProcessPoolExecutor(max_workers=self.workers,
+                                             mp_context=multiprocessing.get_context(method))
         items = list(items)
         return list(progress(self._pool.map(fn, items), len(items), "solving", show_progress))
 

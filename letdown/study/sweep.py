@@ -13,6 +13,12 @@ Values are written with units as in the file (``0 degC:20 degC:5`` is a range of
 combination) or, with ``mode="zip"``, go together case by case. All cases are solved together through
 the batch solver (one vectorised pass per distinct goal target); a case that fails is kept in its row
 with the reason, never dropped.
+
+Outputs are named by path too: any stream or block quantity of the JSON result, by its key with or
+without the unit suffix (``network.hydrate_margin``, ``network.gross_cv``, ``preheat.fuel``,
+``meoh.inhibitor_rate``). The default set carries every stream's hydrate margin, so every case is
+solved with the freezing margins. With ``basis="energy"`` a blend keeps the energy each feed
+delivers instead of its standard flow (:func:`energy_basis`).
 """
 from __future__ import annotations
 
@@ -23,6 +29,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
+from ..fluid.water import M_WATER
 from ..fluid.components import canonical_name
 from ..quantities import SI_UNITS, MassFlow, parse_quantity
 from ..sheet.solve import FEED_FIELDS, solve_cases
@@ -202,7 +209,8 @@ def _held_kind(fs, hold: str) -> str:
 
 
 def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = None,
-          outputs=None, executor=None, show_progress: bool = False) -> SweepTable:
+          outputs=None, executor=None, show_progress: bool = False,
+          basis: str = "volume") -> SweepTable:
     """Solve ``fs`` for every case of the swept variables.
 
     Parameters
@@ -214,10 +222,19 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
     model : str, optional
         Overrides the file's model.
     outputs : sequence of str, optional
-        Output columns (``stream.T|P|flow|vapour_fraction``, ``block.duty|power``, ``goal<k>``);
-        default: every stream's T, P and vapour fraction, every duty and power, every goal's value.
+        Output paths: any stream or block quantity of the JSON result by its key without the unit
+        suffix (``network.hydrate_margin``, ``network.gross_cv``, ``preheat.fuel``,
+        ``meoh.inhibitor_rate``) or with it (``network.hydrate_margin_K``), and ``goal<k>``;
+        default (:func:`default_outputs`): every stream's T, P, vapour fraction and hydrate
+        margin, every block's duty, fuel and power, every goal's value. The freezing margins are
+        computed in every case whenever an output needs them (the default does).
     executor : optional
         A :mod:`letdown.study.executors` executor; the cases are split into one chunk per worker.
+    basis : {"volume", "energy"}
+        What a composition change (a blend) keeps: the feeds' standard flow (``volume``), or the
+        energy they deliver (``energy``, :func:`energy_basis`): each feed's flow is scaled so that
+        gross calorific value times standard flow stays at the base case's, and the table shows
+        both flows and the energy.
 
     Returns
     -------
@@ -241,6 +258,14 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
     fs2 = _with_blend_components(fs, [v.path.split(".", 1)[1] for v in variables
                                       if v.path.startswith("blend.")])
     cases, goal_targets = _cases(fs2, cols, n)
+    if basis not in BASES:
+        raise InputError(f"unknown basis '{basis}' (known: {', '.join(BASES)})", field="--basis")
+    extra = energy_basis(fs2, cases, n) if basis == "energy" else {}
+    if extra:
+        # the energy basis shows each scaled feed's flow and calorific value beside the outputs
+        feeds = [k.rsplit(".energy [W]", 1)[0] for k in extra if k.endswith(".energy [W]")]
+        outputs = list(outputs or [DEFAULT]) + [f"{f}.{q}" for f in feeds
+                                                for q in ("flow", "gross_cv")]
     out_rows = [None] * n
     columns = None
     # one vectorised solve per distinct set of goal targets, split into chunks for the executor
@@ -273,19 +298,68 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
         names = [names[c] for c in keep]
         values = [values[c] for c in keep]
         if columns is None:
-            columns = inputs + tuple(names) + ("converged", "reason")
+            columns = inputs + tuple(names) + tuple(extra) + ("converged", "reason")
         for j, i in enumerate(idx):
             ok = bool(converged[j])
             outs = tuple(float(values[c][j]) if ok else float("nan") for c in range(len(names)))
             out_rows[i] = (tuple(float(cols[v.path][i]) for v in variables) + outs
+                           + tuple(float(a[i]) for a in extra.values())
                            + (ok, "" if ok else reasons[j]))
     return SweepTable(columns, tuple(out_rows), model_name)
+
+
+#: What a composition change keeps (see :func:`sweep`).
+BASES = ("volume", "energy")
+
+
+def energy_basis(fs, cases, n) -> dict:
+    """Put the cases on the energy basis: each feed whose composition the sweep changes gets its
+    flow scaled by Hs(base) / Hs(case), Hs the gross calorific value of ISO 6976:2016 (15 degC
+    combustion, :mod:`letdown.fluid.quality`), so the energy it delivers, gross calorific value
+    times standard flow, stays at the base case's (the file's composition at the case's flow).
+    On a molar basis that energy is the ideal molar gross value times the molar flow: the real
+    volumetric value is that molar value over the real molar volume at 15 degC and 101.325 kPa,
+    and the real standard volume is the molar flow times the same molar volume.
+
+    Changes ``cases`` in place; returns the extra columns {name: ndarray (n,)}: each such feed's
+    flow on the volume basis [mol/s] (what it would be at the same standard volume) and its
+    energy [W].
+
+    Raises
+    ------
+    InputError
+        A component without ISO 6976 data in such a feed.
+    """
+    from ..fluid.quality import quality
+    names = list(fs.gas.composition)
+    base_all = np.array([fs.gas.composition[c] for c in names], dtype=float)
+    extra = {}
+    for feed_name, feed in fs.feeds.items():
+        key = f"{feed_name}.zs"
+        if key not in cases:
+            continue
+        z = base_all if feed.composition is None else np.array(
+            [feed.composition.get(c, 0.0) for c in names], dtype=float)
+        z = z / z.sum()
+        try:
+            hs_base = float(np.asarray(quality(names, z).gross_molar).reshape(-1)[0])
+            hs = np.asarray(quality(names, cases[key]).gross_molar, dtype=float).reshape(-1)
+        except InputError as exc:
+            raise InputError(f"the energy basis needs the calorific value of feed "
+                             f"'{feed_name}': {exc.message}", field="--basis") from None
+        flow = np.broadcast_to(np.asarray(cases.get(f"{feed_name}.flow", feed.flow), float),
+                               (n,)).copy()
+        cases[f"{feed_name}.flow"] = flow * (hs_base / hs)
+        extra[f"{feed_name}.flow_volume_basis [mol/s]"] = flow
+        extra[f"{feed_name}.energy [W]"] = hs_base * flow
+    return extra
 
 
 def _sweep_chunk(task):
     """Solve one chunk of cases (top level, so process pools and Dask can ship it)."""
     fs, cases, model, outputs, m = task
-    res = solve_cases(fs, cases or None, model=model, strict=False)
+    res = solve_cases(fs, cases or None, model=model, strict=False,
+                      margins=needs_margins(outputs))
     names, values = _outputs(res, fs, outputs, m)
     return names, [np.asarray(v) for v in values], np.asarray(res.converged), _reasons(res, m), res.model
 
@@ -331,32 +405,169 @@ def _cases(fs, cols, n):
     return cases, goal_targets
 
 
-def _outputs(res, fs, outputs, m):
+#: Unit suffixes of the JSON contract's keys (longest first) and the unit they name: an output path
+#: is the key without its suffix (``hydrate_margin_K`` -> ``hydrate_margin [K]``).
+UNIT_SUFFIXES = (("_J_molK", "J/(mol K)"), ("_J_mol", "J/mol"), ("_kg_m3", "kg/m3"),
+                 ("_kg_mol", "kg/mol"), ("_J_m3", "J/m3"), ("_mg_Sm3", "mg/Sm3"),
+                 ("_mol_s", "mol/s"), ("_kg_s", "kg/s"), ("_m3_s", "m3/s"), ("_W_K", "W/K"),
+                 ("_wt_pct", "wt %"), ("_pct", "%"), ("_Pa", "Pa"), ("_W", "W"), ("_K", "K"),
+                 ("_m3", "m3"), ("_m", "m"))
+#: Stream quantities of the JSON contract that need the freezing margins (solved with margins on).
+FREEZING_KEYS = ("water_mg_Sm3", "water_mole_fraction", "water_dew_T_K", "hydrate_T_K",
+                 "hydrate_margin_K", "water_dew_margin_K", "ice_T_K", "ice_margin_K",
+                 "min_T_margin_K", "outlet_min_T_margin_K", "inhibitor_wt_pct", "water_activity",
+                 "inhibitor_flow_kg_s", "water_flow_mol_s", "water_flow_kg_s")
+#: Stream quantities from the composition by ISO 6976:2016 (15 degC / 15 degC).
+QUALITY_KEYS = ("gross_cv_J_m3", "wobbe_gross_J_m3", "relative_density")
+#: Stream quantities read from the stream batch itself: JSON key -> attribute.
+STREAM_KEYS = {"T_K": "T", "P_Pa": "P", "flow_mol_s": "flow", "mass_flow_kg_s": "mass_flow",
+               "vapour_fraction": "vapour_fraction", "h_J_mol": "h", "s_J_molK": "s", "Z": "Z",
+               "density_kg_m3": "density", "molar_mass_kg_mol": "molar_mass"}
+
+
+def split_unit(key: str) -> tuple[str, str]:
+    """A JSON key into its output name and unit: ``"hydrate_margin_K"`` -> ``("hydrate_margin",
+    "K")``; a key without a unit suffix is dimensionless (``"Z"`` -> ``("Z", "-")``).
+
+    >>> split_unit("gross_cv_J_m3"), split_unit("inhibitor_rate_kg_s"), split_unit("Z")
+    (('gross_cv', 'J/m3'), ('inhibitor_rate', 'kg/s'), ('Z', '-'))
+    """
+    for suffix, unit in UNIT_SUFFIXES:
+        if key.endswith(suffix) and len(key) > len(suffix):
+            return key[: -len(suffix)], unit
+    return key, "-"
+
+
+#: An output entry that stands for the default set (:func:`default_outputs`).
+DEFAULT = "*"
+
+
+def needs_margins(outputs) -> bool:
+    """Whether the outputs asked for (None: the default set) need the freezing margins."""
+    if not outputs or DEFAULT in outputs:
+        return True
+    names = {split_unit(k)[0] for k in FREEZING_KEYS} | set(FREEZING_KEYS)
+    return any(str(o).partition(".")[2] in names for o in outputs)
+
+
+def _stream_quantities(res, name, st, m):
+    """{JSON key: callable -> ndarray (m,)} of one stream (lazy: quality and margins cost)."""
+    out = {key: (lambda a=attr: getattr(st, a)) for key, attr in STREAM_KEYS.items()}
+    # blank where the margins were not computed (every case of the chunk failed)
+    out.update({key: (lambda: np.full(m, np.nan)) for key in FREEZING_KEYS})
+    fz = (res.freezing or {}).get(name)
+    if fz is not None:
+        T = np.asarray(st.T, float)
+
+        def opt(x):
+            return (lambda: np.full(m, np.nan)) if x is None else (lambda: np.asarray(x, float))
+        out.update({"water_mg_Sm3": lambda: fz.water_mg_Sm3,
+                    "water_mole_fraction": lambda: fz.water_mole_fraction,
+                    "water_dew_T_K": lambda: fz.water_dew_T, "hydrate_T_K": lambda: fz.hydrate_T,
+                    "hydrate_margin_K": lambda: T - fz.hydrate_T,
+                    "water_dew_margin_K": lambda: T - fz.water_dew_T,
+                    "ice_T_K": opt(fz.ice_T),
+                    "ice_margin_K": lambda: T - (np.full(m, np.nan) if fz.ice_T is None
+                                                 else np.asarray(fz.ice_T, float)),
+                    "min_T_margin_K": lambda: T - (np.nan if res.min_T is None else res.min_T),
+                    "inhibitor_wt_pct": opt(fz.inhibitor_wt_pct),
+                    "water_activity": opt(fz.water_activity),
+                    "water_flow_mol_s": opt(fz.water_flow),
+                    "water_flow_kg_s": lambda: (np.full(m, np.nan) if fz.water_flow is None
+                                                else np.asarray(fz.water_flow) * M_WATER)})
+        if fz.outlet_min_T is not None:
+            out["outlet_min_T_margin_K"] = lambda: T - fz.outlet_min_T
+
+    def quality_of(key):
+        def get():
+            from ..fluid.quality import quality
+            zs = np.asarray(st.zs, float)
+            ok = np.all(np.isfinite(zs), axis=1) & (np.asarray(st.flow) > 0.0)
+            vals = np.full(m, np.nan)
+            if ok.any():
+                try:
+                    q = quality(list(res.components), zs[ok], 288.15, 288.15)
+                except InputError:
+                    return vals             # a component without ISO 6976 data: no figure
+                vals[ok] = {"gross_cv_J_m3": q.gross_volumetric, "wobbe_gross_J_m3": q.wobbe_gross,
+                            "relative_density": q.relative_density}[key]
+            return vals
+        return get
+    out.update({key: quality_of(key) for key in QUALITY_KEYS})
+    return out
+
+
+def _block_quantities(res, eq):
+    out = {}
+    if eq.duty is not None:
+        out["duty_W"] = lambda: eq.duty
+    if eq.power is not None:
+        out["power_W"] = lambda: eq.power
+    if eq.dP is not None:
+        out["dP_Pa"] = lambda: eq.dP
+    for key, values in eq.details.items():
+        if isinstance(values, np.ndarray) and values.dtype.kind in "fiub":
+            out[key] = (lambda v=values: v)
+    return out
+
+
+def _available(res):
+    """{path: (column name, callable)} of every stream and block quantity of the JSON contract,
+    by its path (``network.hydrate_margin``) and by its full key (``network.hydrate_margin_K``)."""
+    m = res.n_cases
     avail = {}
+
+    def add(owner, key, get):
+        short, unit = split_unit(key)
+        col = f"{owner}.{short} [{unit}]"
+        for path in (f"{owner}.{short}", f"{owner}.{key}"):
+            avail.setdefault(path, (col, get))
     for name, st in res.streams.items():
-        avail[f"{name}.T [K]"] = st.T
-        avail[f"{name}.P [Pa]"] = st.P
-        avail[f"{name}.flow [mol/s]"] = st.flow
-        avail[f"{name}.vapour_fraction [-]"] = st.vapour_fraction
+        for key, get in _stream_quantities(res, name, st, m).items():
+            add(name, key, get)
     for name, eq in res.equipment.items():
-        if eq.duty is not None:
-            avail[f"{name}.duty [W]"] = eq.duty
-        if eq.power is not None:
-            avail[f"{name}.power [W]"] = eq.power
+        for key, get in _block_quantities(res, eq).items():
+            add(name, key, get)
     for k, g in enumerate(res.goals):
         value = g["value"] if isinstance(g, dict) else getattr(g, "value")
-        avail[f"goal{k + 1} [SI]"] = value
-    if outputs:
-        names = []
-        for o in outputs:
-            match = [a for a in avail if a.split(" [")[0] == o]
-            if not match:
-                raise InputError(f"unknown output '{o}' (available: "
-                                 f"{', '.join(a.split(' [')[0] for a in avail)})", field="outputs")
-            names.append(match[0])
-    else:
-        names = [a for a in avail if not a.split(" [")[0].endswith(".flow")]
-    values = [np.broadcast_to(np.asarray(avail[nm], dtype=float), (m,)) for nm in names]
+        avail[f"goal{k + 1}"] = (f"goal{k + 1} [SI]", lambda v=value: v)
+    return avail
+
+
+def default_outputs(res, margins: bool = True) -> list:
+    """The default output paths: every stream's T, P, vapour fraction and (when computed) hydrate
+    margin, every block's duty, power and fuel, every goal's value."""
+    paths = []
+    for name in res.streams:
+        paths += [f"{name}.T", f"{name}.P", f"{name}.vapour_fraction"]
+        if margins:
+            paths.append(f"{name}.hydrate_margin")
+    for name, eq in res.equipment.items():
+        if eq.duty is not None:
+            paths.append(f"{name}.duty")
+        if "fuel_W" in eq.details:
+            paths.append(f"{name}.fuel")
+        if eq.power is not None:
+            paths.append(f"{name}.power")
+    paths += [f"goal{k + 1}" for k in range(len(res.goals))]
+    return paths
+
+
+def _outputs(res, fs, outputs, m):
+    avail = _available(res)
+    paths = []
+    for o in (outputs or [DEFAULT]):
+        paths += default_outputs(res) if o == DEFAULT else [o]
+    names, getters = [], []
+    for o in paths:
+        if o not in avail:
+            known = sorted({col.split(" [")[0] for col, _ in avail.values()})
+            raise InputError(f"unknown output '{o}' (known: {', '.join(known)})", field="outputs")
+        col, get = avail[o]
+        if col not in names:
+            names.append(col)
+            getters.append(get)
+    values = [np.broadcast_to(np.asarray(get(), dtype=float), (m,)) for get in getters]
     return names, values
 
 

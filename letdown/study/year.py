@@ -12,6 +12,14 @@ of the feed gas by ISO 6976:2016, 15 degC combustion (gross by default, net on r
 the peak duty and its hour, the hours in which a stream is below ``limits.min_T``, the outlet
 temperature range, and the hours that failed (with the reason; the other hours are kept).
 
+Every hour is solved with the freezing margins (:mod:`letdown.sheet.freezing`), so each stream's
+hourly hydrate temperature is kept (``stream_hydrate_T``, a column of ``hourly.csv``) and the
+summary gives the hours each stream spends below its hydrate temperature, and below it plus
+``limits.hydrate_margin``, both with free water assumed and counted only where the stream can hold
+free water by its water dew point (:meth:`YearResult.hydrate_hours`); the heat and fuel of each
+calendar month (:meth:`YearResult.months`); a duty-duration summary (hours at or above each tenth
+of the peak, :meth:`YearResult.duty_duration`); and the peak hour of all heaters together.
+
 **A heater never cools.** In an hour where a heater's duty comes out negative (warm gas, and a
 goal or a fixed outlet temperature below the inlet's), the heater stays cold: that hour is solved
 again with the heater at zero duty and without the goals that vary it, so its outlet floats warmer
@@ -48,6 +56,8 @@ CHUNK_CASES = 2190
 #: Heater efficiency used when neither the file nor the command line gives one [-] (the middle of
 #: the 50-80 % of water-bath heaters; common practice), stated as assumed.
 DEFAULT_EFFICIENCY = 0.75
+#: Points of the duty-duration summary (hours at or above each tenth of the peak duty).
+DURATION_LEVELS = 10
 #: Calorific bases of the fuel figures (ISO 6976:2016, 15 degC combustion and metering).
 CALORIFIC = ("gross", "net")
 
@@ -151,15 +161,30 @@ def _chunk_arrays(res):
     heaters = {n: np.where(res.converged, e.duty, np.nan) for n, e in res.equipment.items()
                if e.kind in ("heater",) and e.duty is not None}
     streams_T = {n: np.where(res.converged, s.T, np.nan) for n, s in res.streams.items()}
+    fz = res.freezing or {}
+    nan = np.full(m, np.nan)
+
+    def per_stream(get):
+        return {n: np.where(res.converged, get(fz[n]), np.nan) if n in fz else nan.copy()
+                for n in res.streams}
     return {"converged": np.asarray(res.converged, dtype=bool), "reasons": list(_reasons(res, m)),
-            "heaters": heaters, "T": streams_T}
+            "heaters": heaters, "T": streams_T,
+            "hydT": per_stream(lambda f: np.asarray(f.hydrate_T, float)),
+            "dewT": per_stream(lambda f: np.asarray(f.water_dew_T, float)),
+            "free": {n: (np.asarray(fz[n].free_water, bool) & res.converged
+                         if n in fz and fz[n].free_water is not None else np.zeros(m, bool))
+                     for n in res.streams}}
+
+
+#: Per-stream hourly arrays of a chunk, copied together when an hour is solved again.
+STREAM_ARRAYS = ("T", "hydT", "dewT", "free")
 
 
 def _solve_chunk(task):
     """Solve one chunk of hours (top level, so process pools and Dask can ship it); hours where a
     heater would cool are solved again with that heater off (module docstring)."""
     fs, cases, model = task
-    res = solve_cases(fs, cases, model=model, strict=False)
+    res = solve_cases(fs, cases, model=model, strict=False, margins=True)
     out = _chunk_arrays(res)
     m = res.n_cases
     off = {h: np.zeros(m, dtype=bool) for h in out["heaters"]}
@@ -179,15 +204,16 @@ def _solve_chunk(task):
             names = [h for h, flag in zip(off, key) if flag]
             sub = solve_cases(_heaters_off(fs, names), {k: np.asarray(v)[idx] if np.ndim(v) else v
                                                         for k, v in cases.items()},
-                              model=model, strict=False)
+                              model=model, strict=False, margins=True)
             part = _chunk_arrays(sub)
             out["converged"][idx] = part["converged"]
             for j, i in enumerate(idx):
                 out["reasons"][i] = part["reasons"][j]
             for h in out["heaters"]:
                 out["heaters"][h][idx] = part["heaters"][h]
-            for s_name in out["T"]:
-                out["T"][s_name][idx] = part["T"][s_name]
+            for key in STREAM_ARRAYS:
+                for s_name in out[key]:
+                    out[key][s_name][idx] = part[key][s_name]
     # a goal that fails because the gas is too warm even at the low end of its bracket: the
     # heater it varies stays cold, and the hour is kept if its held stream is then warm enough
     for g in fs.goals:
@@ -200,7 +226,7 @@ def _solve_chunk(task):
             continue
         sub = solve_cases(_heaters_off(fs, [h]), {k: np.asarray(v)[idx] if np.ndim(v) else v
                                                    for k, v in cases.items()},
-                          model=model, strict=False)
+                          model=model, strict=False, margins=True)
         part = _chunk_arrays(sub)
         warm = part["converged"] & (part["T"][stream] >= g.target - fs.solver.goal_tolerance)
         for j in np.flatnonzero(warm):
@@ -209,8 +235,9 @@ def _solve_chunk(task):
             off[h][i] = True
             for name in out["heaters"]:
                 out["heaters"][name][i] = part["heaters"][name][j]
-            for s_name in out["T"]:
-                out["T"][s_name][i] = part["T"][s_name][j]
+            for key in STREAM_ARRAYS:
+                for s_name in out[key]:
+                    out[key][s_name][i] = part[key][s_name][j]
     out["off"] = off
     out["model"] = res.model
     return out
@@ -240,6 +267,9 @@ class YearResult:
     hydrate_margin: float = 0.0                  # K (limits.hydrate_margin)
     heater_off: dict = dataclasses.field(default_factory=dict)   # heater -> bool per hour
     model_bias: str | None = None
+    stream_hydrate_T: dict = dataclasses.field(default_factory=dict)    # stream -> K per hour
+    stream_water_dew_T: dict = dataclasses.field(default_factory=dict)  # stream -> K per hour
+    stream_free_water: dict = dataclasses.field(default_factory=dict)   # stream -> bool per hour
 
     @property
     def efficiency(self) -> float | None:
@@ -290,6 +320,67 @@ class YearResult:
         T = self.stream_T[self.outlet]
         return int(np.sum(np.nan_to_num(T, nan=np.inf) < self.outlet_hydrate_T + self.hydrate_margin))
 
+    def hydrate_hours(self) -> dict:
+        """Hours each stream spends in the hydrate region, stream -> {key: hours}:
+
+        * ``below_hydrate_T_free_water_assumed``: T below the stream's hydrate temperature (free
+          water assumed, as the freezing checks do);
+        * ``below_hydrate_T_plus_margin_free_water_assumed``: T below hydrate T + ``hydrate_margin``;
+        * ``below_hydrate_T_by_dew_point`` and ``below_hydrate_T_plus_margin_by_dew_point``: the
+          same, counted only in hours in which the stream can hold free water (at or below its
+          water dew point, or a separator's free water: the freezing checks' ``free_water``).
+
+        Streams without a hydrate temperature in any hour (no former, or none above 230 K) are
+        left out."""
+        out = {}
+        for name, hT in self.stream_hydrate_T.items():
+            if not np.any(np.isfinite(hT)):
+                continue
+            T = np.nan_to_num(self.stream_T[name], nan=np.inf)
+            h = np.nan_to_num(hT, nan=-np.inf)
+            free = self.stream_free_water.get(name, np.zeros(T.shape, bool))
+            inside, near = T < h, T < h + self.hydrate_margin
+            out[name] = {"below_hydrate_T_free_water_assumed": int(inside.sum()),
+                         "below_hydrate_T_plus_margin_free_water_assumed": int(near.sum()),
+                         "below_hydrate_T_by_dew_point": int((inside & free).sum()),
+                         "below_hydrate_T_plus_margin_by_dew_point": int((near & free).sum()),
+                         "min_margin_K": float(np.nanmin(self.stream_T[name] - hT))
+                         if np.any(np.isfinite(self.stream_T[name] - hT)) else None}
+        return out
+
+    def months(self) -> dict | None:
+        """Heat and fuel by calendar month, ``"YYYY-MM"`` -> {``heat_MWh``: {heater: MWh},
+        ``fuel_MWh``: {heater: MWh}, ``fuel_Sm3``, ``hours``}; None where the profile's times do
+        not start with a year and month (ISO 8601, ``2026-01-01T00:00``)."""
+        keys = [str(t)[:7] for t in self.profile.time]
+        if not all(len(k) == 7 and k[4] == "-" and k[:4].isdigit() and k[5:].isdigit()
+                   for k in keys):
+            return None
+        keys = np.array(keys)
+        out = {}
+        for month in sorted(set(keys)):
+            sel = keys == month
+            heat = {n: float(np.nansum(d[sel])) * HOURS_PER_ROW / 1e6
+                    for n, d in self.heater_duty.items()}
+            fuel = {n: e / self.efficiencies[n] for n, e in heat.items()}
+            out[month] = {"hours": int(sel.sum()), "heat_MWh": heat, "fuel_MWh": fuel,
+                          "fuel_Sm3": sum(fuel.values()) * 3.6e9 / self.cv}
+        return out
+
+    def duty_duration(self, levels: int = DURATION_LEVELS) -> dict:
+        """The duty-duration curve of each heater at ``levels`` duties evenly spaced from the
+        peak / levels up to the peak: heater -> {``duty_W``: [...], ``hours_at_or_above``: [...]}
+        (solved hours only; a heater that stays cold counts zero)."""
+        out = {}
+        for n, d in self.heater_duty.items():
+            ok = d[np.isfinite(d)]
+            if ok.size == 0 or not np.max(ok) > 0.0:
+                continue
+            duties = np.max(ok) * np.arange(1, levels + 1) / levels
+            out[n] = {"duty_W": [float(x) for x in duties],
+                      "hours_at_or_above": [int(np.sum(ok >= x * (1 - 1e-12))) for x in duties]}
+        return out
+
     def summary(self) -> dict:
         """The year's figures in SI (and MWh, Sm3), JSON-ready."""
         peak = {}
@@ -315,7 +406,21 @@ class YearResult:
                 "hydrate_margin_K": self.hydrate_margin,
                 "outlet_T_K": {"min": float(finite.min()) if finite.size else None,
                                "max": float(finite.max()) if finite.size else None},
-                "model_bias": self.model_bias}
+                "model_bias": self.model_bias,
+                "hydrate_hours": self.hydrate_hours(), "months": self.months(),
+                "duty_duration": self.duty_duration(),
+                "peak_total": self._peak_total()}
+
+    def _peak_total(self) -> dict | None:
+        """The hour of the largest duty of all heaters together."""
+        if not self.heater_duty:
+            return None
+        total = np.sum([np.nan_to_num(d, nan=0.0) for d in self.heater_duty.values()], axis=0)
+        total = np.where(self.converged, total, np.nan)
+        if np.all(np.isnan(total)):
+            return None
+        i = int(np.nanargmax(total))
+        return {"duty_W": float(total[i]), "time": self.profile.time[i]}
 
 
 def year(fs: Flowsheet, profile: Profile, *, efficiency: float | None = None,
@@ -381,6 +486,8 @@ def year(fs: Flowsheet, profile: Profile, *, efficiency: float | None = None,
     heaters = {n: np.concatenate([o["heaters"][n] for o in outs]) for n in outs[0]["heaters"]}
     temps = {n: np.concatenate([o["T"][n] for o in outs]) for n in outs[0]["T"]}
     off = {n: np.concatenate([o["off"][n] for o in outs]) for n in outs[0]["off"]}
+    hydT, dewT, free = ({n: np.concatenate([o[key][n] for o in outs]) for n in outs[0][key]}
+                        for key in ("hydT", "dewT", "free"))
     if outlet_stream is None:
         outlet_stream = list(temps)[-1]
     effs, sources = {}, {}
@@ -398,32 +505,14 @@ def year(fs: Flowsheet, profile: Profile, *, efficiency: float | None = None,
     z = np.array([feed_comp.get(c, 0.0) for c in comps], dtype=float)
     q = quality(comps, z / z.sum(), 288.15, 288.15)
     cv = float(q.gross_volumetric if calorific == "gross" else q.net_volumetric)
-    hyd = _outlet_hydrate_T(fs, comps, z / z.sum(), cases, outlet_block, outlet_stream, profile.n)
+    # the outlet's hydrate temperature of every hour: the freezing checks' own (free water)
+    hyd = hydT.get(outlet_stream)
+    if hyd is not None and not np.any(np.isfinite(hyd)):
+        hyd = None
     return YearResult(profile, outs[0]["model"], conv, reasons, heaters, temps, outlet_stream,
                       effs, sources, cv, calorific, fs.limits.get("min_T"), hyd,
                       float(fs.limits.get("hydrate_margin", 0.0)), off,
-                      bias_line(outs[0]["model"]))
-
-
-def _outlet_hydrate_T(fs, comps, z, cases, outlet_block, outlet_stream, n):
-    """Hydrate temperature at the outlet pressure of every hour (free water assumed), computed once
-    per distinct set point (rounded to 1 mbar), or None where the gas forms no hydrate."""
-    from ..fluid import Fluid
-    if outlet_block is None:
-        return None
-    key = f"{outlet_block}.P_out"
-    P = cases.get(key)
-    if P is None:
-        P = np.full(n, fs.blocks[outlet_block].params.get("P_out", np.nan), dtype=float)
-    if not np.all(np.isfinite(P)):
-        return None
-    gas = Fluid(dict(zip(comps, z)), model="peng-robinson", kij=fs.gas.kij, normalise=True)
-    levels, inverse = np.unique(np.round(P, -2), return_inverse=True)
-    try:
-        T_levels = np.atleast_1d(gas.hydrate_T(levels))
-    except InputError:
-        return None
-    return T_levels[inverse]
+                      bias_line(outs[0]["model"]), hydT, dewT, free)
 
 
 def _only(name, options, what):
