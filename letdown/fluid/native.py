@@ -64,7 +64,7 @@ _FP_ORDER = ("ln_tol", "trivial_dist", "stability_max_iter", "early_tm", "ss_max
              "accelerate_every", "gdem_max_lambda", "gdem_max_step", "gdem_agree", "trivial_lnK",
              "rr_tol", "rr_max_iter", "neg_lo", "neg_hi", "tm_unstable", "wilson_c",
              "newton_max_iter", "newton_fd_step", "newton_max_step", "gibbs_margin_rel", "k_min",
-             "k_max", "phase_id_liquid")
+             "k_max", "phase_id_liquid", "cold_trial_T")
 #: Order of the P-h / P-s constants (SV_* in the C file); values from cubic_fluid.
 _SV_ORDER = ("max_iter", "trust_iterations", "loose_tol", "loose_until_step", "residual_K",
              "tol_T", "T_low", "T_high", "fd_step_T", "f_tiny_rel", "slope_fallback",
@@ -149,13 +149,14 @@ def _pack(eos):
     par = _PACKS.get(eos)
     if par is None:
         from .cubic import ROOT_POLISH_STEPS
+        from .flash import cold_trial_flags
         c = eos.comps
         head = np.zeros(_HEADER)
         head[:5] = (R, eos.d1, eos.d2, ROOT_DISTINCT_REL, ROOT_POLISH_STEPS)
         par = np.ascontiguousarray(np.concatenate([
             head, eos.sqrt_ac, eos.ms, eos.sqrt_Tc, eos.bs, c.Tcs, c.Pcs, c.omegas,
             np.asarray(eos.omk, dtype=float).ravel(), eos.cs, eos.twu[:, 0], eos.twu[:, 1],
-            eos.twu[:, 2]]), dtype=np.float64)
+            eos.twu[:, 2], cold_trial_flags(c)]), dtype=np.float64)
         _PACKS[eos] = par
     return par
 
@@ -226,7 +227,7 @@ def lnphi(eos, T, P, xs, code=None):
 
 
 def stability_trials(eos, T, P, zs, lnphis_z, K, *, ln_tol, trivial_dist, max_iter, early_tm,
-                     early_exit):
+                     cold_T, tm_unstable, early_exit):
     """Trial iterations of the stability test (see :func:`letdown.fluid.flash.stability`).
 
     Returns
@@ -237,7 +238,8 @@ def stability_trials(eos, T, P, zs, lnphis_z, K, *, ln_tol, trivial_dist, max_it
     """
     T, P, zs, lnphis_z, K = _f(T), _f(P), _f(zs), _f(lnphis_z), _f(K)
     n, nc = zs.shape
-    cfg = np.array([ln_tol, trivial_dist, max_iter, early_tm], dtype=np.float64)
+    cfg = np.array([ln_tol, trivial_dist, max_iter, early_tm, cold_T, tm_unstable],
+                   dtype=np.float64)
     tm = np.empty(n)
     ws = np.empty((n, nc))
     Z = np.empty(n)
