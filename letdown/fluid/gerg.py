@@ -18,9 +18,10 @@ What letdown does with it:
 * **Mixtures: single phase only.** Each mixture state is tested for stability twice: a
   tangent-plane test on GERG-2008 itself (chemical potentials from composition derivatives of the
   Gibbs energy, trial phases from Wilson K-values and, with water, a water-rich trial) and the
-  Peng-Robinson test with the fluid's interaction parameters. A state either test finds unstable
-  is refused (ModelError for a single state; a batch marks it unconverged) with a message to use a
-  cubic model. A P-h/P-s answer must meet its target (to the enthalpy of 1e-6 K); one that cannot
+  Peng-Robinson test with the fluid's interaction parameters. The GERG-2008 test is skipped well
+  above the composition's Peng-Robinson envelope, where no GERG-2008 split was found (the evidence
+  at SKIP_MARGIN_K). A state either test finds unstable is refused (ModelError for a single state;
+  a batch marks it unconverged) with a message to use a cubic model. A P-h/P-s answer must meet its target (to the enthalpy of 1e-6 K); one that cannot
   (the stable root jumps across the target) is refused the same way, never answered.
 * **Phase label.** A single phase is named vapour or liquid by the phase identification parameter
   of Venkatarathnam & Oellrich (Fluid Phase Equilib. 301 (2011) 225) computed on GERG-2008's own
@@ -31,7 +32,9 @@ K/kPa. Its reference state is letdown's: the ideal gas at 298.15 K and 101.325 k
 s = 0 (the binding uses GERG-2008's own gas constant, 8.314472 J/(mol K)).
 
 The binding computes one state per call, so this engine loops over the cases of a batch around
-those calls; every case is computed by the same code whether alone or in a batch.
+those calls; every case is computed by the same code whether alone or in a batch (except that the
+GERG-2008 stability test is skipped only once a composition has had SKIP_AFTER states, which
+changes the cost, not the answer, where the skip is right).
 """
 from __future__ import annotations
 
@@ -102,8 +105,8 @@ TPD_UNSTABLE = -1e-7
 TPD_W_MIN = 1e-300
 #: Water-rich trial phase (mole fraction of water in it) for gases with water.
 TPD_WATER_TRIAL = 0.999
-#: Where the GERG-2008 tangent-plane test is skipped as provably unneeded (the Peng-Robinson test
-#: still runs on every state): T at or above SKIP_T_MIN and at or above either
+#: Where the GERG-2008 tangent-plane test is skipped as unneeded (the Peng-Robinson test still
+#: runs on every state): T at or above SKIP_T_MIN and at or above either
 #: * the Peng-Robinson cricondentherm of the composition plus SKIP_MARGIN_K, or
 #: * the highest temperature of its Peng-Robinson phase envelope at pressures within a factor
 #:   exp(SKIP_WINDOW_LNP) of P, plus SKIP_MARGIN_K (above the cricondenbar times that factor, the
