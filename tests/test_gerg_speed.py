@@ -74,7 +74,8 @@ def test_skipping_changes_no_verdict(name, monkeypatch):
     n = 120
     # half the states in the band the skip decides (the cricondentherm to 25 K above it), half
     # anywhere at let-down conditions
-    T = np.concatenate([rng.uniform(ct - 5.0, ct + 25.0, n // 2), rng.uniform(220.0, 330.0, n // 2)])
+    T = np.concatenate([rng.uniform(ct - 5.0, ct + 25.0, n // 2),
+                        rng.uniform(220.0, 330.0, n // 2)])
     P = rng.uniform(5e5, 120e5, n)
     zs = np.tile(gas.zs, (n, 1))
     eng = gas.engine

@@ -29,7 +29,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from . import native
-from .components import R
+from .components import COLD_TRIAL_COMPONENTS, R, cold_trial_flags  # noqa: F401 (re-exported)
 from .cubic import CubicEOS, phase_identification
 
 #: Tangent-plane distance below which a mixture is declared unstable. Above round-off of tm
@@ -78,7 +78,6 @@ EARLY_EXIT_TM = -1e-6
 #: issue 11 placed the missed cold splits of CO2-rich and sour gases at 150-215 K. 220 K covers
 #: both with margin; above it the test is unchanged (and costs nothing more).
 COLD_TRIAL_T = 220.0
-COLD_TRIAL_COMPONENTS = ("carbon-dioxide", "hydrogen-sulfide")
 #: At most this many cold trials per feed (the compiled kernels' fixed room, ST_MAX_COLD).
 COLD_TRIAL_MAX = 2
 #: Largest |ln K| at which a split has collapsed onto the feed (the trivial solution) [-].
@@ -215,11 +214,6 @@ def _phase_compositions(zs, Ks, beta):
     xs = xs / xs.sum(axis=1, keepdims=True)
     ys = ys / ys.sum(axis=1, keepdims=True)
     return xs, ys
-
-
-def cold_trial_flags(comps):
-    """1.0 for the components that get a cold trial phase (COLD_TRIAL_COMPONENTS), else 0.0."""
-    return np.array([1.0 if c in COLD_TRIAL_COMPONENTS else 0.0 for c in comps.names])
 
 
 # ------------------------------------------------------------------------------------------------

@@ -21,8 +21,9 @@ What letdown does with it:
   Peng-Robinson test with the fluid's interaction parameters. The GERG-2008 test is skipped well
   above the composition's Peng-Robinson envelope, where no GERG-2008 split was found (the evidence
   at SKIP_MARGIN_K). A state either test finds unstable is refused (ModelError for a single state;
-  a batch marks it unconverged) with a message to use a cubic model. A P-h/P-s answer must meet its target (to the enthalpy of 1e-6 K); one that cannot
-  (the stable root jumps across the target) is refused the same way, never answered.
+  a batch marks it unconverged) with a message to use a cubic model. A P-h/P-s answer must meet
+  its target (to the enthalpy of 1e-6 K); one that cannot (the stable root jumps across the
+  target) is refused the same way, never answered.
 * **Phase label.** A single phase is named vapour or liquid by the phase identification parameter
   of Venkatarathnam & Oellrich (Fluid Phase Equilib. 301 (2011) 225) computed on GERG-2008's own
   derivatives (liquid above 1). The name decides which separator outlet it leaves by.

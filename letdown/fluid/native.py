@@ -45,7 +45,7 @@ import weakref
 
 import numpy as np
 
-from .components import R
+from .components import R, cold_trial_flags
 
 #: Relative separation below which the two cubic roots count as one, as in CubicEOS.choose_root.
 ROOT_DISTINCT_REL = 1e-12
@@ -149,7 +149,6 @@ def _pack(eos):
     par = _PACKS.get(eos)
     if par is None:
         from .cubic import ROOT_POLISH_STEPS
-        from .flash import cold_trial_flags
         c = eos.comps
         head = np.zeros(_HEADER)
         head[:5] = (R, eos.d1, eos.d2, ROOT_DISTINCT_REL, ROOT_POLISH_STEPS)
