@@ -157,14 +157,17 @@ def test_fluid_flashes_match_numpy(model, seed, monkeypatch):
 
 
 def test_batches_include_unconverged_cases(monkeypatch):
-    """The comparison above covers cases that do not converge (cold, three-phase in truth): seed 5
-    has such P-h and P-s cases on both models, and both paths mark the same ones."""
+    """The comparison above covers cases that do not converge: both paths mark the same ones.
+    (Seed 5 had cold three-phase P-h cases the Newton loop left unsolved; since the fresh-flash
+    retry (cubic_fluid.RETRY_F_REL) seeds 0-39 have none, so every 7th target here is put 1 MJ/mol
+    below anything reachable.)"""
     for model in MODELS:
         fluid = FLUIDS[model]
         zs, T, P = batch(5)
         h = fluid.flash(T=T, P=P, zs=zs).h
+        h = np.where(np.arange(h.size) % 7 == 0, h - 1e6, h)
         a, b = both(lambda: fluid.flash(P=0.2 * P, h=h, zs=zs), monkeypatch)
-        assert (~a.converged).any()
+        assert (~a.converged).sum() >= h.size // 7
         assert np.array_equal(a.converged, b.converged)
 
 
@@ -266,10 +269,11 @@ def test_ph_flash_never_reports_a_missed_target_as_converged():
         assert np.isnan(end.h[0]) and np.isnan(end.vapour_fraction[0])
 
 
-@pytest.mark.xfail(strict=True, reason="known fault (issue 11, cold splits): the P-h flash of this "
-                   "throttled cold liquid gives up on both paths (checked 2026-12-02); when it is "
-                   "solved this test passes and strict xfail asks for the mark to go")
 def test_ph_flash_solves_the_throttled_cold_liquid():
+    """Was a strict xfail (issue 11, cold splits): the stability test missed the CO2-rich second
+    liquid at 137-138 K, h(T) jumped, and the P-h flash gave up on both paths. The cold trial
+    phase (flash.COLD_TRIAL_T) finds it; the test runs on whichever path is in use, and
+    LETDOWN_PURE_NUMPY=1 runs it on numpy."""
     start, end = _throttled_cold_liquid()
     assert end.converged[0] and abs(end.h[0] - start.h[0]) < 1e-6
 

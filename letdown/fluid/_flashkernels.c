@@ -58,6 +58,8 @@ typedef struct {
     const double *sqrt_ac, *ms, *sqrt_Tc, *bs, *Tcs, *Pcs, *omegas, *omk, *cs;
     /* Twu alpha parameters L, M, N per component (M = 0: Soave alpha), cubic.sqrt_alpha */
     const double *twL, *twM, *twN;
+    /* 1 for a component that gets a cold trial phase in the stability test (flash.cold_trial_flags) */
+    const double *cold;
     /* r_i = sqrt(a_i alpha_i(T)) of the last temperature seen (rcache[0] = T, then r; NULL: none):
      * the flash evaluates many compositions at one temperature */
     double *rcache;
@@ -87,6 +89,7 @@ static eos_t eos_view(int nc, const double *par)
     e.twL = e.cs + nc;
     e.twM = e.twL + nc;
     e.twN = e.twM + nc;
+    e.cold = e.twN + nc;
     e.rcache = NULL;
     return e;
 }
@@ -304,8 +307,12 @@ LF_EXPORT int lf_lnphi(int n, int nc, const double *par, const double *T, const 
 }
 
 /* ---------------------------------------------------------------- stability (flash.stability) */
-/* cfg: [0] LN_TOL, [1] TRIVIAL_DIST, [2] STABILITY_MAX_ITER, [3] early-exit tm threshold */
-enum { ST_LN_TOL, ST_TRIVIAL_DIST, ST_MAX_ITER, ST_EARLY_TM, ST_NCFG };
+/* cfg: [0] LN_TOL, [1] TRIVIAL_DIST, [2] STABILITY_MAX_ITER, [3] early-exit tm threshold,
+ * [4] COLD_TRIAL_T, [5] TM_UNSTABLE */
+enum { ST_LN_TOL, ST_TRIVIAL_DIST, ST_MAX_ITER, ST_EARLY_TM, ST_COLD_T, ST_TM_UNSTABLE, ST_NCFG };
+/* the four standard trials and at most this many cold trials (flash.COLD_TRIAL_COMPONENTS) */
+#define ST_MAX_COLD 2
+#define ST_WORK(nc) (((size_t)7 + 4 + ST_MAX_COLD) * (size_t)(nc))
 
 /* One trial phase: iterate ln W in place; returns tm (0 for a trivial trial), sets *Zw.
  * work: 6 nc */
@@ -350,21 +357,24 @@ static double stability_trial(const eos_t *e, double T, double P, const double *
     return tm;
 }
 
-/* Stability test of one feed (all four trials); returns the most negative tm and writes that
- * trial's composition ws and Z. work: 11 nc */
+/* Stability test of one feed (the four standard trials; where they find it stable and T is
+ * below cfg[ST_COLD_T], a nearly pure trial of each flagged component present, in component
+ * order, at most ST_MAX_COLD); returns the most negative tm and writes that trial's composition
+ * ws and Z. work: ST_WORK(nc) */
 static double stability_case(const eos_t *e, double T, double P, const double *z, const double *lz,
                              const double *Ki, const double *cfg, int early_exit, double *ws,
                              double *Zbest, double *work)
 {
-    const int nt = 4;
-    int nc = e->nc, k, t, heavy = 0, light = 0, best = 0;
+    int nc = e->nc, k, t, nt = 4, ncold = 0, heavy = 0, light = 0, best = 0, cold[ST_MAX_COLD];
     double *d = work, *tw = work + nc, *lnW = work + 7 * nc;
-    double tms[4], Zs[4], best_tm, sW = 0.0, hv = -INFINITY, lv = INFINITY;
+    double tms[4 + ST_MAX_COLD], Zs[4 + ST_MAX_COLD], best_tm, sW = 0.0, hv = -INFINITY,
+           lv = INFINITY;
     for (k = 0; k < nc; k++) {
         int pres = z[k] > 0.0;
         d[k] = pres ? log(z[k]) + lz[k] : -INFINITY;
         if (pres && e->Tcs[k] > hv) { hv = e->Tcs[k]; heavy = k; }
         if (pres && e->Tcs[k] < lv) { lv = e->Tcs[k]; light = k; }
+        if (pres && e->cold[k] != 0.0 && ncold < ST_MAX_COLD) cold[ncold++] = k;
     }
     for (t = 0; t < nt; t++) {
         double *lw = lnW + t * nc;
@@ -384,6 +394,23 @@ static double stability_case(const eos_t *e, double T, double P, const double *z
     best_tm = tms[0];
     for (t = 1; t < nt && !isnan(best_tm); t++)
         if (isnan(tms[t]) || tms[t] < best_tm) { best_tm = tms[t]; best = t; }
+    /* cold trials: only where the feed looks stable so far */
+    if (best_tm >= cfg[ST_TM_UNSTABLE] && T < cfg[ST_COLD_T]) {
+        for (t = 4; t < 4 + ncold; t++) {
+            double *lw = lnW + t * nc;
+            for (k = 0; k < nc; k++) {
+                double W = (z[k] > 0.0) ? 1e-3 * z[k] : 0.0;
+                if (k == cold[t - 4]) W = 1.0;
+                lw[k] = (z[k] > 0.0) ? log(W) : -INFINITY;
+            }
+            Zs[t] = 0.0;
+            tms[t] = stability_trial(e, T, P, z, d, lw, cfg, early_exit, &Zs[t], tw);
+            if (!isnan(best_tm) && (isnan(tms[t]) || tms[t] < best_tm)) {
+                best_tm = tms[t];
+                best = t;
+            }
+        }
+    }
     for (k = 0; k < nc; k++) {
         ws[k] = exp(lnW[best * nc + k]);
         sW += ws[k];
@@ -402,7 +429,7 @@ LF_EXPORT int lf_stability(int n, int nc, const double *par, const double *T, co
                            double *Z_out)
 {
     eos_t e = eos_view(nc, par);
-    double *work = malloc((size_t)(11 * nc) * sizeof(double));
+    double *work = malloc(ST_WORK(nc) * sizeof(double));
     int i;
     if (!work) return -1;
     eos_cache(&e);
@@ -751,7 +778,8 @@ enum {
     FP_LN_TOL, FP_TRIVIAL_DIST, FP_ST_MAX_ITER, FP_EARLY_TM, FP_SS_MAX_ITER, FP_ACCEL_EVERY,
     FP_GDEM_MAX_LAMBDA, FP_GDEM_MAX_STEP, FP_GDEM_AGREE, FP_TRIVIAL_LNK, FP_RR_TOL, FP_RR_MAX_ITER,
     FP_NEG_LO, FP_NEG_HI, FP_TM_UNSTABLE, FP_WILSON, FP_NEWTON_MAX_ITER, FP_NEWTON_FD_STEP,
-    FP_NEWTON_MAX_STEP, FP_GIBBS_REL, FP_K_MIN, FP_K_MAX, FP_PHASE_ID_LIQUID, FP_VAPOUR_TPR, FP_NCFG
+    FP_NEWTON_MAX_STEP, FP_GIBBS_REL, FP_K_MIN, FP_K_MAX, FP_PHASE_ID_LIQUID, FP_VAPOUR_TPR,
+    FP_COLD_T, FP_NCFG
 };
 
 /* flash.wilson_K for one case */
@@ -1007,6 +1035,8 @@ static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, 
         st[ST_TRIVIAL_DIST] = fc[FP_TRIVIAL_DIST];
         st[ST_MAX_ITER] = fc[FP_ST_MAX_ITER];
         st[ST_EARLY_TM] = fc[FP_EARLY_TM];
+        st[ST_COLD_T] = fc[FP_COLD_T];
+        st[ST_TM_UNSTABLE] = fc[FP_TM_UNSTABLE];
         Zz = lnphi_one(e, T, P, z, 0, lz, rest);
         wilson(e, fc, T, P, Kw);
         tm = stability_case(e, T, P, z, lz, Kw, st, 0, wt, &Zw, rest);

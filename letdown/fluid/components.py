@@ -273,3 +273,16 @@ def _log_cosh(y):
 #: Reference state of enthalpy and entropy: ideal gas at 298.15 K and 101325 Pa has h = 0, s = 0.
 T_REF = 298.15   # [K]
 P_REF = 101325.0  # [Pa]
+
+
+#: Components that get a nearly pure trial phase of their own in the stability test below
+#: flash.COLD_TRIAL_T: their liquids separate from methane-rich liquids at low temperature (a
+#: CO2-rich second liquid). Here, below the fluid layer's flash and compiled kernels, so both take
+#: the flags from one place.
+COLD_TRIAL_COMPONENTS = ("carbon-dioxide", "hydrogen-sulfide")
+
+
+def cold_trial_flags(comps):
+    """1.0 for the components of ``comps`` that get a cold trial phase, else 0.0 (one per
+    component, in order)."""
+    return np.array([1.0 if c in COLD_TRIAL_COMPONENTS else 0.0 for c in comps.names])

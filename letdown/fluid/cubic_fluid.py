@@ -54,6 +54,14 @@ PH_FD_STEP = 1e-3
 PH_F_TINY_REL = 1e-11
 #: Slope scale where there is no single-phase cp (two phases) [J/(mol K)].
 PH_SLOPE_FALLBACK = 100.0
+#: Retry of a P-h (P-s) case the Newton loop leaves unsolved: a bracketed root (Illinois) on
+#: P-T flashes that each start afresh (stability test, no warm start), over [fl.T_LOW, fl.T_HIGH].
+#: Warm-started splits can follow a metastable branch (a CO2-rich liquid-liquid split carried
+#: from 41 K up to 144 K across the vapour-liquid region of a cold gas) and close the bracket on
+#: its jump; fresh flashes follow the lowest Gibbs energy found. The residual must fall to
+#: RETRY_F_REL of the target's size (or 1e-9 of the slope scale), else the case stays unsolved.
+RETRY_F_REL = 1e-11
+RETRY_MAX_ITER = 200
 #: Bracket still open on one side: step the temperature by these factors (at most half-way).
 BRACKET_GROW = 1.2
 BRACKET_SHRINK = 0.8
@@ -225,10 +233,11 @@ class CubicEngine:
         return h, s, cp
 
     # ----------------------------------------------------------------- flashes
-    def flash_TP(self, T, P, zs) -> States:
-        """Isothermal flash of a batch (three-phase where it applies, for a fluid with water)."""
+    def flash_TP(self, T, P, zs, cold=True) -> States:
+        """Isothermal flash of a batch (three-phase where it applies, for a fluid with water);
+        ``cold=False`` leaves out the stability test's cold trial phases (fl.stability)."""
         _check_TP(T, P)
-        split = fl.flash_PT(self.eos, T, P, zs)
+        split = fl.flash_PT(self.eos, T, P, zs, cold=cold)
         st = self._assemble(T, P, zs, split)
         if self._iw is None:
             return st
@@ -483,7 +492,7 @@ class CubicEngine:
                                                       native_solve_constants)
             split = fl.PTSplit(beta, xs, ys, nph, beta >= 1,
                                fl.SolveReport(ok, np.zeros(n, int), np.zeros(n), ""))
-            return T, ok, split
+            return self._retry_fresh(P, target, zs, which, T, ok, split)
         T = self._initial_T(P, target, zs, which) if T_guess is None else T_guess.astype(float).copy()
         lo = np.full(n, fl.T_LOW)
         hi = np.full(n, fl.T_HIGH)
@@ -587,7 +596,53 @@ class CubicEngine:
         ok = verified & ~failed
         split = fl.PTSplit(beta, xs, ys, nph, beta >= 1,
                            fl.SolveReport(ok, np.zeros(n, int), np.zeros(n), ""))
-        return T, ok, split
+        return self._retry_fresh(P, target, zs, which, T, ok, split)
+
+    def _retry_fresh(self, P, target, zs, which, T, ok, split):
+        """Cases the Newton loop left unsolved, solved again by a bracketed root on fresh P-T
+        flashes (see RETRY_F_REL); the same Python code on either path."""
+        bad = np.nonzero(~ok)[0]
+        if bad.size == 0:
+            return T, ok, split
+        from .rootfind import bracketed_root
+        eos = self.eos
+
+        def f(Tx, idx):
+            i = bad[idx]
+            sp = fl.flash_PT(eos, Tx, P[i], zs[i])
+            h, s, _ = self._hs_of_split(Tx, P[i], zs[i], sp)
+            return np.where(sp.report.converged, (h if which == "h" else s) - target[i], np.nan)
+
+        every = np.arange(bad.size)
+        lo = np.full(bad.size, fl.T_LOW)
+        hi = np.full(bad.size, fl.T_HIGH)
+        with np.errstate(all="ignore"):
+            f_lo, f_hi = f(lo, every), f(hi, every)
+        can = np.isfinite(f_lo) & np.isfinite(f_hi) & (f_lo < 0) & (f_hi > 0)
+        if not can.any():
+            return T, ok, split
+        j = np.nonzero(can)[0]
+        scale = PH_SLOPE_FALLBACK if which == "h" else PH_SLOPE_FALLBACK / fl.T_HIGH
+        ftol = np.maximum(RETRY_F_REL * np.abs(target[bad[j]]), 1e-9 * scale)
+        with np.errstate(all="ignore"):
+            rep = bracketed_root(lambda x, idx: f(x, j[idx]), lo[j], hi[j], f_lo[j], f_hi[j],
+                                 ftol=ftol, max_iterations=RETRY_MAX_ITER)
+        good = rep.converged & np.isfinite(rep.x)
+        if not good.any():
+            return T, ok, split
+        i = bad[j[good]]
+        Tn = rep.x[good]
+        sp = fl.flash_PT(eos, Tn, P[i], zs[i])
+        T = T.copy()
+        T[i] = Tn
+        ok = ok.copy()
+        ok[i] = sp.report.converged
+        beta, xs, ys, nph = (split.beta.copy(), split.xs.copy(), split.ys.copy(),
+                             split.n_phases.copy())
+        beta[i], xs[i], ys[i], nph[i] = sp.beta, sp.xs, sp.ys, sp.n_phases
+        return T, ok, fl.PTSplit(beta, xs, ys, nph, beta >= 1,
+                                 fl.SolveReport(ok, np.zeros(T.shape[0], int),
+                                                np.zeros(T.shape[0]), ""))
 
     def _initial_T(self, P, target, zs, which):
         """Ideal-gas temperature with the target enthalpy (entropy), a few Newton steps."""
@@ -679,7 +734,7 @@ class CubicEngine:
         res = np.zeros(T.shape, dtype=bool)
         if (~pure).any():
             i = np.nonzero(~pure)[0]
-            st = fl.stability(self.eos, T[i], P[i], zs[i], early_exit=True)
+            st = fl.stability(self.eos, T[i], P[i], zs[i], early_exit=True, cold=False)
             res[i] = st.unstable
         return res
 

@@ -746,7 +746,7 @@ def _start(engine, system: EnvelopeSystem, P0: float):
             return None, None, f"no {kind} point found at {P0:g} Pa ({msg})"
         # the incipient phase: the stability test's trial phase just inside the two-phase region
         Ti = T * (1.0 - 1e-7) if kind == "dew" else T * (1.0 + 1e-7)
-        st = fl.stability(eos, np.array([Ti]), P, z1)
+        st = fl.stability(eos, np.array([Ti]), P, z1, cold=False)
         w = st.ws[0]
         with np.errstate(divide="ignore", invalid="ignore"):
             lnK = np.log(zs / w) if kind == "dew" else np.log(w / zs)
@@ -757,7 +757,7 @@ def _start(engine, system: EnvelopeSystem, P0: float):
             return None, None, f"no two-phase range found at {P0:g} Pa"
 
         def split(T):
-            return fl.flash_PT(eos, np.array([T]), P, z1)
+            return fl.flash_PT(eos, np.array([T]), P, z1, cold=False)
 
         def f(T):
             return float(split(T).beta[0]) - beta

@@ -45,7 +45,7 @@ import weakref
 
 import numpy as np
 
-from .components import R
+from .components import R, cold_trial_flags
 
 #: Relative separation below which the two cubic roots count as one, as in CubicEOS.choose_root.
 ROOT_DISTINCT_REL = 1e-12
@@ -64,7 +64,7 @@ _FP_ORDER = ("ln_tol", "trivial_dist", "stability_max_iter", "early_tm", "ss_max
              "accelerate_every", "gdem_max_lambda", "gdem_max_step", "gdem_agree", "trivial_lnK",
              "rr_tol", "rr_max_iter", "neg_lo", "neg_hi", "tm_unstable", "wilson_c",
              "newton_max_iter", "newton_fd_step", "newton_max_step", "gibbs_margin_rel", "k_min",
-             "k_max", "phase_id_liquid", "vapour_above_tpr")
+             "k_max", "phase_id_liquid", "vapour_above_tpr", "cold_trial_T")
 #: Order of the P-h / P-s constants (SV_* in the C file); values from cubic_fluid.
 _SV_ORDER = ("max_iter", "trust_iterations", "loose_tol", "loose_until_step", "residual_K",
              "tol_T", "T_low", "T_high", "fd_step_T", "f_tiny_rel", "slope_fallback",
@@ -154,7 +154,7 @@ def _pack(eos):
         par = np.ascontiguousarray(np.concatenate([
             head, eos.sqrt_ac, eos.ms, eos.sqrt_Tc, eos.bs, c.Tcs, c.Pcs, c.omegas,
             np.asarray(eos.omk, dtype=float).ravel(), eos.cs, eos.twu[:, 0], eos.twu[:, 1],
-            eos.twu[:, 2]]), dtype=np.float64)
+            eos.twu[:, 2], cold_trial_flags(c)]), dtype=np.float64)
         _PACKS[eos] = par
     return par
 
@@ -225,7 +225,7 @@ def lnphi(eos, T, P, xs, code=None):
 
 
 def stability_trials(eos, T, P, zs, lnphis_z, K, *, ln_tol, trivial_dist, max_iter, early_tm,
-                     early_exit):
+                     cold_T, tm_unstable, early_exit):
     """Trial iterations of the stability test (see :func:`letdown.fluid.flash.stability`).
 
     Returns
@@ -236,7 +236,8 @@ def stability_trials(eos, T, P, zs, lnphis_z, K, *, ln_tol, trivial_dist, max_it
     """
     T, P, zs, lnphis_z, K = _f(T), _f(P), _f(zs), _f(lnphis_z), _f(K)
     n, nc = zs.shape
-    cfg = np.array([ln_tol, trivial_dist, max_iter, early_tm], dtype=np.float64)
+    cfg = np.array([ln_tol, trivial_dist, max_iter, early_tm, cold_T, tm_unstable],
+                   dtype=np.float64)
     tm = np.empty(n)
     ws = np.empty((n, nc))
     Z = np.empty(n)

@@ -282,13 +282,13 @@ def boundary(fluid, engine, fixed, zs, kind, axis, branch="upper"):
             s = np.sign(start[i] - res[i])
             Tin, Tout = a[i] + s * d, res[i] - s * np.maximum(d, 1e-9 * res[i])
             st = engine.flash_TP(np.concatenate([Tin, Tout]), np.concatenate([fixed[i], fixed[i]]),
-                                 np.concatenate([zs[i], zs[i]]))
+                                 np.concatenate([zs[i], zs[i]]), cold=False)
         else:
             d = np.minimum(CHECK_LNP, 0.5 * np.abs(np.log(a[i] / start[i])))
             s = np.sign(np.log(start[i] / res[i]))
             Pin, Pout = a[i] * np.exp(s * d), res[i] * np.exp(-s * np.maximum(d, 1e-9))
             st = engine.flash_TP(np.concatenate([fixed[i], fixed[i]]), np.concatenate([Pin, Pout]),
-                                 np.concatenate([zs[i], zs[i]]))
+                                 np.concatenate([zs[i], zs[i]]), cold=False)
         m = i.size
         two_in = (st.n_phases[:m] >= 2) & st.converged[:m]
         if not two_in.all():
@@ -339,7 +339,7 @@ def _refine(engine, fixed, zs, res, a, start, envs, axis, kind):
     # the trial phases just inside, all cases in one stability batch
     Ts = a[todo] if axis == "T" else fixed[todo]
     Ps = fixed[todo] if axis == "T" else a[todo]
-    stb = fl.stability(eos, Ts, Ps, zs[todo])
+    stb = fl.stability(eos, Ts, Ps, zs[todo], cold=False)
     for j, k in enumerate(todo):
         T, P = (res[k], fixed[k]) if axis == "T" else (fixed[k], res[k])
         z = zs[k]
