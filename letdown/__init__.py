@@ -6,6 +6,6 @@ from ._version import __version__  # noqa: F401
 
 
 def load(path):
-    """Load a flowsheet file into a :class:`letdown.sheet.Sheet` (see the README for the format)."""
+    """Load a flowsheet file into a :class:`letdown.sheet.Sheet` (see docs/reference/file-format.md for the format)."""
     from .sheet.solve import load as _load
     return _load(path)

@@ -39,7 +39,7 @@ def test_gate_station_shows_the_model_spread(gate):
             res.equipment["preheat"]["duty_W"], rel=1e-12)
     # the goal holds the network at 5 degC with every model: no spread there
     assert rows["network.T"].spread < 1e-6 and not rows["network.T"].flagged
-    # Peng-Robinson needs ~2 K more preheat than GERG-2008 (README, "Models and their limits")
+    # Peng-Robinson needs ~2 K more preheat than GERG-2008 (docs/models.md)
     warm = rows["warm.T"]
     assert warm.values["peng-robinson"] - warm.values["gerg-2008"] > SPREAD_T_K
     assert warm.flagged and rows["preheat.duty"].flagged

@@ -12,7 +12,7 @@ Sources beside each check:
   Chemistry Data Series Vol. I/1, 1977, p. 61), as tabulated in the ChemSep NRTL file distributed
   with the thermo package and evaluated with thermo's own NRTL (test-only reference).
 * Published inhibited hydrate equilibria (methane with methanol or MEG solutions): none could be
-  verified in the time of this work; no such values are used here (README, closing limits).
+  verified in the time of this work; no such values are used here (docs/models.md, known limits).
 """
 import json
 import os

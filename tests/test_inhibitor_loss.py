@@ -140,7 +140,7 @@ def test_methanol_vapour_loss_rises_with_temperature_and_falls_with_pressure_whe
     assert np.all(np.diff(vap, axis=1) < 0.0)
     # Above about 40-55 bar the loss rises again with pressure on this model (the vapour
     # phase's fugacity coefficient of methanol falls; with methane-methanol kij = 0 this is
-    # overstated -- README, closing limits); no test asserts a direction there.
+    # overstated -- docs/models.md, known limits); no test asserts a direction there.
 
 
 def test_meg_vapour_loss_is_raoult_with_perrys_vapour_pressure():
@@ -172,7 +172,7 @@ def test_low_pressure_limit_against_perrys_methanol_vapour_pressure(T):
     Psat = pure.bubble_point(T=T)
     Psat = float(getattr(Psat, "P", Psat))
     # Measured on this model: 0.83 (268.15 K), 0.86 (278.15 K), 0.92 (298.15 K) of Perry's --
-    # the Soave-type alpha of Peng-Robinson with omega = 0.5625 (README, closing limits).
+    # the Soave-type alpha of Peng-Robinson with omega = 0.5625 (docs/models.md, known limits).
     assert 0.80 < Psat / perry < 1.0
     # At 1 bar the vapour is near ideal: y P = x gamma P_sat with the model's own activity
     # coefficient of methanol in water (gamma from the liquid fugacity coefficients).

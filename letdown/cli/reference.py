@@ -1,4 +1,4 @@
-"""The command-line reference (``docs/cli.md``), generated from the parser itself, so it cannot
+"""The command-line reference (``docs/reference/cli.md``), generated from the parser itself, so it cannot
 drift from what the command accepts (``tests/test_cli_reference.py`` fails if the shipped file
 differs). Write it again after changing an option::
 
@@ -13,7 +13,7 @@ from pathlib import Path
 from .parser import HELP_EPILOG, build_parser
 
 #: Where the reference is kept, from the repository root.
-REFERENCE = Path(__file__).resolve().parents[2] / "docs" / "cli.md"
+REFERENCE = Path(__file__).resolve().parents[2] / "docs" / "reference" / "cli.md"
 
 _HEAD = """\
 # Command-line reference

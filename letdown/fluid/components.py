@@ -23,7 +23,7 @@ Sources (one primary source per constant; choices where sources disagree are doc
   the Yamada & Gunn (1973) estimate Z_RA = 0.29056 - 0.08775 omega.
 
 The values of the reference fluid files differ from Poling's and Perry's by up to 0.9 K in Tc (methanol)
-and 0.6-1.6 % in Pc (n-hexane, argon, methanol, hydrogen); see the README's model section.
+and 0.6-1.6 % in Pc (n-hexane, argon, methanol, hydrogen); see docs/models.md.
 """
 from __future__ import annotations
 

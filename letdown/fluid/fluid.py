@@ -60,7 +60,7 @@ class Fluid:
         fluids).
     kij : None, "zero" or dict
         Interaction parameters: None uses the library table (Peng-Robinson values, also used for
-        SRK -- see the README); "zero" switches them off; a dict {(a, b): k} overrides pairs.
+        SRK -- see docs/models.md); "zero" switches them off; a dict {(a, b): k} overrides pairs.
     normalise : bool
         Scale fractions that do not sum to 1; otherwise a sum off by more than 1e-6 is an error.
     volume_shift : bool

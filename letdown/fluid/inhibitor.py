@@ -38,7 +38,7 @@ Raoult's law against the aqueous liquid of that flash with the vapour pressure o
 Handbook (:data:`MEG_PSAT_PERRY`), none in a hydrocarbon liquid. The cubic with van der Waals
 mixing is crude for methanol-water (its pure methanol vapour pressure is 8-17 % low at 298-268 K,
 its activity coefficient of methanol in water at infinite dilution about 3.3; methane-methanol
-has no published kij here); the losses are estimates to about a factor of two (README, closing
+has no published kij here); the losses are estimates to about a factor of two (docs/models.md, known
 limits).
 
 Every output that judges freezing carries the caution: engineering estimates; designs must follow
@@ -609,7 +609,7 @@ def partition(fluid, T, P, zs_dry, water_ratio, inhibitor_ratio, pf=None) -> Par
     Notes
     -----
     The model's limits for these mixtures (a cubic with van der Waals one-fluid mixing and
-    constant kij; README, closing limits): methanol's vapour pressure and its activity in water
+    constant kij; docs/models.md, known limits): methanol's vapour pressure and its activity in water
     are both off (tests/test_inhibitor_loss.py measures them), and methanol-methane and all MEG
     pairs have no published kij here (zero), so the losses are estimates to a factor of about
     two, not design figures.

@@ -2,7 +2,7 @@
 
 One statement per model, for reports and for the second-opinion study (``letdown crosscheck``). The
 ranges are where letdown's own tests compare the model with published data or a reference library
-(see README, "Models and their limits"); :func:`out_of_range` says where a state leaves them.
+(see docs/models.md); :func:`out_of_range` says where a state leaves them.
 """
 from __future__ import annotations
 

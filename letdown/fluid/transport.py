@@ -35,7 +35,7 @@ Data
 Range and accuracy
 ------------------
 Chung et al. report about 5-10 % for dense gases and nonpolar liquids. Measured here against
-CoolProp 8.0.0 (``tests/test_transport.py``, the README's "Transport properties" table): methane,
+CoolProp 8.0.0 (``tests/test_transport.py``, docs/models.md, "Transport properties"): methane,
 ethane, nitrogen and a natural gas at 250-350 K and 1-100 bar (80 states). At the reference
 density, viscosity within 2.9 % and conductivity within 12 % (the largest near ethane's critical
 point, where Chung's method has no critical enhancement); through letdown's own Peng-Robinson
