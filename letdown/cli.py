@@ -12,6 +12,8 @@ Verbs::
                  [--workers N|--dask A]
     letdown size FILE [--efficiency E] [--model M] [--free-water always|by-dew-point]
                  [--calorific gross|net] [--json] [--units si|field]
+    letdown capacity FILE [--model M] [--json] [--units si|field]
+    letdown upsets FILE [--model M] [--json] [--units si|field]
     letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
 
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,
@@ -124,6 +126,15 @@ def _parser() -> argparse.ArgumentParser:
                     help="calorific value of the fuel gas volume (ISO 6976:2016; default gross)")
     sz.add_argument("--json", action="store_true", help="print only the JSON sizing on stdout")
     sz.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+    for verb, text in (("capacity", "the largest flow of each operating case before a valve, "
+                                    "velocity or noise limit, the goals held"),
+                       ("upsets", "loss of preheat, regulators failing wide open (alone and in "
+                                  "series): coldest temperatures and protection loads")):
+        up = sub.add_parser(verb, parents=[common], help=text)
+        up.add_argument("file", metavar="FILE")
+        up.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+        up.add_argument("--json", action="store_true", help="print only the JSON result on stdout")
+        up.add_argument("--units", choices=("si", "field"), default="si", help="display units")
     cm = sub.add_parser("compare", parents=[common],
                         help="compare a flowsheet with plant measurements, per model; fit one "
                              "parameter")
@@ -198,6 +209,8 @@ def main(argv=None) -> int:
             return _envelope(args)
         if args.verb == "size":
             return _size(args)
+        if args.verb in ("capacity", "upsets"):
+            return _station_study(args)
         return _state(args)
     except ModelError as exc:
         _error(_model_refusal(exc, args), where, debug)
@@ -443,6 +456,40 @@ def _size(args) -> int:
     if not res.all_met:
         bad = [c.name for c in res.cases if not c.met]
         print(f"letdown: {args.file}: {len(bad)} of {len(res.cases)} cases failed or not met "
+              f"({', '.join(bad)}); every case is reported", file=sys.stderr)
+        return EXIT_FAILED_SOLVE
+    return EXIT_OK
+
+
+def _station_study(args) -> int:
+    """``letdown capacity`` and ``letdown upsets``: exit 1 when a case's capacity was not found
+    (or, for upsets, a case of normal operation failed), with every case reported."""
+    from .sheet.loader import load
+
+    fs = load(args.file)
+    args.flowsheet = fs
+    atmosphere = fs.extra.get("atmosphere")
+    if args.verb == "capacity":
+        from .report.capacity import capacity_text
+        from .study.capacity import capacity
+        res = capacity(fs, model=args.model)
+        text = capacity_text(res, args.units, atmosphere=atmosphere)
+        bad = [c.name for c in res.cases if not c.found]
+    else:
+        from .report.upsets import upsets_text
+        from .study.upsets import upsets
+        res = upsets(fs, model=args.model)
+        text = upsets_text(res, args.units, atmosphere=atmosphere)
+        bad = list(res.preheat[0]["failures"]) if res.preheat else []
+    data = res.to_dict()
+    if args.json:
+        print(json.dumps(data, indent=2, allow_nan=False))
+        print(f"letdown: {data['caution']}", file=sys.stderr)
+    else:
+        print(text)
+    if bad:
+        what = "capacity not found" if args.verb == "capacity" else "failed in normal operation"
+        print(f"letdown: {args.file}: {len(bad)} of {len(data['cases'])} cases: {what} "
               f"({', '.join(bad)}); every case is reported", file=sys.stderr)
         return EXIT_FAILED_SOLVE
     return EXIT_OK
