@@ -312,6 +312,13 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
     F0, _ = _reserve(first, keys)
     reasons = np.array([str(r) for r in first.failures], dtype=object)
     failed0 = ~np.asarray(first.converged, dtype=bool)
+    # liquid at a rated valve: the gas sizing equations do not apply, so no capacity is judged
+    for name, eq in first.equipment.items():
+        wet = np.asarray(eq.flags.get("valve_not_gas", np.zeros(n, bool)), dtype=bool) & ~failed0
+        for i in np.flatnonzero(wet):
+            reasons[i] = (f"liquid at the inlet or outlet of the rated valve '{name}': the gas "
+                          "sizing equations (IEC 60534-2-1) do not apply")
+        failed0 |= wet
     # bracket on u = ln s: one end at u = 0, the other from a first-order estimate
     u_lo, u_hi = np.full(n, np.nan), np.full(n, np.nan)
     F_lo, F_hi = np.full(n, np.nan), np.full(n, np.nan)
@@ -351,8 +358,10 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
                 step[i] = u[k] - np.log(BRACKET_GROWTH)
     unbracketed = searching.copy()
     for i in np.flatnonzero(unbracketed):
-        reasons[i] = (f"no limit reached between {BRACKET_GROWTH ** -MAX_BRACKET_STEPS:.3g} and "
-                      f"{BRACKET_GROWTH ** MAX_BRACKET_STEPS:.3g} times the file's flow")
+        reasons[i] = (f"no limit reached up to {np.exp(u_lo[i]):.3g} times the file's flow"
+                      if below[i] else
+                      f"a limit still broken at {np.exp(u_hi[i]):.3g} times the file's "
+                      "flow (or the station does not solve there)")
     u = np.where(exact, 0.0, np.nan)
     iterations = np.zeros(n, dtype=int)
     solve_idx = np.flatnonzero((below | above) & ~unbracketed)
