@@ -252,3 +252,14 @@ equipment:
     assert any("no heater" in n for n in res.notes)
     assert any("no rated throttle with protection" in n for n in res.notes)
     assert res.fail_open == () and res.runs == ()
+
+
+def test_a_failed_first_case_still_gives_valid_json():
+    # fuzz find: the first case's supply at 16 barg cannot feed a 16 barg regulator outlet; its
+    # rated Kv was read from that failed case (NaN), and the JSON writer stopped with exit 3
+    text = DISTRICT.read_text().replace("T: 4 degC, P: 32 barg", "T: 4 degC, P: 16 barg")
+    res = upsets(loads(text))
+    assert res.any_failed and "winter-peak" in res.preheat[0]["failures"]
+    data = json.loads(json.dumps(res.to_dict(), allow_nan=False))
+    assert data["fail_open"][0]["Kv_rated"] == 80.0
+    assert data["fail_open"][0]["cases"][0]["flow_kg_s"] is None

@@ -299,7 +299,10 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
         for f in feeds:
             cases[f"{f}.flow"] = base[f][idx] * scale
         batches.append(len(idx))
-        return solve_cases(fs, cases, model=model, strict=False)
+        # a valve whose required Kv has no solution through its reducers gives NaN figures,
+        # read here as a broken limit (the valve's noise then divides NaN by NaN)
+        with np.errstate(invalid="ignore"):
+            return solve_cases(fs, cases, model=model, strict=False)
 
     every = np.arange(n)
     first = run(every, np.ones(n))
@@ -332,7 +335,9 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
                     np.minimum(est, 0.0) - np.log(ESTIMATE_STEP))
     step = np.where(np.isfinite(step), step, np.where(below, np.log(BRACKET_GROWTH),
                                                      -np.log(BRACKET_GROWTH)))
-    # the lowest flow seen to fail, per case (the 'solve' constraint's bracket)
+    # the constraint that governed each case's last bracket trial (for the message when no
+    # bracket is found)
+    last_j, last_v = np.full(n, -1), np.full(n, np.nan)
     searching = below | above
     for _ in range(MAX_BRACKET_STEPS + 1):
         idx = np.flatnonzero(searching)
@@ -340,7 +345,10 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
             break
         u = step[idx]
         res = run(idx, np.exp(u))
-        F, _ = _reserve(res, keys)
+        F, j = _reserve(res, keys)
+        last_j[idx] = j
+        last_v[idx] = [_values(res, keys)[jj, k] if jj >= 0 else np.nan
+                       for k, jj in enumerate(j)]
         up = below[idx]
         got = np.where(up, F >= 0.0, F <= 0.0)
         for k, i in enumerate(idx):
@@ -358,10 +366,17 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
                 step[i] = u[k] - np.log(BRACKET_GROWTH)
     unbracketed = searching.copy()
     for i in np.flatnonzero(unbracketed):
-        reasons[i] = (f"no limit reached up to {np.exp(u_lo[i]):.3g} times the file's flow"
-                      if below[i] else
-                      f"a limit still broken at {np.exp(u_hi[i]):.3g} times the file's "
-                      "flow (or the station does not solve there)")
+        if below[i]:
+            reasons[i] = f"no limit reached up to {np.exp(u_lo[i]):.3g} times the file's flow"
+            continue
+        what = "a limit is broken"
+        if last_j[i] >= 0:
+            kind, block, detail, limit = keys[last_j[i]]
+            what = (f"{block} {detail} is {last_v[i]:.6g} against its limit {limit:g}"
+                    if np.isfinite(last_v[i]) else
+                    f"no Kv of {block} passes the flow through its reducers")
+        reasons[i] = (f"{what} even at {np.exp(u_hi[i]):.3g} times the file's flow"
+                      + ("" if last_j[i] >= 0 else " (the station does not solve there)"))
     u = np.where(exact, 0.0, np.nan)
     iterations = np.zeros(n, dtype=int)
     solve_idx = np.flatnonzero((below | above) & ~unbracketed)

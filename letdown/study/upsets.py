@@ -258,7 +258,7 @@ def _fail_open(fs, res, names) -> list:
                          "inlet_P_Pa": _num(inlet.P[i]),
                          "set_pressure_Pa": _num(d["protection_set_pressure_Pa"][i]),
                          "normal_flow_kg_s": _num(m)})
-        out.append({"block": b, "Kv_rated": float(d["Kv_rated"][0]), "cases": rows})
+        out.append({"block": b, "Kv_rated": _kv(spec.params["valve"]), "cases": rows})
     return out
 
 
