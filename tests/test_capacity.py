@@ -249,3 +249,14 @@ def test_a_bore_too_small_for_any_flow_is_named_without_numpy_warnings():
     c = res.cases[0]
     assert not c.found and np.isnan(c.capacity)
     assert "no Kv of regulator passes the flow through its reducers" in c.reason
+
+
+def test_every_case_failing_at_its_own_flow_is_reported_not_refused():
+    # no case solves, so no result carries a valve's figures: the reasons are reported (the
+    # refusal 'needs something that limits the flow' would be wrong: the file has a rated valve)
+    text = ONE_VALVE.replace("POUT", "60 barg").replace("CHAR", "linear")
+    res = capacity(loads(text))
+    c = res.cases[0]
+    assert not c.found and "fails at its own flow" in c.reason
+    assert "above the inlet pressure" in c.reason and res.batches == (1,)
+    json.dumps(res.to_dict(), allow_nan=False)

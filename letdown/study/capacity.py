@@ -307,6 +307,13 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
     every = np.arange(n)
     first = run(every, np.ones(n))
     keys = _constraint_keys(first, limits)
+    if not keys and not np.any(first.converged):
+        # every case failed at its own flow: nothing to search, every reason reported
+        nan = np.full(n, np.nan)
+        return _assemble(fs, names, values, feeds, base, first, None, np.arange(0), keys,
+                         limits, nan, np.array([str(r) for r in first.failures], dtype=object),
+                         np.ones(n, dtype=bool), np.zeros(n, dtype=bool), np.zeros(n, dtype=int),
+                         batches, notes)
     if not keys:
         raise InputError("letdown capacity needs something that limits the flow: a rated "
                          "throttle (valve: {Kv: ..., xT: ..., characteristic: ...}) or a block "
@@ -400,8 +407,7 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
     final_idx = np.flatnonzero(np.isfinite(u))
     final = run(final_idx, np.exp(u[final_idx])) if final_idx.size else None
     return _assemble(fs, names, values, feeds, base, first, final, final_idx, keys, limits, u,
-                     reasons, failed0, unbracketed, iterations, batches, notes, solve_idx,
-                     model)
+                     reasons, failed0, unbracketed, iterations, batches, notes)
 
 
 def _estimate(fs, res, keys, limits) -> np.ndarray:
@@ -428,7 +434,7 @@ def _estimate(fs, res, keys, limits) -> np.ndarray:
 
 
 def _assemble(fs, names, values, feeds, base, first, final, final_idx, keys, limits, u, reasons,
-              failed0, unbracketed, iterations, batches, notes, solve_idx, model):
+              failed0, unbracketed, iterations, batches, notes):
     n = len(names)
     v0 = _values(first, keys)
     vc = np.full_like(v0, np.nan)
