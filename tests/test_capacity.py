@@ -260,3 +260,21 @@ def test_every_case_failing_at_its_own_flow_is_reported_not_refused():
     assert not c.found and "fails at its own flow" in c.reason
     assert "above the inlet pressure" in c.reason and res.batches == (1,)
     json.dumps(res.to_dict(), allow_nan=False)
+
+
+def test_a_goal_that_can_no_longer_be_held_limits_the_capacity():
+    # the preheater given a duty bracket of 0-140 kW: beyond some flow the goal holding the gas
+    # between the stages cannot be met, and the capacity is the largest flow that still solves
+    text = DISTRICT.read_text().replace(
+        "T_out: 30 degC, dP: 0.2 bar}", "duty: 100 kW, dP: 0.2 bar}").replace(
+        "by: preheat.T_out, within: [0 degC, 90 degC]", "by: preheat.duty, within: [0 kW, 140 kW]")
+    res = capacity(loads(text))
+    design = next(c for c in res.cases if c.name == "design")
+    assert design.governing == "solve" and not design.found
+    assert "goal 1" in design.reason
+    # within the bracket at the capacity found: the preheater at its 140 kW, every limit kept
+    duty = design.heaters["preheat"][1]
+    assert duty <= 140e3 and duty == pytest.approx(140e3, rel=1e-6)
+    assert all(k.at_capacity <= k.limit for k in design.constraints)
+    assert 1.0 < design.scale < next(c for c in capacity(load(DISTRICT)).cases
+                                     if c.name == "design").scale

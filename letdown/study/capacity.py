@@ -232,7 +232,9 @@ def _constraint_keys(res, limits) -> list:
 def _values(res, keys) -> np.ndarray:
     """(n_constraints, n) detail values (NaN where the case failed)."""
     ok = np.asarray(res.converged, dtype=bool)
-    return np.array([np.where(ok, np.asarray(res.equipment[b].details[d], dtype=float), np.nan)
+    # a batch whose every case failed carries no details: its figures are NaN
+    return np.array([np.where(ok, np.asarray(res.equipment[b].details.get(d, np.nan),
+                                             dtype=float), np.nan)
                      for _, b, d, _ in keys]).reshape(len(keys), len(ok))
 
 
@@ -304,6 +306,15 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
         with np.errstate(invalid="ignore"):
             return solve_cases(fs, cases, model=model, strict=False)
 
+    # the smallest trial flow (log) at which each case failed to solve, and why
+    fail_u = np.full(n, np.inf)
+    fail_why = np.full(n, "", dtype=object)
+
+    def note_failures(idx, u, res):
+        bad = ~np.asarray(res.converged, dtype=bool) & (u < fail_u[idx])
+        fail_u[idx[bad]] = u[bad]
+        fail_why[idx[bad]] = [str(res.failures[k]) for k in np.flatnonzero(bad)]
+
     every = np.arange(n)
     first = run(every, np.ones(n))
     keys = _constraint_keys(first, limits)
@@ -352,6 +363,7 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
             break
         u = step[idx]
         res = run(idx, np.exp(u))
+        note_failures(idx, u, res)
         F, j = _reserve(res, keys)
         last_j[idx] = j
         last_v[idx] = [_values(res, keys)[jj, k] if jj >= 0 else np.nan
@@ -393,8 +405,10 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
         best = u_lo.copy()
 
         def reserve(x, i):
-            F = _reserve(run(solve_idx[i], np.exp(x)), keys)[0]
             j = solve_idx[i]
+            res = run(j, np.exp(x))
+            note_failures(j, x, res)
+            F = _reserve(res, keys)[0]
             best[j] = np.where(F <= 0.0, np.maximum(best[j], x), best[j])
             return F
         # an infinite reserve at the upper end: the Illinois step leaves the bracket and the
@@ -404,6 +418,13 @@ def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
                                 max_iterations=MAX_ITERATIONS)
         u[solve_idx] = np.where(report.converged, report.x, best[solve_idx])
         iterations[solve_idx] = report.iterations
+        for i in solve_idx[~report.converged]:
+            if np.isfinite(fail_u[i]):
+                more = np.exp(fail_u[i] - u[i]) - 1.0
+                where = ("just above this flow" if more < 1e-6 else
+                         f"{100.0 * more:.2g} % above this flow")
+                reasons[i] = (f"the station stops solving {where}, before any limit is reached: "
+                              f"{fail_why[i]}")
     final_idx = np.flatnonzero(np.isfinite(u))
     final = run(final_idx, np.exp(u[final_idx])) if final_idx.size else None
     return _assemble(fs, names, values, feeds, base, first, final, final_idx, keys, limits, u,
