@@ -263,3 +263,17 @@ def test_a_failed_first_case_still_gives_valid_json():
     data = json.loads(json.dumps(res.to_dict(), allow_nan=False))
     assert data["fail_open"][0]["Kv_rated"] == 80.0
     assert data["fail_open"][0]["cases"][0]["flow_kg_s"] is None
+
+
+def test_every_case_failing_still_lists_the_protected_regulators():
+    # no case solves in normal operation (the supply below the first stage's outlet pressure in
+    # every case): the regulators with protection are listed with blank loads, not forgotten
+    text = DISTRICT.read_text().replace("P: 40 barg", "P: 10 barg").replace(
+        "P: 32 barg", "P: 10 barg").replace("P: 44 barg", "P: 10 barg")
+    res = upsets(loads(text))
+    assert len(res.preheat[0]["failures"]) == 3
+    assert [f["block"] for f in res.fail_open] == ["stage1", "stage2"]
+    assert all(c["flow_kg_s"] is None for f in res.fail_open for c in f["cases"])
+    assert not any("no rated throttle with protection" in n for n in res.notes)
+    json.dumps(res.to_dict(), allow_nan=False)
+    assert "Fail-open load" in upsets_text(res)

@@ -244,9 +244,13 @@ def _fail_open(fs, res, names) -> list:
     out = []
     ok = np.asarray(res.converged, dtype=bool)
     for b, spec in _rated(fs).items():
-        d = res.equipment[b].details
-        if "fail_open_flow_kg_s" not in d:
+        if spec.params.get("protection") is None:
             continue
+        # a result whose every case failed carries no details: blank figures
+        blank = np.full(len(names), np.nan)
+        d = {k: res.equipment[b].details.get(k, blank) for k in
+             ("fail_open_flow_kg_s", "fail_open_flow_mol_s", "fail_open_choked",
+              "protection_set_pressure_Pa")}
         inlet = res.streams[spec.inlets["in"]]
         rows = []
         for i, name in enumerate(names):
