@@ -277,3 +277,25 @@ def test_every_case_failing_still_lists_the_protected_regulators():
     assert not any("no rated throttle with protection" in n for n in res.notes)
     json.dumps(res.to_dict(), allow_nan=False)
     assert "Fail-open load" in upsets_text(res)
+
+
+def test_a_case_setting_a_heater_that_is_taken_off_is_solved_with_it_off():
+    fs = loads("""\
+title: one heater, cases set its outlet (fictional)
+gas: {model: peng-robinson, composition: {methane: 0.95, ethane: 0.05}}
+feeds:
+  supply: {T: 10 degC, P: 50 barg, flow: 5000 Sm3/h}
+equipment:
+  preheat:   {kind: heater, from: supply, to: warm, T_out: 30 degC}
+  regulator: {kind: throttle, from: warm, to: out, P_out: 10 barg}
+cases:
+  - {name: a, preheat: {T_out: 40 degC}}
+  - {name: b, preheat: {T_out: 35 degC}}
+""")
+    res = upsets(fs)
+    off = res.preheat[1]
+    assert off["scenario"] == "every heater off" and not off["failures"]
+    gas = letdown.Fluid({"methane": 0.95, "ethane": 0.05}, model="peng-robinson")
+    T_out = gas.flash(P=10e5 + ATM, h=gas.flash(T=283.15, P=50e5 + ATM).h).T
+    row = next(r for r in off["streams"] if r["stream"] == "out")
+    assert row["coldest_T_K"] == pytest.approx(T_out, abs=1e-6)

@@ -178,8 +178,16 @@ def upsets(fs: Flowsheet, *, model: str | None = None) -> UpsetResult:
         else:
             sheet = _heaters_off(fs, off)
             dropped = tuple(f"{g.hold} by {g.by}" for g in fs.goals if g not in sheet.goals)
+            # what the cases set on a heater taken off no longer applies (it is off)
+            kept = {k: v for k, v in table.items() if k.partition(".")[0] not in off}
+            if table and not kept and not fs.feeds:
+                kept = table            # a closed loop: nothing else to carry the cases
+            elif table and not kept:
+                # the cases then differ in nothing else: keep their number all the same
+                feed = next(iter(fs.feeds))
+                kept = {f"{feed}.T": np.full(len(names), float(fs.feeds[feed].T))}
             # the model of normal operation, so that the scenarios compare like with like
-            res = solve_cases(sheet, table or None, model=model or normal.model, strict=False,
+            res = solve_cases(sheet, kept or None, model=model or normal.model, strict=False,
                               margins=True)
         preheat.append(_scenario(title, off, dropped, res, names, fs))
     fail_open = _fail_open(fs, normal, names)
