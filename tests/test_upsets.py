@@ -261,7 +261,7 @@ def test_a_failed_first_case_still_gives_valid_json():
     res = upsets(loads(text))
     assert res.any_failed and "winter-peak" in res.preheat[0]["failures"]
     data = json.loads(json.dumps(res.to_dict(), allow_nan=False))
-    assert data["fail_open"][0]["Kv_rated"] == 80.0
+    assert data["fail_open"][0]["Kv_rated_m3_h"] == 80.0
     assert data["fail_open"][0]["cases"][0]["flow_kg_s"] is None
 
 

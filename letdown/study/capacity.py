@@ -73,6 +73,11 @@ CONSTRAINTS = {"opening": "valve opening (rated Kv at the maximum opening)",
                "sonic": "outlet pipe at its speed of sound", "solve": "the station no longer solves"}
 
 
+#: The unit of each constraint's quantity in JSON (the detail's own key names it too).
+DETAIL_UNITS = {"opening": "fraction of travel", "velocity": "m/s", "noise": "dBA",
+                "sonic": "Mach number"}
+
+
 @dataclass(frozen=True)
 class Constraint:
     """One constrained quantity of one case (SI).
@@ -199,6 +204,7 @@ class CapacityResult:
                        "heaters_W": {h: {"at_flow_W": num(a), "at_capacity_W": num(b)}
                                      for h, (a, b) in c.heaters.items()},
                        "constraints": [{"kind": k.kind, "block": k.block, "detail": k.detail,
+                                        "unit": DETAIL_UNITS.get(k.kind, ""),
                                         "limit": num(k.limit), "at_flow": num(k.at_flow),
                                         "at_capacity": num(k.at_capacity)}
                                        for k in c.constraints]}

@@ -87,7 +87,7 @@ class UpsetResult:
         ``<kind>_margin_K`` with ``<kind>_case``, the smallest over the cases; ``verdict``).
     fail_open : tuple of dict
         One per rated throttle with a protection, per case: ``flow_kg_s``, ``flow_mol_s``,
-        ``choked``, ``inlet_P_Pa``, ``set_pressure_Pa``, ``normal_flow_kg_s``.
+        ``choked``, ``inlet_P_Pa``, ``set_pressure_Pa``, ``normal_flow_kg_s`` (and the block's ``Kv_rated_m3_h``).
     runs : tuple of dict
         One per series run of two or more rated throttles: ``blocks``, ``single_failure`` (block
         -> the (b) figures per case), ``all_open`` (per case: ``flow_kg_s``, ``flow_mol_s``,
@@ -270,7 +270,7 @@ def _fail_open(fs, res, names) -> list:
                          "inlet_P_Pa": _num(inlet.P[i]),
                          "set_pressure_Pa": _num(d["protection_set_pressure_Pa"][i]),
                          "normal_flow_kg_s": _num(m)})
-        out.append({"block": b, "Kv_rated": _kv(spec.params["valve"]), "cases": rows})
+        out.append({"block": b, "Kv_rated_m3_h": _kv(spec.params["valve"]), "cases": rows})
     return out
 
 
