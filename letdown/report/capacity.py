@@ -80,8 +80,8 @@ def capacity_text(res, units: str = "si", atmosphere: float | None = None) -> st
                          f"{CONSTRAINT_WORDS[c['governing_constraint']]} limit at "
                          f"{c['governing_block']} ({100.0 * c['margin_fraction']:.1f} %).")
     sizes = d["batch_sizes"]
-    lines.append(f"Solved in {len(sizes)} batch solves (each holds every case still searching; the first "
-                 f"{sizes[0]} cases).")
+    lines.append(f"Solved in {len(sizes)} batch solves (each holds every case still searching; "
+                 f"the first {sizes[0]} cases).")
     if d["notes"]:
         lines += ["", "Notes"] + [f"  {n}" for n in d["notes"]]
     lines += ["", "Standard volumes: Sm3 at 15 degC and 101.325 kPa (ISO 13443)"

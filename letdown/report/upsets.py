@@ -76,7 +76,8 @@ def upsets_text(res, units: str = "si", atmosphere: float | None = None) -> str:
             if not c["solved"]:
                 rows.append((c["case"], None, None, None, "case failed", "-"))
                 continue
-            single = max((x["flow_kg_s"] for b in r["blocks"] for x in (r["single_failure"][b] or [])
+            single = max((x["flow_kg_s"] for b in r["blocks"]
+                          for x in (r["single_failure"][b] or [])
                           if x["case"] == c["case"] and x["flow_kg_s"] is not None), default=None)
             between = ", ".join(f"{b} {P(v):.2f}" for b, v in c["inlet_P_Pa"].items())
             chokes = ", ".join(b for b, v in c["choked"].items() if v) or "none"

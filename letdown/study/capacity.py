@@ -5,19 +5,20 @@ flow the station passes -- every feed scaled by the same factor ``s``, the case'
 pressures and compositions kept, the file's goals (preheat) held -- before the first of these
 **constraints** is reached:
 
-=============  ===============================================================  ==================
-constraint     quantity (a block's detail)                                      limit
-=============  ===============================================================  ==================
-``opening``    ``opening_fraction`` of a rated throttle (the travel at which    ``limits.max_opening``,
-               its rated valve gives the required Kv, IEC 60534-2-4             else 1.0 (the rated
-               characteristic)                                                  Kv at full travel)
-``velocity``   every detail ``*velocity*_m_s`` (a valve's inlet and outlet      ``limits.max_velocity``
-               pipes, any other block that reports one)
-``noise``      ``noise_dBA`` (IEC 60534-8-3, 1 m from the outlet pipe)          ``limits.max_noise``
-``sonic``      ``outlet_mach`` (the outlet pipe at its speed of sound)          1.0
-``solve``      the case no longer solves (a goal's bracket, a block's           --
-               refusal): the capacity is the largest flow that still solves
-=============  ===============================================================  ==================
+============  ==========================================================  =====================
+constraint    quantity (a block's detail)                                 limit
+============  ==========================================================  =====================
+``opening``   ``opening_fraction`` of a rated throttle (the travel at     ``limits.max_opening``,
+              which its rated valve gives the required Kv, IEC            else 1.0 (the rated
+              60534-2-4 characteristic)                                   Kv at full travel)
+``velocity``  every detail ``*velocity*_m_s`` (a valve's inlet and        ``limits.max_velocity``
+              outlet pipes, any other block that reports one)
+``noise``     ``noise_dBA`` (IEC 60534-8-3, 1 m from the outlet pipe)     ``limits.max_noise``
+``sonic``     ``outlet_mach`` (the outlet pipe at its speed of sound)     1.0
+``solve``     the case no longer solves (a goal's bracket, a block's      --
+              refusal): the capacity is the largest flow that still
+              solves
+============  ==========================================================  =====================
 
 The station's **reserve** ``F(s) = max_j (q_j(s) - L_j) / L_j`` over every constraint ``j`` of
 the case (``+inf`` where the case fails to solve, or a valve's required Kv has no solution
@@ -70,7 +71,8 @@ ESTIMATE_STEP = 1.05
 #: Constraint names and what they bound (for the report).
 CONSTRAINTS = {"opening": "valve opening (rated Kv at the maximum opening)",
                "velocity": "gas velocity", "noise": "valve noise",
-               "sonic": "outlet pipe at its speed of sound", "solve": "the station no longer solves"}
+               "sonic": "outlet pipe at its speed of sound",
+               "solve": "the station no longer solves"}
 
 
 #: The unit of each constraint's quantity in JSON (the detail's own key names it too).
@@ -484,7 +486,6 @@ def _assemble(fs, names, values, feeds, base, first, final, final_idx, keys, lim
         for k, i in enumerate(final_idx):
             if not ok[k]:
                 reasons[i] = reasons[i] or str(final.failures[k])
-    flow0 = sum(np.asarray(first.streams[f].flow, float) for f in feeds)
     kg0 = sum(np.asarray(first.streams[f].flow, float) * np.asarray(first.streams[f].molar_mass,
                                                                    float) for f in feeds)
     total = sum(base.values())

@@ -87,7 +87,8 @@ class UpsetResult:
         ``<kind>_margin_K`` with ``<kind>_case``, the smallest over the cases; ``verdict``).
     fail_open : tuple of dict
         One per rated throttle with a protection, per case: ``flow_kg_s``, ``flow_mol_s``,
-        ``choked``, ``inlet_P_Pa``, ``set_pressure_Pa``, ``normal_flow_kg_s`` (and the block's ``Kv_rated_m3_h``).
+        ``choked``, ``inlet_P_Pa``, ``set_pressure_Pa``, ``normal_flow_kg_s`` (and the block's
+        ``Kv_rated_m3_h``).
     runs : tuple of dict
         One per series run of two or more rated throttles: ``blocks``, ``single_failure`` (block
         -> the (b) figures per case), ``all_open`` (per case: ``flow_kg_s``, ``flow_mol_s``,
@@ -237,7 +238,8 @@ def _scenario(title, off, dropped, res, names, fs) -> dict:
         if dews and min(dews)[0] > 0.0 and any(v.startswith(("below hydrate", "hydrate"))
                                                  for v in verdict):
             verdict.append("(dry: above its water dew point)")
-        row["verdict"] = ", ".join(verdict).replace(", (", " (") if verdict else ("ok" if flowing else "no flow")
+        row["verdict"] = (", ".join(verdict).replace(", (", " (") if verdict
+                          else "ok" if flowing else "no flow")
         streams.append(row)
     return {"scenario": title, "heaters_off": list(off), "goals_dropped": list(dropped),
             "failures": failures, "streams": streams}
