@@ -1,5 +1,5 @@
 """The pipe block in a flowsheet file: loading, located errors, the velocity limit, --profile, and
-the shipped district-station example."""
+the shipped Millbeck village-line example."""
 import json
 import textwrap
 from pathlib import Path
@@ -14,7 +14,7 @@ from letdown.sheet.loader import loads
 from letdown.sheet.solve import solve
 
 ROOT = Path(__file__).resolve().parents[1]
-DISTRICT = ROOT / "flowsheets" / "district-station.yaml"
+DISTRICT = ROOT / "flowsheets" / "millbeck-village-line.yaml"
 
 SHEET = """\
 title: test line (fictional)

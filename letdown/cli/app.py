@@ -6,7 +6,8 @@ import sys
 import traceback
 
 from ..errors import ConvergenceError, InputError, LetdownError, ModelError
-from . import check, compare, crosscheck, envelope, new, size, solve, state, sweep, year
+from . import (check, compare, crosscheck, envelope, new, size, solve, state, station, sweep,
+               year)
 from .common import EXIT_BAD_INPUT, EXIT_FAILED_SOLVE, EXIT_INTERNAL, EXIT_OK
 from .parser import ArgumentRefused, build_parser
 
@@ -14,7 +15,7 @@ from .parser import ArgumentRefused, build_parser
 #: Verb -> the function that runs it.
 VERBS = {"solve": solve.run, "check": check.run, "new": new.run, "crosscheck": crosscheck.run,
          "sweep": sweep.run, "year": year.run, "compare": compare.run, "envelope": envelope.run,
-         "size": size.run, "state": state.run}
+         "size": size.run, "state": state.run, "capacity": station.run, "upsets": station.run}
 
 
 def main(argv=None) -> int:

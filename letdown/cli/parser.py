@@ -114,6 +114,15 @@ def build_parser() -> argparse.ArgumentParser:
     sz.add_argument("--json", action="store_true", help="print only the JSON sizing on stdout")
     sz.add_argument("--units", choices=("si", "field"), default="si", help="display units")
     _record_options(sz)
+    for verb, text in (("capacity", "the largest flow of each operating case before a valve, "
+                                    "velocity or noise limit, the goals held"),
+                       ("upsets", "loss of preheat, regulators failing wide open (alone and in "
+                                  "series): coldest temperatures and protection loads")):
+        up = sub.add_parser(verb, parents=[common], help=text)
+        up.add_argument("file", metavar="FILE", help="the flowsheet file (YAML)")
+        up.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
+        up.add_argument("--json", action="store_true", help="print only the JSON result on stdout")
+        up.add_argument("--units", choices=("si", "field"), default="si", help="display units")
     cm = sub.add_parser("compare", parents=[common],
                         help="compare a flowsheet with plant measurements, per model; fit one "
                              "parameter")
