@@ -409,18 +409,22 @@ def noise(mass_flow, P1, P2, T1, T2, rho1, gamma, molar_mass, Cv, FL, Fd, d, Di,
     m, P1, P2, T1, T2, rho1, k, M, C, FL, Fd, d, Di, ts = np.broadcast_arrays(
         *(np.atleast_1d(_arr(v)) for v in (mass_flow, P1, P2, T1, T2, rho1, gamma, molar_mass,
                                             Cv, FL, Fd, d, Di, wall)))
-    if Fp is not None and FLP is not None:
-        FL = _arr(FLP) / _arr(Fp) * np.ones_like(FL)
-    x = (P1 - P2) / P1
-    # regime boundaries (clause 5: critical vena-contracta ratio and the ratios of regimes II-V)
-    e = (k - 1.0) / k
-    x_vcc = 1.0 - (2.0 / (k + 1.0)) ** (1.0 / e)
-    xc = FL ** 2 * x_vcc
-    alpha = (1.0 - x_vcc) / (1.0 - xc)
-    xB = 1.0 - (1.0 / k) ** (1.0 / e) / alpha
-    xCE = 1.0 - 1.0 / (22.0 * alpha)
-    regime = np.select([x <= xc, x <= x_vcc, x <= xB, x <= xCE], [1, 2, 3, 4], 5)
-    Dj = N14_CV * Fd * np.sqrt(C * FL)
+    # a valve no Kv of which passes the flow through its reducers has no Fp (NaN): its noise is
+    # NaN too (the throttle flags it, valve_fittings_limit), without a numpy warning
+    with np.errstate(divide="ignore", invalid="ignore"):
+        if Fp is not None and FLP is not None:
+            FL = _arr(FLP) / _arr(Fp) * np.ones_like(FL)
+        x = (P1 - P2) / P1
+        # regime boundaries (clause 5: critical vena-contracta ratio and the ratios of regimes
+        # II-V)
+        e = (k - 1.0) / k
+        x_vcc = 1.0 - (2.0 / (k + 1.0)) ** (1.0 / e)
+        xc = FL ** 2 * x_vcc
+        alpha = (1.0 - x_vcc) / (1.0 - xc)
+        xB = 1.0 - (1.0 / k) ** (1.0 / e) / alpha
+        xCE = 1.0 - 1.0 / (22.0 * alpha)
+        regime = np.select([x <= xc, x <= x_vcc, x <= xB, x <= xCE], [1, 2, 3, 4], 5)
+        Dj = N14_CV * Fd * np.sqrt(C * FL)
     with np.errstate(divide="ignore", invalid="ignore"):
         Mj5 = np.sqrt(2.0 / (k - 1.0) * (22.0 ** e - 1.0))
         Mvc = np.sqrt(2.0 / (k - 1.0) * ((1.0 - x / FL ** 2) ** (-e) - 1.0))
