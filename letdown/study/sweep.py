@@ -210,7 +210,7 @@ def _held_kind(fs, hold: str) -> str:
 
 def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = None,
           outputs=None, executor=None, show_progress: bool = False,
-          basis: str = "volume") -> SweepTable:
+          basis: str = "volume", given=None) -> SweepTable:
     """Solve ``fs`` for every case of the swept variables.
 
     Parameters
@@ -235,29 +235,37 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
         energy they deliver (``energy``, :func:`energy_basis`): each feed's flow is scaled so that
         gross calorific value times standard flow stays at the base case's, and the table shows
         both flows and the energy.
+    given : mapping, optional
+        Further per-case arrays passed to the solver as they are, of the sweep's length (a
+        sampled composition ``"<feed>.zs"``, shape (n, nc), from :mod:`.uncertainty`); they make
+        no input column of their own.
 
     Returns
     -------
     SweepTable
     """
     variables = list(variables)
-    if not variables:
+    given = {k: np.asarray(v, float) for k, v in (given or {}).items()}
+    if not variables and not given:
         raise InputError("nothing to sweep: give at least one variable", field="vary")
     if mode == "grid":
         combos = list(itertools.product(*[range(v.values.size) for v in variables]))
         cols = {v.path: np.array([v.values[c[j]] for c in combos]) for j, v in enumerate(variables)}
     elif mode == "zip":
-        sizes = {v.values.size for v in variables}
+        sizes = {v.values.size for v in variables} | {len(a) for a in given.values()}
         if len(sizes) != 1:
             raise InputError(f"zip sweep needs variables of equal length (got {sorted(sizes)})",
                              field="vary")
         cols = {v.path: v.values.copy() for v in variables}
     else:
         raise InputError(f"unknown sweep mode '{mode}' (grid or zip)", field="mode")
-    n = next(iter(cols.values())).size
+    if given and mode != "zip":
+        raise InputError("per-case arrays go with a zip sweep", field="vary")
+    n = next(iter(cols.values())).size if cols else len(next(iter(given.values())))
     fs2 = _with_blend_components(fs, [v.path.split(".", 1)[1] for v in variables
                                       if v.path.startswith("blend.")])
     cases, goal_targets = _cases(fs2, cols, n)
+    cases.update(given)
     if basis not in BASES:
         raise InputError(f"unknown basis '{basis}' (known: {', '.join(BASES)})", field="--basis")
     extra = energy_basis(fs2, cases, n) if basis == "energy" else {}
