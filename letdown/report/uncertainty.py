@@ -33,7 +33,7 @@ def summary_table(result, units: str = "si", atmosphere: float = STANDARD_ATMOSP
             return float(fn(mean + v) - fn(mean)) if np.isfinite(v) and np.isfinite(mean) else None
         conv = [float(fn(v)) if np.isfinite(v) else None for v in (s.mean, s.p10, s.p50, s.p90)]
         rows.append((name, unit.rstrip("]") or "-", conv[0], d(s.std), conv[1], conv[2],
-                     conv[3], int(s.n)))
+                     conv[3], str(s.n)))
     title = (f"Uncertainty: {result.n} samples ({result.sampler}, seed {result.seed}), model "
              f"{result.model}, {result.failed} failed")
     return Table(title, ("output", "unit", "mean", "std", "P10", "P50", "P90", "solved"),
