@@ -247,3 +247,19 @@ def test_command_line_writes_the_seed_and_the_tables(tmp_path):
                           "--vary", "supply.T=normal(5degC,0K)"], capture_output=True, text=True,
                          timeout=60)
     assert bad.returncode == 2 and "--vary" in bad.stderr and "sigma" in bad.stderr
+
+
+def test_a_sampled_goal_target_is_held_in_every_sample_in_one_batch(gate):
+    """The goal's target per sample goes to the batch solver: the network temperature meets each
+    sampled target (the file's goal tolerance), and the inputs keep the order given."""
+    dists = [parse_distribution(gate, "goal1.at=uniform(3degC,8degC)"),
+             parse_distribution(gate, "supply.T=normal(5degC,2K)")]
+    res = uncertainty(gate, dists, 128, seed=9, outputs=["network.T", "preheat.duty"])
+    assert res.failed == 0
+    assert res.table.columns[:2] == ("goal1.at [K]", "supply.T [K]")
+    target = res.table.column("goal1.at [K]")
+    assert target.min() >= 276.15 and target.max() <= 281.15
+    np.testing.assert_allclose(res.table.column("network.T [K]"), target, rtol=1e-10,
+                               atol=gate.solver.goal_tolerance)
+    s = dict(zip(res.inputs, res.sensitivity["network.T [K]"]))
+    assert s["goal1.at"] > 0.99

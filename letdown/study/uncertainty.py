@@ -155,8 +155,8 @@ def parse_distribution(fs: Flowsheet, spec: str) -> Distribution:
     name = m.group(1).lower()
     args = [a.strip() for a in m.group(2).split(",")]
     if name not in DISTRIBUTIONS:
-        raise InputError(f"unknown distribution '{m.group(1)}' in '{spec}' (known: "
-                         f"{', '.join(f'{k}({chr(44).join(v)})' for k, v in DISTRIBUTIONS.items())})",
+        known = ", ".join(f"{k}({','.join(v)})" for k, v in DISTRIBUTIONS.items())
+        raise InputError(f"unknown distribution '{m.group(1)}' in '{spec}' (known: {known})",
                          field="--vary")
     want = DISTRIBUTIONS[name]
     if len(args) != len(want) or not all(args):
@@ -361,6 +361,12 @@ def uncertainty(fs: Flowsheet, distributions, n: int, *, sampler: str = "lhs", s
             given[f"{d.feed}.zs"] = values
             for k, comp in enumerate(names):
                 inputs_extra[f"{d.path}.{comp} [-]"] = values[:, k]
+        elif d.path.startswith("goal"):
+            # a goal's target per case goes straight to the batch solver (a sweep would make
+            # each distinct target a solve of its own)
+            _check_values(fs, d.path, d.text, values, "--vary")
+            given[d.path] = values
+            inputs_extra[f"{d.path} [{Variable(d.path, d.kind, values).unit}]"] = values
         else:
             try:
                 if d.kind == "temperature" and np.any(values <= 0.0):
@@ -376,6 +382,7 @@ def uncertainty(fs: Flowsheet, distributions, n: int, *, sampler: str = "lhs", s
                   show_progress=show_progress, basis=basis, given=given)
     if inputs_extra:
         table = _with_inputs(table, len(variables), inputs_extra)
+        table = _in_order(table, dists, n_inputs=len(variables) + len(inputs_extra))
     return _statistics(fs, dists, sampler, seed, table)
 
 
@@ -387,6 +394,20 @@ def _with_inputs(table, after: int, extra: dict):
     rows = tuple(r[:after] + tuple(float(a[i]) for a in arrays) + r[after:]
                  for i, r in enumerate(table.rows))
     return dataclasses.replace(table, columns=cols, rows=rows)
+
+
+def _in_order(table, dists, n_inputs):
+    """The input columns in the order the distributions were given."""
+    import dataclasses
+    head = list(table.columns[:n_inputs])
+    order = []
+    for d in dists:
+        order += [j for j, c in enumerate(head) if c.startswith(d.path + " [")
+                  or c.startswith(d.path + ".")]
+    order += [j for j in range(n_inputs) if j not in order]
+    perm = order + list(range(n_inputs, len(table.columns)))
+    return dataclasses.replace(table, columns=tuple(table.columns[j] for j in perm),
+                               rows=tuple(tuple(r[j] for j in perm) for r in table.rows))
 
 
 def _statistics(fs, dists, sampler, seed, table) -> UncertaintyResult:
