@@ -216,11 +216,12 @@ def test_dirichlet_of_any_concentration_gives_compositions(gate, c):
         assert lead[0] == pytest.approx(d.mean_composition[0], abs=0.1)
 
 
-@pytest.mark.parametrize("n, sampler, field", [(1000, "sobol", "--sample"), (1, "lhs", "--sample"),
-                                                (100, "halton", "--sampler")])
-def test_bad_sample_counts_and_samplers_are_refused(n, sampler, field):
+@pytest.mark.parametrize("n, sampler, seed, field", [
+    (1000, "sobol", 0, "--sample"), (1, "lhs", 0, "--sample"), (100_001, "lhs", 0, "--sample"),
+    (100, "halton", 0, "--sampler"), (100, "lhs", -1, "--seed"), (100, "lhs", 1.5, "--seed")])
+def test_bad_sample_counts_samplers_and_seeds_are_refused(n, sampler, seed, field):
     with pytest.raises(InputError) as err:
-        unit_samples(2, n, sampler)
+        unit_samples(2, n, sampler, seed)
     assert err.value.field == field
 
 

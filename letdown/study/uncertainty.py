@@ -238,7 +238,8 @@ def unit_samples(dims: int, n: int, sampler: str = "lhs", seed: int = 0) -> np.n
     Raises
     ------
     InputError
-        An unknown sampler, n outside 2..MAX_CASES, or a Sobol n that is not a power of two.
+        An unknown sampler, n outside 2..MAX_CASES, a Sobol n that is not a power of two, or a
+        negative seed.
     """
     from scipy.stats import qmc
     if sampler not in SAMPLERS:
@@ -248,6 +249,8 @@ def unit_samples(dims: int, n: int, sampler: str = "lhs", seed: int = 0) -> np.n
         raise InputError(f"--sample must be between 2 and {MAX_CASES:,}, got {n}",
                          field="--sample")
     n = int(n)
+    if isinstance(seed, bool) or not isinstance(seed, (int, np.integer)) or seed < 0:
+        raise InputError(f"--seed must be a whole number 0 or above, got {seed}", field="--seed")
     rng = np.random.default_rng(seed)
     if sampler == "random":
         return rng.random((n, dims))
