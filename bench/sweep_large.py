@@ -108,14 +108,15 @@ def main(argv=None):
     if args.one is not None:
         print(json.dumps(one(args.cases, args.one, args.profile)))
         return
-    from letdown.study.sweep import MAX_CHUNK
+    from letdown.study import sweep as sweep_module
+    chunk = getattr(sweep_module, "MAX_CHUNK", None)     # None: a letdown without chunking
     try:
         from letdown.fluid import native
         kernels = "on" if native.AVAILABLE else "off"
     except ImportError:
         kernels = "not built"
     print(f"{os.cpu_count()} cpus, compiled flash kernels {kernels}, "
-          f"load average {os.getloadavg()[0]:.2f}, chunks of at most {MAX_CHUNK} cases")
+          f"load average {os.getloadavg()[0]:.2f}, chunks of at most {chunk} cases")
     for w in [int(x) for x in args.workers.split(",")]:
         runs = []
         for r in range(args.repeats):
