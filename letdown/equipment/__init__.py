@@ -16,7 +16,7 @@ from __future__ import annotations
 from . import (compressor, exchanger, expander, heater, inject, mixer, separator, splitter,
                throttle)
 from .common import BlockOutcome, closures
-from .stream import StreamBatch, flash_stream
+from .stream import Carry, StreamBatch, flash_stream
 
 #: Block kind -> its ``run`` function.
 KINDS = {
@@ -32,4 +32,4 @@ KINDS = {
     "inject": inject.run,
 }
 
-__all__ = ["KINDS", "BlockOutcome", "StreamBatch", "closures", "flash_stream"]
+__all__ = ["KINDS", "BlockOutcome", "Carry", "StreamBatch", "closures", "flash_stream"]

@@ -33,7 +33,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..fluid.components import COMPONENTS, R
-from .stream import StreamBatch
+from .stream import StreamBatch, blend
 
 #: Flows below this [mol/s] count as an empty stream (no division by them). Far below any real
 #: process flow; common practice for guarding divisions.
@@ -43,6 +43,9 @@ TINY_FLOW = 1e-300
 BY_GOAL = "_by_goal"
 #: Reserved ``params`` entry: True in a trial pass of a loop or goal (see the module docstring).
 TRIAL = "_trial"
+#: Reserved ``params`` entry: the sheet's water-content method (``gas.water_method``), with which a
+#: separator splits the water its inlet carries (:mod:`letdown.equipment.watersplit`).
+WATER_METHOD = "_water_method"
 #: A vapour fraction strictly between these bounds counts as two phases [-] (flash noise around 0
 #: and 1 is not a second phase; common practice).
 TWO_PHASE_BOUNDS = (1e-9, 1.0 - 1e-9)
@@ -84,9 +87,20 @@ class BlockOutcome:
 
 
 def finish(inlets: Mapping[str, StreamBatch], outlets: Mapping[str, StreamBatch], energy_in,
-           **kwargs) -> BlockOutcome:
-    """Build a :class:`BlockOutcome`, computing its balance closures from the streams."""
+           own_carry: bool = False, **kwargs) -> BlockOutcome:
+    """Build a :class:`BlockOutcome`, computing its balance closures from the streams.
+
+    The water the inlets carry beside the gas (:class:`letdown.equipment.stream.Carry`) goes to
+    every outlet as the flow-weighted blend of the inlets' (:func:`letdown.equipment.stream.
+    blend`): a one-inlet block keeps it, a mixer blends, free water is not carried on. This is the
+    rule of every block kind that does not split the water itself; one that does (an exchanger
+    keeps each side's own, a separator splits) attaches its outlets' carries and passes
+    ``own_carry=True``.
+    """
     n = next(iter(inlets.values())).n_cases
+    if not own_carry and all(s.carry is not None for s in inlets.values()):
+        mixed = blend([i.flow for i in inlets.values()], [i.carry for i in inlets.values()])
+        outlets = {port: s.with_carry(mixed) for port, s in outlets.items()}
     energy_in = np.broadcast_to(np.asarray(energy_in, dtype=float), (n,)).copy()
     mole, energy = closures(inlets.values(), outlets.values(), energy_in)
     return BlockOutcome(outlets=dict(outlets), energy_in=energy_in, mole_closure=mole,

@@ -7,10 +7,13 @@ pure component at saturation correctly.
 ``V = beta F`` at the vapour composition ``ys`` and the vapour phase's properties; the liquid outlet
 carries the rest, its component flows taken by difference (``F z_i - V y_i``) so that the mole
 balance closes to rounding. An absent phase leaves an empty outlet (zero flow, the inlet's state).
-The water the gas carries beside this water-free flash is split in the flowsheet's water carry
-(:mod:`letdown.sheet.freezing`): the vapour keeps at most its saturated content at the drum's T and
-P, the hydrocarbon liquid what dissolves in it, and the ``water`` outlet (a stream with no gas:
-zero flow here, vapour fraction 0: never the inlet's vapour) gets the rest as free water.
+The water the gas carries beside this water-free flash (the inlet's
+:class:`letdown.equipment.stream.Carry`) is split here (:func:`letdown.equipment.watersplit.split`):
+the vapour keeps at most its saturated content at the drum's T and P, the hydrocarbon liquid what
+dissolves in it, and the ``water`` outlet (a stream with no gas: zero flow here, vapour fraction 0:
+never the inlet's vapour) gets the rest as free water; the split is reported in the details
+(``water_in_mol_s``, ``water_in_vapour_mol_s``, ``water_in_liquid_mol_s``, ``free_water_mol_s``,
+``free_water_kg_s``).
 
 **Three phases** (``water`` is a component of the gas): the drum is adiabatic and three-phase. Its
 temperature T solves
@@ -55,7 +58,8 @@ import numpy as np
 from ..fluid.components import R
 from ..fluid.flash import is_vapour_like
 from ..fluid.threephase import PHASES, flash_PX_3, phase_properties
-from .common import TINY_FLOW, finish, outlet_pressure, pseudo_critical
+from . import watersplit
+from .common import TINY_FLOW, TRIAL, WATER_METHOD, finish, outlet_pressure, pseudo_critical
 from .stream import StreamBatch
 
 #: Phase properties the fluid's batch ``States`` gives per phase (``States.vapour``/``.liquid``).
@@ -91,7 +95,9 @@ def run(fluid, name: str, inlets, params):
     params : Mapping
         Optional ``dP`` [Pa]; ``water_port`` (bool, default True): whether the ``water`` outlet
         is connected (the loader says); without it a three-phase drum sends its aqueous phase
-        with the hydrocarbon liquid.
+        with the hydrocarbon liquid (and a two-phase drum the free water it splits off).
+        ``params[common.WATER_METHOD]`` (set by the solver): the water-content method of the
+        water split (default ``bukacek``).
 
     Returns
     -------
@@ -137,8 +143,14 @@ def run(fluid, name: str, inlets, params):
     # no aqueous phase in the water-free flash: an empty liquid outlet, never the inlet's vapour
     water = dataclasses.replace(water, vapour_fraction=np.zeros_like(F))
     outlets = {"vapour": vapour, "liquid": liquid, "water": water}
-    return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
-                  flags=_single_phase_flags(fluid, inlet, outlets))
+    details = {}
+    if inlet.carry is not None:
+        carries, details = watersplit.split(
+            fluid, params.get(WATER_METHOD, "bukacek"), inlet, vapour, liquid,
+            bool(params.get("water_port", True)), trial=bool(params.get(TRIAL, False)))
+        outlets = {port: s.with_carry(carries[port]) for port, s in outlets.items()}
+    return finish(inlets, outlets, 0.0, own_carry=inlet.carry is not None, dP=inlet.P - P_out,
+                  flags=_single_phase_flags(fluid, inlet, outlets), details=details)
 
 
 def _single_phase_flags(fluid, inlet, outlets) -> dict:

@@ -126,6 +126,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..equipment.inject import PARAM_DETAILS, ProtectedPoint, dose
+from ..equipment.stream import Carry
 from ..errors import ConvergenceError, InputError
 from ..fluid.hydrate import LANGMUIR
 from ..fluid.aqueous import density as aqueous_density, freezing_point
@@ -247,27 +248,42 @@ def ratio_from_spec(water, fluid, method: str, T=None, P=None) -> np.ndarray:
     return np.asarray(y / (1.0 - y))
 
 
-def _feed_ratios(fs, fluid, streams) -> tuple[dict, list]:
+def feed_carries(fs, fluid, streams) -> dict:
+    """The water every feed carries beside its gas, from ``gas.water`` (module docstring): feed
+    name -> :class:`letdown.equipment.stream.Carry` (no free water). The solver attaches it to
+    the feeds; the blocks carry it on.
+
+    Raises
+    ------
+    InputError
+        A water method or a feed state the water-content route cannot take, located at
+        ``gas.water``.
+    """
     water = fs.gas.water
     method = fs.gas.water_method
-    notes = []
     out = {}
     where = water.where if water is not None else None
     try:
         for name in fs.feeds:
             s = streams[name]
             r = ratio_from_spec(water, fluid, method, s.T, s.P)
-            out[name] = np.broadcast_to(r, s.T.shape).astype(float)
+            r = np.broadcast_to(r, s.T.shape).astype(float)
+            out[name] = Carry(r, np.zeros(r.shape))
     except InputError as exc:
         raise exc.located(file=(where.file if where else None) or fs.source,
                           line=where.line if where else None, field="gas.water") from None
-    if water is None and fs.feeds:
-        notes.append(WarningRecord(
-            "gas", "no gas.water given: each feed is taken as saturated with water at its own "
-                   f"temperature and pressure ({method}); hydrate and water dew point margins "
-                   "follow from that", tuple(range(next(iter(streams.values())).n_cases)),
-            kind="water_assumed", severity="note"))
-    return out, notes
+    return out
+
+
+def _water_notes(fs, streams) -> list:
+    """The note that the water was assumed (no ``gas.water``)."""
+    if fs.gas.water is not None or not fs.feeds:
+        return []
+    return [WarningRecord(
+        "gas", "no gas.water given: each feed is taken as saturated with water at its own "
+               f"temperature and pressure ({fs.gas.water_method}); hydrate and water dew point "
+               "margins follow from that", tuple(range(next(iter(streams.values())).n_cases)),
+        kind="water_assumed", severity="note")]
 
 
 def _mix(fs, block, streams, r, n, k=None):
@@ -346,106 +362,32 @@ class WaterCarry:
         return self.ratios[name] * F + self.free.get(name, np.zeros(stream.n_cases))
 
 
-def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None, ys=None
-                      ) -> tuple[np.ndarray, np.ndarray]:
-    """Water a separator's vapour and hydrocarbon liquid can hold at (T, P), per mole of dry
-    phase [mol/mol].
-
-    The vapour by ``gas.water_method`` (:func:`letdown.fluid.water.water_content`, at the
-    vapour's composition ``ys`` for ``eos``), the **same route as the water dew point**
-    (:func:`_dew_points`), so that a vapour leaving saturated has its water dew point at the
-    separator's temperature; the liquid by
-    the fugacity balance with pure liquid water on the fluid's cubic equation
-    (:func:`letdown.fluid.threephase.water_in_liquid`).
-
-    Parameters
-    ----------
-    fluid : Fluid
-    method : str
-        ``bukacek`` or ``eos``.
-    T, P : ndarray (n,)
-        Separator temperature [K] and pressure [Pa].
-    xs : ndarray (n, nc)
-        Hydrocarbon liquid composition [-].
-    has_liquid : ndarray of bool (n,), optional
-        Cases with a hydrocarbon liquid (default all); the others get ``r_liquid = 0``.
-    ys : ndarray (n, nc), optional
-        Vapour composition [-] (default the file's gas composition).
-
-    Returns
-    -------
-    r_vapour, r_liquid : ndarray (n,)
-        Water per dry vapour and per dry liquid at saturation [mol/mol].
-    """
-    from ..fluid.threephase import water_in_liquid
-    T = np.asarray(T, dtype=float)
-    P = np.asarray(P, dtype=float)
-    y = np.asarray(water_content(fluid, T, P, method=method, zs=ys), dtype=float).reshape(-1)
-    has = np.ones(T.shape, bool) if has_liquid is None else np.asarray(has_liquid, bool)
-    r_liquid = np.zeros(T.shape)
-    if has.any():
-        x = water_in_liquid(fluid, T[has], P[has], np.asarray(xs, float)[has])
-        r_liquid[has] = x / (1.0 - x)
-    return y / (1.0 - y), r_liquid
+def _drains(fs) -> dict:
+    """Separator name -> the stream its free water leaves by: its ``water`` outlet, or its
+    ``liquid`` outlet where it has no ``water`` port."""
+    return {b: spec.outlets.get("water", spec.outlets["liquid"])
+            for b, spec in fs.blocks.items() if spec.kind == "separator"}
 
 
-def _separate(fs, fluid, block, streams, r, free, split, cache, n):
-    """Split a separator's inlet water: the vapour and the hydrocarbon liquid leave with at most
-    their saturated contents at the drum's T and P, in the same proportion below saturation; the
-    rest leaves as free water by the ``water`` port (by the ``liquid`` port if there is none).
-    Fills ``r`` (ratios), ``free`` (free water [mol/s]) and ``split`` (the block's figures)."""
-    spec = fs.blocks[block]
-    inlet = spec.inlets["in"]
-    vap, liq = spec.outlets["vapour"], spec.outlets["liquid"]
-    wat = spec.outlets.get("water")
-    F = np.asarray(streams[inlet].flow, float)
-    r_in = np.asarray(r.get(inlet, np.zeros(n)), float)
-    W_in = r_in * F + free.get(inlet, np.zeros(n))
-    FV = np.asarray(streams[vap].flow, float)
-    FL = np.asarray(streams[liq].flow, float)
-    if block not in cache:      # the streams are solved: the capacities are fixed over passes
-        V = streams[vap]
-        cache[block] = saturation_ratios(fluid, fs.gas.water_method, V.T, V.P, streams[liq].zs,
-                                         has_liquid=FL > 0.0, ys=V.zs)
-    rV_sat, rL_sat = cache[block]
-    capacity = FV * rV_sat + FL * rL_sat
-    wetter = W_in >= capacity
-    # below saturation both phases hold the same fraction s of their saturated content (the water
-    # fugacity is common to both and, this dilute, proportional to each content)
-    s = np.where(wetter, 1.0, W_in / np.where(capacity > 0.0, capacity, 1.0))
-    in_vapour = s * FV * rV_sat
-    in_liquid = s * FL * rL_sat
-    excess = np.where(wetter, W_in - capacity, 0.0)
-    r[vap] = np.where(FV > 0.0, s * rV_sat, r_in)
-    if wat is None:
-        # a two-phase drum: the free water leaves with the hydrocarbon liquid
-        has_L = FL > 0.0
-        r[liq] = np.where(has_L, (in_liquid + excess) / np.where(has_L, FL, 1.0), r_in)
-        free[liq] = np.where(has_L, 0.0, excess)
-    else:
-        r[liq] = np.where(FL > 0.0, s * rL_sat, r_in)
-        r[wat] = np.zeros(n)
-        free[wat] = excess
-    split[block] = {"water_in_mol_s": W_in, "water_in_vapour_mol_s": in_vapour,
-                    "water_in_liquid_mol_s": in_liquid, "free_water_mol_s": excess}
-
-
-def water_flows(fs, fluid, streams, steps) -> WaterCarry:
+def water_flows(fs, fluid, streams, steps=None, outcomes=None) -> WaterCarry:
     """The water of every stream: ratios per dry gas, free water, and each separator's split.
 
-    Blocks other than separators carry the ratio as :func:`_mix` does; a separator splits its
-    inlet's water (:func:`_separate`). Free water that flows on from a separator into another
-    block is not carried further (a note says so): a drum's water outlet normally ends at a
-    product. With water in ``gas.composition`` the ratios are each stream's own water fraction.
+    The solve carries the water with the streams (:class:`letdown.equipment.stream.Carry`: the
+    blocks pass it on, separators split it, :mod:`letdown.equipment.watersplit`, loops settle it
+    in their tear iterations); this reads it. Free water that flows on from a separator into
+    another block is not carried further (a note says so): a drum's water outlet normally ends at
+    a product. With water in ``gas.composition`` the ratios are each stream's own water fraction.
 
     Parameters
     ----------
     fs : Flowsheet
     fluid : Fluid
     streams : Mapping[str, StreamBatch]
-        The solved streams.
-    steps : sequence
-        :func:`letdown.sheet.graph.solve_order` steps.
+        The solved streams (carrying their water, unless water is a component).
+    steps : sequence, optional
+        Not used (the solve order); kept for the callers.
+    outcomes : Mapping[str, BlockOutcome], optional
+        The blocks' outcomes: each separator's split from its details.
 
     Returns
     -------
@@ -468,19 +410,17 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
                             "free_water_mol_s": free[wat]}
         return WaterCarry({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
                            for name, s in streams.items()}, free, split, [], iw)
-    r, notes = _feed_ratios(fs, fluid, streams)
-    free: dict = {}
-    split: dict = {}
-    cache: dict = {}
-
-    def through(block):
-        spec = fs.blocks[block]
-        if spec.kind == "separator":
-            _separate(fs, fluid, block, streams, r, free, split, cache, n)
-        else:
-            _mix(fs, block, streams, r, n)
-
-    _carry_steps(fs, steps, r, through, notes, "water")
+    notes = _water_notes(fs, streams)
+    r = {name: np.asarray(s.carry.water_ratio, float) for name, s in streams.items()}
+    free = {s: np.asarray(streams[s].carry.free_water, float)
+            for s in _drains(fs).values() if s in streams}
+    split = {}
+    for block in _drains(fs):
+        details = (outcomes or {}).get(block)
+        details = {} if details is None else details.details
+        if "free_water_mol_s" in details:
+            split[block] = {k: details[k] for k in ("water_in_mol_s", "water_in_vapour_mol_s",
+                                                    "water_in_liquid_mol_s", "free_water_mol_s")}
     for block, spec in fs.blocks.items():
         if spec.kind == "separator":
             continue
@@ -490,8 +430,6 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
                                               "through this block (only separators split water; "
                                               "send a water outlet to a product)",
                                        kind="water_not_carried", severity="check"))
-    for name in streams:
-        r.setdefault(name, np.zeros(n))
     return WaterCarry(r, free, split, notes)
 
 
@@ -895,7 +833,8 @@ def _hydrate_Ts(fluid, P, zs, aw=None, xm=None) -> tuple:
     return T, st, failed, aw
 
 
-def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple[dict, list]:
+def stream_freezing(fs, fluid, streams, steps, doses=None, params=None, outcomes=None
+                    ) -> tuple[dict, list]:
     """Water, inhibitor, water dew point and hydrate temperature of every stream.
 
     The hydrate temperature uses the water activity of the stream's free water with its inhibitor
@@ -909,11 +848,15 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
         Filled with ``inject`` block name -> details for its outcome: ``inhibitor_rate_kg_s``
         [kg/s], ``inhibitor_wt_pct`` [wt %], ``hydrate_depression_K`` (Hammerschmidt at that
         wt %) [K], ``hydrate_depression_vdwp_K`` (outlet hydrate temperature without and with the
-        inhibitor, vdW-P) [K]; and with separator name -> how it split the water (water beside
-        the gas only): ``water_in_mol_s``, ``water_in_vapour_mol_s``, ``water_in_liquid_mol_s``,
-        ``free_water_mol_s`` [mol/s] and ``free_water_kg_s`` [kg/s] (:class:`WaterCarry`).
+        inhibitor, vdW-P) [K]; and, with water as a component of the gas, with separator name
+        -> its water: ``water_in_mol_s``, ``water_in_vapour_mol_s``, ``water_in_liquid_mol_s``,
+        ``free_water_mol_s`` [mol/s] and ``free_water_kg_s`` [kg/s] (:class:`WaterCarry`; with
+        the water beside the gas the separator reports its split itself,
+        :mod:`letdown.equipment.watersplit`).
     params : Mapping[str, Mapping], optional
         As for :func:`inhibitor_ratios`.
+    outcomes : Mapping[str, BlockOutcome], optional
+        As for :func:`water_flows`.
 
     Returns
     -------
@@ -922,7 +865,7 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     notes : list of WarningRecord
         The assumptions made (water taken as saturated, loops) and any hydrate solve that failed.
     """
-    carried = water_flows(fs, fluid, streams, steps)
+    carried = water_flows(fs, fluid, streams, steps, outcomes)
     ratios, notes = carried.ratios, carried.notes
     free_inh: dict = {}
     inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, carried, params, fluid,
@@ -996,8 +939,9 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
                                 free, np.where(free, freezing_point(x_w[sl]), np.nan),
                                 rule_T if s in rule_streams else None, rho)
     if doses is not None:
-        for b, split in carried.separators.items():
-            doses[b] = {**split, "free_water_kg_s": split["free_water_mol_s"] * M_WATER}
+        if carried.water_index is not None:
+            for b, split in carried.separators.items():
+                doses[b] = {**split, "free_water_kg_s": split["free_water_mol_s"] * M_WATER}
         for m, (b, d) in enumerate(block_doses.items()):
             free = hT_all[P.size + m * n: P.size + (m + 1) * n]
             doses[b] = {**dose_details(d),
@@ -1022,13 +966,13 @@ def inject_params(fs, outcomes) -> dict:
     return out
 
 
-def inject_doses(fs, fluid, streams, steps, params=None) -> dict:
+def inject_doses(fs, fluid, streams, steps, params=None, outcomes=None) -> dict:
     """The ``inject`` blocks' details without the hydrate solves (for a solve without margins):
     ``inhibitor_rate_kg_s``, ``inhibitor_wt_pct``, ``hydrate_depression_K`` (see
     :func:`stream_freezing`), and the records of any dose refused (kind ``inhibitor_dose``)."""
     if not any(b.kind == "inject" for b in fs.blocks.values()):
         return {}, []
-    carried = water_flows(fs, fluid, streams, steps)
+    carried = water_flows(fs, fluid, streams, steps, outcomes)
     _, block_doses, notes = inhibitor_ratios(fs, streams, steps, carried, params, fluid)
     return ({b: dose_details(d) for b, d in block_doses.items()},
             [w for w in notes if w.kind == "inhibitor_dose"])

@@ -1,0 +1,196 @@
+"""The water carried beside the gas inside the solve (issue 12, item 1).
+
+The stream batches carry the water per dry gas and the free water
+(:class:`letdown.equipment.stream.Carry`); each block passes it on in its own ``run`` (the default
+of :func:`letdown.equipment.common.finish`: a one-inlet block keeps it, a mixer blends; an
+exchanger keeps each side's own; a separator splits it, :mod:`letdown.equipment.watersplit`), and a
+loop settles it in the same tear iteration as its gas.
+
+References: a material balance (water in = water out, exact at steady state), the saturated water
+content of the drum's vapour recomputed here by the Bukacek (1955) correlation of
+:mod:`letdown.fluid.water` (the route the file names, ``gas.water_method``), and the blend of two
+streams worked by hand. The compositions are invented for tests.
+"""
+import numpy as np
+import pytest
+
+from letdown.equipment import Carry, KINDS, flash_stream
+from letdown.equipment.common import WATER_METHOD, finish
+from letdown.equipment.stream import blend
+from letdown.fluid.water import M_WATER, MOL_PER_SM3, water_content
+from letdown.sheet.loader import loads
+from letdown.sheet.solve import solve_cases
+from tests.blocks import fluid
+
+#: A recycle through a separator (fictional): gas cooled and separated, 30 % of the drum's vapour
+#: warmed and sent back to the inlet mixer. The composition is invented for tests.
+RECYCLE = """\
+title: water recycle test (fictional)
+gas:
+  model: peng-robinson
+  composition: %s
+  %s
+feeds:
+  feed: {T: 30 degC, P: 70 barg, flow: 1000 kmol/h}
+equipment:
+  mix:   {kind: mixer, from: [feed, back], to: mixed}
+  chill: {kind: cooler, from: mixed, to: cold, T_out: 5 degC}
+  drum:  {kind: separator, from: cold, to: {vapour: gas, liquid: condensate, water: free-water}}
+  split: {kind: splitter, from: gas, to: {product: 0.7, recycle: rest}}
+  warm:  {kind: heater, from: recycle, to: back, T_out: 30 degC}
+"""
+RICH = ("{methane: 0.82, ethane: 0.08, propane: 0.05, n-butane: 0.025, n-pentane: 0.01, "
+        "nitrogen: 0.01, carbon-dioxide: 0.005}")
+LEAN = "{methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}"
+#: The loop's water settles to 1e-12 relative (letdown.sheet.solve.CARRY_TOLERANCE); a balance over
+#: the loop closes to this [-] (a few such steps of round-off).
+BALANCE = 1e-10
+
+
+def recycle(water="water: {saturated: {T: 30 degC, P: 70 barg}}", comp=RICH):
+    return loads(RECYCLE % (comp, water), source="recycle.yaml")
+
+
+def water_out(res, names):
+    return sum(res.streams[s].carry.water_ratio * res.streams[s].flow
+               + res.streams[s].carry.free_water for s in names)
+
+
+def test_recycle_through_a_separator_settles_its_water_in_the_tear_iteration():
+    fs = recycle()
+    res = solve_cases(fs, margins=True)
+    loop, = res.loops
+    assert loop.converged.all()
+    tear, = loop.tears
+    # the tear stream carries its water out of the solve (the loop's own iteration settled it)
+    assert res.streams[tear].carry is not None
+    # the feed's water: saturated at 30 degC, 70 barg by Bukacek (1955), recomputed here
+    y = float(np.asarray(water_content(None, 303.15, 70e5 + 101325.0)).reshape(-1)[0])
+    feed = res.streams["feed"]
+    w_in = y / (1.0 - y) * feed.flow
+    assert feed.carry.water_ratio == pytest.approx(y / (1.0 - y), rel=1e-14)
+    # steady state: the water in leaves by the product, the condensate and the free water
+    w_out = water_out(res, ["product", "condensate", "free-water"])
+    assert abs(w_out - w_in) <= BALANCE * w_in
+    # the drum's vapour leaves saturated at its T and P (Bukacek), and the recycle keeps it
+    gas = res.streams["gas"]
+    yv = float(np.asarray(water_content(None, gas.T, gas.P)).reshape(-1)[0])
+    assert gas.carry.water_ratio == pytest.approx(yv / (1.0 - yv), rel=1e-12)
+    assert res.streams["back"].carry.water_ratio == pytest.approx(gas.carry.water_ratio,
+                                                                  rel=1e-14)
+    # the mixer blends by flow: mixed = (F_feed r_feed + F_back r_back) / (F_feed + F_back)
+    back = res.streams["back"]
+    by_hand = ((feed.flow * feed.carry.water_ratio + back.flow * back.carry.water_ratio)
+               / (feed.flow + back.flow))
+    assert res.streams["mixed"].carry.water_ratio == pytest.approx(by_hand, rel=1e-14)
+    # the freezing figures read the carried water
+    assert res.freezing["free-water"].water_flow == pytest.approx(
+        res.streams["free-water"].carry.free_water, rel=1e-15)
+    assert float(res.equipment["drum"].details["free_water_mol_s"][0]) > 0.0
+
+
+def test_carrying_the_water_changes_neither_the_gas_nor_the_loop_iterations():
+    fs = recycle()
+    wet = solve_cases(fs, margins=True)
+    dry = solve_cases(fs, margins=False)          # no inject block: no water carried
+    assert dry.streams["back"].carry is None
+    assert wet.loops[0].iterations.tolist() == dry.loops[0].iterations.tolist()
+    for name, s in dry.streams.items():
+        for attr in ("flow", "T", "P", "h"):
+            assert np.array_equal(getattr(s, attr), getattr(wet.streams[name], attr)), (name, attr)
+
+
+def test_a_dry_gas_recycled_reaches_the_feed_water_at_steady_state():
+    # a lean gas, drier than saturated at the drum and with no hydrocarbon liquid: the product
+    # is the only way out, so at steady state it carries exactly the feed's water per dry gas,
+    # while the loop holds more gas than the feed (the tear started with no water)
+    fs = recycle("water: 40 mg/Sm3", comp=LEAN)
+    res = solve_cases(fs, margins=True)
+    r_feed = 40e-6 / M_WATER / MOL_PER_SM3
+    assert res.streams["condensate"].flow == 0.0
+    assert res.streams["free-water"].carry.free_water == 0.0
+    for name in ("mixed", "gas", "product", "back"):
+        assert res.streams[name].carry.water_ratio == pytest.approx(r_feed, rel=1e-11), name
+
+
+def test_every_case_of_a_batch_closes_its_water_balance():
+    # a little fuzz: random feed temperatures, pressures and flows, each case on its own
+    rng = np.random.default_rng(12)
+    n = 6
+    cases = {"feed.T": rng.uniform(288.15, 318.15, n), "feed.P": rng.uniform(40e5, 90e5, n),
+             "feed.flow": rng.uniform(50.0, 500.0, n), "chill.T_out": rng.uniform(268.15, 283.15, n)}
+    res = solve_cases(recycle(""), cases, margins=True, strict=False)
+    ok = res.converged
+    assert ok.sum() >= n - 1
+    feed = res.streams["feed"]
+    # no gas.water: each feed saturated at its own T and P (Bukacek), recomputed here
+    y = np.asarray(water_content(None, feed.T[ok], feed.P[ok]), float)
+    w_in = y / (1.0 - y) * feed.flow[ok]
+    w_out = water_out(res, ["product", "condensate", "free-water"])[ok]
+    assert np.all(np.abs(w_out - w_in) <= BALANCE * w_in)
+
+
+# -- the blocks' own carry ---------------------------------------------------------------------
+def _carrying(stream, r, free=0.0):
+    n = stream.n_cases
+    return stream.with_carry(Carry(np.full(n, r), np.full(n, free)))
+
+
+def test_the_default_rule_keeps_one_inlet_and_blends_several():
+    gas = fluid("lean")
+    n = 2
+    a = _carrying(flash_stream(gas, np.array([10.0, 0.0]), np.tile(gas.zs, (n, 1)),
+                               T=np.full(n, 300.0), P=np.full(n, 50e5)), 1e-3, free=0.5)
+    b = _carrying(flash_stream(gas, np.array([30.0, 5.0]), np.tile(gas.zs, (n, 1)),
+                               T=np.full(n, 290.0), P=np.full(n, 50e5)), 2e-3)
+    # any block kind that does not split water itself (a new kind: a pipe) keeps the inlet's
+    # water per dry gas through finish, and does not carry free water on
+    out = flash_stream(gas, a.flow, a.zs, T=a.T - 5.0, P=a.P - 1e5)
+    kept = finish({"in": a}, {"out": out}, 0.0).outlets["out"].carry
+    assert np.array_equal(kept.water_ratio, a.carry.water_ratio)
+    assert np.array_equal(kept.free_water, np.zeros(n))
+    # a mixer: (10 * 1e-3 + 30 * 2e-3) / 40 = 1.75e-3; the second case 0 * 1e-3 + 5 * 2e-3 over 5
+    mixed = KINDS["mixer"](gas, "m", {"in0": a, "in1": b}, {}).outlets["out"].carry
+    assert mixed.water_ratio == pytest.approx([1.75e-3, 2e-3], rel=1e-15)
+    # a splitter and a throttle keep it
+    split = KINDS["splitter"](gas, "s", {"in": b}, {"fractions": {"x": 0.25, "y": "rest"}})
+    for port in ("x", "y"):
+        assert split.outlets[port].carry.water_ratio == pytest.approx(2e-3, rel=1e-15)
+    thr = KINDS["throttle"](gas, "t", {"in": b}, {"P_out": 20e5})
+    assert thr.outlets["out"].carry.water_ratio == pytest.approx(2e-3, rel=1e-15)
+    # where no inlet flows, the first inlet's ratio (any will do for no flow)
+    assert blend([np.zeros(1), np.zeros(1)], [Carry(np.full(1, 3.0), np.zeros(1)),
+                                              Carry(np.full(1, 4.0), np.zeros(1))]
+                 ).water_ratio.tolist() == [3.0]
+
+
+def test_an_exchanger_keeps_each_sides_own_water():
+    gas = fluid("lean")
+    hot = _carrying(flash_stream(gas, np.array([10.0]), gas.zs[None, :], T=np.array([330.0]),
+                                 P=np.array([50e5])), 1e-3)
+    cold = _carrying(flash_stream(gas, np.array([10.0]), gas.zs[None, :], T=np.array([280.0]),
+                                  P=np.array([50e5])), 4e-4)
+    o = KINDS["exchanger"](gas, "x", {"hot": hot, "cold": cold}, {"duty": 1e4}).outlets
+    assert o["hot"].carry.water_ratio.tolist() == [1e-3]
+    assert o["cold"].carry.water_ratio.tolist() == [4e-4]
+
+
+def test_a_separator_splits_its_inlet_water_and_balances_it():
+    gas = fluid("rich")
+    n = 3
+    inlet = flash_stream(gas, np.full(n, 100.0), np.tile(gas.zs, (n, 1)),
+                         T=np.array([275.0, 280.0, 290.0]), P=np.full(n, 60e5))
+    # wetter than saturation, about saturated, and dry
+    inlet = inlet.with_carry(Carry(np.array([5e-3, 3e-4, 1e-6]), np.zeros(n)))
+    out = KINDS["separator"](gas, "d", {"in": inlet}, {WATER_METHOD: "bukacek"})
+    w_in = inlet.carry.water_ratio * inlet.flow
+    w = {p: out.outlets[p].carry.water_ratio * out.outlets[p].flow + out.outlets[p].carry.free_water
+         for p in ("vapour", "liquid", "water")}
+    assert np.all(np.abs(sum(w.values()) - w_in) <= 1e-12 * w_in)
+    # the vapour holds at most its saturated content at the drum (Bukacek, recomputed here)
+    V = out.outlets["vapour"]
+    y = np.asarray(water_content(None, V.T, V.P), float)
+    assert np.all(V.carry.water_ratio <= y / (1.0 - y) * (1.0 + 1e-14))
+    assert V.carry.water_ratio[0] == pytest.approx(y[0] / (1.0 - y[0]), rel=1e-14)
+    assert w["water"][0] > 0.0 and w["water"][2] == 0.0
+    assert out.details["free_water_mol_s"] == pytest.approx(w["water"], rel=1e-15)
