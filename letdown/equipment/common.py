@@ -46,6 +46,13 @@ TRIAL = "_trial"
 #: Reserved ``params`` entry: the sheet's water-content method (``gas.water_method``), with which a
 #: separator splits the water its inlet carries (:mod:`letdown.equipment.watersplit`).
 WATER_METHOD = "_water_method"
+#: Reserved ``params`` entry: whether a separator splits the inhibitor its inlet carries by the
+#: three-phase equilibrium (any ``inject`` block of the sheet on ``losses: equilibrium``) or sends
+#: it all with the free water (:func:`letdown.equipment.watersplit.split_inhibitor`).
+INHIBITOR_EQUILIBRIUM = "_inhibitor_equilibrium"
+#: Reserved ``params`` entry of an ``inject`` block: the dose rate over the cases [kg/s] the
+#: solver found for it at its protected point downstream (:mod:`letdown.equipment.inject`).
+DOSE_RATE = "_dose_rate"
 #: A vapour fraction strictly between these bounds counts as two phases [-] (flash noise around 0
 #: and 1 is not a second phase; common practice).
 TWO_PHASE_BOUNDS = (1e-9, 1.0 - 1e-9)

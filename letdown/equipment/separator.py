@@ -59,7 +59,7 @@ from ..fluid.components import R
 from ..fluid.flash import is_vapour_like
 from ..fluid.threephase import PHASES, flash_PX_3, phase_properties
 from . import watersplit
-from .common import TINY_FLOW, TRIAL, WATER_METHOD, finish, outlet_pressure, pseudo_critical
+from .common import TINY_FLOW, finish, outlet_pressure, pseudo_critical
 from .stream import StreamBatch
 
 #: Phase properties the fluid's batch ``States`` gives per phase (``States.vapour``/``.liquid``).
@@ -118,7 +118,10 @@ def run(fluid, name: str, inlets, params):
         states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs, T_guess=inlet.T)
         outlets = _three_phase(fluid, inlet, P_out, states, bool(params.get("water_port", True)))
         shift = outlets["vapour"].T - np.asarray(states.T, dtype=float)
-        return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
+        if inlet.carry is not None:       # the inhibitor beside the gas (the water is in it)
+            outlets, _ = watersplit.carry_through(fluid, params, inlet, outlets)
+        return finish(inlets, outlets, 0.0, own_carry=inlet.carry is not None,
+                      dP=inlet.P - P_out,
                       details={"dT_vs_two_phase_K": shift},
                       flags={"three_phase_T_shift": ~(np.abs(shift) <= T_SHIFT_FLAG)
                                                     & (inlet.flow > 0),
@@ -145,10 +148,7 @@ def run(fluid, name: str, inlets, params):
     outlets = {"vapour": vapour, "liquid": liquid, "water": water}
     details = {}
     if inlet.carry is not None:
-        carries, details = watersplit.split(
-            fluid, params.get(WATER_METHOD, "bukacek"), inlet, vapour, liquid,
-            bool(params.get("water_port", True)), trial=bool(params.get(TRIAL, False)))
-        outlets = {port: s.with_carry(carries[port]) for port, s in outlets.items()}
+        outlets, details = watersplit.carry_through(fluid, params, inlet, outlets)
     return finish(inlets, outlets, 0.0, own_carry=inlet.carry is not None, dP=inlet.P - P_out,
                   flags=_single_phase_flags(fluid, inlet, outlets), details=details)
 

@@ -8,20 +8,28 @@ a change makes a new one.
 Every block of :mod:`letdown.equipment` takes and returns stream batches, so that a single solve is
 simply a batch of one and a study of thousands of cases runs the same code.
 
-**The water beside the gas.** The hydrocarbon flash is water-free; a stream may also carry a
-:class:`Carry` (``StreamBatch.carry``): the water per mole of dry gas and the free water with no gas
-to carry it (a separator's ``water`` outlet), over the same cases. The solver attaches it to the
-feeds when the freezing figures are wanted (:mod:`letdown.sheet.solve`), and each block passes it
-on in its own ``run``: :func:`letdown.equipment.common.finish` gives every outlet that has none the
-flow-weighted blend of the inlets' (a one-inlet block keeps it, a mixer blends), an exchanger keeps
-each side's own, a separator splits it (:mod:`letdown.equipment.watersplit`). ``carry`` is None
-where no water is carried (studies without margins, water as a component of the gas).
+**The water and inhibitor beside the gas.** The hydrocarbon flash is water-free; a stream may also
+carry a :class:`Carry` (``StreamBatch.carry``): the water and the hydrate inhibitors (methanol,
+MEG) per mole of dry gas, and the free water and its inhibitor with no gas to carry them (a
+separator's ``water`` outlet), over the same cases. The solver attaches it to the feeds when the
+freezing figures are wanted or an ``inject`` block doses (:mod:`letdown.sheet.solve`), and each
+block passes it on in its own ``run``: :func:`letdown.equipment.common.finish` gives every outlet
+the flow-weighted blend of the inlets' (a one-inlet block keeps it, a mixer blends), an exchanger
+keeps each side's own, a separator splits it (:mod:`letdown.equipment.watersplit`), an ``inject``
+block adds its dose. ``carry`` is None where nothing is carried (studies without margins or
+doses). With water a component of the gas each stream's water is its own (``zs``) and the carry's
+water is NaN (not carried); its inhibitor is carried all the same.
 """
 from __future__ import annotations
 
 from dataclasses import dataclass, fields
 
 import numpy as np
+
+from ..fluid.inhibitor import INHIBITORS
+
+#: The inhibitors a :class:`Carry` holds, in the column order of its inhibitor arrays.
+INHIBITOR_NAMES = tuple(INHIBITORS)
 
 #: Properties copied from the fluid's batch ``States`` into a stream (all SI, molar).
 STATE_FIELDS = ("T", "P", "h", "s", "Z", "density", "molar_mass", "vapour_fraction")
@@ -48,31 +56,43 @@ class Carry:
     free_water : ndarray (n,)
         Free water with no gas to carry it [mol/s]: a separator's ``water`` outlet (or its
         ``liquid`` outlet when it has no ``water`` port and no hydrocarbon liquid); zero elsewhere.
+    inhibitor_ratio : ndarray (n, k)
+        Inhibitor per mole of dry gas [mol/mol], k over :data:`INHIBITOR_NAMES` (default none).
+    free_inhibitor : ndarray (n, k)
+        Inhibitor sent with a separator's free water [mol/s] (default none).
     """
 
     water_ratio: np.ndarray
     free_water: np.ndarray
+    inhibitor_ratio: np.ndarray | None = None
+    free_inhibitor: np.ndarray | None = None
 
     def __post_init__(self):
+        n = np.shape(self.water_ratio)[0]
         for f in fields(self):
-            a = np.array(getattr(self, f.name), dtype=float, copy=True)
+            a = getattr(self, f.name)
+            a = (np.zeros((n, len(INHIBITOR_NAMES))) if a is None
+                 else np.array(a, dtype=float, copy=True))
             a.setflags(write=False)
             object.__setattr__(self, f.name, a)
 
     @classmethod
     def blank(cls, n: int) -> "Carry":
         """``n`` cases of no number (NaN): the carry of failed cases."""
-        return cls(np.full(n, np.nan), np.full(n, np.nan))
+        k = len(INHIBITOR_NAMES)
+        return cls(np.full(n, np.nan), np.full(n, np.nan), np.full((n, k), np.nan),
+                   np.full((n, k), np.nan))
 
     @classmethod
     def zeros(cls, n: int) -> "Carry":
-        """``n`` cases of no water."""
+        """``n`` cases of no water and no inhibitor."""
         return cls(np.zeros(n), np.zeros(n))
 
     def kept(self) -> "Carry":
-        """The water per dry gas kept, no free water (what a block passes from one inlet to its
-        outlet: free water that leaves a separator ends at a product or another separator)."""
-        return Carry(self.water_ratio, np.zeros(self.water_ratio.shape))
+        """The water and inhibitor per dry gas kept, nothing free (what a block passes from one
+        inlet to its outlet: free water that leaves a separator ends at a product or another
+        separator)."""
+        return Carry(self.water_ratio, np.zeros(self.water_ratio.shape), self.inhibitor_ratio)
 
     def take(self, index) -> "Carry":
         return Carry(*(np.asarray(getattr(self, f.name))[index] for f in fields(self)))
@@ -89,8 +109,8 @@ class Carry:
 
 
 def blend(flows, carries) -> Carry:
-    """The flow-weighted mean water per dry gas of several inlets (a mixer's outlet; one inlet:
-    its own), free water not carried on; where no inlet flows, the first inlet's ratio.
+    """The flow-weighted mean water and inhibitor per dry gas of several inlets (a mixer's outlet;
+    one inlet: its own), nothing free carried on; where no inlet flows, the first inlet's ratios.
 
     Parameters
     ----------
@@ -99,11 +119,17 @@ def blend(flows, carries) -> Carry:
     carries : sequence of Carry
     """
     flows = [np.asarray(f, float) for f in flows]
-    ratios = [np.asarray(c.water_ratio, float) for c in carries]
     total = np.sum(flows, axis=0)
-    mixed = np.sum([f * x for f, x in zip(flows, ratios)], axis=0)
-    mixed = np.where(total > 0.0, mixed / np.where(total > 0.0, total, 1.0), ratios[0])
-    return Carry(mixed, np.zeros(total.shape))
+    out = []
+    for name in ("water_ratio", "inhibitor_ratio"):
+        ratios = [np.asarray(getattr(c, name), float) for c in carries]
+        shape = total.shape + (1,) * (ratios[0].ndim - 1)
+        f = [x.reshape(shape) for x in flows]
+        t = total.reshape(shape)
+        mixed = np.sum([a * x for a, x in zip(f, ratios)], axis=0)
+        out.append(np.where(t > 0.0, mixed / np.where(t > 0.0, t, 1.0),
+                            np.broadcast_to(ratios[0], mixed.shape)))
+    return Carry(out[0], np.zeros(total.shape), out[1])
 
 
 @dataclass(frozen=True, eq=False)

@@ -1,4 +1,5 @@
-"""A separator's split of the water carried beside the gas (:class:`letdown.equipment.stream.Carry`).
+"""A separator's split of the water and inhibitor carried beside the gas
+(:class:`letdown.equipment.stream.Carry`).
 
 The hydrocarbon flash stays water-free; the water goes with the streams as a ratio per mole of dry
 gas. A separator (:mod:`letdown.equipment.separator`) takes the free water out, at the drum's T and
@@ -26,6 +27,20 @@ The ``water`` outlet holds no gas (zero flow in the hydrocarbon flash): its wate
 sends the free water with its liquid (as a ratio per mole of hydrocarbon liquid, or as free water
 where there is none).
 
+**Inhibitor** (:func:`split_inhibitor`; ratios per mole of dry gas, :func:`dry_flow`). With
+equilibrium losses (any ``inject`` block of the sheet on ``losses: equilibrium``, the solver says:
+``params[common.INHIBITOR_EQUILIBRIUM]``) the split is the three-phase one at the drum's T and P
+(:func:`letdown.fluid.inhibitor.partition` of the inlet gas with its water and inhibitor): the
+vapour leaves with what the vapour holds, the hydrocarbon liquid with what it dissolves, and the
+aqueous part goes with the free water. Without them (``losses: none`` everywhere: all the inhibitor
+taken to be in the water) the whole inlet inhibitor goes with the free water where the drum drops
+free water, and otherwise stays with the gas, shared by flow. The free water's share leaves by the
+``water`` port (free inhibitor [mol/s], the outlet holding no gas), or with the hydrocarbon liquid
+when the drum has no ``water`` port. The free water itself is split by :func:`split` (the file's
+water-content route), the inhibitor by the flash: the two agree to the flash's own water content
+(tests/test_threephase.py), not exactly. With water a component of the gas (a three-phase drum) the
+water is the streams' own and only the inhibitor is split here.
+
 Engineering estimates; designs must follow local codes and be checked by qualified, licensed staff.
 """
 from __future__ import annotations
@@ -33,9 +48,11 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import ConvergenceError
+from ..fluid.inhibitor import partition
 from ..fluid.threephase import water_in_liquid
 from ..fluid.water import M_WATER, TC_WATER, water_content
-from .stream import Carry
+from .common import INHIBITOR_EQUILIBRIUM, TRIAL, WATER_METHOD
+from .stream import INHIBITOR_NAMES, Carry
 
 #: The keys of the split a separator reports in its details (each over the cases, [mol/s]), and
 #: the free water in kg/s.
@@ -160,3 +177,128 @@ def split(fluid, method: str, inlet, vapour, liquid, water_port: bool, trial: bo
                "water_in_liquid_mol_s": in_liquid, "free_water_mol_s": excess,
                "free_water_kg_s": excess * M_WATER}
     return carries, details
+
+
+def dry_flow(fluid, stream) -> np.ndarray:
+    """Molar flow of a stream's dry gas [mol/s]: its flow, less its water where water is a
+    component of the gas (the basis of every ratio per dry gas)."""
+    F = np.asarray(stream.flow, float)
+    if "water" in fluid.components:
+        return F * (1.0 - np.asarray(stream.zs, float)[:, fluid.components.index("water")])
+    return F
+
+
+def _water_ratio(fluid, stream) -> np.ndarray:
+    """Water per dry gas of a stream whose water is a component of the gas [mol/mol]."""
+    zw = np.asarray(stream.zs, float)[:, fluid.components.index("water")]
+    return zw / np.maximum(1.0 - zw, 1e-300)
+
+
+def split_inhibitor(fluid, inlet, vapour, liquid, water_port: bool, equilibrium: bool,
+                    water_in, drops, trial: bool = False) -> dict:
+    """Split a separator's inlet inhibitor between its outlets (module docstring).
+
+    Parameters
+    ----------
+    fluid : Fluid
+    inlet, vapour, liquid : StreamBatch
+        The inlet (carrying its inhibitor) and the solved vapour and hydrocarbon-liquid outlets.
+    water_port : bool
+        Whether the ``water`` outlet is connected.
+    equilibrium : bool
+        Split by the three-phase equilibrium (``losses: equilibrium``) or all with the free
+        water.
+    water_in : ndarray (n,)
+        The inlet's water per dry gas [mol/mol].
+    drops : ndarray of bool (n,)
+        Cases in which the drum drops free water.
+    trial : bool
+        A trial pass: a partition that does not settle gives NaN instead of an error.
+
+    Returns
+    -------
+    dict
+        Port -> (inhibitor per dry gas (n, k) [mol/mol], free inhibitor (n, k) [mol/s]).
+
+    Raises
+    ------
+    ConvergenceError
+        The three-phase partition did not converge for some case (not in a trial pass).
+    """
+    n, k = inlet.n_cases, len(INHIBITOR_NAMES)
+    zero = np.zeros((n, k))
+    r_in = np.broadcast_to(np.asarray(inlet.carry.inhibitor_ratio, float), (n, k))
+    F = dry_flow(fluid, inlet)[:, None]
+    FV = dry_flow(fluid, vapour)[:, None]
+    FL = dry_flow(fluid, liquid)[:, None]
+    to_V, to_L, to_W = zero.copy(), zero.copy(), zero.copy()
+    rows = np.flatnonzero((r_in.sum(axis=1) > 0.0) & (F[:, 0] > 0.0))
+    if rows.size and equilibrium:
+        T, P = np.asarray(vapour.T, float), np.asarray(vapour.P, float)
+        if trial:
+            rows = rows[np.isfinite(T[rows]) & np.isfinite(P[rows]) & (P[rows] > 0.0)
+                        & np.isfinite(np.asarray(water_in, float)[rows])]
+        try:
+            p = partition(fluid, T[rows], P[rows], np.asarray(inlet.zs, float)[rows],
+                          np.asarray(water_in, float)[rows], r_in[rows])
+            to_V[rows], to_L[rows], to_W[rows] = p.vapour, p.hc_liquid, p.aqueous
+        except ConvergenceError:
+            if not trial:
+                raise
+            to_V[rows] = to_L[rows] = to_W[rows] = np.nan
+    elif rows.size:
+        d = np.asarray(drops, bool)[rows, None]
+        to_W[rows] = np.where(d, r_in[rows], 0.0)
+        to_V[rows] = np.where(d, 0.0, r_in[rows] * FV[rows] / F[rows])
+        to_L[rows] = np.where(d, 0.0, r_in[rows] * FL[rows] / F[rows])
+    per = lambda amount, flow: np.where(flow > 0.0, amount * F / np.where(flow > 0.0, flow, 1.0),
+                                        r_in)
+    out = {"vapour": (per(to_V, FV), zero)}
+    if not water_port:
+        out["liquid"] = (per(to_L + to_W, FL), np.where(FL > 0.0, 0.0, (to_L + to_W) * F))
+        out["water"] = (zero, zero)
+    else:
+        out["liquid"] = (per(to_L, FL), zero)
+        out["water"] = (zero.copy(), to_W * F)
+    return out
+
+
+def carry_through(fluid, params, inlet, outlets) -> tuple[dict, dict]:
+    """A separator's outlets with the water and inhibitor its inlet carries split between them
+    (:func:`split`, :func:`split_inhibitor`), and the water split's details (empty with water a
+    component of the gas, whose water the streams hold themselves).
+
+    Parameters
+    ----------
+    fluid : Fluid
+    params : Mapping
+        The separator's parameters: ``water_port``, and the solver's ``WATER_METHOD``,
+        ``INHIBITOR_EQUILIBRIUM`` and ``TRIAL``.
+    inlet : StreamBatch
+        Carrying a :class:`Carry`.
+    outlets : dict
+        ``vapour``, ``liquid``, ``water`` -> StreamBatch (solved).
+    """
+    n = inlet.n_cases
+    water_port = bool(params.get("water_port", True))
+    trial = bool(params.get(TRIAL, False))
+    vapour, liquid = outlets["vapour"], outlets["liquid"]
+    if "water" in fluid.components:
+        nan = np.full(n, np.nan)
+        water = {p: (nan, nan) for p in outlets}
+        details = {}
+        water_in = _water_ratio(fluid, inlet)
+        W = outlets["water"]
+        drops = ((np.asarray(W.zs, float)[:, fluid.components.index("water")]
+                  * np.asarray(W.flow, float)) > 0.0 if water_port else np.zeros(n, bool))
+    else:
+        carries, details = split(fluid, params.get(WATER_METHOD, "bukacek"), inlet, vapour,
+                                 liquid, water_port, trial=trial)
+        water = {p: (c.water_ratio, c.free_water) for p, c in carries.items()}
+        water_in = inlet.carry.water_ratio
+        drops = np.asarray(details["free_water_mol_s"], float) > 0.0
+    inhibitor = split_inhibitor(fluid, inlet, vapour, liquid, water_port,
+                                bool(params.get(INHIBITOR_EQUILIBRIUM, True)), water_in, drops,
+                                trial=trial)
+    return ({p: s.with_carry(Carry(*water[p], *inhibitor[p])) for p, s in outlets.items()},
+            details)

@@ -126,7 +126,8 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..equipment.inject import PARAM_DETAILS, ProtectedPoint, dose
-from ..equipment.stream import Carry
+from ..equipment.stream import INHIBITOR_NAMES, Carry
+from ..equipment.watersplit import dry_flow
 from ..errors import ConvergenceError, InputError
 from ..fluid.hydrate import LANGMUIR
 from ..fluid.aqueous import density as aqueous_density, freezing_point
@@ -145,16 +146,10 @@ ICE_T = 273.15
 #: (common practice; 3-5 K), covering the prediction's own error of 1-2 K and the swing of the
 #: gas temperature.
 DEFAULT_HYDRATE_MARGIN = 3.0
-#: A loop's water ratios are iterated until no ratio changes by more than this, relative [-] ...
-LOOP_TOLERANCE = 1e-12
-#: ... or for this many passes (a recycle of fraction f converges as f^k; 500 passes cover f = 0.95).
-LOOP_MAX_PASSES = 500
 #: A stream within this of its water dew point counts as at it [K]: the dew point is found by
 #: bisection to 1e-7 K (:data:`letdown.fluid.water.DEW_T_TOL`), so a feed saturated at its own
 #: temperature lands a few 1e-8 K either side.
 DEW_T_SLACK = 1e-6
-#: The inhibitors carried per stream, in the column order of the inhibitor ratios.
-INHIBITOR_NAMES = tuple(INHIBITORS)
 #: Column of methanol in the inhibitor arrays (the rest is MEG).
 METHANOL = INHIBITOR_NAMES.index("methanol")
 
@@ -284,49 +279,6 @@ def _water_notes(fs, streams) -> list:
                f"temperature and pressure ({fs.gas.water_method}); hydrate and water dew point "
                "margins follow from that", tuple(range(next(iter(streams.values())).n_cases)),
         kind="water_assumed", severity="note")]
-
-
-def _mix(fs, block, streams, r, n, k=None):
-    """Carry the per-stream ratios ``r`` per dry gas (arrays (n,), or (n, k) when ``k`` is given)
-    through a block; a stream not yet reached counts as zero."""
-    spec = fs.blocks[block]
-    zero = np.zeros(n) if k is None else np.zeros((n, k))
-    if spec.kind == "exchanger":
-        for side in ("hot", "cold"):
-            r[spec.outlets[side]] = r.get(spec.inlets[side], zero)
-        return
-    flows = [np.asarray(streams[s].flow, float) for s in spec.inlets.values()]
-    ratios = [np.asarray(r.get(s, zero), float) for s in spec.inlets.values()]
-    shape = (n,) + (1,) * (max(x.ndim for x in ratios) - 1)
-    flows = [f.reshape(shape) for f in flows]
-    total = np.sum(flows, axis=0)
-    blend = np.sum([f * x for f, x in zip(flows, ratios)], axis=0)
-    mixed = np.where(total > 0.0, blend / np.where(total > 0.0, total, 1.0),
-                     np.broadcast_to(ratios[0], blend.shape))
-    for s in spec.outlets.values():
-        r[s] = mixed
-
-
-def _carry_steps(fs, steps, r, through, notes, what):
-    """Run ``through(block)`` over the solve order, iterating loops to a fixed point of ``r``."""
-    for step in steps:
-        if not step.is_loop:
-            through(step.blocks[0])
-            continue
-        inside = [s for b in step.blocks for s in fs.blocks[b].outlets.values()]
-        for _ in range(LOOP_MAX_PASSES):
-            before = {s: r.get(s) for s in inside}
-            for b in step.blocks:
-                through(b)
-            change = max(float(np.max(np.abs(r[s] - before[s]) / np.maximum(np.abs(r[s]), 1e-30)))
-                         if before[s] is not None else np.inf for s in inside)
-            if change <= LOOP_TOLERANCE:
-                break
-        else:
-            notes.append(WarningRecord(", ".join(step.blocks),
-                                       f"the {what} carried round this loop did not settle in "
-                                       f"{LOOP_MAX_PASSES} passes (change {change:.3g})",
-                                       kind="water_loop", severity="check"))
 
 
 @dataclass(frozen=True, eq=False)
@@ -482,66 +434,6 @@ def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:
                           dry_flow(fluid, streams[inlet]))
 
 
-def dry_flow(fluid, stream) -> np.ndarray:
-    """Molar flow of a stream's dry gas [mol/s]: its flow, less its water where water is a
-    component of the gas (the basis of every ratio per dry gas)."""
-    F = np.asarray(stream.flow, float)
-    if "water" in fluid.components:
-        return F * (1.0 - np.asarray(stream.zs, float)[:, fluid.components.index("water")])
-    return F
-
-
-def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium):
-    """Split a separator's inlet inhibitor between its outlets (water beside the gas or a
-    component of it; ratios per mole of dry gas, :func:`dry_flow`).
-
-    With equilibrium losses (any ``inject`` block on ``losses: equilibrium``) the split is the
-    three-phase one at the drum's T and P (:func:`letdown.fluid.inhibitor.partition` of the inlet
-    gas with its water and inhibitor): the vapour leaves with what the vapour holds, the
-    hydrocarbon liquid with what it dissolves, and the aqueous part goes with the free water.
-    Without them (``losses: none`` everywhere: all the inhibitor taken to be in the water) the
-    whole inlet inhibitor goes with the free water where the drum drops free water, and otherwise
-    stays with the gas as in :func:`_mix`. The free water's share leaves by the ``water`` port (a
-    flow in ``free`` [mol/s], the outlet holding no gas), or with the hydrocarbon liquid when the
-    drum has no ``water`` port. The free water itself is split by :func:`_separate` (the file's
-    water-content route), the inhibitor by the flash: the two agree to the flash's own water
-    content (tests/test_threephase.py), not exactly."""
-    spec = fs.blocks[block]
-    inlet = spec.inlets["in"]
-    vap, liq = spec.outlets["vapour"], spec.outlets["liquid"]
-    wat = spec.outlets.get("water")
-    zero = np.zeros((n, k))
-    r_in = np.broadcast_to(np.asarray(r.get(inlet, zero), float), (n, k))
-    F = dry_flow(fluid, streams[inlet])[:, None]
-    FV = dry_flow(fluid, streams[vap])[:, None]
-    FL = dry_flow(fluid, streams[liq])[:, None]
-    to_V, to_L, to_W = zero.copy(), zero.copy(), zero.copy()
-    rows = np.flatnonzero((r_in.sum(axis=1) > 0.0) & (F[:, 0] > 0.0))
-    if rows.size and equilibrium:
-        V = streams[vap]
-        p = partition(fluid, np.asarray(V.T, float)[rows], np.asarray(V.P, float)[rows],
-                      np.asarray(streams[inlet].zs, float)[rows],
-                      np.asarray(water.ratios[inlet], float)[rows], r_in[rows])
-        to_V[rows], to_L[rows], to_W[rows] = p.vapour, p.hc_liquid, p.aqueous
-    elif rows.size:
-        split = water.separators.get(block)
-        drops = (np.asarray(split["free_water_mol_s"], float) > 0.0 if split is not None
-                 else np.zeros(n, bool))
-        to_W[rows] = np.where(drops[rows, None], r_in[rows], 0.0)
-        to_V[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FV[rows] / F[rows])
-        to_L[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FL[rows] / F[rows])
-    per = lambda amount, flow: np.where(flow > 0.0, amount * F / np.where(flow > 0.0, flow, 1.0),
-                                        r_in)
-    r[vap] = per(to_V, FV)
-    if wat is None:
-        r[liq] = per(to_L + to_W, FL)
-        free[liq] = np.where(FL > 0.0, 0.0, (to_L + to_W) * F)
-    else:
-        r[liq] = per(to_L, FL)
-        r[wat] = zero.copy()
-        free[wat] = to_W * F
-
-
 #: An inhibitor dose above this fraction of the mass of the gas it is injected into is refused as
 #: not a hydrate-inhibitor dose [kg/kg]. Methanol doses at let-down stations and chilling trains
 #: are of the order of a kilogram per thousand standard cubic metres (about 0.1 % of the gas
@@ -589,86 +481,63 @@ def _check_dose(block, d, inlet, water_kg_s, why=None) -> list:
     return out
 
 
-def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=None
-                     ) -> tuple[dict, dict, list]:
-    """Inhibitor per dry gas of every stream, and the dose of every ``inject`` block.
-
-    Each ``inject`` block adds ``rate / (M F)`` moles of its inhibitor per mole of dry gas (F the
-    stream's molar flow); a separator splits it with the water (:func:`_separate_inhibitor`; not
-    with water as a component, where the three-phase drum does the split); the other blocks carry
-    it as they carry the water (:func:`_mix`). The rate of a block given a ``depression``, and
-    where its inhibitor goes, follow from the coldest point downstream of it
-    (:func:`protected_point`, :func:`letdown.equipment.inject.dose`).
+def find_doses(fs, fluid, streams, steps, params=None, outcomes=None) -> tuple[dict, list]:
+    """The dose of every ``inject`` block: its protected point found downstream of it
+    (:func:`protected_point`, a search over the graph: it stays in the sheet layer), its dose by
+    the block's own arithmetic (:func:`letdown.equipment.inject.dose`), and the checks
+    (:func:`_check_dose`). The inhibitor changes neither the gas nor the water, so the streams of
+    any pass of the blocks serve; the solver then runs the blocks with the rates found, and each
+    ``inject`` block adds its dose in its own run (:mod:`letdown.sheet.solve`, Doses).
 
     Parameters
     ----------
-    fs, streams, steps
-        As for :func:`water_flows`.
-    water : WaterCarry
-        The water of every stream and each separator's split (:func:`water_flows`).
+    fs, fluid, streams, steps
+        As for :func:`water_flows`; ``steps`` gives the order of the blocks.
     params : Mapping[str, Mapping], optional
-        ``inject`` block name -> its parameters over the cases (SI); default the file's.
-    fluid : Fluid
-        The sheet's fluid (needed by any ``inject`` block).
-    free : dict, optional
-        Filled with stream name -> inhibitor sent with a separator's free water, ndarray (n, k)
-        [mol/s] (a ``water`` outlet, or a ``liquid`` outlet with no hydrocarbon liquid).
+        ``inject`` block name -> its parameters over the cases (SI; :func:`inject_params`);
+        default the file's.
+    outcomes : Mapping[str, BlockOutcome], optional
+        As for :func:`water_flows`.
 
     Returns
     -------
-    ratios : dict
-        Stream name -> ndarray (n, k) [mol/mol], k over :data:`INHIBITOR_NAMES`.
     doses : dict
-        ``inject`` block name -> the :func:`letdown.equipment.inject.dose` dict.
+        ``inject`` block name -> the :func:`letdown.equipment.inject.dose` dict (a refused rate
+        NaN).
     notes : list of WarningRecord
+        Refused doses (``inhibitor_dose``) and large losses to the hydrocarbon liquid
+        (``inhibitor_hc_loss``).
     """
     n = next(iter(streams.values())).n_cases
-    k = len(INHIBITOR_NAMES)
-    r: dict = {}
     doses: dict = {}
     notes: list = []
-
-    free = {} if free is None else free
-    warned: set = set()
-
-    # the loss treatment of the sheet (as stream_freezing decides it): equilibrium if any inject
-    # block asks for it (an invalid value is refused, with its place, by the block's dose below)
-    equilibrium = any(str((params or {}).get(b, spec.params).get("losses", "equilibrium"))
-                      .strip().lower() == "equilibrium"
-                      for b, spec in fs.blocks.items() if spec.kind == "inject")
-
-    def through(block):
+    water = water_flows(fs, fluid, streams, steps, outcomes)
+    order = [b for step in steps for b in step.blocks]
+    for block in order:
         spec = fs.blocks[block]
-        if spec.kind == "separator" and fluid is not None:
-            _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium)
-            return
         if spec.kind != "inject":
-            _mix(fs, block, streams, r, n, k)
-            return
+            continue
         inlet = spec.inlets["in"]
-        flow = dry_flow(fluid, streams[inlet])
-        if block not in doses:
+        try:
+            given = (params or {}).get(block, spec.params)
+            point = protected_point(fs, fluid, streams, water.ratios, block)
+            water_kg_s = water.flow(inlet, streams[inlet]) * M_WATER
             try:
-                given = (params or {}).get(block, spec.params)
-                point = protected_point(fs, fluid, streams, water.ratios, block)
-                water_kg_s = water.flow(inlet, streams[inlet]) * M_WATER
-                try:
-                    doses[block] = dose(block, given, water_kg_s, point)
-                    why = None
-                except ConvergenceError as exc:
-                    # refused below in every case: no number comes out of a failed search
-                    doses[block] = dose(block, given, water_kg_s, ProtectedPoint(
-                        fluid, point.stream, np.full(n, np.nan), point.P, point.zs,
-                        point.water_ratio, point.flow))
-                    why = f"the dose search did not converge ({exc.message})"
-            except InputError as exc:
-                w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
-                raise exc.located(file=(w.file if w else None) or fs.source,
-                                  line=w.line if w else spec.where.line) from None
-            notes.extend(_check_dose(block, doses[block], streams[inlet], water_kg_s, why))
+                doses[block] = dose(block, given, water_kg_s, point)
+                why = None
+            except ConvergenceError as exc:
+                # refused below in every case: no number comes out of a failed search
+                doses[block] = dose(block, given, water_kg_s, ProtectedPoint(
+                    fluid, point.stream, np.full(n, np.nan), point.P, point.zs,
+                    point.water_ratio, point.flow))
+                why = f"the dose search did not converge ({exc.message})"
+        except InputError as exc:
+            w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
+            raise exc.located(file=(w.file if w else None) or fs.source,
+                              line=w.line if w else spec.where.line) from None
+        notes.extend(_check_dose(block, doses[block], streams[inlet], water_kg_s, why))
         d = doses[block]
-        if block not in warned and d["losses"] == "equilibrium":
-            warned.add(block)
+        if d["losses"] == "equilibrium":
             aq = np.asarray(d["aqueous_kg_s"], float)
             lost = np.nan_to_num(np.asarray(d["hc_liquid_kg_s"], float))
             if np.any(lost > aq):
@@ -678,19 +547,18 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
                                                   "methanol-hydrocarbon kij; README, closing "
                                                   "limits); check the rate against field data",
                                            kind="inhibitor_hc_loss", severity="check"))
-        j = INHIBITOR_NAMES.index(d["inhibitor"])
-        added = np.zeros((n, k))
-        added[:, j] = np.where(flow > 0.0, np.nan_to_num(d["rate_kg_s"])
-                               / (INHIBITORS[d["inhibitor"]].M * 1e-3)
-                               / np.where(flow > 0.0, flow, 1.0), 0.0)
-        r[spec.outlets["out"]] = np.asarray(r.get(inlet, np.zeros((n, k))), float) + added
+    return doses, notes
 
-    if any(b.kind == "inject" for b in fs.blocks.values()):
-        _carry_steps(fs, steps, r, through, notes, "inhibitor")
-    for name in streams:
-        r.setdefault(name, np.zeros((n, k)))
-        r[name] = np.broadcast_to(r[name], (n, k)).astype(float)
-    return r, doses, notes
+
+def inhibitor_carried(fs, streams) -> tuple[dict, dict]:
+    """Inhibitor per dry gas of every stream, ndarray (n, k) [mol/mol] (k over
+    :data:`INHIBITOR_NAMES`), and the inhibitor sent with each separator's free water, ndarray
+    (n, k) [mol/s] (its ``water`` outlet, or its ``liquid`` outlet without one), as the solve
+    carried them (:class:`letdown.equipment.stream.Carry`)."""
+    ratios = {s: np.asarray(b.carry.inhibitor_ratio, float) for s, b in streams.items()}
+    free = {s: np.asarray(streams[s].carry.free_inhibitor, float)
+            for s in _drains(fs).values() if s in streams}
+    return ratios, free
 
 
 def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
@@ -833,8 +701,8 @@ def _hydrate_Ts(fluid, P, zs, aw=None, xm=None) -> tuple:
     return T, st, failed, aw
 
 
-def stream_freezing(fs, fluid, streams, steps, doses=None, params=None, outcomes=None
-                    ) -> tuple[dict, list]:
+def stream_freezing(fs, fluid, streams, steps, doses=None, params=None, outcomes=None,
+                    found=None) -> tuple[dict, list]:
     """Water, inhibitor, water dew point and hydrate temperature of every stream.
 
     The hydrate temperature uses the water activity of the stream's free water with its inhibitor
@@ -854,9 +722,11 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None, outcomes
         the water beside the gas the separator reports its split itself,
         :mod:`letdown.equipment.watersplit`).
     params : Mapping[str, Mapping], optional
-        As for :func:`inhibitor_ratios`.
+        As for :func:`find_doses`.
     outcomes : Mapping[str, BlockOutcome], optional
         As for :func:`water_flows`.
+    found : tuple, optional
+        The doses and their notes (:func:`find_doses`) the solver found; default found here.
 
     Returns
     -------
@@ -867,9 +737,13 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None, outcomes
     """
     carried = water_flows(fs, fluid, streams, steps, outcomes)
     ratios, notes = carried.ratios, carried.notes
-    free_inh: dict = {}
-    inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, carried, params, fluid,
-                                                   free=free_inh)
+    dosing = any(b.kind == "inject" for b in fs.blocks.values())
+    if found is None and dosing:
+        found = find_doses(fs, fluid, streams, steps, params, outcomes)
+    block_doses, inh_notes = found if found is not None else ({}, [])
+    inh, free_inh = inhibitor_carried(fs, streams)
+    if not dosing:
+        free_inh = {}
     notes.extend(inh_notes)
     names = list(streams)
     n = streams[names[0]].n_cases
@@ -966,14 +840,15 @@ def inject_params(fs, outcomes) -> dict:
     return out
 
 
-def inject_doses(fs, fluid, streams, steps, params=None, outcomes=None) -> dict:
+def inject_doses(fs, fluid, streams, steps, params=None, outcomes=None, found=None) -> dict:
     """The ``inject`` blocks' details without the hydrate solves (for a solve without margins):
     ``inhibitor_rate_kg_s``, ``inhibitor_wt_pct``, ``hydrate_depression_K`` (see
-    :func:`stream_freezing`), and the records of any dose refused (kind ``inhibitor_dose``)."""
+    :func:`stream_freezing`), and the records of any dose refused (kind ``inhibitor_dose``);
+    ``found`` as for :func:`stream_freezing`."""
     if not any(b.kind == "inject" for b in fs.blocks.values()):
         return {}, []
-    carried = water_flows(fs, fluid, streams, steps, outcomes)
-    _, block_doses, notes = inhibitor_ratios(fs, streams, steps, carried, params, fluid)
+    block_doses, notes = found if found is not None else find_doses(fs, fluid, streams, steps,
+                                                                    params, outcomes)
     return ({b: dose_details(d) for b, d in block_doses.items()},
             [w for w in notes if w.kind == "inhibitor_dose"])
 

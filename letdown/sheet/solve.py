@@ -14,11 +14,21 @@ Loops
         x_{k+1} = q x_k + (1 - q) g_k
 
     starting with one plain substitution. Cases that have converged are masked out; the others go on.
-    When the water is carried (:class:`letdown.equipment.stream.Carry`: with the freezing margins
-    or an ``inject`` block), each tear also carries its water per dry gas and its free water, which
-    settle in the same iterations (to :data:`CARRY_TOLERANCE`); a case whose gas has settled
-    before its water keeps its gas iterate and runs carry passes until the water settles (its
-    iteration count and residual are those of the gas).
+    When water and inhibitor are carried (:class:`letdown.equipment.stream.Carry`: with the
+    freezing margins or an ``inject`` block), each tear also carries its water and inhibitor per
+    dry gas and its free water and inhibitor, which settle in the same iterations (to
+    :data:`CARRY_TOLERANCE`); a case whose gas has settled before its water keeps its gas iterate
+    and runs carry passes until the water settles (its iteration count and residual are those of
+    the gas).
+Doses
+    An ``inject`` block sized by ``depression`` protects the coldest gas-carrying stream downstream
+    of it, solved after it. The solve therefore runs once, the protected point of each such block
+    is found from it (:func:`letdown.sheet.freezing.find_doses`; the block's own
+    :func:`letdown.equipment.inject.dose` does the arithmetic), and the blocks run once more with
+    the rates found (``params[common.DOSE_RATE]``), which each ``inject`` block adds to the
+    inhibitor it carries. The inhibitor changes neither the gas nor the water, so that pass
+    repeats every other number (its loops converge in the same iterations; the goals keep the
+    values they found).
 Failed cases
     Unless the solve is strict, a case that a block refuses (``InputError`` naming ``cases``) or
     whose loop does not converge leaves the pass: it is recorded with its reason and the step is
@@ -40,14 +50,16 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..equipment import KINDS, BlockOutcome, Carry, StreamBatch, closures, flash_stream
-from ..equipment.common import BY_GOAL, TINY_FLOW, TRIAL, WATER_METHOD
+from ..equipment.common import (BY_GOAL, DOSE_RATE, INHIBITOR_EQUILIBRIUM, TINY_FLOW, TRIAL,
+                                WATER_METHOD)
+from ..equipment.stream import INHIBITOR_NAMES
 from ..fluid.rootfind import bracketed_root
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
 from ..fluid.models import out_of_range
-from .freezing import (basis, feed_carries, freezing_warnings, inject_doses, inject_params,
-                       stream_freezing)
+from .freezing import (basis, feed_carries, find_doses, freezing_warnings, inject_doses,
+                       inject_params, stream_freezing)
 from .blockflags import FLAG_KINDS, flag_warning, limit_warnings  # noqa: F401 (FLAG_KINDS: block flag -> kind)
 from .graph import build_graph, solve_order
 from .modelchoice import solve_default_model
@@ -180,8 +192,7 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
     base, n = _case_arrays(fs, cases)
     # the water beside the gas is carried through the blocks when the margins want it or an
     # inject block sizes a dose on it; with water a component of the gas each stream has its own
-    carry = ((margins or any(b.kind == "inject" for b in fs.blocks.values()))
-             and "water" not in fluid.components)
+    carry = margins or any(b.kind == "inject" for b in fs.blocks.values())
     engine = _Engine(fs, fluid, base, n, strict, carry=carry)
     ev = engine.evaluate(np.arange(n), {}, tuple(enumerate(fs.goals)))
     return engine.result(ev, margins=margins)
@@ -392,8 +403,16 @@ class _Engine:
     def __init__(self, fs: Flowsheet, fluid: Fluid, base: dict, n: int, strict: bool,
                  carry: bool = False):
         self.fs, self.fluid, self.base, self.n, self.strict = fs, fluid, base, n, strict
-        # whether the streams carry the water beside the gas (letdown.equipment.stream.Carry)
+        # whether the streams carry the water and inhibitor beside the gas (letdown.equipment.
+        # stream.Carry); its water, unless water is a component of the gas (then each stream's own)
         self.carry = carry
+        self.carry_water = carry and "water" not in fluid.components
+        # the sheet's inhibitor split: by the equilibrium if any inject block counts its losses
+        self.equilibrium = any(
+            str(spec.params.get("losses", "equilibrium")).strip().lower() == "equilibrium"
+            for spec in fs.blocks.values() if spec.kind == "inject")
+        # inject block -> the dose rate found for it over the n cases [kg/s] (the second pass)
+        self.dose_rates: dict = {}
         # loops whose water had not settled after CARRY_MAX_PASSES: (blocks, change)
         self.carry_unsettled: list = []
         self.G = build_graph(fs)
@@ -441,6 +460,9 @@ class _Engine:
         params[TRIAL] = self._trial > 0
         if self.carry:
             params[WATER_METHOD] = self.fs.gas.water_method
+            params[INHIBITOR_EQUILIBRIUM] = self.equilibrium
+            if name in self.dose_rates:
+                params[DOSE_RATE] = self.dose_rates[name][sel]
         return params
 
     def _locate(self, exc: InputError, name: str) -> InputError:
@@ -489,9 +511,13 @@ class _Engine:
             for name, (values, zs) in feeds.items():
                 streams[name] = flash_stream(self.fluid, values["flow"][alive], zs[alive],
                                              T=values["T"][alive], P=values["P"][alive])
-            if self.carry:
+            if self.carry_water:
                 for name, c in feed_carries(self.fs, self.fluid, streams).items():
                     streams[name] = streams[name].with_carry(c)
+            elif self.carry:      # water a component: each stream's own water, not carried
+                for name, st in streams.items():
+                    nan = np.full(st.n_cases, np.nan)
+                    streams[name] = st.with_carry(Carry(nan, nan))
         outcomes: dict = {}
         loops = []                     # (record, the cases it was made for)
 
@@ -616,7 +642,8 @@ class _Engine:
         """Starting value of a tear stream: its ``guesses`` entry, else the loop's main inlet."""
         m = len(sel)
         # the water of a tear starts from none (as a stream not yet reached)
-        water = Carry.zeros(m) if self.carry else None
+        water = None if not self.carry else Carry.zeros(m) if self.carry_water else Carry(
+            np.full(m, np.nan), np.full(m, np.nan))
         if tear in self.fs.guesses:
             g = self.fs.guesses[tear]
             return flash_stream(self.fluid, np.full(m, g.flow), np.tile(self.guess_zs[tear], (m, 1)),
@@ -638,15 +665,22 @@ class _Engine:
         zs = np.stack([s.zs for s in external])[main, pick]
         return flash_stream(self.fluid, flows.sum(axis=0), zs, T=T, P=P).with_carry(water)
 
+    def _carry_width(self) -> int:
+        """Variables of one tear's carry: water per dry gas and free water (when the water is
+        carried), inhibitor per dry gas and free inhibitor (k each)."""
+        return (2 if self.carry_water else 0) + 2 * len(INHIBITOR_NAMES)
+
     def _pack(self, tears) -> np.ndarray:
         """Tear streams -> variables (m, n_tears * (nc + 2)): component flows, P, h; then, when
-        the water is carried, (m, 2 n_tears) more: each tear's water per dry gas and free water."""
+        water and inhibitor are carried, :meth:`_carry_width` more per tear."""
         x = np.concatenate([np.column_stack([s.component_flows, s.P, s.h]) for s in tears], axis=1)
         if not self.carry:
             return x
         m = x.shape[0]
         carries = [Carry.zeros(m) if s.carry is None else s.carry for s in tears]
-        return np.concatenate([x] + [np.column_stack([c.water_ratio, c.free_water])
+        water = (lambda c: [c.water_ratio, c.free_water]) if self.carry_water else (lambda c: [])
+        return np.concatenate([x] + [np.column_stack(water(c) + [c.inhibitor_ratio,
+                                                                 c.free_inhibitor])
                                      for c in carries], axis=1)
 
     def _unpack(self, x, zs_fallback, T_guess) -> list:
@@ -661,10 +695,16 @@ class _Engine:
             out.append(flash_stream(self.fluid, flow, zs, P=block[:, nc], h=block[:, nc + 1],
                                     T_guess=T0))
         if self.carry:
-            G = len(out) * (nc + 2)
-            out = [s.with_carry(Carry(np.maximum(x[:, G + 2 * t], 0.0),
-                                      np.maximum(x[:, G + 2 * t + 1], 0.0)))
-                   for t, s in enumerate(out)]
+            G, w, k = len(out) * (nc + 2), self._carry_width(), len(INHIBITOR_NAMES)
+            carried = []
+            for t, s in enumerate(out):
+                c = np.maximum(x[:, G + t * w: G + (t + 1) * w], 0.0)
+                if self.carry_water:
+                    water, c = (c[:, 0], c[:, 1]), c[:, 2:]
+                else:
+                    water = (np.full(c.shape[0], np.nan),) * 2
+                carried.append(s.with_carry(Carry(*water, c[:, :k], c[:, k:])))
+            out = carried
         return out
 
     def _scales(self, tears) -> tuple[np.ndarray, np.ndarray]:
@@ -974,8 +1014,10 @@ class _Engine:
                         raise ConvergenceError(text + f"{value[i]:.3g} (limit {limit:g})"
                                                + (f" in case {i}" if n > 1 else ""))
                     ev.fail(bad, [text + f"{v:.3g} (limit {limit:g})" for v in value[bad]])
+        found = self._doses(ev)
         if np.all(ev.ok):
-            result = self._assemble(ev, margins, ev.goals, ev.loops, ev.ok, ev.reasons)
+            result = self._assemble(ev, margins, ev.goals, ev.loops, ev.ok, ev.reasons,
+                                    found=found)
             result.__dict__["_closures"] = closure     # the same streams: no need to redo them
             return result
         keep = np.flatnonzero(ev.ok)
@@ -993,14 +1035,55 @@ class _Engine:
                     b: _spread_outcome(None, self.fs.blocks[b].kind, {}, keep, n)
                     for b in ev.outcomes}, ok=ev.ok, reasons=ev.reasons),
                 False, goals, ev.loops, ev.ok, ev.reasons, quiet=True)
-        assembled = self._assemble(lived, margins, (), (), lived.ok, lived.reasons)
+        assembled = self._assemble(lived, margins, (), (), lived.ok, lived.reasons, found=found)
         # a case refused while assembling (an absurd inhibitor dose) fails in the whole batch too
         late = keep[~lived.ok]
         ev.ok[late], ev.reasons[late] = False, lived.reasons[~lived.ok]
         return _spread_result(assembled, keep, n, goals, ev.loops, ev.ok, ev.reasons)
 
+    def _doses(self, ev: _Evaluation):
+        """The doses of the ``inject`` blocks, found on the cases that lived from their protected
+        points (:func:`letdown.sheet.freezing.find_doses`): (doses, notes), or None without any.
+        Where a rate differs from what the block added in this pass (a ``depression`` is sized
+        only now), the blocks run once more with the rates found (module docstring, Doses), and
+        ``ev`` takes that pass's streams and outcomes."""
+        injects = [b for step in self.steps for b in step.blocks
+                   if self.fs.blocks[b].kind == "inject"]
+        keep = np.flatnonzero(ev.ok)
+        if not (injects and self.carry and keep.size):
+            return None
+        every = keep.size == self.n
+        streams = ev.streams if every else {s: b.take(keep) for s, b in ev.streams.items()}
+        outcomes = ev.outcomes if every else {b: _take_outcome(o, keep)
+                                              for b, o in ev.outcomes.items()}
+        given = inject_params(self.fs, outcomes)
+        doses, notes = find_doses(self.fs, self.fluid, streams, self.steps, given, outcomes)
+        rates, again = {}, False
+        for b in injects:
+            rate = np.zeros(self.n)
+            rate[keep] = np.nan_to_num(np.asarray(doses[b]["rate_kg_s"], float))
+            added = np.zeros(keep.size)       # what the block added in this pass
+            if "rate" in given[b]:
+                added = np.nan_to_num(np.broadcast_to(np.asarray(given[b]["rate"], float),
+                                                      (keep.size,)))
+            again |= not np.array_equal(rate[keep], added)
+            rates[b] = rate
+        if not again:
+            return doses, notes
+        self.dose_rates = rates
+        second = self._flow(np.arange(self.n), {g.by: np.asarray(g.value, float)
+                                                for g in ev.goals})
+        ev.streams, ev.outcomes = second.streams, second.outcomes
+        lost = ev.ok & ~second.ok
+        if np.any(lost):
+            # a case this pass lost (none should: only the inhibitor changed) fails, and the
+            # doses are found again on the cases left
+            ev.fail(lost, second.reasons[lost])
+            return None
+        return doses, notes
+
     def _assemble(self, ev: _Evaluation, margins: bool, goals, loops, ok, reasons, *,
-                  quiet: bool = False) -> BatchResult:
+                  quiet: bool = False, found=None) -> BatchResult:
         """The result of cases that all lived (``quiet``: of cases that all failed, with no
         warnings, margins or doses)."""
         warnings = []
@@ -1024,17 +1107,18 @@ class _Engine:
         if margins:
             # the freezing checks run on every solve, with or without limits or gas.water
             freezing, notes = stream_freezing(self.fs, self.fluid, ev.streams, self.steps, doses,
-                                              given, outcomes=ev.outcomes)
+                                              given, outcomes=ev.outcomes, found=found)
             for blocks, change in dict(self.carry_unsettled).items():
                 notes.append(WarningRecord(", ".join(blocks), (
-                    f"the water carried round this loop did not settle in {CARRY_MAX_PASSES} "
+                    f"the water and inhibitor carried round this loop did not settle in "
+                    f"{CARRY_MAX_PASSES} "
                     f"passes after its streams (change {change:.3g})"), kind="water_loop",
                     severity="check"))
             warnings.extend(notes)
             warnings.extend(freezing_warnings(self.fs, ev.streams, freezing))
         else:
             doses, notes = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given,
-                                        outcomes=ev.outcomes)
+                                        outcomes=ev.outcomes, found=found)
             warnings.extend(notes)
         for w in notes:
             if w.kind == "inhibitor_dose":    # a refused dose: its cases did not solve
