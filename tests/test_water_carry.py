@@ -15,7 +15,7 @@ import numpy as np
 import pytest
 
 from letdown.equipment import Carry, KINDS, flash_stream
-from letdown.equipment.common import WATER_METHOD, finish
+from letdown.equipment.common import DOSE_RATE, WATER_METHOD, finish
 from letdown.equipment.stream import blend
 from letdown.fluid.water import M_WATER, MOL_PER_SM3, water_content
 from letdown.sheet.loader import loads
@@ -194,3 +194,71 @@ def test_a_separator_splits_its_inlet_water_and_balances_it():
     assert V.carry.water_ratio[0] == pytest.approx(y[0] / (1.0 - y[0]), rel=1e-14)
     assert w["water"][0] > 0.0 and w["water"][2] == 0.0
     assert out.details["free_water_mol_s"] == pytest.approx(w["water"], rel=1e-15)
+
+
+# -- the inhibitor ---------------------------------------------------------------------------
+#: Molar mass of methanol [kg/mol]: CH3OH from the IUPAC 2013 conventional atomic weights
+#: (H 1.008, C 12.011, O 15.999; values from memory), 32.042 g/mol; the component table carries
+#: 32.04186 (4e-6 relative apart, the tolerance below).
+M_METHANOL = 32.042e-3
+
+
+def test_the_inject_blocks_run_alone_adds_its_dose():
+    gas = fluid("lean")
+    n = 2
+    inlet = flash_stream(gas, np.array([100.0, 0.0]), np.tile(gas.zs, (n, 1)),
+                         T=np.full(n, 280.0), P=np.full(n, 50e5))
+    inlet = inlet.with_carry(Carry(np.full(n, 2e-4), np.zeros(n)))
+    run = KINDS["inject"]
+    out = run(gas, "dose", {"in": inlet}, {"inhibitor": "methanol", "rate": 0.036})
+    c = out.outlets["out"].carry
+    # 0.036 kg/s of methanol into 100 mol/s of dry gas: 0.036 / 0.032042 / 100 mol/mol; an empty
+    # stream takes none
+    assert c.inhibitor_ratio[0, 0] == pytest.approx(0.036 / M_METHANOL / 100.0, rel=1e-5)
+    assert c.inhibitor_ratio[1, 0] == 0.0 and np.all(c.inhibitor_ratio[:, 1] == 0.0)
+    assert np.array_equal(c.water_ratio, inlet.carry.water_ratio)
+    # the gas passes unchanged
+    assert np.array_equal(out.outlets["out"].T, inlet.T) and np.all(out.mole_closure == 0.0)
+    # a depression before the solver has sized it adds nothing; the rate the solver found is
+    # added (and replaces a given rate), a refused one (NaN) adds nothing
+    dep = {"inhibitor": "MEG", "depression": 8.0}
+    assert np.all(run(gas, "dose", {"in": inlet}, dep).outlets["out"].carry.inhibitor_ratio == 0)
+    sized = run(gas, "dose", {"in": inlet}, {**dep, DOSE_RATE: np.array([0.062, np.nan])})
+    meg = sized.outlets["out"].carry.inhibitor_ratio[:, 1]
+    assert meg[0] == pytest.approx(0.062 / 62.068e-3 / 100.0, rel=1e-5) and meg[1] == 0.0
+    # what is already carried is kept and added to
+    again = run(gas, "dose", {"in": out.outlets["out"]}, {"inhibitor": "methanol", "rate": 0.036})
+    assert again.outlets["out"].carry.inhibitor_ratio[0, 0] == pytest.approx(
+        2 * c.inhibitor_ratio[0, 0], rel=1e-14)
+
+
+def test_a_dose_sized_for_a_point_inside_a_recycle_settles_in_the_tear_iteration():
+    # methanol sized (8 K, Hammerschmidt, no losses) for the coldest point downstream, which is
+    # inside the recycle: the solve finds the point, runs the blocks with the rate, and the
+    # loop settles the inhibitor with its water
+    text = RECYCLE.replace(
+        "  mix:   {kind: mixer, from: [feed, back], to: mixed}\n",
+        "  dose:  {kind: inject, from: feed, to: fed, inhibitor: methanol, depression: 8 K,\n"
+        "          losses: none}\n"
+        "  mix:   {kind: mixer, from: [fed, back], to: mixed}\n")
+    res = solve_cases(loads(text % (RICH, ""), source="dosed-recycle.yaml"), margins=True)
+    assert res.converged.all()
+    d = res.equipment["dose"].details
+    assert d["protected_stream"][0] in ("cold", "gas")
+    rate = float(d["inhibitor_rate_kg_s"][0])
+    assert rate > 0.0
+    # the methanol the block adds, per mole of dry gas at its outlet (recomputed here)
+    fed = res.streams["fed"]
+    assert fed.carry.inhibitor_ratio[0, 0] == pytest.approx(rate / M_METHANOL / fed.flow[0],
+                                                            rel=1e-5)
+    # steady state: all of it leaves, with the free water (no losses: the drum drops free water)
+    out = sum(res.streams[s].carry.inhibitor_ratio[:, 0] * res.streams[s].flow
+              + res.streams[s].carry.free_inhibitor[:, 0]
+              for s in ("product", "condensate", "free-water"))
+    injected = fed.carry.inhibitor_ratio[:, 0] * fed.flow
+    assert abs(out[0] - injected[0]) <= BALANCE * injected[0]
+    assert res.streams["free-water"].carry.free_inhibitor[0, 0] == pytest.approx(injected[0],
+                                                                                rel=BALANCE)
+    # the freezing figures read what the solve carried
+    assert res.freezing["free-water"].inhibitor_flow[0, 0] == pytest.approx(injected[0],
+                                                                            rel=BALANCE)

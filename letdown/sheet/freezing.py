@@ -19,34 +19,18 @@ Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`
   assumption for hydrates;
 * water listed in ``gas.composition``: each stream's own water fraction.
 
-How it moves: each block passes to its outlets the flow-weighted mean ratio of its inlets (a mixer
-blends, a splitter, heater, cooler, throttle, compressor or expander keeps it; an exchanger keeps
-each side's own), and a stream below its water dew point keeps its water in the count (it is the
-free water that can freeze or form hydrate). Loops are iterated to a fixed point
-(:data:`LOOP_TOLERANCE`).
-
-**A separator takes the free water out** (:func:`_separate`, :func:`water_flows`). At the drum's T
-and P (its vapour outlet's):
-
-* the vapour can hold ``r_V = y / (1 - y)`` per mole of dry vapour, ``y`` the water content of the
-  gas saturated with liquid water by ``gas.water_method`` -- the **same route** (and the file's gas
-  composition) as the water dew point below, so a vapour that leaves saturated has its water dew
-  point at the drum temperature (to the dew point's bisection tolerance). The three-phase flash
-  would give the cubic equation's own water content instead, which is not what the dew point
-  (Bukacek by default) is measured against, so the vapour would leave off its own dew point;
-* the hydrocarbon liquid can hold ``r_L`` from the fugacity balance of its water with pure liquid
-  water on the cubic equation (:func:`letdown.fluid.threephase.water_in_liquid`). With the constant
-  water kij this is 1e-7 to 3e-6 mol/mol at 250-300 K, far below measured solubilities: the free
-  water is overstated by the difference (the safe side for freezing);
-* with inlet water ``W = r_in F_in`` and capacity ``C = F_V r_V + F_L r_L``: if ``W >= C`` both
-  phases leave saturated and ``W - C`` leaves as free water by the ``water`` outlet; otherwise both
-  hold the same fraction ``W / C`` of their saturated contents (the water fugacity is common to
-  both and, this dilute, proportional to each content) and the ``water`` outlet gets nothing. The
-  balance ``W = vapour + liquid + free`` closes to rounding.
-
-The ``water`` outlet holds no gas (zero flow in the hydrocarbon flash): its water is kept as free
-water [mol/s] (:class:`WaterCarry`), and its water per dry gas is shown as NaN. A separator
-without a ``water`` port sends the free water with its liquid. Free water flowing from a
+How it moves: **inside the solve**, with the streams (:class:`letdown.equipment.stream.Carry`,
+attached to the feeds by :func:`feed_carries`). Each block passes it on in its own ``run``: by
+default the flow-weighted mean ratio of its inlets (a mixer blends; a splitter, heater, cooler,
+throttle, compressor, expander and any kind that does not override it keep it), an exchanger each
+side's own, a separator splits it (:mod:`letdown.equipment.watersplit`: the vapour and the
+hydrocarbon liquid keep at most their saturated contents at the drum by ``gas.water_method``, the
+same route as the water dew point below, and the rest leaves as free water by the ``water`` port,
+or with the liquid without one). A stream below its water dew point keeps its water in the count
+(it is the free water that can freeze or form hydrate). Loops settle the water in their tear
+iterations with the gas (:mod:`letdown.sheet.solve`). This module reads what the streams carry
+(:func:`water_flows`): free water [mol/s] (:class:`WaterCarry`) on a separator's ``water`` outlet,
+which holds no gas and whose water per dry gas is shown as NaN. Free water flowing from a
 ``water`` outlet into any block but a separator is not carried on (a note says so). Hydrocarbons
 dissolved in the free water are not counted: the water-free flash does not see the water.
 
@@ -54,23 +38,28 @@ With **water as a component** (listed in ``gas.composition``) the separator is a
 (:mod:`letdown.equipment.separator`) and each stream's water is its own water fraction.
 
 **Inhibitor** (``inject`` blocks, :mod:`letdown.equipment.inject`): carried the same way, per
-stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ratios`), never in the
-hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds its
-rate; a separator splits it with its phases, whichever way the water is carried
-(:func:`_separate_inhibitor`: the three-phase split
-at the drum with ``losses: equilibrium``, all with the free water with ``losses: none``); the
-others carry it as the water. With all of a stream's water taken as free water, the
-stream's aqueous phase holds ``inhibitor_wt_pct`` (:func:`aqueous`), and its hydrate
+stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_carried`), never in
+the hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds
+its dose in its run; a separator splits it with its phases, whichever way the water is carried
+(:func:`letdown.equipment.watersplit.split_inhibitor`: the three-phase split at the drum with
+``losses: equilibrium``, all with the free water with ``losses: none``); the others carry it as
+the water. A block sized by ``depression`` protects the coldest gas-carrying stream downstream
+(:func:`protected_point`: never a separator's ``water`` or ``liquid`` outlet), which is solved
+after it: the solver finds that point from a solve (:func:`find_doses`, the search over the graph,
+with the block's own arithmetic, :func:`letdown.equipment.inject.dose`) and runs the blocks again
+with the rate found. A dose that did not converge, has no gas to protect, or exceeds
+:data:`MAX_DOSE_TO_GAS` of the gas mass is refused: NaN, a hazard record ``inhibitor_dose``, and
+the case marked not converged (:func:`_check_dose`). With all of a stream's water taken as free
+water, the stream's aqueous phase holds ``inhibitor_wt_pct`` (:func:`aqueous`), and its hydrate
 temperature is found with the water activity a_w = gamma_w x_w of that phase (gamma_w at the
 hydrate temperature, :func:`letdown.fluid.inhibitor.water_activity_coefficient`; reported as
 ``water_activity``); the freezing point of its free water keeps the ideal a_w = x_w (warm: the
-safe side). When an ``inject``
-block counts its losses (``losses: equilibrium``), each stream's aqueous phase comes instead from
-the split of water and inhibitor at the stream's own T and P (:func:`aqueous_equilibrium`), and
-the block is sized at the coldest gas-carrying stream downstream (:func:`protected_point`:
-never a separator's ``water`` or ``liquid`` outlet). A dose that did not converge, has no gas
-to protect, or exceeds :data:`MAX_DOSE_TO_GAS` of the gas mass is refused: NaN, a hazard record
-``inhibitor_dose``, and the case marked not converged (:func:`_check_dose`).
+safe side). When an ``inject`` block counts its losses (``losses: equilibrium``), each stream's
+aqueous phase comes instead from the split of water and inhibitor at the stream's own T and P
+(:func:`aqueous_equilibrium`).
+
+What stays here is the margin calculation: water dew points, hydrate temperatures, ice, the
+warnings.
 
 Per stream and case:
 

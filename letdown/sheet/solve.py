@@ -295,6 +295,9 @@ class _Evaluation:
     goals: list = field(default_factory=list)
     ok: np.ndarray | None = None
     reasons: np.ndarray | None = None
+    # loop step index -> (the cases of the pass at it, its converged tear variables): where the
+    # dose pass (:meth:`_Engine._doses`) starts its loops
+    ends: dict = field(default_factory=dict)
 
     def fail(self, cases, reasons) -> None:
         """Mark ``cases`` (indices or a bool mask) failed; a case keeps its first reason."""
@@ -479,12 +482,15 @@ class _Engine:
             return self._goal(goals[0], goals[1:], sel, over)
         return self._flow(sel, over)
 
-    def _flow(self, sel, over) -> _Evaluation:
+    def _flow(self, sel, over, warm=None) -> _Evaluation:
         """One pass through the blocks for the cases ``sel``.
 
         A case a block refuses (an ``InputError`` naming cases) or whose loop fails is removed from
         the pass (when not ``strict``) and the step is run again for the others, so that they get
         the very numbers they would get alone; at the end the removed cases are blank (NaN).
+        ``warm`` (the ``ends`` of an earlier pass of the same cases, whose gas and water this pass
+        repeats): each loop starts from its converged tear variables with its gas settled, and
+        runs carry passes only until its inhibitor settles.
         """
         m = len(sel)
         ev = _Evaluation(streams={}, outcomes={}, ok=np.ones(m, dtype=bool),
@@ -533,16 +539,20 @@ class _Engine:
             now_over = {k: v[alive] for k, v in over.items()}
             return keep
 
-        for step in self.steps:
+        for index, step in enumerate(self.steps):
             while alive.size:
                 try:
                     if not step.is_loop:
                         self._run_block(step.blocks[0], streams, outcomes, now_sel, now_over)
                         break
                     entry = alive
-                    record, lost, why, end = self._loop(step, streams, now_sel, now_over)
+                    start = (warm or {}).get(index)
+                    start = start[1] if start is not None and np.array_equal(start[0], alive) \
+                        else None
+                    record, lost, why, end = self._loop(step, streams, now_sel, now_over, start)
                     if lost.any():
                         end = end.take(drop(lost, why))
+                    ev.ends[index] = (alive.copy(), end)
                     if alive.size:
                         self._loop_final(step, end, streams, outcomes, now_sel, now_over)
                     loops.append((record, entry))
@@ -716,7 +726,7 @@ class _Engine:
             flow_cols.append(np.r_[np.ones(self.nc, dtype=bool), False, False])
         return np.concatenate(cols, axis=1), np.concatenate(flow_cols)
 
-    def _loop(self, step, streams, sel, over):
+    def _loop(self, step, streams, sel, over, start: "_LoopEnd | None" = None):
         """Converge one loop's tear streams for the cases ``sel`` (Wegstein, converged cases
         masked).
 
@@ -734,10 +744,15 @@ class _Engine:
         flow_tol = min(tol, FLOW_TOLERANCE)
         m = len(sel)
         tears = step.tears
-        guesses = [self._guess(t, step, streams, sel) for t in tears]
-        zs_fallback = [g.zs for g in guesses]
-        T_last = [np.array(g.T) for g in guesses]     # each tear's latest temperature, per case
-        x = self._pack(guesses)
+        if start is None:
+            guesses = [self._guess(t, step, streams, sel) for t in tears]
+            zs_fallback = [g.zs for g in guesses]
+            T_last = [np.array(g.T) for g in guesses]   # each tear's latest temperature, per case
+            x = self._pack(guesses)
+        else:       # the converged variables of an earlier pass whose gas this one repeats
+            zs_fallback = [np.array(z) for z in start.zs_fallback]
+            T_last = [np.array(T) for T in start.T_last]
+            x = np.array(start.x)
         x_prev = np.full_like(x, np.nan)
         g_prev = np.full_like(x, np.nan)
         inside = set(step.blocks)
@@ -752,7 +767,7 @@ class _Engine:
         diverged = np.zeros(m, dtype=bool)
         # cases whose gas has settled (their iterate, count and residual are final) while their
         # water, carried in the same tear variables, may still be settling
-        settled = np.zeros(m, dtype=bool)
+        settled = np.full(m, start is not None)
         G = len(tears) * (self.nc + 2)          # the gas variables; the carried water follows
         history = []
         done_iterations = 0
@@ -1072,7 +1087,7 @@ class _Engine:
             return doses, notes
         self.dose_rates = rates
         second = self._flow(np.arange(self.n), {g.by: np.asarray(g.value, float)
-                                                for g in ev.goals})
+                                                for g in ev.goals}, warm=ev.ends)
         ev.streams, ev.outcomes = second.streams, second.outcomes
         lost = ev.ok & ~second.ok
         if np.any(lost):
