@@ -262,3 +262,27 @@ def test_a_dose_sized_for_a_point_inside_a_recycle_settles_in_the_tear_iteration
     # the freezing figures read what the solve carried
     assert res.freezing["free-water"].inhibitor_flow[0, 0] == pytest.approx(injected[0],
                                                                             rel=BALANCE)
+
+
+def test_a_mixer_conserves_the_inhibitor_of_gases_holding_different_water():
+    # water a component of the gas: the inhibitor per mole of DRY gas must be blended by the
+    # inlets' dry flows. Weighted by their wet flows (as before), 50 kg/h of methanol into gas
+    # with 2 % water mixed with as much dry gas left the mixer as 50.5 kg/h (1.02 % made from
+    # nothing). A material balance: in = out, to round-off.
+    text = """\
+title: mixer with water as a component (fictional)
+gas:
+  model: peng-robinson
+  composition: {methane: 0.88, ethane: 0.05, propane: 0.02, nitrogen: 0.03, water: 0.02}
+feeds:
+  wet: {T: 40 degC, P: 70 barg, flow: 1000 kmol/h}
+  dry: {T: 40 degC, P: 70 barg, flow: 1000 kmol/h,
+        composition: {methane: 0.898, ethane: 0.051, propane: 0.0204, nitrogen: 0.0306}}
+equipment:
+  dose: {kind: inject, from: wet, to: dosed, inhibitor: methanol, rate: 50 kg/h, losses: none}
+  mix:  {kind: mixer, from: [dosed, dry], to: mixed}
+"""
+    res = solve_cases(loads(text, source="mix-water.yaml"), margins=True)
+    dosed = res.freezing["dosed"].inhibitor_flow[0, 0]
+    assert dosed == pytest.approx(50.0 / 3600.0 / 32.04186e-3, rel=1e-12)   # the table's M
+    assert res.freezing["mixed"].inhibitor_flow[0, 0] == pytest.approx(dosed, rel=1e-12)

@@ -99,9 +99,10 @@ def finish(inlets: Mapping[str, StreamBatch], outlets: Mapping[str, StreamBatch]
 
     The water the inlets carry beside the gas (:class:`letdown.equipment.stream.Carry`) goes to
     every outlet as the flow-weighted blend of the inlets' (:func:`letdown.equipment.stream.
-    blend`): a one-inlet block keeps it, a mixer blends, free water is not carried on. This is the
-    rule of every block kind that does not split the water itself; one that does (an exchanger
-    keeps each side's own, a separator splits) attaches its outlets' carries and passes
+    blend`, weighted by the inlets' molar flows): a one-inlet block keeps it, free water is not
+    carried on. This is the rule of every block kind that does not move the water itself; one
+    that does (an exchanger keeps each side's own, a separator splits, a mixer blends by dry flow,
+    an ``inject`` block adds its dose) attaches its outlets' carries and passes
     ``own_carry=True``.
     """
     n = next(iter(inlets.values())).n_cases
