@@ -334,7 +334,6 @@ def water_flows(fs, fluid, streams, steps=None, outcomes=None) -> WaterCarry:
     -------
     WaterCarry
     """
-    n = next(iter(streams.values())).n_cases
     if "water" in fluid.components:
         iw = fluid.components.index("water")
         water = lambda s: np.asarray(streams[s].zs, float)[:, iw] * np.asarray(streams[s].flow,
