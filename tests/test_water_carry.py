@@ -309,3 +309,40 @@ def test_meg_dosed_inside_a_recycle_with_equilibrium_losses_settles_and_balances
     out = sum(res.freezing[s].inhibitor_flow[:, 1] for s in ("product", "condensate",
                                                               "free-water"))
     assert np.all(np.abs(out - injected) <= 1e-9 * injected)
+
+
+@pytest.mark.parametrize("kind", ["throttle", "heater", "mixer", "splitter", "exchanger",
+                                  "separator", "inject"])
+def test_each_kinds_carry_rule_alone_gives_what_its_run_gives(kind):
+    # a loop whose gas has settled carries its water and inhibitor through the solved outlets
+    # by the kinds' carry rules alone (letdown.equipment.carry_rule): they must be the run's
+    from letdown.equipment import carry_rule
+    gas = fluid("rich")
+    n = 3
+
+    def stream(T, F, r, inh):
+        s = flash_stream(gas, np.full(n, F), np.tile(gas.zs, (n, 1)), T=np.asarray(T, float),
+                         P=np.full(n, 60e5))
+        return s.with_carry(Carry(np.asarray(r, float), np.zeros(n),
+                                  np.column_stack([np.asarray(inh, float), np.zeros(n)])))
+    a = stream([275.0, 285.0, 300.0], 100.0, [5e-3, 3e-4, 1e-6], [1e-3, 0.0, 2e-4])
+    b = stream([340.0, 340.0, 340.0], 50.0, [1e-4] * 3, [0.0] * 3)
+    inlets, params = {"in": a}, {WATER_METHOD: "bukacek"}
+    if kind == "throttle":
+        params["P_out"] = 40e5
+    elif kind == "heater":
+        params["T_out"] = 310.0
+    elif kind == "mixer":
+        inlets = {"in0": a, "in1": b}
+    elif kind == "splitter":
+        params["fractions"] = {"x": 0.3, "y": "rest"}
+    elif kind == "exchanger":
+        inlets, params = {"hot": b, "cold": a}, {**params, "duty": 5e3}
+    elif kind == "inject":
+        params.update({"inhibitor": "methanol", "rate": 0.05})
+    out = KINDS[kind](gas, "b", inlets, params)
+    bare = {p: s.with_carry(None) for p, s in out.outlets.items()}
+    again, _ = carry_rule(kind)(gas, "b", inlets, bare, params)
+    for port, s in out.outlets.items():
+        for f in ("water_ratio", "free_water", "inhibitor_ratio", "free_inhibitor"):
+            assert np.array_equal(getattr(again[port].carry, f), getattr(s.carry, f)), (port, f)

@@ -15,7 +15,7 @@ from __future__ import annotations
 
 from . import (compressor, exchanger, expander, heater, inject, mixer, separator, splitter,
                throttle)
-from .common import BlockOutcome, closures
+from .common import BlockOutcome, carry, closures
 from .stream import Carry, StreamBatch, flash_stream
 
 #: Block kind -> its ``run`` function.
@@ -32,4 +32,19 @@ KINDS = {
     "inject": inject.run,
 }
 
-__all__ = ["KINDS", "BlockOutcome", "Carry", "StreamBatch", "closures", "flash_stream"]
+#: Block kind -> its carry rule (the water and inhibitor beside the gas; see
+#: :func:`letdown.equipment.common.carry`), for the kinds that do not keep the default.
+CARRY_RULES = {
+    "separator": separator.carry,
+    "mixer": mixer.carry,
+    "exchanger": exchanger.carry,
+    "inject": inject.carry,
+}
+
+
+def carry_rule(kind: str):
+    """The carry rule of a block kind: its own, or the default (:func:`common.carry`)."""
+    return CARRY_RULES.get(kind, carry)
+
+
+__all__ = ["CARRY_RULES", "carry_rule", "KINDS", "BlockOutcome", "Carry", "StreamBatch", "closures", "flash_stream"]

@@ -107,12 +107,31 @@ def finish(inlets: Mapping[str, StreamBatch], outlets: Mapping[str, StreamBatch]
     """
     n = next(iter(inlets.values())).n_cases
     if not own_carry and all(s.carry is not None for s in inlets.values()):
-        mixed = blend([i.flow for i in inlets.values()], [i.carry for i in inlets.values()])
-        outlets = {port: s.with_carry(mixed) for port, s in outlets.items()}
+        outlets, _ = carry(None, "", inlets, outlets, {})
     energy_in = np.broadcast_to(np.asarray(energy_in, dtype=float), (n,)).copy()
     mole, energy = closures(inlets.values(), outlets.values(), energy_in)
     return BlockOutcome(outlets=dict(outlets), energy_in=energy_in, mole_closure=mole,
                         energy_closure=energy, **kwargs)
+
+
+def carry(fluid, name: str, inlets: Mapping[str, StreamBatch], outlets: Mapping[str, StreamBatch],
+          params: Mapping) -> tuple[dict, dict]:
+    """The default carry rule (:func:`finish`): every outlet takes the flow-weighted blend of the
+    inlets' water and inhibitor (:func:`letdown.equipment.stream.blend`), nothing free.
+
+    Every kind has a rule of this signature (``KINDS_CARRY`` in :mod:`letdown.equipment`): its
+    ``run`` applies it, and the solver applies it alone, to the outlets a pass has already
+    solved, while a loop whose gas has settled settles its water and inhibitor.
+
+    Returns
+    -------
+    outlets : dict
+        Port -> the outlet carrying its water and inhibitor.
+    details : dict
+        Numbers of the carry for the block's details (none here).
+    """
+    mixed = blend([i.flow for i in inlets.values()], [i.carry for i in inlets.values()])
+    return {port: s.with_carry(mixed) for port, s in outlets.items()}, {}
 
 
 def closures(inlets, outlets, energy_in) -> tuple[np.ndarray, np.ndarray]:

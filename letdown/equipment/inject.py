@@ -349,11 +349,21 @@ def run(fluid, name: str, inlets, params):
     inh, spec, value = checked(name, params, n)
     options(name, params)
     details = {PARAM_DETAILS[spec]: value}
-    out, own = inlet, False
-    if inlet.carry is not None:
-        rate = params.get(DOSE_RATE, value if spec == "rate" else None)
-        out, own = inlet.with_carry(dosed(inlet, rate, inh.name, _dry_flow(fluid, inlet))), True
-    return finish(inlets, {"out": out}, 0.0, own_carry=own, dP=np.zeros(n), details=details)
+    outlets, own = {"out": inlet}, inlet.carry is not None
+    if own:
+        outlets, _ = carry(fluid, name, inlets, outlets, params)
+    return finish(inlets, outlets, 0.0, own_carry=own, dP=np.zeros(n), details=details)
+
+
+def carry(fluid, name: str, inlets, outlets, params) -> tuple[dict, dict]:
+    """The inject block's carry rule (:func:`letdown.equipment.common.carry`): the inlet's water
+    kept and its dose added (:func:`dosed`): ``params[common.DOSE_RATE]`` where the solver gives
+    it, else a given ``rate``; a ``depression`` not yet sized adds nothing."""
+    inlet = inlets["in"]
+    inh, spec, value = checked(name, params, inlet.n_cases)
+    rate = params.get(DOSE_RATE, value if spec == "rate" else None)
+    return {"out": outlets["out"].with_carry(dosed(inlet, rate, inh.name,
+                                                   _dry_flow(fluid, inlet)))}, {}
 
 
 def _dry_flow(fluid, stream):

@@ -73,9 +73,16 @@ def run(fluid, name: str, inlets, params):
                   component_flows / F[:, None])
     h = np.where(empty, np.mean([s.h for s in streams], axis=0),
                  sum(s.enthalpy_flow for s in streams) / F)
-    out = flash_stream(fluid, flow, zs, P=P_out, h=h)
+    outlets = {"out": flash_stream(fluid, flow, zs, P=P_out, h=h)}
     carried = all(s.carry is not None for s in streams)
     if carried:
-        out = out.with_carry(blend([dry_flow(fluid, s) for s in streams],
-                                   [s.carry for s in streams]))
-    return finish(inlets, {"out": out}, 0.0, own_carry=carried, dP=P_low - P_out)
+        outlets, _ = carry(fluid, name, inlets, outlets, params)
+    return finish(inlets, outlets, 0.0, own_carry=carried, dP=P_low - P_out)
+
+
+def carry(fluid, name: str, inlets, outlets, params) -> tuple[dict, dict]:
+    """The mixer's carry rule (:func:`letdown.equipment.common.carry`): water and inhibitor per dry
+    gas blended by the inlets' dry flows (module docstring)."""
+    streams = list(inlets.values())
+    mixed = blend([dry_flow(fluid, s) for s in streams], [s.carry for s in streams])
+    return {port: s.with_carry(mixed) for port, s in outlets.items()}, {}

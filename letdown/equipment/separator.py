@@ -119,7 +119,7 @@ def run(fluid, name: str, inlets, params):
         outlets = _three_phase(fluid, inlet, P_out, states, bool(params.get("water_port", True)))
         shift = outlets["vapour"].T - np.asarray(states.T, dtype=float)
         if inlet.carry is not None:       # the inhibitor beside the gas (the water is in it)
-            outlets, _ = watersplit.carry_through(fluid, params, inlet, outlets)
+            outlets, _ = carry(fluid, name, inlets, outlets, params)
         return finish(inlets, outlets, 0.0, own_carry=inlet.carry is not None,
                       dP=inlet.P - P_out,
                       details={"dT_vs_two_phase_K": shift},
@@ -148,9 +148,16 @@ def run(fluid, name: str, inlets, params):
     outlets = {"vapour": vapour, "liquid": liquid, "water": water}
     details = {}
     if inlet.carry is not None:
-        outlets, details = watersplit.carry_through(fluid, params, inlet, outlets)
+        outlets, details = carry(fluid, name, inlets, outlets, params)
     return finish(inlets, outlets, 0.0, own_carry=inlet.carry is not None, dP=inlet.P - P_out,
                   flags=_single_phase_flags(fluid, inlet, outlets), details=details)
+
+
+def carry(fluid, name: str, inlets, outlets, params) -> tuple[dict, dict]:
+    """The separator's carry rule (:func:`letdown.equipment.common.carry`): the water and
+    inhibitor of the inlet split between the outlets (:func:`letdown.equipment.watersplit.
+    carry_through`), with the water split as details."""
+    return watersplit.carry_through(fluid, params, inlets["in"], outlets)
 
 
 def _single_phase_flags(fluid, inlet, outlets) -> dict:

@@ -19,7 +19,9 @@ Loops
     dry gas and its free water and inhibitor, which settle in the same iterations (to
     :data:`CARRY_TOLERANCE`); a case whose gas has settled before its water keeps its gas iterate
     and runs carry passes until the water settles (its iteration count and residual are those of
-    the gas).
+    the gas): the first solves the loop's blocks once more from the settled iterate (what the
+    final pass will solve), the next apply only the blocks' carry rules
+    (:func:`letdown.equipment.carry_rule`) to those solved outlets.
 Doses
     An ``inject`` block sized by ``depression`` protects the coldest gas-carrying stream downstream
     of it, solved after it. The solve therefore runs once, the protected point of each such block
@@ -49,7 +51,8 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..equipment import KINDS, BlockOutcome, Carry, StreamBatch, closures, flash_stream
+from ..equipment import (KINDS, BlockOutcome, Carry, StreamBatch, carry_rule, closures,
+                         flash_stream)
 from ..equipment.common import (BY_GOAL, DOSE_RATE, INHIBITOR_EQUILIBRIUM, TINY_FLOW, TRIAL,
                                 WATER_METHOD)
 from ..equipment.stream import INHIBITOR_NAMES
@@ -705,17 +708,45 @@ class _Engine:
             out.append(flash_stream(self.fluid, flow, zs, P=block[:, nc], h=block[:, nc + 1],
                                     T_guess=T0))
         if self.carry:
-            G, w, k = len(out) * (nc + 2), self._carry_width(), len(INHIBITOR_NAMES)
-            carried = []
-            for t, s in enumerate(out):
-                c = np.maximum(x[:, G + t * w: G + (t + 1) * w], 0.0)
-                if self.carry_water:
-                    water, c = (c[:, 0], c[:, 1]), c[:, 2:]
-                else:
-                    water = (np.full(c.shape[0], np.nan),) * 2
-                carried.append(s.with_carry(Carry(*water, c[:, :k], c[:, k:])))
-            out = carried
+            carries = self._unpack_carries(x, len(out) * (nc + 2), [s.n_cases for s in out])
+            out = [s.with_carry(c) for s, c in zip(out, carries)]
         return out
+
+    def _unpack_carry(self, x, tears) -> list:
+        """The tear streams ``tears`` (already solved) with the carry of the variables ``x``."""
+        G = len(tears) * (self.nc + 2)
+        fake = self._unpack_carries(x, G, [t.n_cases for t in tears])
+        return [t.with_carry(c) for t, c in zip(tears, fake)]
+
+    def _unpack_carries(self, x, G, sizes) -> list:
+        w, k = self._carry_width(), len(INHIBITOR_NAMES)
+        out = []
+        for t, n in enumerate(sizes):
+            c = np.maximum(x[:, G + t * w: G + (t + 1) * w], 0.0)
+            if self.carry_water:
+                water, c = (c[:, 0], c[:, 1]), c[:, 2:]
+            else:
+                water = (np.full(n, np.nan),) * 2
+            out.append(Carry(*water, c[:, :k], c[:, k:]))
+        return out
+
+    def _carry_blocks(self, names, streams, outcomes, sel, over) -> None:
+        """Carry the water and inhibitor through blocks whose gas is solved (``outcomes``): each
+        block's carry rule (:func:`letdown.equipment.carry_rule`) on its solved outlets."""
+        self._trial += 1
+        try:
+            for name in names:
+                spec = self.fs.blocks[name]
+                inlets = {port: streams[s] for port, s in spec.inlets.items()}
+                if not all(i.carry is not None for i in inlets.values()):
+                    continue
+                outlets, _ = carry_rule(spec.kind)(self.fluid, name, inlets,
+                                                   outcomes[name].outlets,
+                                                   self._params(name, sel, over))
+                for port, stream in spec.outlets.items():
+                    streams[stream] = outlets[port]
+        finally:
+            self._trial -= 1
 
     def _scales(self, tears) -> tuple[np.ndarray, np.ndarray]:
         """Per-variable scales for the residual, and a mask of the flow variables."""
@@ -773,6 +804,10 @@ class _Engine:
         done_iterations = 0
         carry_passes = 0
         carry_change = np.zeros(m)
+        # the last full pass made with every case's gas settled: (its cases, its tear inlets, its
+        # outcomes). Its gas is the final pass's, so a carry pass applies the blocks' carry rules
+        # to its outlets instead of solving them again
+        held = None
         while True:
             a = np.flatnonzero(active)
             if a.size == 0:
@@ -784,13 +819,24 @@ class _Engine:
                 break
             over_a = {k: v[a] for k, v in over.items()}
             local = {s: b.take(a) for s, b in outside.items()}
-            local.update(zip(tears, self._unpack(x[a], [z[a] for z in zs_fallback],
-                                                 [T[a] for T in T_last])))
-            outcomes: dict = {}
+            if held is not None and np.array_equal(held[0], a):
+                # the gas settled: carry the water and inhibitor alone through its solved outlets
+                carried = self._unpack_carry(x[a], [held[1][t] for t in tears])
+                local.update(zip(tears, carried))
+                self._carry_blocks(step.blocks, local, held[2], sel[a], over_a)
+                outcomes = held[2]
+            else:
+                tears_in = self._unpack(x[a], [z[a] for z in zs_fallback],
+                                        [T[a] for T in T_last])
+                local.update(zip(tears, tears_in))
+                outcomes: dict = {}
             try:
                 # a trial pass: blocks refuse nothing while the loop iterates (an iterate may
                 # break a rule the answer keeps); the final pass refuses
-                self._trial_blocks(step.blocks, local, outcomes, sel[a], over_a)
+                if outcomes is not (held[2] if held is not None else None):
+                    self._trial_blocks(step.blocks, local, outcomes, sel[a], over_a)
+                    if self.carry and not np.any(~settled[a]):
+                        held = (a.copy(), dict(zip(tears, tears_in)), outcomes)
             except _CasesFailed as exc:
                 # refused inside the loop: those cases leave it; the iteration is done again for
                 # the others from the same values (so their numbers are as if alone)
