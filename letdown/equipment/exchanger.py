@@ -203,8 +203,18 @@ def run(fluid, name: str, inlets, params):
     details = {"UA_W_K": np.where(np.isfinite(UA), UA, np.nan), "min_approach_K": min_dT,
                "min_approach_at": where, "hot_dP_Pa": hot.P - P_hot_out,
                "cold_dP_Pa": cold.P - P_cold_out}
-    return finish(inlets, {"hot": hot_out, "cold": cold_out}, 0.0, duty=Q, details=details,
+    outlets = {"hot": hot_out, "cold": cold_out}
+    carried = hot.carry is not None and cold.carry is not None
+    if carried:
+        outlets, _ = carry(fluid, name, inlets, outlets, params)
+    return finish(inlets, outlets, 0.0, own_carry=carried, duty=Q, details=details,
                   flags={"temperature_cross": cross, "spec_unmet": unmet, "reverse_duty": reverse})
+
+
+def carry(fluid, name: str, inlets, outlets, params) -> tuple[dict, dict]:
+    """The exchanger's carry rule (:func:`letdown.equipment.common.carry`): each side keeps its
+    own water and inhibitor (the two streams never meet)."""
+    return {side: s.with_carry(inlets[side].carry.kept()) for side, s in outlets.items()}, {}
 
 
 def _K(T) -> str:
