@@ -23,7 +23,7 @@ Failed cases
 Goals
     A goal varies one block parameter inside its bracket until a held quantity meets its target: the
     two bracket ends are evaluated together (one batch of ``2 n`` cases), then all cases iterate
-    with the Illinois root finder of :mod:`letdown.fluid.rootfind`. Several goals nest, the
+    with the Illinois root finder of :mod:`letdown.numerics.rootfind`. Several goals nest, the
     first outermost.
 """
 from __future__ import annotations
@@ -36,7 +36,7 @@ import numpy as np
 
 from ..equipment import KINDS, BlockOutcome, StreamBatch, closures, flash_stream
 from ..equipment.common import BY_GOAL, TINY_FLOW, TRIAL
-from ..fluid.rootfind import bracketed_root
+from ..numerics.rootfind import bracketed_root
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
