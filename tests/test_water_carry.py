@@ -8,7 +8,7 @@ loop settles it in the same tear iteration as its gas.
 
 References: a material balance (water in = water out, exact at steady state), the saturated water
 content of the drum's vapour recomputed here by the Bukacek (1955) correlation of
-:mod:`letdown.fluid.water` (the route the file names, ``gas.water_method``), and the blend of two
+:mod:`letdown.fluid.aqueous.water` (the route the file names, ``gas.water_method``), and the blend of two
 streams worked by hand. The compositions are invented for tests.
 """
 import numpy as np
@@ -17,7 +17,7 @@ import pytest
 from letdown.equipment import Carry, KINDS, flash_stream
 from letdown.equipment.common import DOSE_RATE, WATER_METHOD, finish
 from letdown.equipment.stream import blend
-from letdown.fluid.water import M_WATER, MOL_PER_SM3, water_content
+from letdown.fluid.aqueous.water import M_WATER, MOL_PER_SM3, water_content
 from letdown.sheet.loader import loads
 from letdown.sheet.solve import solve_cases
 from tests.blocks import fluid

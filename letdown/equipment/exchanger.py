@@ -17,7 +17,7 @@ when both ends are fine. ``UA`` is the slice-wise sum ``sum_k (Q / N) / LMTD_k``
 temperature difference); it is infinite where the profile touches or crosses.
 
 A ``min_approach`` or ``UA`` specification is met by the bracketed root finder of
-:mod:`letdown.fluid.rootfind` over ``0 <= Q <= Q_max``, where ``Q_max`` is the smaller of the
+:mod:`letdown.numerics.rootfind` over ``0 <= Q <= Q_max``, where ``Q_max`` is the smaller of the
 duties that bring the hot outlet to the cold inlet temperature or the cold outlet to the hot inlet
 temperature.
 
@@ -38,7 +38,7 @@ from __future__ import annotations
 import numpy as np
 
 from .common import TINY_FLOW, Refusals, array_param, by_goal, finish, one_of, outlet_pressure
-from ..fluid.rootfind import bracketed_root
+from ..numerics.rootfind import bracketed_root
 from .stream import StreamBatch, flash_stream
 
 #: Enthalpy slices of the profile check (about 20 resolves a dew-point bend to a fraction of a

@@ -14,14 +14,14 @@ Parameters: ``inhibitor`` (``methanol`` or ``MEG``) and exactly one of
   wanted in the aqueous phase there follows from ``sized_by`` (:data:`SIZED_BY`):
   ``hammerschmidt`` (default), ``nielsen-bucklin``, or ``hydrate-model`` (the vdW-P hydrate
   temperature with a_w = x_w at the protected point's pressure and composition,
-  :func:`letdown.fluid.inhibitor.vdwp_wt_pct`). Neat inhibitor is injected; inhibitor already
+  :func:`letdown.fluid.aqueous.inhibitor.vdwp_wt_pct`). Neat inhibitor is injected; inhibitor already
   carried by the inlet is not credited.
 
 and ``losses`` (:data:`LOSSES`): ``equilibrium`` (default) adds the inhibitor that stays in the
 vapour and dissolves in a hydrocarbon liquid at the protected point
-(:func:`letdown.fluid.inhibitor.dose_with_losses`; the free water is what the three-phase flash
+(:func:`letdown.fluid.aqueous.inhibitor.dose_with_losses`; the free water is what the three-phase flash
 condenses there); ``none`` gives the aqueous part only, all the water the inlet carries taken as
-free water (:func:`letdown.fluid.inhibitor.injection_rate`).
+free water (:func:`letdown.fluid.aqueous.inhibitor.injection_rate`).
 
 A ``depression`` is met at a point **downstream** of this block, which is solved after it: the
 solver therefore finds the protected point from a solve of the sheet (the search stays in the
@@ -42,7 +42,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from ..fluid.inhibitor import (
+from ..fluid.aqueous.inhibitor import (
     INHIBITORS,
     dose_with_losses,
     hammerschmidt_depression,
@@ -69,7 +69,7 @@ LOSSES = ("equilibrium", "none")
 #: The detail under which :func:`run` reports each specification's values over the batch.
 PARAM_DETAILS = {"rate": "inhibitor_rate_kg_s", "depression": "depression_target_K"}
 #: Hammerschmidt's form is used up to about 20 K (module docstring of
-#: :mod:`letdown.fluid.inhibitor`); a depression above this is refused as outside any rule [K]
+#: :mod:`letdown.fluid.aqueous.inhibitor`); a depression above this is refused as outside any rule [K]
 #: (our limit: twice the stated range).
 MAX_DEPRESSION = 40.0
 
@@ -79,7 +79,7 @@ def checked(name: str, params, n: int):
 
     Returns
     -------
-    inh : letdown.fluid.inhibitor.Inhibitor
+    inh : letdown.fluid.aqueous.inhibitor.Inhibitor
     spec : str
         ``rate`` or ``depression``.
     value : ndarray (n,)
@@ -171,10 +171,10 @@ class ProtectedPoint:
 def target_wt_pct(inh, sized_by: str, dT, point: ProtectedPoint):
     """Inhibitor wanted in the aqueous phase for a depression dT [K] by the chosen rule [wt %].
 
-    ``hammerschmidt`` and ``nielsen-bucklin``: the inverse rules of :mod:`letdown.fluid.inhibitor`;
+    ``hammerschmidt`` and ``nielsen-bucklin``: the inverse rules of :mod:`letdown.fluid.aqueous.inhibitor`;
     ``hydrate-model``: the wt % for which the vdW-P hydrate temperature at the protected point's
     pressure and composition falls by dT with a_w = x_w
-    (:func:`letdown.fluid.inhibitor.vdwp_wt_pct`).
+    (:func:`letdown.fluid.aqueous.inhibitor.vdwp_wt_pct`).
     """
     dT = np.asarray(dT, float)
     if sized_by == "hammerschmidt":
@@ -384,7 +384,7 @@ def dosed(inlet, rate, name: str, flow) -> Carry:
     rate : ndarray (n,) or None
         Mass flow of pure inhibitor [kg/s]; NaN or None: nothing added.
     name : str
-        The inhibitor (a key of :data:`letdown.fluid.inhibitor.INHIBITORS`).
+        The inhibitor (a key of :data:`letdown.fluid.aqueous.inhibitor.INHIBITORS`).
     flow : ndarray (n,)
         Dry gas flow of the inlet, F [mol/s].
 

@@ -21,9 +21,9 @@ temperature T solves
     beta_V h_V(T) + beta_L h_L(T) + beta_W h_W(T) = h_in
 
 at the outlet pressure, the phase fractions and compositions from the three-phase PT flash
-(:func:`letdown.fluid.threephase.flash_PT_3`) and each phase's enthalpy from the cubic equation
-plus the ideal-gas part (:func:`letdown.fluid.threephase.phase_properties`). T is found by
-:func:`letdown.fluid.threephase.flash_PX_3` (the bracketed root finder on the three-phase h(T)),
+(:func:`letdown.fluid.flash.threephase.flash_PT_3`) and each phase's enthalpy from the cubic equation
+plus the ideal-gas part (:func:`letdown.fluid.flash.threephase.phase_properties`). T is found by
+:func:`letdown.fluid.flash.threephase.flash_PX_3` (the bracketed root finder on the three-phase h(T)),
 started from the temperature of the inlet's P-h flash (``Fluid.flash`` with the inlet temperature
 as its guess, which for fluids with water uses the same routine), so the drum usually ends at
 that first evaluation. The vapour,
@@ -32,7 +32,7 @@ component flows are taken by difference so that the mole balance closes to round
 ``water`` port the aqueous phase leaves with the hydrocarbon liquid (one stream of two liquid
 phases: moles, enthalpy, entropy and volume added). Limits: the aqueous phase is the cubic
 equation's (hydrocarbons dissolved in it are an
-order-of-magnitude figure, see :mod:`letdown.fluid.threephase`); a single liquid phase with water
+order-of-magnitude figure, see :mod:`letdown.fluid.flash.threephase`); a single liquid phase with water
 as its largest component leaves by ``water`` (a vapour-like one, steam, by ``vapour``); a case
 whose drum temperature cannot be bracketed or met is marked unconverged (no fallback to the
 two-phase split). GERG-2008 has no three-phase flash: with it the two-phase path is used. The
@@ -56,8 +56,8 @@ import dataclasses
 import numpy as np
 
 from ..fluid.components import R
-from ..fluid.flash import is_vapour_like
-from ..fluid.threephase import PHASES, flash_PX_3, phase_properties
+from ..fluid.flash.twophase import is_vapour_like
+from ..fluid.flash.threephase import PHASES, flash_PX_3, phase_properties
 from . import watersplit
 from .common import TINY_FLOW, finish, outlet_pressure, pseudo_critical
 from .stream import StreamBatch
@@ -66,7 +66,7 @@ from .stream import StreamBatch
 PHASE_FIELDS = ("h", "s", "Z", "density", "molar_mass")
 #: The three-phase drum is flagged when its temperature differs from the P-h flash of its inlet
 #: (``Fluid.flash``) by more than this [K]. Both are the three-phase equilibrium now (the same
-#: routine, :func:`letdown.fluid.threephase.flash_PX_3`), so the difference is within the solver's
+#: routine, :func:`letdown.fluid.flash.threephase.flash_PX_3`), so the difference is within the solver's
 #: tolerance; the flag stays as a check that the blocks upstream and the drum agree.
 T_SHIFT_FLAG = 0.1
 

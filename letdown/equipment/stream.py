@@ -26,7 +26,7 @@ from dataclasses import dataclass, fields
 
 import numpy as np
 
-from ..fluid.inhibitor import INHIBITORS
+from ..fluid.aqueous.inhibitor import INHIBITORS
 
 #: The inhibitors a :class:`Carry` holds, in the column order of its inhibitor arrays.
 INHIBITOR_NAMES = tuple(INHIBITORS)

@@ -7,13 +7,13 @@ P (its vapour outlet's):
 
 * the vapour can hold ``r_V = y / (1 - y)`` per mole of dry vapour, ``y`` the water content of the
   gas saturated with liquid water by the sheet's ``gas.water_method``
-  (:func:`letdown.fluid.water.water_content`) -- the **same route** as the water dew point of the
+  (:func:`letdown.fluid.aqueous.water.water_content`) -- the **same route** as the water dew point of the
   freezing checks (:mod:`letdown.sheet.freezing`), so a vapour that leaves saturated has its water
   dew point at the drum temperature (to the dew point's bisection tolerance). The three-phase flash
   would give the cubic equation's own water content instead, which is not what the dew point
   (Bukacek by default) is measured against, so the vapour would leave off its own dew point;
 * the hydrocarbon liquid can hold ``r_L`` from the fugacity balance of its water with pure liquid
-  water on the cubic equation (:func:`letdown.fluid.threephase.water_in_liquid`). With the constant
+  water on the cubic equation (:func:`letdown.fluid.aqueous.water.water_in_liquid`). With the constant
   water kij this is 1e-7 to 3e-6 mol/mol at 250-300 K, far below measured solubilities: the free
   water is overstated by the difference (the safe side for freezing);
 * with inlet water ``W = r_in F_in + free_in`` and capacity ``C = F_V r_V + F_L r_L``: if
@@ -30,7 +30,7 @@ where there is none).
 **Inhibitor** (:func:`split_inhibitor`; ratios per mole of dry gas, :func:`dry_flow`). With
 equilibrium losses (any ``inject`` block of the sheet on ``losses: equilibrium``, the solver says:
 ``params[common.INHIBITOR_EQUILIBRIUM]``) the split is the three-phase one at the drum's T and P
-(:func:`letdown.fluid.inhibitor.partition` of the inlet gas with its water and inhibitor): the
+(:func:`letdown.fluid.aqueous.inhibitor.partition` of the inlet gas with its water and inhibitor): the
 vapour leaves with what the vapour holds, the hydrocarbon liquid with what it dissolves, and the
 aqueous part goes with the free water. Without them (``losses: none`` everywhere: all the inhibitor
 taken to be in the water) the whole inlet inhibitor goes with the free water where the drum drops
@@ -48,9 +48,9 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import ConvergenceError
-from ..fluid.inhibitor import partition
-from ..fluid.threephase import water_in_liquid
-from ..fluid.water import M_WATER, TC_WATER, water_content
+from ..fluid.aqueous.inhibitor import partition
+from ..fluid.aqueous.water import water_in_liquid
+from ..fluid.aqueous.water import M_WATER, TC_WATER, water_content
 from .common import INHIBITOR_EQUILIBRIUM, TRIAL, WATER_METHOD
 from .stream import INHIBITOR_NAMES, Carry
 
@@ -65,11 +65,11 @@ def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None, ys=None
     """Water a separator's vapour and hydrocarbon liquid can hold at (T, P), per mole of dry
     phase [mol/mol].
 
-    The vapour by ``gas.water_method`` (:func:`letdown.fluid.water.water_content`, at the
+    The vapour by ``gas.water_method`` (:func:`letdown.fluid.aqueous.water.water_content`, at the
     vapour's composition ``ys`` for ``eos``), the **same route as the water dew point**, so that
     a vapour leaving saturated has its water dew point at the separator's temperature; the liquid
     by the fugacity balance with pure liquid water on the fluid's cubic equation
-    (:func:`letdown.fluid.threephase.water_in_liquid`).
+    (:func:`letdown.fluid.aqueous.water.water_in_liquid`).
 
     Parameters
     ----------
@@ -93,7 +93,7 @@ def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None, ys=None
     Raises
     ------
     InputError
-        A state outside the water-content route's inputs (:func:`letdown.fluid.water.
+        A state outside the water-content route's inputs (:func:`letdown.fluid.aqueous.water.
         water_content`).
     ConvergenceError
         The liquid's fugacity balance did not settle.

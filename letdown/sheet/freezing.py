@@ -10,7 +10,7 @@ Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`
 
 * a mole fraction ``y`` of the wet gas: ``r = y / (1 - y)``;
 * ``mg/Sm3`` or ``lb/MMscf`` per standard volume of dry gas (ideal-gas standard volumes, as in
-  :mod:`letdown.fluid.water`): ``r`` is that many moles of water per mole of dry gas;
+  :mod:`letdown.fluid.aqueous.water`): ``r`` is that many moles of water per mole of dry gas;
 * ``saturated: {T, P}`` and ``dew_point: {T, P}`` (the same thing in two words): ``y`` is the water
   content of the gas saturated with liquid water at (T, P) by ``gas.water_method`` (Bukacek 1955
   by default);
@@ -52,7 +52,7 @@ with the rate found. A dose that did not converge, has no gas to protect, or exc
 the case marked not converged (:func:`_check_dose`). With all of a stream's water taken as free
 water, the stream's aqueous phase holds ``inhibitor_wt_pct`` (:func:`aqueous`), and its hydrate
 temperature is found with the water activity a_w = gamma_w x_w of that phase (gamma_w at the
-hydrate temperature, :func:`letdown.fluid.inhibitor.water_activity_coefficient`; reported as
+hydrate temperature, :func:`letdown.fluid.aqueous.inhibitor.water_activity_coefficient`; reported as
 ``water_activity``); the freezing point of its free water keeps the ideal a_w = x_w (warm: the
 safe side). When an ``inject`` block counts its losses (``losses: equilibrium``), each stream's
 aqueous phase comes instead from the split of water and inhibitor at the stream's own T and P
@@ -64,17 +64,17 @@ warnings.
 Per stream and case:
 
 * ``water_dew_T`` -- the water dew point at the stream's pressure (over liquid water, supercooled
-  below 0 degC; :func:`letdown.fluid.water.water_dew_point`), NaN for dry gas or a dew point outside
+  below 0 degC; :func:`letdown.fluid.aqueous.water.water_dew_point`), NaN for dry gas or a dew point outside
   200-450 K;
 * ``hydrate_T`` -- the hydrate formation temperature at the stream's pressure for its dry
   composition (van der Waals-Platteeuw, Munck et al. 1988; free water assumed, a_w of pure water
-  lowered by dissolved gas: :mod:`letdown.fluid.hydrate`, and by the stream's inhibitor), NaN
+  lowered by dissolved gas: :mod:`letdown.fluid.aqueous.hydrate`, and by the stream's inhibitor), NaN
   where the gas has no hydrate former
   or no hydrate forms above 230 K;
 * ``free_water`` -- free water can be in the stream: at or below its water dew point, or a
   separator's free water (:func:`free_water`);
 * ``ice_T`` -- where free water can form, its freezing point with the stream's inhibitor
-  (:func:`letdown.fluid.aqueous.freezing_point` of the water activity; 0 degC without
+  (:func:`letdown.fluid.aqueous.solution.freezing_point` of the water activity; 0 degC without
   inhibitor), NaN elsewhere;
 * margins ``T - limit`` [K] (positive: warmer than the limit): hydrate, water dew point, ice
   (against ``ice_T``; none where no free water can form), ``limits.min_T`` and
@@ -118,12 +118,12 @@ from ..equipment.inject import PARAM_DETAILS, ProtectedPoint, dose
 from ..equipment.stream import INHIBITOR_NAMES, Carry
 from ..equipment.watersplit import dry_flow
 from ..errors import ConvergenceError, InputError
-from ..fluid.hydrate import LANGMUIR
-from ..fluid.aqueous import density as aqueous_density, freezing_point
-from ..fluid.inhibitor import INHIBITORS, partition, water_activity_coefficient
-from ..fluid.inhibitor import _solution_hydrate_T as solution_hydrate_T
-from ..fluid.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE, water_content,
-                           water_dew_point)
+from ..fluid.aqueous.hydrate import LANGMUIR
+from ..fluid.aqueous.solution import density as aqueous_density, freezing_point
+from ..fluid.aqueous.inhibitor import INHIBITORS, partition, water_activity_coefficient
+from ..fluid.aqueous.inhibitor import _solution_hydrate_T as solution_hydrate_T
+from ..fluid.aqueous.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE,
+                                   water_content, water_dew_point)
 from .graph import downstream_streams
 from .result import WarningRecord
 
@@ -136,7 +136,7 @@ ICE_T = 273.15
 #: gas temperature.
 DEFAULT_HYDRATE_MARGIN = 3.0
 #: A stream within this of its water dew point counts as at it [K]: the dew point is found by
-#: bisection to 1e-7 K (:data:`letdown.fluid.water.DEW_T_TOL`), so a feed saturated at its own
+#: bisection to 1e-7 K (:data:`letdown.fluid.aqueous.water.DEW_T_TOL`), so a feed saturated at its own
 #: temperature lands a few 1e-8 K either side.
 DEW_T_SLACK = 1e-6
 #: Column of methanol in the inhibitor arrays (the rest is MEG).
@@ -173,7 +173,7 @@ class StreamFreezing:
         Free (liquid) water can be in the stream: it is at or below its water dew point, or it
         carries a separator's free water (:func:`free_water`).
     ice_T : ndarray (n,) or None
-        Freezing point of that free water with its inhibitor [K] (:func:`letdown.fluid.aqueous.
+        Freezing point of that free water with its inhibitor [K] (:func:`letdown.fluid.aqueous.solution.
         freezing_point` of ``water_activity``; 273.15 K without inhibitor); NaN where no free
         water can form.
     outlet_min_T : float or None
@@ -181,7 +181,7 @@ class StreamFreezing:
     aqueous_density : ndarray (n,) or None
         Density of the free water and its inhibitor where the stream holds nothing else (a
         separator's ``water`` outlet, water beside the gas) [kg/m3]
-        (:func:`letdown.fluid.aqueous.density`); NaN elsewhere.
+        (:func:`letdown.fluid.aqueous.solution.density`); NaN elsewhere.
     """
 
     water_ratio: np.ndarray
@@ -585,7 +585,7 @@ def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
 
 def aqueous_equilibrium(fluid, T, P, zs, water_ratio, inhibitor_ratio):
     """Inhibitor in the aqueous liquid and the water activity of streams at their own (T, P), the
-    inhibitor split by :func:`letdown.fluid.inhibitor.partition` (what the vapour and a
+    inhibitor split by :func:`letdown.fluid.aqueous.inhibitor.partition` (what the vapour and a
     hydrocarbon liquid hold is not in the aqueous phase). Rows without inhibitor or water keep
     :func:`aqueous`'s answer; rows with inhibitor but no aqueous liquid at their state have NaN
     wt % and a_w = 1 (no free water there).
@@ -634,7 +634,7 @@ def _hydrate_Ts(fluid, P, zs, aw=None, xm=None) -> tuple:
     water and methanol mole fraction xm in it), each distinct row solved once.
 
     With an inhibitor (aw < 1 and ``xm`` given) the water activity is gamma_w x_w, gamma_w of
-    :func:`letdown.fluid.inhibitor.water_activity_coefficient` at the inhibited hydrate temperature
+    :func:`letdown.fluid.aqueous.inhibitor.water_activity_coefficient` at the inhibited hydrate temperature
     itself (its fixed point); where that fixed point does not settle, the ideal a_w = x_w stays (it
     understates the depression: the safe side).
 

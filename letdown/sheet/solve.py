@@ -40,7 +40,7 @@ Failed cases
 Goals
     A goal varies one block parameter inside its bracket until a held quantity meets its target: the
     two bracket ends are evaluated together (one batch of ``2 n`` cases), then all cases iterate
-    with the Illinois root finder of :mod:`letdown.fluid.rootfind`. Several goals nest, the
+    with the Illinois root finder of :mod:`letdown.numerics.rootfind`. Several goals nest, the
     first outermost.
 """
 from __future__ import annotations
@@ -56,7 +56,7 @@ from ..equipment import (KINDS, BlockOutcome, Carry, StreamBatch, carry_rule, cl
 from ..equipment.common import (BY_GOAL, DOSE_RATE, INHIBITOR_EQUILIBRIUM, TINY_FLOW, TRIAL,
                                 WATER_METHOD)
 from ..equipment.stream import INHIBITOR_NAMES
-from ..fluid.rootfind import bracketed_root
+from ..numerics.rootfind import bracketed_root
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
