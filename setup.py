@@ -1,8 +1,8 @@
 """Build of the compiled flash kernels; all project metadata lives in pyproject.toml.
 
-``letdown/fluid/_flashkernels.c`` is plain C (libm only). It is built as an extension module so that
-``pip install`` compiles it; letdown loads its functions with ctypes (``letdown.fluid.native``) and
-falls back to numpy when the module is missing. A failed compilation does not fail the install.
+``letdown/fluid/kernels/_flashkernels.c`` is plain C (libm only). It is built as an extension
+module so that ``pip install`` compiles it; letdown loads its functions with ctypes
+(``letdown.fluid.kernels.native``) and falls back to numpy when the module is missing. A failed compilation does not fail the install.
 """
 import hashlib
 from pathlib import Path
@@ -12,7 +12,7 @@ from setuptools.command.build_ext import build_ext
 
 #: The C source; its SHA-256 is compiled in, so that letdown can tell a library built from another
 #: version of the file (a stale build) and fall back to numpy rather than run old code.
-KERNELS = "letdown/fluid/_flashkernels.c"
+KERNELS = "letdown/fluid/kernels/_flashkernels.c"
 KERNELS_SHA256 = hashlib.sha256((Path(__file__).parent / KERNELS).read_bytes()).hexdigest()
 
 
@@ -40,7 +40,7 @@ class OptionalBuildExt(build_ext):
 setup(
     ext_modules=[
         Extension(
-            "letdown.fluid._flashkernels",
+            "letdown.fluid.kernels._flashkernels",
             sources=[KERNELS],
             define_macros=[("LETDOWN_WITH_PYTHON_MODULE", "1"),
                            ("LETDOWN_SOURCE_SHA256", f'"{KERNELS_SHA256}"')],

@@ -1,4 +1,4 @@
-"""Fit of the per-guest Langmuir corrections of letdown.fluid.hydrate (LANGMUIR_CORRECTION).
+"""Fit of the per-guest Langmuir corrections of letdown.fluid.aqueous.hydrate (LANGMUIR_CORRECTION).
 
 Not a test: run it to reproduce the constants. For each pure guest, two numbers (a, b) in
 C_j -> C_j exp(a + b (T0/T - 1)) are fitted by least squares on the formation temperature at the
@@ -12,7 +12,7 @@ import numpy as np
 from scipy.optimize import least_squares
 
 import letdown
-from letdown.fluid import hydrate as hy
+from letdown.fluid.aqueous import hydrate as hy
 
 MPA = 1e6
 Q1 = {"methane": (272.9, 2.563), "ethane": (273.1, 0.530), "propane": (273.1, 0.172),

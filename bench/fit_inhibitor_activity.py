@@ -1,5 +1,5 @@
 """Fit of the water activity coefficient in methanol and MEG solutions
-(letdown.fluid.inhibitor.ACTIVITY). Not a test: run it to reproduce the constants.
+(letdown.fluid.aqueous.inhibitor.ACTIVITY). Not a test: run it to reproduce the constants.
 
     ln gamma_w = x_i^2 (A + B x_i) + x_i^2 (C + D x_i) (T0 / T - 1)   (x_i: inhibitor mole fraction)
 
@@ -10,7 +10,7 @@ Data:
   ``INCOMP::MMA`` (methanol, 2.5-40 wt %) and ``INCOMP::MEG`` (ethylene glycol, 2.5-50 wt %). At the
   freezing point ice and solution are in equilibrium, so
   ln a_w = -(dH_fus / R)(1/T_f - 1/T0) + (dcp / R)(ln(T_f/T0) + T0/T_f - 1),
-  dH_fus = 6009.5 J/mol (as in letdown.fluid.hydrate), dcp = cp(liquid) - cp(ice) = 38 J/(mol K)
+  dH_fus = 6009.5 J/mol (as in letdown.fluid.aqueous.hydrate), dcp = cp(liquid) - cp(ice) = 38 J/(mol K)
   (common practice). This is the water activity at 218-272 K, where hydrates are inhibited.
 * Methanol only, for the temperature dependence: NRTL with the DECHEMA water-methanol parameters
   (Gmehling & Onken, DECHEMA Chemistry Data Series Vol. I/1 (1977) p. 61: A12 = -189.0469,
@@ -29,7 +29,7 @@ M_W = 18.01528
 M = {"methanol": 32.04186, "ethylene-glycol": 62.06784}
 FLUID = {"methanol": ("MMA", 0.40), "ethylene-glycol": ("MEG", 0.50)}
 #: The NRTL points reach the same methanol mole fraction as the freezing points (40 wt %): beyond
-#: it the model holds gamma_w (letdown.fluid.inhibitor.ACTIVITY_X_MAX).
+#: it the model holds gamma_w (letdown.fluid.aqueous.inhibitor.ACTIVITY_X_MAX).
 X_MAX = 0.27264
 
 

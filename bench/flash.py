@@ -36,7 +36,7 @@ def main(argv=None):
     args = ap.parse_args(argv)
     print(f"python {sys.version.split()[0]}, numpy {np.__version__}, {os.cpu_count()} cpus")
     try:
-        from letdown.fluid import native
+        from letdown.fluid.kernels import native
         print(f"letdown compiled kernels: {'on' if native.AVAILABLE else 'off'}")
     except ImportError:
         print("letdown compiled kernels: not built")

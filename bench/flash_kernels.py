@@ -1,4 +1,4 @@
-"""Compiled flash kernels against the numpy flash, in one run (letdown.fluid.native).
+"""Compiled flash kernels against the numpy flash, in one run (letdown.fluid.kernels.native).
 
 Times, for the compiled path and for numpy (``native.AVAILABLE`` switched off in the same process):
 
@@ -30,7 +30,7 @@ from pathlib import Path
 import numpy as np
 
 import letdown
-from letdown.fluid import native
+from letdown.fluid.kernels import native
 from _shared import BENCH_GAS, median_time
 
 ROOT = Path(__file__).resolve().parent.parent

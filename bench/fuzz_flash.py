@@ -185,7 +185,7 @@ def _gerg_roots(fluid, T, P):
     """All density roots of GERG-2008 at (T, P) by a scan of P(rho) with the NIST code:
     [(rho mol/m3, g J/mol)] for the mechanically stable ones."""
     import pyaga8
-    from letdown.fluid.gerg import GERG_NAMES, R_GERG
+    from letdown.fluid.eos.gerg import GERG_NAMES, R_GERG
     g = pyaga8.Gerg2008()
     c = pyaga8.Composition()
     for n, x in fluid.composition().items():

@@ -26,7 +26,7 @@ sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."
 
 import letdown  # noqa: E402
 from _shared import BENCH_GAS, median_time  # noqa: E402
-from letdown.fluid import gerg  # noqa: E402
+from letdown.fluid.eos import gerg  # noqa: E402
 
 
 def _raw(fluid, T, P):

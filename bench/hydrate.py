@@ -4,7 +4,7 @@ Run:  python bench/hydrate.py [--repeats N] [--sample K]
 
 Prints, in one run: the median time per state of ``Fluid.hydrate_T`` on a batch of 8,760 pressures
 (one vectorised pass), of the same call case by case (a sample of K pressures), and of the solve with a
-flash at every temperature (``letdown.fluid.hydrate.formation_T`` with ``eos_fugacities``, the method
+flash at every temperature (``letdown.fluid.aqueous.hydrate.formation_T`` with ``eos_fugacities``, the method
 before the one-phase fast path; sampled on 876 pressures), with the ratios. Target: at most 20 us per
 state in the batch.
 """
@@ -18,7 +18,7 @@ import time
 import numpy as np
 
 from letdown.fluid import Fluid
-from letdown.fluid import hydrate as hy
+from letdown.fluid.aqueous import hydrate as hy
 
 #: The gate-station gas (flowsheets/gate-station.yaml; invented for the demo).
 GAS = {"methane": 0.9135, "ethane": 0.048, "propane": 0.012, "nitrogen": 0.015,
@@ -40,7 +40,7 @@ def main(argv=None):
     ap.add_argument("--sample", type=int, default=200, help="pressures solved one by one")
     args = ap.parse_args(argv)
     try:
-        from letdown.fluid import native
+        from letdown.fluid.kernels import native
         kernels = "on" if native.AVAILABLE else "off"
     except ImportError:
         kernels = "not built"

@@ -38,7 +38,7 @@ def main(argv=None):
     ap.add_argument("--sample", type=int, default=40, help="hours solved one by one")
     args = ap.parse_args(argv)
     try:
-        from letdown.fluid import native
+        from letdown.fluid.kernels import native
         kernels = "on" if native.AVAILABLE else "off"
     except ImportError:
         kernels = "not built"

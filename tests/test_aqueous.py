@@ -1,10 +1,10 @@
-"""The aqueous phase beside the gas (letdown.fluid.aqueous): freezing point and density against
+"""The aqueous phase beside the gas (letdown.fluid.aqueous.solution): freezing point and density against
 measured data."""
 import numpy as np
 import pytest
 
-from letdown.fluid.aqueous import T_MELT, density, freezing_point, water_density
-from letdown.fluid.inhibitor import water_mole_fraction
+from letdown.fluid.aqueous.solution import T_MELT, density, freezing_point, water_density
+from letdown.fluid.aqueous.inhibitor import water_mole_fraction
 
 CP = pytest.importorskip("CoolProp.CoolProp")
 

@@ -18,8 +18,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from letdown.fluid import flash as fl
-from letdown.fluid import native
+from letdown.fluid.flash import twophase as fl
+from letdown.fluid.kernels import native
 from tests.test_flash_properties import FLUIDS, MODELS, random_gases
 
 sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "bench"))

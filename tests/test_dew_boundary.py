@@ -14,7 +14,7 @@ import pytest
 
 import letdown
 from letdown.errors import ConvergenceError, ModelError
-from letdown.fluid.envelope import EnvelopeSystem
+from letdown.fluid.flash.envelope import EnvelopeSystem
 from tests.test_flash_vs_thermo import thermo_flasher
 
 #: Invented gases whose dew point at 0.995 of the cricondenbar came out at 74.8, 62.7, 95.0 and
@@ -46,7 +46,7 @@ def envelopes():
 
 
 def envelope_equation_T(gas, P, T, inside):
-    """Temperature of the envelope equations at P (letdown.fluid.envelope.EnvelopeSystem,
+    """Temperature of the envelope equations at P (letdown.fluid.flash.envelope.EnvelopeSystem,
     specification ln P) by Newton's method from T with the K-values of a PT flash ``inside`` [K]
     into the two-phase range (an independent route to the boundary: the flash's split and
     fugacity equality, where the boundary solve bisects on the stability test)."""

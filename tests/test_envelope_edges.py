@@ -13,8 +13,8 @@ import pytest
 
 import letdown
 from letdown.errors import LetdownError
-from letdown.fluid import envelope as E
-from letdown.fluid import flash as fl
+from letdown.fluid.flash import envelope as E
+from letdown.fluid.flash import twophase as fl
 
 FUGACITY_TOL = 1e-8
 LEAN = {"methane": 0.92, "ethane": 0.045, "propane": 0.015, "n-butane": 0.005, "nitrogen": 0.01,

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 import letdown
-from letdown.fluid import flash as fl
+from letdown.fluid.flash import twophase as fl
 
 
 @pytest.mark.parametrize("zs", [{"propane": 1.0}, {"methane": 1.0},

@@ -91,7 +91,7 @@ def three_phase(fluid, T, P, s):
     unstable, so the mixture wants a third phase (below about 190 K methane and the C6+ alkanes
     form two liquids). letdown's flash is vapour-liquid only (three phases come with free water
     in the hydrate work), so P-h cannot be expected to invert P-T there."""
-    from letdown.fluid.flash import stability
+    from letdown.fluid.flash.twophase import stability
     out = np.zeros(len(T), dtype=bool)
     two = np.nonzero(s.n_phases == 2)[0]
     if two.size:

@@ -3,16 +3,16 @@ follow-up).
 
 Every reference number here is recomputed in the test from other routes -- the three-phase PT flash
 (``Fluid.flash_three_phase``), single-phase flashes of each phase's composition, the two-phase kernels of
-:mod:`letdown.fluid.flash` -- never copied from a run. The gases are invented for the tests.
+:mod:`letdown.fluid.flash.twophase` -- never copied from a run. The gases are invented for the tests.
 """
 import numpy as np
 import pytest
 
 import letdown
 from letdown.errors import ModelError
-from letdown.fluid import flash as fl
+from letdown.fluid.flash import twophase as fl
 from letdown.fluid.components import R
-from letdown.fluid.threephase import PX_H_TOL
+from letdown.fluid.flash.threephase import PX_H_TOL
 from letdown.sheet.loader import loads
 from letdown.sheet.solve import Sheet
 

@@ -33,7 +33,7 @@ from scipy.optimize import brentq
 
 import letdown
 from letdown.errors import ModelError
-from letdown.fluid.gerg import GERG_NAMES
+from letdown.fluid.eos.gerg import GERG_NAMES
 from tests.cases import (AGA8_GASES, AGA8_Z_ROWS, BAR, H2_BLEND_20, ISO_20765_2_ROWS, ISO_GASES,
                          LETDOWNS, NIST_AGA8_GERG, NIST_AGA8_TEST_GAS, NIST_AGA8_TEST_P,
                          NIST_AGA8_TEST_T, RICH_GAS_C7PLUS, agrees_to_printed_digits)

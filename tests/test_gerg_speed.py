@@ -18,7 +18,7 @@ import numpy as np
 import pytest
 
 import letdown
-from letdown.fluid import gerg
+from letdown.fluid.eos import gerg
 
 pytest.importorskip("pyaga8")
 

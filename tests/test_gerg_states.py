@@ -24,7 +24,7 @@ from CoolProp import AbstractState
 
 import letdown
 from letdown.errors import ModelError
-from letdown.fluid.gerg import GERG_NAMES
+from letdown.fluid.eos.gerg import GERG_NAMES
 from letdown.sheet.loader import load as load_flowsheet
 from letdown.sheet.solve import solve
 from tests.cases import BAR

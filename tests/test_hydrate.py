@@ -25,7 +25,7 @@ import pytest
 
 import letdown
 from letdown.errors import InputError
-from letdown.fluid import hydrate as hy
+from letdown.fluid.aqueous import hydrate as hy
 
 MPA = 1e6
 

@@ -1,11 +1,11 @@
 """Batch hydrate temperatures (issue 14 part 1): one vectorised pass over cases with their own
 compositions equals the case-by-case answer, and the one-phase fast path equals the solve with a
-flash at every temperature (the method of :func:`letdown.fluid.hydrate.formation_T`)."""
+flash at every temperature (the method of :func:`letdown.fluid.aqueous.hydrate.formation_T`)."""
 import numpy as np
 import pytest
 
 import letdown
-from letdown.fluid import hydrate as hy
+from letdown.fluid.aqueous import hydrate as hy
 
 #: Components of the random gases: the hydrate formers, a non-former (hydrogen) and a heavy
 #: non-former (n-pentane) that makes some gases two-phase at their hydrate point.

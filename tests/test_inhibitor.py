@@ -11,7 +11,7 @@ import pytest
 
 import letdown
 from letdown.errors import InputError
-from letdown.fluid import inhibitor as ih
+from letdown.fluid.aqueous import inhibitor as ih
 
 NATGAS = {"methane": 0.932, "ethane": 0.0425, "propane": 0.0161, "nitrogen": 0.0043,
           "carbon-dioxide": 0.0051}
@@ -99,7 +99,7 @@ def test_injection_rate_closes_the_inhibitor_balance():
 
 
 def test_free_water_rate():
-    from letdown.fluid.water import M_WATER, water_content
+    from letdown.fluid.aqueous.water import M_WATER, water_content
     T, P = 278.15, 5e6
     y_sat = water_content(None, T, P)
     assert ih.free_water_rate(100.0, 0.5 * y_sat, T, P) == 0.0

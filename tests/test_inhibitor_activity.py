@@ -1,4 +1,4 @@
-"""Water activity in methanol and MEG solutions (letdown.fluid.inhibitor.ACTIVITY) and the hydrate
+"""Water activity in methanol and MEG solutions (letdown.fluid.aqueous.inhibitor.ACTIVITY) and the hydrate
 temperatures it gives.
 
 Sources beside each check:
@@ -21,7 +21,7 @@ import numpy as np
 import pytest
 
 import letdown
-from letdown.fluid import inhibitor as ih
+from letdown.fluid.aqueous import inhibitor as ih
 
 CP = pytest.importorskip("CoolProp.CoolProp")
 

@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 import letdown
-from letdown.fluid import inhibitor as ih
+from letdown.fluid.aqueous import inhibitor as ih
 from letdown.sheet.loader import loads
 from letdown.sheet.solve import Sheet
 
@@ -91,7 +91,7 @@ def test_hydrate_model_dose_gives_the_asked_depression(name):
     assert d["sized_by"] == "hydrate-model"
     # independent re-evaluation: x_w of the aqueous phase from its wt % by hand (molar masses
     # of the component table), a_w = gamma_w x_w by the activity correlation written out here
-    # (letdown.fluid.inhibitor.ACTIVITY, taken at the inhibited hydrate temperature), then the
+    # (letdown.fluid.aqueous.inhibitor.ACTIVITY, taken at the inhibited hydrate temperature), then the
     # hydrate model at the protected stream
     M_i = {"methanol": 32.04186, "MEG": 62.06784}[name]
     W = d["inhibitor_wt_pct"]

@@ -11,7 +11,7 @@ import numpy as np
 import pytest
 
 import letdown
-import letdown.fluid.inhibitor as ih
+import letdown.fluid.aqueous.inhibitor as ih
 from letdown.equipment import KINDS, StreamBatch, flash_stream
 from letdown.errors import InputError
 from letdown.sheet.loader import loads
@@ -122,7 +122,7 @@ def test_downstream_hydrate_margin_grows_by_the_models_depression():
     assert drop == pytest.approx(dosed.streams["supply"].freezing["hydrate_T_K"]
                                  - dosed.streams["dosed"].freezing["hydrate_T_K"], rel=1e-12)
     # the water activity reported is gamma_w x_w: x_w by hand from the wt %, gamma_w of the
-    # activity correlation (letdown.fluid.inhibitor) at the stream's inhibited hydrate temperature
+    # activity correlation (letdown.fluid.aqueous.inhibitor) at the stream's inhibited hydrate temperature
     W = dosed.equipment["dose"]["inhibitor_wt_pct"]
     x_w = (100.0 - W) / 18.015 / ((100.0 - W) / 18.015 + W / M_METHANOL)
     T_h = dosed.streams["dosed"].freezing["hydrate_T_K"]

@@ -1,4 +1,4 @@
-"""The compiled flash kernels (letdown/fluid/_flashkernels.c via letdown.fluid.native) against the
+"""The compiled flash kernels (letdown/fluid/_flashkernels.c via letdown.fluid.kernels.native) against the
 numpy flash they stand in for.
 
 Both paths run in the same process (``native.AVAILABLE`` switched off for the numpy one) on random
@@ -15,9 +15,9 @@ import sys
 import numpy as np
 import pytest
 
-from letdown.fluid import flash as fl
-from letdown.fluid import native
-from letdown.fluid.cubic_fluid import _k_values
+from letdown.fluid.flash import twophase as fl
+from letdown.fluid.kernels import native
+from letdown.fluid.flash.engine import _k_values
 from tests.test_flash_properties import FLUIDS, MODELS, batch
 
 pytestmark = pytest.mark.skipif(not native.AVAILABLE,
@@ -300,7 +300,7 @@ def test_library_matching_its_source_is_used():
 @pytest.mark.parametrize("value, expected", [("1", "False"), ("0", "True")])
 def test_pure_numpy_switch(value, expected):
     env = dict(os.environ, LETDOWN_PURE_NUMPY=value)
-    code = "from letdown.fluid import native; print(native.AVAILABLE)"
+    code = "from letdown.fluid.kernels import native; print(native.AVAILABLE)"
     out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True,
                          check=True)
     assert out.stdout.strip() == expected

@@ -9,8 +9,8 @@ from CoolProp import AbstractState
 import CoolProp.CoolProp as CP
 
 import letdown
-from letdown.fluid import flash as fl
-from letdown.fluid.cubic import PR, CubicEOS, CubicKind
+from letdown.fluid.flash import twophase as fl
+from letdown.fluid.eos.cubic import PR, CubicEOS, CubicKind
 
 from tests.test_flash_vs_thermo import thermo_flasher
 
@@ -92,7 +92,7 @@ def test_bubble_and_dew_points_match_thermo(model, exact, rel_rounded):
     ref_dew = flasher.flash(T=T, VF=1.0, zs=zs).P
     assert gas.bubble_point(T=T) == pytest.approx(ref_bubble, rel=rel_rounded)
     assert gas.dew_point(T=T) == pytest.approx(ref_dew, rel=rel_rounded)
-    from letdown.fluid.cubic_fluid import CubicEngine
+    from letdown.fluid.flash.engine import CubicEngine
     engine = CubicEngine(gas.engine.comps, CubicEOS(gas.engine.comps, exact, gas.kijs))
     z = gas.zs[None, :]
     assert engine.saturation_P(np.array([T]), z, "bubble")[0] == pytest.approx(ref_bubble, rel=1e-6)

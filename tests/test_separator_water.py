@@ -3,7 +3,7 @@
 Water carried beside the gas (``gas.water`` or saturated feeds): the vapour leaves with at most
 the water content of gas saturated at the drum's T and P by ``gas.water_method`` (the route of the
 water dew point), the hydrocarbon liquid with the water the cubic equation dissolves in it
-(:func:`letdown.fluid.threephase.water_in_liquid`), the ``water`` outlet with the rest. Every
+(:func:`letdown.fluid.aqueous.water.water_in_liquid`), the ``water`` outlet with the rest. Every
 reference number below is recomputed here from the fluid's own routes (water content, water dew
 point, EOS fugacities), never copied from a solve: the water model is being refitted on another
 branch, so no water content is written down as a number.
@@ -15,9 +15,9 @@ import pytest
 
 import letdown
 from letdown.fluid.components import R
-from letdown.fluid.threephase import water_in_liquid
-from letdown.fluid.water import (M_WATER, MOL_PER_SM3, V_LIQUID, water_content,
-                                 water_dew_point, water_vapour_pressure)
+from letdown.fluid.aqueous.water import water_in_liquid
+from letdown.fluid.aqueous.water import (M_WATER, MOL_PER_SM3, V_LIQUID, water_content,
+                                         water_dew_point, water_vapour_pressure)
 from letdown.report.text import report_text
 from letdown.sheet.loader import loads
 from letdown.sheet.solve import Sheet, solve_cases
@@ -27,7 +27,7 @@ SEPARATORS = {"inlet-sep": ("field-gas", "wet-gas", "inlet-liquid", "inlet-water
               "cold-sep": ("cold-feed", "cold-gas", "cold-liquid", "cold-water")}
 #: The water balance of a separator closes to this, relative (the split is by difference).
 BALANCE = 1e-10
-#: The water dew point is bisected to 1e-7 K (letdown.fluid.water.DEW_T_TOL): a gas saturated at
+#: The water dew point is bisected to 1e-7 K (letdown.fluid.aqueous.water.DEW_T_TOL): a gas saturated at
 #: the drum's temperature has its dew point within that of it.
 DEW_TOL_K = 2e-7
 

@@ -1,16 +1,16 @@
-"""Three-phase PT flash (letdown/fluid/threephase.py).
+"""Three-phase PT flash (letdown/fluid/flash/threephase.py).
 
 Reference figures: Bukacek (1955) water content as in REFERENCE_DATA.md section 3 (through
-letdown.fluid.water); water vapour pressure Wagner & Pruss (2002). The gases are invented for the
+letdown.fluid.aqueous.water); water vapour pressure Wagner & Pruss (2002). The gases are invented for the
 tests.
 """
 import numpy as np
 import pytest
 
 from letdown.errors import ModelError
-from letdown.fluid.flash import pure_saturation_P
+from letdown.fluid.flash.twophase import pure_saturation_P
 from letdown.fluid.fluid import Fluid
-from letdown.fluid.water import water_content_eos, water_vapour_pressure
+from letdown.fluid.aqueous.water import water_content_eos, water_vapour_pressure
 
 #: A wet rich gas (invented), 2 % water.
 RICH = {"methane": 0.79, "ethane": 0.07, "propane": 0.04, "n-butane": 0.02, "n-pentane": 0.01,
@@ -58,7 +58,7 @@ def test_rich_gas_material_balance_and_fugacities(rich):
 
 def _own_model_water_content(eos, T, P, y_dry, iw):
     """Water mole fraction of the gas in equilibrium with pure liquid water of the same cubic
-    (the equation of letdown.fluid.water with the model's own liquid-water fugacity)."""
+    (the equation of letdown.fluid.aqueous.water with the model's own liquid-water fugacity)."""
     nc = y_dry.size
     pure = np.zeros((1, nc))
     pure[0, iw] = 1.0
@@ -89,7 +89,7 @@ def test_vapour_water_equals_the_models_saturated_water_content(rich):
 
 def test_vapour_water_within_ten_percent_of_the_saturated_water_content(rich):
     # Issue criterion: the water in the vapour matches the saturated water content of the gas
-    # within 10 %. Reference: letdown.fluid.water's EOS route for the flash's own vapour (water
+    # within 10 %. Reference: letdown.fluid.aqueous.water's EOS route for the flash's own vapour (water
     # vapour pressure of Wagner & Pruss 2002, Poynting factor), independent of the cubic's pure-
     # water liquid. Measured: flash / route 1.017-1.019 at 255-270 K (the cubic's water vapour
     # pressure with the Twu alpha is 1.0-1.2 % high there; with the Soave alpha the flash was
@@ -109,7 +109,7 @@ def test_vapour_water_within_ten_percent_of_the_saturated_water_content(rich):
 
 def test_hot_wet_methane_water_content_within_ten_percent():
     # hot (350 K, where even the Soave alpha was only 7 % low), the vapour of a
-    # methane + water flash is within 10 % of letdown.fluid.water's EOS route
+    # methane + water flash is within 10 % of letdown.fluid.aqueous.water's EOS route
     f = Fluid({"methane": 0.5, "water": 0.5})
     r = f.flash_three_phase(np.array([350.0]), np.array([100e5]))
     y_route = water_content_eos(f, 350.0, 100e5, zs=np.array([1.0, 0.0]))
@@ -157,9 +157,9 @@ def test_gerg_refused():
 def test_gas_solubility_in_water_is_a_stated_limit():
     # The documented limit (module docstring): with gas-side kij the aqueous phase holds far too
     # little methane; CO2 is fair. Reference: Henry's law with Sander (2015) constants
-    # (letdown.fluid.hydrate.HENRY), x = f / H. Measured at 298.15 K, 50 bar: methane x_eos / x_Henry
+    # (letdown.fluid.aqueous.hydrate.HENRY), x = f / H. Measured at 298.15 K, 50 bar: methane x_eos / x_Henry
     # 2.5e-4, CO2 0.81.
-    from letdown.fluid.hydrate import HENRY
+    from letdown.fluid.aqueous.hydrate import HENRY
     ratios = {}
     for comp in ("methane", "carbon-dioxide"):
         f = Fluid({comp: 0.5, "water": 0.5})

@@ -10,7 +10,7 @@ import CoolProp.CoolProp as CP
 
 import letdown
 from letdown.errors import InputError
-from letdown.fluid import water as w
+from letdown.fluid.aqueous import water as w
 
 
 def degF(t):

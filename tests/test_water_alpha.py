@@ -3,7 +3,7 @@ interaction parameters (data/kij_pr.csv) and the water content they give.
 
 References beside each check:
 
-* vapour pressure of water: Wagner & Pruss (2002) eq. 2.5 (letdown.fluid.water, itself checked
+* vapour pressure of water: Wagner & Pruss (2002) eq. 2.5 (letdown.fluid.aqueous.water, itself checked
   against CoolProp's IAPWS-95 in tests/test_water.py);
 * Bukacek (1955) water content (REFERENCE_DATA.md section 3);
 * a chart value: Kazim, "Quickly calculate the water content of natural gas", Hydrocarbon
@@ -17,11 +17,11 @@ import numpy as np
 import pytest
 
 import letdown
-from letdown.fluid import native
-from letdown.fluid.cubic import TWU_PR, sqrt_alpha
-from letdown.fluid.flash import pure_saturation_P
-from letdown.fluid.water import (PSI, bukacek_lb_per_mmscf, lb_per_mmscf_to_mole_fraction,
-                                 water_content_eos, water_vapour_pressure)
+from letdown.fluid.kernels import native
+from letdown.fluid.eos.cubic import TWU_PR, sqrt_alpha
+from letdown.fluid.flash.twophase import pure_saturation_P
+from letdown.fluid.aqueous.water import (PSI, bukacek_lb_per_mmscf, lb_per_mmscf_to_mole_fraction,
+                                         water_content_eos, water_vapour_pressure)
 
 #: Kazim (1996) coefficients a1..a4, b1..b4 for t < 37 degC and 37-82 degC (worksheet transcription)
 KAZIM_LOW = ((4.34322, 1.35912, -6.82391, 3.95407), (1.03776, -0.02865, 0.04198, -0.01945))

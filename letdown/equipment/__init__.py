@@ -13,12 +13,23 @@ Blocks know nothing of files or graphs; the sheet layer adds the file and line t
 """
 from __future__ import annotations
 
-from .common import BlockOutcome, closures
+from .common import BlockOutcome, carry, closures
 from .registry import REGISTRY, BlockKind, Parameter
-from .stream import StreamBatch, flash_stream
+from .stream import Carry, StreamBatch, flash_stream
 
 #: Block kind -> its ``run`` function (from :data:`letdown.equipment.registry.REGISTRY`).
 KINDS = {name: kind.run for name, kind in REGISTRY.items()}
 
-__all__ = ["KINDS", "REGISTRY", "BlockKind", "BlockOutcome", "Parameter", "StreamBatch", "closures",
-           "flash_stream"]
+#: Block kind -> its carry rule (the water and inhibitor beside the gas; see
+#: :func:`letdown.equipment.common.carry`), for the kinds that do not keep the default (declared
+#: with the kind, :data:`letdown.equipment.registry.REGISTRY`).
+CARRY_RULES = {name: kind.carry for name, kind in REGISTRY.items() if kind.carry is not None}
+
+
+def carry_rule(kind: str):
+    """The carry rule of a block kind: its own, or the default (:func:`common.carry`)."""
+    return CARRY_RULES.get(kind, carry)
+
+
+__all__ = ["CARRY_RULES", "KINDS", "REGISTRY", "BlockKind", "BlockOutcome", "Carry", "Parameter",
+           "StreamBatch", "carry_rule", "closures", "flash_stream"]

@@ -33,7 +33,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..fluid.components import COMPONENTS, R
-from .stream import StreamBatch
+from .stream import StreamBatch, blend
 
 #: Flows below this [mol/s] count as an empty stream (no division by them). Far below any real
 #: process flow; common practice for guarding divisions.
@@ -43,6 +43,16 @@ TINY_FLOW = 1e-300
 BY_GOAL = "_by_goal"
 #: Reserved ``params`` entry: True in a trial pass of a loop or goal (see the module docstring).
 TRIAL = "_trial"
+#: Reserved ``params`` entry: the sheet's water-content method (``gas.water_method``), with which a
+#: separator splits the water its inlet carries (:mod:`letdown.equipment.watersplit`).
+WATER_METHOD = "_water_method"
+#: Reserved ``params`` entry: whether a separator splits the inhibitor its inlet carries by the
+#: three-phase equilibrium (any ``inject`` block of the sheet on ``losses: equilibrium``) or sends
+#: it all with the free water (:func:`letdown.equipment.watersplit.split_inhibitor`).
+INHIBITOR_EQUILIBRIUM = "_inhibitor_equilibrium"
+#: Reserved ``params`` entry of an ``inject`` block: the dose rate over the cases [kg/s] the
+#: solver found for it at its protected point downstream (:mod:`letdown.equipment.inject`).
+DOSE_RATE = "_dose_rate"
 #: A vapour fraction strictly between these bounds counts as two phases [-] (flash noise around 0
 #: and 1 is not a second phase; common practice).
 TWO_PHASE_BOUNDS = (1e-9, 1.0 - 1e-9)
@@ -84,13 +94,44 @@ class BlockOutcome:
 
 
 def finish(inlets: Mapping[str, StreamBatch], outlets: Mapping[str, StreamBatch], energy_in,
-           **kwargs) -> BlockOutcome:
-    """Build a :class:`BlockOutcome`, computing its balance closures from the streams."""
+           own_carry: bool = False, **kwargs) -> BlockOutcome:
+    """Build a :class:`BlockOutcome`, computing its balance closures from the streams.
+
+    The water the inlets carry beside the gas (:class:`letdown.equipment.stream.Carry`) goes to
+    every outlet as the flow-weighted blend of the inlets' (:func:`letdown.equipment.stream.
+    blend`, weighted by the inlets' molar flows): a one-inlet block keeps it, free water is not
+    carried on. This is the rule of every block kind that does not move the water itself; one
+    that does (an exchanger keeps each side's own, a separator splits, a mixer blends by dry flow,
+    an ``inject`` block adds its dose) attaches its outlets' carries and passes
+    ``own_carry=True``.
+    """
     n = next(iter(inlets.values())).n_cases
+    if not own_carry and all(s.carry is not None for s in inlets.values()):
+        outlets, _ = carry(None, "", inlets, outlets, {})
     energy_in = np.broadcast_to(np.asarray(energy_in, dtype=float), (n,)).copy()
     mole, energy = closures(inlets.values(), outlets.values(), energy_in)
     return BlockOutcome(outlets=dict(outlets), energy_in=energy_in, mole_closure=mole,
                         energy_closure=energy, **kwargs)
+
+
+def carry(fluid, name: str, inlets: Mapping[str, StreamBatch], outlets: Mapping[str, StreamBatch],
+          params: Mapping) -> tuple[dict, dict]:
+    """The default carry rule (:func:`finish`): every outlet takes the flow-weighted blend of the
+    inlets' water and inhibitor (:func:`letdown.equipment.stream.blend`), nothing free.
+
+    Every kind has a rule of this signature (``KINDS_CARRY`` in :mod:`letdown.equipment`): its
+    ``run`` applies it, and the solver applies it alone, to the outlets a pass has already
+    solved, while a loop whose gas has settled settles its water and inhibitor.
+
+    Returns
+    -------
+    outlets : dict
+        Port -> the outlet carrying its water and inhibitor.
+    details : dict
+        Numbers of the carry for the block's details (none here).
+    """
+    mixed = blend([i.flow for i in inlets.values()], [i.carry for i in inlets.values()])
+    return {port: s.with_carry(mixed) for port, s in outlets.items()}, {}
 
 
 def closures(inlets, outlets, energy_in) -> tuple[np.ndarray, np.ndarray]:

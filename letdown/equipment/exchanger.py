@@ -17,7 +17,7 @@ when both ends are fine. ``UA`` is the slice-wise sum ``sum_k (Q / N) / LMTD_k``
 temperature difference); it is infinite where the profile touches or crosses.
 
 A ``min_approach`` or ``UA`` specification is met by the bracketed root finder of
-:mod:`letdown.fluid.rootfind` over ``0 <= Q <= Q_max``, where ``Q_max`` is the smaller of the
+:mod:`letdown.numerics.rootfind` over ``0 <= Q <= Q_max``, where ``Q_max`` is the smaller of the
 duties that bring the hot outlet to the cold inlet temperature or the cold outlet to the hot inlet
 temperature.
 
@@ -38,7 +38,7 @@ from __future__ import annotations
 import numpy as np
 
 from .common import TINY_FLOW, Refusals, array_param, by_goal, finish, one_of, outlet_pressure
-from ..fluid.rootfind import bracketed_root
+from ..numerics.rootfind import bracketed_root
 from .stream import StreamBatch, flash_stream
 
 #: Enthalpy slices of the profile check (about 20 resolves a dew-point bend to a fraction of a
@@ -203,8 +203,18 @@ def run(fluid, name: str, inlets, params):
     details = {"UA_W_K": np.where(np.isfinite(UA), UA, np.nan), "min_approach_K": min_dT,
                "min_approach_at": where, "hot_dP_Pa": hot.P - P_hot_out,
                "cold_dP_Pa": cold.P - P_cold_out}
-    return finish(inlets, {"hot": hot_out, "cold": cold_out}, 0.0, duty=Q, details=details,
+    outlets = {"hot": hot_out, "cold": cold_out}
+    carried = hot.carry is not None and cold.carry is not None
+    if carried:
+        outlets, _ = carry(fluid, name, inlets, outlets, params)
+    return finish(inlets, outlets, 0.0, own_carry=carried, duty=Q, details=details,
                   flags={"temperature_cross": cross, "spec_unmet": unmet, "reverse_duty": reverse})
+
+
+def carry(fluid, name: str, inlets, outlets, params) -> tuple[dict, dict]:
+    """The exchanger's carry rule (:func:`letdown.equipment.common.carry`): each side keeps its
+    own water and inhibitor (the two streams never meet)."""
+    return {side: s.with_carry(inlets[side].carry.kept()) for side, s in outlets.items()}, {}
 
 
 def _K(T) -> str:

@@ -27,7 +27,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..fluid.components import R
-from ..fluid.flash import T_HIGH, T_LOW
+from ..fluid.flash.twophase import T_HIGH, T_LOW
 from .common import (TINY_FLOW, Refusals, array_param, by_goal, field_name, finish, one_of,
                      outlet_pressure, refuse)
 from .stream import flash_stream

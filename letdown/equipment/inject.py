@@ -1,9 +1,10 @@
 """Inject: methanol or MEG hydrate inhibitor added to a stream.
 
 The inhibitor is **not** a component of the hydrocarbon flash. It is carried beside the gas like the
-water (:mod:`letdown.sheet.freezing`), so the gas passes this block unchanged: the outlet is the
-inlet (same T, P, flow, composition), no heat, no pressure drop, and the mole and energy balances
-of the gas close exactly.
+water (:class:`letdown.equipment.stream.Carry`), so the gas passes this block unchanged: the outlet
+is the inlet (same T, P, flow, composition), no heat, no pressure drop, and the mole and energy
+balances of the gas close exactly. :func:`run` adds the dose to the carried inhibitor:
+``rate / (M F)`` moles per mole of dry gas (F the inlet's dry flow).
 
 Parameters: ``inhibitor`` (``methanol`` or ``MEG``) and exactly one of
 
@@ -13,18 +14,22 @@ Parameters: ``inhibitor`` (``methanol`` or ``MEG``) and exactly one of
   wanted in the aqueous phase there follows from ``sized_by`` (:data:`SIZED_BY`):
   ``hammerschmidt`` (default), ``nielsen-bucklin``, or ``hydrate-model`` (the vdW-P hydrate
   temperature with a_w = x_w at the protected point's pressure and composition,
-  :func:`letdown.fluid.inhibitor.vdwp_wt_pct`). Neat inhibitor is injected; inhibitor already
+  :func:`letdown.fluid.aqueous.inhibitor.vdwp_wt_pct`). Neat inhibitor is injected; inhibitor already
   carried by the inlet is not credited.
 
 and ``losses`` (:data:`LOSSES`): ``equilibrium`` (default) adds the inhibitor that stays in the
 vapour and dissolves in a hydrocarbon liquid at the protected point
-(:func:`letdown.fluid.inhibitor.dose_with_losses`; the free water is what the three-phase flash
+(:func:`letdown.fluid.aqueous.inhibitor.dose_with_losses`; the free water is what the three-phase flash
 condenses there); ``none`` gives the aqueous part only, all the water the inlet carries taken as
-free water (:func:`letdown.fluid.inhibitor.injection_rate`).
+free water (:func:`letdown.fluid.aqueous.inhibitor.injection_rate`).
 
-What this block computes needs the water the streams carry, which is known only once the sheet
-has carried the water through (:func:`letdown.sheet.freezing.inhibitor_ratios`): :func:`dose` is
-called from there with the values this block's run reported, and the sheet adds its numbers
+A ``depression`` is met at a point **downstream** of this block, which is solved after it: the
+solver therefore finds the protected point from a solve of the sheet (the search stays in the
+sheet layer, :func:`letdown.sheet.freezing.protected_point`, since only the sheet knows the
+graph), this module's :func:`dose` does the arithmetic, and the sheet is solved once more with the
+rate found (``params[common.DOSE_RATE]``), which :func:`run` adds (the inhibitor changes neither
+the gas nor the water, so that second solve repeats every other number). A ``rate`` is added in
+the first solve already. The sheet adds the dose's numbers
 (:func:`letdown.sheet.freezing.dose_details`: rate, aqueous wt %, the split to aqueous, vapour
 and hydrocarbon liquid, the depression by each rule, the protected point) to this block's details.
 
@@ -37,7 +42,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from ..fluid.inhibitor import (
+from ..fluid.aqueous.inhibitor import (
     INHIBITORS,
     dose_with_losses,
     hammerschmidt_depression,
@@ -52,7 +57,8 @@ from ..fluid.inhibitor import (
     vdwp_wt_pct,
     water_mole_fraction,
 )
-from .common import array_param, case_text, field_name, finish, one_of
+from .common import DOSE_RATE, array_param, case_text, field_name, finish, one_of
+from .stream import INHIBITOR_NAMES, Carry, blend
 
 SPECS = ("rate", "depression")
 #: How a ``depression`` is turned into the inhibitor wanted in the aqueous phase (first: default).
@@ -63,7 +69,7 @@ LOSSES = ("equilibrium", "none")
 #: The detail under which :func:`run` reports each specification's values over the batch.
 PARAM_DETAILS = {"rate": "inhibitor_rate_kg_s", "depression": "depression_target_K"}
 #: Hammerschmidt's form is used up to about 20 K (module docstring of
-#: :mod:`letdown.fluid.inhibitor`); a depression above this is refused as outside any rule [K]
+#: :mod:`letdown.fluid.aqueous.inhibitor`); a depression above this is refused as outside any rule [K]
 #: (our limit: twice the stated range).
 MAX_DEPRESSION = 40.0
 
@@ -73,7 +79,7 @@ def checked(name: str, params, n: int):
 
     Returns
     -------
-    inh : letdown.fluid.inhibitor.Inhibitor
+    inh : letdown.fluid.aqueous.inhibitor.Inhibitor
     spec : str
         ``rate`` or ``depression``.
     value : ndarray (n,)
@@ -165,10 +171,10 @@ class ProtectedPoint:
 def target_wt_pct(inh, sized_by: str, dT, point: ProtectedPoint):
     """Inhibitor wanted in the aqueous phase for a depression dT [K] by the chosen rule [wt %].
 
-    ``hammerschmidt`` and ``nielsen-bucklin``: the inverse rules of :mod:`letdown.fluid.inhibitor`;
+    ``hammerschmidt`` and ``nielsen-bucklin``: the inverse rules of :mod:`letdown.fluid.aqueous.inhibitor`;
     ``hydrate-model``: the wt % for which the vdW-P hydrate temperature at the protected point's
     pressure and composition falls by dT with a_w = x_w
-    (:func:`letdown.fluid.inhibitor.vdwp_wt_pct`).
+    (:func:`letdown.fluid.aqueous.inhibitor.vdwp_wt_pct`).
     """
     dT = np.asarray(dT, float)
     if sized_by == "hammerschmidt":
@@ -320,14 +326,18 @@ def run(fluid, name: str, inlets, params):
     inlets : Mapping[str, StreamBatch]
         ``{"in": stream}``.
     params : Mapping
-        ``inhibitor`` (``methanol`` or ``MEG``) and one of ``rate`` [kg/s] or ``depression`` [K].
+        ``inhibitor`` (``methanol`` or ``MEG``) and one of ``rate`` [kg/s] or ``depression`` [K];
+        ``params[common.DOSE_RATE]`` (set by the solver): the rate found for the protected point
+        [kg/s] (NaN: refused, nothing added), which replaces a given ``rate``.
 
     Returns
     -------
     BlockOutcome
-        ``outlets={"out": inlet}``, ``dP`` 0; details ``inhibitor_rate_kg_s`` [kg/s] (rate given)
-        or ``depression_target_K`` [K] (depression given), the values of this batch (cases and
-        goals included), from which the sheet computes the rest (module docstring).
+        ``outlets={"out": inlet}`` with the dose added to the inhibitor it carries (a
+        ``depression`` before the solver has sized it adds nothing), ``dP`` 0; details
+        ``inhibitor_rate_kg_s`` [kg/s] (rate given) or ``depression_target_K`` [K] (depression
+        given), the values of this batch (cases and goals included), from which the sheet
+        computes the rest (module docstring).
 
     Raises
     ------
@@ -336,7 +346,64 @@ def run(fluid, name: str, inlets, params):
     """
     inlet = inlets["in"]
     n = inlet.n_cases
-    _, spec, value = checked(name, params, n)
+    inh, spec, value = checked(name, params, n)
     options(name, params)
     details = {PARAM_DETAILS[spec]: value}
-    return finish(inlets, {"out": inlet}, 0.0, dP=np.zeros(n), details=details)
+    outlets, own = {"out": inlet}, inlet.carry is not None
+    if own:
+        outlets, _ = carry(fluid, name, inlets, outlets, params)
+    return finish(inlets, outlets, 0.0, own_carry=own, dP=np.zeros(n), details=details)
+
+
+def carry(fluid, name: str, inlets, outlets, params) -> tuple[dict, dict]:
+    """The inject block's carry rule (:func:`letdown.equipment.common.carry`): the inlet's water
+    kept and its dose added (:func:`dosed`): ``params[common.DOSE_RATE]`` where the solver gives
+    it, else a given ``rate``; a ``depression`` not yet sized adds nothing."""
+    inlet = inlets["in"]
+    inh, spec, value = checked(name, params, inlet.n_cases)
+    rate = params.get(DOSE_RATE, value if spec == "rate" else None)
+    return {"out": outlets["out"].with_carry(dosed(inlet, rate, inh.name,
+                                                   _dry_flow(fluid, inlet)))}, {}
+
+
+def _dry_flow(fluid, stream):
+    F = np.asarray(stream.flow, float)
+    if "water" in fluid.components:
+        return F * (1.0 - np.asarray(stream.zs, float)[:, fluid.components.index("water")])
+    return F
+
+
+def dosed(inlet, rate, name: str, flow) -> Carry:
+    """The carry of an inject block's outlet: the inlet's water kept, its inhibitor plus
+    ``rate / (M F)`` moles of inhibitor ``name`` per mole of dry gas.
+
+    Parameters
+    ----------
+    inlet : StreamBatch
+        Carrying a :class:`letdown.equipment.stream.Carry`.
+    rate : ndarray (n,) or None
+        Mass flow of pure inhibitor [kg/s]; NaN or None: nothing added.
+    name : str
+        The inhibitor (a key of :data:`letdown.fluid.aqueous.inhibitor.INHIBITORS`).
+    flow : ndarray (n,)
+        Dry gas flow of the inlet, F [mol/s].
+
+    >>> import numpy as np
+    >>> from letdown import Fluid
+    >>> from letdown.equipment.stream import Carry, flash_stream
+    >>> s = flash_stream(Fluid({"methane": 1.0}), [100.0], [[1.0]], T=[280.0], P=[50e5])
+    >>> s = s.with_carry(Carry(np.array([1e-4]), np.zeros(1)))
+    >>> c = dosed(s, np.array([0.032042]), "methanol", s.flow)   # 1 mol/s of methanol
+    >>> round(float(c.inhibitor_ratio[0, 0]), 6)
+    0.01
+    """
+    n = inlet.n_cases
+    kept = blend([inlet.flow], [inlet.carry])
+    added = np.zeros((n, len(INHIBITOR_NAMES)))
+    if rate is not None:
+        flow = np.asarray(flow, float)
+        added[:, INHIBITOR_NAMES.index(name)] = np.where(
+            flow > 0.0, np.nan_to_num(np.broadcast_to(np.asarray(rate, float), (n,)))
+            / (INHIBITORS[name].M * 1e-3) / np.where(flow > 0.0, flow, 1.0), 0.0)
+    return Carry(kept.water_ratio, kept.free_water,
+                 np.asarray(inlet.carry.inhibitor_ratio, float) + added)

@@ -7,6 +7,11 @@ down. Where every inlet is empty the lowest of all counts. Outlet composition an
 flow-weighted means; the outlet is a P-h flash::
 
     F = sum F_k,   F z_i = sum F_k z_k,i,   F h = sum F_k h_k
+
+The water and inhibitor carried beside the gas (:class:`letdown.equipment.stream.Carry`, per mole of
+dry gas) are blended by the inlets' **dry** flows, ``r = sum D_k r_k / sum D_k``: their molar flows
+when the water is beside the gas, less their water where water is a component of it (so that the
+inhibitor is conserved when gases of different water content meet).
 """
 from __future__ import annotations
 
@@ -14,7 +19,8 @@ import numpy as np
 
 from ..errors import InputError
 from .common import TINY_FLOW, array_param, case_text, field_name, finish
-from .stream import flash_stream
+from .stream import blend, flash_stream
+from .watersplit import dry_flow
 
 
 def run(fluid, name: str, inlets, params):
@@ -67,5 +73,16 @@ def run(fluid, name: str, inlets, params):
                   component_flows / F[:, None])
     h = np.where(empty, np.mean([s.h for s in streams], axis=0),
                  sum(s.enthalpy_flow for s in streams) / F)
-    out = flash_stream(fluid, flow, zs, P=P_out, h=h)
-    return finish(inlets, {"out": out}, 0.0, dP=P_low - P_out)
+    outlets = {"out": flash_stream(fluid, flow, zs, P=P_out, h=h)}
+    carried = all(s.carry is not None for s in streams)
+    if carried:
+        outlets, _ = carry(fluid, name, inlets, outlets, params)
+    return finish(inlets, outlets, 0.0, own_carry=carried, dP=P_low - P_out)
+
+
+def carry(fluid, name: str, inlets, outlets, params) -> tuple[dict, dict]:
+    """The mixer's carry rule (:func:`letdown.equipment.common.carry`): water and inhibitor per dry
+    gas blended by the inlets' dry flows (module docstring)."""
+    streams = list(inlets.values())
+    mixed = blend([dry_flow(fluid, s) for s in streams], [s.carry for s in streams])
+    return {port: s.with_carry(mixed) for port, s in outlets.items()}, {}

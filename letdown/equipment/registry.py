@@ -57,6 +57,9 @@ class BlockKind:
     options: Mapping[str, dict] = field(default_factory=dict)
     measurable: Mapping[str, str] = field(default_factory=dict)
     numbers: tuple = ("dP",)
+    #: The kind's own rule for the water and inhibitor beside the gas, where it does not keep the
+    #: default flow-weighted blend (:func:`letdown.equipment.common.carry`).
+    carry: Callable | None = None
 
 
 #: Port layouts and the file entries that name the streams (JSON Schema fragments).
@@ -318,7 +321,7 @@ REGISTRY: Mapping[str, BlockKind] = MappingProxyType({
         numbers=('duty', 'dP'),
     ),
     "separator": BlockKind(
-        name="separator", run=separator.run, ports="separator",
+        name="separator", run=separator.run, carry=separator.carry, ports="separator",
         description=(
             'Splits one stream by phase at its own T and P (after the optional dP). Outlets: '
             'vapour and liquid required; water optional: the free water (the water the gas carries'
@@ -375,7 +378,7 @@ REGISTRY: Mapping[str, BlockKind] = MappingProxyType({
         numbers=('power', 'dP'),
     ),
     "mixer": BlockKind(
-        name="mixer", run=mixer.run, ports="mixer",
+        name="mixer", run=mixer.run, carry=mixer.carry, ports="mixer",
         description=(
             'Mixes two or more streams adiabatically; outlet pressure = lowest inlet unless P_out '
             'is given.'
@@ -397,7 +400,7 @@ REGISTRY: Mapping[str, BlockKind] = MappingProxyType({
         },
     ),
     "exchanger": BlockKind(
-        name="exchanger", run=exchanger.run, ports="exchanger",
+        name="exchanger", run=exchanger.run, carry=exchanger.carry, ports="exchanger",
         description=(
             'Two-stream heat exchanger (counter-current). Give exactly one of hot_T_out, '
             'cold_T_out, duty, min_approach or UA; hot_dP and cold_dP optional (default 0).'
@@ -432,7 +435,7 @@ REGISTRY: Mapping[str, BlockKind] = MappingProxyType({
         numbers=('duty',),
     ),
     "inject": BlockKind(
-        name="inject", run=inject.run, ports="one",
+        name="inject", run=inject.run, carry=inject.carry, ports="one",
         description=(
             'Hydrate inhibitor (methanol or MEG) added to a stream; the gas passes unchanged, the '
             'inhibitor is carried beside it like the water. Give exactly one of rate or '

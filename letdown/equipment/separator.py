@@ -7,10 +7,13 @@ pure component at saturation correctly.
 ``V = beta F`` at the vapour composition ``ys`` and the vapour phase's properties; the liquid outlet
 carries the rest, its component flows taken by difference (``F z_i - V y_i``) so that the mole
 balance closes to rounding. An absent phase leaves an empty outlet (zero flow, the inlet's state).
-The water the gas carries beside this water-free flash is split in the flowsheet's water carry
-(:mod:`letdown.sheet.freezing`): the vapour keeps at most its saturated content at the drum's T and
-P, the hydrocarbon liquid what dissolves in it, and the ``water`` outlet (a stream with no gas:
-zero flow here, vapour fraction 0: never the inlet's vapour) gets the rest as free water.
+The water the gas carries beside this water-free flash (the inlet's
+:class:`letdown.equipment.stream.Carry`) is split here (:func:`letdown.equipment.watersplit.split`):
+the vapour keeps at most its saturated content at the drum's T and P, the hydrocarbon liquid what
+dissolves in it, and the ``water`` outlet (a stream with no gas: zero flow here, vapour fraction 0:
+never the inlet's vapour) gets the rest as free water; the split is reported in the details
+(``water_in_mol_s``, ``water_in_vapour_mol_s``, ``water_in_liquid_mol_s``, ``free_water_mol_s``,
+``free_water_kg_s``).
 
 **Three phases** (``water`` is a component of the gas): the drum is adiabatic and three-phase. Its
 temperature T solves
@@ -18,9 +21,9 @@ temperature T solves
     beta_V h_V(T) + beta_L h_L(T) + beta_W h_W(T) = h_in
 
 at the outlet pressure, the phase fractions and compositions from the three-phase PT flash
-(:func:`letdown.fluid.threephase.flash_PT_3`) and each phase's enthalpy from the cubic equation
-plus the ideal-gas part (:func:`letdown.fluid.threephase.phase_properties`). T is found by
-:func:`letdown.fluid.threephase.flash_PX_3` (the bracketed root finder on the three-phase h(T)),
+(:func:`letdown.fluid.flash.threephase.flash_PT_3`) and each phase's enthalpy from the cubic equation
+plus the ideal-gas part (:func:`letdown.fluid.flash.threephase.phase_properties`). T is found by
+:func:`letdown.fluid.flash.threephase.flash_PX_3` (the bracketed root finder on the three-phase h(T)),
 started from the temperature of the inlet's P-h flash (``Fluid.flash`` with the inlet temperature
 as its guess, which for fluids with water uses the same routine), so the drum usually ends at
 that first evaluation. The vapour,
@@ -29,7 +32,7 @@ component flows are taken by difference so that the mole balance closes to round
 ``water`` port the aqueous phase leaves with the hydrocarbon liquid (one stream of two liquid
 phases: moles, enthalpy, entropy and volume added). Limits: the aqueous phase is the cubic
 equation's (hydrocarbons dissolved in it are an
-order-of-magnitude figure, see :mod:`letdown.fluid.threephase`); a single liquid phase with water
+order-of-magnitude figure, see :mod:`letdown.fluid.flash.threephase`); a single liquid phase with water
 as its largest component leaves by ``water`` (a vapour-like one, steam, by ``vapour``); a case
 whose drum temperature cannot be bracketed or met is marked unconverged (no fallback to the
 two-phase split). GERG-2008 has no three-phase flash: with it the two-phase path is used. The
@@ -53,8 +56,9 @@ import dataclasses
 import numpy as np
 
 from ..fluid.components import R
-from ..fluid.flash import is_vapour_like
-from ..fluid.threephase import PHASES, flash_PX_3, phase_properties
+from ..fluid.flash.twophase import is_vapour_like
+from ..fluid.flash.threephase import PHASES, flash_PX_3, phase_properties
+from . import watersplit
 from .common import TINY_FLOW, finish, outlet_pressure, pseudo_critical
 from .stream import StreamBatch
 
@@ -62,7 +66,7 @@ from .stream import StreamBatch
 PHASE_FIELDS = ("h", "s", "Z", "density", "molar_mass")
 #: The three-phase drum is flagged when its temperature differs from the P-h flash of its inlet
 #: (``Fluid.flash``) by more than this [K]. Both are the three-phase equilibrium now (the same
-#: routine, :func:`letdown.fluid.threephase.flash_PX_3`), so the difference is within the solver's
+#: routine, :func:`letdown.fluid.flash.threephase.flash_PX_3`), so the difference is within the solver's
 #: tolerance; the flag stays as a check that the blocks upstream and the drum agree.
 T_SHIFT_FLAG = 0.1
 
@@ -91,7 +95,9 @@ def run(fluid, name: str, inlets, params):
     params : Mapping
         Optional ``dP`` [Pa]; ``water_port`` (bool, default True): whether the ``water`` outlet
         is connected (the loader says); without it a three-phase drum sends its aqueous phase
-        with the hydrocarbon liquid.
+        with the hydrocarbon liquid (and a two-phase drum the free water it splits off).
+        ``params[common.WATER_METHOD]`` (set by the solver): the water-content method of the
+        water split (default ``bukacek``).
 
     Returns
     -------
@@ -112,7 +118,10 @@ def run(fluid, name: str, inlets, params):
         states = fluid.flash(P=P_out, h=inlet.h, zs=inlet.zs, T_guess=inlet.T)
         outlets = _three_phase(fluid, inlet, P_out, states, bool(params.get("water_port", True)))
         shift = outlets["vapour"].T - np.asarray(states.T, dtype=float)
-        return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
+        if inlet.carry is not None:       # the inhibitor beside the gas (the water is in it)
+            outlets, _ = carry(fluid, name, inlets, outlets, params)
+        return finish(inlets, outlets, 0.0, own_carry=inlet.carry is not None,
+                      dP=inlet.P - P_out,
                       details={"dT_vs_two_phase_K": shift},
                       flags={"three_phase_T_shift": ~(np.abs(shift) <= T_SHIFT_FLAG)
                                                     & (inlet.flow > 0),
@@ -137,8 +146,18 @@ def run(fluid, name: str, inlets, params):
     # no aqueous phase in the water-free flash: an empty liquid outlet, never the inlet's vapour
     water = dataclasses.replace(water, vapour_fraction=np.zeros_like(F))
     outlets = {"vapour": vapour, "liquid": liquid, "water": water}
-    return finish(inlets, outlets, 0.0, dP=inlet.P - P_out,
-                  flags=_single_phase_flags(fluid, inlet, outlets))
+    details = {}
+    if inlet.carry is not None:
+        outlets, details = carry(fluid, name, inlets, outlets, params)
+    return finish(inlets, outlets, 0.0, own_carry=inlet.carry is not None, dP=inlet.P - P_out,
+                  flags=_single_phase_flags(fluid, inlet, outlets), details=details)
+
+
+def carry(fluid, name: str, inlets, outlets, params) -> tuple[dict, dict]:
+    """The separator's carry rule (:func:`letdown.equipment.common.carry`): the water and
+    inhibitor of the inlet split between the outlets (:func:`letdown.equipment.watersplit.
+    carry_through`), with the water split as details."""
+    return watersplit.carry_through(fluid, params, inlets["in"], outlets)
 
 
 def _single_phase_flags(fluid, inlet, outlets) -> dict:

@@ -9,8 +9,8 @@ import numpy as np
 
 from ..errors import ConvergenceError, InputError, LetdownError, ModelError
 from .components import ComponentSet, canonical_name
-from .cubic import KINDS, CubicEOS
-from .cubic_fluid import CubicEngine
+from .eos.cubic import KINDS, CubicEOS
+from .flash.engine import CubicEngine
 
 
 #: Accepted model names (and spellings) -> canonical model name.
@@ -152,7 +152,7 @@ class Fluid:
 
     def _make_engine(self):
         if self.model == "gerg-2008":
-            from .gerg import GergEngine
+            from .eos.gerg import GergEngine
             return GergEngine(self._comps, self.kijs)
         eos = CubicEOS(self._comps, KINDS[self.model], self.kijs)
         return CubicEngine(self._comps, eos, self.volume_shift)
@@ -210,7 +210,7 @@ class Fluid:
 
         On the cubic models, a fluid with water among its components gets the three-phase
         equilibrium where it applies (vapour, hydrocarbon liquid, aqueous liquid; see
-        :mod:`letdown.fluid.threephase`): the two liquids are lumped as the state's liquid and
+        :mod:`letdown.fluid.flash.threephase`): the two liquids are lumped as the state's liquid and
         ``aqueous_fraction`` gives the aqueous one's share. Other fluids flash in two phases.
 
         Parameters
@@ -264,7 +264,7 @@ class Fluid:
 
     def flash_three_phase(self, T, P, zs=None):
         """Three-phase PT flash: vapour, hydrocarbon liquid and aqueous liquid (see
-        :mod:`letdown.fluid.threephase` for the method and the model's limits for water).
+        :mod:`letdown.fluid.flash.threephase` for the method and the model's limits for water).
 
         Parameters
         ----------
@@ -275,7 +275,7 @@ class Fluid:
 
         Returns
         -------
-        letdown.fluid.threephase.ThreePhaseResult
+        letdown.fluid.flash.threephase.ThreePhaseResult
             Phase fractions ``beta_V``, ``beta_L``, ``beta_W`` (0 where absent) and compositions
             ``y``, ``x``, ``w`` (NaN where absent), always as batch arrays (n,) and (n, nc).
 
@@ -291,7 +291,7 @@ class Fluid:
         if self.model == "gerg-2008":
             raise ModelError("GERG-2008 is used for single-phase states only here; use a cubic "
                              "model for the three-phase flash")
-        from .threephase import flash_PT_3
+        from .flash.threephase import flash_PT_3
         Ta = np.atleast_1d(np.asarray(T, dtype=float))
         Pa = np.atleast_1d(np.asarray(P, dtype=float))
         Z = self._zs if zs is None else np.asarray(zs, dtype=float)
@@ -335,7 +335,7 @@ class Fluid:
         (NaN elsewhere); ``branch="both"`` gives the pair (upper, lower). At T: the lowest
         pressure at which liquid exists. NaN where no liquid forms on that line (above the
         cricondenbar, say). Mixtures on the cubic models are solved as verified boundaries (see
-        :mod:`letdown.fluid.saturation`); a pure fluid's dew and bubble points are its saturation
+        :mod:`letdown.fluid.flash.saturation`); a pure fluid's dew and bubble points are its saturation
         point (GERG-2008 answers pure fluids only). Array inputs give arrays.
 
         Raises
@@ -369,7 +369,7 @@ class Fluid:
 
         Returns
         -------
-        letdown.fluid.envelope.Envelope
+        letdown.fluid.flash.envelope.Envelope
             ``dew`` and ``bubble`` (``.T`` [K], ``.P`` [Pa]), ``critical``, ``cricondentherm``,
             ``cricondenbar`` (``.T``, ``.P``, or None where the curve has none), ``lines``
             {vapour fraction: (T, P)}, ``converged`` and per-trace ``reports``.
@@ -386,7 +386,7 @@ class Fluid:
         if self.model == "gerg-2008":
             raise ModelError("GERG-2008 is used for single-phase states only here; use a cubic "
                              "model (peng-robinson, soave-redlich-kwong) for the phase envelope")
-        from .envelope import phase_envelope
+        from .flash.envelope import phase_envelope
         Z = self._zs if zs is None else np.asarray(zs, dtype=float)
         if Z.ndim != 1:
             raise InputError("envelope takes one composition (a 1-D array)")
@@ -428,7 +428,7 @@ class Fluid:
                                  "fluids and single-phase states of mixtures only; use a cubic "
                                  "model (peng-robinson, soave-redlich-kwong) for dew and bubble "
                                  "points")
-            from .saturation import boundary
+            from .flash.saturation import boundary
             i = np.nonzero(~pure)[0]
             out[i] = boundary(self, self._engine, xa[i], Zb[i], kind, axis, branch)
         return float(out[0]) if scalar else out
@@ -440,7 +440,7 @@ class Fluid:
         if key not in cache:
             if len(cache) > 64:
                 cache.clear()
-            from .envelope import phase_envelope
+            from .flash.envelope import phase_envelope
             try:
                 cache[key] = phase_envelope(self._engine, np.asarray(z, dtype=float))
             except (ValueError, ArithmeticError, FloatingPointError) as exc:
@@ -455,7 +455,7 @@ class Fluid:
     def hydrate_T(self, P, water_activity=1.0, zs=None):
         """Hydrate formation temperature at pressure P [K] (van der Waals-Platteeuw, Munck et al.
         1988; structures I and II, the one forming at the higher temperature). See
-        :mod:`letdown.fluid.hydrate` for the model statements.
+        :mod:`letdown.fluid.aqueous.hydrate` for the model statements.
 
         Parameters
         ----------
@@ -463,7 +463,7 @@ class Fluid:
             Pressure [Pa].
         water_activity : float or ndarray
             Activity of water in the aqueous phase before dissolved gas (1 for pure water; below 1
-            with an inhibitor, see :mod:`letdown.fluid.inhibitor`) [-].
+            with an inhibitor, see :mod:`letdown.fluid.aqueous.inhibitor`) [-].
         zs : ndarray, optional
             Composition override (component order); water in it is ignored.
 
@@ -477,15 +477,15 @@ class Fluid:
         InputError
             Non-positive pressure, water activity outside (0, 1], no hydrate former in the gas.
         """
-        from .hydrate import hydrate_curve
+        from .aqueous.hydrate import hydrate_curve
         scalar = np.ndim(P) == 0 and np.ndim(water_activity) == 0 and (zs is None or np.ndim(zs) == 1)
         T = hydrate_curve(self, P, zs=zs, water_activity=water_activity).T
         return float(T[0]) if scalar else T
 
     def hydrate_curve(self, P, water_activity=1.0, zs=None):
         """Hydrate formation temperatures over pressures P [Pa]: a
-        :class:`letdown.fluid.hydrate.HydrateCurve` (P, T, structure, T_sI, T_sII, report)."""
-        from .hydrate import hydrate_curve
+        :class:`letdown.fluid.aqueous.hydrate.HydrateCurve` (P, T, structure, T_sI, T_sII, report)."""
+        from .aqueous.hydrate import hydrate_curve
         return hydrate_curve(self, P, zs=zs, water_activity=water_activity)
 
     def water_content(self, T, P, method="bukacek"):
@@ -493,7 +493,7 @@ class Fluid:
 
         ``method="bukacek"`` (default): Bukacek (1955), sweet gas, composition ignored;
         ``method="eos"``: fugacity balance with pure liquid water on this fluid's cubic model
-        (Peng-Robinson for GERG-2008) with a Poynting factor. See :mod:`letdown.fluid.water` for
+        (Peng-Robinson for GERG-2008) with a Poynting factor. See :mod:`letdown.fluid.aqueous.water` for
         the models, the unit helpers (mg/Sm3, lb/MMscf) and their limits.
 
         Parameters
@@ -506,14 +506,14 @@ class Fluid:
         InputError
             Unknown method, non-positive T or P.
         """
-        from .water import water_content
+        from .aqueous.water import water_content
         return water_content(self, T, P, method=method)
 
     def water_dew_point(self, y_water, P, method="bukacek"):
         """Water dew point [K] at pressure P [Pa] of this gas holding water mole fraction
         ``y_water`` [-] (over liquid water, supercooled below 0 degC); see
-        :func:`letdown.fluid.water.water_dew_point`."""
-        from .water import water_dew_point
+        :func:`letdown.fluid.aqueous.water.water_dew_point`."""
+        from .aqueous.water import water_dew_point
         return water_dew_point(y_water, P, fluid=self, method=method)
 
 

@@ -73,7 +73,7 @@ MODELS = {
 
 
 #: What the water and hydrate figures assume (one statement each, for reports; the details and the
-#: measured accuracy are in :mod:`letdown.fluid.water` and :mod:`letdown.fluid.hydrate`).
+#: measured accuracy are in :mod:`letdown.fluid.aqueous.water` and :mod:`letdown.fluid.aqueous.hydrate`).
 WATER_AND_HYDRATE = {
     "water content": (
         "Bukacek (1955) for sweet gas over liquid water (composition ignored: no CO2/H2S "

@@ -1,6 +1,6 @@
 """Phase-envelope output: a text summary, CSV files, a JSON object and a picture.
 
-Pure functions of an :class:`letdown.fluid.envelope.Envelope` and a list of operating points
+Pure functions of an :class:`letdown.fluid.flash.envelope.Envelope` and a list of operating points
 ``[(name, T [K], P [Pa])]``; nothing here prints. matplotlib is imported only inside
 :func:`plot_envelope` (optional: other commands start without it).
 """

@@ -10,7 +10,7 @@ Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`
 
 * a mole fraction ``y`` of the wet gas: ``r = y / (1 - y)``;
 * ``mg/Sm3`` or ``lb/MMscf`` per standard volume of dry gas (ideal-gas standard volumes, as in
-  :mod:`letdown.fluid.water`): ``r`` is that many moles of water per mole of dry gas;
+  :mod:`letdown.fluid.aqueous.water`): ``r`` is that many moles of water per mole of dry gas;
 * ``saturated: {T, P}`` and ``dew_point: {T, P}`` (the same thing in two words): ``y`` is the water
   content of the gas saturated with liquid water at (T, P) by ``gas.water_method`` (Bukacek 1955
   by default);
@@ -19,34 +19,18 @@ Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`
   assumption for hydrates;
 * water listed in ``gas.composition``: each stream's own water fraction.
 
-How it moves: each block passes to its outlets the flow-weighted mean ratio of its inlets (a mixer
-blends, a splitter, heater, cooler, throttle, compressor or expander keeps it; an exchanger keeps
-each side's own), and a stream below its water dew point keeps its water in the count (it is the
-free water that can freeze or form hydrate). Loops are iterated to a fixed point
-(:data:`LOOP_TOLERANCE`).
-
-**A separator takes the free water out** (:func:`_separate`, :func:`water_flows`). At the drum's T
-and P (its vapour outlet's):
-
-* the vapour can hold ``r_V = y / (1 - y)`` per mole of dry vapour, ``y`` the water content of the
-  gas saturated with liquid water by ``gas.water_method`` -- the **same route** (and the file's gas
-  composition) as the water dew point below, so a vapour that leaves saturated has its water dew
-  point at the drum temperature (to the dew point's bisection tolerance). The three-phase flash
-  would give the cubic equation's own water content instead, which is not what the dew point
-  (Bukacek by default) is measured against, so the vapour would leave off its own dew point;
-* the hydrocarbon liquid can hold ``r_L`` from the fugacity balance of its water with pure liquid
-  water on the cubic equation (:func:`letdown.fluid.threephase.water_in_liquid`). With the constant
-  water kij this is 1e-7 to 3e-6 mol/mol at 250-300 K, far below measured solubilities: the free
-  water is overstated by the difference (the safe side for freezing);
-* with inlet water ``W = r_in F_in`` and capacity ``C = F_V r_V + F_L r_L``: if ``W >= C`` both
-  phases leave saturated and ``W - C`` leaves as free water by the ``water`` outlet; otherwise both
-  hold the same fraction ``W / C`` of their saturated contents (the water fugacity is common to
-  both and, this dilute, proportional to each content) and the ``water`` outlet gets nothing. The
-  balance ``W = vapour + liquid + free`` closes to rounding.
-
-The ``water`` outlet holds no gas (zero flow in the hydrocarbon flash): its water is kept as free
-water [mol/s] (:class:`WaterCarry`), and its water per dry gas is shown as NaN. A separator
-without a ``water`` port sends the free water with its liquid. Free water flowing from a
+How it moves: **inside the solve**, with the streams (:class:`letdown.equipment.stream.Carry`,
+attached to the feeds by :func:`feed_carries`). Each block passes it on in its own ``run``: by
+default the flow-weighted mean ratio of its inlets (a mixer blends; a splitter, heater, cooler,
+throttle, compressor, expander and any kind that does not override it keep it), an exchanger each
+side's own, a separator splits it (:mod:`letdown.equipment.watersplit`: the vapour and the
+hydrocarbon liquid keep at most their saturated contents at the drum by ``gas.water_method``, the
+same route as the water dew point below, and the rest leaves as free water by the ``water`` port,
+or with the liquid without one). A stream below its water dew point keeps its water in the count
+(it is the free water that can freeze or form hydrate). Loops settle the water in their tear
+iterations with the gas (:mod:`letdown.sheet.solve`). This module reads what the streams carry
+(:func:`water_flows`): free water [mol/s] (:class:`WaterCarry`) on a separator's ``water`` outlet,
+which holds no gas and whose water per dry gas is shown as NaN. Free water flowing from a
 ``water`` outlet into any block but a separator is not carried on (a note says so). Hydrocarbons
 dissolved in the free water are not counted: the water-free flash does not see the water.
 
@@ -54,38 +38,43 @@ With **water as a component** (listed in ``gas.composition``) the separator is a
 (:mod:`letdown.equipment.separator`) and each stream's water is its own water fraction.
 
 **Inhibitor** (``inject`` blocks, :mod:`letdown.equipment.inject`): carried the same way, per
-stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_ratios`), never in the
-hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds its
-rate; a separator splits it with its phases, whichever way the water is carried
-(:func:`_separate_inhibitor`: the three-phase split
-at the drum with ``losses: equilibrium``, all with the free water with ``losses: none``); the
-others carry it as the water. With all of a stream's water taken as free water, the
-stream's aqueous phase holds ``inhibitor_wt_pct`` (:func:`aqueous`), and its hydrate
+stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_carried`), never in
+the hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds
+its dose in its run; a separator splits it with its phases, whichever way the water is carried
+(:func:`letdown.equipment.watersplit.split_inhibitor`: the three-phase split at the drum with
+``losses: equilibrium``, all with the free water with ``losses: none``); the others carry it as
+the water. A block sized by ``depression`` protects the coldest gas-carrying stream downstream
+(:func:`protected_point`: never a separator's ``water`` or ``liquid`` outlet), which is solved
+after it: the solver finds that point from a solve (:func:`find_doses`, the search over the graph,
+with the block's own arithmetic, :func:`letdown.equipment.inject.dose`) and runs the blocks again
+with the rate found. A dose that did not converge, has no gas to protect, or exceeds
+:data:`MAX_DOSE_TO_GAS` of the gas mass is refused: NaN, a hazard record ``inhibitor_dose``, and
+the case marked not converged (:func:`_check_dose`). With all of a stream's water taken as free
+water, the stream's aqueous phase holds ``inhibitor_wt_pct`` (:func:`aqueous`), and its hydrate
 temperature is found with the water activity a_w = gamma_w x_w of that phase (gamma_w at the
-hydrate temperature, :func:`letdown.fluid.inhibitor.water_activity_coefficient`; reported as
+hydrate temperature, :func:`letdown.fluid.aqueous.inhibitor.water_activity_coefficient`; reported as
 ``water_activity``); the freezing point of its free water keeps the ideal a_w = x_w (warm: the
-safe side). When an ``inject``
-block counts its losses (``losses: equilibrium``), each stream's aqueous phase comes instead from
-the split of water and inhibitor at the stream's own T and P (:func:`aqueous_equilibrium`), and
-the block is sized at the coldest gas-carrying stream downstream (:func:`protected_point`:
-never a separator's ``water`` or ``liquid`` outlet). A dose that did not converge, has no gas
-to protect, or exceeds :data:`MAX_DOSE_TO_GAS` of the gas mass is refused: NaN, a hazard record
-``inhibitor_dose``, and the case marked not converged (:func:`_check_dose`).
+safe side). When an ``inject`` block counts its losses (``losses: equilibrium``), each stream's
+aqueous phase comes instead from the split of water and inhibitor at the stream's own T and P
+(:func:`aqueous_equilibrium`).
+
+What stays here is the margin calculation: water dew points, hydrate temperatures, ice, the
+warnings.
 
 Per stream and case:
 
 * ``water_dew_T`` -- the water dew point at the stream's pressure (over liquid water, supercooled
-  below 0 degC; :func:`letdown.fluid.water.water_dew_point`), NaN for dry gas or a dew point outside
+  below 0 degC; :func:`letdown.fluid.aqueous.water.water_dew_point`), NaN for dry gas or a dew point outside
   200-450 K;
 * ``hydrate_T`` -- the hydrate formation temperature at the stream's pressure for its dry
   composition (van der Waals-Platteeuw, Munck et al. 1988; free water assumed, a_w of pure water
-  lowered by dissolved gas: :mod:`letdown.fluid.hydrate`, and by the stream's inhibitor), NaN
+  lowered by dissolved gas: :mod:`letdown.fluid.aqueous.hydrate`, and by the stream's inhibitor), NaN
   where the gas has no hydrate former
   or no hydrate forms above 230 K;
 * ``free_water`` -- free water can be in the stream: at or below its water dew point, or a
   separator's free water (:func:`free_water`);
 * ``ice_T`` -- where free water can form, its freezing point with the stream's inhibitor
-  (:func:`letdown.fluid.aqueous.freezing_point` of the water activity; 0 degC without
+  (:func:`letdown.fluid.aqueous.solution.freezing_point` of the water activity; 0 degC without
   inhibitor), NaN elsewhere;
 * margins ``T - limit`` [K] (positive: warmer than the limit): hydrate, water dew point, ice
   (against ``ice_T``; none where no free water can form), ``limits.min_T`` and
@@ -126,13 +115,15 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..equipment.inject import PARAM_DETAILS, ProtectedPoint, dose
+from ..equipment.stream import INHIBITOR_NAMES, Carry
+from ..equipment.watersplit import dry_flow
 from ..errors import ConvergenceError, InputError
-from ..fluid.hydrate import LANGMUIR
-from ..fluid.aqueous import density as aqueous_density, freezing_point
-from ..fluid.inhibitor import INHIBITORS, partition, water_activity_coefficient
-from ..fluid.inhibitor import _solution_hydrate_T as solution_hydrate_T
-from ..fluid.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE, water_content,
-                           water_dew_point)
+from ..fluid.aqueous.hydrate import LANGMUIR
+from ..fluid.aqueous.solution import density as aqueous_density, freezing_point
+from ..fluid.aqueous.inhibitor import INHIBITORS, partition, water_activity_coefficient
+from ..fluid.aqueous.inhibitor import _solution_hydrate_T as solution_hydrate_T
+from ..fluid.aqueous.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE,
+                                   water_content, water_dew_point)
 from .graph import downstream_streams
 from .result import WarningRecord
 
@@ -144,16 +135,10 @@ ICE_T = 273.15
 #: (common practice; 3-5 K), covering the prediction's own error of 1-2 K and the swing of the
 #: gas temperature.
 DEFAULT_HYDRATE_MARGIN = 3.0
-#: A loop's water ratios are iterated until no ratio changes by more than this, relative [-] ...
-LOOP_TOLERANCE = 1e-12
-#: ... or for this many passes (a recycle of fraction f converges as f^k; 500 passes cover f = 0.95).
-LOOP_MAX_PASSES = 500
 #: A stream within this of its water dew point counts as at it [K]: the dew point is found by
-#: bisection to 1e-7 K (:data:`letdown.fluid.water.DEW_T_TOL`), so a feed saturated at its own
+#: bisection to 1e-7 K (:data:`letdown.fluid.aqueous.water.DEW_T_TOL`), so a feed saturated at its own
 #: temperature lands a few 1e-8 K either side.
 DEW_T_SLACK = 1e-6
-#: The inhibitors carried per stream, in the column order of the inhibitor ratios.
-INHIBITOR_NAMES = tuple(INHIBITORS)
 #: Column of methanol in the inhibitor arrays (the rest is MEG).
 METHANOL = INHIBITOR_NAMES.index("methanol")
 
@@ -188,7 +173,7 @@ class StreamFreezing:
         Free (liquid) water can be in the stream: it is at or below its water dew point, or it
         carries a separator's free water (:func:`free_water`).
     ice_T : ndarray (n,) or None
-        Freezing point of that free water with its inhibitor [K] (:func:`letdown.fluid.aqueous.
+        Freezing point of that free water with its inhibitor [K] (:func:`letdown.fluid.aqueous.solution.
         freezing_point` of ``water_activity``; 273.15 K without inhibitor); NaN where no free
         water can form.
     outlet_min_T : float or None
@@ -196,7 +181,7 @@ class StreamFreezing:
     aqueous_density : ndarray (n,) or None
         Density of the free water and its inhibitor where the stream holds nothing else (a
         separator's ``water`` outlet, water beside the gas) [kg/m3]
-        (:func:`letdown.fluid.aqueous.density`); NaN elsewhere.
+        (:func:`letdown.fluid.aqueous.solution.density`); NaN elsewhere.
     """
 
     water_ratio: np.ndarray
@@ -247,70 +232,42 @@ def ratio_from_spec(water, fluid, method: str, T=None, P=None) -> np.ndarray:
     return np.asarray(y / (1.0 - y))
 
 
-def _feed_ratios(fs, fluid, streams) -> tuple[dict, list]:
+def feed_carries(fs, fluid, streams) -> dict:
+    """The water every feed carries beside its gas, from ``gas.water`` (module docstring): feed
+    name -> :class:`letdown.equipment.stream.Carry` (no free water). The solver attaches it to
+    the feeds; the blocks carry it on.
+
+    Raises
+    ------
+    InputError
+        A water method or a feed state the water-content route cannot take, located at
+        ``gas.water``.
+    """
     water = fs.gas.water
     method = fs.gas.water_method
-    notes = []
     out = {}
     where = water.where if water is not None else None
     try:
         for name in fs.feeds:
             s = streams[name]
             r = ratio_from_spec(water, fluid, method, s.T, s.P)
-            out[name] = np.broadcast_to(r, s.T.shape).astype(float)
+            r = np.broadcast_to(r, s.T.shape).astype(float)
+            out[name] = Carry(r, np.zeros(r.shape))
     except InputError as exc:
         raise exc.located(file=(where.file if where else None) or fs.source,
                           line=where.line if where else None, field="gas.water") from None
-    if water is None and fs.feeds:
-        notes.append(WarningRecord(
-            "gas", "no gas.water given: each feed is taken as saturated with water at its own "
-                   f"temperature and pressure ({method}); hydrate and water dew point margins "
-                   "follow from that", tuple(range(next(iter(streams.values())).n_cases)),
-            kind="water_assumed", severity="note"))
-    return out, notes
+    return out
 
 
-def _mix(fs, block, streams, r, n, k=None):
-    """Carry the per-stream ratios ``r`` per dry gas (arrays (n,), or (n, k) when ``k`` is given)
-    through a block; a stream not yet reached counts as zero."""
-    spec = fs.blocks[block]
-    zero = np.zeros(n) if k is None else np.zeros((n, k))
-    if spec.kind == "exchanger":
-        for side in ("hot", "cold"):
-            r[spec.outlets[side]] = r.get(spec.inlets[side], zero)
-        return
-    flows = [np.asarray(streams[s].flow, float) for s in spec.inlets.values()]
-    ratios = [np.asarray(r.get(s, zero), float) for s in spec.inlets.values()]
-    shape = (n,) + (1,) * (max(x.ndim for x in ratios) - 1)
-    flows = [f.reshape(shape) for f in flows]
-    total = np.sum(flows, axis=0)
-    blend = np.sum([f * x for f, x in zip(flows, ratios)], axis=0)
-    mixed = np.where(total > 0.0, blend / np.where(total > 0.0, total, 1.0),
-                     np.broadcast_to(ratios[0], blend.shape))
-    for s in spec.outlets.values():
-        r[s] = mixed
-
-
-def _carry_steps(fs, steps, r, through, notes, what):
-    """Run ``through(block)`` over the solve order, iterating loops to a fixed point of ``r``."""
-    for step in steps:
-        if not step.is_loop:
-            through(step.blocks[0])
-            continue
-        inside = [s for b in step.blocks for s in fs.blocks[b].outlets.values()]
-        for _ in range(LOOP_MAX_PASSES):
-            before = {s: r.get(s) for s in inside}
-            for b in step.blocks:
-                through(b)
-            change = max(float(np.max(np.abs(r[s] - before[s]) / np.maximum(np.abs(r[s]), 1e-30)))
-                         if before[s] is not None else np.inf for s in inside)
-            if change <= LOOP_TOLERANCE:
-                break
-        else:
-            notes.append(WarningRecord(", ".join(step.blocks),
-                                       f"the {what} carried round this loop did not settle in "
-                                       f"{LOOP_MAX_PASSES} passes (change {change:.3g})",
-                                       kind="water_loop", severity="check"))
+def _water_notes(fs, streams) -> list:
+    """The note that the water was assumed (no ``gas.water``)."""
+    if fs.gas.water is not None or not fs.feeds:
+        return []
+    return [WarningRecord(
+        "gas", "no gas.water given: each feed is taken as saturated with water at its own "
+               f"temperature and pressure ({fs.gas.water_method}); hydrate and water dew point "
+               "margins follow from that", tuple(range(next(iter(streams.values())).n_cases)),
+        kind="water_assumed", severity="note")]
 
 
 @dataclass(frozen=True, eq=False)
@@ -346,112 +303,37 @@ class WaterCarry:
         return self.ratios[name] * F + self.free.get(name, np.zeros(stream.n_cases))
 
 
-def saturation_ratios(fluid, method: str, T, P, xs, has_liquid=None, ys=None
-                      ) -> tuple[np.ndarray, np.ndarray]:
-    """Water a separator's vapour and hydrocarbon liquid can hold at (T, P), per mole of dry
-    phase [mol/mol].
-
-    The vapour by ``gas.water_method`` (:func:`letdown.fluid.water.water_content`, at the
-    vapour's composition ``ys`` for ``eos``), the **same route as the water dew point**
-    (:func:`_dew_points`), so that a vapour leaving saturated has its water dew point at the
-    separator's temperature; the liquid by
-    the fugacity balance with pure liquid water on the fluid's cubic equation
-    (:func:`letdown.fluid.threephase.water_in_liquid`).
-
-    Parameters
-    ----------
-    fluid : Fluid
-    method : str
-        ``bukacek`` or ``eos``.
-    T, P : ndarray (n,)
-        Separator temperature [K] and pressure [Pa].
-    xs : ndarray (n, nc)
-        Hydrocarbon liquid composition [-].
-    has_liquid : ndarray of bool (n,), optional
-        Cases with a hydrocarbon liquid (default all); the others get ``r_liquid = 0``.
-    ys : ndarray (n, nc), optional
-        Vapour composition [-] (default the file's gas composition).
-
-    Returns
-    -------
-    r_vapour, r_liquid : ndarray (n,)
-        Water per dry vapour and per dry liquid at saturation [mol/mol].
-    """
-    from ..fluid.threephase import water_in_liquid
-    T = np.asarray(T, dtype=float)
-    P = np.asarray(P, dtype=float)
-    y = np.asarray(water_content(fluid, T, P, method=method, zs=ys), dtype=float).reshape(-1)
-    has = np.ones(T.shape, bool) if has_liquid is None else np.asarray(has_liquid, bool)
-    r_liquid = np.zeros(T.shape)
-    if has.any():
-        x = water_in_liquid(fluid, T[has], P[has], np.asarray(xs, float)[has])
-        r_liquid[has] = x / (1.0 - x)
-    return y / (1.0 - y), r_liquid
+def _drains(fs) -> dict:
+    """Separator name -> the stream its free water leaves by: its ``water`` outlet, or its
+    ``liquid`` outlet where it has no ``water`` port."""
+    return {b: spec.outlets.get("water", spec.outlets["liquid"])
+            for b, spec in fs.blocks.items() if spec.kind == "separator"}
 
 
-def _separate(fs, fluid, block, streams, r, free, split, cache, n):
-    """Split a separator's inlet water: the vapour and the hydrocarbon liquid leave with at most
-    their saturated contents at the drum's T and P, in the same proportion below saturation; the
-    rest leaves as free water by the ``water`` port (by the ``liquid`` port if there is none).
-    Fills ``r`` (ratios), ``free`` (free water [mol/s]) and ``split`` (the block's figures)."""
-    spec = fs.blocks[block]
-    inlet = spec.inlets["in"]
-    vap, liq = spec.outlets["vapour"], spec.outlets["liquid"]
-    wat = spec.outlets.get("water")
-    F = np.asarray(streams[inlet].flow, float)
-    r_in = np.asarray(r.get(inlet, np.zeros(n)), float)
-    W_in = r_in * F + free.get(inlet, np.zeros(n))
-    FV = np.asarray(streams[vap].flow, float)
-    FL = np.asarray(streams[liq].flow, float)
-    if block not in cache:      # the streams are solved: the capacities are fixed over passes
-        V = streams[vap]
-        cache[block] = saturation_ratios(fluid, fs.gas.water_method, V.T, V.P, streams[liq].zs,
-                                         has_liquid=FL > 0.0, ys=V.zs)
-    rV_sat, rL_sat = cache[block]
-    capacity = FV * rV_sat + FL * rL_sat
-    wetter = W_in >= capacity
-    # below saturation both phases hold the same fraction s of their saturated content (the water
-    # fugacity is common to both and, this dilute, proportional to each content)
-    s = np.where(wetter, 1.0, W_in / np.where(capacity > 0.0, capacity, 1.0))
-    in_vapour = s * FV * rV_sat
-    in_liquid = s * FL * rL_sat
-    excess = np.where(wetter, W_in - capacity, 0.0)
-    r[vap] = np.where(FV > 0.0, s * rV_sat, r_in)
-    if wat is None:
-        # a two-phase drum: the free water leaves with the hydrocarbon liquid
-        has_L = FL > 0.0
-        r[liq] = np.where(has_L, (in_liquid + excess) / np.where(has_L, FL, 1.0), r_in)
-        free[liq] = np.where(has_L, 0.0, excess)
-    else:
-        r[liq] = np.where(FL > 0.0, s * rL_sat, r_in)
-        r[wat] = np.zeros(n)
-        free[wat] = excess
-    split[block] = {"water_in_mol_s": W_in, "water_in_vapour_mol_s": in_vapour,
-                    "water_in_liquid_mol_s": in_liquid, "free_water_mol_s": excess}
-
-
-def water_flows(fs, fluid, streams, steps) -> WaterCarry:
+def water_flows(fs, fluid, streams, steps=None, outcomes=None) -> WaterCarry:
     """The water of every stream: ratios per dry gas, free water, and each separator's split.
 
-    Blocks other than separators carry the ratio as :func:`_mix` does; a separator splits its
-    inlet's water (:func:`_separate`). Free water that flows on from a separator into another
-    block is not carried further (a note says so): a drum's water outlet normally ends at a
-    product. With water in ``gas.composition`` the ratios are each stream's own water fraction.
+    The solve carries the water with the streams (:class:`letdown.equipment.stream.Carry`: the
+    blocks pass it on, separators split it, :mod:`letdown.equipment.watersplit`, loops settle it
+    in their tear iterations); this reads it. Free water that flows on from a separator into
+    another block is not carried further (a note says so): a drum's water outlet normally ends at
+    a product. With water in ``gas.composition`` the ratios are each stream's own water fraction.
 
     Parameters
     ----------
     fs : Flowsheet
     fluid : Fluid
     streams : Mapping[str, StreamBatch]
-        The solved streams.
-    steps : sequence
-        :func:`letdown.sheet.graph.solve_order` steps.
+        The solved streams (carrying their water, unless water is a component).
+    steps : sequence, optional
+        Not used (the solve order); kept for the callers.
+    outcomes : Mapping[str, BlockOutcome], optional
+        The blocks' outcomes: each separator's split from its details.
 
     Returns
     -------
     WaterCarry
     """
-    n = next(iter(streams.values())).n_cases
     if "water" in fluid.components:
         iw = fluid.components.index("water")
         water = lambda s: np.asarray(streams[s].zs, float)[:, iw] * np.asarray(streams[s].flow,
@@ -468,19 +350,17 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
                             "free_water_mol_s": free[wat]}
         return WaterCarry({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
                            for name, s in streams.items()}, free, split, [], iw)
-    r, notes = _feed_ratios(fs, fluid, streams)
-    free: dict = {}
-    split: dict = {}
-    cache: dict = {}
-
-    def through(block):
-        spec = fs.blocks[block]
-        if spec.kind == "separator":
-            _separate(fs, fluid, block, streams, r, free, split, cache, n)
-        else:
-            _mix(fs, block, streams, r, n)
-
-    _carry_steps(fs, steps, r, through, notes, "water")
+    notes = _water_notes(fs, streams)
+    r = {name: np.asarray(s.carry.water_ratio, float) for name, s in streams.items()}
+    free = {s: np.asarray(streams[s].carry.free_water, float)
+            for s in _drains(fs).values() if s in streams}
+    split = {}
+    for block in _drains(fs):
+        details = (outcomes or {}).get(block)
+        details = {} if details is None else details.details
+        if "free_water_mol_s" in details:
+            split[block] = {k: details[k] for k in ("water_in_mol_s", "water_in_vapour_mol_s",
+                                                    "water_in_liquid_mol_s", "free_water_mol_s")}
     for block, spec in fs.blocks.items():
         if spec.kind == "separator":
             continue
@@ -490,8 +370,6 @@ def water_flows(fs, fluid, streams, steps) -> WaterCarry:
                                               "through this block (only separators split water; "
                                               "send a water outlet to a product)",
                                        kind="water_not_carried", severity="check"))
-    for name in streams:
-        r.setdefault(name, np.zeros(n))
     return WaterCarry(r, free, split, notes)
 
 
@@ -544,66 +422,6 @@ def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:
                           dry_flow(fluid, streams[inlet]))
 
 
-def dry_flow(fluid, stream) -> np.ndarray:
-    """Molar flow of a stream's dry gas [mol/s]: its flow, less its water where water is a
-    component of the gas (the basis of every ratio per dry gas)."""
-    F = np.asarray(stream.flow, float)
-    if "water" in fluid.components:
-        return F * (1.0 - np.asarray(stream.zs, float)[:, fluid.components.index("water")])
-    return F
-
-
-def _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium):
-    """Split a separator's inlet inhibitor between its outlets (water beside the gas or a
-    component of it; ratios per mole of dry gas, :func:`dry_flow`).
-
-    With equilibrium losses (any ``inject`` block on ``losses: equilibrium``) the split is the
-    three-phase one at the drum's T and P (:func:`letdown.fluid.inhibitor.partition` of the inlet
-    gas with its water and inhibitor): the vapour leaves with what the vapour holds, the
-    hydrocarbon liquid with what it dissolves, and the aqueous part goes with the free water.
-    Without them (``losses: none`` everywhere: all the inhibitor taken to be in the water) the
-    whole inlet inhibitor goes with the free water where the drum drops free water, and otherwise
-    stays with the gas as in :func:`_mix`. The free water's share leaves by the ``water`` port (a
-    flow in ``free`` [mol/s], the outlet holding no gas), or with the hydrocarbon liquid when the
-    drum has no ``water`` port. The free water itself is split by :func:`_separate` (the file's
-    water-content route), the inhibitor by the flash: the two agree to the flash's own water
-    content (tests/test_threephase.py), not exactly."""
-    spec = fs.blocks[block]
-    inlet = spec.inlets["in"]
-    vap, liq = spec.outlets["vapour"], spec.outlets["liquid"]
-    wat = spec.outlets.get("water")
-    zero = np.zeros((n, k))
-    r_in = np.broadcast_to(np.asarray(r.get(inlet, zero), float), (n, k))
-    F = dry_flow(fluid, streams[inlet])[:, None]
-    FV = dry_flow(fluid, streams[vap])[:, None]
-    FL = dry_flow(fluid, streams[liq])[:, None]
-    to_V, to_L, to_W = zero.copy(), zero.copy(), zero.copy()
-    rows = np.flatnonzero((r_in.sum(axis=1) > 0.0) & (F[:, 0] > 0.0))
-    if rows.size and equilibrium:
-        V = streams[vap]
-        p = partition(fluid, np.asarray(V.T, float)[rows], np.asarray(V.P, float)[rows],
-                      np.asarray(streams[inlet].zs, float)[rows],
-                      np.asarray(water.ratios[inlet], float)[rows], r_in[rows])
-        to_V[rows], to_L[rows], to_W[rows] = p.vapour, p.hc_liquid, p.aqueous
-    elif rows.size:
-        split = water.separators.get(block)
-        drops = (np.asarray(split["free_water_mol_s"], float) > 0.0 if split is not None
-                 else np.zeros(n, bool))
-        to_W[rows] = np.where(drops[rows, None], r_in[rows], 0.0)
-        to_V[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FV[rows] / F[rows])
-        to_L[rows] = np.where(drops[rows, None], 0.0, r_in[rows] * FL[rows] / F[rows])
-    per = lambda amount, flow: np.where(flow > 0.0, amount * F / np.where(flow > 0.0, flow, 1.0),
-                                        r_in)
-    r[vap] = per(to_V, FV)
-    if wat is None:
-        r[liq] = per(to_L + to_W, FL)
-        free[liq] = np.where(FL > 0.0, 0.0, (to_L + to_W) * F)
-    else:
-        r[liq] = per(to_L, FL)
-        r[wat] = zero.copy()
-        free[wat] = to_W * F
-
-
 #: An inhibitor dose above this fraction of the mass of the gas it is injected into is refused as
 #: not a hydrate-inhibitor dose [kg/kg]. Methanol doses at let-down stations and chilling trains
 #: are of the order of a kilogram per thousand standard cubic metres (about 0.1 % of the gas
@@ -651,86 +469,63 @@ def _check_dose(block, d, inlet, water_kg_s, why=None) -> list:
     return out
 
 
-def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=None
-                     ) -> tuple[dict, dict, list]:
-    """Inhibitor per dry gas of every stream, and the dose of every ``inject`` block.
-
-    Each ``inject`` block adds ``rate / (M F)`` moles of its inhibitor per mole of dry gas (F the
-    stream's molar flow); a separator splits it with the water (:func:`_separate_inhibitor`; not
-    with water as a component, where the three-phase drum does the split); the other blocks carry
-    it as they carry the water (:func:`_mix`). The rate of a block given a ``depression``, and
-    where its inhibitor goes, follow from the coldest point downstream of it
-    (:func:`protected_point`, :func:`letdown.equipment.inject.dose`).
+def find_doses(fs, fluid, streams, steps, params=None, outcomes=None) -> tuple[dict, list]:
+    """The dose of every ``inject`` block: its protected point found downstream of it
+    (:func:`protected_point`, a search over the graph: it stays in the sheet layer), its dose by
+    the block's own arithmetic (:func:`letdown.equipment.inject.dose`), and the checks
+    (:func:`_check_dose`). The inhibitor changes neither the gas nor the water, so the streams of
+    any pass of the blocks serve; the solver then runs the blocks with the rates found, and each
+    ``inject`` block adds its dose in its own run (:mod:`letdown.sheet.solve`, Doses).
 
     Parameters
     ----------
-    fs, streams, steps
-        As for :func:`water_flows`.
-    water : WaterCarry
-        The water of every stream and each separator's split (:func:`water_flows`).
+    fs, fluid, streams, steps
+        As for :func:`water_flows`; ``steps`` gives the order of the blocks.
     params : Mapping[str, Mapping], optional
-        ``inject`` block name -> its parameters over the cases (SI); default the file's.
-    fluid : Fluid
-        The sheet's fluid (needed by any ``inject`` block).
-    free : dict, optional
-        Filled with stream name -> inhibitor sent with a separator's free water, ndarray (n, k)
-        [mol/s] (a ``water`` outlet, or a ``liquid`` outlet with no hydrocarbon liquid).
+        ``inject`` block name -> its parameters over the cases (SI; :func:`inject_params`);
+        default the file's.
+    outcomes : Mapping[str, BlockOutcome], optional
+        As for :func:`water_flows`.
 
     Returns
     -------
-    ratios : dict
-        Stream name -> ndarray (n, k) [mol/mol], k over :data:`INHIBITOR_NAMES`.
     doses : dict
-        ``inject`` block name -> the :func:`letdown.equipment.inject.dose` dict.
+        ``inject`` block name -> the :func:`letdown.equipment.inject.dose` dict (a refused rate
+        NaN).
     notes : list of WarningRecord
+        Refused doses (``inhibitor_dose``) and large losses to the hydrocarbon liquid
+        (``inhibitor_hc_loss``).
     """
     n = next(iter(streams.values())).n_cases
-    k = len(INHIBITOR_NAMES)
-    r: dict = {}
     doses: dict = {}
     notes: list = []
-
-    free = {} if free is None else free
-    warned: set = set()
-
-    # the loss treatment of the sheet (as stream_freezing decides it): equilibrium if any inject
-    # block asks for it (an invalid value is refused, with its place, by the block's dose below)
-    equilibrium = any(str((params or {}).get(b, spec.params).get("losses", "equilibrium"))
-                      .strip().lower() == "equilibrium"
-                      for b, spec in fs.blocks.items() if spec.kind == "inject")
-
-    def through(block):
+    water = water_flows(fs, fluid, streams, steps, outcomes)
+    order = [b for step in steps for b in step.blocks]
+    for block in order:
         spec = fs.blocks[block]
-        if spec.kind == "separator" and fluid is not None:
-            _separate_inhibitor(fs, fluid, block, streams, water, r, free, n, k, equilibrium)
-            return
         if spec.kind != "inject":
-            _mix(fs, block, streams, r, n, k)
-            return
+            continue
         inlet = spec.inlets["in"]
-        flow = dry_flow(fluid, streams[inlet])
-        if block not in doses:
+        try:
+            given = (params or {}).get(block, spec.params)
+            point = protected_point(fs, fluid, streams, water.ratios, block)
+            water_kg_s = water.flow(inlet, streams[inlet]) * M_WATER
             try:
-                given = (params or {}).get(block, spec.params)
-                point = protected_point(fs, fluid, streams, water.ratios, block)
-                water_kg_s = water.flow(inlet, streams[inlet]) * M_WATER
-                try:
-                    doses[block] = dose(block, given, water_kg_s, point)
-                    why = None
-                except ConvergenceError as exc:
-                    # refused below in every case: no number comes out of a failed search
-                    doses[block] = dose(block, given, water_kg_s, ProtectedPoint(
-                        fluid, point.stream, np.full(n, np.nan), point.P, point.zs,
-                        point.water_ratio, point.flow))
-                    why = f"the dose search did not converge ({exc.message})"
-            except InputError as exc:
-                w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
-                raise exc.located(file=(w.file if w else None) or fs.source,
-                                  line=w.line if w else spec.where.line) from None
-            notes.extend(_check_dose(block, doses[block], streams[inlet], water_kg_s, why))
+                doses[block] = dose(block, given, water_kg_s, point)
+                why = None
+            except ConvergenceError as exc:
+                # refused below in every case: no number comes out of a failed search
+                doses[block] = dose(block, given, water_kg_s, ProtectedPoint(
+                    fluid, point.stream, np.full(n, np.nan), point.P, point.zs,
+                    point.water_ratio, point.flow))
+                why = f"the dose search did not converge ({exc.message})"
+        except InputError as exc:
+            w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
+            raise exc.located(file=(w.file if w else None) or fs.source,
+                              line=w.line if w else spec.where.line) from None
+        notes.extend(_check_dose(block, doses[block], streams[inlet], water_kg_s, why))
         d = doses[block]
-        if block not in warned and d["losses"] == "equilibrium":
-            warned.add(block)
+        if d["losses"] == "equilibrium":
             aq = np.asarray(d["aqueous_kg_s"], float)
             lost = np.nan_to_num(np.asarray(d["hc_liquid_kg_s"], float))
             if np.any(lost > aq):
@@ -740,19 +535,18 @@ def inhibitor_ratios(fs, streams, steps, water, params=None, fluid=None, free=No
                                                   "methanol-hydrocarbon kij; README, closing "
                                                   "limits); check the rate against field data",
                                            kind="inhibitor_hc_loss", severity="check"))
-        j = INHIBITOR_NAMES.index(d["inhibitor"])
-        added = np.zeros((n, k))
-        added[:, j] = np.where(flow > 0.0, np.nan_to_num(d["rate_kg_s"])
-                               / (INHIBITORS[d["inhibitor"]].M * 1e-3)
-                               / np.where(flow > 0.0, flow, 1.0), 0.0)
-        r[spec.outlets["out"]] = np.asarray(r.get(inlet, np.zeros((n, k))), float) + added
+    return doses, notes
 
-    if any(b.kind == "inject" for b in fs.blocks.values()):
-        _carry_steps(fs, steps, r, through, notes, "inhibitor")
-    for name in streams:
-        r.setdefault(name, np.zeros((n, k)))
-        r[name] = np.broadcast_to(r[name], (n, k)).astype(float)
-    return r, doses, notes
+
+def inhibitor_carried(fs, streams) -> tuple[dict, dict]:
+    """Inhibitor per dry gas of every stream, ndarray (n, k) [mol/mol] (k over
+    :data:`INHIBITOR_NAMES`), and the inhibitor sent with each separator's free water, ndarray
+    (n, k) [mol/s] (its ``water`` outlet, or its ``liquid`` outlet without one), as the solve
+    carried them (:class:`letdown.equipment.stream.Carry`)."""
+    ratios = {s: np.asarray(b.carry.inhibitor_ratio, float) for s, b in streams.items()}
+    free = {s: np.asarray(streams[s].carry.free_inhibitor, float)
+            for s in _drains(fs).values() if s in streams}
+    return ratios, free
 
 
 def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
@@ -791,7 +585,7 @@ def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
 
 def aqueous_equilibrium(fluid, T, P, zs, water_ratio, inhibitor_ratio):
     """Inhibitor in the aqueous liquid and the water activity of streams at their own (T, P), the
-    inhibitor split by :func:`letdown.fluid.inhibitor.partition` (what the vapour and a
+    inhibitor split by :func:`letdown.fluid.aqueous.inhibitor.partition` (what the vapour and a
     hydrocarbon liquid hold is not in the aqueous phase). Rows without inhibitor or water keep
     :func:`aqueous`'s answer; rows with inhibitor but no aqueous liquid at their state have NaN
     wt % and a_w = 1 (no free water there).
@@ -840,7 +634,7 @@ def _hydrate_Ts(fluid, P, zs, aw=None, xm=None) -> tuple:
     water and methanol mole fraction xm in it), each distinct row solved once.
 
     With an inhibitor (aw < 1 and ``xm`` given) the water activity is gamma_w x_w, gamma_w of
-    :func:`letdown.fluid.inhibitor.water_activity_coefficient` at the inhibited hydrate temperature
+    :func:`letdown.fluid.aqueous.inhibitor.water_activity_coefficient` at the inhibited hydrate temperature
     itself (its fixed point); where that fixed point does not settle, the ideal a_w = x_w stays (it
     understates the depression: the safe side).
 
@@ -895,7 +689,8 @@ def _hydrate_Ts(fluid, P, zs, aw=None, xm=None) -> tuple:
     return T, st, failed, aw
 
 
-def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple[dict, list]:
+def stream_freezing(fs, fluid, streams, steps, doses=None, params=None, outcomes=None,
+                    found=None) -> tuple[dict, list]:
     """Water, inhibitor, water dew point and hydrate temperature of every stream.
 
     The hydrate temperature uses the water activity of the stream's free water with its inhibitor
@@ -909,11 +704,17 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
         Filled with ``inject`` block name -> details for its outcome: ``inhibitor_rate_kg_s``
         [kg/s], ``inhibitor_wt_pct`` [wt %], ``hydrate_depression_K`` (Hammerschmidt at that
         wt %) [K], ``hydrate_depression_vdwp_K`` (outlet hydrate temperature without and with the
-        inhibitor, vdW-P) [K]; and with separator name -> how it split the water (water beside
-        the gas only): ``water_in_mol_s``, ``water_in_vapour_mol_s``, ``water_in_liquid_mol_s``,
-        ``free_water_mol_s`` [mol/s] and ``free_water_kg_s`` [kg/s] (:class:`WaterCarry`).
+        inhibitor, vdW-P) [K]; and, with water as a component of the gas, with separator name
+        -> its water: ``water_in_mol_s``, ``water_in_vapour_mol_s``, ``water_in_liquid_mol_s``,
+        ``free_water_mol_s`` [mol/s] and ``free_water_kg_s`` [kg/s] (:class:`WaterCarry`; with
+        the water beside the gas the separator reports its split itself,
+        :mod:`letdown.equipment.watersplit`).
     params : Mapping[str, Mapping], optional
-        As for :func:`inhibitor_ratios`.
+        As for :func:`find_doses`.
+    outcomes : Mapping[str, BlockOutcome], optional
+        As for :func:`water_flows`.
+    found : tuple, optional
+        The doses and their notes (:func:`find_doses`) the solver found; default found here.
 
     Returns
     -------
@@ -922,11 +723,15 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
     notes : list of WarningRecord
         The assumptions made (water taken as saturated, loops) and any hydrate solve that failed.
     """
-    carried = water_flows(fs, fluid, streams, steps)
+    carried = water_flows(fs, fluid, streams, steps, outcomes)
     ratios, notes = carried.ratios, carried.notes
-    free_inh: dict = {}
-    inh, block_doses, inh_notes = inhibitor_ratios(fs, streams, steps, carried, params, fluid,
-                                                   free=free_inh)
+    dosing = any(b.kind == "inject" for b in fs.blocks.values())
+    if found is None and dosing:
+        found = find_doses(fs, fluid, streams, steps, params, outcomes)
+    block_doses, inh_notes = found if found is not None else ({}, [])
+    inh, free_inh = inhibitor_carried(fs, streams)
+    if not dosing:
+        free_inh = {}
     notes.extend(inh_notes)
     names = list(streams)
     n = streams[names[0]].n_cases
@@ -996,8 +801,9 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None) -> tuple
                                 free, np.where(free, freezing_point(x_w[sl]), np.nan),
                                 rule_T if s in rule_streams else None, rho)
     if doses is not None:
-        for b, split in carried.separators.items():
-            doses[b] = {**split, "free_water_kg_s": split["free_water_mol_s"] * M_WATER}
+        if carried.water_index is not None:
+            for b, split in carried.separators.items():
+                doses[b] = {**split, "free_water_kg_s": split["free_water_mol_s"] * M_WATER}
         for m, (b, d) in enumerate(block_doses.items()):
             free = hT_all[P.size + m * n: P.size + (m + 1) * n]
             doses[b] = {**dose_details(d),
@@ -1022,14 +828,15 @@ def inject_params(fs, outcomes) -> dict:
     return out
 
 
-def inject_doses(fs, fluid, streams, steps, params=None) -> dict:
+def inject_doses(fs, fluid, streams, steps, params=None, outcomes=None, found=None) -> dict:
     """The ``inject`` blocks' details without the hydrate solves (for a solve without margins):
     ``inhibitor_rate_kg_s``, ``inhibitor_wt_pct``, ``hydrate_depression_K`` (see
-    :func:`stream_freezing`), and the records of any dose refused (kind ``inhibitor_dose``)."""
+    :func:`stream_freezing`), and the records of any dose refused (kind ``inhibitor_dose``);
+    ``found`` as for :func:`stream_freezing`."""
     if not any(b.kind == "inject" for b in fs.blocks.values()):
         return {}, []
-    carried = water_flows(fs, fluid, streams, steps)
-    _, block_doses, notes = inhibitor_ratios(fs, streams, steps, carried, params, fluid)
+    block_doses, notes = found if found is not None else find_doses(fs, fluid, streams, steps,
+                                                                    params, outcomes)
     return ({b: dose_details(d) for b, d in block_doses.items()},
             [w for w in notes if w.kind == "inhibitor_dose"])
 

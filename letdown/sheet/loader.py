@@ -42,7 +42,7 @@ from ..equipment.registry import port_paths, ports
 from ..equipment.throttle import valve_problem
 from ..equipment.pipe import MAX_ELEVATION
 from ..errors import InputError
-from ..fluid.inhibitor import inhibitor
+from ..fluid.aqueous.inhibitor import inhibitor
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
 from .inputtext import _check_characters, _line_column, read_text
 from .kinds import EXACTLY_ONE, MASS_RATE, PARAMETERS  # noqa: F401 (re-exported)
@@ -742,7 +742,7 @@ def _model_covers(doc: _Doc, gas: GasSpec, path) -> None:
     """Refuse a model that has no parameters for a component of the gas, at the model's line."""
     if gas.model != "gerg-2008":
         return
-    from ..fluid.gerg import GERG_NAMES
+    from ..fluid.eos.gerg import GERG_NAMES
     missing = [c for c in gas.composition if c not in GERG_NAMES]
     if missing:
         raise doc.err(f"GERG-2008 has no parameters for {', '.join(missing)}; use a cubic model "

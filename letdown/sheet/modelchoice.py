@@ -22,8 +22,8 @@ from dataclasses import replace
 import numpy as np
 
 from ..errors import ConvergenceError, LetdownError, ModelError
-from ..fluid.gerg import GERG_NAMES
-from ..fluid.gerg import _import as gerg_import
+from ..fluid.eos.gerg import GERG_NAMES
+from ..fluid.eos.gerg import _import as gerg_import
 from .result import BatchResult, WarningRecord
 
 #: The model for a file whose streams stay in one vapour-like phase and whose components GERG-2008

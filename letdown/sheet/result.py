@@ -24,8 +24,8 @@ import numpy as np
 from ..equipment import StreamBatch, closures
 from ..caution import CAUTION
 from ..errors import ConvergenceError
-from ..fluid.inhibitor import INHIBITORS
-from ..fluid.water import M_WATER
+from ..fluid.aqueous.inhibitor import INHIBITORS
+from ..fluid.aqueous.water import M_WATER
 
 #: Molar masses of the inhibitors in the column order of the freezing inhibitor arrays [kg/mol].
 INHIBITOR_M = np.array([INHIBITORS[nm].M * 1e-3 for nm in INHIBITORS])
@@ -63,7 +63,7 @@ class StreamResult:
     A stream with zero flow reports its ``T`` and ``P`` (the state of the block it leaves) and
     None for every other property and its compositions, except a separator's ``water`` outlet
     carrying free water beside the gas: vapour fraction 0 and the density of that water with its
-    inhibitor (:func:`letdown.fluid.aqueous.density`).
+    inhibitor (:func:`letdown.fluid.aqueous.solution.density`).
 
     freezing : dict or None
         Water and hydrate figures when they were computed (JSON keys, SI): ``water_mg_Sm3`` (per

@@ -14,6 +14,23 @@ Loops
         x_{k+1} = q x_k + (1 - q) g_k
 
     starting with one plain substitution. Cases that have converged are masked out; the others go on.
+    When water and inhibitor are carried (:class:`letdown.equipment.stream.Carry`: with the
+    freezing margins or an ``inject`` block), each tear also carries its water and inhibitor per
+    dry gas and its free water and inhibitor, which settle in the same iterations (to
+    :data:`CARRY_TOLERANCE`); a case whose gas has settled before its water keeps its gas iterate
+    and runs carry passes until the water settles (its iteration count and residual are those of
+    the gas): the first solves the loop's blocks once more from the settled iterate (what the
+    final pass will solve), the next apply only the blocks' carry rules
+    (:func:`letdown.equipment.carry_rule`) to those solved outlets.
+Doses
+    An ``inject`` block sized by ``depression`` protects the coldest gas-carrying stream downstream
+    of it, solved after it. The solve therefore runs once, the protected point of each such block
+    is found from it (:func:`letdown.sheet.freezing.find_doses`; the block's own
+    :func:`letdown.equipment.inject.dose` does the arithmetic), and the blocks run once more with
+    the rates found (``params[common.DOSE_RATE]``), which each ``inject`` block adds to the
+    inhibitor it carries. The inhibitor changes neither the gas nor the water, so that pass
+    repeats every other number (its loops converge in the same iterations; the goals keep the
+    values they found).
 Failed cases
     Unless the solve is strict, a case that a block refuses (``InputError`` naming ``cases``) or
     whose loop does not converge leaves the pass: it is recorded with its reason and the step is
@@ -23,7 +40,7 @@ Failed cases
 Goals
     A goal varies one block parameter inside its bracket until a held quantity meets its target: the
     two bracket ends are evaluated together (one batch of ``2 n`` cases), then all cases iterate
-    with the Illinois root finder of :mod:`letdown.fluid.rootfind`. Several goals nest, the
+    with the Illinois root finder of :mod:`letdown.numerics.rootfind`. Several goals nest, the
     first outermost.
 """
 from __future__ import annotations
@@ -34,14 +51,18 @@ from dataclasses import dataclass, field
 
 import numpy as np
 
-from ..equipment import KINDS, BlockOutcome, StreamBatch, closures, flash_stream
-from ..equipment.common import BY_GOAL, TINY_FLOW, TRIAL
-from ..fluid.rootfind import bracketed_root
+from ..equipment import (KINDS, BlockOutcome, Carry, StreamBatch, carry_rule, closures,
+                         flash_stream)
+from ..equipment.common import (BY_GOAL, DOSE_RATE, INHIBITOR_EQUILIBRIUM, TINY_FLOW, TRIAL,
+                                WATER_METHOD)
+from ..equipment.stream import INHIBITOR_NAMES
+from ..numerics.rootfind import bracketed_root
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.components import R
 from ..fluid.models import out_of_range
-from .freezing import basis, freezing_warnings, inject_doses, inject_params, stream_freezing
+from .freezing import (basis, feed_carries, find_doses, freezing_warnings, inject_doses,
+                       inject_params, stream_freezing)
 from .blockflags import FLAG_KINDS, flag_warning, limit_warnings  # noqa: F401 (FLAG_KINDS: block flag -> kind)
 from .graph import build_graph, solve_order
 from .kinds import NUMBERS
@@ -61,6 +82,15 @@ WEGSTEIN_Q_MAX = 0.0
 #: Component flows of tear streams must settle to this relative change [-] whatever the solver's
 #: loop tolerance, so that every block's mole balance closes to 1e-9 (DESIGN.md).
 FLOW_TOLERANCE = 1e-10
+
+#: The water carried beside the gas (:class:`letdown.equipment.stream.Carry`) in a loop's tear
+#: streams must settle to this relative change [-] (each variable against its own size), as the
+#: water carry settled before it moved into the solve: far below any printed digit.
+CARRY_TOLERANCE = 1e-12
+#: A loop whose gas has settled runs at most this many further passes for its water alone (its
+#: stream numbers are then fixed; Wegstein settles a water recycle of fraction f <= 0.5 in two
+#: passes, f = 0.95 in about 80). Water still moving after them is reported (``water_loop``).
+CARRY_MAX_PASSES = 100
 
 #: A goal is met within ``max(goal_tolerance, GOAL_RELATIVE_FLOOR * |target|)``: below this the
 #: flash's own rounding (about 1e-12 relative) would make a large target unreachable.
@@ -164,7 +194,10 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
                                                              margins=margins))
     fluid = make_fluid(fs, model)
     base, n = _case_arrays(fs, cases)
-    engine = _Engine(fs, fluid, base, n, strict)
+    # the water beside the gas is carried through the blocks when the margins want it or an
+    # inject block sizes a dose on it; with water a component of the gas each stream has its own
+    carry = margins or any(b.kind == "inject" for b in fs.blocks.values())
+    engine = _Engine(fs, fluid, base, n, strict, carry=carry)
     ev = engine.evaluate(np.arange(n), {}, tuple(enumerate(fs.goals)))
     return engine.result(ev, margins=margins)
 
@@ -266,6 +299,9 @@ class _Evaluation:
     goals: list = field(default_factory=list)
     ok: np.ndarray | None = None
     reasons: np.ndarray | None = None
+    # loop step index -> (the cases of the pass at it, its converged tear variables): where the
+    # dose pass (:meth:`_Engine._doses`) starts its loops
+    ends: dict = field(default_factory=dict)
 
     def fail(self, cases, reasons) -> None:
         """Mark ``cases`` (indices or a bool mask) failed; a case keeps its first reason."""
@@ -370,8 +406,21 @@ class _Engine:
     further overrides (arrays aligned with ``sel``) -- how goals try values of their parameter.
     """
 
-    def __init__(self, fs: Flowsheet, fluid: Fluid, base: dict, n: int, strict: bool):
+    def __init__(self, fs: Flowsheet, fluid: Fluid, base: dict, n: int, strict: bool,
+                 carry: bool = False):
         self.fs, self.fluid, self.base, self.n, self.strict = fs, fluid, base, n, strict
+        # whether the streams carry the water and inhibitor beside the gas (letdown.equipment.
+        # stream.Carry); its water, unless water is a component of the gas (then each stream's own)
+        self.carry = carry
+        self.carry_water = carry and "water" not in fluid.components
+        # the sheet's inhibitor split: by the equilibrium if any inject block counts its losses
+        self.equilibrium = any(
+            str(spec.params.get("losses", "equilibrium")).strip().lower() == "equilibrium"
+            for spec in fs.blocks.values() if spec.kind == "inject")
+        # inject block -> the dose rate found for it over the n cases [kg/s] (the second pass)
+        self.dose_rates: dict = {}
+        # loops whose water had not settled after CARRY_MAX_PASSES: (blocks, change)
+        self.carry_unsettled: list = []
         self.G = build_graph(fs)
         self.steps = solve_order(self.G)
         self.components = tuple(fluid.components)
@@ -415,6 +464,11 @@ class _Engine:
         # the parameters goals vary (flagged, not refused) and whether this pass is a trial
         params[BY_GOAL] = tuple(k[len(prefix):] for k in over if k.startswith(prefix))
         params[TRIAL] = self._trial > 0
+        if self.carry:
+            params[WATER_METHOD] = self.fs.gas.water_method
+            params[INHIBITOR_EQUILIBRIUM] = self.equilibrium
+            if name in self.dose_rates:
+                params[DOSE_RATE] = self.dose_rates[name][sel]
         return params
 
     def _locate(self, exc: InputError, name: str) -> InputError:
@@ -431,12 +485,15 @@ class _Engine:
             return self._goal(goals[0], goals[1:], sel, over)
         return self._flow(sel, over)
 
-    def _flow(self, sel, over) -> _Evaluation:
+    def _flow(self, sel, over, warm=None) -> _Evaluation:
         """One pass through the blocks for the cases ``sel``.
 
         A case a block refuses (an ``InputError`` naming cases) or whose loop fails is removed from
         the pass (when not ``strict``) and the step is run again for the others, so that they get
         the very numbers they would get alone; at the end the removed cases are blank (NaN).
+        ``warm`` (the ``ends`` of an earlier pass of the same cases, whose gas and water this pass
+        repeats): each loop starts from its converged tear variables with its gas settled, and
+        runs carry passes only until its inhibitor settles.
         """
         m = len(sel)
         ev = _Evaluation(streams={}, outcomes={}, ok=np.ones(m, dtype=bool),
@@ -463,6 +520,13 @@ class _Engine:
             for name, (values, zs) in feeds.items():
                 streams[name] = flash_stream(self.fluid, values["flow"][alive], zs[alive],
                                              T=values["T"][alive], P=values["P"][alive])
+            if self.carry_water:
+                for name, c in feed_carries(self.fs, self.fluid, streams).items():
+                    streams[name] = streams[name].with_carry(c)
+            elif self.carry:      # water a component: each stream's own water, not carried
+                for name, st in streams.items():
+                    nan = np.full(st.n_cases, np.nan)
+                    streams[name] = st.with_carry(Carry(nan, nan))
         outcomes: dict = {}
         loops = []                     # (record, the cases it was made for)
 
@@ -478,16 +542,20 @@ class _Engine:
             now_over = {k: v[alive] for k, v in over.items()}
             return keep
 
-        for step in self.steps:
+        for index, step in enumerate(self.steps):
             while alive.size:
                 try:
                     if not step.is_loop:
                         self._run_block(step.blocks[0], streams, outcomes, now_sel, now_over)
                         break
                     entry = alive
-                    record, lost, why, end = self._loop(step, streams, now_sel, now_over)
+                    start = (warm or {}).get(index)
+                    start = start[1] if start is not None and np.array_equal(start[0], alive) \
+                        else None
+                    record, lost, why, end = self._loop(step, streams, now_sel, now_over, start)
                     if lost.any():
                         end = end.take(drop(lost, why))
+                    ev.ends[index] = (alive.copy(), end)
                     if alive.size:
                         self._loop_final(step, end, streams, outcomes, now_sel, now_over)
                     loops.append((record, entry))
@@ -586,10 +654,13 @@ class _Engine:
     def _guess(self, tear: str, step, streams, sel) -> StreamBatch:
         """Starting value of a tear stream: its ``guesses`` entry, else the loop's main inlet."""
         m = len(sel)
+        # the water of a tear starts from none (as a stream not yet reached)
+        water = None if not self.carry else Carry.zeros(m) if self.carry_water else Carry(
+            np.full(m, np.nan), np.full(m, np.nan))
         if tear in self.fs.guesses:
             g = self.fs.guesses[tear]
             return flash_stream(self.fluid, np.full(m, g.flow), np.tile(self.guess_zs[tear], (m, 1)),
-                                T=np.full(m, g.T), P=np.full(m, g.P))
+                                T=np.full(m, g.T), P=np.full(m, g.P)).with_carry(water)
         inside = set(step.blocks)
         external = [streams[s] for b in step.blocks for s in self.fs.blocks[b].inlets.values()
                     if self.producer.get(s) not in inside and s in streams]
@@ -605,11 +676,25 @@ class _Engine:
         T = np.stack([s.T for s in external])[main, pick]
         P = np.stack([s.P for s in external])[main, pick]
         zs = np.stack([s.zs for s in external])[main, pick]
-        return flash_stream(self.fluid, flows.sum(axis=0), zs, T=T, P=P)
+        return flash_stream(self.fluid, flows.sum(axis=0), zs, T=T, P=P).with_carry(water)
+
+    def _carry_width(self) -> int:
+        """Variables of one tear's carry: water per dry gas and free water (when the water is
+        carried), inhibitor per dry gas and free inhibitor (k each)."""
+        return (2 if self.carry_water else 0) + 2 * len(INHIBITOR_NAMES)
 
     def _pack(self, tears) -> np.ndarray:
-        """Tear streams -> variables (m, n_tears * (nc + 2)): component flows, P, h."""
-        return np.concatenate([np.column_stack([s.component_flows, s.P, s.h]) for s in tears], axis=1)
+        """Tear streams -> variables (m, n_tears * (nc + 2)): component flows, P, h; then, when
+        water and inhibitor are carried, :meth:`_carry_width` more per tear."""
+        x = np.concatenate([np.column_stack([s.component_flows, s.P, s.h]) for s in tears], axis=1)
+        if not self.carry:
+            return x
+        m = x.shape[0]
+        carries = [Carry.zeros(m) if s.carry is None else s.carry for s in tears]
+        water = (lambda c: [c.water_ratio, c.free_water]) if self.carry_water else (lambda c: [])
+        return np.concatenate([x] + [np.column_stack(water(c) + [c.inhibitor_ratio,
+                                                                 c.free_inhibitor])
+                                     for c in carries], axis=1)
 
     def _unpack(self, x, zs_fallback, T_guess) -> list:
         """Variables -> tear streams (P-h flashes started at ``T_guess``); zs kept from
@@ -622,7 +707,46 @@ class _Engine:
             zs = np.where((flow > TINY_FLOW)[:, None], comp / np.maximum(flow, TINY_FLOW)[:, None], zs0)
             out.append(flash_stream(self.fluid, flow, zs, P=block[:, nc], h=block[:, nc + 1],
                                     T_guess=T0))
+        if self.carry:
+            carries = self._unpack_carries(x, len(out) * (nc + 2), [s.n_cases for s in out])
+            out = [s.with_carry(c) for s, c in zip(out, carries)]
         return out
+
+    def _unpack_carry(self, x, tears) -> list:
+        """The tear streams ``tears`` (already solved) with the carry of the variables ``x``."""
+        G = len(tears) * (self.nc + 2)
+        fake = self._unpack_carries(x, G, [t.n_cases for t in tears])
+        return [t.with_carry(c) for t, c in zip(tears, fake)]
+
+    def _unpack_carries(self, x, G, sizes) -> list:
+        w, k = self._carry_width(), len(INHIBITOR_NAMES)
+        out = []
+        for t, n in enumerate(sizes):
+            c = np.maximum(x[:, G + t * w: G + (t + 1) * w], 0.0)
+            if self.carry_water:
+                water, c = (c[:, 0], c[:, 1]), c[:, 2:]
+            else:
+                water = (np.full(n, np.nan),) * 2
+            out.append(Carry(*water, c[:, :k], c[:, k:]))
+        return out
+
+    def _carry_blocks(self, names, streams, outcomes, sel, over) -> None:
+        """Carry the water and inhibitor through blocks whose gas is solved (``outcomes``): each
+        block's carry rule (:func:`letdown.equipment.carry_rule`) on its solved outlets."""
+        self._trial += 1
+        try:
+            for name in names:
+                spec = self.fs.blocks[name]
+                inlets = {port: streams[s] for port, s in spec.inlets.items()}
+                if not all(i.carry is not None for i in inlets.values()):
+                    continue
+                outlets, _ = carry_rule(spec.kind)(self.fluid, name, inlets,
+                                                   outcomes[name].outlets,
+                                                   self._params(name, sel, over))
+                for port, stream in spec.outlets.items():
+                    streams[stream] = outlets[port]
+        finally:
+            self._trial -= 1
 
     def _scales(self, tears) -> tuple[np.ndarray, np.ndarray]:
         """Per-variable scales for the residual, and a mask of the flow variables."""
@@ -633,7 +757,7 @@ class _Engine:
             flow_cols.append(np.r_[np.ones(self.nc, dtype=bool), False, False])
         return np.concatenate(cols, axis=1), np.concatenate(flow_cols)
 
-    def _loop(self, step, streams, sel, over):
+    def _loop(self, step, streams, sel, over, start: "_LoopEnd | None" = None):
         """Converge one loop's tear streams for the cases ``sel`` (Wegstein, converged cases
         masked).
 
@@ -651,10 +775,15 @@ class _Engine:
         flow_tol = min(tol, FLOW_TOLERANCE)
         m = len(sel)
         tears = step.tears
-        guesses = [self._guess(t, step, streams, sel) for t in tears]
-        zs_fallback = [g.zs for g in guesses]
-        T_last = [np.array(g.T) for g in guesses]     # each tear's latest temperature, per case
-        x = self._pack(guesses)
+        if start is None:
+            guesses = [self._guess(t, step, streams, sel) for t in tears]
+            zs_fallback = [g.zs for g in guesses]
+            T_last = [np.array(g.T) for g in guesses]   # each tear's latest temperature, per case
+            x = self._pack(guesses)
+        else:       # the converged variables of an earlier pass whose gas this one repeats
+            zs_fallback = [np.array(z) for z in start.zs_fallback]
+            T_last = [np.array(T) for T in start.T_last]
+            x = np.array(start.x)
         x_prev = np.full_like(x, np.nan)
         g_prev = np.full_like(x, np.nan)
         inside = set(step.blocks)
@@ -667,44 +796,84 @@ class _Engine:
         refused = np.zeros(m, dtype=bool)
         reasons = np.full(m, "", dtype=object)
         diverged = np.zeros(m, dtype=bool)
+        # cases whose gas has settled (their iterate, count and residual are final) while their
+        # water, carried in the same tear variables, may still be settling
+        settled = np.full(m, start is not None)
+        G = len(tears) * (self.nc + 2)          # the gas variables; the carried water follows
         history = []
         done_iterations = 0
-        while done_iterations < self.fs.solver.loop_max_iterations:
+        carry_passes = 0
+        carry_change = np.zeros(m)
+        # the last full pass made with every case's gas settled: (its cases, its tear inlets, its
+        # outcomes). Its gas is the final pass's, so a carry pass applies the blocks' carry rules
+        # to its outlets instead of solving them again
+        held = None
+        while True:
             a = np.flatnonzero(active)
             if a.size == 0:
                 break
+            if np.any(~settled[a]):
+                if done_iterations >= self.fs.solver.loop_max_iterations:
+                    break
+            elif carry_passes >= CARRY_MAX_PASSES:
+                break
             over_a = {k: v[a] for k, v in over.items()}
             local = {s: b.take(a) for s, b in outside.items()}
-            local.update(zip(tears, self._unpack(x[a], [z[a] for z in zs_fallback],
-                                                 [T[a] for T in T_last])))
-            outcomes: dict = {}
+            if held is not None and np.array_equal(held[0], a):
+                # the gas settled: carry the water and inhibitor alone through its solved outlets
+                carried = self._unpack_carry(x[a], [held[1][t] for t in tears])
+                local.update(zip(tears, carried))
+                self._carry_blocks(step.blocks, local, held[2], sel[a], over_a)
+                outcomes = held[2]
+            else:
+                tears_in = self._unpack(x[a], [z[a] for z in zs_fallback],
+                                        [T[a] for T in T_last])
+                local.update(zip(tears, tears_in))
+                outcomes: dict = {}
             try:
                 # a trial pass: blocks refuse nothing while the loop iterates (an iterate may
                 # break a rule the answer keeps); the final pass refuses
-                self._trial_blocks(step.blocks, local, outcomes, sel[a], over_a)
+                if outcomes is not (held[2] if held is not None else None):
+                    self._trial_blocks(step.blocks, local, outcomes, sel[a], over_a)
+                    if self.carry and not np.any(~settled[a]):
+                        held = (a.copy(), dict(zip(tears, tears_in)), outcomes)
             except _CasesFailed as exc:
                 # refused inside the loop: those cases leave it; the iteration is done again for
                 # the others from the same values (so their numbers are as if alone)
                 bad = a[exc.mask]
                 refused[bad], reasons[bad], active[bad] = True, exc.reasons[exc.mask], False
                 continue
-            done_iterations += 1
+            new = ~settled[a]                   # cases whose gas still iterates
+            if new.any():
+                done_iterations += 1
+            else:
+                carry_passes += 1
             produced = [local[t] for t in tears]
+            # a settled case keeps the temperatures its final pass starts from
             for T, s in zip(T_last, produced):
-                T[a] = s.T
+                T[a[new]] = s.T[new]
             g = self._pack(produced)
             scale, is_flow = self._scales(produced)
-            change = np.abs(g - x[a]) / scale
+            change = np.abs(g[:, :G] - x[a, :G]) / scale
             r_all = np.max(change, axis=1)
             r_flow = np.max(change[:, is_flow], axis=1)
             r_all = np.where(np.isfinite(r_all), r_all, np.inf)
-            iterations[a] += 1
-            residual[a] = r_all
-            history.append(float(np.max(r_all)))
-            done = (r_all <= tol) & (r_flow <= flow_tol)
+            iterations[a[new]] += 1
+            residual[a[new]] = r_all[new]
+            if new.any():
+                history.append(float(np.max(r_all[new])))
+            gas_done = settled[a] | ((r_all <= tol) & (r_flow <= flow_tol))
+            if g.shape[1] > G:
+                # the water: each variable against its own size (a loop without water settles)
+                w = np.abs(g[:, G:] - x[a, G:]) / np.maximum(np.abs(g[:, G:]), 1e-30)
+                w = np.max(w, axis=1)
+                carry_change[a] = np.where(np.isfinite(w), w, np.inf)
+                done = gas_done & (carry_change[a] <= CARRY_TOLERANCE)
+            else:
+                done = gas_done
             # an iterate with no state (a tear's flash failed: the loop has run off the model's
             # range) ends those cases at once; x keeps their last iterate that had one
-            lost_state = ~np.isfinite(np.max(g, axis=1))
+            lost_state = ~np.isfinite(np.max(g[:, :G], axis=1))
             if np.any(lost_state):
                 gone = a[lost_state]
                 active[gone], diverged[gone] = False, True
@@ -715,12 +884,26 @@ class _Engine:
             with np.errstate(divide="ignore", invalid="ignore"):
                 s = (g - gp) / dx
                 q = s / (s - 1.0)
-            q = np.where(np.isfinite(q) & (np.abs(dx) > 1e-14 * scale), q, 0.0)
+            size = np.concatenate([scale, np.maximum(np.abs(g[:, G:]), 1e-30)], axis=1)
+            q = np.where(np.isfinite(q) & (np.abs(dx) > 1e-14 * size), q, 0.0)
             q = np.clip(q, WEGSTEIN_Q_MIN, WEGSTEIN_Q_MAX)
             x_new = q * xa + (1.0 - q) * g
+            # a settled gas keeps its iterate (its final pass starts there); water with no number
+            # (a trial pass the water split could not take) starts again from none
+            x_new[:, :G] = np.where(gas_done[:, None], xa[:, :G], x_new[:, :G])
+            x_new[:, G:] = np.where(np.isfinite(x_new[:, G:]), x_new[:, G:], 0.0)
             x_prev[a], g_prev[a] = xa, g
             x[a] = np.where(done[:, None], xa, x_new)
+            settled[a] |= gas_done
             active[a[done]] = False
+        # a case whose gas settled but whose water did not in CARRY_MAX_PASSES passes has its
+        # stream numbers; its water is reported unsettled (a water_loop record), as before
+        unsettled = active & settled & ~diverged
+        if np.any(unsettled):
+            if self._trial == 0:          # a goal's search passes are not the answer
+                self.carry_unsettled.append((tuple(step.blocks),
+                                             float(np.max(carry_change[unsettled]))))
+            active[unsettled] = False
         converged = ~active & ~refused & ~diverged
         record = LoopRecord(blocks=tuple(step.blocks), tears=tuple(tears), iterations=iterations,
                             residual=residual, history=tuple(history), converged=converged)
@@ -892,8 +1075,10 @@ class _Engine:
                         raise ConvergenceError(text + f"{value[i]:.3g} (limit {limit:g})"
                                                + (f" in case {i}" if n > 1 else ""))
                     ev.fail(bad, [text + f"{v:.3g} (limit {limit:g})" for v in value[bad]])
+        found = self._doses(ev)
         if np.all(ev.ok):
-            result = self._assemble(ev, margins, ev.goals, ev.loops, ev.ok, ev.reasons)
+            result = self._assemble(ev, margins, ev.goals, ev.loops, ev.ok, ev.reasons,
+                                    found=found)
             result.__dict__["_closures"] = closure     # the same streams: no need to redo them
             return result
         keep = np.flatnonzero(ev.ok)
@@ -911,14 +1096,55 @@ class _Engine:
                     b: _spread_outcome(None, self.fs.blocks[b].kind, {}, keep, n)
                     for b in ev.outcomes}, ok=ev.ok, reasons=ev.reasons),
                 False, goals, ev.loops, ev.ok, ev.reasons, quiet=True)
-        assembled = self._assemble(lived, margins, (), (), lived.ok, lived.reasons)
+        assembled = self._assemble(lived, margins, (), (), lived.ok, lived.reasons, found=found)
         # a case refused while assembling (an absurd inhibitor dose) fails in the whole batch too
         late = keep[~lived.ok]
         ev.ok[late], ev.reasons[late] = False, lived.reasons[~lived.ok]
         return _spread_result(assembled, keep, n, goals, ev.loops, ev.ok, ev.reasons)
 
+    def _doses(self, ev: _Evaluation):
+        """The doses of the ``inject`` blocks, found on the cases that lived from their protected
+        points (:func:`letdown.sheet.freezing.find_doses`): (doses, notes), or None without any.
+        Where a rate differs from what the block added in this pass (a ``depression`` is sized
+        only now), the blocks run once more with the rates found (module docstring, Doses), and
+        ``ev`` takes that pass's streams and outcomes."""
+        injects = [b for step in self.steps for b in step.blocks
+                   if self.fs.blocks[b].kind == "inject"]
+        keep = np.flatnonzero(ev.ok)
+        if not (injects and self.carry and keep.size):
+            return None
+        every = keep.size == self.n
+        streams = ev.streams if every else {s: b.take(keep) for s, b in ev.streams.items()}
+        outcomes = ev.outcomes if every else {b: _take_outcome(o, keep)
+                                              for b, o in ev.outcomes.items()}
+        given = inject_params(self.fs, outcomes)
+        doses, notes = find_doses(self.fs, self.fluid, streams, self.steps, given, outcomes)
+        rates, again = {}, False
+        for b in injects:
+            rate = np.zeros(self.n)
+            rate[keep] = np.nan_to_num(np.asarray(doses[b]["rate_kg_s"], float))
+            added = np.zeros(keep.size)       # what the block added in this pass
+            if "rate" in given[b]:
+                added = np.nan_to_num(np.broadcast_to(np.asarray(given[b]["rate"], float),
+                                                      (keep.size,)))
+            again |= not np.array_equal(rate[keep], added)
+            rates[b] = rate
+        if not again:
+            return doses, notes
+        self.dose_rates = rates
+        second = self._flow(np.arange(self.n), {g.by: np.asarray(g.value, float)
+                                                for g in ev.goals}, warm=ev.ends)
+        ev.streams, ev.outcomes = second.streams, second.outcomes
+        lost = ev.ok & ~second.ok
+        if np.any(lost):
+            # a case this pass lost (none should: only the inhibitor changed) fails, and the
+            # doses are found again on the cases left
+            ev.fail(lost, second.reasons[lost])
+            return None
+        return doses, notes
+
     def _assemble(self, ev: _Evaluation, margins: bool, goals, loops, ok, reasons, *,
-                  quiet: bool = False) -> BatchResult:
+                  quiet: bool = False, found=None) -> BatchResult:
         """The result of cases that all lived (``quiet``: of cases that all failed, with no
         warnings, margins or doses)."""
         warnings = []
@@ -942,11 +1168,18 @@ class _Engine:
         if margins:
             # the freezing checks run on every solve, with or without limits or gas.water
             freezing, notes = stream_freezing(self.fs, self.fluid, ev.streams, self.steps, doses,
-                                              given)
+                                              given, outcomes=ev.outcomes, found=found)
+            for blocks, change in dict(self.carry_unsettled).items():
+                notes.append(WarningRecord(", ".join(blocks), (
+                    f"the water and inhibitor carried round this loop did not settle in "
+                    f"{CARRY_MAX_PASSES} "
+                    f"passes after its streams (change {change:.3g})"), kind="water_loop",
+                    severity="check"))
             warnings.extend(notes)
             warnings.extend(freezing_warnings(self.fs, ev.streams, freezing))
         else:
-            doses, notes = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given)
+            doses, notes = inject_doses(self.fs, self.fluid, ev.streams, self.steps, given,
+                                        outcomes=ev.outcomes, found=found)
             warnings.extend(notes)
         for w in notes:
             if w.kind == "inhibitor_dose":    # a refused dose: its cases did not solve

@@ -23,7 +23,7 @@ constraint    quantity (a block's detail)                                 limit
 The station's **reserve** ``F(s) = max_j (q_j(s) - L_j) / L_j`` over every constraint ``j`` of
 the case (``+inf`` where the case fails to solve, or a valve's required Kv has no solution
 through its reducers) rises with the flow; the capacity is its root ``F(s*) = 0``, found on
-``u = ln s`` by the vectorised Illinois solver of :mod:`letdown.fluid.rootfind` (a secant step
+``u = ln s`` by the vectorised Illinois solver of :mod:`letdown.numerics.rootfind` (a secant step
 kept inside the bracket; bisection where ``F`` is infinite). Every evaluation is **one batch**
 through :func:`letdown.sheet.solve.solve_cases` holding every case still searching: first all
 cases at the file's flow (``s = 1``), then a bracket from a first-order estimate (a valve's Kv and
@@ -47,7 +47,7 @@ from ..caution import CAUTION
 from ..equipment import valve as iec
 from ..equipment.throttle import SONIC_MACH
 from ..errors import InputError
-from ..fluid.rootfind import bracketed_root
+from ..numerics.rootfind import bracketed_root
 from ..sheet.solve import solve_cases
 from ..sheet.spec import Flowsheet
 from .size import _case_arrays

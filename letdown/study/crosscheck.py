@@ -15,7 +15,7 @@ import numpy as np
 
 from ..errors import ConvergenceError, InputError, ModelError
 from ..fluid.components import COMPONENTS
-from ..fluid.gerg import GERG_NAMES
+from ..fluid.eos.gerg import GERG_NAMES
 from ..fluid.models import MODELS
 from ..sheet.solve import solve
 from ..sheet.spec import Flowsheet

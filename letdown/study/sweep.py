@@ -30,7 +30,7 @@ from dataclasses import dataclass
 import numpy as np
 
 from ..errors import InputError
-from ..fluid.water import M_WATER
+from ..fluid.aqueous.water import M_WATER
 from ..fluid.components import canonical_name
 from ..quantities import SI_UNITS, MassFlow, parse_quantity
 from ..sheet.solve import FEED_FIELDS, solve_cases

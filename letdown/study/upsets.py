@@ -35,7 +35,7 @@ written), all cases of a scenario solved together in one batch:
       together: for a trial flow ``W``, each valve's pressure-drop ratio ``x`` from ``W = N6 Fp
       Kv Y sqrt(x P1 rho1)`` (IEC 60534-2-1, FR = 1; bracket ``[0, x_choked]``), the state at its
       outlet by a P-h flash, then ``W`` such that the last outlet is at the set pressure
-      (Illinois, :mod:`letdown.fluid.rootfind`). Where the first valve chokes before the last
+      (Illinois, :mod:`letdown.numerics.rootfind`). Where the first valve chokes before the last
       outlet reaches the set pressure, the run passes the first valve's choked flow.
 
 Every upset carries :data:`letdown.caution.UPSET_CAUTION`.
@@ -48,7 +48,7 @@ import numpy as np
 
 from ..caution import UPSET_CAUTION
 from ..equipment import valve as iec
-from ..fluid.rootfind import bracketed_root
+from ..numerics.rootfind import bracketed_root
 from ..sheet.solve import make_fluid, solve_cases
 from ..sheet.spec import Flowsheet
 from .size import _case_arrays

@@ -1,4 +1,4 @@
-/* Compiled kernels for the hot loops of the cubic-EOS flash (letdown.fluid.flash).
+/* Compiled kernels for the hot loops of the cubic-EOS flash (letdown.fluid.flash.twophase).
  *
  * Plain C99 and libm. Each kernel loops over cases and reproduces, case by case, the numpy code it
  * replaces (same formulae, same order of tests, same constants -- all constants are passed in from
@@ -128,7 +128,7 @@ LF_EXPORT int lf_abi(void)
 }
 
 /* SHA-256 of this file as it was compiled (setup.py passes it in), so that a library built from
-   another version of the file is detected and not used (letdown.fluid.native). */
+   another version of the file is detected and not used (letdown.fluid.kernels.native). */
 #ifndef LETDOWN_SOURCE_SHA256
 #define LETDOWN_SOURCE_SHA256 "unknown"
 #endif
@@ -1543,7 +1543,7 @@ LF_EXPORT int lf_solve_T(int n, int nc, const double *par, const double *ig, con
 #ifdef LETDOWN_WITH_PYTHON_MODULE
 static struct PyModuleDef flashkernels_module = {
     PyModuleDef_HEAD_INIT, "_flashkernels",
-    "Compiled flash kernels; the functions are loaded with ctypes (letdown.fluid.native).",
+    "Compiled flash kernels; the functions are loaded with ctypes (letdown.fluid.kernels.native).",
     -1, NULL, NULL, NULL, NULL, NULL
 };
 

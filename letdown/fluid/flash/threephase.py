@@ -2,9 +2,9 @@
 
 Sequence, per case of a batch:
 
-1. The two-phase flash :func:`letdown.fluid.flash.flash_PT` (stability test and split).
+1. The two-phase flash :func:`letdown.fluid.flash.twophase.flash_PT` (stability test and split).
 2. A tangent-plane stability test (Michelsen, Fluid Phase Equilib. 9 (1982) 1) of every phase of
-   that result, with the trials of :func:`letdown.fluid.flash.stability` plus a nearly-pure-water
+   that result, with the trials of :func:`letdown.fluid.flash.twophase.stability` plus a nearly-pure-water
    trial (water 1, every other component 1e-6 of its fraction in the tested phase), which finds a
    free-water phase that the Wilson trials can miss, and a water-free liquid trial (the Wilson
    liquid-like trial with its water cut to a trace), which finds a hydrocarbon liquid beside much
@@ -20,24 +20,24 @@ Sequence, per case of a batch:
    dominant eigenvalue every few steps (Crowe & Nishio, AIChE J. 21 (1975) 528, as the two-phase
    split) and finished by Newton steps on ln K (forward-difference Jacobian) where it crawls. A
    phase fraction that ends negative removes that phase and the remaining pair is split by
-   :func:`letdown.fluid.flash.two_phase_flash`.
+   :func:`letdown.fluid.flash.twophase.two_phase_flash`.
 
 :func:`check_two_phase` runs steps 2-3 on a two-phase result already at hand (``Fluid.flash``
 of a fluid with water does so on every case with water). :func:`flash_PX_3` solves the
 temperature at which the three-phase equilibrium has a given enthalpy or entropy (P-h, P-s; the
-bracketed root finder of :mod:`letdown.fluid.rootfind`), for ``Fluid.flash`` and the separator.
+bracketed root finder of :mod:`letdown.numerics.rootfind`), for ``Fluid.flash`` and the separator.
 
 Naming (phases carry no labels in the equations): the aqueous phase is the water-richest phase with
 water as its largest component; of the others, the lower mass density one is the vapour. A single
 phase is vapour or hydrocarbon liquid by the phase identification parameter
-(:func:`letdown.fluid.flash.is_vapour_like`), aqueous if water is its largest component.
+(:func:`letdown.fluid.flash.twophase.is_vapour_like`), aqueous if water is its largest component.
 
 Limits of the model (for the aqueous phase): a cubic equation with constant water interaction
 parameters (data/kij_pr.csv: the gas-phase values of Soreide & Whitson 1992 for the light
 hydrocarbons and nitrogen, E-PPR78 at 298.15 K or DECHEMA for the others) and van der Waals
 one-fluid mixing; on Peng-Robinson, water has the Twu alpha (cubic.py), so its vapour pressure is
 right to 1.5 %. It gives the water content of the vapour within 2 % of the water-content route
-of letdown.fluid.water (tests/test_threephase.py), but the gas dissolved in the water is far too
+of letdown.fluid.aqueous.water (tests/test_threephase.py), but the gas dissolved in the water is far too
 low with kij fitted to the gas side (common practice: constant kij cannot fit both sides of the
 water-hydrocarbon split): methane and nitrogen at 278-298 K and 50 bar come out 3-4 orders of
 magnitude below Henry's law with Sander's (2015) constants (measured, tests/test_threephase.py);
@@ -53,11 +53,11 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .components import R
-from .cubic import CubicEOS
-from .flash import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, SolveReport, _gdem, flash_PT,
-                    is_vapour_like, stability, two_phase_flash, wilson_K)
-from .rootfind import bracketed_root
+from ..components import R
+from ..eos.cubic import CubicEOS
+from .twophase import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, SolveReport, _gdem, flash_PT,
+                       is_vapour_like, stability, two_phase_flash, wilson_K)
+from ...numerics.rootfind import bracketed_root
 
 #: Converged when the largest difference of ln f_i between phases is below this [-].
 FUG_TOL = 1e-9
@@ -217,7 +217,7 @@ def _split3(eos, T, P, zs, X0, tol=FUG_TOL, beta0=None):
     the reference; ``beta0`` (n, 2) the fractions of phases 1 and 2 to start the Rachford-Rice
     from), converged when ln f agree to ``tol``. Every ``ACCELERATE_EVERY`` steps the sequence of
     ln K (both phases, stacked) is extrapolated by the dominant eigenvalue where two estimates
-    agree (:func:`letdown.fluid.flash._gdem`, Crowe & Nishio 1975), as in the two-phase split;
+    agree (:func:`letdown.fluid.flash.twophase._gdem`, Crowe & Nishio 1975), as in the two-phase split;
     convergence is still judged on the fugacities. Returns betas (n, 3), X (n, 3, nc),
     converged (n,), iterations, residual."""
     n, _, nc = X0.shape
@@ -278,7 +278,7 @@ def _split3(eos, T, P, zs, X0, tol=FUG_TOL, beta0=None):
 
 
 #: Newton finish of the three-phase split: iterations, forward-difference step in ln K, and the
-#: largest Newton step in ln K (as letdown.fluid.flash.NEWTON_MAX_ITER, NEWTON_FD_STEP,
+#: largest Newton step in ln K (as letdown.fluid.flash.twophase.NEWTON_MAX_ITER, NEWTON_FD_STEP,
 #: NEWTON_MAX_STEP for two phases).
 NEWTON3_MAX_ITER = 30
 NEWTON3_FD_STEP = 1e-7
@@ -372,7 +372,7 @@ def flash_PT_3(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
         Temperature [K] and pressure [Pa].
     zs : ndarray (n, nc)
         Feed compositions [-].
-    split : letdown.fluid.flash.PTSplit, optional
+    split : letdown.fluid.flash.twophase.PTSplit, optional
         The two-phase flash of these cases, if already done (it is then not repeated).
 
     Returns
@@ -395,7 +395,7 @@ def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
         [K], [Pa].
     zs : ndarray (n, nc)
         Feed compositions [-].
-    split : letdown.fluid.flash.PTSplit, optional
+    split : letdown.fluid.flash.twophase.PTSplit, optional
         Two-phase flash of the cases.
 
     Returns
@@ -555,44 +555,6 @@ def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
 
 
 # ------------------------------------------------------------------------------------------------
-def water_in_liquid(fluid, T, P, xs):
-    """Water dissolved in a hydrocarbon liquid saturated with pure liquid water, mole fraction [-].
-
-    The liquid-phase twin of the EOS water-content route of :mod:`letdown.fluid.water`: the
-    fugacity of water in the hydrocarbon liquid equals that of pure liquid water,
-
-        x_w phi_w^L(T, P, x) P = p_v phi_sat exp(v_L (P - p_v) / (R T)),
-
-    phi_w^L from the fluid's cubic equation (liquid root, with its water interaction parameters),
-    p_v, phi_sat and v_L as in :func:`letdown.fluid.water.water_content_eos`, which solves it
-    (``phase="liquid"``: successive substitution on x_w, its tolerances). Gas dissolved in the
-    water is ignored (x_w of the aqueous phase = 1). With the constant water-hydrocarbon kij of
-    data/kij_pr.csv this is an order-of-magnitude figure (module docstring).
-
-    Parameters
-    ----------
-    fluid : Fluid
-        The gas (water is added as a component if absent; GERG-2008 fluids use Peng-Robinson).
-    T, P : ndarray (n,)
-        [K], [Pa].
-    xs : ndarray (n, nc)
-        Composition of the hydrocarbon liquid in the component order of ``fluid`` [-]; any water
-        in it is replaced.
-
-    Returns
-    -------
-    ndarray (n,)
-        Mole fraction of water in the water-saturated liquid [-].
-
-    Raises
-    ------
-    ConvergenceError
-        The substitution did not settle (the report is attached).
-    """
-    from .water import water_content_eos
-    return water_content_eos(fluid, T, P, zs=xs, phase="liquid")
-
-
 # ------------------------------------------------------------------------------------------------
 #: The phases of a :class:`ThreePhaseResult`, in its order, with their fraction and composition
 #: attributes.
@@ -604,12 +566,12 @@ def phase_properties(engine, T, P, zs, res: ThreePhaseResult) -> dict:
 
     Each phase's properties are the engine's single-phase ones at its composition (stable root):
     h = sum_i x_i h0_i(T) + h_res (ideal-gas part plus the cubic's residual part, as
-    :class:`letdown.fluid.cubic_fluid.CubicEngine` builds every state); the whole is the sum over
+    :class:`letdown.fluid.flash.engine.CubicEngine` builds every state); the whole is the sum over
     the phases present weighted by their fractions (h, s, molar volume v).
 
     Parameters
     ----------
-    engine : letdown.fluid.cubic_fluid.CubicEngine
+    engine : letdown.fluid.flash.engine.CubicEngine
     T, P : ndarray (n,)
         [K], [Pa].
     zs : ndarray (n, nc)
@@ -738,18 +700,18 @@ def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> Th
     through the last two points overshot by :data:`BRACKET_OVERSHOOT`, never less than the step
     before; at most :data:`BRACKET_GROWTHS` steps inside [:data:`T_FLOOR`, :data:`T_CEILING`]) and
     closed by the bracketed root finder (Illinois regula falsi,
-    :func:`letdown.fluid.rootfind.bracketed_root`).
+    :func:`letdown.numerics.rootfind.bracketed_root`).
 
     Iterates next to a three-phase state start their split from its phases (a few substitution
     steps instead of the stability tests); one that loses a phase or does not converge is flashed
     in full. The answer is then checked by the full :func:`flash_PT_3` at its temperature (so it
     is exactly the P-T state there); a case whose full flash misses the target is solved again
     with full flashes throughout. The adiabatic three-phase separator and the P-h / P-s flashes of
-    :class:`letdown.fluid.cubic_fluid.CubicEngine` for fluids with water both use this routine.
+    :class:`letdown.fluid.flash.engine.CubicEngine` for fluids with water both use this routine.
 
     Parameters
     ----------
-    engine : letdown.fluid.cubic_fluid.CubicEngine
+    engine : letdown.fluid.flash.engine.CubicEngine
     P : ndarray (n,)
         Pressure [Pa].
     target : ndarray (n,)
@@ -805,7 +767,7 @@ def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> Th
 BRACKET_OVERSHOOT = 1.25
 #: Phases of a warm-started three-phase split closer than this (sum of squared differences of
 #: mole fractions) are one phase: the split is trivial and the case is flashed in full (as
-#: letdown.fluid.flash.TRIVIAL_DIST).
+#: letdown.fluid.flash.twophase.TRIVIAL_DIST).
 TRIVIAL_SPLIT = 1e-7
 
 
@@ -908,7 +870,7 @@ def enthalpy_near(engine, T, P, zs, near: ThreePhaseResult, tol=FUG_TOL):
 
     Parameters
     ----------
-    engine : letdown.fluid.cubic_fluid.CubicEngine
+    engine : letdown.fluid.flash.engine.CubicEngine
     T, P : ndarray (n,)
         [K], [Pa].
     zs : ndarray (n, nc)

@@ -35,9 +35,9 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import ConvergenceError, InputError
-from .components import COMPONENTS, R
-from .flash import SolveReport
+from ...errors import ConvergenceError, InputError
+from ..components import COMPONENTS, R
+from ..flash.twophase import SolveReport
 
 PSI = 6894.757293168          # [Pa]
 M_WATER = COMPONENTS["water"].M   # [kg/mol]
@@ -159,7 +159,7 @@ def water_content_eos(fluid, T, P, zs=None, phase="vapour"):
         Composition of the gas (component order of ``fluid``); any water in it is replaced.
     phase : str
         ``vapour`` (a gas, the default) or ``liquid`` (a hydrocarbon liquid: the same balance on
-        the cubic's liquid root, :func:`letdown.fluid.threephase.water_in_liquid`).
+        the cubic's liquid root, :func:`letdown.fluid.aqueous.water.water_in_liquid`).
 
     Returns
     -------
@@ -306,3 +306,40 @@ def water_dew_point(y_water, P, fluid=None, method="bukacek", zs=None):
         lo = np.where(up, lo, mid)
     T = 0.5 * (lo + hi)
     return float(T[0]) if np.ndim(y_water) == 0 and np.ndim(P) == 0 else T
+
+
+def water_in_liquid(fluid, T, P, xs):
+    """Water dissolved in a hydrocarbon liquid saturated with pure liquid water, mole fraction [-].
+
+    The liquid-phase twin of the EOS water-content route of :mod:`letdown.fluid.aqueous.water`: the
+    fugacity of water in the hydrocarbon liquid equals that of pure liquid water,
+
+        x_w phi_w^L(T, P, x) P = p_v phi_sat exp(v_L (P - p_v) / (R T)),
+
+    phi_w^L from the fluid's cubic equation (liquid root, with its water interaction parameters),
+    p_v, phi_sat and v_L as in :func:`letdown.fluid.aqueous.water.water_content_eos`, which solves it
+    (``phase="liquid"``: successive substitution on x_w, its tolerances). Gas dissolved in the
+    water is ignored (x_w of the aqueous phase = 1). With the constant water-hydrocarbon kij of
+    data/kij_pr.csv this is an order-of-magnitude figure (module docstring).
+
+    Parameters
+    ----------
+    fluid : Fluid
+        The gas (water is added as a component if absent; GERG-2008 fluids use Peng-Robinson).
+    T, P : ndarray (n,)
+        [K], [Pa].
+    xs : ndarray (n, nc)
+        Composition of the hydrocarbon liquid in the component order of ``fluid`` [-]; any water
+        in it is replaced.
+
+    Returns
+    -------
+    ndarray (n,)
+        Mole fraction of water in the water-saturated liquid [-].
+
+    Raises
+    ------
+    ConvergenceError
+        The substitution did not settle (the report is attached).
+    """
+    return water_content_eos(fluid, T, P, zs=xs, phase="liquid")

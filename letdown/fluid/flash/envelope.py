@@ -60,9 +60,9 @@ from dataclasses import dataclass, field
 import numpy as np
 from scipy.optimize import brentq
 
-from ..errors import ConvergenceError, InputError
-from . import flash as fl
-from .cubic import CubicEOS
+from ...errors import ConvergenceError, InputError
+from . import twophase as fl
+from ..eos.cubic import CubicEOS
 
 #: Pressure of the first point (the low-pressure dew point) and of the last (the low-pressure
 #: bubble point) [Pa]: 1 bar, below every pressure of a let-down or chilling plant.
@@ -789,8 +789,8 @@ def _report(tr: _Trace | None, message: str, status: str | None = None) -> Trace
 
 def _sub_engine(engine, present):
     """The engine of the components flagged ``present`` (same model and interaction parameters)."""
-    from .components import ComponentSet
-    from .cubic_fluid import CubicEngine
+    from ..components import ComponentSet
+    from .engine import CubicEngine
     idx = np.flatnonzero(present)
     comps = ComponentSet([engine.comps.names[i] for i in idx])
     eos = CubicEOS(comps, engine.eos.kind, engine.eos.kijs[np.ix_(idx, idx)])

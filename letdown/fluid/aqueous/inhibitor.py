@@ -10,7 +10,7 @@ Three ways to the hydrate temperature depression dT of an aqueous phase holding 
   dT = -72 ln x_w [K], x_w the mole fraction of water in the inhibitor-water phase (salt-free,
   gas-free). Derived for methanol; applied to MEG here as well (common practice, less accurate).
 * **van der Waals-Platteeuw with the inhibited water activity**: the hydrate model of
-  :mod:`letdown.fluid.hydrate` with a_w = gamma_w x_w (:func:`water_activity`), gamma_w from
+  :mod:`letdown.fluid.aqueous.hydrate` with a_w = gamma_w x_w (:func:`water_activity`), gamma_w from
   ln gamma_w = x_i^2 (A + B x_i) + x_i^2 (C + D x_i)(T0/T - 1) (:data:`ACTIVITY`, x_i the inhibitor
   mole fraction), fitted by ``bench/fit_inhibitor_activity.py`` to the **freezing points** of the
   solutions (Melinder, *Properties of Secondary Working Fluids for Indirect Systems*, 2nd ed., IIR
@@ -50,10 +50,10 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import ConvergenceError, InputError
-from .components import COMPONENTS
-from .flash import SolveReport
-from .rootfind import bracketed_root
+from ...errors import ConvergenceError, InputError
+from ..components import COMPONENTS
+from ..flash.twophase import SolveReport
+from ...numerics.rootfind import bracketed_root
 
 
 #: Nielsen & Bucklin (1983) coefficient [K] (REFERENCE_DATA.md section 3, status M)
@@ -450,7 +450,7 @@ def free_water_rate(gas_rate, y_water_in, T, P, fluid=None, method="bukacek"):
     T, P : float or ndarray
         Cold point [K], [Pa].
     fluid, method
-        As for :func:`letdown.fluid.water.water_content`.
+        As for :func:`letdown.fluid.aqueous.water.water_content`.
     """
     from .water import M_WATER, water_content
     y_sat = water_content(fluid, T, P, method=method)
@@ -548,7 +548,7 @@ def partition_fluid(fluid):
     its cubic model (Peng-Robinson for GERG-2008, which has no three-phase flash here) with its
     interaction-parameter choice. Pairs with no published kij (methane-methanol, every MEG pair
     but none listed) are zero and listed in ``missing_kij``."""
-    from .fluid import Fluid
+    from ..fluid import Fluid
     names = list(fluid.components) + [c for c in PARTITION_EXTRA if c not in fluid.components]
     comp = {c: (1.0 if k == 0 else 0.0) for k, c in enumerate(names)}
     model = "peng-robinson" if fluid.model == "gerg-2008" else fluid.model

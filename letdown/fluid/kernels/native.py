@@ -1,25 +1,25 @@
 """Compiled flash kernels (``_flashkernels.c``), loaded with ctypes; numpy is the fallback.
 
-The C file is built at install time as the extension module ``letdown.fluid._flashkernels`` (see
+The C file is built at install time as the extension module ``letdown.fluid.kernels._flashkernels`` (see
 ``setup.py``); its functions are plain C entry points loaded from that module's file with ctypes, so
 no compiled code is imported unless a flash runs. Each kernel reproduces the numpy code it stands in
-for, case by case, with the constants passed in from :mod:`letdown.fluid.flash` and
-:mod:`letdown.fluid.cubic` (one source of truth):
+for, case by case, with the constants passed in from :mod:`letdown.fluid.flash.twophase` and
+:mod:`letdown.fluid.eos.cubic` (one source of truth):
 
-* :func:`lnphi` -- :meth:`CubicEOS.lnphi <letdown.fluid.cubic.CubicEOS.lnphi>` (mixture parameters,
+* :func:`lnphi` -- :meth:`CubicEOS.lnphi <letdown.fluid.eos.cubic.CubicEOS.lnphi>` (mixture parameters,
   analytic roots, root choice, ln phi);
-* :func:`stability_trials` -- the trial iterations of :func:`letdown.fluid.flash.stability`;
+* :func:`stability_trials` -- the trial iterations of :func:`letdown.fluid.flash.twophase.stability`;
 * :func:`two_phase_ss` -- the successive-substitution loop of
-  :func:`letdown.fluid.flash.two_phase_flash`;
+  :func:`letdown.fluid.flash.twophase.two_phase_flash`;
 * :func:`split_finish` -- its final Rachford-Rice solve, phase compositions and phase Z;
-* :func:`properties` -- :meth:`CubicEOS.properties <letdown.fluid.cubic.CubicEOS.properties>`;
-* :func:`flash_pt` -- the whole :func:`letdown.fluid.flash.flash_PT` for mixtures;
+* :func:`properties` -- :meth:`CubicEOS.properties <letdown.fluid.eos.cubic.CubicEOS.properties>`;
+* :func:`flash_pt` -- the whole :func:`letdown.fluid.flash.twophase.flash_PT` for mixtures;
 * :func:`hs_of_split` and :func:`phase` -- the ideal-gas plus residual properties of
-  :class:`letdown.fluid.cubic_fluid.CubicEngine` (``_hs_of_split``, ``_phase``);
+  :class:`letdown.fluid.flash.engine.CubicEngine` (``_hs_of_split``, ``_phase``);
 * :func:`solve_T` -- the P-h / P-s temperature iteration ``CubicEngine._solve_T_mixture``;
 * :func:`assemble` -- the numbers of ``CubicEngine._assemble``.
 
-:meth:`CubicEOS.lnphi` and :meth:`CubicEOS.properties`, :func:`letdown.fluid.flash.flash_PT` and
+:meth:`CubicEOS.lnphi` and :meth:`CubicEOS.properties`, :func:`letdown.fluid.flash.twophase.flash_PT` and
 the engine's P-h / P-s iteration dispatch here when ``AVAILABLE``.
 
 ``AVAILABLE`` is False (and every caller keeps to numpy) when the compiled module is missing, when
@@ -45,7 +45,7 @@ import weakref
 
 import numpy as np
 
-from .components import R, cold_trial_flags
+from ..components import R, cold_trial_flags
 
 #: Relative separation below which the two cubic roots count as one, as in CubicEOS.choose_root.
 ROOT_DISTINCT_REL = 1e-12
@@ -90,7 +90,7 @@ def _load() -> tuple:
     if os.environ.get("LETDOWN_PURE_NUMPY", "") == "1":
         return None, "numpy (LETDOWN_PURE_NUMPY=1)", False
     try:
-        spec = importlib.util.find_spec("letdown.fluid._flashkernels")
+        spec = importlib.util.find_spec("letdown.fluid.kernels._flashkernels")
     except (ImportError, ValueError):
         spec = None
     if spec is None or not spec.origin or not os.path.isfile(spec.origin):
@@ -226,7 +226,7 @@ def lnphi(eos, T, P, xs, code=None):
 
 def stability_trials(eos, T, P, zs, lnphis_z, K, *, ln_tol, trivial_dist, max_iter, early_tm,
                      cold_T, tm_unstable, early_exit):
-    """Trial iterations of the stability test (see :func:`letdown.fluid.flash.stability`).
+    """Trial iterations of the stability test (see :func:`letdown.fluid.flash.twophase.stability`).
 
     Returns
     -------
@@ -258,7 +258,7 @@ def _tp_cfg(tol, max_iter, accelerate_every, gdem_max_lambda, gdem_max_step, gde
 
 def two_phase_ss(eos, T, P, zs, Ks, **cfg):
     """Successive substitution of the two-phase flash (see
-    :func:`letdown.fluid.flash.two_phase_flash`); keyword arguments are the constants of
+    :func:`letdown.fluid.flash.twophase.two_phase_flash`); keyword arguments are the constants of
     :func:`_tp_cfg`.
 
     Returns
@@ -340,7 +340,7 @@ def _ideal_gas_pack(comps):
     at the reference temperature, molar masses (see ``ig_view`` in the C file)."""
     blk = _IG_PACKS.get(comps)
     if blk is None:
-        from .components import P_REF
+        from ..components import P_REF
         head = np.zeros(_HEADER)
         head[0] = P_REF
         poly = np.asarray(comps._poly, dtype=float)
@@ -353,7 +353,7 @@ def _ideal_gas_pack(comps):
 
 
 def flash_pt(eos, T, P, zs, K_init, assume, tol, constants):
-    """The P-T flash of :func:`letdown.fluid.flash.flash_PT` for every mixture of a batch
+    """The P-T flash of :func:`letdown.fluid.flash.twophase.flash_PT` for every mixture of a batch
     (pure components come back as one phase with vapour fraction NaN, for the caller to name).
 
     Parameters

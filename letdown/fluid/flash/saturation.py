@@ -4,7 +4,7 @@ A phase boundary along an isobar (or an isotherm) is where the stability test ch
 The solve has three steps, for all cases of a batch together:
 
 1. **Points inside.** Candidate states on the line: where the line crosses the phase envelope of
-   the composition (traced by continuation, :mod:`letdown.fluid.envelope`), a few kelvin (or per
+   the composition (traced by continuation, :mod:`letdown.fluid.flash.envelope`), a few kelvin (or per
    cent of pressure) either side of each crossing and between consecutive crossings, the
    cricondenbar temperature; for a nearly pure gas (largest fraction 0.95 or more) a fine grid
    around the saturation temperature of its main component; and a coarse grid over the whole
@@ -30,8 +30,8 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..errors import ConvergenceError, LetdownError
-from . import flash as fl
+from ...errors import ConvergenceError, LetdownError
+from . import twophase as fl
 
 #: Lowest temperature searched [K] and, as a fraction of the mole-averaged critical temperature,
 #: the floor of the search (see the module docstring).
@@ -315,7 +315,7 @@ def boundary(fluid, engine, fixed, zs, kind, axis, branch="upper"):
 
 def _refine(engine, fixed, zs, res, a, start, envs, axis, kind):
     """The boundary from the envelope equations (fugacity equality; Newton,
-    :class:`letdown.fluid.envelope.EnvelopeSystem`) started from the bisection's answer and the
+    :class:`letdown.fluid.flash.envelope.EnvelopeSystem`) started from the bisection's answer and the
     stability test's trial phase just inside.
 
     The stability test loses the two-phase states closest to the boundary (its trial phase falls

@@ -9,7 +9,7 @@ chapter on colligative properties)
     ln a_w = -(dH_fus / R) (1/T_f - 1/T_m)    so    T_f = 1 / (1/T_m - R ln a_w / dH_fus)
 
 with the water activity ``a_w`` of the aqueous phase (here x_w, the ideal solution that the
-inhibitor rules of :mod:`letdown.fluid.inhibitor` use), ``T_m`` = 273.15 K the ice point of pure
+inhibitor rules of :mod:`letdown.fluid.aqueous.inhibitor` use), ``T_m`` = 273.15 K the ice point of pure
 water at about 1 atm, and ``dH_fus`` = 6.01 kJ/mol the enthalpy of fusion of ice at 0 degC (CRC
 Handbook of Chemistry and Physics; from memory). dH_fus is taken constant (its fall with
 temperature, about 38 J/mol per K, is neglected); pressure lowers the ice point by only
@@ -39,7 +39,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from .components import R
+from ..components import R
 
 #: Densities of the pure inhibitors as liquids at 20 degC [kg/m3] (CRC Handbook; from memory).
 INHIBITOR_DENSITY = {"methanol": 791.4, "ethylene-glycol": 1113.5}

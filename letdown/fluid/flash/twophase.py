@@ -28,9 +28,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import native
-from .components import COLD_TRIAL_COMPONENTS, R, cold_trial_flags  # noqa: F401 (re-exported)
-from .cubic import CubicEOS, phase_identification
+from ..kernels import native
+from ..components import COLD_TRIAL_COMPONENTS, R, cold_trial_flags  # noqa: F401 (re-exported)
+from ..eos.cubic import CubicEOS, phase_identification
 
 #: Tangent-plane distance below which a mixture is declared unstable. Above round-off of tm
 #: (~1e-14) with margin, and far below any physically meaningful second phase amount.
@@ -568,7 +568,7 @@ def _pure_index(zs):
 def is_vapour_like(eos: CubicEOS, T, P, zs):
     """Name a single phase 'vapour' when its temperature is at least its pseudo-critical one
     (:data:`VAPOUR_ABOVE_TPR`) or, below it, when its phase identification parameter is at most 1
-    (Venkatarathnam & Oellrich 2011; see :func:`letdown.fluid.cubic.phase_identification`). The
+    (Venkatarathnam & Oellrich 2011; see :func:`letdown.fluid.eos.cubic.phase_identification`). The
     name decides which separator outlet a single phase leaves by; it changes no property."""
     zs = np.atleast_2d(zs)
     Tpc = zs @ eos.comps.Tcs

@@ -5,18 +5,18 @@ cases: T, P, h, s of shape (n,) and compositions of shape (n, nc).
 
 A fluid with water among its components takes one more step: each two-phase answer of a case with
 water is tested for a third phase, and where one is found the state is the three-phase
-equilibrium (:mod:`letdown.fluid.threephase`; P-h and P-s solve T again on it). Other fluids'
+equilibrium (:mod:`letdown.fluid.flash.threephase`; P-h and P-s solve T again on it). Other fluids'
 states are exactly the two-phase flash's.
 """
 from __future__ import annotations
 
 import numpy as np
 
-from . import flash as fl
-from . import native
-from .components import P_REF, R, ComponentSet
-from .cubic import CubicEOS
-from .state import States
+from . import twophase as fl
+from ..kernels import native
+from ..components import P_REF, R, ComponentSet
+from ..eos.cubic import CubicEOS
+from ..state import States
 
 #: Temperature step for the effective two-phase heat capacity and Joule-Thomson coefficient [K];
 #: forward differences with warm-started flashes (truncation error ~1e-4 relative, well inside
@@ -351,7 +351,7 @@ class CubicEngine:
     def _three_phase_TP(self, st: States, split: fl.PTSplit) -> States:
         """The PT states of a fluid with water: each converged two-phase result of a mixture with
         water is tested for stability (with a free-water trial); where it fails, the state is
-        the three-phase split's (:func:`letdown.fluid.threephase.check_two_phase`)."""
+        the three-phase split's (:func:`letdown.fluid.flash.threephase.check_two_phase`)."""
         from dataclasses import replace
         from . import threephase
         st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
@@ -370,11 +370,11 @@ class CubicEngine:
         """The P-h (P-s) states of a fluid with water. The two-phase answer of a mixture with
         water is tested for stability at its temperature; where it is not stable (or the
         two-phase solve failed) T is solved again on the three-phase equilibrium
-        (:func:`letdown.fluid.threephase.flash_PX_3`), started from ``T_guess`` where one is
+        (:func:`letdown.fluid.flash.threephase.flash_PX_3`), started from ``T_guess`` where one is
         given (a block's inlet temperature, a loop's last answer: often the answer itself), else
         from the two-phase temperature. h(T) of the true equilibrium rises with T, so a stable
         two-phase answer is the answer. A two-phase answer below
-        :data:`letdown.fluid.threephase.T_FLOOR` is solved again too."""
+        :data:`letdown.fluid.flash.threephase.T_FLOOR` is solved again too."""
         from dataclasses import replace
         from . import threephase
         st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
@@ -604,7 +604,7 @@ class CubicEngine:
         bad = np.nonzero(~ok)[0]
         if bad.size == 0:
             return T, ok, split
-        from .rootfind import bracketed_root
+        from ...numerics.rootfind import bracketed_root
         eos = self.eos
 
         def f(Tx, idx):
@@ -866,7 +866,7 @@ def _bisect(lo, hi, T, f):
 
 
 def _check_TP(T, P):
-    from ..errors import InputError
+    from ...errors import InputError
     if not (np.isfinite(T).all() and (T > 0).all()):
         raise InputError(f"temperature must be a positive number of kelvin (got {T[~(T > 0)][:3]})")
     if not (np.isfinite(P).all() and (P > 0).all()):

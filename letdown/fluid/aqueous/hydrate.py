@@ -54,7 +54,7 @@ Model statements (say them in reports):
 * Components without Langmuir constants (hexane and heavier, hydrogen, helium, argon, oxygen,
   CO, methanol, glycol) are treated as non-formers: they dilute the gas only. Munck's set has no
   structure H and no hydrogen or argon cage occupancy.
-* An inhibitor enters through ``water_activity`` (see :mod:`letdown.fluid.inhibitor`). With a
+* An inhibitor enters through ``water_activity`` (see :mod:`letdown.fluid.aqueous.inhibitor`). With a
   water activity below 1 the aqueous phase is taken as liquid (supercooled) below 273.15 K unless
   ice is more stable; the ice-liquid equilibrium of the inhibited solution is not modelled.
 
@@ -68,9 +68,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..errors import ConvergenceError, InputError
-from .components import R
-from .flash import SolveReport
+from ...errors import ConvergenceError, InputError
+from ..components import R
+from ..flash.twophase import SolveReport
 
 T0 = 273.15            # reference temperature of the empty-lattice properties [K] (Munck 1988)
 ATM = 101325.0         # [Pa]; Munck's A is in K/atm

@@ -43,11 +43,11 @@ import math
 
 import numpy as np
 
-from ..errors import ModelError
-from . import flash as fl
-from .components import ComponentSet
+from ...errors import ModelError
+from ..flash import twophase as fl
+from ..components import ComponentSet
 from .cubic import PR, CubicEOS
-from .state import States
+from ..state import States
 
 #: letdown component -> attribute of pyaga8.Composition (the 21 GERG-2008 components).
 GERG_NAMES = {
@@ -543,9 +543,9 @@ class GergEngine:
         """(cricondentherm [K], ln cricondenbar, ln P of the first point, T and ln P of every
         point) of z's Peng-Robinson phase envelope; None where the envelope does not trace
         completely or its extrema are not its largest values."""
-        from ..errors import LetdownError
-        from .cubic_fluid import CubicEngine
-        from .envelope import phase_envelope
+        from ...errors import LetdownError
+        from ..flash.engine import CubicEngine
+        from ..flash.envelope import phase_envelope
         try:
             with np.errstate(all="ignore"):
                 env = phase_envelope(CubicEngine(self.comps, self._guard, False), z)

@@ -52,8 +52,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from . import native
-from .components import R, ComponentSet
+from ..kernels import native
+from ..components import R, ComponentSet
 
 SQRT2 = np.sqrt(2.0)
 

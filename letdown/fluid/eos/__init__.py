@@ -1,0 +1,1 @@
+"""Equations of state: the cubic family (Peng-Robinson, SRK) and GERG-2008."""
