@@ -111,7 +111,10 @@ def main(argv=None):
     from letdown.study import sweep as sweep_module
     chunk = getattr(sweep_module, "MAX_CHUNK", None)     # None: a letdown without chunking
     try:
-        from letdown.fluid import native
+        try:
+            from letdown.fluid.kernels import native
+        except ImportError:                 # a letdown before fluid/ had its rooms
+            from letdown.fluid import native
         kernels = "on" if native.AVAILABLE else "off"
     except ImportError:
         kernels = "not built"
