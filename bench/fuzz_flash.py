@@ -296,6 +296,8 @@ def _one_composition(tally, fluid, family, T, P, rng, thermo):
                   ex)
         tally.add(f"P{which} round trip off, cold CO2/sour (left for later)",
                   int(np.count_nonzero(off & cold)))
+        tally.add(f"P{which} round trip off, cold CO2/sour: of them three-phase (VLL) states",
+                  _three_phase_count(fluid, T[idx], P[idx], st, idx, off & cold))
         # batch vs scalar on the inverse flash too
         for k in np.nonzero(rng.random(idx.size) < SCALAR_SHARE)[0]:
             one = _call(tally, f"P{which} scalar",
@@ -325,6 +327,22 @@ def _one_composition(tally, fluid, family, T, P, rng, thermo):
             if st.n_phases[k] == 1 and abs(rho - best[0]) > 1e-6 * best[0]:
                 tally.add("WRONG ROOT / MISSED SPLIT", example=f"GERG {fluid!r} T={T[k]:.3f} "
                           f"P={P[k]:.6g}: rho {rho:.6g} vs lowest-G root {best[0]:.6g} mol/m3")
+
+
+def _three_phase_count(fluid, T, P, st, idx, mask):
+    """How many of the two-phase states ``st[idx][mask]`` are not an equilibrium of two phases:
+    their liquid is unstable (a third phase, vapour-liquid-liquid, which the two-phase flash of a
+    fluid without water does not split off; the phases of a two-phase equilibrium share one
+    tangent plane, so testing one phase suffices)."""
+    k = np.nonzero(mask)[0]
+    if k.size == 0 or fluid.model == "gerg-2008":
+        return 0
+    from letdown.fluid import flash as fl
+    j = idx[k]
+    xs = np.asarray(st.xs)[j]
+    two = np.asarray(st.n_phases)[j] == 2
+    tm = fl.stability(fluid.engine.eos, T[k], P[k], xs).tm
+    return int(np.count_nonzero(two & (tm < fl.EARLY_EXIT_TM)))
 
 
 def _compare_scalar(tally, batch, k, one, what):
