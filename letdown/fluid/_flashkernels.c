@@ -363,11 +363,13 @@ static double stability_trial(const eos_t *e, double T, double P, const double *
  * order, at most ST_MAX_COLD); returns the most negative tm and writes that trial's composition
  * ws and Z. Where tms_all is not NULL, every trial's tm, composition and Z go to tms_all (ST_NT),
  * ws_all (ST_NT x nc) and Zs_all (ST_NT); a trial not run has tm 0, the feed's composition and
- * Z 0. work: ST_WORK(nc) */
+ * Z 0. With all_ws 0, ws_all is written only where more than one trial is unstable, and only for
+ * the unstable ones (what the flash needs; the common case then costs nothing more).
+ * work: ST_WORK(nc) */
 static double stability_case(const eos_t *e, double T, double P, const double *z, const double *lz,
                              const double *Ki, const double *cfg, int early_exit, double *ws,
                              double *Zbest, double *tms_all, double *ws_all, double *Zs_all,
-                             double *work)
+                             int all_ws, double *work)
 {
     int nc = e->nc, k, t, nt = 4, ncold = 0, heavy = 0, light = 0, best = 0, cold[ST_MAX_COLD];
     int cold_ran = 0;
@@ -424,12 +426,14 @@ static double stability_case(const eos_t *e, double T, double P, const double *z
     for (k = 0; k < nc; k++) ws[k] /= sW;
     *Zbest = Zs[best];
     if (tms_all) {
-        int ran = cold_ran ? 4 + ncold : 4;
+        int ran = cold_ran ? 4 + ncold : 4, n_unst = 0;
+        for (t = 0; t < ran; t++) n_unst += tms[t] < cfg[ST_TM_UNSTABLE];
         for (t = 0; t < ST_NT; t++) {
             double *wo = ws_all + (size_t)t * nc, s2 = 0.0;
             if (t < ran) {
                 tms_all[t] = tms[t];
                 Zs_all[t] = Zs[t];
+                if (!all_ws && !(n_unst > 1 && tms[t] < cfg[ST_TM_UNSTABLE])) continue;
                 for (k = 0; k < nc; k++) {
                     wo[k] = exp(lnW[t * nc + k]);
                     s2 += wo[k];
@@ -438,7 +442,8 @@ static double stability_case(const eos_t *e, double T, double P, const double *z
             } else {
                 tms_all[t] = 0.0;
                 Zs_all[t] = 0.0;
-                for (k = 0; k < nc; k++) wo[k] = z[k];
+                if (all_ws)
+                    for (k = 0; k < nc; k++) wo[k] = z[k];
             }
         }
     }
@@ -467,7 +472,7 @@ LF_EXPORT int lf_stability(int n, int nc, const double *par, const double *T, co
         size_t o = (size_t)i * nc;
         tm_out[i] = stability_case(&e, T[i], P[i], zs + o, lnphis_z + o, K + o, cfg, early_exit,
                                    ws_out + o, &Z_out[i], tm_all + (size_t)i * ST_NT,
-                                   ws_all + o * ST_NT, Z_all + (size_t)i * ST_NT, work);
+                                   ws_all + o * ST_NT, Z_all + (size_t)i * ST_NT, 1, work);
     }
     eos_release(&e);
     free(work);
@@ -1064,6 +1069,7 @@ static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, 
     }
     if (test) {
         double st[ST_NCFG], Zz, Zw, tm, tms[ST_NT], Zs[ST_NT], key[ST_NT];
+        int t, n_unst;
         double *lz = work, *Kw = lz + nc, *wt = Kw + nc, *K = wt + nc, *wa = K + nc;
         double *xc = wa + ST_NT * (size_t)nc, *yc = xc + nc, *rest = yc + nc;
         st[ST_LN_TOL] = fc[FP_LN_TOL];
@@ -1074,12 +1080,24 @@ static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, 
         st[ST_TM_UNSTABLE] = fc[FP_TM_UNSTABLE];
         Zz = lnphi_one(e, T, P, z, 0, lz, rest);
         wilson(e, fc, T, P, Kw);
-        tm = stability_case(e, T, P, z, lz, Kw, st, 0, wt, &Zw, tms, wa, Zs, rest);
-        if (tm < fc[FP_TM_UNSTABLE]) {
+        tm = stability_case(e, T, P, z, lz, Kw, st, 0, wt, &Zw, tms, wa, Zs, 0, rest);
+        for (t = 0, n_unst = 0; t < ST_NT; t++) n_unst += tms[t] < fc[FP_TM_UNSTABLE];
+        if (n_unst == 1 && tm < fc[FP_TM_UNSTABLE]) {
+            /* one unstable trial (the common case): its split, as the loop below would do */
+            int vap = Zw > Zz;
+            double g;
+            for (k = 0; k < nc; k++) {
+                if (vap) K[k] = (z[k] > 0.0) ? wt[k] / z[k] : 1.0;
+                else K[k] = (wt[k] > 0.0) ? z[k] / wt[k] : 1.0;
+            }
+            split_case(e, fc, T, P, z, K, tol, x, y, r, &ok, &failed, &g, rest);
+            /* stability proved a second phase but the split did not converge: say so */
+            if (failed && !ok) r->conv = 0;
+        } else if (tm < fc[FP_TM_UNSTABLE]) {
             /* flash._split_trials: a split from each unstable trial by increasing tm (ties by
              * index), skipping a trial that found the composition of an earlier one; the split of
              * lowest Gibbs energy is kept, a later one only when lower by more than round-off */
-            int kept[ST_NT], nkept = 0, have = 0, failed_any = 0, t, q;
+            int kept[ST_NT], nkept = 0, have = 0, failed_any = 0, q;
             double g_best = NAN;
             for (t = 0; t < ST_NT; t++)
                 key[t] = (tms[t] < fc[FP_TM_UNSTABLE]) ? tms[t] : INFINITY;
