@@ -11,7 +11,10 @@ Algorithms (Michelsen & Mollerup, *Thermodynamic Models: Fundamentals and Comput
 * **Two-phase PT flash**: successive substitution on K with a bounded Rachford-Rice solve, accelerated
   by the dominant-eigenvalue extrapolation (GDEM, Crowe & Nishio 1975) every ``ACCELERATE_EVERY``
   steps, then a Newton finish on ln K with a finite-difference Jacobian for the cases still
-  unconverged. A split is accepted only if its Gibbs energy is below the single phase's.
+  unconverged. A split is accepted only if its Gibbs energy is below the single phase's. Where
+  more than one trial phase is unstable and their compositions differ, a split is converged from
+  each (most unstable first) and the one of lowest Gibbs energy kept: the most unstable trial does
+  not always lead to the lowest split (issue 11: a cold sour gas, -1.70495 against -1.70888 RT).
 * **PH / PS**: a safeguarded Newton iteration on T (bracketed; bisection when a step leaves the
   bracket), with the PT flash inside; a pure component inside its dome sits at its saturation
   temperature with the vapour fraction from the lever rule.
