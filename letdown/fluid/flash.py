@@ -729,7 +729,8 @@ def _split_trials(tm, ws):
     """The trial phases a flash converges a split from, for feeds found unstable: ``order``
     (NT, n), the trial indices by increasing tm (ties by index: the first is the stability test's
     answer), and ``keep`` (NT, n), true for the unstable trials whose composition differs
-    (DISTINCT_TRIAL_DIST) from every earlier kept one. Most feeds keep one trial."""
+    (DISTINCT_TRIAL_DIST) from every earlier kept one. The lean-gas throttle of bench/flash.py
+    keeps one per feed (its unstable trials all find the same liquid); a gas with water two."""
     nt, n = tm.shape
     key = np.where(tm < TM_UNSTABLE, tm, np.inf)
     order = np.argsort(key, axis=0, kind="stable")
