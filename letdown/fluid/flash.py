@@ -81,9 +81,9 @@ EARLY_EXIT_TM = -1e-6
 #: issue 11 placed the missed cold splits of CO2-rich and sour gases at 150-215 K. 220 K covers
 #: both with margin; above it the test is unchanged (and costs nothing more).
 COLD_TRIAL_T = 220.0
-#: At most this many cold trials per feed (the compiled kernels' fixed room, ST_MAX_COLD). The
-#: numpy path takes the first COLD_TRIAL_MAX flagged components of the set, the kernels the first
-#: ones present: the same while COLD_TRIAL_COMPONENTS has no more than COLD_TRIAL_MAX names.
+#: At most this many cold trials per feed (the compiled kernels' fixed room, ST_MAX_COLD): both
+#: paths take the first COLD_TRIAL_MAX flagged components present in the feed, and run them all
+#: where the four standard trials find the feed stable.
 COLD_TRIAL_MAX = 2
 #: Trial phases per feed: the four standard ones and the cold ones.
 N_TRIALS = 4 + COLD_TRIAL_MAX
