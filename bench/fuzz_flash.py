@@ -47,6 +47,14 @@ gas on SRK remains), cold CO2/sour unconverged 6 + 2 -> 0, cold CO2/sour round t
 -> 14 + 14 (another two-phase state of the same enthalpy: the split found is not always the one of
 lowest Gibbs energy), the cold missed split against thermo 1 -> 1, ConvergenceError 1 -> 0. The
 GERG-2008 refusals (370) and every other zero unchanged; batch/scalar differences 0.
+
+After the split of lowest Gibbs energy among the unstable trial phases (2026-12-02, seed 1, scale
+1): cold CO2/sour round trips off 14 + 14 -> 11 + 11, all 11 + 11 on three-phase (VLL) states
+(the answer's liquid unstable; counted by the key "of them three-phase"); the cold missed split
+against thermo 1 -> 0. With cold two-phase P-h/P-s answers confirmed by a fresh P-T flash: cold
+CO2/sour round trips off 14 + 14 -> 0 + 0 (seed 2: 13 + 20 -> 0 + 0); every other count
+unchanged (33 s -> 36-39 s on a loaded machine). Counted apart (not in the targets): cold CO2/sour
+two-phase PT states that are three-phase (VLL) given as two phases, 275 of 1,076 (seed 1).
 """
 from __future__ import annotations
 
@@ -296,11 +304,19 @@ def _one_composition(tally, fluid, family, T, P, rng, thermo):
                   ex)
         tally.add(f"P{which} round trip off, cold CO2/sour (left for later)",
                   int(np.count_nonzero(off & cold)))
+        tally.add(f"P{which} round trip off, cold CO2/sour: of them three-phase (VLL) states",
+                  _three_phase_count(fluid, T[idx], P[idx], st, idx, off & cold))
         # batch vs scalar on the inverse flash too
         for k in np.nonzero(rng.random(idx.size) < SCALAR_SHARE)[0]:
             one = _call(tally, f"P{which} scalar",
                         lambda: fluid.flash(P=float(P[idx][k]), **{which: float(x[k])}))
             _compare_scalar(tally, back, k, one, f"P{which}")
+    if idx.size and family in ("co2-rich", "sour"):
+        cold_pt = T[idx] < COLD_SPLIT_T
+        tally.add("cold CO2/sour PT states in two phases",
+                  int(np.count_nonzero(cold_pt & (np.asarray(st.n_phases)[idx] == 2))))
+        tally.add("cold CO2/sour PT states: three-phase (VLL) given as two phases",
+                  _three_phase_count(fluid, T[idx], P[idx], st, idx, cold_pt))
     # batch vs scalar (PT)
     for k in np.nonzero(rng.random(n) < SCALAR_SHARE)[0]:
         one = _call(tally, "PT scalar", lambda: fluid.flash(T=float(T[k]), P=float(P[k])))
@@ -325,6 +341,22 @@ def _one_composition(tally, fluid, family, T, P, rng, thermo):
             if st.n_phases[k] == 1 and abs(rho - best[0]) > 1e-6 * best[0]:
                 tally.add("WRONG ROOT / MISSED SPLIT", example=f"GERG {fluid!r} T={T[k]:.3f} "
                           f"P={P[k]:.6g}: rho {rho:.6g} vs lowest-G root {best[0]:.6g} mol/m3")
+
+
+def _three_phase_count(fluid, T, P, st, idx, mask):
+    """How many of the two-phase states ``st[idx][mask]`` are not an equilibrium of two phases:
+    their liquid is unstable (a third phase, vapour-liquid-liquid, which the two-phase flash of a
+    fluid without water does not split off; the phases of a two-phase equilibrium share one
+    tangent plane, so testing one phase suffices)."""
+    k = np.nonzero(mask)[0]
+    if k.size == 0 or fluid.model == "gerg-2008":
+        return 0
+    from letdown.fluid.flash import twophase as fl
+    j = idx[k]
+    xs = np.asarray(st.xs)[j]
+    two = np.asarray(st.n_phases)[j] == 2
+    tm = fl.stability(fluid.engine.eos, T[k], P[k], xs).tm
+    return int(np.count_nonzero(two & (tm < fl.EARLY_EXIT_TM)))
 
 
 def _compare_scalar(tally, batch, k, one, what):

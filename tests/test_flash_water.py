@@ -127,7 +127,10 @@ def test_throttle_of_wet_gas_is_not_the_two_phase_answer():
     assert split.n_phases[0] == 2
     res2 = gas.flash_three_phase(T2, P)
     assert res2.n_phases[0] == 3                     # that two-phase state is not stable
-    assert abs(out.T[0] - T2[0]) > 1.0
+    # 12 K colder (vapour and water) until the two-phase flash kept the split of lowest Gibbs
+    # energy among its trial phases (issue 11); measured since then: 0.557 K (vapour and
+    # hydrocarbon liquid, the water left in them): still not the three-phase answer
+    assert abs(out.T[0] - T2[0]) > 0.1
 
 
 def _fields_equal(a, b):

@@ -351,8 +351,8 @@ def test_each_kinds_carry_rule_alone_gives_what_its_run_gives(kind):
 def test_water_still_moving_after_the_carry_passes_is_reported_not_failed(monkeypatch):
     # the lean recycle's water settles two passes after its gas (it starts from none); with no
     # carry passes allowed, the streams stand (the gas settled) and a check says the water did not
-    import letdown.sheet.solve as solve_module
-    monkeypatch.setattr(solve_module, "CARRY_MAX_PASSES", 0)
+    import letdown.sheet.loops as loops_module
+    monkeypatch.setattr(loops_module, "CARRY_MAX_PASSES", 0)
     res = solve_cases(recycle("water: 40 mg/Sm3", comp=LEAN), margins=True)
     assert res.converged.all()
     notes = [w for w in res.warnings if w.kind == "water_loop"]

@@ -15,7 +15,7 @@ import numpy as np
 
 from ..errors import InputError
 from . import valve as iec
-from .common import case_text, field_name, finish, outlet_pressure, refuse
+from .common import TRIAL, case_text, field_name, finish, outlet_pressure, refuse
 from .stream import StreamBatch, flash_stream
 
 #: A vapour fraction strictly between these bounds counts as a two-phase outlet [-] (flash noise
@@ -77,6 +77,10 @@ def run(fluid, name: str, inlets, params):
         problem = valve_problem(rating)
         if problem is not None:
             raise InputError(problem[1], field=field_name(name, "valve." + problem[0]))
+    if params.get(TRIAL):
+        # a loop iterating or a goal searching: the rating changes no stream, so it waits for the
+        # final pass (it costs a P-T flash of the inlet and the sizing per pass)
+        rating = protection = None
     if rating is None:
         out = flash_stream(fluid, inlet.flow, inlet.zs, P=P_out, h=inlet.h)
     else:

@@ -61,6 +61,10 @@ PH_SLOPE_FALLBACK = 100.0
 #: its jump; fresh flashes follow the lowest Gibbs energy found. The residual must fall to
 #: RETRY_F_REL of the target's size (or 1e-9 of the slope scale), else the case stays unsolved.
 RETRY_F_REL = 1e-11
+#: A cold two-phase P-h (P-s) answer is confirmed when a fresh P-T flash at its temperature gives
+#: the same split: vapour fraction and phase compositions within this [-] (both converged to
+#: fl.LN_TOL on ln K: they then agree to ~1e-10; another split differs by far more).
+VERIFY_SPLIT_TOL = 1e-7
 RETRY_MAX_ITER = 200
 #: Bracket still open on one side: step the temperature by these factors (at most half-way).
 BRACKET_GROW = 1.2
@@ -598,9 +602,32 @@ class CubicEngine:
                            fl.SolveReport(ok, np.zeros(n, int), np.zeros(n), ""))
         return self._retry_fresh(P, target, zs, which, T, ok, split)
 
+    def _verify_cold_splits(self, P, zs, T, ok, split):
+        """Two-phase answers below fl.COLD_TRIAL_T checked against a fresh P-T flash at their
+        temperature (stability test, the split of lowest Gibbs energy among the trials): the
+        Newton loop's warm-started splits can settle on another, metastable split there (a fuzz
+        find: a CO2-rich gas's P-s answer 6.9 K off, its entropy 3.8 J/(mol K) from the fresh
+        flash's). Where the two differ (VERIFY_SPLIT_TOL), the case is left to _retry_fresh, which
+        works on fresh flashes only. Above COLD_TRIAL_T nothing is done (the common path)."""
+        c = np.nonzero(ok & (split.n_phases == 2) & (T < fl.COLD_TRIAL_T))[0]
+        if c.size == 0:
+            return ok
+        sp = fl.flash_PT(self.eos, T[c], P[c], zs[c])
+        same = (sp.report.converged & (sp.n_phases == 2)
+                & (np.abs(sp.beta - split.beta[c]) < VERIFY_SPLIT_TOL)
+                & (np.max(np.abs(sp.xs - split.xs[c]), axis=1) < VERIFY_SPLIT_TOL)
+                & (np.max(np.abs(sp.ys - split.ys[c]), axis=1) < VERIFY_SPLIT_TOL))
+        if same.all():
+            return ok
+        ok = ok.copy()
+        ok[c[~same]] = False
+        return ok
+
     def _retry_fresh(self, P, target, zs, which, T, ok, split):
-        """Cases the Newton loop left unsolved, solved again by a bracketed root on fresh P-T
-        flashes (see RETRY_F_REL); the same Python code on either path."""
+        """Cases the Newton loop left unsolved (or whose cold split a fresh flash does not
+        confirm, _verify_cold_splits), solved again by a bracketed root on fresh P-T flashes (see
+        RETRY_F_REL); the same Python code on either path."""
+        ok = self._verify_cold_splits(P, zs, T, ok, split)
         bad = np.nonzero(~ok)[0]
         if bad.size == 0:
             return T, ok, split

@@ -11,7 +11,10 @@ Algorithms (Michelsen & Mollerup, *Thermodynamic Models: Fundamentals and Comput
 * **Two-phase PT flash**: successive substitution on K with a bounded Rachford-Rice solve, accelerated
   by the dominant-eigenvalue extrapolation (GDEM, Crowe & Nishio 1975) every ``ACCELERATE_EVERY``
   steps, then a Newton finish on ln K with a finite-difference Jacobian for the cases still
-  unconverged. A split is accepted only if its Gibbs energy is below the single phase's.
+  unconverged. A split is accepted only if its Gibbs energy is below the single phase's. Where
+  more than one trial phase is unstable and their compositions differ, a split is converged from
+  each (most unstable first) and the one of lowest Gibbs energy kept: the most unstable trial does
+  not always lead to the lowest split (issue 11: a cold sour gas, -1.70495 against -1.70888 RT).
 * **PH / PS**: a safeguarded Newton iteration on T (bracketed; bisection when a step leaves the
   bracket), with the PT flash inside; a pure component inside its dome sits at its saturation
   temperature with the vapour fraction from the lever rule.
@@ -78,10 +81,17 @@ EARLY_EXIT_TM = -1e-6
 #: issue 11 placed the missed cold splits of CO2-rich and sour gases at 150-215 K. 220 K covers
 #: both with margin; above it the test is unchanged (and costs nothing more).
 COLD_TRIAL_T = 220.0
-#: At most this many cold trials per feed (the compiled kernels' fixed room, ST_MAX_COLD). The
-#: numpy path takes the first COLD_TRIAL_MAX flagged components of the set, the kernels the first
-#: ones present: the same while COLD_TRIAL_COMPONENTS has no more than COLD_TRIAL_MAX names.
+#: At most this many cold trials per feed (the compiled kernels' fixed room, ST_MAX_COLD): both
+#: paths take the first COLD_TRIAL_MAX flagged components present in the feed, and run them all
+#: where the four standard trials find the feed stable.
 COLD_TRIAL_MAX = 2
+#: Trial phases per feed: the four standard ones and the cold ones.
+N_TRIALS = 4 + COLD_TRIAL_MAX
+#: Trial phases whose converged compositions lie closer than this (sum of squared differences)
+#: reached the same stationary point of the tangent plane: the flash converges a split from the
+#: first of them only (see :func:`flash_PT`). Trials converged to LN_TOL on ln W that found the same
+#: point differ by ~1e-20 in this measure; different points differ by far more than 1e-7.
+DISTINCT_TRIAL_DIST = TRIVIAL_DIST
 #: Largest |ln K| at which a split has collapsed onto the feed (the trivial solution) [-].
 TRIVIAL_LNK = 1e-4
 #: GDEM needs its two successive eigenvalue estimates to agree to this (relative).
@@ -242,12 +252,19 @@ class StabilityResult:
         Composition of the most unstable trial phase.
     trial_is_vapour : ndarray of bool (n,)
         True where that trial is lighter (larger Z) than the feed.
+    tm_trials, ws_trials, vapour_trials : ndarray (NT, n), (NT, n, nc), (NT, n)
+        The same for every trial phase, in the order of :data:`N_TRIALS` (the four standard
+        trials, then the cold trials in the order of the flagged components present; a trial not
+        run has tm 0). Not filled (None) with ``early_exit``.
     """
 
     tm: np.ndarray
     unstable: np.ndarray
     ws: np.ndarray
     trial_is_vapour: np.ndarray
+    tm_trials: np.ndarray | None = None
+    ws_trials: np.ndarray | None = None
+    vapour_trials: np.ndarray | None = None
 
 
 def _run_trials(eos, T, P, d, zs, present, trials, run, early_exit):
@@ -314,11 +331,14 @@ def stability(eos: CubicEOS, T, P, zs, *, lnphis_z=None, Z_z=None, early_exit=Fa
         # the same iterations in compiled code (letdown/fluid/_flashkernels.c)
         if lnphis_z is None:
             lnphis_z, Z_z = native.lnphi(eos, T, P, zs)
-        tm_min, wb, Zb = native.stability_trials(
+        tm_min, wb, Zb, tma, wa, Za = native.stability_trials(
             eos, T, P, zs, lnphis_z, wilson_K(eos, T, P), ln_tol=LN_TOL, trivial_dist=TRIVIAL_DIST,
             max_iter=STABILITY_MAX_ITER, early_tm=EARLY_EXIT_TM, cold_T=cold_T,
-            tm_unstable=TM_UNSTABLE, early_exit=early_exit)
-        return StabilityResult(tm_min, tm_min < TM_UNSTABLE, wb, Zb > Z_z)
+            tm_unstable=TM_UNSTABLE, early_exit=early_exit, n_trials=N_TRIALS)
+        if early_exit:
+            return StabilityResult(tm_min, tm_min < TM_UNSTABLE, wb, Zb > Z_z)
+        return StabilityResult(tm_min, tm_min < TM_UNSTABLE, wb, Zb > Z_z, tma, wa,
+                               Za > Z_z[None, :])
     if lnphis_z is None:
         lnphis_z, Z_z = eos.lnphi(T, P, zs, "stable")
     with np.errstate(divide="ignore"):
@@ -340,11 +360,18 @@ def stability(eos: CubicEOS, T, P, zs, *, lnphis_z=None, Z_z=None, early_exit=Fa
     tm_min = tm[best, np.arange(n)]
     lnWb = lnW[best, np.arange(n)]
     Zb = Zw[best, np.arange(n)]
+    tma = np.zeros((N_TRIALS, n))
+    lnWa = np.tile(np.where(present, lnz, -np.inf), (N_TRIALS, 1, 1))
+    Za = np.zeros((N_TRIALS, n))
+    tma[:4], lnWa[:4], Za[:4] = tm, lnW, Zw
     # cold trials (COLD_TRIAL_T): where the four trials found the feed stable, a nearly pure trial
-    # of each flagged component present, in component order; one replaces the best so far only
-    # when lower (a NaN wins, as numpy's argmin over all trials in that order)
-    for j in np.flatnonzero(cold_trial_flags(eos.comps))[:COLD_TRIAL_MAX]:
-        run = (tm_min >= TM_UNSTABLE) & present[:, j] & (T < cold_T)
+    # of each flagged component present, in component order (slot 4, 5, ... per feed, as in the
+    # kernels); one replaces the best so far only when lower (a NaN wins, as numpy's argmin over
+    # all trials in that order)
+    looks_stable = (tm_min >= TM_UNSTABLE) & (T < cold_T)
+    slot = np.full(n, 4)
+    for j in np.flatnonzero(cold_trial_flags(eos.comps)):
+        run = looks_stable & present[:, j] & (slot < N_TRIALS)
         if not run.any():
             continue
         r = np.nonzero(run)[0]
@@ -352,6 +379,8 @@ def stability(eos: CubicEOS, T, P, zs, *, lnphis_z=None, Z_z=None, early_exit=Fa
         W[:, j] = 1.0
         tc, lc, Zc = _run_trials(eos, T[r], P[r], d[r], zs[r], present[r], [W],
                                  np.ones(r.size, dtype=bool), early_exit)
+        tma[slot[r], r], lnWa[slot[r], r], Za[slot[r], r] = tc[0], lc[0], Zc[0]
+        slot[r] += 1
         better = ~np.isnan(tm_min[r]) & (np.isnan(tc[0]) | (tc[0] < tm_min[r]))
         k = r[better]
         tm_min[k] = tc[0][better]
@@ -359,7 +388,11 @@ def stability(eos: CubicEOS, T, P, zs, *, lnphis_z=None, Z_z=None, early_exit=Fa
         Zb[k] = Zc[0][better]
     Wb = np.exp(lnWb)
     wb = Wb / Wb.sum(axis=1, keepdims=True)
-    return StabilityResult(tm_min, tm_min < TM_UNSTABLE, wb, Zb > Z_z)
+    if early_exit:
+        return StabilityResult(tm_min, tm_min < TM_UNSTABLE, wb, Zb > Z_z)
+    Wa = np.exp(lnWa)
+    wa = Wa / Wa.sum(axis=2, keepdims=True)
+    return StabilityResult(tm_min, tm_min < TM_UNSTABLE, wb, Zb > Z_z, tma, wa, Za > Z_z[None, :])
 
 
 # ------------------------------------------------------------------------------------------------
@@ -611,14 +644,15 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL, c
     if assume is None:
         assume = np.zeros(n, dtype=int)
 
-    def split(idx, K):
-        """Converge splits for cases idx from K; store the accepted ones; return the mask of
-        cases whose split was accepted and of those whose iterations failed."""
+    def converge(idx, K):
+        """Converge splits for cases idx from K: (TwoPhase, mask of acceptable splits (lower
+        Gibbs energy than the single phase), their G/RT, mask of failed iterations)."""
         K = np.where(zs[idx] > 0, K, 1.0)
         bad = ~np.all(np.isfinite(K) & (K > 0), axis=1)
         K[bad] = wilson_K(eos, T[idx[bad]], P[idx[bad]])
         tp = two_phase_flash(eos, T[idx], P[idx], zs[idx], np.clip(K, *K_CLIP), tol)
         ok = tp.report.converged & (tp.beta > 0.0) & (tp.beta < 1.0)
+        g_split = np.full(idx.size, np.nan)
         if ok.any():
             # accept a split only when it lowers the Gibbs energy
             g_split = _gibbs_split(eos, T[idx], P[idx], tp)
@@ -627,23 +661,26 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL, c
                 g_single = np.sum(np.where(zs[idx] > 0, zs[idx] * (np.log(zs[idx]) + lnz), 0.0),
                                   axis=1)
             ok &= g_split < g_single + GIBBS_MARGIN_REL * np.abs(g_single)
-        sel = idx[ok]
-        beta[sel] = tp.beta[ok]
-        xs[sel] = tp.xs[ok]
-        ys[sel] = tp.ys[ok]
-        nph[sel] = 2
         iters[idx] += tp.report.iterations
-        resid[idx] = np.where(ok, tp.report.residual, 0.0)
         with np.errstate(divide="ignore", invalid="ignore"):
             lnK_end = np.log(np.clip(tp.ys / tp.xs, *K_CLIP))
         failed = ~tp.report.converged & ~(np.max(np.abs(lnK_end), axis=1) < TRIVIAL_LNK)
-        return ok, failed
+        return tp, ok, g_split, failed
+
+    def store(idx, tp, take):
+        sel = idx[take]
+        beta[sel] = tp.beta[take]
+        xs[sel] = tp.xs[take]
+        ys[sel] = tp.ys[take]
+        nph[sel] = 2
+        resid[sel] = tp.report.residual[take]
 
     test = (~pure) & (assume == 0)
     warm = (~pure) & (assume == 2)
     if warm.any() and K_init is not None:
         idx = np.nonzero(warm)[0]
-        ok, _ = split(idx, K_init[idx].copy())
+        tp, ok, _, _ = converge(idx, K_init[idx].copy())
+        store(idx, tp, ok)
         # a warm start that does not give a split proves nothing: test stability
         test[idx[~ok]] = True
     elif warm.any():
@@ -654,20 +691,57 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL, c
         st = stability(eos, T[idx], P[idx], zs[idx], lnphis_z=lnph, Z_z=Zz, cold=cold)
         u = st.unstable
         if u.any():
-            w = st.ws[u]
-            z = zs[idx[u]]
-            with np.errstate(divide="ignore", invalid="ignore"):
-                Kv = np.where(z > 0, w / z, 1.0)
-                Kl = np.where(w > 0, z / w, 1.0)
-            K = np.where(st.trial_is_vapour[u][:, None], Kv, Kl)
-            ok, failed = split(idx[u], K)
-            # stability proved a second phase but the split did not converge: say so
-            conv[idx[u][failed & ~ok]] = False
+            ui = idx[u]
+            order, keep = _split_trials(st.tm_trials[:, u], st.ws_trials[:, u])
+            z = zs[ui]
+            have = np.zeros(ui.size, dtype=bool)
+            g_best = np.full(ui.size, np.nan)
+            failed_any = np.zeros(ui.size, dtype=bool)
+            for rank in range(order.shape[0]):
+                c = np.nonzero(keep[rank])[0]
+                if c.size == 0:
+                    continue
+                t = order[rank, c]
+                w = st.ws_trials[t, np.nonzero(u)[0][c]]
+                zc = z[c]
+                with np.errstate(divide="ignore", invalid="ignore"):
+                    Kv = np.where(zc > 0, w / zc, 1.0)
+                    Kl = np.where(w > 0, zc / w, 1.0)
+                K = np.where(st.vapour_trials[t, np.nonzero(u)[0][c]][:, None], Kv, Kl)
+                tp, ok, g, failed = converge(ui[c], K)
+                # the split of lowest Gibbs energy; a later trial's must be lower by more than
+                # round-off (the first, most unstable trial wins a tie)
+                take = ok & (~have[c] | (g < g_best[c] - GIBBS_MARGIN_REL * np.abs(g_best[c])))
+                store(ui[c], tp, take)
+                have[c[take]] = True
+                g_best[c[take]] = g[take]
+                failed_any[c] |= failed
+            # stability proved a second phase but no split converged: say so
+            conv[ui[failed_any & ~have]] = False
     if pure.any():
         idx = np.nonzero(pure)[0]
         beta[idx] = _pure_single_label(eos, T[idx], P[idx], zs[idx], ipure[idx])
     single_v = beta >= 1.0
     return PTSplit(beta, xs, ys, nph, single_v, SolveReport(conv, iters, resid, "PT flash"))
+
+
+def _split_trials(tm, ws):
+    """The trial phases a flash converges a split from, for feeds found unstable: ``order``
+    (NT, n), the trial indices by increasing tm (ties by index: the first is the stability test's
+    answer), and ``keep`` (NT, n), true for the unstable trials whose composition differs
+    (DISTINCT_TRIAL_DIST) from every earlier kept one. The lean-gas throttle of bench/flash.py
+    keeps one per feed (its unstable trials all find the same liquid); a gas with water two."""
+    nt, n = tm.shape
+    key = np.where(tm < TM_UNSTABLE, tm, np.inf)
+    order = np.argsort(key, axis=0, kind="stable")
+    cols = np.arange(n)
+    ws_o = ws[order, cols]                                   # (NT, n, nc)
+    keep = np.isfinite(key[order, cols])
+    for r in range(1, nt):
+        for q in range(r):
+            same = np.sum((ws_o[r] - ws_o[q]) ** 2, axis=1) < DISTINCT_TRIAL_DIST
+            keep[r] &= ~(keep[q] & same)
+    return order, keep
 
 
 def native_flash_constants():
@@ -681,7 +755,8 @@ def native_flash_constants():
                 newton_max_iter=NEWTON_MAX_ITER, newton_fd_step=NEWTON_FD_STEP,
                 newton_max_step=NEWTON_MAX_STEP, gibbs_margin_rel=GIBBS_MARGIN_REL,
                 k_min=K_CLIP[0], k_max=K_CLIP[1], phase_id_liquid=PHASE_ID_LIQUID,
-                vapour_above_tpr=VAPOUR_ABOVE_TPR, cold_trial_T=COLD_TRIAL_T)
+                vapour_above_tpr=VAPOUR_ABOVE_TPR, cold_trial_T=COLD_TRIAL_T,
+                distinct_trial_dist=DISTINCT_TRIAL_DIST)
 
 
 def native_flash_constants_no_cold():

@@ -312,6 +312,7 @@ LF_EXPORT int lf_lnphi(int n, int nc, const double *par, const double *T, const 
 enum { ST_LN_TOL, ST_TRIVIAL_DIST, ST_MAX_ITER, ST_EARLY_TM, ST_COLD_T, ST_TM_UNSTABLE, ST_NCFG };
 /* the four standard trials and at most this many cold trials (flash.COLD_TRIAL_COMPONENTS) */
 #define ST_MAX_COLD 2
+#define ST_NT (4 + ST_MAX_COLD)
 #define ST_WORK(nc) (((size_t)7 + 4 + ST_MAX_COLD) * (size_t)(nc))
 
 /* One trial phase: iterate ln W in place; returns tm (0 for a trivial trial), sets *Zw.
@@ -360,14 +361,20 @@ static double stability_trial(const eos_t *e, double T, double P, const double *
 /* Stability test of one feed (the four standard trials; where they find it stable and T is
  * below cfg[ST_COLD_T], a nearly pure trial of each flagged component present, in component
  * order, at most ST_MAX_COLD); returns the most negative tm and writes that trial's composition
- * ws and Z. work: ST_WORK(nc) */
+ * ws and Z. Where tms_all is not NULL, every trial's tm, composition and Z go to tms_all (ST_NT),
+ * ws_all (ST_NT x nc) and Zs_all (ST_NT); a trial not run has tm 0, the feed's composition and
+ * Z 0. With all_ws 0, ws_all is written only where more than one trial is unstable, and only for
+ * the unstable ones (what the flash needs; the common case then costs nothing more).
+ * work: ST_WORK(nc) */
 static double stability_case(const eos_t *e, double T, double P, const double *z, const double *lz,
                              const double *Ki, const double *cfg, int early_exit, double *ws,
-                             double *Zbest, double *work)
+                             double *Zbest, double *tms_all, double *ws_all, double *Zs_all,
+                             int all_ws, double *work)
 {
     int nc = e->nc, k, t, nt = 4, ncold = 0, heavy = 0, light = 0, best = 0, cold[ST_MAX_COLD];
+    int cold_ran = 0;
     double *d = work, *tw = work + nc, *lnW = work + 7 * nc;
-    double tms[4 + ST_MAX_COLD], Zs[4 + ST_MAX_COLD], best_tm, sW = 0.0, hv = -INFINITY,
+    double tms[ST_NT], Zs[ST_NT], best_tm, sW = 0.0, hv = -INFINITY,
            lv = INFINITY;
     for (k = 0; k < nc; k++) {
         int pres = z[k] > 0.0;
@@ -396,6 +403,7 @@ static double stability_case(const eos_t *e, double T, double P, const double *z
         if (isnan(tms[t]) || tms[t] < best_tm) { best_tm = tms[t]; best = t; }
     /* cold trials: only where the feed looks stable so far */
     if (best_tm >= cfg[ST_TM_UNSTABLE] && T < cfg[ST_COLD_T]) {
+        cold_ran = 1;
         for (t = 4; t < 4 + ncold; t++) {
             double *lw = lnW + t * nc;
             for (k = 0; k < nc; k++) {
@@ -417,26 +425,54 @@ static double stability_case(const eos_t *e, double T, double P, const double *z
     }
     for (k = 0; k < nc; k++) ws[k] /= sW;
     *Zbest = Zs[best];
+    if (tms_all) {
+        int ran = cold_ran ? 4 + ncold : 4, n_unst = 0;
+        for (t = 0; t < ran; t++) n_unst += tms[t] < cfg[ST_TM_UNSTABLE];
+        for (t = 0; t < ST_NT; t++) {
+            double *wo = ws_all + (size_t)t * nc, s2 = 0.0;
+            if (t < ran) {
+                tms_all[t] = tms[t];
+                Zs_all[t] = Zs[t];
+                if (!all_ws && !(n_unst > 1 && tms[t] < cfg[ST_TM_UNSTABLE])) continue;
+                for (k = 0; k < nc; k++) {
+                    wo[k] = exp(lnW[t * nc + k]);
+                    s2 += wo[k];
+                }
+                for (k = 0; k < nc; k++) wo[k] /= s2;
+            } else {
+                tms_all[t] = 0.0;
+                Zs_all[t] = 0.0;
+                if (all_ws)
+                    for (k = 0; k < nc; k++) wo[k] = z[k];
+            }
+        }
+    }
     return best_tm;
 }
 
 /* Stability test of n feeds at (T, P) with ln phi of the feed lnphis_z and Wilson K-values K
  * (n x nc): trials z K, z / K, nearly pure heaviest and nearly pure lightest component present.
- * Output per feed: the most negative tm, the composition of that trial and its Z. */
+ * Output per feed: the most negative tm, the composition of that trial and its Z; and every
+ * trial's (n x n_trials, n x n_trials x nc, n x n_trials; n_trials must be ST_NT, else -2). */
 LF_EXPORT int lf_stability(int n, int nc, const double *par, const double *T, const double *P,
                            const double *zs, const double *lnphis_z, const double *K,
                            const double *cfg, int early_exit, double *tm_out, double *ws_out,
-                           double *Z_out)
+                           double *Z_out, int n_trials, double *tm_all, double *ws_all,
+                           double *Z_all)
 {
-    eos_t e = eos_view(nc, par);
-    double *work = malloc(ST_WORK(nc) * sizeof(double));
+    eos_t e;
+    double *work;
     int i;
+    if (n_trials != ST_NT) return -2;
+    e = eos_view(nc, par);
+    work = malloc(ST_WORK(nc) * sizeof(double));
     if (!work) return -1;
     eos_cache(&e);
     for (i = 0; i < n; i++) {
         size_t o = (size_t)i * nc;
         tm_out[i] = stability_case(&e, T[i], P[i], zs + o, lnphis_z + o, K + o, cfg, early_exit,
-                                   ws_out + o, &Z_out[i], work);
+                                   ws_out + o, &Z_out[i], tm_all + (size_t)i * ST_NT,
+                                   ws_all + o * ST_NT, Z_all + (size_t)i * ST_NT, 1, work);
     }
     eos_release(&e);
     free(work);
@@ -779,7 +815,7 @@ enum {
     FP_GDEM_MAX_LAMBDA, FP_GDEM_MAX_STEP, FP_GDEM_AGREE, FP_TRIVIAL_LNK, FP_RR_TOL, FP_RR_MAX_ITER,
     FP_NEG_LO, FP_NEG_HI, FP_TM_UNSTABLE, FP_WILSON, FP_NEWTON_MAX_ITER, FP_NEWTON_FD_STEP,
     FP_NEWTON_MAX_STEP, FP_GIBBS_REL, FP_K_MIN, FP_K_MAX, FP_PHASE_ID_LIQUID, FP_VAPOUR_TPR,
-    FP_COLD_T, FP_NCFG
+    FP_COLD_T, FP_DISTINCT, FP_NCFG
 };
 
 /* flash.wilson_K for one case */
@@ -946,11 +982,12 @@ typedef struct {
     int nph, conv, iters;
 } pt_t;
 
-/* split() of flash.flash_PT for one case: converge from K (work copy), accept by the Gibbs energy,
- * store into x, y, r. work: 20 nc + nc^2 */
+/* converge() and store() of flash.flash_PT for one case: converge from K (work copy), accept by
+ * the Gibbs energy (G/RT of the split to *g_out), store an accepted split into x, y, r (the
+ * iterations are added to r in any case). work: 20 nc + nc^2 */
 static void split_case(const eos_t *e, const double *fc, double T, double P, const double *z,
                        const double *Kin, double tol, double *x, double *y, pt_t *r, int *ok_out,
-                       int *failed_out, double *work)
+                       int *failed_out, double *g_out, double *work)
 {
     int nc = e->nc, k, bad = 0, conv, iters, ok;
     double *K = work, *xt = K + nc, *yt = xt + nc, *rest = yt + nc, beta, resid, big;
@@ -971,15 +1008,16 @@ static void split_case(const eos_t *e, const double *fc, double T, double P, con
         double g_split = beta * gV + (1.0 - beta) * gL;
         double g_single = g_mix(e, T, P, z, rest);
         ok = g_split < g_single + fc[FP_GIBBS_REL] * fabs(g_single);
+        *g_out = g_split;
     }
     if (ok) {
         r->beta = beta;
         memcpy(x, xt, (size_t)nc * sizeof(double));
         memcpy(y, yt, (size_t)nc * sizeof(double));
         r->nph = 2;
+        r->resid = resid;
     }
     r->iters += iters;
-    r->resid = ok ? resid : 0.0;
     /* the iterations failed unless K collapsed onto 1 */
     for (k = 0; k < nc; k++) {
         double q = yt[k] / xt[k];
@@ -992,7 +1030,7 @@ static void split_case(const eos_t *e, const double *fc, double T, double P, con
     *ok_out = ok;
 }
 
-#define PT_WORK(nc) (40 * (size_t)(nc) + (size_t)(nc) * (nc))
+#define PT_WORK(nc) ((32 + ST_NT) * (size_t)(nc) + (size_t)(nc) * (nc))
 
 /* flash.flash_PT for one case (mixtures; a pure component is left with x = y = z, one phase,
  * beta NaN, for the caller to name). Kin may be NULL. work: PT_WORK(nc) */
@@ -1021,7 +1059,8 @@ static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, 
     test = (assume == 0);
     if (assume == 2) {
         if (Kin) {
-            split_case(e, fc, T, P, z, Kin, tol, x, y, r, &ok, &failed, work);
+            double g;
+            split_case(e, fc, T, P, z, Kin, tol, x, y, r, &ok, &failed, &g, work);
             /* a warm start that does not give a split proves nothing: test stability */
             if (!ok) test = 1;
         } else {
@@ -1029,8 +1068,10 @@ static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, 
         }
     }
     if (test) {
-        double st[ST_NCFG], Zz, Zw, tm;
-        double *lz = work, *Kw = lz + nc, *wt = Kw + nc, *K = wt + nc, *rest = K + nc;
+        double st[ST_NCFG], Zz, Zw, tm, tms[ST_NT], Zs[ST_NT], key[ST_NT];
+        int t, n_unst;
+        double *lz = work, *Kw = lz + nc, *wt = Kw + nc, *K = wt + nc, *wa = K + nc;
+        double *xc = wa + ST_NT * (size_t)nc, *yc = xc + nc, *rest = yc + nc;
         st[ST_LN_TOL] = fc[FP_LN_TOL];
         st[ST_TRIVIAL_DIST] = fc[FP_TRIVIAL_DIST];
         st[ST_MAX_ITER] = fc[FP_ST_MAX_ITER];
@@ -1039,16 +1080,68 @@ static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, 
         st[ST_TM_UNSTABLE] = fc[FP_TM_UNSTABLE];
         Zz = lnphi_one(e, T, P, z, 0, lz, rest);
         wilson(e, fc, T, P, Kw);
-        tm = stability_case(e, T, P, z, lz, Kw, st, 0, wt, &Zw, rest);
-        if (tm < fc[FP_TM_UNSTABLE]) {
+        tm = stability_case(e, T, P, z, lz, Kw, st, 0, wt, &Zw, tms, wa, Zs, 0, rest);
+        for (t = 0, n_unst = 0; t < ST_NT; t++) n_unst += tms[t] < fc[FP_TM_UNSTABLE];
+        if (n_unst == 1 && tm < fc[FP_TM_UNSTABLE]) {
+            /* one unstable trial (the common case): its split, as the loop below would do */
             int vap = Zw > Zz;
+            double g;
             for (k = 0; k < nc; k++) {
                 if (vap) K[k] = (z[k] > 0.0) ? wt[k] / z[k] : 1.0;
                 else K[k] = (wt[k] > 0.0) ? z[k] / wt[k] : 1.0;
             }
-            split_case(e, fc, T, P, z, K, tol, x, y, r, &ok, &failed, rest);
+            split_case(e, fc, T, P, z, K, tol, x, y, r, &ok, &failed, &g, rest);
             /* stability proved a second phase but the split did not converge: say so */
             if (failed && !ok) r->conv = 0;
+        } else if (tm < fc[FP_TM_UNSTABLE]) {
+            /* flash._split_trials: a split from each unstable trial by increasing tm (ties by
+             * index), skipping a trial that found the composition of an earlier one; the split of
+             * lowest Gibbs energy is kept, a later one only when lower by more than round-off */
+            int kept[ST_NT], nkept = 0, have = 0, failed_any = 0, q;
+            double g_best = NAN;
+            for (t = 0; t < ST_NT; t++)
+                key[t] = (tms[t] < fc[FP_TM_UNSTABLE]) ? tms[t] : INFINITY;
+            for (;;) {
+                int c = -1, same = 0;
+                for (t = 0; t < ST_NT; t++)
+                    if (isfinite(key[t]) && (c < 0 || key[t] < key[c])) c = t;
+                if (c < 0) break;
+                key[c] = INFINITY;
+                for (q = 0; q < nkept && !same; q++) {
+                    double d2 = 0.0;
+                    for (k = 0; k < nc; k++) {
+                        double dd = wa[(size_t)c * nc + k] - wa[(size_t)kept[q] * nc + k];
+                        d2 += dd * dd;
+                    }
+                    same = d2 < fc[FP_DISTINCT];
+                }
+                if (same) continue;
+                kept[nkept++] = c;
+                {
+                    const double *w = wa + (size_t)c * nc;
+                    int vap = Zs[c] > Zz;
+                    pt_t rc = *r;
+                    double g = NAN;
+                    for (k = 0; k < nc; k++) {
+                        if (vap) K[k] = (z[k] > 0.0) ? w[k] / z[k] : 1.0;
+                        else K[k] = (w[k] > 0.0) ? z[k] / w[k] : 1.0;
+                    }
+                    split_case(e, fc, T, P, z, K, tol, xc, yc, &rc, &ok, &failed, &g, rest);
+                    r->iters = rc.iters;
+                    failed_any |= failed;
+                    if (ok && (!have || g < g_best - fc[FP_GIBBS_REL] * fabs(g_best))) {
+                        memcpy(x, xc, (size_t)nc * sizeof(double));
+                        memcpy(y, yc, (size_t)nc * sizeof(double));
+                        r->beta = rc.beta;
+                        r->nph = 2;
+                        r->resid = rc.resid;
+                        have = 1;
+                        g_best = g;
+                    }
+                }
+            }
+            /* stability proved a second phase but no split converged: say so */
+            if (failed_any && !have) r->conv = 0;
         }
     }
 }

@@ -64,7 +64,8 @@ _FP_ORDER = ("ln_tol", "trivial_dist", "stability_max_iter", "early_tm", "ss_max
              "accelerate_every", "gdem_max_lambda", "gdem_max_step", "gdem_agree", "trivial_lnK",
              "rr_tol", "rr_max_iter", "neg_lo", "neg_hi", "tm_unstable", "wilson_c",
              "newton_max_iter", "newton_fd_step", "newton_max_step", "gibbs_margin_rel", "k_min",
-             "k_max", "phase_id_liquid", "vapour_above_tpr", "cold_trial_T")
+             "k_max", "phase_id_liquid", "vapour_above_tpr", "cold_trial_T",
+             "distinct_trial_dist")
 #: Order of the P-h / P-s constants (SV_* in the C file); values from cubic_fluid.
 _SV_ORDER = ("max_iter", "trust_iterations", "loose_tol", "loose_until_step", "residual_K",
              "tol_T", "T_low", "T_high", "fd_step_T", "f_tiny_rel", "slope_fallback",
@@ -102,7 +103,7 @@ def _load() -> tuple:
     p, i = ctypes.c_void_p, ctypes.c_int
     sigs = {
         "lf_lnphi": [i, i, p, p, p, p, p, p, p],
-        "lf_stability": [i, i, p, p, p, p, p, p, p, i, p, p, p],
+        "lf_stability": [i, i, p, p, p, p, p, p, p, i, p, p, p, i, p, p, p],
         "lf_two_phase_ss": [i, i, p, p, p, p, p, p, p, p, p, p, p],
         "lf_split_finish": [i, i, p, p, p, p, p, p, p, p, p, p, p],
         "lf_properties": [i, i, p, p, p, p, p, p],
@@ -225,7 +226,7 @@ def lnphi(eos, T, P, xs, code=None):
 
 
 def stability_trials(eos, T, P, zs, lnphis_z, K, *, ln_tol, trivial_dist, max_iter, early_tm,
-                     cold_T, tm_unstable, early_exit):
+                     cold_T, tm_unstable, early_exit, n_trials):
     """Trial iterations of the stability test (see :func:`letdown.fluid.flash.twophase.stability`).
 
     Returns
@@ -233,6 +234,8 @@ def stability_trials(eos, T, P, zs, lnphis_z, K, *, ln_tol, trivial_dist, max_it
     tm : (n,) most negative modified tangent-plane distance [-]
     ws : (n, nc) that trial's composition [-]
     Z : (n,) that trial's compressibility factor [-]
+    tm_trials, ws_trials, Z_trials : (NT, n), (NT, n, nc), (NT, n), every trial's (a trial not
+    run: tm 0, the feed's composition, Z 0); NT = n_trials, the kernels' room (checked)
     """
     T, P, zs, lnphis_z, K = _f(T), _f(P), _f(zs), _f(lnphis_z), _f(K)
     n, nc = zs.shape
@@ -241,11 +244,14 @@ def stability_trials(eos, T, P, zs, lnphis_z, K, *, ln_tol, trivial_dist, max_it
     tm = np.empty(n)
     ws = np.empty((n, nc))
     Z = np.empty(n)
+    tma = np.empty((n, n_trials))
+    wa = np.empty((n, n_trials, nc))
+    Za = np.empty((n, n_trials))
     _check(_LIB.lf_stability(n, nc, _ptr(_pack(eos)), _ptr(T), _ptr(P),
                              _ptr(zs), _ptr(lnphis_z), _ptr(K), _ptr(cfg),
                              1 if early_exit else 0, _ptr(tm), _ptr(ws),
-                             _ptr(Z)))
-    return tm, ws, Z
+                             _ptr(Z), n_trials, _ptr(tma), _ptr(wa), _ptr(Za)))
+    return tm, ws, Z, tma.T.copy(), wa.transpose(1, 0, 2).copy(), Za.T.copy()
 
 
 def _tp_cfg(tol, max_iter, accelerate_every, gdem_max_lambda, gdem_max_step, gdem_agree,
