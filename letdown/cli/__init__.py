@@ -12,6 +12,7 @@ Verbs::
     letdown envelope FILE --stream NAME [--lines 0.1,0.5] [--csv DIR] [--json] [--plot F.png|F.svg]
     letdown sweep FILE --vary PATH=VALUES [...] [--zip] [--out DIR] [--plot X:Y] [--workers N|--dask A]
                  [--units si|display|field] [--html P] [--xlsx P] [--quiet]
+    letdown sweep FILE --sample N --vary PATH=DIST(ARGS) [...] [--sampler lhs|sobol|random] [--seed S]
     letdown year FILE --profile CSV [--efficiency E] [--calorific gross|net] [--out DIR]
                  [--workers N|--dask A] [--units display|si|field] [--html P] [--xlsx P] [--quiet]
     letdown size FILE [--efficiency E] [--model M] [--free-water always|by-dew-point]

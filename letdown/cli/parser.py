@@ -61,7 +61,20 @@ def build_parser() -> argparse.ArgumentParser:
                        help="solve a flowsheet over a list, range or grid of input values")
     w.add_argument("file", metavar="FILE", help="the flowsheet file (YAML)")
     w.add_argument("--vary", action="append", required=True, metavar="PATH=VALUES",
-                   help="e.g. supply.T=0degC:20degC:5, blend.hydrogen=0:0.3:7, goal1.at=2degC,5degC")
+                   help="e.g. supply.T=0degC:20degC:5, blend.hydrogen=0:0.3:7, goal1.at=2degC,5degC; "
+                        "with --sample a distribution: supply.T=normal(5degC,2K), "
+                        "supply.flow=uniform(60000Sm3/h,90000Sm3/h), supply.P=triangular(a,m,b), "
+                        "supply.composition=dirichlet(500)")
+    w.add_argument("--sample", type=int, metavar="N",
+                   help="uncertainty study: N samples of the distributions given with --vary; "
+                        "prints mean, std, P10/P50/P90, hydrate-margin probabilities and "
+                        "first-order sensitivity indices")
+    w.add_argument("--sampler", choices=("lhs", "sobol", "random"), default="lhs",
+                   help="with --sample: Latin hypercube (default), scrambled Sobol (N a power "
+                        "of 2) or plain random")
+    w.add_argument("--seed", type=int, metavar="S",
+                   help="with --sample: the random seed (default: a fresh one, recorded in "
+                        "run.json and the report)")
     w.add_argument("--zip", action="store_true", help="take the variables together, not as a grid")
     w.add_argument("--outputs", metavar="A,B", help="output paths: any stream or block quantity of "
                    "the JSON result, e.g. network.T,network.hydrate_margin,network.gross_cv,preheat.fuel")
@@ -69,7 +82,8 @@ def build_parser() -> argparse.ArgumentParser:
     w.add_argument("--basis", choices=("volume", "energy"), default="volume",
                    help="what a blend keeps: the feeds' standard flow (volume) or the energy they "
                         "deliver, gross calorific value x standard flow (energy)")
-    w.add_argument("--out", metavar="DIR", help="write sweep.csv, run.json (and plots) to DIR")
+    w.add_argument("--out", metavar="DIR", help="write sweep.csv, run.json (and plots) to DIR; "
+                   "with --sample samples.csv, summary.csv, hydrate.csv, sensitivity.csv, run.json")
     w.add_argument("--plot", metavar="X:Y[,Y]", help="plot outputs Y against input X into DIR")
     w.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
     w.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")

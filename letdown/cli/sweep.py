@@ -19,6 +19,12 @@ def run(args) -> int:
     fs = load(args.file)
     args.flowsheet = fs
     atm = (fs.extra.get("atmosphere") if fs.extra else None) or STANDARD_ATMOSPHERE
+    if getattr(args, "sample", None) is not None:
+        return _uncertainty(args, fs, atm)
+    from ..study.uncertainty import is_distribution
+    if any(is_distribution(v) for v in args.vary):
+        raise InputError("a distribution in --vary needs --sample N (the number of samples)",
+                         field="--vary")
     variables = [parse_variable(fs, v) for v in args.vary]
     case_count(variables, "zip" if args.zip else "grid")
     outputs = [o.strip() for o in args.outputs.split(",")] if args.outputs else None
@@ -62,3 +68,40 @@ def run(args) -> int:
               file=sys.stderr)
     print(f"letdown: {CAUTION}", file=sys.stderr)
     return EXIT_FAILED_SOLVE if failed else EXIT_OK
+
+
+def _uncertainty(args, fs, atm) -> int:
+    """``letdown sweep --sample N``: an uncertainty study (:mod:`letdown.study.uncertainty`)."""
+    from ..report.uncertainty import uncertainty_files, uncertainty_text
+    from ..study.executors import make_executor
+    from ..study.uncertainty import parse_distribution, uncertainty
+
+    for flag in ("zip", "plot", "xlsx", "html"):
+        if getattr(args, flag, None):
+            raise InputError(f"--{flag} does not go with --sample", field=f"--{flag}")
+    dists = [parse_distribution(fs, v) for v in args.vary]
+    seed = args.seed
+    if seed is None:
+        import numpy as np
+        seed = int(np.random.SeedSequence().entropy % (2 ** 32))
+    outputs = [o.strip() for o in args.outputs.split(",")] if args.outputs else None
+    target = csv_target(args.out) if args.out else None
+    executor = make_executor(args.workers, args.dask)
+    try:
+        result = uncertainty(fs, dists, args.sample, sampler=args.sampler, seed=seed,
+                             model=args.model, outputs=outputs, executor=executor,
+                             show_progress=sys.stderr.isatty(), basis=args.basis)
+    finally:
+        executor.close()
+    units = args.units
+    if target is not None:
+        files = uncertainty_files(result, source=args.file, specs=args.vary, units=units,
+                                  atmosphere=atm)
+        write_csv(target, files)
+        print(f"letdown: wrote {', '.join(str(target / f) for f in files)}", file=sys.stderr)
+    sys.stdout.write(uncertainty_text(result, units, atm))
+    if result.failed:
+        print(f"letdown: {result.failed} of {result.n} samples failed (statistics over the "
+              f"solved ones; see the reason column of samples.csv)", file=sys.stderr)
+    print(f"letdown: {CAUTION}", file=sys.stderr)
+    return EXIT_FAILED_SOLVE if result.failed else EXIT_OK

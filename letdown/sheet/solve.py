@@ -345,6 +345,9 @@ class _Engine(TearLoops, GoalSearch):
         self.guess_zs = {name: self._zs(g.composition, g.where, f"guesses.{name}")
                          for name, g in fs.guesses.items()}
         self.producer = {s: b for b, spec in fs.blocks.items() for s in spec.outlets.values()}
+        # the feeds' streams per base case, kept from the first pass that varies no feed value
+        # (lookup (n,) base case -> position or -1, {feed: StreamBatch}); see _feed_streams
+        self._feed_memo = None
         # > 0 while a loop iterates or a goal searches: blocks refuse nothing in such trial passes
         # (an iterate may break a rule the answer keeps; letdown.equipment.common)
         self._trial = 0
@@ -431,16 +434,7 @@ class _Engine(TearLoops, GoalSearch):
         now_over = {k: v[alive] for k, v in over.items()} if alive.size < m else over
         streams: dict = {}
         if alive.size:
-            for name, (values, zs) in feeds.items():
-                streams[name] = flash_stream(self.fluid, values["flow"][alive], zs[alive],
-                                             T=values["T"][alive], P=values["P"][alive])
-            if self.carry_water:
-                for name, c in feed_carries(self.fs, self.fluid, streams).items():
-                    streams[name] = streams[name].with_carry(c)
-            elif self.carry:      # water a component: each stream's own water, not carried
-                for name, st in streams.items():
-                    nan = np.full(st.n_cases, np.nan)
-                    streams[name] = st.with_carry(Carry(nan, nan))
+            streams = self._feed_streams(feeds, alive, now_sel, over)
         outcomes: dict = {}
         loops = []                     # (record, the cases it was made for)
 
@@ -490,6 +484,37 @@ class _Engine(TearLoops, GoalSearch):
                 {p: ev.streams[s] for p, s in spec.outlets.items()}, alive, m)
         ev.loops = [_spread_loop(record, idx, m) for record, idx in loops]
         return ev
+
+    def _feed_streams(self, feeds: dict, alive, sel, over) -> dict:
+        """The feeds' streams of the cases ``sel`` (``alive`` picks them out of ``feeds``).
+
+        A pass that overrides no feed value (each step of a goal's search, the final pass) has the
+        very feeds of an earlier pass: the streams of the first such pass are kept per base case
+        and taken again. Every case's flash is its own, so the numbers are those a new flash
+        gives; a goal search no longer flashes its feeds 9 times (bench/sweep_large.py).
+        """
+        fixed = not any(k.partition(".")[0] in self.fs.feeds for k in over)
+        if fixed and self._feed_memo is not None:
+            pos = self._feed_memo[0][sel]
+            if np.all(pos >= 0):
+                return {name: b.take(pos) for name, b in self._feed_memo[1].items()}
+        streams = {}
+        for name, (values, zs) in feeds.items():
+            streams[name] = flash_stream(self.fluid, values["flow"][alive], zs[alive],
+                                         T=values["T"][alive], P=values["P"][alive])
+        if self.carry_water:
+            for name, c in feed_carries(self.fs, self.fluid, streams).items():
+                streams[name] = streams[name].with_carry(c)
+        elif self.carry:      # water a component: each stream's own water, not carried
+            for name, st in streams.items():
+                nan = np.full(st.n_cases, np.nan)
+                streams[name] = st.with_carry(Carry(nan, nan))
+        if fixed and self._feed_memo is None:
+            ids, first = np.unique(sel, return_index=True)
+            lookup = np.full(self.n, -1)
+            lookup[ids] = np.arange(ids.size)
+            self._feed_memo = (lookup, {name: b.take(first) for name, b in streams.items()})
+        return streams
 
     def _check_feed(self, name: str, values: dict, ev: _Evaluation) -> None:
         """Refuse a feed value no gas can have (NaN, a non-positive absolute temperature or

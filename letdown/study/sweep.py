@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import dataclasses
 import itertools
+import math
 from dataclasses import dataclass
 
 import numpy as np
@@ -41,6 +42,12 @@ FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
 MAX_CASES = 100_000
 #: Cases per chunk when a progress bar is shown (each chunk is still one vectorised batch).
 PROGRESS_CHUNK = 500
+#: Most cases solved in one batch: a larger sweep is split into chunks of at most this many, so
+#: the solver's working memory stays bounded (about 90 MB of peak RSS at 5,000 cases of the gate
+#: station with margins, measured by bench/sweep_large.py) while each chunk still vectorises
+#: (on the gate station, chunks of 2,000 to 20,000 cases took the same time per case within the
+#: noise of a shared machine; measured 2026-12-02).
+MAX_CHUNK = 5_000
 
 
 @dataclass(frozen=True)
@@ -83,9 +90,10 @@ class SweepTable:
         buf = io.StringIO()
         w = csv.writer(buf, lineterminator="\n")
         w.writerow(self.columns)
+        isfinite = math.isfinite
         for r in self.rows:
-            w.writerow(["" if (isinstance(v, float) and not np.isfinite(v)) else
-                        (f"{v:.10g}" if isinstance(v, float) else v) for v in r])
+            w.writerow([(f"{v:.10g}" if isfinite(v) else "") if type(v) is float else v
+                        for v in r])
         return buf.getvalue()
 
 
@@ -210,7 +218,7 @@ def _held_kind(fs, hold: str) -> str:
 
 def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = None,
           outputs=None, executor=None, show_progress: bool = False,
-          basis: str = "volume") -> SweepTable:
+          basis: str = "volume", given=None) -> SweepTable:
     """Solve ``fs`` for every case of the swept variables.
 
     Parameters
@@ -235,29 +243,37 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
         energy they deliver (``energy``, :func:`energy_basis`): each feed's flow is scaled so that
         gross calorific value times standard flow stays at the base case's, and the table shows
         both flows and the energy.
+    given : mapping, optional
+        Further per-case arrays passed to the solver as they are, of the sweep's length (a
+        sampled composition ``"<feed>.zs"``, shape (n, nc), from :mod:`.uncertainty`); they make
+        no input column of their own.
 
     Returns
     -------
     SweepTable
     """
     variables = list(variables)
-    if not variables:
+    given = {k: np.asarray(v, float) for k, v in (given or {}).items()}
+    if not variables and not given:
         raise InputError("nothing to sweep: give at least one variable", field="vary")
     if mode == "grid":
         combos = list(itertools.product(*[range(v.values.size) for v in variables]))
         cols = {v.path: np.array([v.values[c[j]] for c in combos]) for j, v in enumerate(variables)}
     elif mode == "zip":
-        sizes = {v.values.size for v in variables}
+        sizes = {v.values.size for v in variables} | {len(a) for a in given.values()}
         if len(sizes) != 1:
             raise InputError(f"zip sweep needs variables of equal length (got {sorted(sizes)})",
                              field="vary")
         cols = {v.path: v.values.copy() for v in variables}
     else:
         raise InputError(f"unknown sweep mode '{mode}' (grid or zip)", field="mode")
-    n = next(iter(cols.values())).size
+    if given and mode != "zip":
+        raise InputError("per-case arrays go with a zip sweep", field="vary")
+    n = next(iter(cols.values())).size if cols else len(next(iter(given.values())))
     fs2 = _with_blend_components(fs, [v.path.split(".", 1)[1] for v in variables
                                       if v.path.startswith("blend.")])
     cases, goal_targets = _cases(fs2, cols, n)
+    cases.update(given)
     if basis not in BASES:
         raise InputError(f"unknown basis '{basis}' (known: {', '.join(BASES)})", field="--basis")
     extra = energy_basis(fs2, cases, n) if basis == "energy" else {}
@@ -281,9 +297,9 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
             for k, target in zip(sorted(goal_targets), key):
                 goals[k] = dataclasses.replace(goals[k], target=float(target))
             fsk = dataclasses.replace(fs2, goals=tuple(goals))
-        parts = executor.workers
+        parts = max(executor.workers, int(np.ceil(group.size / MAX_CHUNK)))
         if show_progress:
-            parts = max(parts, int(np.ceil(group.size / PROGRESS_CHUNK)))
+            parts = max(parts, min(int(np.ceil(group.size / PROGRESS_CHUNK)), 20))
         for part in chunks(group.size, parts):
             idx = group[part]
             tasks.append((fsk, {k: v[idx] for k, v in cases.items()}, model, outputs, idx.size))
@@ -299,12 +315,15 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
         values = [values[c] for c in keep]
         if columns is None:
             columns = inputs + tuple(names) + tuple(extra) + ("converged", "reason")
-        for j, i in enumerate(idx):
-            ok = bool(converged[j])
-            outs = tuple(float(values[c][j]) if ok else float("nan") for c in range(len(names)))
-            out_rows[i] = (tuple(float(cols[v.path][i]) for v in variables) + outs
-                           + tuple(float(a[i]) for a in extra.values())
-                           + (ok, "" if ok else reasons[j]))
+        ok = np.asarray(converged, dtype=bool)
+        # one block of numbers per chunk, turned into Python floats at once (tolist)
+        outs = (np.column_stack(values) if values else np.zeros((idx.size, 0))).astype(float)
+        outs[~ok] = np.nan
+        block = np.column_stack([cols[v.path][idx] for v in variables] + [outs]
+                                + [a[idx] for a in extra.values()]).tolist()
+        for j, i in enumerate(idx.tolist()):
+            good = bool(ok[j])
+            out_rows[i] = tuple(block[j]) + (good, "" if good else reasons[j])
     return SweepTable(columns, tuple(out_rows), model_name)
 
 
