@@ -219,3 +219,21 @@ window.addEventListener('load', function () {
     dom = _run("--dump-dom", "--virtual-time-budget=3000", probe.as_uri())
     w, h = json.loads(re.search(r'<pre id="probe">(.*?)</pre>', dom, re.S).group(1))
     assert w > 300 and h > 200, (w, h)
+
+
+@pytest.mark.parametrize("verb, name", [("capacity", "district-station"), ("upsets", "gate-station")])
+def test_capacity_and_upsets_records(verb, name, tmp_path, capsys):
+    """The station's hydraulic studies write the same self-contained record, holding the printed
+    report (and so every case, limit and caution of it)."""
+    source = EXAMPLES / f"{name}.yaml"
+    page = tmp_path / f"{verb}.html"
+    assert main([verb, str(source), "--html", str(page)]) == 0, capsys.readouterr().err
+    printed = capsys.readouterr().out
+    text = page.read_text(encoding="utf-8")
+    _check_self_contained(text, source)
+    assert "<h2>Input file</h2>" in text and "Input SHA-256" in text
+    body = html.unescape(text)
+    for line in printed.strip().splitlines():
+        assert line.rstrip() in body, line
+    if verb == "upsets":
+        assert "local codes and licensed practice" in body

@@ -17,8 +17,8 @@ Verbs::
                  [--workers N|--dask A] [--units display|si|field] [--html P] [--xlsx P] [--quiet]
     letdown size FILE [--efficiency E] [--model M] [--free-water always|by-dew-point]
                  [--calorific gross|net] [--json] [--units si|field] [--html P] [--xlsx P]
-    letdown capacity FILE [--model M] [--json] [--units si|field]
-    letdown upsets FILE [--model M] [--json] [--units si|field]
+    letdown capacity FILE [--model M] [--json] [--units si|field] [--html P]
+    letdown upsets FILE [--model M] [--json] [--units si|field] [--html P]
     letdown state --T 10degC --P 70barg --gas "methane=0.9,ethane=0.1" [--model M] [--json]
 
 Exit codes: 0 success; 2 bad input (:class:`InputError`, :class:`TopologyError`,

@@ -137,6 +137,7 @@ def build_parser() -> argparse.ArgumentParser:
         up.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
         up.add_argument("--json", action="store_true", help="print only the JSON result on stdout")
         up.add_argument("--units", choices=("si", "field"), default="si", help="display units")
+        _record_options(up, xlsx=False)
     cm = sub.add_parser("compare", parents=[common],
                         help="compare a flowsheet with plant measurements, per model; fit one "
                              "parameter")

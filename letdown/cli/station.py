@@ -6,7 +6,7 @@ from __future__ import annotations
 import json
 import sys
 
-from .common import EXIT_FAILED_SOLVE, EXIT_OK
+from .common import EXIT_FAILED_SOLVE, EXIT_OK, record_targets, write_study_html
 
 
 def run(args) -> int:
@@ -14,6 +14,7 @@ def run(args) -> int:
     (or, for upsets, a case of normal operation failed), with every case reported."""
     from ..sheet.loader import load
 
+    record_targets(args)
     fs = load(args.file)
     args.flowsheet = fs
     atmosphere = fs.extra.get("atmosphere")
@@ -30,6 +31,12 @@ def run(args) -> int:
         text = upsets_text(res, args.units, atmosphere=atmosphere)
         bad = list(res.preheat[0]["failures"]) if res.preheat else []
     data = res.to_dict()
+    if args.html:
+        from ..report.html import text_html
+        what = "capacity" if args.verb == "capacity" else "upsets"
+        write_study_html(args, f"{fs.title}: {what}", res.model if hasattr(res, "model") else
+                         (args.model or fs.gas.model or "default"),
+                         [("Report as printed", text_html(text))], args.units)
     if args.json:
         print(json.dumps(data, indent=2, allow_nan=False))
         print(f"letdown: {data['caution']}", file=sys.stderr)

@@ -73,7 +73,7 @@ def column_unit(column: str, units: str = "si", atmosphere: float = STANDARD_ATM
         quantity.startswith(("dt", "delta"))
     key = {"K": "dT" if diff else "T", "W": "power" if quantity == "power" else "duty",
            "Pa": "dP" if quantity.startswith("dp") or quantity.endswith("dp") else "P",
-           "mol/s": "flow", "kg/s": "mass_flow", "W/K": "ua"}.get(si)
+           "mol/s": "flow", "kg/s": "mass_flow", "W/K": "ua", "m3/s": "liquid_volume_flow"}.get(si)
     if key is None:
         return column, (lambda v: v)
     u = unit_system("si" if units == "display" else units, atmosphere)[key]

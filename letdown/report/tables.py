@@ -25,7 +25,7 @@ from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
 #: 0.01 bar, whole kg/h and Sm3/h); CSV keeps full precision.
 STREAM_DECIMALS = {"Temperature": 2, "Pressure": 2, "Vapour fraction": 4, "Molar flow": 1,
                    "Mass flow": 0, "Water carried": 2, "Inhibitor carried": 2,
-                   "Standard gas flow": 0, "Density": 3, "Z": 5, "Molar mass": 3,
+                   "Standard gas flow": 0, "Liquid volume": 2, "Density": 3, "Z": 5, "Molar mass": 3,
                    "Enthalpy": 1, "Entropy": 3, "Gross calorific value": 3, "Wobbe index": 3}
 
 #: Width the terminal layout aims for [characters]; wider tables are split into column groups.
@@ -74,6 +74,14 @@ def _get(obj, name, default=None):
     if isinstance(obj, Mapping):
         return obj.get(name, default)
     return getattr(obj, name, default)
+
+
+def _liquid_volume(flow, mass_flow, vapour_fraction, density) -> float:
+    """Volume flow of an all-liquid stream at its state [m3/s], NaN otherwise (the JSON's
+    ``liquid_volume_flow_m3_s``; the report reads the stream's own numbers)."""
+    if vapour_fraction == 0.0 and flow > 0.0 and density > 0.0:
+        return mass_flow / density
+    return float("nan")
 
 
 def _composition(stream, components, case) -> dict:
@@ -145,6 +153,15 @@ def stream_table(result, units: str = "si", *, case: int = 0, atmosphere: float 
         rows.append((f"Inhibitor carried [{u['mass_flow'].label}]",
                      *(None if w is None or pick(w, case) is None else u["mass_flow"](pick(w, case))
                        for w in inh)))
+    # NGL and condensate: the volume of an all-liquid stream at its own state, per day
+    liquid = []
+    for n in names:
+        st = streams[n]
+        vals = [pick(_get(st, k), case) for k in ("flow", "mass_flow", "vapour_fraction", "density")]
+        lv = None if any(v is None for v in vals) else _liquid_volume(*vals)
+        liquid.append(None if lv is None or not np.isfinite(lv) else u["liquid_volume_flow"](lv))
+    if any(v is not None for v in liquid):
+        rows.append((f"Liquid volume [{u['liquid_volume_flow'].label}]", *liquid))
     rows += [
         row("Standard gas flow", "flow", "std_flow", from_flow=True),
         row("Density", "density", "density"),

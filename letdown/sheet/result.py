@@ -179,10 +179,27 @@ class StreamResult:
                 "vapour_fraction": _num(self.vapour_fraction), "composition": comp(self.zs),
                 "h_J_mol": _num(self.h), "s_J_molK": _num(self.s), "Z": _num(self.Z),
                 "density_kg_m3": _num(self.density), "molar_mass_kg_mol": _num(self.molar_mass),
+                "liquid_volume_flow_m3_s": _num(liquid_volume_flow(self.flow, self.mass_flow,
+                                                                   self.vapour_fraction,
+                                                                   self.density)),
                 "vapour_composition": comp(self.ys), "liquid_composition": comp(self.xs),
                 **(dict(self.freezing) if self.freezing is not None else {}),
                 **(dict(self.quality) if self.quality is not None else {}),
                 **(dict(self.dew) if self.dew is not None else {})}
+
+
+def liquid_volume_flow(flow, mass_flow, vapour_fraction, density):
+    """Volume flow of an all-liquid stream at its own temperature and pressure [m3/s] (an NGL or
+    condensate line: mass flow over density), NaN for a stream with vapour or no flow.
+
+    >>> liquid_volume_flow(1.0, 0.5, 0.0, 500.0)
+    0.001
+    """
+    flow, mass_flow, vf, rho = (np.asarray(v, dtype=float) for v in
+                                (flow, mass_flow, vapour_fraction, density))
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = np.where((vf == 0.0) & (flow > 0.0) & (rho > 0.0), mass_flow / rho, np.nan)
+    return float(out) if out.ndim == 0 else out
 
 
 def _gas_quality(components, zs) -> dict | None:

@@ -34,6 +34,7 @@ from ..fluid.aqueous.water import M_WATER
 from ..fluid.components import canonical_name
 from ..quantities import SI_UNITS, MassFlow, parse_quantity
 from ..sheet.solve import FEED_FIELDS, solve_cases
+from ..sheet.result import liquid_volume_flow
 from ..sheet.spec import Flowsheet
 
 FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
@@ -472,6 +473,9 @@ def needs_margins(outputs) -> bool:
 def _stream_quantities(res, name, st, m):
     """{JSON key: callable -> ndarray (m,)} of one stream (lazy: quality and margins cost)."""
     out = {key: (lambda a=attr: getattr(st, a)) for key, attr in STREAM_KEYS.items()}
+    # NGL and condensate: the volume of an all-liquid stream at its state (the JSON's key)
+    out["liquid_volume_flow_m3_s"] = lambda: liquid_volume_flow(st.flow, st.mass_flow,
+                                                               st.vapour_fraction, st.density)
     # blank where the margins were not computed (every case of the chunk failed)
     out.update({key: (lambda: np.full(m, np.nan)) for key in FREEZING_KEYS})
     fz = (res.freezing or {}).get(name)
