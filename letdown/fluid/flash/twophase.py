@@ -179,9 +179,11 @@ def rachford_rice(zs, Ks, negative=False, beta0=None):
     beta : ndarray (n,) [-]
     """
     Km1 = Ks - 1.0
-    f0 = np.sum(zs * Km1, axis=1)
-    f1 = np.sum(zs * Km1 / Ks, axis=1)
     with np.errstate(divide="ignore", invalid="ignore"):
+        # an infinite K (a trial's ln K past exp's range) gives NaN here, as it does in the
+        # compiled kernels, which raise no warning either (that trial's split then cannot win)
+        f0 = np.sum(zs * Km1, axis=1)
+        f1 = np.sum(zs * Km1 / Ks, axis=1)
         lo = np.max(np.where(Ks > 1.0, (Ks * zs - 1.0) / Km1, -np.inf), axis=1)
         hi = np.min(np.where(Ks < 1.0, (1.0 - zs) / (1.0 - Ks), np.inf), axis=1)
         a_ = 1.0 / (1.0 - np.max(Ks, axis=1))
@@ -445,7 +447,8 @@ def two_phase_flash(eos: CubicEOS, T, P, zs, Ks, tol=LN_TOL):
                 break
             idx = np.nonzero(act)[0]
             m = idx.size
-            K = np.exp(lnK[idx])
+            with np.errstate(over="ignore"):        # inf as in the kernels (see rachford_rice)
+                K = np.exp(lnK[idx])
             b = rachford_rice(zs[idx], K, negative=True, beta0=beta[idx])
             xs, ys = _phase_compositions(zs[idx], K, b)
             # each phase on its own lowest-Gibbs root: near a critical point the phases may swap
