@@ -347,6 +347,46 @@ def eos_fugacities(fluid, T, P, zs):
     return out
 
 
+def _refine(G, k, has, g):
+    """The highest crossing of each row refined by the Illinois method (vectorised over rows).
+
+    ``G`` (rows, scan points) holds g on :data:`T_SCAN`; row r brackets its root between
+    ``T_SCAN[k[r]]`` and ``T_SCAN[k[r] + 1]`` where ``has[r]``; ``g(c, i)`` gives g at the
+    temperatures ``c`` of rows ``i``. Returns (T, iterations, residual, still active) per row.
+    """
+    n = G.shape[0]
+    rows = np.arange(n)
+    a = T_SCAN[k].astype(float)
+    b = T_SCAN[k + 1].astype(float)
+    ga = G[rows, k].copy()
+    gb = G[rows, k + 1].copy()
+    T = np.full(n, np.nan)
+    iters = np.zeros(n, dtype=int)
+    resid = np.where(has, np.minimum(np.abs(ga), np.abs(gb)), np.nan)
+    active = has.copy()
+    kept = np.zeros(n, dtype=int)      # +1: the lower end a was replaced last, -1: the upper end b
+    for _ in range(MAX_ITER):
+        if not active.any():
+            break
+        i = np.nonzero(active)[0]
+        c = (a[i] * gb[i] - b[i] * ga[i]) / (gb[i] - ga[i])
+        c = np.where(np.isfinite(c) & (c > a[i]) & (c < b[i]), c, 0.5 * (a[i] + b[i]))
+        gc = g(c, i)
+        pos = gc > 0.0
+        # Illinois: halve the value kept at the end that survives twice running
+        ga[i] = np.where(pos, gc, np.where(kept[i] == -1, 0.5 * ga[i], ga[i]))
+        gb[i] = np.where(pos, np.where(kept[i] == 1, 0.5 * gb[i], gb[i]), gc)
+        a[i] = np.where(pos, c, a[i])
+        b[i] = np.where(pos, b[i], c)
+        kept[i] = np.where(pos, 1, -1)
+        iters[i] += 1
+        resid[i] = np.abs(gc)
+        done = (b[i] - a[i] < T_TOL) | (np.abs(gc) < G_TOL)
+        T[i[done]] = c[done]
+        active[i[done]] = False
+    return T, iters, resid, active
+
+
 def formation_T(fugacity, P, names, structure: Structure, ln_aw=0.0, dissolved_gas=True):
     """Hydrate formation temperature of one structure at each pressure.
 
@@ -388,35 +428,7 @@ def formation_T(fugacity, P, names, structure: Structure, ln_aw=0.0, dissolved_g
     cross = (G[:, :-1] > 0.0) & (G[:, 1:] <= 0.0)
     has = cross.any(axis=1)
     k = np.where(has, m - 2 - np.argmax(cross[:, ::-1], axis=1), 0)
-    rows = np.arange(n)
-    a = T_SCAN[k].astype(float)
-    b = T_SCAN[k + 1].astype(float)
-    ga = G[rows, k].copy()
-    gb = G[rows, k + 1].copy()
-    T = np.full(n, np.nan)
-    iters = np.zeros(n, dtype=int)
-    resid = np.where(has, np.minimum(np.abs(ga), np.abs(gb)), np.nan)
-    active = has.copy()
-    kept = np.zeros(n, dtype=int)      # +1: the lower end a was replaced last, -1: the upper end b
-    for _ in range(MAX_ITER):
-        if not active.any():
-            break
-        i = np.nonzero(active)[0]
-        c = (a[i] * gb[i] - b[i] * ga[i]) / (gb[i] - ga[i])
-        c = np.where(np.isfinite(c) & (c > a[i]) & (c < b[i]), c, 0.5 * (a[i] + b[i]))
-        gc = g(c, i)
-        pos = gc > 0.0
-        # Illinois: halve the value kept at the end that survives twice running
-        ga[i] = np.where(pos, gc, np.where(kept[i] == -1, 0.5 * ga[i], ga[i]))
-        gb[i] = np.where(pos, np.where(kept[i] == 1, 0.5 * gb[i], gb[i]), gc)
-        a[i] = np.where(pos, c, a[i])
-        b[i] = np.where(pos, b[i], c)
-        kept[i] = np.where(pos, 1, -1)
-        iters[i] += 1
-        resid[i] = np.abs(gc)
-        done = (b[i] - a[i] < T_TOL) | (np.abs(gc) < G_TOL)
-        T[i[done]] = c[done]
-        active[i[done]] = False
+    T, iters, resid, active = _refine(G, k, has, g)
     converged = ~active
     rep = SolveReport(converged=converged, iterations=iters, residual=np.where(has, resid, 0.0),
                       message=f"hydrate formation temperature, {structure.name} (residual: "
@@ -559,36 +571,11 @@ def _solve_both(fugacity, terms, P, ln_aw, dissolved_gas):
         hi = lo
     rowcase = np.tile(np.arange(n), 2)
     rowstruct = np.repeat([0, 1], n)
-    rows = np.arange(2 * n)
-    a = T_SCAN[k].astype(float)
-    b = T_SCAN[k + 1].astype(float)
-    ga = G[rows, k].copy()
-    gb = G[rows, k + 1].copy()
-    T = np.full(2 * n, np.nan)
-    iters = np.zeros(2 * n, dtype=int)
-    resid = np.where(has, np.minimum(np.abs(ga), np.abs(gb)), np.nan)
-    active = has.copy()
-    kept = np.zeros(2 * n, dtype=int)   # +1: the lower end a was replaced last, -1: the upper end b
-    for _ in range(MAX_ITER):
-        if not active.any():
-            break
-        i = np.nonzero(active)[0]
-        c = (a[i] * gb[i] - b[i] * ga[i]) / (gb[i] - ga[i])
-        c = np.where(np.isfinite(c) & (c > a[i]) & (c < b[i]), c, 0.5 * (a[i] + b[i]))
+
+    def g2(c, i):
         ci = rowcase[i]
-        gc = terms.g(c, P[ci], fugacity(c, ci), ln_aw[ci], rowstruct[i], dissolved_gas)
-        pos = gc > 0.0
-        # Illinois: halve the value kept at the end that survives twice running
-        ga[i] = np.where(pos, gc, np.where(kept[i] == -1, 0.5 * ga[i], ga[i]))
-        gb[i] = np.where(pos, np.where(kept[i] == 1, 0.5 * gb[i], gb[i]), gc)
-        a[i] = np.where(pos, c, a[i])
-        b[i] = np.where(pos, b[i], c)
-        kept[i] = np.where(pos, 1, -1)
-        iters[i] += 1
-        resid[i] = np.abs(gc)
-        done = (b[i] - a[i] < T_TOL) | (np.abs(gc) < G_TOL)
-        T[i[done]] = c[done]
-        active[i[done]] = False
+        return terms.g(c, P[ci], fugacity(c, ci), ln_aw[ci], rowstruct[i], dissolved_gas)
+    T, iters, resid, active = _refine(G, k, has, g2)
     conv = ~active
     shape = lambda x: x.reshape(2, n).T                      # noqa: E731  (n, 2): sI, sII
     return (shape(T), shape(np.where(has, k, -1)), shape(iters),
