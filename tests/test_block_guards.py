@@ -202,8 +202,8 @@ def test_compressor_fed_single_phase_liquid_is_flagged_but_dense_gas_is_not():
     out = compressor.run(propane, "pump?", {"in": liquid}, {"P_out": 30e5, "efficiency": 0.75})
     assert out.flags["liquid_feed"][0] and out.details["inlet_liquid_fraction"][0] == 1.0
     rich = fluid("rich")
-    dense = feed(rich, 290.0, 150e5, 1.0)               # single phase, named liquid-like by the flash
-    assert dense.vapour_fraction[0] == 0.0
+    dense = feed(rich, 290.0, 150e5, 1.0)               # single phase above its critical T: a gas
+    assert dense.vapour_fraction[0] == 1.0
     out = compressor.run(rich, "injection", {"in": dense}, {"P_out": 200e5, "efficiency": 0.75})
     assert not out.flags["liquid_feed"][0] and not out.flags["liquid_feed_trace"][0]
 
@@ -314,14 +314,26 @@ equipment:
 # ------------------------------------------------------------------------------------------------
 def test_separator_with_a_dense_phase_inlet_is_flagged_per_case():
     gas = fluid("rich")
-    # 290 K, 150 bar: one dense phase (the flash names it liquid-like); 250 K, 40 bar: two phases
-    inlet = feed(gas, np.array([290.0, 250.0]), np.array([150e5, 40e5]), 10.0)
+    # 230 K, 150 bar: one dense phase above Kay's pseudo-critical temperature (217 K) and below the
+    # estimated critical one (240 K), named liquid-like by the flash; 250 K, 40 bar: two phases
+    inlet = feed(gas, np.array([230.0, 250.0]), np.array([150e5, 40e5]), 10.0)
     assert inlet.vapour_fraction[0] == 0.0 and 0.0 < inlet.vapour_fraction[1] < 1.0
     outcome = separator.run(gas, "inlet-sep", {"in": inlet}, {})
     assert outcome.outlets["vapour"].flow[0] == 0.0 and outcome.outlets["liquid"].flow[0] == 10.0
     np.testing.assert_array_equal(outcome.flags["dense_phase_inlet"], [True, False])
     np.testing.assert_array_equal(outcome.flags["liquid_inlet"], [False, False])
     assert_balanced({"in": inlet}, outcome)
+
+
+def test_separator_passes_a_dense_gas_above_its_critical_temperature_out_of_the_gas_outlet():
+    """The same rich gas at 290 K and 150 bar is a single phase above its estimated critical
+    temperature (240 K; tests/test_phase_naming.py): a gas, which leaves by the vapour outlet with no
+    hazard (before the naming rule of test_phase_naming it went down the liquid outlet)."""
+    gas = fluid("rich")
+    inlet = feed(gas, 290.0, 150e5, 10.0)
+    outcome = separator.run(gas, "inlet-sep", {"in": inlet}, {})
+    assert outcome.outlets["vapour"].flow[0] == 10.0 and outcome.outlets["liquid"].flow[0] == 0.0
+    assert not outcome.flags["dense_phase_inlet"][0] and not outcome.flags["liquid_inlet"][0]
 
 
 def test_separator_with_a_subcooled_liquid_inlet_is_flagged_as_liquid_not_dense():
@@ -339,7 +351,7 @@ gas:
   composition: {methane: 0.82, ethane: 0.08, propane: 0.05, n-butane: 0.025, n-pentane: 0.01,
                 nitrogen: 0.01, carbon-dioxide: 0.005}
 feeds:
-  field: {T: 17 degC, P: 150 bar, flow: 10 mol/s}
+  field: {T: -43 degC, P: 150 bar, flow: 10 mol/s}
 equipment:
   drum: {kind: separator, from: field, to: {vapour: gas, liquid: condensate}}
 """, source="drum.yaml")
@@ -489,7 +501,7 @@ def test_empty_streams_raise_no_two_phase_or_three_phase_flags():
     inlet = feed(gas, np.array([250.0, 250.0]), 40e5, np.array([0.0, 10.0]))   # two-phase state
     t = throttle.run(gas, "valve", {"in": inlet}, {"P_out": 20e5})
     np.testing.assert_array_equal(t.flags["two_phase_outlet"], [False, True])
-    s = separator.run(gas, "drum", {"in": feed(gas, 290.0, 150e5, np.array([0.0, 10.0]))}, {})
+    s = separator.run(gas, "drum", {"in": feed(gas, 230.0, 150e5, np.array([0.0, 10.0]))}, {})
     np.testing.assert_array_equal(s.flags["dense_phase_inlet"], [False, True])
 
 
@@ -500,7 +512,7 @@ gas:
   composition: {methane: 0.82, ethane: 0.08, propane: 0.05, n-butane: 0.025, n-pentane: 0.01,
                 nitrogen: 0.01, carbon-dioxide: 0.005}
 feeds:
-  field: {T: 17 degC, P: 150 bar, flow: 10 mol/s}
+  field: {T: -43 degC, P: 150 bar, flow: 10 mol/s}
   sales: {T: 10 degC, P: 30 bar, flow: 50 mol/s}
 equipment:
   drum:  {kind: separator, from: field, to: {vapour: gas, liquid: condensate}}

@@ -286,3 +286,21 @@ def cold_trial_flags(comps):
     """1.0 for the components of ``comps`` that get a cold trial phase, else 0.0 (one per
     component, in order)."""
     return np.array([1.0 if c in COLD_TRIAL_COMPONENTS else 0.0 for c in comps.names])
+
+
+def critical_temperature_estimate(comps: ComponentSet, zs) -> np.ndarray:
+    """Estimated true critical temperature of mixtures [K], shape (n,).
+
+    Li's rule (Li, Can. J. Chem. Eng. 49 (1971) 709): T_c = sum_i phi_i T_c,i with volume fractions
+    phi_i = x_i V_c,i / sum_j x_j V_c,j, here with the critical volumes taken in proportion to
+    R T_c,i / P_c,i (a common critical compressibility; the cubic equations' co-volumes b_i are in
+    that proportion), so it needs no data beyond T_c and P_c. Against the critical points of
+    letdown's own envelope (Peng-Robinson, measured in tests/test_phase_naming.py) it is within 3 %
+    for the natural gases of tests/cases.py and methane + CO2, propane or n-hexane; it overstates
+    methane + 10 % n-decane (379 K against 330 K) and understates a 20 % hydrogen blend (177 K
+    against 192 K); Kay's mole-fraction average understates all of them (by 121 K for methane +
+    30 % n-hexane). The flash names a single phase at or above it vapour
+    (:func:`letdown.fluid.flash.twophase.is_vapour_like`; GERG-2008 likewise)."""
+    zs = np.atleast_2d(np.asarray(zs, dtype=float))
+    w = zs * (comps.Tcs / comps.Pcs)
+    return (w @ comps.Tcs) / np.sum(w, axis=1)

@@ -24,9 +24,11 @@ What letdown does with it:
   a batch marks it unconverged) with a message to use a cubic model. A P-h/P-s answer must meet
   its target (to the enthalpy of 1e-6 K); one that cannot (the stable root jumps across the
   target) is refused the same way, never answered.
-* **Phase label.** A single phase is named vapour or liquid by the phase identification parameter
-  of Venkatarathnam & Oellrich (Fluid Phase Equilib. 301 (2011) 225) computed on GERG-2008's own
-  derivatives (liquid above 1). The name decides which separator outlet it leaves by.
+* **Phase label.** A single phase is named vapour at or above its estimated critical temperature
+  (:func:`letdown.fluid.components.critical_temperature_estimate`, the rule of the cubic flash) and,
+  below it, by the phase identification parameter of Venkatarathnam & Oellrich (Fluid Phase
+  Equilib. 301 (2011) 225) computed on GERG-2008's own derivatives (liquid above 1). The name
+  decides which separator outlet it leaves by.
 
 Units of the binding: pressure kPa, density mol/dm3, enthalpy J/mol, entropy J/(mol K), Joule-Thomson
 K/kPa. Its reference state is letdown's: the ideal gas at 298.15 K and 101.325 kPa has h = 0 and
@@ -45,7 +47,7 @@ import numpy as np
 
 from ...errors import ModelError
 from ..flash import twophase as fl
-from ..components import ComponentSet
+from ..components import ComponentSet, critical_temperature_estimate
 from .cubic import PR, CubicEOS
 from ..state import States
 
@@ -571,6 +573,9 @@ class GergEngine:
         out = {k: np.full(n, np.nan) for k in keys}
         Ms = zs @ self.comps.Ms
         beta = np.full(n, np.nan)
+        # a single phase at or above its estimated critical temperature is a gas, whatever its
+        # phase identification parameter (as letdown.fluid.flash.twophase.is_vapour_like)
+        gas_by_T = T >= critical_temperature_estimate(self.comps, zs)
         nph = np.ones(n, dtype=int)
         nan = np.full(n, np.nan)
         vap = {k: nan.copy() for k in ("Z", "density", "h", "s", "molar_mass")}
@@ -607,8 +612,9 @@ class GergEngine:
             out["jt"][k] = r.jt
             out["w"][k] = r.w
             out["density"][k] = r.d * 1000.0 * Ms[k]
-            beta[k] = 0.0 if r.is_liquid else 1.0
-            ph = liq if r.is_liquid else vap
+            liquid = r.is_liquid and not gas_by_T[k]
+            beta[k] = 0.0 if liquid else 1.0
+            ph = liq if liquid else vap
             ph["Z"][k] = r.z
             ph["density"][k] = out["density"][k]
             ph["h"][k] = r.h

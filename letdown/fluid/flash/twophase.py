@@ -33,6 +33,7 @@ import numpy as np
 
 from ..kernels import native
 from ..components import COLD_TRIAL_COMPONENTS, R, cold_trial_flags  # noqa: F401 (re-exported)
+from ..components import critical_temperature_estimate
 from ..eos.cubic import CubicEOS, phase_identification
 
 #: Tangent-plane distance below which a mixture is declared unstable. Above round-off of tm
@@ -107,16 +108,18 @@ K_CLIP = (1e-300, 1e300)
 #: Phase identification parameter above which a single phase is called liquid (Venkatarathnam &
 #: Oellrich 2011: the ideal gas has 1).
 PHASE_ID_LIQUID = 1.0
-#: A single phase at or above this multiple of its pseudo-critical temperature (Kay 1936: the
-#: mole-fraction average of the critical temperatures) is called vapour whatever its phase
-#: identification parameter. That parameter exceeds 1 for a hot gas where repulsion dominates (a
-#: lean gas at 1000 K and 50 bar: 1.001; at 1500 K: 1.007), which the flash then named liquid, so
-#: a separator sent 1500 K gas down its liquid outlet (a fuzz find). Below this bound the parameter
-#: decides, so a dense gas near ambient temperature keeps its liquid-like name and the separator's
-#: dense-phase hazard. The bound clears every cricondentherm measured here (by letdown's envelope,
-#: Peng-Robinson): 1.10-1.32 Tpc for the natural gases of tests/cases.py and a rich gas, 1.55 for
-#: methane + 30 % n-hexane, 2.15 for methane + 10 % n-decane.
-VAPOUR_ABOVE_TPR = 2.5
+#: A single phase at or above this multiple of its estimated true critical temperature
+#: (:func:`letdown.fluid.components.critical_temperature_estimate`) is called vapour whatever its phase identification
+#: parameter: it is a gas in the sense of the trade (a fluid above its critical temperature gives a
+#: dew point, not a bubble point, when its pressure falls; common practice in reservoir and gas
+#: engineering). Two faults this answers: the parameter exceeds 1 for a hot gas where repulsion
+#: dominates (a lean gas at 1500 K and 50 bar: 1.007; a fuzz find sent 1500 K gas down a
+#: separator's liquid outlet), and for a dense gas near ambient temperature (the demo station gas
+#: above 131 bar at 5 degC), which was named liquid with vapour fraction 0. Below the estimate the
+#: parameter decides, so a dense liquid-like fluid below its critical temperature (a condensate or
+#: NGL) keeps its liquid name.
+VAPOUR_ABOVE_TC = 1.0
+
 
 
 @dataclass(frozen=True)
@@ -602,13 +605,14 @@ def _pure_index(zs):
 
 
 def is_vapour_like(eos: CubicEOS, T, P, zs):
-    """Name a single phase 'vapour' when its temperature is at least its pseudo-critical one
-    (:data:`VAPOUR_ABOVE_TPR`) or, below it, when its phase identification parameter is at most 1
+    """Name a single phase 'vapour' when its temperature is at least its estimated true critical
+    temperature (:data:`VAPOUR_ABOVE_TC`,
+    :func:`letdown.fluid.components.critical_temperature_estimate`) or, below it, when
+    its phase identification parameter is at most 1
     (Venkatarathnam & Oellrich 2011; see :func:`letdown.fluid.eos.cubic.phase_identification`). The
     name decides which separator outlet a single phase leaves by; it changes no property."""
     zs = np.atleast_2d(zs)
-    Tpc = zs @ eos.comps.Tcs
-    return (np.asarray(T) >= VAPOUR_ABOVE_TPR * Tpc) | (
+    return (np.asarray(T) >= VAPOUR_ABOVE_TC * critical_temperature_estimate(eos.comps, zs)) | (
         phase_identification(eos, T, P, zs) <= PHASE_ID_LIQUID)
 
 
@@ -758,7 +762,7 @@ def native_flash_constants():
                 newton_max_iter=NEWTON_MAX_ITER, newton_fd_step=NEWTON_FD_STEP,
                 newton_max_step=NEWTON_MAX_STEP, gibbs_margin_rel=GIBBS_MARGIN_REL,
                 k_min=K_CLIP[0], k_max=K_CLIP[1], phase_id_liquid=PHASE_ID_LIQUID,
-                vapour_above_tpr=VAPOUR_ABOVE_TPR, cold_trial_T=COLD_TRIAL_T,
+                vapour_above_tc=VAPOUR_ABOVE_TC, cold_trial_T=COLD_TRIAL_T,
                 distinct_trial_dist=DISTINCT_TRIAL_DIST)
 
 

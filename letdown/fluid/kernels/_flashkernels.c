@@ -814,7 +814,7 @@ enum {
     FP_LN_TOL, FP_TRIVIAL_DIST, FP_ST_MAX_ITER, FP_EARLY_TM, FP_SS_MAX_ITER, FP_ACCEL_EVERY,
     FP_GDEM_MAX_LAMBDA, FP_GDEM_MAX_STEP, FP_GDEM_AGREE, FP_TRIVIAL_LNK, FP_RR_TOL, FP_RR_MAX_ITER,
     FP_NEG_LO, FP_NEG_HI, FP_TM_UNSTABLE, FP_WILSON, FP_NEWTON_MAX_ITER, FP_NEWTON_FD_STEP,
-    FP_NEWTON_MAX_STEP, FP_GIBBS_REL, FP_K_MIN, FP_K_MAX, FP_PHASE_ID_LIQUID, FP_VAPOUR_TPR,
+    FP_NEWTON_MAX_STEP, FP_GIBBS_REL, FP_K_MIN, FP_K_MAX, FP_PHASE_ID_LIQUID, FP_VAPOUR_TC,
     FP_COLD_T, FP_DISTINCT, FP_NCFG
 };
 
@@ -1050,10 +1050,14 @@ static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, 
         r->beta = NAN;
         return;
     }
-    {   /* flash.is_vapour_like: at or above the pseudo-critical temperature, else by phase_id */
-        double Tpc = 0.0;
-        for (k = 0; k < nc; k++) Tpc += z[k] * e->Tcs[k];
-        r->beta = (T >= fc[FP_VAPOUR_TPR] * Tpc
+    {   /* flash.is_vapour_like: at or above the estimated critical temperature (Li's rule with
+         * b-weighted volume fractions, components.critical_temperature_estimate), else by phase_id */
+        double wt = 0.0, wb = 0.0;
+        for (k = 0; k < nc; k++) {
+            wt += z[k] * e->bs[k] * e->Tcs[k];
+            wb += z[k] * e->bs[k];
+        }
+        r->beta = (T >= fc[FP_VAPOUR_TC] * (wt / wb)
                    || phase_id(e, T, P, z, work) <= fc[FP_PHASE_ID_LIQUID]) ? 1.0 : 0.0;
     }
     test = (assume == 0);

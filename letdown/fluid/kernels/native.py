@@ -64,7 +64,7 @@ _FP_ORDER = ("ln_tol", "trivial_dist", "stability_max_iter", "early_tm", "ss_max
              "accelerate_every", "gdem_max_lambda", "gdem_max_step", "gdem_agree", "trivial_lnK",
              "rr_tol", "rr_max_iter", "neg_lo", "neg_hi", "tm_unstable", "wilson_c",
              "newton_max_iter", "newton_fd_step", "newton_max_step", "gibbs_margin_rel", "k_min",
-             "k_max", "phase_id_liquid", "vapour_above_tpr", "cold_trial_T",
+             "k_max", "phase_id_liquid", "vapour_above_tc", "cold_trial_T",
              "distinct_trial_dist")
 #: Order of the P-h / P-s constants (SV_* in the C file); values from cubic_fluid.
 _SV_ORDER = ("max_iter", "trust_iterations", "loose_tol", "loose_until_step", "residual_K",
