@@ -44,16 +44,9 @@ import math
 import re
 from dataclasses import dataclass
 
+from .constants import PSI, R, STANDARD_ATMOSPHERE  # noqa: F401  (re-exported: the units' constants)
 from .errors import InputError
 
-#: Molar gas constant [J/(mol K)] (CODATA 2018; exact since the 2019 SI redefinition).
-R = 8.314462618
-
-#: Standard atmosphere [Pa] (ISO 2533; exact by definition).
-STANDARD_ATMOSPHERE = 101325.0
-
-#: One psi in pascal [Pa/psi]: 1 lbf/in2 = 6894.757293168 Pa (NIST SP 811, 2008, appendix B.8).
-PSI = 6894.757293168361
 
 _REGISTRY = None
 

@@ -6,15 +6,15 @@ import pytest
 
 PKG = Path(__file__).resolve().parent.parent / "letdown"
 #: For each layer, the letdown modules it may import (beside itself).
-#: (``errors``, ``_version`` and ``caution`` are leaf modules every layer may use.)
+#: (``errors``, ``_version``, ``caution`` and ``constants`` are leaf modules every layer may use.)
+LEAVES = {"errors", "_version", "caution", "constants"}
 ALLOWED = {
     "numerics": set(),
-    "fluid": {"errors", "_version", "caution", "numerics"},
-    "equipment": {"errors", "_version", "caution", "fluid", "numerics"},
-    "sheet": {"errors", "_version", "caution", "fluid", "equipment", "quantities", "numerics"},
-    "study": {"errors", "_version", "caution", "fluid", "equipment", "quantities", "sheet",
-              "numerics"},
-    "report": {"errors", "_version", "caution", "quantities"},
+    "fluid": LEAVES | {"numerics"},
+    "equipment": LEAVES | {"fluid", "numerics"},
+    "sheet": LEAVES | {"fluid", "equipment", "quantities", "numerics"},
+    "study": LEAVES | {"fluid", "equipment", "quantities", "sheet", "numerics"},
+    "report": LEAVES | {"quantities"},
 }
 
 
@@ -152,6 +152,11 @@ def test_the_core_thermodynamics_never_imports_the_water_room():
     bad = [(a, b) for a, b in g.edges if a.startswith(CORE)
            and (b.startswith("letdown.fluid.aqueous") or b in ("letdown.fluid.fluid", "letdown.fluid"))]
     assert not bad, bad
+
+
+def test_the_constants_leaf_imports_nothing():
+    tree = ast.parse((PKG / "constants.py").read_text())
+    assert not [n for n in ast.walk(tree) if isinstance(n, (ast.Import, ast.ImportFrom))]
 
 
 def test_the_numerics_leaf_imports_nothing_of_letdown():

@@ -50,14 +50,13 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..constants import G_STANDARD
 from ..errors import InputError
 from ..fluid.transport import homogeneous_viscosity, phase_transport
 from .common import (TINY_FLOW, TWO_PHASE_BOUNDS, Refusals, array_param, case_text, field_name,
                      finish)
 from .stream import StreamBatch
 
-#: Standard acceleration of gravity [m/s2] (3rd CGPM, 1901).
-G_STANDARD = 9.80665
 #: Default absolute roughness [m]: commercial steel, 0.045 mm (see the module docstring).
 ROUGHNESS_DEFAULT = 4.5e-5
 #: Default number of steps along the pipe [-]: with the trapezoid rule, a 50 km line losing a third

@@ -75,6 +75,8 @@ from __future__ import annotations
 
 import numpy as np
 
+from ..constants import R, STANDARD_ATMOSPHERE
+
 #: Flow coefficient conversion Cv = CV_PER_KV Kv [-]: a valve passing Cv US gal/min of water at
 #: 1 psi passes Cv * 0.2271247 * sqrt(1 bar / 1 psi) m3/h at 1 bar (US gallon 3.785411784 L, psi
 #: per NIST SP 811), so Kv = 0.86497 Cv (IEC 60534-1 rounds it to 0.865).
@@ -101,7 +103,7 @@ STEEL_DENSITY = 7800.0
 STEEL_SOUND_SPEED = 5000.0
 AIR_DENSITY = 1.293
 AIR_SOUND_SPEED = 343.0
-AIR_PRESSURE = 101325.0
+AIR_PRESSURE = STANDARD_ATMOSPHERE
 #: Valve correction factor of acoustic efficiency, Strouhal number at the peak frequency and the
 #: expander contraction coefficient (module docstring).
 AN_DEFAULT = -3.8
@@ -117,8 +119,6 @@ BAND_HZ = np.array([12.5, 16, 20, 25, 31.5, 40, 50, 63, 80, 100, 125, 160, 200, 
 A_WEIGHT_DB = np.array([-63.4, -56.7, -50.5, -44.7, -39.4, -34.6, -30.2, -26.2, -22.5, -19.1,
                         -16.1, -13.4, -10.9, -8.6, -6.6, -4.8, -3.2, -1.9, -0.8, 0.0, 0.6, 1.0,
                         1.2, 1.3, 1.2, 1.0, 0.5, -0.1, -1.1, -2.5, -4.3, -6.6, -9.3])
-#: Molar gas constant [J/(mol K)] (CODATA 2018, exact).
-R = 8.314462618
 
 CHARACTERISTICS = ("linear", "equal-percentage")
 
@@ -481,7 +481,7 @@ def noise(mass_flow, P1, P2, T1, T2, rho1, gamma, molar_mass, Cv, FL, Fd, d, Di,
         den = (col(rho2 * c2) + 2.0 * np.pi * col(ts) * f * STEEL_DENSITY * eta_s) / (415.0 * Gy) \
             + 1.0
         TL = 10.0 * np.log10(8.25e-7 * (col(c2) / (col(ts) * f)) ** 2 * Gx / den
-                             * (AIR_PRESSURE / 101325.0)) - col(dTL)
+                             * (AIR_PRESSURE / STANDARD_ATMOSPHERE)) - col(dTL)
         Le = Lf + TL - col(10.0 * np.log10((Di + 2.0 * ts + 2.0) / (Di + 2.0 * ts)))
         total = 10.0 * np.log10(np.sum(10.0 ** (0.1 * (Le + A_WEIGHT_DB[None, :])), axis=1))
     return np.where(m > 0.0, total, np.nan)

@@ -32,9 +32,8 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..constants import REFERENCE_P, REFERENCE_T, R  # noqa: F401  (R: molar gas constant, re-exported)
 from ..errors import InputError
-
-R = 8.314462618  # molar gas constant [J/(mol K)] (CODATA 2018, exact since the 2019 SI)
 
 
 @dataclass(frozen=True)
@@ -271,8 +270,8 @@ def _log_cosh(y):
 
 
 #: Reference state of enthalpy and entropy: ideal gas at 298.15 K and 101325 Pa has h = 0, s = 0.
-T_REF = 298.15   # [K]
-P_REF = 101325.0  # [Pa]
+T_REF = REFERENCE_T   # [K]
+P_REF = REFERENCE_P   # [Pa]
 
 
 #: Components that get a nearly pure trial phase of their own in the stability test below
