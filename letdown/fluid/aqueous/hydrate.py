@@ -58,9 +58,8 @@ Model statements (say them in reports):
   water activity below 1 the aqueous phase is taken as liquid (supercooled) below 273.15 K unless
   ice is more stable; the ice-liquid equilibrium of the inhibited solution is not modelled.
 
-Correlations: Towler & Mokhatab, Hydrocarbon Processing 84(4) (2005) 61; Motiee, Hydrocarbon
-Processing 70(7) (1991) 98 (forms and check values in REFERENCE_DATA.md section 2, status V).
-Both are screening methods for sweet natural gas; Towler-Mokhatab drifts above ~10 MPa.
+Correlations (Towler & Mokhatab 2005; Motiee 1991): :mod:`letdown.fluid.aqueous.correlations`,
+re-exported here as :func:`hydrate_T_correlation`.
 """
 from __future__ import annotations
 
@@ -71,10 +70,11 @@ import numpy as np
 from ...errors import ConvergenceError, InputError
 from ..components import R
 from ..flash.twophase import SolveReport
+from ...numerics.rootfind import bracketed_root
+from .correlations import PSI, hydrate_T_correlation  # noqa: F401  (re-exported: the gas-gravity room)
 
 T0 = 273.15            # reference temperature of the empty-lattice properties [K] (Munck 1988)
 ATM = 101325.0         # [Pa]; Munck's A is in K/atm
-PSI = 6894.757293168   # [Pa] per psi (exact, from the pound and the inch)
 H_FUSION = 6009.5      # ice -> liquid water at T0 as used by Munck (1988) for the liquid reference [J/mol]
 DCP_SIGN = +1.0        # see the module docstring ("Sign of dcp")
 
@@ -348,42 +348,29 @@ def eos_fugacities(fluid, T, P, zs):
 
 
 def _refine(G, k, has, g):
-    """The highest crossing of each row refined by the Illinois method (vectorised over rows).
+    """The highest crossing of each row refined by the Illinois method (vectorised over rows,
+    :func:`letdown.numerics.rootfind.bracketed_root`; it stops at a bracket narrower than
+    :data:`T_TOL` or at |g| below :data:`G_TOL`, after at most :data:`MAX_ITER` steps).
 
     ``G`` (rows, scan points) holds g on :data:`T_SCAN`; row r brackets its root between
     ``T_SCAN[k[r]]`` and ``T_SCAN[k[r] + 1]`` where ``has[r]``; ``g(c, i)`` gives g at the
-    temperatures ``c`` of rows ``i``. Returns (T, iterations, residual, still active) per row.
+    temperatures ``c`` of rows ``i``. Returns (T, iterations, residual, still active) per row: T
+    is NaN and the residual NaN where a row has no bracket, T NaN where the row did not settle.
     """
     n = G.shape[0]
-    rows = np.arange(n)
-    a = T_SCAN[k].astype(float)
-    b = T_SCAN[k + 1].astype(float)
-    ga = G[rows, k].copy()
-    gb = G[rows, k + 1].copy()
     T = np.full(n, np.nan)
     iters = np.zeros(n, dtype=int)
-    resid = np.where(has, np.minimum(np.abs(ga), np.abs(gb)), np.nan)
-    active = has.copy()
-    kept = np.zeros(n, dtype=int)      # +1: the lower end a was replaced last, -1: the upper end b
-    for _ in range(MAX_ITER):
-        if not active.any():
-            break
-        i = np.nonzero(active)[0]
-        c = (a[i] * gb[i] - b[i] * ga[i]) / (gb[i] - ga[i])
-        c = np.where(np.isfinite(c) & (c > a[i]) & (c < b[i]), c, 0.5 * (a[i] + b[i]))
-        gc = g(c, i)
-        pos = gc > 0.0
-        # Illinois: halve the value kept at the end that survives twice running
-        ga[i] = np.where(pos, gc, np.where(kept[i] == -1, 0.5 * ga[i], ga[i]))
-        gb[i] = np.where(pos, np.where(kept[i] == 1, 0.5 * gb[i], gb[i]), gc)
-        a[i] = np.where(pos, c, a[i])
-        b[i] = np.where(pos, b[i], c)
-        kept[i] = np.where(pos, 1, -1)
-        iters[i] += 1
-        resid[i] = np.abs(gc)
-        done = (b[i] - a[i] < T_TOL) | (np.abs(gc) < G_TOL)
-        T[i[done]] = c[done]
-        active[i[done]] = False
+    resid = np.full(n, np.nan)
+    active = np.zeros(n, dtype=bool)
+    r = np.flatnonzero(has)
+    if r.size:
+        kr = k[r]
+        rep = bracketed_root(lambda c, i: g(c, r[i]), T_SCAN[kr], T_SCAN[kr + 1], G[r, kr],
+                             G[r, kr + 1], ftol=G_TOL, max_iterations=MAX_ITER, xtol=T_TOL)
+        T[r] = np.where(rep.settled, rep.x, np.nan)
+        iters[r] = rep.iterations
+        resid[r] = np.abs(rep.fx)
+        active[r] = ~rep.settled
     return T, iters, resid, active
 
 
@@ -667,59 +654,3 @@ def hydrate_curve(fluid, P, zs=None, water_activity=1.0, dissolved_gas=True) -> 
                                                    >= np.nan_to_num(T2, nan=-1.0), "sI", "sII"))
     return HydrateCurve(P=P, T=T, structure=structure, T_sI=T1, T_sII=T2, water_activity=aw,
                         report=rep)
-
-
-# ------------------------------------------------------------------------------------------------
-def _degF_to_K(t):
-    return (np.asarray(t, dtype=float) - 32.0) / 1.8 + 273.15
-
-
-def hydrate_T_correlation(P, gas_gravity, method="towler-mokhatab"):
-    """Hydrate formation temperature of a sweet natural gas from its gravity (screening only).
-
-    ``towler-mokhatab`` (Towler & Mokhatab, Hydrocarbon Processing 84(4), 2005):
-    T[degF] = 13.47 ln P + 34.27 ln SG - 1.675 ln P ln SG - 20.35, P in psia.
-    ``motiee`` (Motiee, Hydrocarbon Processing 70, 1991): T[degF] = -238.24469 + 78.99667 log P
-    - 5.352544 (log P)^2 + 349.473877 SG - 150.854675 SG^2 - 27.604065 SG log P, log base 10.
-
-    Parameters
-    ----------
-    P : float or ndarray
-        Pressure [Pa].
-    gas_gravity : float or ndarray
-        Gas specific gravity relative to air [-].
-    method : str
-        ``towler-mokhatab`` or ``motiee``.
-
-    Returns
-    -------
-    float or ndarray
-        Formation temperature [K].
-
-    Raises
-    ------
-    InputError
-        Unknown method, non-positive pressure or gravity.
-
-    Examples
-    --------
-    >>> round(float(hydrate_T_correlation(1000 * PSI, 0.69)), 4)   # REFERENCE_DATA.md check value
-    291.0803
-    """
-    key = str(method).strip().lower().replace("_", "-").replace(" ", "-")
-    P = np.asarray(P, dtype=float)
-    SG = np.asarray(gas_gravity, dtype=float)
-    if np.any(P <= 0.0) or np.any(SG <= 0.0):
-        raise InputError("hydrate correlation needs positive pressure and gas gravity")
-    p_psia = P / PSI
-    if key in ("towler-mokhatab", "towler"):
-        lp, ls = np.log(p_psia), np.log(SG)
-        t_F = 13.47 * lp + 34.27 * ls - 1.675 * lp * ls - 20.35
-    elif key == "motiee":
-        lp = np.log10(p_psia)
-        t_F = (-238.24469 + 78.99667 * lp - 5.352544 * lp * lp + 349.473877 * SG
-               - 150.854675 * SG * SG - 27.604065 * SG * lp)
-    else:
-        raise InputError(f"unknown hydrate correlation '{method}' (known: towler-mokhatab, motiee)")
-    T = _degF_to_K(t_F)
-    return float(T) if np.ndim(T) == 0 else T
