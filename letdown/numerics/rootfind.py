@@ -40,9 +40,6 @@ class RootReport:
         Human-readable summary.
     residual : float
         Largest ``|fx|`` over the cases.
-    settled : ndarray of bool (n,)
-        The case stopped before ``max_iterations``: ``|fx| <= ftol`` or its bracket narrower than
-        the bracket tolerance (``converged`` asks for the first only).
     """
 
     x: np.ndarray
@@ -52,10 +49,9 @@ class RootReport:
     status: str
     message: str
     residual: float
-    settled: np.ndarray = None
 
 
-def bracketed_root(f, lo, hi, f_lo, f_hi, *, ftol, max_iterations: int, xtol=None) -> RootReport:
+def bracketed_root(f, lo, hi, f_lo, f_hi, *, ftol, max_iterations: int) -> RootReport:
     """Find ``f(x) = 0`` inside ``[lo, hi]`` for every case, where ``f_lo`` and ``f_hi`` differ in sign.
 
     Parameters
@@ -72,9 +68,6 @@ def bracketed_root(f, lo, hi, f_lo, f_hi, *, ftol, max_iterations: int, xtol=Non
         Absolute tolerance on ``|f|``.
     max_iterations : int
         Cap on evaluations per case.
-    xtol : float, optional
-        Absolute bracket width at which a case stops (in the units of ``x``); default
-        :data:`XTOL_RELATIVE` times the starting bracket or the magnitude of its ends.
 
     Returns
     -------
@@ -88,10 +81,7 @@ def bracketed_root(f, lo, hi, f_lo, f_hi, *, ftol, max_iterations: int, xtol=Non
     ftol = np.broadcast_to(np.asarray(ftol, dtype=float), (n,))
     x = np.where(np.abs(fa) <= np.abs(fb), a, b)
     fx = np.where(np.abs(fa) <= np.abs(fb), fa, fb)
-    if xtol is None:
-        xtol = XTOL_RELATIVE * np.maximum(np.abs(b - a), np.maximum(np.abs(a), np.abs(b)))
-    else:
-        xtol = np.broadcast_to(np.asarray(xtol, dtype=float), (n,))
+    xtol = XTOL_RELATIVE * np.maximum(np.abs(b - a), np.maximum(np.abs(a), np.abs(b)))
     iterations = np.zeros(n, dtype=int)
     active = ~(np.abs(fx) <= ftol)
     for _ in range(max_iterations):
@@ -124,4 +114,4 @@ def bracketed_root(f, lo, hi, f_lo, f_hi, *, ftol, max_iterations: int, xtol=Non
         message = (f"{int(np.sum(~converged))} of {n} cases not within tolerance after "
                    f"{int(iterations.max())} evaluations; largest |f| = {residual:.3g}")
     return RootReport(x=x, fx=fx, converged=converged, iterations=iterations, status=status,
-                      message=message, residual=residual, settled=~active)
+                      message=message, residual=residual)

@@ -18,14 +18,21 @@ Three ways to the hydrate temperature depression dT of an aqueous phase holding 
   equilibrium with ice, which fixes a_w at 218-272 K, the temperatures of hydrate inhibition) and,
   for methanol's temperature dependence, to NRTL with the DECHEMA water-methanol parameters
   (Gmehling & Onken, DECHEMA Chemistry Data Series Vol. I/1, 1977, p. 61; VLE at 337-373 K) at
-  313-373 K. MEG has no verified VLE set here (C = D = 0). The data reach 40 wt % methanol and
-  50 wt % MEG: beyond, gamma_w is held at its value there (:data:`ACTIVITY_X_MAX`) and
-  :func:`vdwp_wt_pct` refuses a dose.
+  313-373 K. MEG has no verified VLE set here: its temperature dependence is fitted to the water
+  activity of the universal correlation of inhibited hydrate suppression temperatures of Hu, Sa,
+  Lee & Sum (AIChE J. 2018, doi:10.1002/aic.16369; ln a_w = B1 x + B2 x^2, constants as
+  transcribed in p2f_HydrateCalcLib 0.1.0.9, the paper not read here) at 253-293 K, where MEG
+  solutions form hydrate. Without that term the freezing points alone, taken 30 K above them,
+  left the hydrate model 1.0-1.3 K below the correlation at 50 wt % MEG (non-conservative); with
+  it, -0.49 to +0.08 K at 5-60 wt % and 3-20 MPa, and methanol -0.18 to +1.54 K at 5-40 wt %
+  (tests/test_hydrate_inhibited.py; no experimental inhibited point was available to this work).
+  The data reach 40 wt % methanol and 60 wt % MEG: beyond, gamma_w is held at its value there
+  (:data:`ACTIVITY_X_MAX`) and :func:`vdwp_wt_pct` refuses a dose.
 
   Both solutions are slightly **non-ideal on the negative side** where hydrates are inhibited:
   gamma_w = 0.965 at 30 wt % methanol (247 K) and 0.906 at 50 wt % MEG (237 K) from the freezing
-  points, so the ideal a_w = x_w of earlier versions understated the depression (conservative
-  doses). The DECHEMA NRTL, extrapolated 70-120 K below its data, gives the opposite sign
+  points (0.919 at 50 wt % MEG and 270 K with the temperature term), so the ideal a_w = x_w of
+  earlier versions understated the depression (conservative doses). The DECHEMA NRTL, extrapolated 70-120 K below its data, gives the opposite sign
   (gamma_w 1.06 at 30 wt %, 255 K) and would overstate a_w; it is not used below 313 K. In a phase
   holding both inhibitors the two binary terms are added (no ternary term; common practice).
 
@@ -145,15 +152,16 @@ def wt_pct_from_water_mole_fraction(x_w, name="methanol"):
 # ------------------------------------------------------------------ water activity
 #: ln gamma_w = x_i^2 (A + B x_i) + x_i^2 (C + D x_i)(T0/T - 1) per inhibitor: (A, B, C, D) [-]
 #: (module docstring; ``bench/fit_inhibitor_activity.py``). Fit quality: the freezing points of
-#: 5-40 wt % methanol within 0.25 K and of 5-50 wt % MEG within 0.28 K; the DECHEMA NRTL at
-#: 313-373 K (up to 40 wt % methanol) within 0.038 in ln gamma_w.
+#: 5-40 wt % methanol within 0.25 K and of 5-60 wt % MEG within 0.27 K; the DECHEMA NRTL at
+#: 313-373 K (up to 40 wt % methanol) within 0.038 in ln gamma_w; the Hu-Lee-Sum a_w of MEG at
+#: 253-293 K within 0.0096 in ln a_w.
 ACTIVITY = {"methanol": (-0.91617, 3.34376, -10.2599, 19.69926),
-            "ethylene-glycol": (-2.19356, 0.81892, 0.0, 0.0)}
-#: Largest inhibitor mole fraction of the data behind :data:`ACTIVITY` (40 wt % methanol, 50 wt %
+            "ethylene-glycol": (-1.88235, 0.99822, -7.38137, 24.78495)}
+#: Largest inhibitor mole fraction of the data behind :data:`ACTIVITY` (40 wt % methanol, 60 wt %
 #: MEG: the freezing points) [-]. Beyond it the polynomial is not used (for methanol it turns
 #: upward and a_w stops rising with the water fraction): gamma_w is held at its value there, and
 #: :func:`vdwp_wt_pct` refuses a dose beyond it.
-ACTIVITY_X_MAX = {"methanol": 0.27264, "ethylene-glycol": 0.22496}
+ACTIVITY_X_MAX = {"methanol": 0.27264, "ethylene-glycol": 0.30332}
 #: Reference temperature of the temperature term [K].
 ACTIVITY_T0 = 273.15
 #: The range the activity model is used in [K]: outside it gamma_w is taken at the nearer end (the
