@@ -11,8 +11,9 @@ Sources beside each check:
 * VLE-based activity: NRTL with the DECHEMA water-methanol parameters (Gmehling & Onken, DECHEMA
   Chemistry Data Series Vol. I/1, 1977, p. 61), as tabulated in the ChemSep NRTL file distributed
   with the thermo package and evaluated with thermo's own NRTL (test-only reference).
-* Published inhibited hydrate equilibria (methane with methanol or MEG solutions): none could be
-  verified in the time of this work; no such values are used here (docs/models.md, known limits).
+* Published inhibited hydrate equilibria (methane with methanol or MEG solutions): no experimental
+  point could be verified in this work; tests/test_hydrate_inhibited.py checks against a published
+  correlation of them (Hu, Sa, Lee & Sum 2018) instead (docs/models.md, known limits).
 """
 import json
 import os
@@ -52,9 +53,9 @@ def model_T_freeze(W, name):
 
 
 @pytest.mark.parametrize("name, code, top, tol", [("methanol", "MMA", 0.40, 0.3),
-                                                  ("MEG", "MEG", 0.50, 0.3)])
+                                                  ("MEG", "MEG", 0.60, 0.3)])
 def test_freezing_points_of_the_solutions(name, code, top, tol):
-    # measured at 5-40 / 5-50 wt %: methanol within 0.25 K, MEG within 0.28 K; the ideal
+    # measured at 5-40 / 5-60 wt %: methanol within 0.25 K, MEG within 0.27 K; the ideal
     # a_w = x_w (before) is off by up to 6.3 K (methanol, 40 wt %) and 10.0 K (MEG, 50 wt %),
     # always too warm
     for w in np.arange(0.05, top + 1e-9, 0.05):
@@ -102,19 +103,21 @@ def test_dechema_nrtl_extrapolated_to_hydrate_temperatures_has_the_opposite_sign
                                                                              abs=0.01)
 
 
-@pytest.mark.parametrize("W", [30.0, 50.0])
-def test_meg_hydrate_temperature_uses_the_water_activity_of_the_freezing_data(W):
-    """With MEG (no temperature term) the hydrate temperature with W wt % equals the model run at
-    the water activity that Melinder's freezing point gives for that solution. Failed before: the
-    ideal a_w = x_w was 1.7 K (30 wt %) and 6.0 K (50 wt %) too warm at 7 MPa. (Methanol's
-    temperature term moves it 1.25 K above this at 30 wt %: gamma_w rises from 0.965 at the
-    freezing point, 247 K, toward the VLE values.)"""
+@pytest.mark.parametrize("W, low, high", [(30.0, -0.3, 0.3), (50.0, 0.2, 0.8)])
+def test_meg_hydrate_temperature_against_the_water_activity_of_the_freezing_data(W, low, high):
+    """The MEG hydrate temperature with W wt % against the model run at the water activity that
+    Melinder's freezing point gives for that solution (237-259 K). Failed before the activity
+    model: the ideal a_w = x_w was 1.7 K (30 wt %) and 6.0 K (50 wt %) too warm at 7 MPa. Until the
+    MEG temperature term (fitted to the Hu-Lee-Sum correlation's a_w at 253-293 K,
+    tests/test_hydrate_inhibited.py) the two agreed to the fit's miss (-0.06 K, -0.16 K); the term
+    lets gamma_w rise from the freezing point toward the hydrate temperature (about 270 K at
+    7 MPa), as methanol's does (1.25 K above this at 30 wt %). Measured now: +0.22 K (30 wt %),
+    +0.62 K (50 wt %): conservative."""
     gas = letdown.Fluid({"methane": 1.0})
     a_w = float(np.exp(ln_aw_ice(melinder_T_freeze("MEG", W / 100.0))))
     expected = gas.hydrate_T(7e6, water_activity=a_w)
     got = ih.inhibited_hydrate_T(gas, 7e6, W, "MEG")
-    # measured: -0.06 K (30 wt %), -0.16 K (50 wt %): the fit's miss on the freezing point
-    assert got == pytest.approx(expected, abs=0.3)
+    assert low <= got - expected <= high
 
 
 def test_fixed_point_and_inverse_are_consistent():
@@ -139,8 +142,10 @@ def test_mixed_inhibitors_add_their_terms_and_reduce_to_each_binary():
     expect_m = np.exp(0.04 * (A["methanol"][0] + 0.2 * A["methanol"][1])
                       + 0.04 * (A["methanol"][2] + 0.2 * A["methanol"][3]) * (T0 / 265.0 - 1.0))
     assert g_m == pytest.approx(expect_m, rel=1e-12)
-    assert g_g == pytest.approx(np.exp(0.04 * (A["ethylene-glycol"][0]
-                                               + 0.2 * A["ethylene-glycol"][1])), rel=1e-12)
+    expect_g = np.exp(0.04 * (A["ethylene-glycol"][0] + 0.2 * A["ethylene-glycol"][1])
+                      + 0.04 * (A["ethylene-glycol"][2] + 0.2 * A["ethylene-glycol"][3])
+                      * (T0 / 265.0 - 1.0))
+    assert g_g == pytest.approx(expect_g, rel=1e-12)
     assert min(g_m, g_g) < g_both < max(g_m, g_g)
 
 

@@ -12,6 +12,7 @@ import pytest
 
 import letdown
 from letdown.fluid.aqueous import inhibitor as ih
+from letdown.fluid.aqueous import losses
 from letdown.sheet.loader import loads
 from letdown.sheet.solve import Sheet
 
@@ -47,7 +48,7 @@ def _grid(gas, T, P):
 def test_inhibitor_balance_closes(gas, name, W):
     fluid = letdown.Fluid(gas)
     T, P, zs = _grid(fluid, [268.15, 278.15, 288.15], [[30e5], [70e5]])
-    d = ih.dose_with_losses(fluid, T, P, zs, WATER, W, name)
+    d = losses.dose_with_losses(fluid, T, P, zs, WATER, W, name)
     assert d.report.all_converged
     j = list(ih.INHIBITORS).index(ih.inhibitor(name).name)
     np.testing.assert_allclose(d.wt_pct, W, rtol=1e-8)
@@ -131,7 +132,7 @@ def test_methanol_vapour_loss_rises_with_temperature_and_falls_with_pressure_whe
     T, P, zs = _grid(gas, Ts[:, None], Ps[None, :])
     # 0.01 mol water per mol gas: free water at every point (at 288 K and 5 bar the gas holds
     # about 0.0034; with WATER the dose there is zero -- nothing to protect)
-    d = ih.dose_with_losses(gas, T, P, zs, 0.01, 20.0, "methanol")
+    d = losses.dose_with_losses(gas, T, P, zs, 0.01, 20.0, "methanol")
     assert np.all(d.beta_W > 0.0)
     vap = d.vapour[:, 0].reshape(Ts.size, Ps.size)
     # warmer: more methanol vapour over the same 20 wt % (its vapour pressure rises)
@@ -146,7 +147,7 @@ def test_methanol_vapour_loss_rises_with_temperature_and_falls_with_pressure_whe
 def test_meg_vapour_loss_is_raoult_with_perrys_vapour_pressure():
     gas = letdown.Fluid(LEAN)
     T, P, zs = _grid(gas, [268.15, 278.15], [[30e5], [70e5]])
-    d = ih.dose_with_losses(gas, T, P, zs, WATER, 30.0, "MEG")
+    d = losses.dose_with_losses(gas, T, P, zs, WATER, 30.0, "MEG")
     # Perry's 8th ed. Table 2-8 (DIPPR eq. 101) for ethylene glycol, coefficients as in the
     # chemicals package's data (a test-only reference here)
     from chemicals.vapor_pressure import Psat_data_Perrys2_8 as table
@@ -156,7 +157,7 @@ def test_meg_vapour_loss_is_raoult_with_perrys_vapour_pressure():
     V = d.beta_V * (1.0 + WATER + d.injected[:, 1] - d.injected[:, 1])   # glycol not in flash
     np.testing.assert_allclose(d.vapour[:, 1], x * Psat / P * V, rtol=1e-9)
     # MEG loses far less than methanol (common practice: negligible vapour loss)
-    m = ih.dose_with_losses(gas, T, P, zs, WATER, 20.0, "methanol")
+    m = losses.dose_with_losses(gas, T, P, zs, WATER, 20.0, "methanol")
     assert np.all(d.vapour[:, 1] < 1e-2 * m.vapour[:, 0])
 
 
@@ -177,8 +178,8 @@ def test_low_pressure_limit_against_perrys_methanol_vapour_pressure(T):
     # At 1 bar the vapour is near ideal: y P = x gamma P_sat with the model's own activity
     # coefficient of methanol in water (gamma from the liquid fugacity coefficients).
     gas = letdown.Fluid({"methane": 1.0})
-    p = ih.partition(gas, [T], [1e5], gas.zs[None], [0.05], np.array([[0.002, 0.0]]))
-    pf = ih.partition_fluid(gas)
+    p = losses.partition(gas, [T], [1e5], gas.zs[None], [0.05], np.array([[0.002, 0.0]]))
+    pf = losses.partition_fluid(gas)
     names = list(pf.components)
     eos = pf.engine.eos
     aq_x = np.zeros((1, len(names)))

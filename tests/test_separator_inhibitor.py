@@ -1,7 +1,7 @@
 """Inhibitor through a separator (water carried beside the gas): it leaves with the phases that
 hold it, and the dose protects the drum's inlet, not its saturated vapour.
 
-References: the three-phase split of letdown.fluid.aqueous.inhibitor.partition (itself tested in
+References: the three-phase split of letdown.fluid.aqueous.losses.partition (itself tested in
 tests/test_inhibitor_loss.py), recomputed here at the drum's state; Hammerschmidt (1934) for the
 dose (REFERENCE_DATA.md section 3). The sheet is invented.
 """
@@ -9,7 +9,8 @@ import numpy as np
 import pytest
 
 import letdown
-from letdown.fluid.aqueous.inhibitor import INHIBITORS, partition
+from letdown.fluid.aqueous.inhibitor import INHIBITORS
+from letdown.fluid.aqueous.losses import partition
 from letdown.fluid.aqueous.water import M_WATER
 from letdown.report.text import report_text
 from letdown.sheet.loader import loads

@@ -19,7 +19,7 @@ Parameters: ``inhibitor`` (``methanol`` or ``MEG``) and exactly one of
 
 and ``losses`` (:data:`LOSSES`): ``equilibrium`` (default) adds the inhibitor that stays in the
 vapour and dissolves in a hydrocarbon liquid at the protected point
-(:func:`letdown.fluid.aqueous.inhibitor.dose_with_losses`; the free water is what the three-phase flash
+(:func:`letdown.fluid.aqueous.losses.dose_with_losses`; the free water is what the three-phase flash
 condenses there); ``none`` gives the aqueous part only, all the water the inlet carries taken as
 free water (:func:`letdown.fluid.aqueous.inhibitor.injection_rate`).
 
@@ -44,7 +44,6 @@ import numpy as np
 from ..errors import InputError
 from ..fluid.aqueous.inhibitor import (
     INHIBITORS,
-    dose_with_losses,
     hammerschmidt_depression,
     hammerschmidt_wt_pct,
     hydrate_model_depression,
@@ -52,11 +51,10 @@ from ..fluid.aqueous.inhibitor import (
     injection_rate,
     nielsen_bucklin_depression,
     nielsen_bucklin_wt_pct,
-    partition,
-    partition_fluid,
     vdwp_wt_pct,
     water_mole_fraction,
 )
+from ..fluid.aqueous.losses import dose_with_losses, partition, partition_fluid
 from .common import DOSE_RATE, array_param, case_text, field_name, finish, one_of
 from .stream import INHIBITOR_NAMES, Carry, blend
 

@@ -30,7 +30,7 @@ where there is none).
 **Inhibitor** (:func:`split_inhibitor`; ratios per mole of dry gas, :func:`dry_flow`). With
 equilibrium losses (any ``inject`` block of the sheet on ``losses: equilibrium``, the solver says:
 ``params[common.INHIBITOR_EQUILIBRIUM]``) the split is the three-phase one at the drum's T and P
-(:func:`letdown.fluid.aqueous.inhibitor.partition` of the inlet gas with its water and inhibitor): the
+(:func:`letdown.fluid.aqueous.losses.partition` of the inlet gas with its water and inhibitor): the
 vapour leaves with what the vapour holds, the hydrocarbon liquid with what it dissolves, and the
 aqueous part goes with the free water. Without them (``losses: none`` everywhere: all the inhibitor
 taken to be in the water) the whole inlet inhibitor goes with the free water where the drum drops
@@ -48,7 +48,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import ConvergenceError
-from ..fluid.aqueous.inhibitor import partition
+from ..fluid.aqueous.losses import partition
 from ..fluid.aqueous.water import water_in_liquid
 from ..fluid.aqueous.water import M_WATER, TC_WATER, water_content
 from .common import INHIBITOR_EQUILIBRIUM, TRIAL, WATER_METHOD

@@ -120,8 +120,9 @@ from ..equipment.watersplit import dry_flow
 from ..errors import ConvergenceError, InputError
 from ..fluid.aqueous.hydrate import LANGMUIR
 from ..fluid.aqueous.solution import density as aqueous_density, freezing_point
-from ..fluid.aqueous.inhibitor import INHIBITORS, partition, water_activity_coefficient
+from ..fluid.aqueous.inhibitor import INHIBITORS, water_activity_coefficient
 from ..fluid.aqueous.inhibitor import _solution_hydrate_T as solution_hydrate_T
+from ..fluid.aqueous.losses import partition
 from ..fluid.aqueous.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE,
                                    water_content, water_dew_point)
 from .graph import downstream_streams
@@ -585,7 +586,7 @@ def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
 
 def aqueous_equilibrium(fluid, T, P, zs, water_ratio, inhibitor_ratio):
     """Inhibitor in the aqueous liquid and the water activity of streams at their own (T, P), the
-    inhibitor split by :func:`letdown.fluid.aqueous.inhibitor.partition` (what the vapour and a
+    inhibitor split by :func:`letdown.fluid.aqueous.losses.partition` (what the vapour and a
     hydrocarbon liquid hold is not in the aqueous phase). Rows without inhibitor or water keep
     :func:`aqueous`'s answer; rows with inhibitor but no aqueous liquid at their state have NaN
     wt % and a_w = 1 (no free water there).
