@@ -99,8 +99,8 @@ def test_both_water_routes_give_the_same_dose_with_losses():
 def test_an_absurd_dose_is_refused_and_the_case_marked_failed(monkeypatch):
     # the guard itself: with the bound set below the (sound) dose, the dose must be refused, not
     # printed: rate NaN (null in JSON), a hazard record, the case not converged
-    import letdown.sheet.freezing as freezing
-    monkeypatch.setattr(freezing, "MAX_DOSE_TO_GAS", 1e-9)
+    import letdown.sheet.dosing as dosing
+    monkeypatch.setattr(dosing, "MAX_DOSE_TO_GAS", 1e-9)
     res = dosed_sheet("beside", "none").solve()
     assert res.converged is False
     assert res.equipment["dose"]["inhibitor_rate_kg_s"] is None
@@ -286,13 +286,13 @@ def test_water_outlet_of_the_meg_example():
 # -- fuzzing the new parts with inputs a practitioner could write ---------------------------------
 def test_a_batch_with_one_refused_dose_keeps_the_other_cases(monkeypatch):
     # studies take the path without margins (inject_doses): one case refused, the other kept
-    import letdown.sheet.freezing as freezing
+    import letdown.sheet.dosing as dosing
     sheet = dosed_sheet("beside", "none")
     good = sheet.solve_cases({"dose.depression": np.array([10.0])})
     rate = float(good.equipment["dose"].details["inhibitor_rate_kg_s"][0])
     gas = float(good.streams["supply"].mass_flow[0])
     # the bound between the two cases' doses (the dose grows with the depression)
-    monkeypatch.setattr(freezing, "MAX_DOSE_TO_GAS", 0.5 * rate / gas)
+    monkeypatch.setattr(dosing, "MAX_DOSE_TO_GAS", 0.5 * rate / gas)
     batch = sheet.solve_cases({"dose.depression": np.array([2.0, 10.0])}, strict=False)
     assert batch.converged.tolist() == [True, False]
     rates = batch.equipment["dose"].details["inhibitor_rate_kg_s"]
@@ -316,9 +316,9 @@ def test_mutated_outlet_rules_are_bad_input(rule, words):
 
 def test_cli_exit_code_of_a_refused_dose(tmp_path, monkeypatch):
     # a refused dose is a failed solve (exit 1) with the report and its hazard, never exit 0
-    import letdown.sheet.freezing as freezing
+    import letdown.sheet.dosing as dosing
     from letdown import cli
-    monkeypatch.setattr(freezing, "MAX_DOSE_TO_GAS", 1e-9)
+    monkeypatch.setattr(dosing, "MAX_DOSE_TO_GAS", 1e-9)
     path = tmp_path / "dosed.yaml"
     path.write_text(dosed_text("beside", "none"))
     assert cli.main(["solve", str(path), "--json"]) == 1

@@ -25,7 +25,7 @@ Loops
 Doses
     An ``inject`` block sized by ``depression`` protects the coldest gas-carrying stream downstream
     of it, solved after it. The solve therefore runs once, the protected point of each such block
-    is found from it (:func:`letdown.sheet.freezing.find_doses`; the block's own
+    is found from it (:func:`letdown.sheet.dosing.find_doses`; the block's own
     :func:`letdown.equipment.inject.dose` does the arithmetic), and the blocks run once more with
     the rates found (``params[common.DOSE_RATE]``), which each ``inject`` block adds to the
     inhibitor it carries. The inhibitor changes neither the gas nor the water, so that pass
@@ -55,8 +55,9 @@ from ..equipment.common import BY_GOAL, DOSE_RATE, INHIBITOR_EQUILIBRIUM, TRIAL,
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
 from ..fluid.models import out_of_range
-from .freezing import (basis, feed_carries, find_doses, freezing_warnings, inject_doses,
-                       inject_params, stream_freezing)
+from .carried import feed_carries
+from .dosing import find_doses, inject_doses, inject_params
+from .freezing import basis, freezing_warnings, stream_freezing
 from .blockflags import FLAG_KINDS, flag_warning, limit_warnings  # noqa: F401 (FLAG_KINDS: block flag -> kind)
 from .evaluation import _CasesFailed, _Evaluation, _LoopEnd  # noqa: F401 (_LoopEnd re-exported)
 from .goals import GOAL_RELATIVE_FLOOR, UNITS, GoalSearch  # noqa: F401 (re-exported)
@@ -654,7 +655,7 @@ class _Engine(TearLoops, GoalSearch):
 
     def _doses(self, ev: _Evaluation):
         """The doses of the ``inject`` blocks, found on the cases that lived from their protected
-        points (:func:`letdown.sheet.freezing.find_doses`): (doses, notes), or None without any.
+        points (:func:`letdown.sheet.dosing.find_doses`): (doses, notes), or None without any.
         Where a rate differs from what the block added in this pass (a ``depression`` is sized
         only now), the blocks run once more with the rates found (module docstring, Doses), and
         ``ev`` takes that pass's streams and outcomes."""
