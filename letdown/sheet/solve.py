@@ -42,15 +42,18 @@ Goals
     two bracket ends are evaluated together (one batch of ``2 n`` cases), then all cases iterate
     with the Illinois root finder of :mod:`letdown.numerics.rootfind`. Several goals nest, the
     first outermost.
+
+The case axis (the case variables checked and broadcast, the taking and spreading of the cases
+that leave a pass) is :mod:`letdown.sheet.casebatch`; the loops and goals are the engine's mixins
+:class:`letdown.sheet.loops.TearLoops` and :class:`letdown.sheet.goals.GoalSearch`.
 """
 from __future__ import annotations
 
 import dataclasses
-import re
 
 import numpy as np
 
-from ..equipment import KINDS, BlockOutcome, Carry, StreamBatch, closures, flash_stream
+from ..equipment import KINDS, Carry, closures, flash_stream
 from ..equipment.common import BY_GOAL, DOSE_RATE, INHIBITOR_EQUILIBRIUM, TRIAL, WATER_METHOD
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
@@ -58,24 +61,20 @@ from ..fluid.models import out_of_range
 from .carried import feed_carries
 from .dosing import find_doses, inject_doses, inject_params
 from .freezing import basis, freezing_warnings, stream_freezing
+from .casebatch import (FEED_FIELDS, CASE_TEXT, _blank_stream, _case_arrays,  # noqa: F401
+                        _refusal_text, _spread_loop, _spread_outcome, _spread_stream,
+                        _take_outcome)  # (FEED_FIELDS re-exported: the sweep reads it)
 from .blockflags import FLAG_KINDS, flag_warning, limit_warnings  # noqa: F401 (FLAG_KINDS: block flag -> kind)
 from .evaluation import _CasesFailed, _Evaluation, _LoopEnd  # noqa: F401 (_LoopEnd re-exported)
 from .goals import GOAL_RELATIVE_FLOOR, UNITS, GoalSearch  # noqa: F401 (re-exported)
 from .graph import build_graph, solve_order
 from .loops import (CARRY_MAX_PASSES, CARRY_TOLERANCE, FLOW_TOLERANCE,  # noqa: F401 (re-exported)
                     WEGSTEIN_Q_MAX, WEGSTEIN_Q_MIN, TearLoops)
-from .kinds import NUMBERS
 from .modelchoice import solve_default_model
-from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, LoopRecord, Result,
-                     WarningRecord, _spread, spread_result as _spread_result)
+from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, Result,
+                     WarningRecord, spread_result as _spread_result)
 from .spec import Flowsheet, Where
 
-
-
-FEED_FIELDS = ("T", "P", "flow")
-
-#: The batch index a block puts in its messages (``common.case_text``).
-CASE_TEXT = re.compile(r" \(case \d+\)")
 
 
 # ------------------------------------------------------------------------------------------------
@@ -213,105 +212,6 @@ class Sheet:
         fs = self.flowsheet
         return (f"Sheet({fs.title!r}, {len(fs.feeds)} feeds, {len(fs.blocks)} blocks, "
                 f"{len(fs.goals)} goals)")
-
-
-# ------------------------------------------------------------------------------------------------
-# cases
-# ------------------------------------------------------------------------------------------------
-def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
-    """Check the case keys and broadcast their values to one length."""
-    if not cases:
-        return {}, 1
-    arrays = {}
-    for key, values in cases.items():
-        name, _, attr = str(key).partition(".")
-        if name.startswith("goal") and name[4:].isdigit() and name not in fs.feeds \
-                and name not in fs.blocks:
-            ok = attr == "at" and 1 <= int(name[4:]) <= len(fs.goals)
-        elif name in fs.feeds:
-            ok = attr in FEED_FIELDS or attr == "zs"
-        elif name in fs.blocks:
-            ok = bool(attr) and attr != "fractions"
-        else:
-            ok = False
-        if not ok:
-            raise InputError(f"unknown case variable '{key}' (use <feed>.T, <feed>.P, <feed>.flow, "
-                             "<feed>.zs, <block>.<parameter> or goal<k>.at)", field=f"cases.{key}")
-        if attr == "zs":
-            a = np.atleast_2d(np.asarray(values, dtype=float))
-            if np.any(a < 0) or np.any(np.abs(a.sum(axis=1) - 1.0) > 1e-6):
-                raise InputError(f"case compositions '{key}' must be non-negative and sum to 1",
-                                 field=f"cases.{key}")
-            arrays[key] = a
-        else:
-            arrays[key] = np.atleast_1d(np.asarray(values, dtype=float))
-    lengths = {a.shape[0] for a in arrays.values() if a.shape[0] != 1}
-    if len(lengths) > 1:
-        raise InputError(f"case arrays have different lengths {sorted(lengths)}", field="cases")
-    n = lengths.pop() if lengths else 1
-    return {k: np.broadcast_to(a, (n,) + a.shape[1:]).copy() for k, a in arrays.items()}, n
-
-
-
-#: Which of duty, power and dP each kind of block reports: the blank outcome of a block that no
-#: case of a batch reached (every case failed before it) has the same fields as a solved one.
-KIND_NUMBERS = NUMBERS
-
-
-def _blank_stream(n: int, nc: int) -> StreamBatch:
-    """A stream of ``n`` failed cases: every number NaN, ``converged`` false."""
-    nan, nan2 = np.full(n, np.nan), np.full((n, nc), np.nan)
-    return StreamBatch(flow=nan, T=nan, P=nan, zs=nan2, h=nan, s=nan, Z=nan, density=nan,
-                       molar_mass=nan, vapour_fraction=nan, ys=nan2, xs=nan2,
-                       converged=np.zeros(n, dtype=bool))
-
-
-def _spread_stream(stream: StreamBatch | None, idx, n: int, nc: int) -> StreamBatch:
-    blank = _blank_stream(n, nc)
-    return blank if stream is None else blank.put(idx, stream)
-
-
-def _take_outcome(o: BlockOutcome, keep) -> BlockOutcome:
-    """The cases ``keep`` (bool mask) of a block's outcome."""
-    def t(a):
-        return None if a is None else np.asarray(a)[keep]
-    return BlockOutcome(outlets={p: s.take(keep) for p, s in o.outlets.items()},
-                        energy_in=t(o.energy_in), duty=t(o.duty), power=t(o.power), dP=t(o.dP),
-                        mole_closure=t(o.mole_closure), energy_closure=t(o.energy_closure),
-                        details={k: (v if isinstance(v, str) or np.ndim(v) == 0 else t(v))
-                                 for k, v in o.details.items()},
-                        flags={k: t(v) for k, v in o.flags.items()})
-
-
-def _spread_outcome(o: BlockOutcome | None, kind: str, outlets: dict, idx, n: int) -> BlockOutcome:
-    """A block's outcome over ``n`` cases from that of the cases ``idx`` (None: no case reached
-    the block), blank elsewhere."""
-    if o is None:
-        nan = np.full(n, np.nan)
-        numbers = KIND_NUMBERS[kind]
-        return BlockOutcome(outlets=outlets, energy_in=nan, mole_closure=nan, energy_closure=nan,
-                            **{k: nan for k in numbers})
-    return BlockOutcome(outlets=outlets, energy_in=_spread(o.energy_in, idx, n),
-                        duty=_spread(o.duty, idx, n), power=_spread(o.power, idx, n),
-                        dP=_spread(o.dP, idx, n), mole_closure=_spread(o.mole_closure, idx, n),
-                        energy_closure=_spread(o.energy_closure, idx, n),
-                        details={k: _spread(v, idx, n) for k, v in o.details.items()},
-                        flags={k: _spread(v, idx, n) for k, v in o.flags.items()})
-
-
-def _spread_loop(rec: LoopRecord, idx, n: int) -> LoopRecord:
-    return dataclasses.replace(rec, iterations=_spread(rec.iterations, idx, n),
-                               residual=_spread(rec.residual, idx, n),
-                               converged=_spread(rec.converged, idx, n))
-
-
-def _refusal_text(exc: InputError, n_failed: int) -> str:
-    """The reason recorded for the cases a block refused: its located message without the batch
-    index (which means nothing outside the block's own batch)."""
-    text = CASE_TEXT.sub("", str(exc))
-    if n_failed > 1:
-        text += " (the figures are those of the first case it refused in the batch)"
-    return text
 
 
 class _Engine(TearLoops, GoalSearch):
