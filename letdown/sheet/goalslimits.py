@@ -150,11 +150,6 @@ def _limits(doc: _Doc, q: _Quantities) -> dict:
         else:
             out["outlet_min_T"] = q(rule, "temperature", ("limits", "outlet_min_T"))
     # limits on the hydraulic numbers of the blocks (letdown.sheet.blockflags.limit_warnings)
-    if "max_velocity" in raw:
-        out["max_velocity"] = q(raw["max_velocity"], "velocity", ("limits", "max_velocity"))
-        if not out["max_velocity"] > 0.0:
-            raise doc.err(f"max_velocity must be positive, got {raw['max_velocity']!r}",
-                          ("limits", "max_velocity"), key=False)
     if "max_opening" in raw:
         out["max_opening"] = q(raw["max_opening"], "fraction", ("limits", "max_opening"))
         if not 0.0 < out["max_opening"] <= 1.0:
