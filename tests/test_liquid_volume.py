@@ -57,3 +57,36 @@ def test_sweep_takes_it_by_path_and_shows_it_per_day():
     head, fn = column_unit("cold-liquid.liquid_volume_flow [m3/s]", "field")
     assert head == "cold-liquid.liquid_volume_flow [bbl/d]"
     assert fn(1.0) == pytest.approx(86400.0 / BARREL_M3)
+
+
+def test_one_function_gives_the_liquid_volume_to_the_json_the_report_and_the_sweep():
+    # issue 12: the report kept a twin of the sheet's function (the layers keep report from
+    # importing sheet); both now import the one in the leaf module letdown.derived
+    import letdown.report.tables as tables
+    import letdown.sheet.result as result
+    import letdown.study.sweep as study_sweep
+    from letdown.derived import liquid_volume_flow
+    assert result.liquid_volume_flow is liquid_volume_flow
+    assert tables.liquid_volume_flow is liquid_volume_flow
+    assert study_sweep.liquid_volume_flow is liquid_volume_flow
+    assert not hasattr(tables, "_liquid_volume")
+
+
+def test_the_liquid_volume_of_random_states_scalar_and_batch_alike():
+    # fuzz: a case by case call (the report's) and one batch call (the JSON's and the sweep's)
+    # give the very same bits: m/rho for an all-liquid flowing stream with a density, NaN else
+    from letdown.derived import liquid_volume_flow
+    rng = np.random.default_rng(12)
+    n = 400
+    flow = rng.choice([0.0, -1.0, np.nan, 1.0], n) * rng.uniform(0, 50, n)
+    mass = rng.uniform(0, 5, n)
+    vf = rng.choice([0.0, 0.0, 1e-12, 0.5, 1.0, np.nan], n)
+    rho = rng.choice([0.0, -3.0, np.nan, 1.0], n) * rng.uniform(1, 900, n)
+    batch = liquid_volume_flow(flow, mass, vf, rho)
+    one = np.array([liquid_volume_flow(*v) for v in zip(flow, mass, vf, rho)])
+    assert isinstance(liquid_volume_flow(1.0, 0.5, 0.0, 500.0), float)
+    np.testing.assert_array_equal(batch, one)
+    ok = (vf == 0.0) & (flow > 0.0) & (rho > 0.0)
+    assert ok.any() and (~ok).any()
+    np.testing.assert_array_equal(batch[ok], mass[ok] / rho[ok])
+    assert np.all(np.isnan(batch[~ok]))
