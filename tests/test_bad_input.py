@@ -16,7 +16,7 @@ import pytest
 
 from letdown.cli import main
 from letdown.errors import InputError
-from letdown.sheet.loader import load, loads
+from letdown.sheet.loader import read_spec, parse_spec
 
 ROOT = Path(__file__).resolve().parents[1]
 GATE = ROOT / "flowsheets" / "gate-station.yaml"
@@ -106,7 +106,7 @@ def test_normalised_fractions_may_be_percentages(tmp_path):
                         "carbon-dioxide: 0.0115}",
                         "{methane: 91.35, ethane: 4.8, propane: 1.2, nitrogen: 1.5, "
                         "carbon-dioxide: 1.15}\n  normalise: true")
-    fs = loads(text)
+    fs = parse_spec(text)
     assert fs.gas.composition["ethane"] == pytest.approx(0.048)
 
 
@@ -145,7 +145,7 @@ def test_plausible_extremes_still_load():
     # 60 K and 1400 K, 999 bar absolute, 1e-3 mol/s: inside the stated bounds
     for old, new in (("T: 6 degC", "T: 60 K"), ("T_out: 38 degC", "T_out: 1400 K"),
                      ("P: 64 barg", "P: 999 bar"), ("flow: 85000 Sm3/h", "flow: 0.001 mol/s")):
-        loads(GOOD.replace(old, new))
+        parse_spec(GOOD.replace(old, new))
 
 
 def test_gerg_with_a_component_it_lacks_names_the_model_line(tmp_path, capsys):
@@ -244,7 +244,7 @@ def test_year_cli_negative_profile_flow_is_exit_2(tmp_path, capsys):
 ])
 def test_sweep_values_checked_before_solving(vary, needle):
     from letdown.study.sweep import parse_variable
-    fs = load(GATE)
+    fs = read_spec(GATE)
     if needle is None:
         v = parse_variable(fs, vary)
         assert np.all(v.values > 0) and np.all(np.isfinite(v.values))
@@ -261,7 +261,7 @@ def test_sweep_cli_bad_value_is_one_line_exit_2(capsys):
 
 def test_every_shipped_flowsheet_still_loads():
     for f in sorted((ROOT / "flowsheets").glob("*.yaml")):
-        load(f)
+        read_spec(f)
 
 
 def test_solve_json_of_the_gate_station_unchanged(capsys):
@@ -325,7 +325,7 @@ def test_measurement_csv_invalid_utf8_names_the_line(tmp_path):
     f = tmp_path / "readings.csv"
     f.write_bytes(b"at,value,uncertainty\nnetwork.T,5 degC,0.3 K\nnetwork.T,5 deg\xb0C,0.3 K\n")
     with pytest.raises(InputError) as info:
-        read_csv(f, load(GATE))
+        read_csv(f, read_spec(GATE))
     assert info.value.line == 3 and "UTF-8" in info.value.message
 
 

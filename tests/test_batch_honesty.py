@@ -21,7 +21,7 @@ import pytest
 from tests.blocks import feed, fluid
 from letdown.equipment import compressor, expander, mixer, throttle
 from letdown.errors import ConvergenceError, InputError
-from letdown.sheet.loader import load
+from letdown.sheet.loader import read_spec
 from letdown.sheet.solve import solve, solve_cases
 
 GATE = "flowsheets/gate-station.yaml"
@@ -36,12 +36,12 @@ SAME = 1e-10
 
 @pytest.fixture(scope="module")
 def gate():
-    return load(GATE)
+    return read_spec(GATE)
 
 
 @pytest.fixture(scope="module")
 def cold():
-    return load(COLD)
+    return read_spec(COLD)
 
 
 def _assert_same_case(batch, i, alone, j):
@@ -272,7 +272,7 @@ def test_random_batches_fail_case_by_case(path, seed):
     """A fixed-seed fuzz of what a practitioner sweeps (feed T and P, set points, goal targets,
     some out of reach): every case is either failed (a reason, blank numbers) or has exactly the
     numbers of the batch of the solved cases alone."""
-    fs = load(path)
+    fs = read_spec(path)
     rng = np.random.default_rng(seed)
     n = 12
     feed = next(iter(fs.feeds))

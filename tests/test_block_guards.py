@@ -28,7 +28,7 @@ from letdown.equipment import compressor, exchanger, expander, heater, mixer, se
 from letdown.equipment import throttle
 from letdown.equipment.common import BY_GOAL, TRIAL
 from letdown.errors import ConvergenceError, InputError
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import FLAG_KINDS, solve, solve_cases
 from letdown.equipment import closures
 from tests.blocks import ENERGY_LIMIT, MOLE_LIMIT, assert_balanced, feed, fluid
@@ -143,7 +143,7 @@ GOAL = "goals:\n  - {hold: network.T, at: 5 degC, by: preheat.T_out, within: [-4
 
 
 def test_goal_that_drives_a_heater_to_cool_gives_a_hazard_with_its_numbers():
-    fs = loads(STATION % ("45 degC", "38 degC", GOAL), source="station.yaml")
+    fs = parse_spec(STATION % ("45 degC", "38 degC", GOAL), source="station.yaml")
     result = solve(fs)
     [w] = [w for w in result.warnings if w["kind"] == "heater_cooling"]
     assert w["where"] == "preheat" and w["severity"] == "hazard"
@@ -156,7 +156,7 @@ def test_goal_that_drives_a_heater_to_cool_gives_a_hazard_with_its_numbers():
 
 
 def test_goal_driven_heater_cooling_is_flagged_only_in_the_warm_case_of_a_batch():
-    fs = loads(STATION % ("6 degC", "38 degC", GOAL), source="station.yaml")
+    fs = parse_spec(STATION % ("6 degC", "38 degC", GOAL), source="station.yaml")
     batch = solve_cases(fs, {"supply.T": [279.15, 318.15]})
     [w] = [w for w in batch.warnings if w.kind == "heater_cooling"]
     assert w.cases == (1,)
@@ -164,13 +164,13 @@ def test_goal_driven_heater_cooling_is_flagged_only_in_the_warm_case_of_a_batch(
 
 
 def test_heater_T_out_below_inlet_in_a_file_is_refused_with_file_line_and_block():
-    fs = loads(STATION % ("45 degC", "20 degC", ""), source="station.yaml")
+    fs = parse_spec(STATION % ("45 degC", "20 degC", ""), source="station.yaml")
     with pytest.raises(InputError, match=r"station.yaml:8: equipment.preheat.T_out: .*cooler"):
         solve(fs)
 
 
 def test_swept_heater_T_out_below_inlet_is_refused_only_in_that_case():
-    fs = loads(STATION % ("45 degC", "50 degC", ""), source="station.yaml")
+    fs = parse_spec(STATION % ("45 degC", "50 degC", ""), source="station.yaml")
     with pytest.raises(InputError) as info:
         solve_cases(fs, {"preheat.T_out": [333.15, 293.15, 323.15]})
     np.testing.assert_array_equal(info.value.cases, [False, True, False])
@@ -333,7 +333,7 @@ def test_separator_with_a_subcooled_liquid_inlet_is_flagged_as_liquid_not_dense(
 
 
 def test_separator_dense_inlet_warning_in_a_flowsheet_reads_for_a_plant_engineer():
-    fs = loads("""\
+    fs = parse_spec("""\
 title: guard drum
 gas:
   composition: {methane: 0.82, ethane: 0.08, propane: 0.05, n-butane: 0.025, n-pentane: 0.01,
@@ -409,7 +409,7 @@ equipment:
 
 
 def test_wet_compressor_and_expander_warnings_carry_their_liquid_fractions():
-    fs = loads(MACHINES, source="machines.yaml")
+    fs = parse_spec(MACHINES, source="machines.yaml")
     result = solve(fs)
     warnings = {w["kind"]: w for w in result.warnings}
     wet = warnings["compressor_liquid"]
@@ -449,7 +449,7 @@ goals:
 def test_a_goal_bracket_end_that_breaks_a_downstream_block_is_not_refused():
     # at the bracket's cold end (-40 degC) the trim cooler's inlet is far below its 0 degC outlet;
     # the goal's answer (network at 5 degC) keeps it a cooler, so the solve must go through
-    result = solve(loads(TRIM % "0 degC", source="trim.yaml"))
+    result = solve(parse_spec(TRIM % "0 degC", source="trim.yaml"))
     assert result.streams["network"].T == pytest.approx(278.15, abs=1e-3)
     assert result.equipment["trim"]["duty_W"] > 0.0
     assert not [w for w in result.warnings if w["kind"] == "cooler_heating"]
@@ -457,7 +457,7 @@ def test_a_goal_bracket_end_that_breaks_a_downstream_block_is_not_refused():
 
 def test_a_goal_answer_that_breaks_a_downstream_block_is_refused():
     with pytest.raises(InputError, match=r"trim.yaml:\d+: equipment.trim.T_out: .*heater"):
-        solve(loads(TRIM % "10 degC", source="trim.yaml"))
+        solve(parse_spec(TRIM % "10 degC", source="trim.yaml"))
 
 
 def test_exchanger_driven_backwards_by_a_goal_is_flagged():
@@ -477,7 +477,7 @@ def test_a_loop_that_fails_on_an_impossible_exchanger_duty_says_so():
     assert "loop_max_iterations: 60" in text
     text = text.replace("cold_T_out: 24 degC", "duty: 5 MW").replace(
         "loop_max_iterations: 60", "loop_max_iterations: 8")          # fails the same way, sooner
-    fs = loads(text, source="cold-separation.yaml")
+    fs = parse_spec(text, source="cold-separation.yaml")
     with pytest.raises(ConvergenceError,
                        match=r"did not converge.*at the last iterate .*equipment.gas-gas.duty: "
                              r"duty 5e\+06 W cannot be met without a temperature cross"):
@@ -494,7 +494,7 @@ def test_empty_streams_raise_no_two_phase_or_three_phase_flags():
 
 
 def test_a_dense_drum_leaves_an_empty_gas_line_that_throttle_mixer_splitter_carry_quietly():
-    fs = loads("""\
+    fs = parse_spec("""\
 title: guard empty line
 gas:
   composition: {methane: 0.82, ethane: 0.08, propane: 0.05, n-butane: 0.025, n-pentane: 0.01,
@@ -519,7 +519,7 @@ equipment:
 
 
 def test_a_batch_with_a_goal_refuses_only_the_case_whose_answer_breaks_a_block():
-    fs = loads(TRIM % "0 degC", source="trim.yaml")
+    fs = parse_spec(TRIM % "0 degC", source="trim.yaml")
     with pytest.raises(InputError, match="equipment.trim.T_out") as info:
         solve_cases(fs, {"trim.T_out": [273.15, 283.15, 276.15]})
     np.testing.assert_array_equal(info.value.cases, [False, True, False])
@@ -601,7 +601,7 @@ FIND = Path(__file__).resolve().parent.parent / "bench" / "fuzz-finds" / "heater
 def test_fuel_beyond_the_model_range_names_the_heater_and_its_line():
     text = FIND.read_text()
     with pytest.raises(InputError) as err:
-        solve(loads(text, source=str(FIND)))
+        solve(parse_spec(text, source=str(FIND)))
     e = err.value
     assert e.field == "equipment.preheat.fuel"
     assert e.line == next(k for k, row in enumerate(text.splitlines(), 1) if "preheat:" in row)
@@ -612,7 +612,7 @@ def test_duty_beyond_range_is_refused_only_in_its_own_cases():
     """A batch: the sane duty solves, the absurd one is refused alone (non-strict batch)."""
     text = FIND.read_text().replace("fuel: 1300 kW, efficiency: 0.80", "duty: 1000 kW")
     text = text.replace("flow: 85 Sm3/h", "flow: 85000 Sm3/h")
-    fs = loads(text, source=str(FIND))
+    fs = parse_spec(text, source=str(FIND))
     flows = np.array([85000.0, 85.0]) / 3600.0 * 101325.0 / (8.314462618 * 288.15)
     res = solve_cases(fs, {"supply.flow": flows}, strict=False)
     assert res.converged.tolist() == [True, False]
@@ -651,7 +651,7 @@ def test_hot_gas_is_named_vapour_on_both_flash_paths(T):
 
 
 def test_a_loop_that_leaves_the_model_range_stops_and_says_diverged():
-    fs = loads(LOOP_FIND.read_text(), source=str(LOOP_FIND))
+    fs = parse_spec(LOOP_FIND.read_text(), source=str(LOOP_FIND))
     with pytest.raises(ConvergenceError, match=r"diverged: at iteration \d+ .*equipment.gas-gas") as err:
         solve(fs)
     record = err.value.result

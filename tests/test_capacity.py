@@ -22,7 +22,7 @@ import pytest
 import letdown
 from letdown.cli import main
 from letdown.errors import InputError
-from letdown.sheet.loader import load, loads
+from letdown.sheet.loader import read_spec, parse_spec
 from letdown.sheet.solve import solve_cases
 from letdown.study import capacity as capacity_module
 from letdown.study.capacity import RESERVE_TOLERANCE, capacity
@@ -65,7 +65,7 @@ def hand_flow(Kv, T, P1, P2, xT):
 @pytest.mark.parametrize("P_out_barg, choked", [(40.0, False), (10.0, True)])
 @pytest.mark.parametrize("characteristic", ["linear", "equal-percentage"])
 def test_one_valve_capacity_matches_the_hand_calculation(P_out_barg, choked, characteristic):
-    fs = loads(ONE_VALVE.replace("POUT", f"{P_out_barg} barg").replace("CHAR", characteristic))
+    fs = parse_spec(ONE_VALVE.replace("POUT", f"{P_out_barg} barg").replace("CHAR", characteristic))
     res = capacity(fs)
     c = res.cases[0]
     # the rated Kv at 0.8 of travel, by the characteristic
@@ -88,7 +88,7 @@ def test_random_one_valve_cases_in_one_batch_match_the_hand_calculation():
     P2 = P1 * rng.uniform(0.15, 0.9, n)
     lines = "\n".join(f"  - {{name: c{i}, supply: {{T: {T[i]} K, P: {P1[i]} Pa}}, "
                       f"regulator: {{P_out: {P2[i]} Pa}}}}" for i in range(n))
-    fs = loads(ONE_VALVE.replace("POUT", "10 barg").replace("CHAR", "linear")
+    fs = parse_spec(ONE_VALVE.replace("POUT", "10 barg").replace("CHAR", "linear")
                + "cases:\n" + lines + "\n")
     res = capacity(fs)
     assert res.batches[0] == n
@@ -99,7 +99,7 @@ def test_random_one_valve_cases_in_one_batch_match_the_hand_calculation():
 
 @pytest.fixture(scope="module")
 def district():
-    fs = load(DISTRICT)
+    fs = read_spec(DISTRICT)
     return fs, capacity(fs)
 
 
@@ -175,7 +175,7 @@ def test_a_sheet_with_nothing_to_limit_it_is_refused():
     text = (text[:start] + "  regulator: {kind: throttle, from: warm, to: network, P_out: 17 barg}\n"
             + text[end:])
     with pytest.raises(InputError, match="needs something that limits the flow"):
-        capacity(loads(text))
+        capacity(parse_spec(text))
 
 
 def test_a_case_that_fails_at_its_own_flow_is_reported_not_raised():
@@ -184,7 +184,7 @@ cases:
   - {name: fine, supply: {T: 15 degC}}
   - {name: raises-pressure, regulator: {P_out: 60 barg}}
 """
-    res = capacity(loads(text))
+    res = capacity(parse_spec(text))
     fine, bad = res.cases
     assert fine.found
     assert not bad.found and "fails at its own flow" in bad.reason
@@ -200,7 +200,7 @@ cases:
   - {name: trickle, supply: {flow: 0.01 Sm3/h}}
   - {name: beyond, supply: {flow: 200000 Sm3/h}}
 """
-    res = capacity(loads(text))
+    res = capacity(parse_spec(text))
     trickle, beyond = res.cases
     W, _ = hand_flow(16.0, 288.15, 50e5 + ATM, 10e5 + ATM, 0.7)
     assert trickle.found and beyond.found
@@ -217,7 +217,7 @@ cases:
   - {name: cold, supply: {T: -60 degC}}
   - {name: warm, supply: {T: 15 degC}}
 """
-    res = capacity(loads(text))
+    res = capacity(parse_spec(text))
     cold, warm = res.cases
     assert not cold.found and "liquid at the inlet or outlet" in cold.reason
     assert np.isnan(cold.capacity) and warm.found
@@ -251,7 +251,7 @@ def test_a_bore_too_small_for_any_flow_is_named_without_numpy_warnings():
         "outlet_pipe: 154 mm, wall_thickness: 7 mm, FL: 0.9, Fd: 0.42}")
     with warnings.catch_warnings():
         warnings.simplefilter("error", RuntimeWarning)
-        res = capacity(loads(text))
+        res = capacity(parse_spec(text))
     c = res.cases[0]
     assert not c.found and np.isnan(c.capacity)
     assert "no Kv of regulator passes the flow through its reducers" in c.reason
@@ -261,7 +261,7 @@ def test_every_case_failing_at_its_own_flow_is_reported_not_refused():
     # no case solves, so no result carries a valve's figures: the reasons are reported (the
     # refusal 'needs something that limits the flow' would be wrong: the file has a rated valve)
     text = ONE_VALVE.replace("POUT", "60 barg").replace("CHAR", "linear")
-    res = capacity(loads(text))
+    res = capacity(parse_spec(text))
     c = res.cases[0]
     assert not c.found and "fails at its own flow" in c.reason
     assert "above the inlet pressure" in c.reason and res.batches == (1,)
@@ -274,7 +274,7 @@ def test_a_goal_that_can_no_longer_be_held_limits_the_capacity():
     text = DISTRICT.read_text().replace(
         "T_out: 30 degC, dP: 0.2 bar}", "duty: 100 kW, dP: 0.2 bar}").replace(
         "by: preheat.T_out, within: [0 degC, 90 degC]", "by: preheat.duty, within: [0 kW, 140 kW]")
-    res = capacity(loads(text))
+    res = capacity(parse_spec(text))
     design = next(c for c in res.cases if c.name == "design")
     assert design.governing == "solve" and not design.found
     assert "goal 1" in design.reason
@@ -282,5 +282,5 @@ def test_a_goal_that_can_no_longer_be_held_limits_the_capacity():
     duty = design.heaters["preheat"][1]
     assert duty <= 140e3 and duty == pytest.approx(140e3, rel=1e-6)
     assert all(k.at_capacity <= k.limit for k in design.constraints)
-    assert 1.0 < design.scale < next(c for c in capacity(load(DISTRICT)).cases
+    assert 1.0 < design.scale < next(c for c in capacity(read_spec(DISTRICT)).cases
                                      if c.name == "design").scale

@@ -11,7 +11,7 @@ import pytest
 import letdown
 from letdown.errors import InputError
 from letdown.fluid.components import R
-from letdown.sheet.loader import load, loads
+from letdown.sheet.loader import read_spec, parse_spec
 from letdown.sheet.measurements import read_csv, with_measurements
 from letdown.sheet.solve import solve_cases
 from letdown.study.compare import COVERAGE_95, compare, fit_parameter
@@ -42,30 +42,30 @@ def _with_measurements(text, entries):
 # heater efficiency and fuel
 # ------------------------------------------------------------------------------------------------
 def test_heater_fuel_is_duty_over_efficiency():
-    base = letdown.load(GATE).flowsheet
+    base = letdown.load(GATE).spec
     res = solve_cases(base, {"preheat.efficiency": [0.85]}).case(0)
     eq = res.equipment["preheat"]
     assert eq["fuel_W"] == pytest.approx(eq["duty_W"] / 0.85, rel=1e-14)
     # a heater given its fuel adds efficiency * fuel to the gas
-    fired = loads(FIRED, "fired.yaml")
+    fired = parse_spec(FIRED, "fired.yaml")
     out = solve_cases(fired, None).case(0).equipment["preheat"]
     assert out["duty_W"] == pytest.approx(0.75 * 1300e3, rel=1e-14)
     assert out["fuel_W"] == pytest.approx(1300e3, rel=1e-14)
 
 
 def test_heater_efficiency_outside_zero_to_one_is_refused():
-    fired = loads(FIRED, "fired.yaml")
+    fired = parse_spec(FIRED, "fired.yaml")
     with pytest.raises(InputError, match=r"efficiency must lie in \(0, 1\], got 1.2") as err:
         solve_cases(fired, {"preheat.efficiency": [0.8, 1.2]})
     assert err.value.file == "fired.yaml" and err.value.line == 8
     with pytest.raises(InputError, match="efficiency must lie in"):
-        loads(FIRED.replace("efficiency: 0.75", "efficiency: 120 %"), "fired.yaml")
+        parse_spec(FIRED.replace("efficiency: 0.75", "efficiency: 120 %"), "fired.yaml")
 
 
 def test_heater_fuel_without_efficiency_is_a_located_error():
     text = FIRED.replace(", efficiency: 0.75", "")
     with pytest.raises(InputError, match="needs its efficiency") as err:
-        loads(text, "fired.yaml")
+        parse_spec(text, "fired.yaml")
     assert err.value.line == 8 and err.value.field == "equipment.preheat.fuel"
 
 
@@ -89,7 +89,7 @@ def gate_compared(tmp_path_factory):
     assert "efficiency: 0.85" in text
     path = tmp_path_factory.mktemp("gate") / "gate-measured.yaml"
     path.write_text(_with_measurements(text, GATE_MEASUREMENTS))
-    return path, compare(load(str(path)))
+    return path, compare(read_spec(str(path)))
 
 
 def test_residuals_per_model_match_plain_solves(gate_compared):
@@ -136,7 +136,7 @@ def test_csv_measurements_equal_the_file_section(gate_compared, tmp_path):
             "preheat.duty,1050 kW,3 %,heat meter", "preheat.fuel,1290 kW,2 %,FQ-7",
             "network.P,17.1 barg,0.05 bar,PT-2", "supply.flow,85400 Sm3/h,1 %,FT-1"]
     csv_path.write_text("\n".join(rows) + "\n")
-    fs = load(str(path))
+    fs = read_spec(str(path))
     from_csv = read_csv(str(csv_path), fs)
     assert [(m.at, m.value, m.uncertainty) for m in from_csv] == \
         [(m.at, m.value, m.uncertainty) for m in fs.measurements]
@@ -157,7 +157,7 @@ SI_UNIT = {"T": "K", "duty": "W"}
 
 @pytest.fixture(scope="module")
 def recovery():
-    base = loads(FIRED, "fired.yaml")
+    base = parse_spec(FIRED, "fired.yaml")
     truth = solve_cases(base, {"preheat.efficiency": [TRUE_EFFICIENCY]}, model="peng-robinson")
     rng = np.random.default_rng(SEED)
     entries, sigmas, clean = [], [], []
@@ -173,7 +173,7 @@ def recovery():
                        f"{SI_UNIT[attr]}}}")
         sigmas.append(s)
         clean.append(value)
-    fs = loads(_with_measurements(FIRED, entries), "synthetic.yaml")
+    fs = parse_spec(_with_measurements(FIRED, entries), "synthetic.yaml")
     fit = fit_parameter(fs, fs.measurements, "peng-robinson", "preheat.efficiency", (0.5, 1.0))
     return fs, fit, np.array(sigmas), np.array(clean)
 
@@ -248,7 +248,7 @@ def test_bad_measurement_entries_give_located_errors(entry, field, message):
     text = open(GATE).read()
     line = len(text.splitlines()) + 2            # the entry's line after "measurements:"
     with pytest.raises(InputError, match=message) as err:
-        loads(_with_measurements(text, [entry]), "bad.yaml")
+        parse_spec(_with_measurements(text, [entry]), "bad.yaml")
     assert err.value.file == "bad.yaml"
     assert err.value.line == line, str(err.value)
     assert err.value.field == field, str(err.value)
@@ -266,12 +266,12 @@ def test_bad_csv_rows_give_located_errors(tmp_path, rows, line, message):
     path = tmp_path / "readings.csv"
     path.write_text("\n".join(rows) + "\n")
     with pytest.raises(InputError, match=message) as err:
-        read_csv(str(path), load(GATE))
+        read_csv(str(path), read_spec(GATE))
     assert err.value.file == str(path) and err.value.line == line
 
 
 def test_fit_parameters_that_cannot_be_fitted():
-    fs = loads(_with_measurements(open(GATE).read(), GATE_MEASUREMENTS[:2]), "gate.yaml")
+    fs = parse_spec(_with_measurements(open(GATE).read(), GATE_MEASUREMENTS[:2]), "gate.yaml")
     with pytest.raises(InputError, match="varied by goal 1") as err:
         compare(fs, models=["peng-robinson"], fit="preheat.T_out", within=(280.0, 320.0))
     assert err.value.field == "--fit"
@@ -289,7 +289,7 @@ def test_fit_parameters_that_cannot_be_fitted():
     failure = raised.results["peng-robinson"].fit_failure
     assert raised.results["peng-robinson"].fit is None and "above the inlet pressure" in failure
     with pytest.raises(InputError, match="no measurements to compare"):
-        compare(load(GATE))
+        compare(read_spec(GATE))
 
 
 # ------------------------------------------------------------------------------------------------

@@ -7,7 +7,7 @@ import numpy as np
 import pytest
 
 import letdown
-from letdown.sheet.loader import load
+from letdown.sheet.loader import read_spec
 from letdown.study.crosscheck import SPREAD_T_K, applicable_models, crosscheck
 
 BLEND = """title: hydrogen blend at a fictional district station
@@ -24,7 +24,7 @@ equipment:
 
 @pytest.fixture(scope="module")
 def gate():
-    return crosscheck(load("flowsheets/gate-station.yaml"))
+    return crosscheck(read_spec("flowsheets/gate-station.yaml"))
 
 
 def test_gate_station_shows_the_model_spread(gate):
@@ -49,7 +49,7 @@ def test_gate_station_shows_the_model_spread(gate):
 def test_hydrogen_blend_flags_the_cubic_models(tmp_path):
     path = tmp_path / "blend.yaml"
     path.write_text(BLEND)
-    cc = crosscheck(load(str(path)))
+    cc = crosscheck(read_spec(str(path)))
     assert "gerg-2008" in cc.models and not cc.failures
     for model in ("peng-robinson", "soave-redlich-kwong"):
         assert any("hydrogen fraction" in what for _, what in cc.warnings[model]), model
@@ -58,7 +58,7 @@ def test_hydrogen_blend_flags_the_cubic_models(tmp_path):
 
 def test_gerg_refusal_is_reported_not_fatal():
     # the cold-separation train splits phases: GERG-2008 refuses, the cubic models answer
-    cc = crosscheck(load("flowsheets/cold-separation.yaml"))
+    cc = crosscheck(read_spec("flowsheets/cold-separation.yaml"))
     assert "two phases" in cc.failures["gerg-2008"]
     rows = {r.what: r for r in cc.rows}
     assert np.isnan(rows["cold-gas.T"].values["gerg-2008"])
@@ -66,8 +66,8 @@ def test_gerg_refusal_is_reported_not_fatal():
 
 
 def test_models_without_gerg_parameters_are_left_out():
-    from letdown.sheet.spec import Flowsheet, GasSpec
-    fs = Flowsheet("x", GasSpec("peng-robinson", {"methane": 0.9, "methanol": 0.1}), {}, {})
+    from letdown.sheet.spec import SheetSpec, GasSpec
+    fs = SheetSpec("x", GasSpec("peng-robinson", {"methane": 0.9, "methanol": 0.1}), {}, {})
     models, skipped = applicable_models(fs)
     assert models == ["peng-robinson", "peng-robinson-1978", "soave-redlich-kwong"]
     assert "methanol" in skipped["gerg-2008"]

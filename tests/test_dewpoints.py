@@ -19,12 +19,12 @@ def solved():
 
 def test_product_gases_are_the_vapour_products(solved):
     sheet, res = solved
-    assert product_gases(res, sheet.flowsheet) == ["export-gas"]
+    assert product_gases(res, sheet.spec) == ["export-gas"]
 
 
 def test_dew_point_and_cricondentherm_of_the_export_gas(solved):
     sheet, res = solved
-    out = with_dew_points(res, sheet.flowsheet)
+    out = with_dew_points(res, sheet.spec)
     s = out.streams["export-gas"]
     gas = letdown.Fluid(dict(s.zs), model=res.model)
     # the same quantities computed directly (stability bisection; envelope extremum)

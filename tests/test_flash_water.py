@@ -13,7 +13,7 @@ from letdown.errors import ModelError
 from letdown.fluid.flash import twophase as fl
 from letdown.fluid.components import R
 from letdown.fluid.flash.threephase import PX_H_TOL
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import Sheet
 
 from tests.test_separator_water import LTS3, PORTS3, WET
@@ -181,7 +181,7 @@ def test_wet_fluid_with_no_water_in_a_case_keeps_the_two_phase_state():
 
 
 def test_lts3_throttle_outlet_is_the_drum_temperature():
-    res = Sheet(loads(LTS3 % PORTS3, source="lts3.yaml")).solve()
+    res = Sheet(parse_spec(LTS3 % PORTS3, source="lts3.yaml")).solve()
     cold, drum = res.streams["cold"], res.streams["gas"]
     gas = letdown.Fluid(WET)
     st = gas.flash(T=np.array([cold.T]), P=np.array([cold.P]))

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from letdown.errors import ConvergenceError
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import Sheet
 
 M_METHANOL = 32.042        # g/mol, from the IUPAC atomic weights (as tests/test_inject.py)
@@ -47,7 +47,7 @@ def dosed_text(route, losses="none", depression="10 K"):
 
 def dosed_sheet(route, losses="none", depression="10 K"):
     """The sheet of :func:`dosed_text`, loaded."""
-    return Sheet(loads(dosed_text(route, losses, depression), source=f"{route}.yaml"))
+    return Sheet(parse_spec(dosed_text(route, losses, depression), source=f"{route}.yaml"))
 
 
 def _water_kg_s(res, stream="supply"):
@@ -124,7 +124,7 @@ equipment:
 
 def test_checks_are_on_without_limits_or_gas_water():
     # regression (issue 10, Why 2): no limits and no gas.water gave no hydrate or ice warning
-    res = Sheet(loads(UNGUARDED, source="unguarded.yaml")).solve()
+    res = Sheet(parse_spec(UNGUARDED, source="unguarded.yaml")).solve()
     fz = res.streams["network"].freezing
     assert fz["hydrate_margin_K"] < -15.0              # deep inside the hydrate region
     assert fz["water_dew_margin_K"] < 0.0              # below its water dew point: free water
@@ -156,7 +156,7 @@ limits:
 
 
 def _district(water="", extra=""):
-    return Sheet(loads(DISTRICT % (water, extra), source="district.yaml")).solve()
+    return Sheet(parse_spec(DISTRICT % (water, extra), source="district.yaml")).solve()
 
 
 def _kinds(res, where):
@@ -210,7 +210,7 @@ def test_outlet_rule_for_the_pipe_downstream():
 def test_outlet_rule_names_unknown_streams_as_bad_input():
     from letdown.errors import InputError
     with pytest.raises(InputError, match="no stream named 'mian'") as err:
-        loads(DISTRICT % ("", "  outlet_min_T: {T: 0 degC, streams: [mian]}"), source="d.yaml")
+        parse_spec(DISTRICT % ("", "  outlet_min_T: {T: 0 degC, streams: [mian]}"), source="d.yaml")
     assert err.value.line == 12 and err.value.field == "limits.outlet_min_T.streams[0]"
 
 
@@ -219,7 +219,7 @@ def test_no_hydrate_warnings_on_a_refrigerant_loop():
     # pure propane in a closed loop carries no water: no hydrate warning, whatever its temperature
     from pathlib import Path
     text = (Path(__file__).parent.parent / "flowsheets" / "propane-chiller.yaml").read_text()
-    res = Sheet(loads(text + "limits:\n  hydrate_margin: 3 K\n", source="chiller.yaml")).solve()
+    res = Sheet(parse_spec(text + "limits:\n  hydrate_margin: 3 K\n", source="chiller.yaml")).solve()
     assert not [w for w in res.warnings if w["kind"].startswith("hydrate") or w["kind"] == "ice"]
 
 
@@ -310,7 +310,7 @@ def test_a_batch_with_one_refused_dose_keeps_the_other_cases(monkeypatch):
 def test_mutated_outlet_rules_are_bad_input(rule, words):
     from letdown.errors import InputError
     with pytest.raises(InputError, match=words) as err:
-        loads(DISTRICT % ("", f"  outlet_min_T: {rule}"), source="d.yaml")
+        parse_spec(DISTRICT % ("", f"  outlet_min_T: {rule}"), source="d.yaml")
     assert err.value.file == "d.yaml" and err.value.line == 12
 
 
@@ -332,10 +332,10 @@ def test_a_given_rate_is_injected_even_with_no_gas_downstream():
             "  dose: {kind: inject, from: supply, to: dosed,",
             "  dose: {kind: inject, from: hc-out, to: hc-dosed,").replace(
             "from: dosed, to: cold", "from: supply, to: cold").replace("depression: 10 K", spec)
-    sized = Sheet(loads(on_liquid("depression: 10 K"), source="a.yaml")).solve()
+    sized = Sheet(parse_spec(on_liquid("depression: 10 K"), source="a.yaml")).solve()
     assert sized.converged is False
     assert any(w["kind"] == "inhibitor_dose" and "no stream downstream carries gas" in w["what"]
                for w in sized.warnings)
-    given = Sheet(loads(on_liquid("rate: 5 kg/h"), source="b.yaml")).solve()
+    given = Sheet(parse_spec(on_liquid("rate: 5 kg/h"), source="b.yaml")).solve()
     assert given.converged is True
     assert given.equipment["dose"]["inhibitor_rate_kg_s"] == pytest.approx(5.0 / 3600.0)

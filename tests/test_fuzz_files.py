@@ -86,11 +86,11 @@ def test_mutated_profile_and_measurement_csvs_are_read_or_refused_with_a_line(tm
     import numpy as np
 
     from letdown.errors import InputError
-    from letdown.sheet.loader import load
+    from letdown.sheet.loader import read_spec
     from letdown.sheet.measurements import read_csv
     from letdown.study.year import read_profile
     fuzz = _fuzz()
-    fs = load(ROOT / "flowsheets" / "fired-gate-station.yaml")
+    fs = read_spec(ROOT / "flowsheets" / "fired-gate-station.yaml")
     profile = "".join((ROOT / "flowsheets" / "profiles" / "harrowfield-2026.csv")
                       .read_text().splitlines(keepends=True)[:20])
     data = (ROOT / "flowsheets" / "fired-gate-station-readings.csv").read_text()

@@ -25,7 +25,7 @@ from CoolProp import AbstractState
 import letdown
 from letdown.errors import ModelError
 from letdown.fluid.eos.gerg import GERG_NAMES
-from letdown.sheet.loader import load as load_flowsheet
+from letdown.sheet.loader import read_spec
 from letdown.sheet.solve import solve
 from tests.cases import BAR
 
@@ -201,7 +201,7 @@ def test_propane_loop_on_gerg_is_right():
     outlet +9.8 degC, chiller duty of the wrong sign). The valve outlet is saturated propane at
     1.7 bar (CoolProp reference equation: -29.6 degC) with the vapour fraction the lever rule gives,
     the condensed liquid is dense and the chiller takes heat in."""
-    fs = load_flowsheet(EXAMPLES / "propane-chiller.yaml")
+    fs = read_spec(EXAMPLES / "propane-chiller.yaml")
     r = solve(fs, model="gerg-2008")
     AS = coolprop({"propane": 1.0})
     AS.update(CoolProp.PQ_INPUTS, 1.7 * BAR, 0.5)

@@ -8,8 +8,8 @@ from hypothesis import given, settings, strategies as st
 
 from letdown.errors import TopologyError
 from letdown.sheet.graph import build_graph, feed_node, product_node, solve_order
-from letdown.sheet.loader import loads
-from letdown.sheet.spec import BlockSpec, FeedSpec, Flowsheet, GasSpec
+from letdown.sheet.loader import parse_spec
+from letdown.sheet.spec import BlockSpec, FeedSpec, SheetSpec, GasSpec
 
 HEAD = """\
 gas: {composition: {methane: 0.9, propane: 0.1}}
@@ -20,7 +20,7 @@ equipment:
 
 
 def sheet(blocks_yaml, head=HEAD, guesses=""):
-    return loads(head + textwrap.indent(textwrap.dedent(blocks_yaml), "  ") + guesses, "g.yaml")
+    return parse_spec(head + textwrap.indent(textwrap.dedent(blocks_yaml), "  ") + guesses, "g.yaml")
 
 
 def topo_error(blocks_yaml, **kw):
@@ -184,7 +184,7 @@ def _fs_from_edges(n, edges):
         outs[i].append(f"p{i}")
         blocks[f"b{i}"] = BlockSpec(f"b{i}", "mixer", {f"in{j}": s for j, s in enumerate(ins[i])},
                                     {s: s for s in outs[i]}, {})
-    return Flowsheet("t", GasSpec("peng-robinson", {"methane": 1.0}), feeds, blocks)
+    return SheetSpec("t", GasSpec("peng-robinson", {"methane": 1.0}), feeds, blocks)
 
 
 def _brute_force_minimum(G):

@@ -12,7 +12,7 @@ import pytest
 
 import letdown
 from letdown.fluid.aqueous import inhibitor as ih
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import Sheet
 
 LEAN = {"methane": 0.9135, "ethane": 0.048, "propane": 0.012, "nitrogen": 0.015,
@@ -63,7 +63,7 @@ def test_inhibitor_balance_closes(gas, name, W):
 
 
 def test_sheet_rate_is_aqueous_plus_losses():
-    res = Sheet(loads(SHEET % ("methanol", "depression: 8 K"), source="loss.yaml")).solve()
+    res = Sheet(parse_spec(SHEET % ("methanol", "depression: 8 K"), source="loss.yaml")).solve()
     d = res.equipment["dose"]
     parts = (d["inhibitor_aqueous_kg_s"] + d["inhibitor_to_vapour_kg_s"]
              + d["inhibitor_to_hc_liquid_kg_s"])
@@ -77,7 +77,7 @@ def test_sheet_rate_is_aqueous_plus_losses():
     assert res.streams["network"].freezing["inhibitor_wt_pct"] == pytest.approx(
         d["inhibitor_wt_pct"], rel=1e-9)
     # without losses the rate is the aqueous need alone: smaller
-    none = Sheet(loads(SHEET % ("methanol", "depression: 8 K, losses: none"),
+    none = Sheet(parse_spec(SHEET % ("methanol", "depression: 8 K, losses: none"),
                        source="loss.yaml")).solve().equipment["dose"]
     assert none["inhibitor_rate_kg_s"] < d["inhibitor_rate_kg_s"]
     assert none["inhibitor_to_vapour_kg_s"] is None         # not modelled: null in JSON
@@ -86,7 +86,7 @@ def test_sheet_rate_is_aqueous_plus_losses():
 @pytest.mark.parametrize("name", ["methanol", "MEG"])
 def test_hydrate_model_dose_gives_the_asked_depression(name):
     text = SHEET % (name, "depression: 8 K, sized_by: hydrate-model")
-    res = Sheet(loads(text, source="loss.yaml")).solve()
+    res = Sheet(parse_spec(text, source="loss.yaml")).solve()
     d = res.equipment["dose"]
     assert d["sized_by"] == "hydrate-model"
     # independent re-evaluation: x_w of the aqueous phase from its wt % by hand (molar masses
@@ -208,7 +208,7 @@ def test_low_pressure_limit_against_perrys_methanol_vapour_pressure(T):
 def test_bad_sizing_options_are_located(spec, field, words):
     from letdown.errors import InputError
     with pytest.raises(InputError) as e:
-        loads(SHEET % ("methanol", spec), source="loss.yaml")
+        parse_spec(SHEET % ("methanol", spec), source="loss.yaml")
     assert e.value.file == "loss.yaml" and e.value.line == 9
     assert e.value.field == field, str(e.value)
     assert words in e.value.message, str(e.value)

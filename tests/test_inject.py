@@ -14,7 +14,7 @@ import letdown
 import letdown.fluid.aqueous.inhibitor as ih
 from letdown.equipment import KINDS, StreamBatch, flash_stream
 from letdown.errors import InputError
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import Sheet
 
 #: Molar masses [g/mol] from the atomic weights (IUPAC 2013 conventional values, H 1.008,
@@ -48,7 +48,7 @@ def sheet(inhibitor="methanol", spec="depression: 8 K"):
     tests/test_inhibitor_loss.py."""
     if "losses" not in spec:
         spec += ", losses: none"
-    return Sheet(loads(SHEET % (inhibitor, spec), source="inject.yaml"))
+    return Sheet(parse_spec(SHEET % (inhibitor, spec), source="inject.yaml"))
 
 
 def test_rate_for_a_depression_is_hammerschmidt_by_hand():
@@ -97,7 +97,7 @@ def test_gas_passes_unchanged_and_balances_close_exactly():
 
 
 def test_downstream_hydrate_margin_grows_by_the_models_depression():
-    plain = Sheet(loads(PLAIN, source="plain.yaml")).solve()
+    plain = Sheet(parse_spec(PLAIN, source="plain.yaml")).solve()
     dosed = sheet("methanol", "depression: 8 K").solve()
     gains = {}
     for name, plain_name in (("dosed", "supply"), ("network", "network")):
@@ -147,7 +147,7 @@ def test_splitter_and_mixer_carry_the_inhibitor():
         "  tee: {kind: splitter, from: supply, to: {a: 0.5, b: rest}}\n"
         "  back: {kind: mixer, from: [dosed, b], to: network}\n").replace(
         "from: supply, to: dosed", "from: a, to: dosed")
-    res = Sheet(loads(text, source="mix.yaml")).solve()
+    res = Sheet(parse_spec(text, source="mix.yaml")).solve()
     rate = 25.0 / 3600.0
     half = WATER_KG_S / 2.0
     assert res.streams["dosed"].freezing["inhibitor_wt_pct"] == pytest.approx(
@@ -187,7 +187,7 @@ def test_block_run_directly():
 def test_bad_parameters_are_located(spec, field, words):
     text = SHEET.replace("inhibitor: %s, %s", spec)
     with pytest.raises(InputError) as e:
-        loads(textwrap.dedent(text), source="inject.yaml")
+        parse_spec(textwrap.dedent(text), source="inject.yaml")
     err = e.value
     assert err.file == "inject.yaml"
     assert err.line == 9                 # the dose block's line

@@ -4,7 +4,7 @@ and a sweep can take it as an output by path."""
 import numpy as np
 import pytest
 
-from letdown.sheet.loader import load
+from letdown.sheet.loader import read_spec
 from letdown.sheet.solve import solve
 from letdown.report.tables import stream_table
 from letdown.report.sweep import column_unit
@@ -16,7 +16,7 @@ BARREL_M3 = 0.158987294928
 
 @pytest.fixture(scope="module")
 def cold():
-    return solve(load(COLD))
+    return solve(read_spec(COLD))
 
 
 def test_json_gives_the_liquid_volume_of_liquid_streams_only(cold):
@@ -46,7 +46,7 @@ def test_report_shows_it_per_day_in_both_unit_systems(cold, units, per_day):
 
 def test_sweep_takes_it_by_path_and_shows_it_per_day():
     from letdown.study.sweep import parse_variable, sweep
-    fs = load(COLD)
+    fs = read_spec(COLD)
     table = sweep(fs, [parse_variable(fs, "jt-valve.P_out=40barg,45barg")],
                   outputs=["cold-liquid.liquid_volume_flow", "cold-liquid.mass_flow",
                            "cold-liquid.density"])

@@ -8,7 +8,7 @@ import pytest
 
 from letdown.errors import InputError, TopologyError
 from letdown.quantities import PSI
-from letdown.sheet.loader import load, loads, schema, schema_path
+from letdown.sheet.loader import parse_spec, read_spec, schema, schema_path
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "flowsheets").glob("*.yaml"))
@@ -33,12 +33,12 @@ limits:
 
 def bad(text, source="bad.yaml"):
     with pytest.raises(InputError) as err:
-        loads(textwrap.dedent(text), source=source)
+        parse_spec(textwrap.dedent(text), source=source)
     return err.value
 
 
 def test_gate_station_values_in_si():
-    fs = loads(GATE, "gate.yaml")
+    fs = parse_spec(GATE, "gate.yaml")
     feed = fs.feeds["supply"]
     assert feed.T == pytest.approx(279.15)
     assert feed.P == 64e5 + 101325.0
@@ -61,7 +61,7 @@ def test_gate_station_values_in_si():
 
 @pytest.mark.parametrize("path", EXAMPLES, ids=lambda p: p.name)
 def test_examples_load_and_match_the_schema(path):
-    fs = load(path)
+    fs = read_spec(path)
     assert fs.blocks
     import yaml
     jsonschema.validate(yaml.safe_load(path.read_text()), schema())
@@ -97,18 +97,18 @@ def test_fractions_must_sum_to_one_unless_normalised():
     e = bad(text)
     assert e.line == 2 and e.field == "gas.composition"
     assert "sum to 0.99, not 1" in e.message and "normalise: true" in e.message
-    fs = loads(textwrap.dedent(text).replace("gas:\n", "gas:\n  normalise: true\n"))
+    fs = parse_spec(textwrap.dedent(text).replace("gas:\n", "gas:\n  normalise: true\n"))
     assert fs.gas.composition == {"methane": pytest.approx(0.9 / 0.99),
                                   "ethane": pytest.approx(0.09 / 0.99)}
 
 
 def test_fraction_sum_within_tolerance_accepted():
-    fs = loads(GATE.replace("0.0115}", "0.0115000004}"))
+    fs = parse_spec(GATE.replace("0.0115}", "0.0115000004}"))
     assert sum(fs.gas.composition.values()) == pytest.approx(1.0, abs=1e-15)
 
 
 def test_aliases_and_duplicates():
-    fs = loads(GATE.replace("methane:", "C1:").replace("carbon-dioxide:", "CO2:"))
+    fs = parse_spec(GATE.replace("methane:", "C1:").replace("carbon-dioxide:", "CO2:"))
     assert "methane" in fs.gas.composition and "carbon-dioxide" in fs.gas.composition
     e = bad(GATE.replace("ethane: 0.048", "C1: 0.048"))
     assert "same component as 'methane'" in e.message and e.line == 4
@@ -163,7 +163,7 @@ def test_exactly_one_specification():
     e = bad(GATE.replace("T_out: 38 degC", "duty: 1 MW"))
     assert e.line == 8 and "'duty' and 'T_out' (varied by a goal)" in e.message
     # the goal may supply the only specification: it starts mid-bracket
-    fs = loads(GATE.replace("T_out: 38 degC, ", ""))
+    fs = parse_spec(GATE.replace("T_out: 38 degC, ", ""))
     assert fs.blocks["preheat"].params["T_out"] == pytest.approx(0.5 * (273.15 + 363.15))
 
 
@@ -190,7 +190,7 @@ def test_negative_duty_and_bad_efficiency():
 
 
 def test_mass_flow_uses_the_feed_molar_mass():
-    fs = loads(GATE.replace("85000 Sm3/h", "30 t/h"))
+    fs = parse_spec(GATE.replace("85000 Sm3/h", "30 t/h"))
     from letdown.fluid.components import COMPONENTS
     M = sum(x * COMPONENTS[c].M for c, x in fs.gas.composition.items())
     assert fs.feeds["supply"].flow == pytest.approx(30000 / 3600 / M, rel=1e-12)
@@ -198,7 +198,7 @@ def test_mass_flow_uses_the_feed_molar_mass():
 
 def test_feed_composition_must_use_gas_components():
     text = GATE.replace("flow: 85000 Sm3/h}", "flow: 85000 Sm3/h, composition: {methane: 1.0}}")
-    fs = loads(text)
+    fs = parse_spec(text)
     assert fs.feeds["supply"].composition["methane"] == 1.0
     assert fs.feeds["supply"].composition["ethane"] == 0.0
     e = bad(GATE.replace("flow: 85000 Sm3/h}", "flow: 85000 Sm3/h, composition: {hydrogen: 1.0}}"))
@@ -206,19 +206,19 @@ def test_feed_composition_must_use_gas_components():
 
 
 def test_atmosphere_override_moves_gauge_pressures():
-    fs = loads("atmosphere: 95 kPa\n" + GATE)
+    fs = parse_spec("atmosphere: 95 kPa\n" + GATE)
     assert fs.feeds["supply"].P == 64e5 + 95000.0
     e = bad("atmosphere: 1 barg\n" + GATE)
     assert e.line == 1 and "absolute" in e.message
 
 
 def test_psig_feed():
-    fs = loads(GATE.replace("64 barg", "930 psig"))
+    fs = parse_spec(GATE.replace("64 barg", "930 psig"))
     assert fs.feeds["supply"].P == pytest.approx(930 * PSI + 101325.0)
 
 
 def test_multiport_blocks():
-    fs = loads(textwrap.dedent("""\
+    fs = parse_spec(textwrap.dedent("""\
         gas: {composition: {methane: 0.8, propane: 0.2}, kij: {methane: {propane: 0.01}}}
         feeds:
           a: {T: 20 degC, P: 60 barg, flow: 100 kmol/h}
@@ -272,10 +272,35 @@ def test_goal_references_checked():
 
 def test_topology_errors_come_with_lines():
     with pytest.raises(TopologyError) as err:
-        loads(GATE.replace("from: warm,   to: network", "from: wram,   to: network"), "g.yaml")
+        parse_spec(GATE.replace("from: warm,   to: network", "from: wram,   to: network"), "g.yaml")
     assert err.value.line == 9 and "'wram' has no producer" in err.value.message
 
 
 def test_missing_file():
     with pytest.raises(InputError, match="no such file"):
-        load("/nonexistent/station.yaml")
+        read_spec("/nonexistent/station.yaml")
+
+
+# -- one name per thing (issue 12) ----------------------------------------------------------------
+def test_the_parsed_file_and_the_ready_sheet_have_names_of_their_own():
+    # the loader's functions give the parsed file (SheetSpec); the only public load gives the Sheet
+    import warnings
+
+    import letdown
+    import letdown.sheet.loader as loader
+    from letdown.sheet.solve import Sheet
+    from letdown.sheet.spec import SheetSpec
+    spec = loader.read_spec(ROOT / "flowsheets" / "gate-station.yaml")
+    assert isinstance(spec, SheetSpec)
+    assert isinstance(loader.parse_spec((ROOT / "flowsheets" / "gate-station.yaml").read_text()), SheetSpec)
+    sheet = letdown.load(ROOT / "flowsheets" / "gate-station.yaml")
+    assert isinstance(sheet, Sheet) and isinstance(sheet.spec, SheetSpec)
+    assert sheet.spec == spec
+    assert not hasattr(loader, "load") and not hasattr(loader, "loads")
+    import letdown.sheet.spec as spec_module
+    assert not hasattr(spec_module, "Flowsheet")
+    # the old attribute a guide showed still answers, with a DeprecationWarning
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always")
+        assert sheet.flowsheet is sheet.spec
+    assert [w.category for w in caught] == [DeprecationWarning]

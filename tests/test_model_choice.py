@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 import letdown
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import Sheet
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "flowsheets"
@@ -22,7 +22,7 @@ def _without_model(name: str):
     text = (EXAMPLES / f"{name}.yaml").read_text()
     lines = [ln for ln in text.splitlines() if ln.strip() != "model: peng-robinson"]
     assert len(lines) == len(text.splitlines()) - 1     # the example named its model once
-    return loads("\n".join(lines) + "\n", source=f"{name}-no-model.yaml")
+    return parse_spec("\n".join(lines) + "\n", source=f"{name}-no-model.yaml")
 
 
 def _choice(result) -> dict:
@@ -65,7 +65,7 @@ def test_component_outside_gerg_2008_keeps_the_cubic():
     assert "nitrogen: 0.015" in text
     text = text.replace("nitrogen: 0.015", "nitrogen: 0.014, neopentane: 0.001")
     text = "\n".join(ln for ln in text.splitlines() if ln.strip() != "model: peng-robinson")
-    result = Sheet(loads(text + "\n", source="neo.yaml")).solve()
+    result = Sheet(parse_spec(text + "\n", source="neo.yaml")).solve()
     assert result.model == "peng-robinson"
     assert "neopentane" in _choice(result)["what"]
 

@@ -10,7 +10,7 @@ import pytest
 import letdown
 from letdown.cli import main
 from letdown.errors import InputError
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import solve
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -45,22 +45,22 @@ def sheet(length="3.5 km", diameter="300 mm",
 
 def bad(text):
     with pytest.raises(InputError) as err:
-        loads(textwrap.dedent(text), source="bad.yaml")
+        parse_spec(textwrap.dedent(text), source="bad.yaml")
     return err.value
 
 
 def test_pipe_parameters_in_si():
-    fs = loads(sheet(diameter="12 in"), "line.yaml")
+    fs = parse_spec(sheet(diameter="12 in"), "line.yaml")
     p = fs.blocks["line"].params
     assert p["length"] == 3500.0
     assert p["diameter"] == pytest.approx(12 * 0.0254, rel=1e-12)   # international inch
     assert p["surroundings"] == {"kind": "buried", "depth": 1.2, "soil_conductivity": 1.2,
                                  "ground_T": pytest.approx(278.15)}
     assert p["max_velocity"] == 20.0
-    air = loads(sheet(surroundings="air: {T: -5 degC, U: 1 Btu/(h*ft2*degF)}"), "a.yaml")
+    air = parse_spec(sheet(surroundings="air: {T: -5 degC, U: 1 Btu/(h*ft2*degF)}"), "a.yaml")
     # 1 Btu/(h ft2 degF) = 5.678263 W/(m2 K) (NIST SP 811, B.8)
     assert air.blocks["line"].params["surroundings"]["U"] == pytest.approx(5.678263, rel=1e-6)
-    plain = loads(sheet(surroundings="{U: 3 W/(m2*K), T: 0 degC}"), "u.yaml")
+    plain = parse_spec(sheet(surroundings="{U: 3 W/(m2*K), T: 0 degC}"), "u.yaml")
     assert plain.blocks["line"].params["surroundings"]["kind"] == "U"
 
 
@@ -82,7 +82,7 @@ def test_bad_pipe_input_is_located(kw, line, match):
 
 
 def test_velocity_limit_warns_naming_the_pipe():
-    result = solve(loads(sheet(length="300 m", diameter="180 mm"), "fast.yaml"))
+    result = solve(parse_spec(sheet(length="300 m", diameter="180 mm"), "fast.yaml"))
     out = result.to_dict()
     warnings = [w for w in out["warnings"] if w["kind"] == "velocity_limit"]
     assert len(warnings) == 1 and warnings[0]["where"] == "line"
@@ -93,7 +93,7 @@ def test_velocity_limit_warns_naming_the_pipe():
     text = report_text(result, "field")
     assert "line: gas velocity" in text and "above limits.max_velocity" in text
     assert "velocity_max=" in text and "ft/s" in text          # the pipe's detail in field units
-    slow = solve(loads(sheet(diameter="400 mm"), "slow.yaml"))
+    slow = solve(parse_spec(sheet(diameter="400 mm"), "slow.yaml"))
     assert not [w for w in slow.to_dict()["warnings"] if w["kind"] == "velocity_limit"]
 
 

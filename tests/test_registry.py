@@ -11,7 +11,7 @@ from letdown.equipment import KINDS, REGISTRY
 from letdown.equipment.registry import PORT_LAYOUTS
 from letdown.errors import InputError
 from letdown.sheet import kinds as sheet_kinds
-from letdown.sheet.loader import KINDS as LOADER_KINDS, loads
+from letdown.sheet.loader import KINDS as LOADER_KINDS, parse_spec
 from letdown.sheet.measurements import BLOCK_ATTRIBUTES
 from letdown.sheet.schemagen import SCHEMA_PATH, generated, text
 from letdown.sheet.solve import solve
@@ -65,7 +65,7 @@ equipment:
 
 
 def test_a_filter_is_an_isenthalpic_pressure_drop():
-    res = solve(loads(FILTERED.replace("DP", "0.8 bar"), source="filter.yaml"))
+    res = solve(parse_spec(FILTERED.replace("DP", "0.8 bar"), source="filter.yaml"))
     sup, out = res.streams["supply"], res.streams["filtered"]
     assert out.P == pytest.approx(sup.P - 0.8e5, rel=1e-12)
     gas = letdown.Fluid({"methane": 0.9135, "ethane": 0.048, "propane": 0.012, "nitrogen": 0.015,
@@ -83,19 +83,19 @@ def test_a_filter_is_an_isenthalpic_pressure_drop():
 @pytest.mark.parametrize("dp, message", [("-0.2 bar", "dP"), ("70 bar", "dP")])
 def test_a_bad_filter_is_a_located_input_error(dp, message):
     with pytest.raises(InputError) as err:
-        solve(loads(FILTERED.replace("DP", dp), source="filter.yaml"))
+        solve(parse_spec(FILTERED.replace("DP", dp), source="filter.yaml"))
     assert err.value.field == "equipment.strainer.dP"
 
 
 def test_a_filter_without_its_pressure_drop_is_refused_at_its_line():
     with pytest.raises(InputError) as err:
-        loads(FILTERED.replace(", dP: DP", ""), source="filter.yaml")
+        parse_spec(FILTERED.replace(", dP: DP", ""), source="filter.yaml")
     assert err.value.line == 9 and "dP" in str(err.value)
 
 
 def test_a_filter_pressure_drop_can_be_swept():
     from letdown.study.sweep import parse_variable, sweep
-    fs = loads(FILTERED.replace("DP", "0.5 bar"), source="filter.yaml")
+    fs = parse_spec(FILTERED.replace("DP", "0.5 bar"), source="filter.yaml")
     table = sweep(fs, [parse_variable(fs, "strainer.dP=0.5bar,2bar")])
     T = table.column("filtered.T [K]")
     assert np.all(np.diff(T) < 0)        # a dirtier filter cools the gas more

@@ -122,9 +122,9 @@ def test_pick():
 
 
 def test_real_gate_station_report():
-    from letdown.sheet.loader import load
+    from letdown.sheet.loader import read_spec
     from letdown.sheet.solve import solve
-    res = solve(load(ROOT / "flowsheets" / "gate-station.yaml"))
+    res = solve(read_spec(ROOT / "flowsheets" / "gate-station.yaml"))
     text = report_text(res)
     r = rows(stream_table(res))
     assert r["Temperature [degC]"][2] == pytest.approx(5.0, abs=1e-4)   # the goal holds 5 degC

@@ -12,7 +12,7 @@ import letdown
 from letdown.fluid.aqueous.inhibitor import INHIBITORS, partition
 from letdown.fluid.aqueous.water import M_WATER
 from letdown.report.text import report_text
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import Sheet
 
 COMP = {"nitrogen": 0.012, "carbon-dioxide": 0.018, "methane": 0.800, "ethane": 0.085,
@@ -38,7 +38,7 @@ M = {name: INHIBITORS[name].M * 1e-3 for name in INHIBITORS}
 
 
 def solve(inhibitor="methanol", dose="rate: 60 kg/h", ports=PORTS):
-    return Sheet(loads(SHEET % (inhibitor, dose, ports), source="lts-inh.yaml")).solve()
+    return Sheet(parse_spec(SHEET % (inhibitor, dose, ports), source="lts-inh.yaml")).solve()
 
 
 def inhibitor_kg_s(res, name):

@@ -19,7 +19,7 @@ from letdown.fluid.aqueous.water import water_in_liquid
 from letdown.fluid.aqueous.water import (M_WATER, MOL_PER_SM3, V_LIQUID, water_content,
                                          water_dew_point, water_vapour_pressure)
 from letdown.report.text import report_text
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import Sheet, solve_cases
 
 COLD = "flowsheets/cold-separation.yaml"
@@ -50,7 +50,7 @@ equipment:
 
 
 def lts(water="", ports="{vapour: gas, liquid: condensate, water: free-water}"):
-    return Sheet(loads(LTS % (water, ports), source="lts.yaml"))
+    return Sheet(parse_spec(LTS % (water, ports), source="lts.yaml"))
 
 
 def water_flow(res, name):
@@ -171,7 +171,7 @@ def test_without_a_water_port_the_free_water_leaves_with_the_liquid():
 
 def test_batch_of_cases_splits_each_case():
     T = np.array([298.15, 288.15, 310.0, 283.15])
-    fs = loads(LTS % ("", "{vapour: gas, liquid: condensate, water: free-water}"),
+    fs = parse_spec(LTS % ("", "{vapour: gas, liquid: condensate, water: free-water}"),
                source="lts.yaml")
     batch = solve_cases(fs, {"feed.T": T}, margins=True)
     gas = letdown.Fluid(dict(batch.case(0).streams["feed"].zs))
@@ -249,12 +249,12 @@ PORTS3 = "{vapour: gas, liquid: condensate, water: free-water}"
 @pytest.fixture(scope="module")
 def drum3():
     T = np.array([298.15, 288.15, 308.15])
-    fs = loads(LTS3 % PORTS3, source="lts3.yaml")
+    fs = parse_spec(LTS3 % PORTS3, source="lts3.yaml")
     return T, solve_cases(fs, {"feed.T": T}, margins=True)
 
 
 def test_lts3_sheet_has_water_as_a_component():
-    assert "water" in Sheet(loads(LTS3 % PORTS3, source="lts3.yaml")).solve().streams["feed"].zs
+    assert "water" in Sheet(parse_spec(LTS3 % PORTS3, source="lts3.yaml")).solve().streams["feed"].zs
 
 
 def test_three_phase_drum_closes_mole_and_energy_balances(drum3):
@@ -331,7 +331,7 @@ def test_three_phase_drum_agrees_with_the_flash_of_its_inlet(drum3):
 
 def test_three_phase_drum_without_water_port_sends_the_water_with_the_liquid(drum3):
     T, three = drum3
-    fs = loads(LTS3 % "{vapour: gas, liquid: condensate}", source="lts3.yaml")
+    fs = parse_spec(LTS3 % "{vapour: gas, liquid: condensate}", source="lts3.yaml")
     two = solve_cases(fs, {"feed.T": T}, margins=True)
     a, b = three.streams, two.streams
     np.testing.assert_allclose(np.asarray(b["gas"].T), np.asarray(a["gas"].T), rtol=1e-12)
@@ -348,7 +348,7 @@ def test_three_phase_drum_without_water_port_sends_the_water_with_the_liquid(dru
 def test_free_water_sent_into_another_block_is_noted_as_not_carried():
     text = (LTS % ("", "{vapour: gas, liquid: condensate, water: free-water}")
             + "  drain:   {kind: throttle, from: free-water, to: drained, P_out: 5 barg}\n")
-    res = Sheet(loads(text, source="drain.yaml")).solve()
+    res = Sheet(parse_spec(text, source="drain.yaml")).solve()
     assert res.streams["free-water"].freezing["water_flow_mol_s"] > 0.0
     assert any(w["where"] == "drain" and "free water of stream 'free-water' is not carried" in
                w["what"] for w in res.warnings)

@@ -9,7 +9,7 @@ from scipy.optimize import brentq
 import letdown
 from letdown.cli import main
 from letdown.errors import InputError
-from letdown.sheet.loader import load, loads
+from letdown.sheet.loader import read_spec, parse_spec
 from letdown.sheet.solve import Sheet
 from letdown.study.size import size
 
@@ -47,7 +47,7 @@ def gate(water="", target="5 degC"):
 
 
 def solved(text):
-    return Sheet(loads(text)).solve().to_dict()
+    return Sheet(parse_spec(text)).solve().to_dict()
 
 
 # ---------------------------------------------------------------------------------------------
@@ -161,7 +161,7 @@ def _hand_duty(fluid, T_in, P_in, dP, P_out, flow, margin=3.0, min_T=273.15):
 
 
 def test_design_duty_matches_hand_calculation():
-    res = size(load(SIZING), efficiency=0.7)
+    res = size(read_spec(SIZING), efficiency=0.7)
     fluid = letdown.Fluid({"methane": 0.9012, "ethane": 0.052, "propane": 0.016,
                            "isobutane": 0.002, "n-butane": 0.002, "nitrogen": 0.012,
                            "carbon-dioxide": 0.0148})
@@ -198,7 +198,7 @@ def test_size_cli_json_and_caution(capsys):
 
 def test_size_min_T_governs_when_it_is_highest():
     text = SIZING.read_text().replace("min_T: 0 degC", "min_T: 15 degC")
-    res = size(loads(text, source="warm.yaml"))
+    res = size(parse_spec(text, source="warm.yaml"))
     assert all(c.governing == "min_T" and c.target == pytest.approx(288.15) for c in res.cases)
 
 
@@ -206,7 +206,7 @@ def test_size_without_a_goal_says_what_is_needed():
     text = SIZING.read_text().split("goals:")[0] + "limits:\n  min_T: 0 degC\n"
     text = text.replace("dP: 0.4 bar}", "dP: 0.4 bar, T_out: 30 degC}")
     with pytest.raises(InputError, match="needs a goal that holds"):
-        size(loads(text, source="nogoal.yaml"))
+        size(parse_spec(text, source="nogoal.yaml"))
 
 
 # ---------------------------------------------------------------------------------------------
@@ -220,7 +220,7 @@ def test_size_without_a_goal_says_what_is_needed():
 ])
 def test_bad_water_entries_are_located(bad, line, field, message):
     with pytest.raises(InputError) as err:
-        loads(gate(bad), source="w.yaml")
+        parse_spec(gate(bad), source="w.yaml")
     e = err.value
     assert (e.file, e.line, e.field) == ("w.yaml", line, field)
     assert message in str(e)
@@ -236,7 +236,7 @@ def test_bad_water_entries_are_located(bad, line, field, message):
 def test_bad_cases_are_located(case, field, message):
     text = SIZING.read_text().split("cases:")[0] + f"cases:\n  - {case}\n"
     with pytest.raises(InputError) as err:
-        loads(text, source="c.yaml")
+        parse_spec(text, source="c.yaml")
     e = err.value
     assert e.file == "c.yaml" and e.line == text.count("\n") and e.field == field
     assert message in str(e)
@@ -259,7 +259,7 @@ GATE_GAS = {"methane": 0.9135, "ethane": 0.048, "propane": 0.012, "nitrogen": 0.
 
 
 def _sheet(equipment, goal, extra=""):
-    return loads("title: test station (fictional)\n" + GAS
+    return parse_spec("title: test station (fictional)\n" + GAS
                  + "feeds:\n  supply: {T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}\n"
                  + "equipment:\n" + equipment + "goals:\n  - " + goal + "\n" + LIMITS + extra,
                  source="t.yaml")
@@ -326,24 +326,24 @@ def test_fixed_preheater_counts_in_design_heat_and_fuel():
 def test_free_water_by_dew_point_lets_the_dew_point_govern():
     # Corrow Moor: water dew point about -19.5 degC at 19 barg, hydrate 7.0 degC. Trusting the
     # dew point, neither hydrate nor ice governs (no free water above -19.5 + 3 degC): min_T does.
-    res = size(load(SIZING), free_water="by-dew-point")
+    res = size(read_spec(SIZING), free_water="by-dew-point")
     for c in res.cases:
         assert c.water_dew_T + 3.0 < 273.15
         assert c.governing == "min_T" and c.target == pytest.approx(273.15, abs=1e-9)
         assert c.met
     d = res.to_dict()
     assert d["free_water"] == "by-dew-point"
-    assert size(load(SIZING)).to_dict()["free_water"] == "always"
+    assert size(read_spec(SIZING)).to_dict()["free_water"] == "always"
     from letdown.report.size import size_text
     assert "free water only below the water dew point" in size_text(res)
-    assert "free water assumed in every stream" in size_text(size(load(SIZING)))
+    assert "free water assumed in every stream" in size_text(size(read_spec(SIZING)))
 
 
 def test_ice_still_governs_when_min_T_is_a_steel_rating_below_zero():
     # a 4 barg district main, limits.min_T -20 degC (the steel's rating): hydrate T at 5 bar is
     # about -14 degC, so ice + margin (3 degC) governs, not -11 degC
     text = gate().replace("17 barg", "4 barg").replace("min_T: 0 degC", "min_T: -20 degC")
-    res = size(loads(text, source="district.yaml"))
+    res = size(parse_spec(text, source="district.yaml"))
     c = res.cases[0]
     assert c.governing == "ice" and c.target == pytest.approx(276.15, abs=1e-9)
 
@@ -351,8 +351,8 @@ def test_ice_still_governs_when_min_T_is_a_steel_rating_below_zero():
 def test_a_size_case_that_fails_is_recorded_and_the_rest_sized(tmp_path, capsys):
     # the bracket stops at 34 degC: three cases need 35.5 degC and fail; summer-min is sized
     text = SIZING.read_text().replace("within: [-10 degC, 90 degC]", "within: [-10 degC, 34 degC]")
-    res = size(loads(text, source="narrow.yaml"))
-    full = size(load(SIZING))
+    res = size(parse_spec(text, source="narrow.yaml"))
+    full = size(read_spec(SIZING))
     by_name = {c.name: c for c in res.cases}
     assert not by_name["winter-peak"].met and "goal" in by_name["winter-peak"].reason
     assert by_name["summer-min"].met and by_name["summer-min"].reason == ""
@@ -373,12 +373,12 @@ def test_cubic_size_output_states_its_bias_against_gerg_2008():
     from letdown.report.size import size_text
     from letdown.study.model_bias import CUBIC_BIAS
     gate_file = ROOT / "flowsheets" / "gate-station.yaml"
-    ref = size(load(gate_file), model="gerg-2008")
+    ref = size(read_spec(gate_file), model="gerg-2008")
     from letdown.fluid.fluid import MODEL_NAMES
     assert set(CUBIC_BIAS) == set(MODEL_NAMES.values()) - {"gerg-2008"}   # every cubic model
     assert not any("against GERG-2008" in x for x in size_text(ref).splitlines())
     for model, bias in CUBIC_BIAS.items():
-        res = size(load(gate_file), model=model)
+        res = size(read_spec(gate_file), model=model)
         dT = res.design_case.heater_T_out - ref.design_case.heater_T_out
         rel = res.design_heat / ref.design_heat - 1.0
         # the figures are printed to 0.01 K and 0.1 %: they must agree to that rounding
@@ -396,7 +396,7 @@ def test_two_sized_heaters_each_hold_their_own_stream_at_its_limit():
     text = (ROOT / "flowsheets" / "two-stage-letdown.yaml").read_text().replace(
         "goals:\n", "goals:\n  - {hold: mid.T, at: 15 degC, by: preheat.T_out, "
                     "within: [5 degC, 90 degC]}\n")
-    res = size(loads(text, source="two.yaml"), efficiency=0.8)
+    res = size(parse_spec(text, source="two.yaml"), efficiency=0.8)
     c = res.cases[0]
     assert c.met, c.short
     assert [s["heater"] for s in c.sized] == ["preheat", "interheat"]
@@ -422,7 +422,7 @@ def test_size_without_min_T_says_no_material_limit_was_applied():
     # the note says why (found by fuzzing the sizing station without its limits section)
     full = SIZING.read_text()
     text = full.split("limits:")[0] + full.split("hydrate_margin: 3 K\n")[1]
-    res = size(loads(text, source="nolimits.yaml"), free_water="by-dew-point")
+    res = size(parse_spec(text, source="nolimits.yaml"), free_water="by-dew-point")
     assert all(c.target < 273.15 - 15 for c in res.cases)
     assert any("no limits.min_T: no material limit" in n and "far below 0 degC" in n
                for n in res.notes)

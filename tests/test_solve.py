@@ -14,8 +14,7 @@ from scipy.optimize import brentq
 
 import letdown
 from letdown.errors import ConvergenceError, InputError
-from letdown.sheet.loader import load as load_flowsheet
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec, read_spec
 from letdown.sheet.result import ENERGY_CLOSURE, MOLE_CLOSURE
 from letdown.sheet.solve import solve, solve_cases
 
@@ -54,7 +53,7 @@ equipment:
 
 
 def _station(lo="0 degC", hi="90 degC", min_T="0 degC"):
-    return loads(STATION % (lo, hi, min_T), source="station.yaml")
+    return parse_spec(STATION % (lo, hi, min_T), source="station.yaml")
 
 
 def _closures_ok(batch):
@@ -65,7 +64,7 @@ def _closures_ok(batch):
 
 # -- a goal-held station against the isenthalpic condition solved directly ------------------------
 def test_goal_held_station_matches_direct_isenthalpic_solution():
-    fs = load_flowsheet(EXAMPLES / "gate-station.yaml")
+    fs = read_spec(EXAMPLES / "gate-station.yaml")
     result = solve(fs)
     gas = letdown.Fluid(dict(fs.gas.composition), model=fs.gas.model)
     supply = fs.feeds["supply"]
@@ -90,7 +89,7 @@ COOLPROP_NAMES = {"methane": "Methane", "ethane": "Ethane", "propane": "Propane"
 @pytest.mark.slow
 def test_gerg_station_matches_coolprop_heos():
     CP = pytest.importorskip("CoolProp.CoolProp")
-    fs = load_flowsheet(EXAMPLES / "gate-station.yaml")
+    fs = read_spec(EXAMPLES / "gate-station.yaml")
     result = solve(fs, model="gerg-2008")
     assert result.model == "gerg-2008"
     names = list(fs.gas.composition)
@@ -113,7 +112,7 @@ def test_gerg_station_matches_coolprop_heos():
 
 # -- the propane loop's coefficient of performance by hand ----------------------------------------
 def test_propane_loop_cop_matches_hand_calculation():
-    fs = load_flowsheet(EXAMPLES / "propane-chiller.yaml")
+    fs = read_spec(EXAMPLES / "propane-chiller.yaml")
     result = solve(fs)
     gas = letdown.Fluid(dict(fs.gas.composition), model=fs.gas.model)
     comp, cond = fs.blocks["compressor"].params, fs.blocks["condenser"].params
@@ -137,7 +136,7 @@ def test_propane_loop_cop_matches_hand_calculation():
     "gate-station", "propane-chiller", "two-stage-letdown", "two-stage-expander", "district-station",
     pytest.param("cold-separation", marks=pytest.mark.slow)])
 def test_examples_close_their_balances(name):
-    fs = load_flowsheet(EXAMPLES / f"{name}.yaml")
+    fs = read_spec(EXAMPLES / f"{name}.yaml")
     batch = solve_cases(fs)
     _closures_ok(batch)
     result = batch.case(0)
@@ -150,7 +149,7 @@ def test_examples_close_their_balances(name):
 
 # -- loops ----------------------------------------------------------------------------------------
 def test_recycle_loop_converges_and_balances():
-    fs = loads(RECYCLE % "", source="recycle.yaml")
+    fs = parse_spec(RECYCLE % "", source="recycle.yaml")
     batch = solve_cases(fs)
     _closures_ok(batch)
     r = batch.case(0)
@@ -162,7 +161,7 @@ def test_recycle_loop_converges_and_balances():
 
 
 def test_loop_that_does_not_converge_raises_with_residuals():
-    fs = loads(RECYCLE % "solver: {loop_max_iterations: 2, loop_tolerance: 1.0e-12}",
+    fs = parse_spec(RECYCLE % "solver: {loop_max_iterations: 2, loop_tolerance: 1.0e-12}",
                source="recycle.yaml")
     with pytest.raises(ConvergenceError, match=r"did not converge in 2 iterations: residual") as err:
         solve(fs)

@@ -107,9 +107,9 @@ def _first_table_rows(text: str, heading: str) -> int:
 
 
 def _grid_table():
-    from letdown.sheet.loader import load
+    from letdown.sheet.loader import read_spec
     from letdown.study.sweep import parse_variable, sweep
-    fs = load(str(GATE))
+    fs = read_spec(str(GATE))
     vary = ["supply.T=0degC:20degC:3", "goal1.at=2degC,5degC"]
     return sweep(fs, [parse_variable(fs, v) for v in vary])
 
@@ -172,9 +172,9 @@ def test_sweep_units_on_the_command_line(tmp_path, capsys):
 
 def test_year_in_field_units(tmp_path, capsys):
     from letdown.report.year import year_table
-    from letdown.sheet.loader import load
+    from letdown.sheet.loader import read_spec
     from letdown.study.year import read_profile, year
-    res = year(load(str(GATE)), read_profile(_profile(tmp_path, 4)))
+    res = year(read_spec(str(GATE)), read_profile(_profile(tmp_path, 4)))
     s = res.summary()
     rows = {r[0]: r for r in year_table(res, "field").rows}
     assert rows["preheat: heat"][2] == "MMBtu"

@@ -9,7 +9,7 @@ import CoolProp.CoolProp as CP
 from CoolProp import AbstractState
 
 from letdown.errors import InputError
-from letdown.sheet.loader import load
+from letdown.sheet.loader import read_spec
 from letdown.study.sweep import parse_variable, sweep
 
 GATE = "flowsheets/gate-station.yaml"
@@ -20,7 +20,7 @@ COOLPROP = {"methane": "Methane", "ethane": "Ethane", "propane": "Propane", "nit
 
 @pytest.fixture(scope="module")
 def gate():
-    return load(GATE)
+    return read_spec(GATE)
 
 
 @pytest.mark.slow

@@ -8,7 +8,7 @@ import pytest
 
 from letdown.errors import InputError
 from letdown.fluid.quality import quality
-from letdown.sheet.loader import load
+from letdown.sheet.loader import read_spec
 from letdown.study.sweep import parse_variable, sweep
 
 GATE = "flowsheets/gate-station.yaml"
@@ -16,7 +16,7 @@ GATE = "flowsheets/gate-station.yaml"
 
 @pytest.fixture(scope="module")
 def gate():
-    return load(GATE)
+    return read_spec(GATE)
 
 
 def _energy(fs, x_h2, flow):

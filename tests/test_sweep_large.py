@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 from letdown.sheet import solve as solve_module
-from letdown.sheet.loader import load
+from letdown.sheet.loader import read_spec
 from letdown.sheet.solve import solve_cases
 from letdown.study import sweep as sweep_module
 from letdown.study.executors import Serial
@@ -46,7 +46,7 @@ def _arrays(res):
 def test_a_goal_search_reusing_its_feeds_gives_the_same_numbers(monkeypatch, path):
     """Shipped examples with goals over random feed temperatures and flows, one case refused:
     the same numbers and failures either way."""
-    fs = load(path)
+    fs = read_spec(path)
     feed = next(iter(fs.feeds))
     rng = np.random.default_rng(4)
     n = 200
@@ -66,7 +66,7 @@ def test_a_goal_search_reusing_its_feeds_gives_the_same_numbers(monkeypatch, pat
 
 
 def test_a_large_sweep_runs_in_bounded_chunks_with_the_numbers_of_one_batch(monkeypatch):
-    fs = load(GATE)
+    fs = read_spec(GATE)
     monkeypatch.setattr(sweep_module, "MAX_CHUNK", 250)
     sizes = []
 

@@ -5,7 +5,7 @@ import numpy as np
 import pytest
 
 from letdown.errors import InputError
-from letdown.sheet.loader import load
+from letdown.sheet.loader import read_spec
 from letdown.sheet.solve import solve_cases
 from letdown.study.sweep import parse_variable, split_unit, sweep
 
@@ -16,7 +16,7 @@ COLD = "flowsheets/cold-separation.yaml"
 
 @pytest.fixture(scope="module")
 def gate():
-    return load(GATE)
+    return read_spec(GATE)
 
 
 def _json_case(fs, variable, value, i):
@@ -44,7 +44,7 @@ def test_default_outputs_carry_every_stream_hydrate_margin_and_equal_the_json(ga
 
 
 def test_fuel_of_a_heater_with_an_efficiency_is_in_the_default_set():
-    fs = load(FIRED)
+    fs = read_spec(FIRED)
     table = sweep(fs, [parse_variable(fs, "supply.T=2degC,8degC")])
     fuel = table.column("preheat.fuel [W]")
     duty = table.column("preheat.duty [W]")
@@ -63,7 +63,7 @@ def test_paths_with_and_without_unit_suffix_name_the_same_column(gate):
 
 
 def test_inhibitor_rate_of_an_inject_block_by_path():
-    fs = load(COLD)
+    fs = read_spec(COLD)
     var = next(f"{n}.T" for n in fs.feeds)
     table = sweep(fs, [parse_variable(fs, f"{var}=25degC")],
                   outputs=["meg-spray.inhibitor_rate", "dosed-gas.inhibitor_wt_pct"])

@@ -16,7 +16,7 @@ import numpy as np
 import pytest
 
 from letdown.errors import InputError
-from letdown.sheet.loader import load, loads
+from letdown.sheet.loader import read_spec, parse_spec
 from letdown.study.executors import ProcessPool, Serial
 from letdown.study.uncertainty import (first_order_index, parse_distribution, uncertainty,
                                        unit_samples)
@@ -40,12 +40,12 @@ equipment:
 
 @pytest.fixture(scope="module")
 def mixer():
-    return loads(MIXER, source="mixer.yaml")
+    return parse_spec(MIXER, source="mixer.yaml")
 
 
 @pytest.fixture(scope="module")
 def gate():
-    return load(GATE)
+    return read_spec(GATE)
 
 
 def _within_sampling_error(y, mean, var, k=4.0):

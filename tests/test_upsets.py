@@ -24,7 +24,7 @@ from letdown.caution import UPSET_CAUTION
 from letdown.cli import main
 from letdown.equipment import valve as iec
 from letdown.report.upsets import upsets_text
-from letdown.sheet.loader import load, loads
+from letdown.sheet.loader import read_spec, parse_spec
 from letdown.sheet.solve import solve
 from letdown.study.upsets import all_open_flow, series_runs, upsets
 
@@ -50,13 +50,13 @@ def hand_fail_open(Kv, xT, d, D1, D2, P1, P_set, rho1, kappa):
 
 @pytest.fixture(scope="module")
 def district():
-    return upsets(load(DISTRICT))
+    return upsets(read_spec(DISTRICT))
 
 
 def test_fail_open_load_of_the_shipped_district_station_by_hand(district):
     # the file as written (the 'design' case): stage1 (Kv 80, xT 0.72, 50 mm in 102/154 mm
     # pipes) from its inlet state into its protection's 18 barg
-    res = solve(load(DISTRICT))
+    res = solve(read_spec(DISTRICT))
     warm = res.streams["warm"]
     st = letdown.Fluid(GAS, model="peng-robinson").flash(T=warm.T, P=warm.P)
     kappa = st.density * st.w ** 2 / warm.P
@@ -123,7 +123,7 @@ def test_series_run_all_open_passes_the_same_flow_through_each_valve(district):
     run = district.runs[0]
     assert run["blocks"] == ["stage1", "stage2"]
     gas = letdown.Fluid(GAS, model="peng-robinson")
-    res = solve(load(DISTRICT))
+    res = solve(read_spec(DISTRICT))
     warm = res.streams["warm"]
     row = next(c for c in run["all_open"] if c["case"] == "design")
     P1, P2 = row["inlet_P_Pa"]["stage1"], row["inlet_P_Pa"]["stage2"]
@@ -211,14 +211,14 @@ def test_first_valve_choked_bounds_the_run():
 
 
 def test_runs_follow_heaters_but_not_branches():
-    fs = load(DISTRICT)
+    fs = read_spec(DISTRICT)
     assert series_runs(fs) == [["stage1", "stage2"]]
     text = DISTRICT.read_text().replace(
         "  interheat: {kind: heater, from: mid, to: rewarm, T_out: 15 degC, dP: 0.1 bar}",
         "  tee: {kind: splitter, from: mid, to: {rewarm: 0.9, bypass: rest}}")
     text = text.replace("  - {hold: district.T, at: 5 degC, by: interheat.T_out, "
                         "within: [0 degC, 90 degC]}\n", "")
-    assert series_runs(loads(text)) == []
+    assert series_runs(parse_spec(text)) == []
 
 
 def test_caution_and_reports_in_both_unit_systems(district, capsys):
@@ -239,7 +239,7 @@ def test_caution_and_reports_in_both_unit_systems(district, capsys):
 
 
 def test_a_station_without_heaters_or_protection_says_so():
-    fs = loads("""\
+    fs = parse_spec("""\
 title: bare regulator (fictional)
 gas: {model: peng-robinson, composition: {methane: 1.0}}
 feeds:
@@ -258,7 +258,7 @@ def test_a_failed_first_case_still_gives_valid_json():
     # fuzz find: the first case's supply at 16 barg cannot feed a 16 barg regulator outlet; its
     # rated Kv was read from that failed case (NaN), and the JSON writer stopped with exit 3
     text = DISTRICT.read_text().replace("T: 4 degC, P: 32 barg", "T: 4 degC, P: 16 barg")
-    res = upsets(loads(text))
+    res = upsets(parse_spec(text))
     assert res.any_failed and "winter-peak" in res.preheat[0]["failures"]
     data = json.loads(json.dumps(res.to_dict(), allow_nan=False))
     assert data["fail_open"][0]["Kv_rated_m3_h"] == 80.0
@@ -270,7 +270,7 @@ def test_every_case_failing_still_lists_the_protected_regulators():
     # every case): the regulators with protection are listed with blank loads, not forgotten
     text = DISTRICT.read_text().replace("P: 40 barg", "P: 10 barg").replace(
         "P: 32 barg", "P: 10 barg").replace("P: 44 barg", "P: 10 barg")
-    res = upsets(loads(text))
+    res = upsets(parse_spec(text))
     assert len(res.preheat[0]["failures"]) == 3
     assert [f["block"] for f in res.fail_open] == ["stage1", "stage2"]
     assert all(c["flow_kg_s"] is None for f in res.fail_open for c in f["cases"])
@@ -280,7 +280,7 @@ def test_every_case_failing_still_lists_the_protected_regulators():
 
 
 def test_a_case_setting_a_heater_that_is_taken_off_is_solved_with_it_off():
-    fs = loads("""\
+    fs = parse_spec("""\
 title: one heater, cases set its outlet (fictional)
 gas: {model: peng-robinson, composition: {methane: 0.95, ethane: 0.05}}
 feeds:

@@ -16,7 +16,7 @@ from scipy.optimize import brentq
 from letdown.equipment import throttle
 from letdown.equipment import valve as iec
 from letdown.errors import InputError
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import solve
 from tests.blocks import assert_balanced, feed, fluid
 
@@ -310,7 +310,7 @@ limits:
 
 
 def test_sheet_json_carries_the_rating_and_limit_warnings():
-    result = solve(loads(SHEET))
+    result = solve(parse_spec(SHEET))
     data = json.loads(result.to_json())
     reg = data["equipment"]["regulator"]
     for key in ("Kv_required", "Cv_required", "Kv_rated", "opening_fraction", "choked", "x",
@@ -326,12 +326,12 @@ def test_sheet_json_carries_the_rating_and_limit_warnings():
 
 def test_limits_in_field_units_and_quiet_within_limits():
     from letdown.report.text import report_text
-    result = solve(loads(SHEET))
+    result = solve(parse_spec(SHEET))
     text = report_text(result, "field")
     assert "ft/s" in text and "limits.max_velocity 65.6 ft/s" in text
     relaxed = SHEET.replace("max_velocity: 20 m/s", "max_velocity: 30 m/s").replace(
         "max_opening: 0.6", "max_opening: 0.8").replace("max_noise: 85 dBA", "max_noise: 130 dBA")
-    quiet = solve(loads(relaxed))
+    quiet = solve(parse_spec(relaxed))
     assert not [w for w in quiet.warnings if w["where"] == "regulator"]
 
 
@@ -350,7 +350,7 @@ def test_limits_in_field_units_and_quiet_within_limits():
 ])
 def test_bad_valve_in_a_file_is_located(old, new, message, line):
     with pytest.raises(InputError) as err:
-        loads(SHEET.replace(old, new), "station.yaml")
+        parse_spec(SHEET.replace(old, new), "station.yaml")
     e = err.value
     assert e.file == "station.yaml" and e.line is not None
     if line is not None:
@@ -435,7 +435,7 @@ def test_fail_open_flow_against_a_hand_calculation():
     # x = (P1 - P_set) / P1 against F_gamma xT; choked: x_s = F_gamma xT and Y = 2/3;
     # W [kg/h] = 3.16 Kv Y sqrt(x_s P1[kPa] rho1)
     import letdown
-    result = solve(loads(FAIL_OPEN.replace("SET", "19 barg")))
+    result = solve(parse_spec(FAIL_OPEN.replace("SET", "19 barg")))
     reg = json.loads(result.to_json())["equipment"]["regulator"]
     gas = letdown.Fluid({"methane": 0.9135, "ethane": 0.048, "propane": 0.012, "nitrogen": 0.015,
                          "carbon-dioxide": 0.0115}, model="peng-robinson")
@@ -452,7 +452,7 @@ def test_fail_open_flow_against_a_hand_calculation():
     assert len(note) == 1 and note[0]["where"] == "regulator" and note[0]["severity"] == "note"
     assert "local codes and licensed practice" in note[0]["what"]
     # choked: the load does not depend on the set pressure below the choked ratio
-    lower = solve(loads(FAIL_OPEN.replace("SET", "18 barg")))
+    lower = solve(parse_spec(FAIL_OPEN.replace("SET", "18 barg")))
     assert json.loads(lower.to_json())["equipment"]["regulator"]["fail_open_flow_kg_s"] == \
         pytest.approx(W, rel=1e-12)
 
@@ -475,9 +475,9 @@ def test_fail_open_flow_not_choked_and_with_fittings_matches_the_forward_equatio
 
 def test_fail_open_bad_input_is_refused_and_located():
     with pytest.raises(InputError, match="act in normal operation") as err:
-        solve(loads(FAIL_OPEN.replace("SET", "16 barg"), "fo.yaml"))
+        solve(parse_spec(FAIL_OPEN.replace("SET", "16 barg"), "fo.yaml"))
     assert err.value.file == "fo.yaml" and err.value.line == 14
     no_valve = FAIL_OPEN.replace("    valve: {Kv: 250, xT: 0.7, characteristic: linear}\n", "")
     with pytest.raises(InputError, match="needs the valve's rating") as err:
-        loads(no_valve.replace("SET", "19 barg"), "fo.yaml")
+        parse_spec(no_valve.replace("SET", "19 barg"), "fo.yaml")
     assert err.value.line == 13

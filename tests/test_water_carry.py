@@ -18,7 +18,7 @@ from letdown.equipment import Carry, KINDS, flash_stream
 from letdown.equipment.common import DOSE_RATE, WATER_METHOD, finish
 from letdown.equipment.stream import blend
 from letdown.fluid.aqueous.water import M_WATER, MOL_PER_SM3, water_content
-from letdown.sheet.loader import loads
+from letdown.sheet.loader import parse_spec
 from letdown.sheet.solve import solve_cases
 from tests.blocks import fluid
 
@@ -48,7 +48,7 @@ BALANCE = 1e-10
 
 
 def recycle(water="water: {saturated: {T: 30 degC, P: 70 barg}}", comp=RICH):
-    return loads(RECYCLE % (comp, water), source="recycle.yaml")
+    return parse_spec(RECYCLE % (comp, water), source="recycle.yaml")
 
 
 def water_out(res, names):
@@ -241,7 +241,7 @@ def test_a_dose_sized_for_a_point_inside_a_recycle_settles_in_the_tear_iteration
         "  dose:  {kind: inject, from: feed, to: fed, inhibitor: methanol, depression: 8 K,\n"
         "          losses: none}\n"
         "  mix:   {kind: mixer, from: [fed, back], to: mixed}\n")
-    res = solve_cases(loads(text % (RICH, ""), source="dosed-recycle.yaml"), margins=True)
+    res = solve_cases(parse_spec(text % (RICH, ""), source="dosed-recycle.yaml"), margins=True)
     assert res.converged.all()
     d = res.equipment["dose"].details
     assert d["protected_stream"][0] in ("cold", "gas")
@@ -282,7 +282,7 @@ equipment:
   dose: {kind: inject, from: wet, to: dosed, inhibitor: methanol, rate: 50 kg/h, losses: none}
   mix:  {kind: mixer, from: [dosed, dry], to: mixed}
 """
-    res = solve_cases(loads(text, source="mix-water.yaml"), margins=True)
+    res = solve_cases(parse_spec(text, source="mix-water.yaml"), margins=True)
     dosed = res.freezing["dosed"].inhibitor_flow[0, 0]
     assert dosed == pytest.approx(50.0 / 3600.0 / 32.04186e-3, rel=1e-12)   # the table's M
     assert res.freezing["mixed"].inhibitor_flow[0, 0] == pytest.approx(dosed, rel=1e-12)
@@ -297,7 +297,7 @@ def test_meg_dosed_inside_a_recycle_with_equilibrium_losses_settles_and_balances
         "  warm:  {kind: heater, from: recycle, to: back, T_out: 30 degC}\n",
         "  warm:  {kind: heater, from: recycle, to: warmed, T_out: 30 degC}\n"
         "  dose:  {kind: inject, from: warmed, to: back, inhibitor: MEG, depression: 10 K}\n")
-    res = solve_cases(loads(text % (RICH, ""), source="meg-recycle.yaml"),
+    res = solve_cases(parse_spec(text % (RICH, ""), source="meg-recycle.yaml"),
                       {"feed.T": [295.0, 310.0]}, margins=True)
     assert res.converged.all()
     assert not [w for w in res.warnings if w.kind == "water_loop"]

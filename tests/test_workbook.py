@@ -123,7 +123,7 @@ def test_size_workbook_one_row_per_case(tmp_path, capsys):
 
 
 def test_sweep_workbook_is_the_table(tmp_path):
-    from letdown.sheet.loader import load
+    from letdown.sheet.loader import read_spec
     from letdown.study.sweep import parse_variable, sweep
 
     f = EXAMPLES / "gate-station.yaml"
@@ -131,7 +131,7 @@ def test_sweep_workbook_is_the_table(tmp_path):
     vary = ["supply.T=0degC:20degC:3", "goal1.at=2degC,5degC"]
     args = ["sweep", str(f), "--xlsx", str(target)] + [a for v in vary for a in ("--vary", v)]
     assert main(args) == 0
-    fs = load(str(f))
+    fs = read_spec(str(f))
     table = sweep(fs, [parse_variable(fs, v) for v in vary])
     header, rows = _sheet(openpyxl.load_workbook(target), "Cases")
     assert tuple(header) == table.columns and len(rows) == len(table.rows) == 6

@@ -4,7 +4,7 @@ import pytest
 
 import letdown
 from letdown.errors import InputError
-from letdown.sheet.loader import load
+from letdown.sheet.loader import read_spec
 from letdown.study.executors import ProcessPool, Serial
 from letdown.study.sweep import parse_variable, sweep
 from letdown.report.year import year_text
@@ -22,7 +22,7 @@ def short_profile(tmp_path, hours=48):
 
 
 def test_year_totals_are_the_hourly_solves(tmp_path):
-    fs = load(GATE)
+    fs = read_spec(GATE)
     prof = read_profile(short_profile(tmp_path, 24))
     res = year(fs, prof, efficiency=0.7)
     assert res.converged.all()
@@ -42,7 +42,7 @@ def test_year_totals_are_the_hourly_solves(tmp_path):
 
 
 def test_process_pool_gives_the_serial_answer(tmp_path):
-    fs = load(GATE)
+    fs = read_spec(GATE)
     prof = read_profile(short_profile(tmp_path, 40))
     serial = year(fs, prof, executor=Serial())
     pool = ProcessPool(2)
@@ -58,7 +58,7 @@ def test_process_pool_gives_the_serial_answer(tmp_path):
 def test_sweep_on_a_local_dask_cluster_matches_serial():
     distributed = pytest.importorskip("distributed")
     from letdown.study.executors import DaskCluster
-    fs = load(GATE)
+    fs = read_spec(GATE)
     variables = [parse_variable(fs, "supply.T=0degC:12degC:4"),
                  parse_variable(fs, "blend.hydrogen=0,0.1")]
     serial = sweep(fs, variables)
@@ -106,7 +106,7 @@ def test_command_line_year(tmp_path):
 def test_progress_bar_shows_and_changes_nothing(tmp_path, capsys, monkeypatch):
     pytest.importorskip("tqdm")
     from letdown.study import executors
-    fs = load(GATE)
+    fs = read_spec(GATE)
     variables = [parse_variable(fs, "supply.T=0degC:10degC:3")]
     quiet = sweep(fs, variables)
     shown = sweep(fs, variables, show_progress=True)
@@ -122,7 +122,7 @@ def test_hours_below_the_hydrate_limit(tmp_path):
     profile mixes network pressures on both sides of the limit (at 3 barg the lean gas's hydrate
     temperature is far below the 5 degC set point, at 17-30 barg above it minus the margin), so a
     count that returned every hour or none would fail."""
-    fs = load(GATE)
+    fs = read_spec(GATE)
     rows = [(60000 + 1000 * k, 4.0 + 0.5 * k, 63.0, (3.0, 17.0, 30.0, 8.0)[k % 4]) for k in range(12)]
     prof = read_profile(write_profile(tmp_path, rows))
     res = year(fs, prof)
@@ -160,8 +160,8 @@ def gate_text(**replace):
 
 
 def test_year_bills_each_heater_at_its_own_efficiency(tmp_path):
-    from letdown.sheet.loader import loads
-    fs = loads(gate_text(**{"dP: 0.3 bar}": "dP: 0.3 bar, efficiency: 0.85}"}), source="g.yaml")
+    from letdown.sheet.loader import parse_spec
+    fs = parse_spec(gate_text(**{"dP: 0.3 bar}": "dP: 0.3 bar, efficiency: 0.85}"}), source="g.yaml")
     prof = read_profile(short_profile(tmp_path, 12))
     cv = letdown.Fluid(GAS).quality().gross_volumetric
     for cli in (None, 0.6):                   # the file's value wins over the command line's
@@ -170,7 +170,7 @@ def test_year_bills_each_heater_at_its_own_efficiency(tmp_path):
         assert res.fuel_Sm3 == pytest.approx(heat_J / 0.85 / cv, rel=1e-12)
         assert res.summary()["heaters"]["preheat"]["efficiency"] == 0.85
     # a heater without one takes the command line's
-    res = year(load(GATE), prof, efficiency=0.6)
+    res = year(read_spec(GATE), prof, efficiency=0.6)
     heat_J = res.heater_duty["preheat"].sum() * 3600.0
     assert res.fuel_Sm3 == pytest.approx(heat_J / 0.6 / cv, rel=1e-12)
 
@@ -180,7 +180,7 @@ def test_warm_hours_are_not_counted_as_recovered_heat(tmp_path):
     # The heater stays cold instead: zero duty, the outlet floats warmer, the hours are counted.
     rows = [(70000, 2.0 if i % 2 == 0 else 35.0, 62.74, 17.41) for i in range(12)]
     prof = read_profile(write_profile(tmp_path, rows))
-    res = year(load(GATE), prof)
+    res = year(read_spec(GATE), prof)
     warm = np.array([i % 2 == 1 for i in range(12)])
     assert res.converged.all()
     assert res.floored_hours["preheat"] == 6 and res.summary()["heater_off_hours"]["preheat"] == 6
@@ -205,8 +205,8 @@ def test_warm_hours_are_not_counted_as_recovered_heat(tmp_path):
 
 def test_year_states_its_calorific_basis(tmp_path):
     prof = read_profile(short_profile(tmp_path, 6))
-    gross = year(load(GATE), prof)
-    net = year(load(GATE), prof, calorific="net")
+    gross = year(read_spec(GATE), prof)
+    net = year(read_spec(GATE), prof, calorific="net")
     q = letdown.Fluid(GAS).quality()
     heat_J = gross.heater_duty["preheat"].sum() * 3600.0
     assert gross.summary()["calorific_basis"] == "gross"
@@ -249,10 +249,10 @@ def test_cubic_year_states_its_bias_against_gerg_2008(tmp_path):
     path = tmp_path / "every24.csv"
     path.write_text("\n".join([lines[0]] + lines[1::24]) + "\n")
     prof = read_profile(str(path))
-    ref = year(load(GATE), prof, model="gerg-2008")
+    ref = year(read_spec(GATE), prof, model="gerg-2008")
     assert ref.summary()["model_bias"] is None
     for model in ("peng-robinson", "soave-redlich-kwong"):
-        res = year(load(GATE), prof, model=model)
+        res = year(read_spec(GATE), prof, model=model)
         rel = 100 * (res.energy_MWh["preheat"] / ref.energy_MWh["preheat"] - 1.0)
         assert rel == pytest.approx(CUBIC_BIAS[model]["year_heat_pct"], abs=0.1)
         text = year_text(res)
@@ -264,8 +264,8 @@ def test_a_goal_too_warm_for_its_bracket_turns_the_heater_off_not_a_failure(tmp_
     # bracket [20 degC, 90 degC]; at 30 barg in the network needs a preheater outlet of about
     # 11 degC. With 35 degC gas the heater stays off (network floats warmer: kept); with 2 degC gas
     # the heater is needed below its bracket: that hour fails, with its reason.
-    from letdown.sheet.loader import loads
-    fs = loads(gate_text(**{"within: [0 degC, 90 degC]": "within: [20 degC, 90 degC]"}),
+    from letdown.sheet.loader import parse_spec
+    fs = parse_spec(gate_text(**{"within: [0 degC, 90 degC]": "within: [20 degC, 90 degC]"}),
                source="g.yaml")
     prof = read_profile(write_profile(tmp_path, [(70000, 35.0, 30.0, 17.41),
                                                  (70000, 2.0, 30.0, 17.41)]))
@@ -283,7 +283,7 @@ def test_a_goal_too_warm_for_its_bracket_turns_the_heater_off_not_a_failure(tmp_
 # margins in every hour, monthly figures, duty duration (issue 14 parts 2 and 5)
 
 def test_hydrate_hours_of_every_stream_match_the_scalar_hydrate_temperature(tmp_path):
-    fs = load(GATE)
+    fs = read_spec(GATE)
     prof = read_profile(short_profile(tmp_path, 24))
     res = year(fs, prof)
     gas = letdown.Fluid(dict(fs.gas.composition))
@@ -310,7 +310,7 @@ def test_wet_supply_counts_its_hydrate_hours_by_dew_point_too(tmp_path):
     text = open(GATE).read().replace("  water: 50 mg/Sm3\n", "")
     path = tmp_path / "wet.yaml"
     path.write_text(text)
-    fs = load(str(path))
+    fs = read_spec(str(path))
     res = year(fs, read_profile(short_profile(tmp_path, 12)))
     h = res.hydrate_hours()["supply"]
     assert h["below_hydrate_T_free_water_assumed"] > 0
@@ -324,7 +324,7 @@ def test_months_and_duty_duration_add_up_to_the_year(tmp_path):
     keep = [lines[0]] + lines[1 + 31 * 24 - 20: 1 + 31 * 24 + 20]
     path = tmp_path / "two-months.csv"
     path.write_text("\n".join(keep) + "\n")
-    fs = load(GATE)
+    fs = read_spec(GATE)
     res = year(fs, read_profile(str(path)), efficiency=0.8)
     months = res.months()
     assert list(months) == ["2026-01", "2026-02"]
@@ -347,7 +347,7 @@ def test_hourly_csv_has_the_hydrate_temperature_of_every_stream(tmp_path):
     from letdown.report.year import year_files
     import csv
     import io
-    fs = load(GATE)
+    fs = read_spec(GATE)
     res = year(fs, read_profile(short_profile(tmp_path, 6)))
     text = year_files(res, flowsheet=GATE, plot=False)["hourly.csv"]
     rows = list(csv.DictReader(io.StringIO(text)))
@@ -365,10 +365,10 @@ def test_process_pool_after_a_large_serial_batch_does_not_hang():
     import sys
     script = (
         "import numpy as np\n"
-        "from letdown.sheet.loader import load\n"
+        "from letdown.sheet.loader import read_spec\n"
         "from letdown.study.executors import ProcessPool\n"
         "from letdown.study.year import _solve_chunk\n"
-        f"fs = load({GATE!r})\n"
+        f"fs = read_spec({GATE!r})\n"
         "cases = {'supply.T': np.linspace(272.0, 285.0, 200)}\n"
         "_solve_chunk((fs, cases, None))\n"
         "pool = ProcessPool(2)\n"

@@ -130,7 +130,7 @@ def water_flows(fs, fluid, streams, steps=None, outcomes=None) -> WaterCarry:
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     fluid : Fluid
     streams : Mapping[str, StreamBatch]
         The solved streams (carrying their water, unless water is a component).

@@ -16,7 +16,7 @@ from ..equipment import BlockOutcome, StreamBatch
 from ..errors import InputError
 from .kinds import NUMBERS
 from .result import LoopRecord, _spread
-from .spec import Flowsheet
+from .spec import SheetSpec
 
 FEED_FIELDS = ("T", "P", "flow")
 
@@ -24,7 +24,7 @@ FEED_FIELDS = ("T", "P", "flow")
 CASE_TEXT = re.compile(r" \(case \d+\)")
 
 
-def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
+def _case_arrays(fs: SheetSpec, cases) -> tuple[dict, int]:
     """Check the case keys and broadcast their values to one length."""
     if not cases:
         return {}, 1

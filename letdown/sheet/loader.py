@@ -1,4 +1,4 @@
-"""Read a flowsheet file (YAML) into a :class:`letdown.sheet.spec.Flowsheet`, keeping line numbers.
+"""Read a flowsheet file (YAML) into a :class:`letdown.sheet.spec.SheetSpec`, keeping line numbers.
 
 Three passes, each raising :class:`letdown.errors.InputError` with ``file:line: field: message``:
 
@@ -22,12 +22,12 @@ Three passes, each raising :class:`letdown.errors.InputError` with ``file:line: 
    some components), else the ``gas.model`` line is named.
 
 The graph checks (a stream produced twice, never produced, a feed nobody takes) follow in
-:func:`letdown.sheet.graph.build_graph`, which :func:`load` runs before returning.
+:func:`letdown.sheet.graph.build_graph`, which :func:`read_spec` runs before returning.
 
 The loader is four modules along these passes: :mod:`letdown.sheet.yamldoc` (passes 0-2 and the
 located readers of values), :mod:`letdown.sheet.blocksection` (the ``equipment`` section),
 :mod:`letdown.sheet.goalslimits` (``goals``, ``solver``, ``limits``) and this one (the gas, the
-feeds, the cases and measurements, and :func:`loads` that runs them in order).
+feeds, the cases and measurements, and :func:`parse_spec` that runs them in order).
 """
 from __future__ import annotations
 
@@ -40,7 +40,7 @@ from .blocksection import _blocks, _check_parameter
 from .goalslimits import _goal_targets, _goals, _limits, _solver
 from .inputtext import read_text
 from .kinds import EXACTLY_ONE, PARAMETERS
-from .spec import BlockSpec, CaseSpec, FeedSpec, Flowsheet, GasSpec, WaterSpec
+from .spec import BlockSpec, CaseSpec, FeedSpec, GasSpec, SheetSpec, WaterSpec
 from .yamldoc import (_Doc, _Quantities, _dotted, _nearest, _number, _read_yaml, _validate_schema,
                       _where)
 
@@ -304,7 +304,7 @@ def _measurements(doc: _Doc, fs_parts, atmosphere: float) -> tuple:
     return tuple(out)
 
 
-def loads(text: str, source: str = "<text>") -> Flowsheet:
+def parse_spec(text: str, source: str = "<text>") -> SheetSpec:
     """Parse flowsheet YAML text.
 
     Parameters
@@ -316,7 +316,7 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
 
     Returns
     -------
-    Flowsheet
+    SheetSpec
         Everything in SI; ``extra`` holds ``atmosphere`` [Pa] and ``normalise`` (bool).
 
     Raises
@@ -377,7 +377,7 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
         for b in blocks.values():
             if b.kind == "pipe":
                 b.params["max_velocity"] = limits["max_velocity"]
-    fs = Flowsheet(title=title, gas=gas, feeds=feeds, blocks=blocks, goals=goals,
+    fs = SheetSpec(title=title, gas=gas, feeds=feeds, blocks=blocks, goals=goals,
                    limits=limits, solver=solver, source=source,
                    extra={"atmosphere": atmosphere, "normalise": normalise}, guesses=guesses,
                    measurements=measurements, cases=cases)
@@ -386,7 +386,7 @@ def loads(text: str, source: str = "<text>") -> Flowsheet:
     return fs
 
 
-def load(path) -> Flowsheet:
+def read_spec(path) -> SheetSpec:
     """Read a flowsheet file.
 
     Parameters
@@ -396,11 +396,11 @@ def load(path) -> Flowsheet:
 
     Returns
     -------
-    Flowsheet
+    SheetSpec
 
     Raises
     ------
     InputError
-        If the file cannot be read or is not a valid flowsheet (see :func:`loads`).
+        If the file cannot be read or is not a valid flowsheet (see :func:`parse_spec`).
     """
-    return loads(read_text(path), source=str(path))
+    return parse_spec(read_text(path), source=str(path))

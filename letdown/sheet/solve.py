@@ -50,6 +50,7 @@ that leave a pass) is :mod:`letdown.sheet.casebatch`; the loops and goals are th
 from __future__ import annotations
 
 import dataclasses
+from warnings import warn
 
 import numpy as np
 
@@ -57,7 +58,6 @@ from ..equipment import KINDS, Carry, closures, flash_stream
 from ..equipment.common import BY_GOAL, DOSE_RATE, INHIBITOR_EQUILIBRIUM, TRIAL, WATER_METHOD
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
-from ..fluid.models import out_of_range
 from .carried import feed_carries
 from .dosing import find_doses, inject_doses, inject_params
 from .freezing import basis, freezing_warnings, stream_freezing
@@ -70,17 +70,17 @@ from .goals import GOAL_RELATIVE_FLOOR, UNITS, GoalSearch  # noqa: F401 (re-expo
 from .graph import build_graph, solve_order
 from .loops import (CARRY_MAX_PASSES, CARRY_TOLERANCE, FLOW_TOLERANCE,  # noqa: F401 (re-exported)
                     WEGSTEIN_Q_MAX, WEGSTEIN_Q_MIN, TearLoops)
-from .modelchoice import solve_default_model
+from .modelchoice import model_warnings, solve_default_model
 from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, Result,
                      WarningRecord, spread_result as _spread_result)
-from .spec import Flowsheet, Where
+from .spec import SheetSpec, Where
 
 
 
 # ------------------------------------------------------------------------------------------------
 # public entry points
 # ------------------------------------------------------------------------------------------------
-def make_fluid(fs: Flowsheet, model: str | None = None) -> Fluid:
+def make_fluid(fs: SheetSpec, model: str | None = None) -> Fluid:
     """The flowsheet's shared fluid (``fs.gas``), optionally on another model.
 
     Raises
@@ -94,12 +94,12 @@ def make_fluid(fs: Flowsheet, model: str | None = None) -> Fluid:
         raise exc.located(file=fs.source, field="gas" if model is None else "model") from None
 
 
-def solve(fs: Flowsheet, model: str | None = None) -> Result:
+def solve(fs: SheetSpec, model: str | None = None) -> Result:
     """Solve a flowsheet for its one case.
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
         From :func:`letdown.sheet.loader.load`.
     model : str, optional
         Thermodynamic model overriding ``fs.gas.model``.
@@ -119,13 +119,13 @@ def solve(fs: Flowsheet, model: str | None = None) -> Result:
     return solve_cases(fs, None, model=model, margins=True).case(0)
 
 
-def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
+def solve_cases(fs: SheetSpec, cases=None, model: str | None = None, *,
                 strict: bool = True, margins: bool = False) -> BatchResult:
     """Solve a flowsheet for many cases at once.
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     cases : Mapping[str, array_like], optional
         ``"<feed>.T"`` [K], ``"<feed>.P"`` [Pa], ``"<feed>.flow"`` [mol/s], ``"<feed>.zs"``
         (compositions, shape (n, nc) in the gas's component order), ``"<block>.<parameter>"``
@@ -173,15 +173,16 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
 
 
 def load(path) -> "Sheet":
-    """Read a flowsheet file into a :class:`Sheet`.
+    """Read a flowsheet file into a :class:`Sheet`, ready to solve (``letdown.load``; the parsed
+    file alone is :func:`letdown.sheet.loader.read_spec`).
 
     Raises
     ------
     InputError
         If the file is not a valid flowsheet (file, line and field in the message).
     """
-    from .loader import load as load_flowsheet
-    return Sheet(load_flowsheet(path))
+    from .loader import read_spec
+    return Sheet(read_spec(path))
 
 
 class Sheet:
@@ -189,27 +190,34 @@ class Sheet:
 
     Parameters
     ----------
-    flowsheet : Flowsheet
+    spec : SheetSpec
+        The parsed file (:func:`letdown.sheet.loader.read_spec`), kept as :attr:`spec`.
     """
 
-    def __init__(self, flowsheet: Flowsheet):
-        self.flowsheet = flowsheet
+    def __init__(self, spec: SheetSpec):
+        self.spec = spec
+
+    @property
+    def flowsheet(self) -> SheetSpec:
+        """Deprecated name of :attr:`spec` (the parsed file); kept because a guide showed it."""
+        warn("Sheet.flowsheet is now Sheet.spec", DeprecationWarning, stacklevel=2)
+        return self.spec
 
     @property
     def title(self) -> str:
         """The flowsheet's title."""
-        return self.flowsheet.title
+        return self.spec.title
 
     def solve(self, model: str | None = None) -> Result:
         """Solve the one case of the file (see :func:`solve`)."""
-        return solve(self.flowsheet, model=model)
+        return solve(self.spec, model=model)
 
     def solve_cases(self, cases=None, model: str | None = None, *, strict: bool = True):
         """Solve many cases at once (see :func:`solve_cases`)."""
-        return solve_cases(self.flowsheet, cases, model=model, strict=strict)
+        return solve_cases(self.spec, cases, model=model, strict=strict)
 
     def __repr__(self) -> str:
-        fs = self.flowsheet
+        fs = self.spec
         return (f"Sheet({fs.title!r}, {len(fs.feeds)} feeds, {len(fs.blocks)} blocks, "
                 f"{len(fs.goals)} goals)")
 
@@ -221,7 +229,7 @@ class _Engine(TearLoops, GoalSearch):
     further overrides (arrays aligned with ``sel``) -- how goals try values of their parameter.
     """
 
-    def __init__(self, fs: Flowsheet, fluid: Fluid, base: dict, n: int, strict: bool,
+    def __init__(self, fs: SheetSpec, fluid: Fluid, base: dict, n: int, strict: bool,
                  carry: bool = False):
         self.fs, self.fluid, self.base, self.n, self.strict = fs, fluid, base, n, strict
         # whether the streams carry the water and inhibitor beside the gas (letdown.equipment.
@@ -612,7 +620,7 @@ class _Engine(TearLoops, GoalSearch):
                               f"{min_T - 273.15:.2f} degC", tuple(np.flatnonzero(cold).tolist()),
                         kind="min_T", severity="hazard",
                         numbers={"T_K": stream.T, "min_T_K": min_T, "margin_K": stream.T - min_T}))
-        warnings.extend(self._model_warnings(ev))
+        warnings.extend(model_warnings(self.fluid, ev.streams))
         freezing = None
         doses: dict = {}
         given = inject_params(self.fs, ev.outcomes)
@@ -668,25 +676,6 @@ class _Engine(TearLoops, GoalSearch):
                            min_T=self.fs.limits.get("min_T"),
                            freezing_basis=None if freezing is None else
                            basis(self.fs, self.fluid))
-
-    def _model_warnings(self, ev) -> list:
-        """Where the model's data or tested range does not cover the flowsheet."""
-        out = []
-        fluid = self.fluid
-        if fluid.missing_kij and fluid.model != "gerg-2008":
-            pairs = ", ".join(f"{a}-{b}" for a, b in fluid.missing_kij)
-            out.append(WarningRecord("gas", f"no published interaction parameter for {pairs}; "
-                                            "taken as zero (set gas.kij to override)",
-                                      kind="kij_missing", severity="check"))
-        for name, stream in ev.streams.items():
-            flowing = stream.flow > 0
-            for reason, cases in out_of_range(fluid.model, stream.T, stream.P, stream.zs,
-                                              self.components):
-                cases = cases & flowing
-                if cases.any():
-                    out.append(WarningRecord(name, reason, tuple(np.flatnonzero(cases).tolist()),
-                                             kind="model_range", severity="check"))
-        return out
 
     def _stream_order(self) -> list:
         """Streams in calculation order: feeds, then each block's outlets."""
