@@ -17,24 +17,12 @@ import pytest
 from letdown.cli import main
 from letdown.errors import InputError
 from letdown.sheet.loader import read_spec, parse_spec
+from tests.stations import gate_station
 
 ROOT = Path(__file__).resolve().parents[1]
 GATE = ROOT / "flowsheets" / "gate-station.yaml"
 
-GOOD = """\
-title: bad input test
-gas:
-  model: peng-robinson
-  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
-  water: 50 mg/Sm3
-feeds:
-  supply: {T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}
-equipment:
-  preheat:   {kind: heater,   from: supply, to: warm,    T_out: 38 degC, dP: 0.3 bar}
-  regulator: {kind: throttle, from: warm,   to: network, P_out: 17 barg}
-goals:
-  - {hold: network.T, at: 5 degC, by: preheat.T_out, within: [0 degC, 90 degC]}
-"""
+GOOD = gate_station("bad input test", water="50 mg/Sm3", limits=False)
 
 
 def run(capsys, *argv):

@@ -34,6 +34,7 @@ from letdown.equipment import closures
 from tests.blocks import ENERGY_LIMIT, MOLE_LIMIT, assert_balanced, feed, fluid
 
 import letdown
+from tests.stations import gate_station
 
 
 def _mass_liquid(gas, stream):
@@ -128,17 +129,8 @@ def test_heater_on_an_empty_stream_is_neither_refused_nor_flagged():
     assert outcome.duty[0] == 0.0
 
 
-STATION = """\
-title: guard station
-gas:
-  model: peng-robinson
-  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
-feeds:
-  supply: {T: %s, P: 64 barg, flow: 85000 Sm3/h}
-equipment:
-  preheat:   {kind: heater,   from: supply, to: warm,    T_out: %s, dP: 0.3 bar}
-  regulator: {kind: throttle, from: warm,   to: network, P_out: 17 barg}
-%s"""
+STATION = gate_station("guard station", goal=False, limits=False, edits={
+    "T: 6 degC, P": "T: %s, P", "T_out: 38 degC": "T_out: %s", "17 barg}\n": "17 barg}\n%s"})
 GOAL = "goals:\n  - {hold: network.T, at: 5 degC, by: preheat.T_out, within: [-40 degC, 90 degC]}\n"
 
 
@@ -430,20 +422,9 @@ def test_wet_compressor_and_expander_warnings_carry_their_liquid_fractions():
         high["numbers"]["liquid_mass_fraction"])
 
 
-TRIM = """\
-title: guard trim cooler
-gas:
-  model: peng-robinson
-  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
-feeds:
-  supply: {T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}
-equipment:
-  preheat:   {kind: heater,   from: supply,  to: warm,    T_out: 38 degC, dP: 0.3 bar}
-  regulator: {kind: throttle, from: warm,    to: network, P_out: 17 barg}
-  trim:      {kind: cooler,   from: network, to: town,    T_out: %s}
-goals:
-  - {hold: network.T, at: 5 degC, by: preheat.T_out, within: [-40 degC, 90 degC]}
-"""
+TRIM = gate_station("guard trim cooler", limits=False, edits={
+    "17 barg}\n": "17 barg}\n  trim:      {kind: cooler,   from: network, to: town,    T_out: %s}\n",
+    "within: [0 degC": "within: [-40 degC"})
 
 
 def test_a_goal_bracket_end_that_breaks_a_downstream_block_is_not_refused():

@@ -15,20 +15,14 @@ from letdown.sheet.loader import read_spec, parse_spec
 from letdown.sheet.measurements import read_csv, with_measurements
 from letdown.sheet.solve import solve_cases
 from letdown.study.compare import COVERAGE_95, compare, fit_parameter
+from tests.stations import gate_station
 
 GATE = "flowsheets/gate-station.yaml"
 
 #: The gate-station example with a fired preheater given its fuel (an invented demo station).
-FIRED = """title: fired preheat, fictional test station
-gas:
-  model: peng-robinson
-  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
-feeds:
-  supply: {T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}
-equipment:
-  preheat:   {kind: heater,   from: supply, to: warm,    fuel: 1300 kW, efficiency: 0.75, dP: 0.3 bar}
-  regulator: {kind: throttle, from: warm,   to: network, P_out: 17 barg}
-"""
+FIRED = gate_station("fired preheat, fictional test station", goal=False, limits=False,
+                     edits={"T_out: 38 degC, dP: 0.3 bar}": "fuel: 1300 kW, efficiency: 0.75, "
+                                                           "dP: 0.3 bar}"})
 
 #: Standard volume of one mole at 15 degC and 101.325 kPa (ISO 13443), ideal gas [m3/mol].
 SM3_PER_MOL = R * 288.15 / 101325.0

@@ -9,26 +9,12 @@ import pytest
 from letdown.errors import InputError, TopologyError
 from letdown.quantities import PSI
 from letdown.sheet.loader import parse_spec, read_spec, schema, schema_path
+from tests.stations import gate_station
 
 ROOT = Path(__file__).resolve().parents[1]
 EXAMPLES = sorted((ROOT / "flowsheets").glob("*.yaml"))
 
-GATE = """\
-title: test gate
-gas:
-  model: peng-robinson
-  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
-feeds:
-  supply: {T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}
-equipment:
-  preheat:   {kind: heater,   from: supply, to: warm,    T_out: 38 degC, dP: 0.3 bar}
-  regulator: {kind: throttle, from: warm,   to: network, P_out: 17 barg}
-goals:
-  - {hold: network.T, at: 5 degC, by: preheat.T_out, within: [0 degC, 90 degC]}
-limits:
-  min_T: 0 degC
-  hydrate_margin: 3 K
-"""
+GATE = gate_station("test gate")
 
 
 def bad(text, source="bad.yaml"):

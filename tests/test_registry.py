@@ -15,6 +15,7 @@ from letdown.sheet.loader import KINDS as LOADER_KINDS, parse_spec
 from letdown.sheet.measurements import BLOCK_ATTRIBUTES
 from letdown.sheet.schemagen import SCHEMA_PATH, generated, text
 from letdown.sheet.solve import solve
+from tests.stations import gate_station
 
 
 def test_the_shipped_schema_is_the_generated_one():
@@ -50,18 +51,11 @@ def test_each_declaration_is_consistent(name):
 
 
 # -- kind: filter, added through the registry alone ---------------------------------------------
-FILTERED = """\
-title: filter check (fictional)
-gas:
-  model: peng-robinson
-  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
-  water: 50 mg/Sm3
-feeds:
-  supply: {T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}
-equipment:
-  strainer:  {kind: filter,   from: supply, to: filtered, dP: DP}
-  regulator: {kind: throttle, from: filtered, to: network, P_out: 17 barg}
-"""
+FILTERED = gate_station("filter check (fictional)", water="50 mg/Sm3", goal=False, limits=False,
+                        edits={"  preheat:   {kind: heater,   from: supply, to: warm,    T_out: 38 degC, "
+                               "dP: 0.3 bar}\n": "  strainer:  {kind: filter,   from: supply, to: filtered, "
+                                                 "dP: DP}\n",
+                               "from: warm,   to: network": "from: filtered, to: network"})
 
 
 def test_a_filter_is_an_isenthalpic_pressure_drop():

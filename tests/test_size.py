@@ -12,6 +12,7 @@ from letdown.errors import InputError
 from letdown.sheet.loader import read_spec, parse_spec
 from letdown.sheet.solve import Sheet
 from letdown.study.size import size
+from tests.stations import gate_station
 
 ROOT = Path(__file__).resolve().parent.parent
 SIZING = ROOT / "flowsheets" / "sizing-station.yaml"
@@ -24,22 +25,9 @@ M_WATER = 18.01528e-3                # kg/mol
 LB = 0.45359237                      # kg
 PSIA = 6894.757293168                # Pa
 
-GATE = """
-title: hand-checked station
-gas:
-  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
-  WATER
-feeds:
-  supply: {T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}
-equipment:
-  preheat:   {kind: heater,   from: supply, to: warm,    T_out: 38 degC, dP: 0.3 bar}
-  regulator: {kind: throttle, from: warm,   to: network, P_out: 17 barg}
-goals:
-  - {hold: network.T, at: TARGET, by: preheat.T_out, within: [-10 degC, 90 degC]}
-limits:
-  min_T: 0 degC
-  hydrate_margin: 3 K
-"""
+GATE = "\n" + gate_station("hand-checked station", model=None, edits={
+    "0.0115}\n": "0.0115}\n  WATER\n", "at: 5 degC": "at: TARGET",
+    "within: [0 degC": "within: [-10 degC"})
 
 
 def gate(water="", target="5 degC"):

@@ -17,24 +17,13 @@ from letdown.errors import ConvergenceError, InputError
 from letdown.sheet.loader import parse_spec, read_spec
 from letdown.sheet.result import ENERGY_CLOSURE, MOLE_CLOSURE
 from letdown.sheet.solve import solve, solve_cases
+from tests.stations import gate_station
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "flowsheets"
 
-STATION = """\
-title: test station
-gas:
-  model: peng-robinson
-  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
-feeds:
-  supply: {T: 6 degC, P: 64 barg, flow: 85000 Sm3/h}
-equipment:
-  preheat:   {kind: heater,   from: supply, to: warm,    T_out: 38 degC, dP: 0.3 bar}
-  regulator: {kind: throttle, from: warm,   to: network, P_out: 17 barg}
-goals:
-  - {hold: network.T, at: 5 degC, by: preheat.T_out, within: [%s, %s]}
-limits:
-  min_T: %s
-"""
+STATION = gate_station("test station", edits={
+    "within: [0 degC, 90 degC]": "within: [%s, %s]",
+    "min_T: 0 degC\n  hydrate_margin: 3 K\n": "min_T: %s\n"})
 
 RECYCLE = """\
 title: test recycle
