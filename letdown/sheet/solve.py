@@ -100,7 +100,7 @@ def solve(fs: SheetSpec, model: str | None = None) -> Result:
     Parameters
     ----------
     fs : SheetSpec
-        From :func:`letdown.sheet.loader.load`.
+        From :func:`letdown.sheet.loader.read_spec`.
     model : str, optional
         Thermodynamic model overriding ``fs.gas.model``.
 
