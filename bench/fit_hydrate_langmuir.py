@@ -6,7 +6,7 @@ measured pressures: the lower quadruple point (weight 5), the upper one where th
 pure-gas hydrate points of the Colorado School of Mines hydrate data files (CH4.csv, C2H6.csv,
 C3H8.csv, CO2.csv, H2S.csv, N2.csv; the experimental papers are not named in the files) between
 262 and 303 K. Quadruple points: Sloan &
-Koh (2008) Table 4.1 (values from memory, see tests/test_hydrate_ice.py for which were checked).
+Koh (2008) Table 4.1 (values from memory, see tests/fluid/test_hydrate_ice.py for which were checked).
 """
 import numpy as np
 from scipy.optimize import least_squares

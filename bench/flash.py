@@ -24,7 +24,7 @@ sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."
 
 import letdown  # noqa: E402
 from _shared import BENCH_GAS, median_time  # noqa: E402
-from tests.test_flash_vs_thermo import thermo_flasher  # noqa: E402
+from tests.fluid.test_flash_vs_thermo import thermo_flasher  # noqa: E402
 
 T_IN, P_IN, P_OUT = 283.15, 70e5, 7e5
 N_YEAR = 8760

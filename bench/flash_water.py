@@ -3,7 +3,7 @@
 Run:  python bench/flash_water.py [--cases N] [--repeats R]
 
 Prints, from one run on this machine (median of R runs):
-* the LTS sheet of tests/test_separator_water.py with water as a component (LTS3: 0.1 % water,
+* the LTS sheet of tests/equipment/test_separator_water.py with water as a component (LTS3: 0.1 % water,
   cooled, throttled 70 -> 40 barg, three-phase drum) solved for N cases at once, the chiller
   outlet swept from 0 to 20 degC;
 * a batch P-T flash and a batch P-h flash (70 -> 40 barg) of N cases of that wet gas, and the
@@ -25,9 +25,9 @@ import numpy as np
 sys.path.insert(0, os.path.join(os.path.dirname(os.path.abspath(__file__)), ".."))
 
 import letdown  # noqa: E402
-from letdown.sheet.loader import loads  # noqa: E402
+from letdown.sheet.loader import parse_spec  # noqa: E402
 from letdown.sheet.solve import solve_cases  # noqa: E402
-from tests.test_separator_water import LTS3, PORTS3, WET  # noqa: E402
+from tests.equipment.test_separator_water import LTS3, PORTS3, WET  # noqa: E402
 from _shared import median_time  # noqa: E402
 
 
@@ -38,7 +38,7 @@ def main(argv=None):
     ap.add_argument("--profile", action="store_true", help="profile one sheet solve")
     args = ap.parse_args(argv)
     n = args.cases
-    fs = loads(LTS3 % PORTS3, source="lts3.yaml")
+    fs = parse_spec(LTS3 % PORTS3, source="lts3.yaml")
     T_out = np.linspace(273.15, 293.15, n)
 
     def sheet():

@@ -1,7 +1,7 @@
 """Fuzz the shipped flowsheets: mutate each file many ways and run ``solve --json`` and ``check``.
 
 Not a test (pytest never collects ``bench/``); a small fixed-seed slice runs in
-``tests/test_fuzz_files.py``. Each flowsheet in ``flowsheets/*.yaml`` is mutated ``--per-file``
+``tests/cli/test_fuzz_files.py``. Each flowsheet in ``flowsheets/*.yaml`` is mutated ``--per-file``
 times (default 1,500) by a fixed-seed generator, one to three mutations at a time:
 
 * lines: delete one, duplicate one, swap two, truncate the file at a random byte;

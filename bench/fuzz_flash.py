@@ -323,7 +323,7 @@ def _one_composition(tally, fluid, family, T, P, rng, thermo):
         _compare_scalar(tally, st, k, one, "PT")
     # independent references
     if thermo:
-        from tests.test_flash_vs_thermo import thermo_flasher
+        from tests.fluid.test_flash_vs_thermo import thermo_flasher
         pick = np.nonzero((rng.random(n) < THERMO_SHARE) & conv)[0]
         if pick.size and "water" not in fluid.components:
             flasher = thermo_flasher(fluid)

@@ -59,11 +59,11 @@ def one(cases: int, workers: int, profile: bool) -> dict:
 
     import numpy as np
 
-    from letdown.sheet.loader import load
+    from letdown.sheet.loader import read_spec
     from letdown.study.executors import make_executor
     from letdown.study.sweep import Variable, sweep
 
-    fs = load(GATE)
+    fs = read_spec(GATE)
     rng = np.random.default_rng(1)
     T = 273.15 + 15.0 * rng.random(cases)
     flow = (60000.0 + 30000.0 * rng.random(cases)) / 3600.0 * 101325.0 / (8.314462618 * 288.15)

@@ -18,7 +18,7 @@ import time
 
 import numpy as np
 
-from letdown.sheet.loader import load
+from letdown.sheet.loader import read_spec
 from letdown.sheet.solve import solve_cases
 from letdown.study.year import read_profile, year
 
@@ -43,7 +43,7 @@ def main(argv=None):
     except ImportError:
         kernels = "not built"
     print(f"{os.cpu_count()} cpus, compiled flash kernels {kernels}")
-    fs = load(GATE)
+    fs = read_spec(GATE)
     prof = read_profile(PROFILE)
     times = []
     for _ in range(args.repeats):

@@ -6,15 +6,18 @@ import pytest
 
 PKG = Path(__file__).resolve().parent.parent / "letdown"
 #: For each layer, the letdown modules it may import (beside itself).
-#: (``errors``, ``_version``, ``caution`` and ``constants`` are leaf modules every layer may use.)
+#: (``errors``, ``_version``, ``caution`` and ``constants`` are leaf modules every layer may use;
+#: ``derived``, the small figures of a stream's own numbers, is a leaf the sheet, studies and report
+#: share.)
 LEAVES = {"errors", "_version", "caution", "constants"}
 ALLOWED = {
     "numerics": set(),
+    "derived": set(),
     "fluid": LEAVES | {"numerics"},
     "equipment": LEAVES | {"fluid", "numerics"},
-    "sheet": LEAVES | {"fluid", "equipment", "quantities", "numerics"},
-    "study": LEAVES | {"fluid", "equipment", "quantities", "sheet", "numerics"},
-    "report": LEAVES | {"quantities"},
+    "sheet": LEAVES | {"fluid", "equipment", "quantities", "numerics", "derived"},
+    "study": LEAVES | {"fluid", "equipment", "quantities", "sheet", "numerics", "derived"},
+    "report": LEAVES | {"quantities", "derived"},
 }
 
 

@@ -2,7 +2,7 @@
 Found through a compressor at efficiency 0.00075 (exit 0, discharge 2000.0 K; now refused by the
 loader). Run from a letdown checkout: python bench/fuzz-finds/flash_ph_clamp_2000K.py -> was
 [1555.47 2000.] [ True  True]; fixed: [1555.47 2000.] [ True False] (the pure-fluid P-h answer must meet
-its target; tests/test_flash_bounds.py)."""
+its target; tests/fluid/test_flash_bounds.py)."""
 import numpy as np
 from letdown.fluid import Fluid
 g = Fluid({"propane": 1.0}, model="peng-robinson")

@@ -8,9 +8,9 @@ from .common import EXIT_OK
 def run(args) -> int:
     from ..fluid import Fluid
     from ..sheet.graph import build_graph, solve_order
-    from ..sheet.loader import load
+    from ..sheet.loader import read_spec
 
-    fs = load(args.file)
+    fs = read_spec(args.file)
     args.flowsheet = fs
     steps = solve_order(build_graph(fs))
     zs = dict(fs.gas.composition)

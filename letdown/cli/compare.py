@@ -11,13 +11,13 @@ from .common import EXIT_FAILED_SOLVE, EXIT_OK, record_targets, write_study_html
 def run(args) -> int:
     from ..fluid.fluid import canonical_model
     from ..report.compare import compare_text
-    from ..sheet.loader import load
+    from ..sheet.loader import read_spec
     from ..sheet.measurements import parse_fit, read_csv, with_measurements
     from ..study.compare import compare
 
     if args.within and not args.fit:
         raise InputError("--within goes with --fit", field="--within")
-    fs = load(args.file)
+    fs = read_spec(args.file)
     args.flowsheet = fs
     if args.data:
         fs = with_measurements(fs, read_csv(args.data, fs))

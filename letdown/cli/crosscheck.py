@@ -11,10 +11,10 @@ def run(args) -> int:
 
     from ..fluid.fluid import canonical_model
     from ..report.crosscheck import crosscheck_text
-    from ..sheet.loader import load
+    from ..sheet.loader import read_spec
     from ..study.crosscheck import crosscheck
 
-    fs = load(args.file)
+    fs = read_spec(args.file)
     args.flowsheet = fs
     models = None
     if args.models:

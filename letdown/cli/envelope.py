@@ -29,7 +29,7 @@ def run(args) -> int:
             except ValueError:
                 raise InputError(f"'{part.strip()}' is not a number", field="--lines") from None
     sheet = letdown.load(args.file)
-    spec = sheet.flowsheet
+    spec = sheet.spec
     args.flowsheet = spec
     atmosphere = spec.extra.get("atmosphere") if spec is not None else None
     result = sheet.solve(model=args.model) if args.model else sheet.solve()

@@ -177,7 +177,7 @@ def build_parser() -> argparse.ArgumentParser:
     return p
 
 
-#: The end of ``letdown --help``: the models and the unit spellings (tests/test_new_and_help.py
+#: The end of ``letdown --help``: the models and the unit spellings (tests/cli/test_new_and_help.py
 #: checks the lists against the model table and the unit parser).
 HELP_EPILOG = """\
 models (gas.model or --model):

@@ -1,5 +1,5 @@
 """The command-line reference (``docs/reference/cli.md``), generated from the parser itself, so it cannot
-drift from what the command accepts (``tests/test_cli_reference.py`` fails if the shipped file
+drift from what the command accepts (``tests/cli/test_cli_reference.py`` fails if the shipped file
 differs). Write it again after changing an option::
 
     python -m letdown.cli.reference

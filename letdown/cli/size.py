@@ -9,10 +9,10 @@ from .common import EXIT_FAILED_SOLVE, EXIT_OK, record_targets, write_study_html
 
 def run(args) -> int:
     from ..report.size import size_text
-    from ..sheet.loader import load
+    from ..sheet.loader import read_spec
     from ..study.size import size
 
-    fs = load(args.file)
+    fs = read_spec(args.file)
     args.flowsheet = fs
     record_targets(args)
     res = size(fs, efficiency=args.efficiency, model=args.model, free_water=args.free_water,

@@ -19,7 +19,7 @@ def run(args) -> int:
     target = csv_target(args.csv) if args.csv else None
     record_targets(args)
     sheet = letdown.load(args.file)
-    spec = getattr(sheet, "flowsheet", None)
+    spec = getattr(sheet, "spec", None)
     args.flowsheet = spec
     atmosphere = spec.extra.get("atmosphere") if spec is not None else None
     result = sheet.solve(model=args.model) if args.model else sheet.solve()

@@ -12,10 +12,10 @@ from .common import EXIT_FAILED_SOLVE, EXIT_OK, record_targets, write_study_html
 def run(args) -> int:
     """``letdown capacity`` and ``letdown upsets``: exit 1 when a case's capacity was not found
     (or, for upsets, a case of normal operation failed), with every case reported."""
-    from ..sheet.loader import load
+    from ..sheet.loader import read_spec
 
     record_targets(args)
-    fs = load(args.file)
+    fs = read_spec(args.file)
     args.flowsheet = fs
     atmosphere = fs.extra.get("atmosphere")
     if args.verb == "capacity":

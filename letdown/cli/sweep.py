@@ -11,12 +11,12 @@ from .common import (EXIT_FAILED_SOLVE, EXIT_OK, STUDY_UNITS_TEXT, csv_target, r
 
 def run(args) -> int:
     from ..report.sweep import sweep_files
-    from ..sheet.loader import load
+    from ..sheet.loader import read_spec
     from ..study.sweep import case_count, parse_variable, sweep
 
     from ..quantities import STANDARD_ATMOSPHERE
 
-    fs = load(args.file)
+    fs = read_spec(args.file)
     args.flowsheet = fs
     atm = (fs.extra.get("atmosphere") if fs.extra else None) or STANDARD_ATMOSPHERE
     if getattr(args, "sample", None) is not None:

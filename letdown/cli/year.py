@@ -10,11 +10,11 @@ from .common import (EXIT_FAILED_SOLVE, EXIT_OK, STUDY_UNITS_TEXT, csv_target, r
 
 def run(args) -> int:
     from ..report.year import year_files, year_text
-    from ..sheet.loader import load
+    from ..sheet.loader import read_spec
     from ..study.executors import make_executor
     from ..study.year import read_profile, year
 
-    fs = load(args.file)
+    fs = read_spec(args.file)
     args.flowsheet = fs
     atm = fs.extra.get("atmosphere") if fs.extra else None
     profile = read_profile(args.profile, atmosphere=atm)

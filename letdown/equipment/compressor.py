@@ -34,7 +34,7 @@ from .stream import flash_stream
 #: Steps of ln P on the polytropic path (and half as many for the extrapolation). Heun's error falls
 #: with the square of the step (measured: 5.3e-4, 1.3e-4, 3.4e-5 of the power for 10, 20, 40 steps
 #: at a pressure ratio of 10, efficiency 1); extrapolated from 20 and 10 steps it is about 4e-6.
-#: tests/test_equipment_compressor.py holds it to 1e-5.
+#: tests/equipment/test_equipment_compressor.py holds it to 1e-5.
 POLYTROPIC_STEPS = 20
 
 EFFICIENCY_KINDS = ("isentropic", "polytropic")

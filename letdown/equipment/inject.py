@@ -25,12 +25,12 @@ free water (:func:`letdown.fluid.aqueous.inhibitor.injection_rate`).
 
 A ``depression`` is met at a point **downstream** of this block, which is solved after it: the
 solver therefore finds the protected point from a solve of the sheet (the search stays in the
-sheet layer, :func:`letdown.sheet.freezing.protected_point`, since only the sheet knows the
+sheet layer, :func:`letdown.sheet.dosing.protected_point`, since only the sheet knows the
 graph), this module's :func:`dose` does the arithmetic, and the sheet is solved once more with the
 rate found (``params[common.DOSE_RATE]``), which :func:`run` adds (the inhibitor changes neither
 the gas nor the water, so that second solve repeats every other number). A ``rate`` is added in
 the first solve already. The sheet adds the dose's numbers
-(:func:`letdown.sheet.freezing.dose_details`: rate, aqueous wt %, the split to aqueous, vapour
+(:func:`letdown.sheet.dosing.dose_details`: rate, aqueous wt %, the split to aqueous, vapour
 and hydrocarbon liquid, the depression by each rule, the protected point) to this block's details.
 
 Engineering estimates; designs must follow local codes and be checked by qualified, licensed staff.

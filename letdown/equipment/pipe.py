@@ -23,7 +23,7 @@ cases at once. Over each step, with the mass flux ``G = m / A`` constant (``A = 
   corrector adds to ``Q`` the heat drawn by the temperature change the predictor saw from other
   causes ``c`` (expansion, lift), as the exact solution of ``F cp dT/dx = U_L (T_s - T) + F cp
   c / dx``: ``Q -= F cp c (1 - (1 - exp(-N)) / N)``, ``N = U_L dx / (F cp)``. The march is second
-  order: halving the step divides the error by four (measured, tests/test_equipment_pipe.py).
+  order: halving the step divides the error by four (measured, tests/equipment/test_equipment_pipe.py).
 
 Surroundings (``params["surroundings"]``, a dict with ``kind``):
 
@@ -60,7 +60,7 @@ from .stream import StreamBatch
 #: Default absolute roughness [m]: commercial steel, 0.045 mm (see the module docstring).
 ROUGHNESS_DEFAULT = 4.5e-5
 #: Default number of steps along the pipe [-]: with the trapezoid rule, a 50 km line losing a third
-#: of its pressure is integrated to about 0.01 % in pressure drop (tests/test_equipment_pipe.py).
+#: of its pressure is integrated to about 0.01 % in pressure drop (tests/equipment/test_equipment_pipe.py).
 STEPS = 20
 #: At most this many steps [-] (each costs two batch flashes).
 MAX_STEPS = 2000

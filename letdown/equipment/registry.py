@@ -11,7 +11,7 @@ Who reads it: :mod:`letdown.equipment` (``KINDS``: kind -> run), the loader and 
 (:mod:`letdown.sheet.kinds`: parameters, alternatives, ports), the measurements (what a reading may
 measure), the sweep and the comparison (a parameter's quantity kind), the solver (the numbers of a
 blank outcome) and the JSON Schema of the file format, which :mod:`letdown.sheet.schemagen`
-generates from this module (``tests/test_registry.py`` fails if the shipped schema differs).
+generates from this module (``tests/sheet/test_registry.py`` fails if the shipped schema differs).
 
 Adding a kind: write its module (``run``), declare it here, and test it. Its file entries then
 parse, validate (schema and loader), sweep and compare without further edits; a kind whose entries

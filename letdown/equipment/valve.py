@@ -60,7 +60,7 @@ extra source at the expander where the outlet Mach number exceeds 0.3. The gas s
 is the standard's: ``rho2 = rho1 P2 / P1`` and ``c2 = sqrt(gamma R T2 / M)`` with ``T2`` the
 model's outlet temperature. The equations were written from the standard's clause structure
 (recalled) and cross-checked against the independent implementation in the ``fluids`` package
-(tests/test_valve.py, within 0.01 dB on every regime).
+(tests/equipment/test_valve.py, within 0.01 dB on every regime).
 
 Constants not given by the user (their sources):
 

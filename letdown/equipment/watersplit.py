@@ -38,7 +38,7 @@ free water, and otherwise stays with the gas, shared by flow. The free water's s
 ``water`` port (free inhibitor [mol/s], the outlet holding no gas), or with the hydrocarbon liquid
 when the drum has no ``water`` port. The free water itself is split by :func:`split` (the file's
 water-content route), the inhibitor by the flash: the two agree to the flash's own water content
-(tests/test_threephase.py), not exactly. With water a component of the gas (a three-phase drum) the
+(tests/fluid/test_threephase.py), not exactly. With water a component of the gas (a three-phase drum) the
 water is the streams' own and only the inhibitor is split here.
 
 Engineering estimates; designs must follow local codes and be checked by qualified, licensed staff.

@@ -90,7 +90,7 @@ WATER_AND_HYDRATE = {
 
 
 #: The bias of each cubic model's hydrocarbon dew points against GERG-2008, one line for every
-#: dew-point output (measured in tests/test_dew_bias.py against CoolProp's multi-fluid model with the
+#: dew-point output (measured in tests/study/test_dew_bias.py against CoolProp's multi-fluid model with the
 #: GERG-2008 mixture parameters, on three invented test gases at 10-50 bar: a lean gas without
 #: butanes and two gases with butanes and heavier).
 DEW_POINT_BIAS = {
@@ -111,7 +111,7 @@ DEW_POINT_BIAS = {
 }
 
 #: Models whose water vapour pressure is poor below ``T`` [K], and by how much (measured in
-#: tests/test_water_alpha.py): a state with water below that temperature is flagged.
+#: tests/fluid/test_water_alpha.py): a state with water below that temperature is flagged.
 WATER_WEAK = {"soave-redlich-kwong": (400.0, "5-42 % low below 400 K (Soave alpha)")}
 
 

@@ -35,7 +35,7 @@ Data
 Range and accuracy
 ------------------
 Chung et al. report about 5-10 % for dense gases and nonpolar liquids. Measured here against
-CoolProp 8.0.0 (``tests/test_transport.py``, docs/models.md, "Transport properties"): methane,
+CoolProp 8.0.0 (``tests/fluid/test_transport.py``, docs/models.md, "Transport properties"): methane,
 ethane, nitrogen and a natural gas at 250-350 K and 1-100 bar (80 states). At the reference
 density, viscosity within 2.9 % and conductivity within 12 % (the largest near ethane's critical
 point, where Chung's method has no critical enhancement); through letdown's own Peng-Robinson
@@ -80,7 +80,7 @@ ASSOCIATION = {"water": 0.075908, "methanol": 0.215175}
 # Chung et al. (1988) dense-fluid viscosity coefficients E_i = a + b omega + c mu_r^4 + d kappa
 # (Poling 5th ed. Table 9-6), rows i = 1..10, columns a, b, c, d. Written from memory: no copy was
 # at hand to check them against; the CoolProp comparison (viscosity within 2.9 % at the reference
-# density to 100 bar, tests/test_transport.py) is their check.
+# density to 100 bar, tests/fluid/test_transport.py) is their check.
 _E = np.array([
     [6.324, 50.412, -51.680, 1189.0],
     [1.210e-3, -1.154e-3, -6.257e-3, 0.03728],
@@ -94,7 +94,7 @@ _E = np.array([
     [0.06863, 0.3479, 0.5926, -0.727],
 ])
 # Chung et al. (1988) dense-fluid conductivity coefficients B_i (Poling 5th ed. Table 10-4; the
-# same as the copy in chemicals 1.5.2 ``Chung_dense``, which tests/test_transport.py matches).
+# same as the copy in chemicals 1.5.2 ``Chung_dense``, which tests/fluid/test_transport.py matches).
 _B = np.array([
     [2.4166, 0.74824, -0.91858, 121.72],
     [-0.50924, -1.5094, -49.991, 69.983],
@@ -273,7 +273,7 @@ def lee_gonzalez_eakin(T, density, molar_mass):
     """Gas viscosity by Lee, Gonzalez & Eakin (1966): a second, independent estimate for gases.
 
     Lee, Gonzalez & Eakin, "The viscosity of natural gases", J. Pet. Technol. 18 (1966) 997-1000
-    (coefficients from memory, checked against CoolProp in ``tests/test_transport.py``: within
+    (coefficients from memory, checked against CoolProp in ``tests/fluid/test_transport.py``: within
     5.1 % for methane and 2.7 % for a natural gas at 250-350 K and 1-100 bar)::
 
         mu [cP] = 1e-4 K exp(X rho^Y),  rho in g/cm3

@@ -19,6 +19,7 @@ from typing import Any, Mapping
 
 import numpy as np
 
+from ..derived import liquid_volume_flow
 from ..quantities import STANDARD_ATMOSPHERE, format_number, unit_system
 
 #: Fixed decimals of the stream table's rows in the terminal (an engineer's stream table: 0.01 K,
@@ -74,14 +75,6 @@ def _get(obj, name, default=None):
     if isinstance(obj, Mapping):
         return obj.get(name, default)
     return getattr(obj, name, default)
-
-
-def _liquid_volume(flow, mass_flow, vapour_fraction, density) -> float:
-    """Volume flow of an all-liquid stream at its state [m3/s], NaN otherwise (the JSON's
-    ``liquid_volume_flow_m3_s``; the report reads the stream's own numbers)."""
-    if vapour_fraction == 0.0 and flow > 0.0 and density > 0.0:
-        return mass_flow / density
-    return float("nan")
 
 
 def _composition(stream, components, case) -> dict:
@@ -158,7 +151,7 @@ def stream_table(result, units: str = "si", *, case: int = 0, atmosphere: float 
     for n in names:
         st = streams[n]
         vals = [pick(_get(st, k), case) for k in ("flow", "mass_flow", "vapour_fraction", "density")]
-        lv = None if any(v is None for v in vals) else _liquid_volume(*vals)
+        lv = None if any(v is None for v in vals) else liquid_volume_flow(*vals)
         liquid.append(None if lv is None or not np.isfinite(lv) else u["liquid_volume_flow"](lv))
     if any(v is not None for v in liquid):
         rows.append((f"Liquid volume [{u['liquid_volume_flow'].label}]", *liquid))

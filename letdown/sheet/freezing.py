@@ -20,7 +20,7 @@ Where the water comes from (``gas.water``, :class:`letdown.sheet.spec.WaterSpec`
 * water listed in ``gas.composition``: each stream's own water fraction.
 
 How it moves: **inside the solve**, with the streams (:class:`letdown.equipment.stream.Carry`,
-attached to the feeds by :func:`feed_carries`). Each block passes it on in its own ``run``: by
+attached to the feeds by :func:`letdown.sheet.carried.feed_carries`). Each block passes it on in its own ``run``: by
 default the flow-weighted mean ratio of its inlets (a mixer blends; a splitter, heater, cooler,
 throttle, compressor, expander and any kind that does not override it keep it), an exchanger each
 side's own, a separator splits it (:mod:`letdown.equipment.watersplit`: the vapour and the
@@ -29,7 +29,7 @@ same route as the water dew point below, and the rest leaves as free water by th
 or with the liquid without one). A stream below its water dew point keeps its water in the count
 (it is the free water that can freeze or form hydrate). Loops settle the water in their tear
 iterations with the gas (:mod:`letdown.sheet.solve`). This module reads what the streams carry
-(:func:`water_flows`): free water [mol/s] (:class:`WaterCarry`) on a separator's ``water`` outlet,
+(:func:`letdown.sheet.carried.water_flows`): free water [mol/s] (:class:`letdown.sheet.carried.WaterCarry`) on a separator's ``water`` outlet,
 which holds no gas and whose water per dry gas is shown as NaN. Free water flowing from a
 ``water`` outlet into any block but a separator is not carried on (a note says so). Hydrocarbons
 dissolved in the free water are not counted: the water-free flash does not see the water.
@@ -38,18 +38,18 @@ With **water as a component** (listed in ``gas.composition``) the separator is a
 (:mod:`letdown.equipment.separator`) and each stream's water is its own water fraction.
 
 **Inhibitor** (``inject`` blocks, :mod:`letdown.equipment.inject`): carried the same way, per
-stream, as moles of methanol and of MEG per mole of dry gas (:func:`inhibitor_carried`), never in
+stream, as moles of methanol and of MEG per mole of dry gas (:func:`letdown.sheet.carried.inhibitor_carried`), never in
 the hydrocarbon flash; the gas's mole and energy balances do not see it. An ``inject`` block adds
 its dose in its run; a separator splits it with its phases, whichever way the water is carried
 (:func:`letdown.equipment.watersplit.split_inhibitor`: the three-phase split at the drum with
 ``losses: equilibrium``, all with the free water with ``losses: none``); the others carry it as
 the water. A block sized by ``depression`` protects the coldest gas-carrying stream downstream
-(:func:`protected_point`: never a separator's ``water`` or ``liquid`` outlet), which is solved
-after it: the solver finds that point from a solve (:func:`find_doses`, the search over the graph,
+(:func:`letdown.sheet.dosing.protected_point`: never a separator's ``water`` or ``liquid`` outlet), which is solved
+after it: the solver finds that point from a solve (:func:`letdown.sheet.dosing.find_doses`, the search over the graph,
 with the block's own arithmetic, :func:`letdown.equipment.inject.dose`) and runs the blocks again
 with the rate found. A dose that did not converge, has no gas to protect, or exceeds
-:data:`MAX_DOSE_TO_GAS` of the gas mass is refused: NaN, a hazard record ``inhibitor_dose``, and
-the case marked not converged (:func:`_check_dose`). With all of a stream's water taken as free
+:data:`letdown.sheet.dosing.MAX_DOSE_TO_GAS` of the gas mass is refused: NaN, a hazard record ``inhibitor_dose``, and
+the case marked not converged (:func:`letdown.sheet.dosing._check_dose`). With all of a stream's water taken as free
 water, the stream's aqueous phase holds ``inhibitor_wt_pct`` (:func:`aqueous`), and its hydrate
 temperature is found with the water activity a_w = gamma_w x_w of that phase (gamma_w at the
 hydrate temperature, :func:`letdown.fluid.aqueous.inhibitor.water_activity_coefficient`; reported as
@@ -59,7 +59,8 @@ aqueous phase comes instead from the split of water and inhibitor at the stream'
 (:func:`aqueous_equilibrium`).
 
 What stays here is the margin calculation: water dew points, hydrate temperatures, ice, the
-warnings.
+warnings. The water and inhibitor the streams carried are read by :mod:`letdown.sheet.carried`;
+the inject blocks' doses are found by :mod:`letdown.sheet.dosing`.
 
 Per stream and case:
 
@@ -85,7 +86,7 @@ result (:func:`basis`: the margin and its source, the water, the rules below). T
 (:func:`freezing_warnings`; one record per stream and cause; ``m`` = ``limits.hydrate_margin``,
 or :data:`DEFAULT_HYDRATE_MARGIN` = 3 K, common practice, when absent):
 
-* hydrate warnings only on streams that carry gas (:func:`gas_carrying`: not a separator's
+* hydrate warnings only on streams that carry gas (:func:`letdown.sheet.carried.gas_carrying`: not a separator's
   ``water`` or hydrocarbon ``liquid`` outlet, not all liquid) and water: none on a hydrocarbon
   liquid or a dry refrigerant loop;
 * **hydrate** (hazard) where ``T < hydrate_T + m`` and ``T <= water_dew_T``: hydrate needs water,
@@ -114,18 +115,18 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from ..equipment.inject import PARAM_DETAILS, ProtectedPoint, dose
-from ..equipment.stream import INHIBITOR_NAMES, Carry
+from ..equipment.stream import INHIBITOR_NAMES
 from ..equipment.watersplit import dry_flow
-from ..errors import ConvergenceError, InputError
+from ..errors import ConvergenceError
 from ..fluid.aqueous.hydrate import LANGMUIR
 from ..fluid.aqueous.solution import density as aqueous_density, freezing_point
 from ..fluid.aqueous.inhibitor import INHIBITORS, water_activity_coefficient
 from ..fluid.aqueous.inhibitor import _solution_hydrate_T as solution_hydrate_T
 from ..fluid.aqueous.losses import partition
-from ..fluid.aqueous.water import (M_WATER, MOL_PER_SCF, MOL_PER_SM3, LB, DEW_T_RANGE,
-                                   water_content, water_dew_point)
-from .graph import downstream_streams
+from ..fluid.aqueous.water import (M_WATER, MOL_PER_SM3, DEW_T_RANGE, water_content,
+                                   water_dew_point)
+from .carried import gas_carrying, inhibitor_carried, water_flows
+from .dosing import dose_details, find_doses
 from .result import WarningRecord
 
 #: The ice point used for the ice margin [K] (pure water at about 1 atm; the depression by pressure,
@@ -208,346 +209,6 @@ class StreamFreezing:
     def water_mg_Sm3(self) -> np.ndarray:
         """Water per standard cubic metre of dry gas (15 degC, 101.325 kPa) [mg/Sm3]."""
         return self.water_ratio * MOL_PER_SM3 * M_WATER * 1e6
-
-
-def ratio_from_spec(water, fluid, method: str, T=None, P=None) -> np.ndarray:
-    """Water per dry gas [mol/mol] from a :class:`WaterSpec` (or, with ``water=None``, saturated at
-    ``T`` [K], ``P`` [Pa]).
-
-    Raises
-    ------
-    InputError
-        An unknown water method or a state outside the correlation's inputs (located by the caller).
-    """
-    if water is None:
-        y = np.asarray(water_content(fluid, np.asarray(T, float), np.asarray(P, float),
-                                     method=method), dtype=float)
-        return y / (1.0 - y)
-    if water.kind == "mole_fraction":
-        return np.asarray(water.value / (1.0 - water.value))
-    if water.kind == "mg_Sm3":
-        return np.asarray(water.value * 1e-6 / M_WATER / MOL_PER_SM3)
-    if water.kind == "lb_MMscf":
-        return np.asarray(water.value * 1e-6 * LB / M_WATER / MOL_PER_SCF)
-    y = float(np.asarray(water_content(fluid, water.T, water.P, method=method)).reshape(-1)[0])
-    return np.asarray(y / (1.0 - y))
-
-
-def feed_carries(fs, fluid, streams) -> dict:
-    """The water every feed carries beside its gas, from ``gas.water`` (module docstring): feed
-    name -> :class:`letdown.equipment.stream.Carry` (no free water). The solver attaches it to
-    the feeds; the blocks carry it on.
-
-    Raises
-    ------
-    InputError
-        A water method or a feed state the water-content route cannot take, located at
-        ``gas.water``.
-    """
-    water = fs.gas.water
-    method = fs.gas.water_method
-    out = {}
-    where = water.where if water is not None else None
-    try:
-        for name in fs.feeds:
-            s = streams[name]
-            r = ratio_from_spec(water, fluid, method, s.T, s.P)
-            r = np.broadcast_to(r, s.T.shape).astype(float)
-            out[name] = Carry(r, np.zeros(r.shape))
-    except InputError as exc:
-        raise exc.located(file=(where.file if where else None) or fs.source,
-                          line=where.line if where else None, field="gas.water") from None
-    return out
-
-
-def _water_notes(fs, streams) -> list:
-    """The note that the water was assumed (no ``gas.water``)."""
-    if fs.gas.water is not None or not fs.feeds:
-        return []
-    return [WarningRecord(
-        "gas", "no gas.water given: each feed is taken as saturated with water at its own "
-               f"temperature and pressure ({fs.gas.water_method}); hydrate and water dew point "
-               "margins follow from that", tuple(range(next(iter(streams.values())).n_cases)),
-        kind="water_assumed", severity="note")]
-
-
-@dataclass(frozen=True, eq=False)
-class WaterCarry:
-    """The water of every stream and what each separator did with it.
-
-    Attributes
-    ----------
-    ratios : dict
-        Stream name -> water per dry gas, ndarray (n,) [mol/mol].
-    free : dict
-        Stream name -> free water with no gas to carry it, ndarray (n,) [mol/s]: a separator's
-        ``water`` outlet (or its ``liquid`` outlet when it has no ``water`` port and no
-        hydrocarbon liquid); absent for every other stream.
-    separators : dict
-        Separator name -> {``water_in_mol_s``, ``water_in_vapour_mol_s``,
-        ``water_in_liquid_mol_s``, ``free_water_mol_s``} over the cases [mol/s].
-    notes : list of WarningRecord
-    """
-
-    ratios: dict
-    free: dict
-    separators: dict
-    notes: list
-    water_index: int | None = None
-
-    def flow(self, name: str, stream) -> np.ndarray:
-        """All the water stream ``name`` carries [mol/s]: ratio times dry flow plus free water,
-        or, with water as a component (``water_index``), its water fraction times its flow."""
-        F = np.asarray(stream.flow, float)
-        if self.water_index is not None:
-            return np.asarray(stream.zs, float)[:, self.water_index] * F
-        return self.ratios[name] * F + self.free.get(name, np.zeros(stream.n_cases))
-
-
-def _drains(fs) -> dict:
-    """Separator name -> the stream its free water leaves by: its ``water`` outlet, or its
-    ``liquid`` outlet where it has no ``water`` port."""
-    return {b: spec.outlets.get("water", spec.outlets["liquid"])
-            for b, spec in fs.blocks.items() if spec.kind == "separator"}
-
-
-def water_flows(fs, fluid, streams, steps=None, outcomes=None) -> WaterCarry:
-    """The water of every stream: ratios per dry gas, free water, and each separator's split.
-
-    The solve carries the water with the streams (:class:`letdown.equipment.stream.Carry`: the
-    blocks pass it on, separators split it, :mod:`letdown.equipment.watersplit`, loops settle it
-    in their tear iterations); this reads it. Free water that flows on from a separator into
-    another block is not carried further (a note says so): a drum's water outlet normally ends at
-    a product. With water in ``gas.composition`` the ratios are each stream's own water fraction.
-
-    Parameters
-    ----------
-    fs : Flowsheet
-    fluid : Fluid
-    streams : Mapping[str, StreamBatch]
-        The solved streams (carrying their water, unless water is a component).
-    steps : sequence, optional
-        Not used (the solve order); kept for the callers.
-    outcomes : Mapping[str, BlockOutcome], optional
-        The blocks' outcomes: each separator's split from its details.
-
-    Returns
-    -------
-    WaterCarry
-    """
-    if "water" in fluid.components:
-        iw = fluid.components.index("water")
-        water = lambda s: np.asarray(streams[s].zs, float)[:, iw] * np.asarray(streams[s].flow,
-                                                                              float)
-        free, split = {}, {}
-        for block, spec in fs.blocks.items():
-            if spec.kind != "separator" or "water" not in spec.outlets:
-                continue
-            wat = spec.outlets["water"]
-            free[wat] = water(wat)
-            split[block] = {"water_in_mol_s": water(spec.inlets["in"]),
-                            "water_in_vapour_mol_s": water(spec.outlets["vapour"]),
-                            "water_in_liquid_mol_s": water(spec.outlets["liquid"]),
-                            "free_water_mol_s": free[wat]}
-        return WaterCarry({name: s.zs[:, iw] / np.maximum(1.0 - s.zs[:, iw], 1e-300)
-                           for name, s in streams.items()}, free, split, [], iw)
-    notes = _water_notes(fs, streams)
-    r = {name: np.asarray(s.carry.water_ratio, float) for name, s in streams.items()}
-    free = {s: np.asarray(streams[s].carry.free_water, float)
-            for s in _drains(fs).values() if s in streams}
-    split = {}
-    for block in _drains(fs):
-        details = (outcomes or {}).get(block)
-        details = {} if details is None else details.details
-        if "free_water_mol_s" in details:
-            split[block] = {k: details[k] for k in ("water_in_mol_s", "water_in_vapour_mol_s",
-                                                    "water_in_liquid_mol_s", "free_water_mol_s")}
-    for block, spec in fs.blocks.items():
-        if spec.kind == "separator":
-            continue
-        lost = [s for s in spec.inlets.values() if s in free and np.any(free[s] > 0.0)]
-        for s in lost:
-            notes.append(WarningRecord(block, f"the free water of stream '{s}' is not carried "
-                                              "through this block (only separators split water; "
-                                              "send a water outlet to a product)",
-                                       kind="water_not_carried", severity="check"))
-    return WaterCarry(r, free, split, notes)
-
-
-#: Streams within this of the coldest count as equally cold for the protected point [K].
-PROTECTED_T_TIE = 1e-6
-
-
-def gas_carrying(fs, streams, name) -> np.ndarray:
-    """Cases in which stream ``name`` carries gas [bool (n,)]: it flows, has a vapour (vapour
-    fraction above 0; a single dense phase named vapour-like counts), and is not a separator's
-    ``water`` or ``liquid`` outlet (free water, or a hydrocarbon liquid that left its gas in the
-    drum). Only such streams are protected points of an inhibitor dose and get hydrate warnings."""
-    s = streams[name]
-    out = (np.asarray(s.flow, float) > 0.0) & (np.nan_to_num(np.asarray(s.vapour_fraction,
-                                                                         float)) > 0.0)
-    for spec in fs.blocks.values():
-        if spec.kind == "separator" and name in (spec.outlets.get("water"),
-                                                 spec.outlets.get("liquid")):
-            return np.zeros(out.shape, bool)
-    return out
-
-
-def protected_point(fs, fluid, streams, water, block) -> ProtectedPoint:
-    """The coldest gas-carrying stream downstream of an ``inject`` block, per case (the point its
-    dose must protect; :class:`letdown.equipment.inject.ProtectedPoint`). Only streams that carry
-    gas count (:func:`gas_carrying`): never a separator's water outlet (free water only: sized
-    there, a dose per mole of gas became a dose per mole of water, 1e8 kg/h and more) nor its
-    hydrocarbon-liquid outlet. Of streams equally cold (to :data:`PROTECTED_T_TIE` K; a
-    separator's inlet and its vapour), the one carrying the most water per dry gas: the drum's
-    inlet with all the free water, not its saturated vapour. Cases with no gas-carrying stream
-    downstream get a NaN point (nothing to protect; the dose refuses them)."""
-    names = [s for s in downstream_streams(fs, block) if s in streams]
-    carries = np.stack([gas_carrying(fs, streams, s) for s in names])
-    T = np.stack([np.where(carries[k], np.asarray(streams[s].T, float), np.inf)
-                  for k, s in enumerate(names)])
-    n = T.shape[1]
-    W = np.stack([np.broadcast_to(np.asarray(water[s], float), (n,)) for s in names])
-    coldest = T <= T.min(axis=0) + PROTECTED_T_TIE
-    k = np.argmax(np.where(coldest & carries, np.nan_to_num(W, nan=-1.0), -np.inf), axis=0)
-    rows = np.arange(n)
-    none = ~carries.any(axis=0)
-    pick = lambda get: np.where(none, np.nan, np.stack([np.asarray(get(streams[s]), float)
-                                                        for s in names])[k, rows])
-    zs = np.stack([np.asarray(streams[s].zs, float) for s in names])[k, rows]
-    w = np.where(none, np.nan, W[k, rows])
-    inlet = fs.blocks[block].inlets["in"]
-    return ProtectedPoint(fluid, np.array(["" if none[i] else names[j] for i, j in enumerate(k)],
-                                          dtype=object),
-                          pick(lambda st: st.T), pick(lambda st: st.P), zs, w,
-                          dry_flow(fluid, streams[inlet]))
-
-
-#: An inhibitor dose above this fraction of the mass of the gas it is injected into is refused as
-#: not a hydrate-inhibitor dose [kg/kg]. Methanol doses at let-down stations and chilling trains
-#: are of the order of a kilogram per thousand standard cubic metres (about 0.1 % of the gas
-#: mass; from memory), aqueous need plus vapour losses; 2 % is our own bound, well above any
-#: design seen, far below the 1e8 kg/h that a dose sized on a water-only stream gave (issue 10).
-MAX_DOSE_TO_GAS = 0.02
-
-
-def _check_dose(block, d, inlet, water_kg_s, why=None) -> list:
-    """Refuse the cases of a dose that failed or is absurd against the gas and water it treats:
-    their rate becomes NaN (so no number is printed as if converged) and a hazard record
-    ``inhibitor_dose`` names them (the sheet marks those cases not converged). Returns the
-    records (empty when the dose is sound)."""
-    rate = np.asarray(d["rate_kg_s"], float)
-    gas_kg_s = np.asarray(inlet.mass_flow, float)
-    no_point = np.asarray([not s for s in d["protected_stream"]], bool)
-    # a rate the file gives is an input (checked where inputs are); a rate found is checked here
-    absurd = np.isfinite(rate) & (rate > MAX_DOSE_TO_GAS * gas_kg_s) & (d.get("spec") != "rate")
-    failed = ~np.isfinite(rate) & ~no_point if why is None else np.ones(rate.shape, bool)
-    out = []
-    for mask, text in (
-            (failed, why or "the dose is not a number (the inhibitor split at the protected "
-                            "point failed)"),
-            (no_point & ~failed & ~np.isfinite(rate), "no stream downstream carries gas to protect (only free water or "
-                                 "hydrocarbon liquid): a dose sized by depression has no point to "
-                                 "hold at"),
-            (absurd, "the dose found, {r:.4g} kg/h, is more than {lim:g} % of the "
-                     "{g:.4g} kg/h of gas it is injected into (water carried {w:.4g} kg/h): not "
-                     "a hydrate-inhibitor dose; check the water and the protected point")):
-        if not mask.any():
-            continue
-        i = int(np.flatnonzero(mask)[0])
-        out.append(WarningRecord(block, "inhibitor dose refused: " + text.format(
-            r=rate[i] * 3600.0, lim=100 * MAX_DOSE_TO_GAS, g=gas_kg_s[i] * 3600.0,
-            w=water_kg_s[i] * 3600.0), tuple(np.flatnonzero(mask).tolist()),
-            kind="inhibitor_dose", severity="hazard",
-            numbers={"rate_kg_s": rate.copy(), "gas_mass_flow_kg_s": gas_kg_s,
-                     "water_kg_s": np.asarray(water_kg_s, float),
-                     "max_dose_to_gas": MAX_DOSE_TO_GAS}))
-    bad = failed | absurd | (no_point & ~np.isfinite(rate))
-    if bad.any():
-        for key in ("rate_kg_s", "wt_pct", "aqueous_kg_s", "vapour_kg_s", "hc_liquid_kg_s",
-                    "depression_K", "depression_nielsen_bucklin_K", "depression_hydrate_model_K"):
-            d[key] = np.where(bad, np.nan, np.asarray(d[key], float))
-    return out
-
-
-def find_doses(fs, fluid, streams, steps, params=None, outcomes=None) -> tuple[dict, list]:
-    """The dose of every ``inject`` block: its protected point found downstream of it
-    (:func:`protected_point`, a search over the graph: it stays in the sheet layer), its dose by
-    the block's own arithmetic (:func:`letdown.equipment.inject.dose`), and the checks
-    (:func:`_check_dose`). The inhibitor changes neither the gas nor the water, so the streams of
-    any pass of the blocks serve; the solver then runs the blocks with the rates found, and each
-    ``inject`` block adds its dose in its own run (:mod:`letdown.sheet.solve`, Doses).
-
-    Parameters
-    ----------
-    fs, fluid, streams, steps
-        As for :func:`water_flows`; ``steps`` gives the order of the blocks.
-    params : Mapping[str, Mapping], optional
-        ``inject`` block name -> its parameters over the cases (SI; :func:`inject_params`);
-        default the file's.
-    outcomes : Mapping[str, BlockOutcome], optional
-        As for :func:`water_flows`.
-
-    Returns
-    -------
-    doses : dict
-        ``inject`` block name -> the :func:`letdown.equipment.inject.dose` dict (a refused rate
-        NaN).
-    notes : list of WarningRecord
-        Refused doses (``inhibitor_dose``) and large losses to the hydrocarbon liquid
-        (``inhibitor_hc_loss``).
-    """
-    n = next(iter(streams.values())).n_cases
-    doses: dict = {}
-    notes: list = []
-    water = water_flows(fs, fluid, streams, steps, outcomes)
-    order = [b for step in steps for b in step.blocks]
-    for block in order:
-        spec = fs.blocks[block]
-        if spec.kind != "inject":
-            continue
-        inlet = spec.inlets["in"]
-        try:
-            given = (params or {}).get(block, spec.params)
-            point = protected_point(fs, fluid, streams, water.ratios, block)
-            water_kg_s = water.flow(inlet, streams[inlet]) * M_WATER
-            try:
-                doses[block] = dose(block, given, water_kg_s, point)
-                why = None
-            except ConvergenceError as exc:
-                # refused below in every case: no number comes out of a failed search
-                doses[block] = dose(block, given, water_kg_s, ProtectedPoint(
-                    fluid, point.stream, np.full(n, np.nan), point.P, point.zs,
-                    point.water_ratio, point.flow))
-                why = f"the dose search did not converge ({exc.message})"
-        except InputError as exc:
-            w = spec.field_where.get(exc.field.rpartition(".")[2] if exc.field else "")
-            raise exc.located(file=(w.file if w else None) or fs.source,
-                              line=w.line if w else spec.where.line) from None
-        notes.extend(_check_dose(block, doses[block], streams[inlet], water_kg_s, why))
-        d = doses[block]
-        if d["losses"] == "equilibrium":
-            aq = np.asarray(d["aqueous_kg_s"], float)
-            lost = np.nan_to_num(np.asarray(d["hc_liquid_kg_s"], float))
-            if np.any(lost > aq):
-                notes.append(WarningRecord(block, "more inhibitor is lost to the hydrocarbon liquid "
-                                                  "than stays in the water: the equation's figure "
-                                                  "for that loss is likely high (no published "
-                                                  "methanol-hydrocarbon kij; README, closing "
-                                                  "limits); check the rate against field data",
-                                           kind="inhibitor_hc_loss", severity="check"))
-    return doses, notes
-
-
-def inhibitor_carried(fs, streams) -> tuple[dict, dict]:
-    """Inhibitor per dry gas of every stream, ndarray (n, k) [mol/mol] (k over
-    :data:`INHIBITOR_NAMES`), and the inhibitor sent with each separator's free water, ndarray
-    (n, k) [mol/s] (its ``water`` outlet, or its ``liquid`` outlet without one), as the solve
-    carried them (:class:`letdown.equipment.stream.Carry`)."""
-    ratios = {s: np.asarray(b.carry.inhibitor_ratio, float) for s, b in streams.items()}
-    free = {s: np.asarray(streams[s].carry.free_inhibitor, float)
-            for s in _drains(fs).values() if s in streams}
-    return ratios, free
 
 
 def aqueous(water_ratio, inhibitor_ratio) -> tuple[np.ndarray, np.ndarray]:
@@ -700,22 +361,22 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None, outcomes
     Parameters
     ----------
     fs, fluid, streams, steps
-        As for :func:`water_flows`.
+        As for :func:`letdown.sheet.carried.water_flows`.
     doses : dict, optional
         Filled with ``inject`` block name -> details for its outcome: ``inhibitor_rate_kg_s``
         [kg/s], ``inhibitor_wt_pct`` [wt %], ``hydrate_depression_K`` (Hammerschmidt at that
         wt %) [K], ``hydrate_depression_vdwp_K`` (outlet hydrate temperature without and with the
         inhibitor, vdW-P) [K]; and, with water as a component of the gas, with separator name
         -> its water: ``water_in_mol_s``, ``water_in_vapour_mol_s``, ``water_in_liquid_mol_s``,
-        ``free_water_mol_s`` [mol/s] and ``free_water_kg_s`` [kg/s] (:class:`WaterCarry`; with
+        ``free_water_mol_s`` [mol/s] and ``free_water_kg_s`` [kg/s] (:class:`letdown.sheet.carried.WaterCarry`; with
         the water beside the gas the separator reports its split itself,
         :mod:`letdown.equipment.watersplit`).
     params : Mapping[str, Mapping], optional
-        As for :func:`find_doses`.
+        As for :func:`letdown.sheet.dosing.find_doses`.
     outcomes : Mapping[str, BlockOutcome], optional
-        As for :func:`water_flows`.
+        As for :func:`letdown.sheet.carried.water_flows`.
     found : tuple, optional
-        The doses and their notes (:func:`find_doses`) the solver found; default found here.
+        The doses and their notes (:func:`letdown.sheet.dosing.find_doses`) the solver found; default found here.
 
     Returns
     -------
@@ -810,54 +471,6 @@ def stream_freezing(fs, fluid, streams, steps, doses=None, params=None, outcomes
             doses[b] = {**dose_details(d),
                         "hydrate_depression_vdwp_K": free - out[outs[m]].hydrate_T}
     return out, notes
-
-
-def inject_params(fs, outcomes) -> dict:
-    """The parameters each ``inject`` block ran with over the cases (cases and goals included),
-    from the values its outcome reports (:data:`letdown.equipment.inject.PARAM_DETAILS`)."""
-    out = {}
-    for name, outcome in outcomes.items():
-        spec = fs.blocks[name]
-        if spec.kind != "inject":
-            continue
-        p = {"inhibitor": spec.params.get("inhibitor", "methanol")}
-        p.update({k: spec.params[k] for k in ("sized_by", "losses") if k in spec.params})
-        for key, detail in PARAM_DETAILS.items():
-            if detail in outcome.details:
-                p[key] = outcome.details[detail]
-        out[name] = p
-    return out
-
-
-def inject_doses(fs, fluid, streams, steps, params=None, outcomes=None, found=None) -> dict:
-    """The ``inject`` blocks' details without the hydrate solves (for a solve without margins):
-    ``inhibitor_rate_kg_s``, ``inhibitor_wt_pct``, ``hydrate_depression_K`` (see
-    :func:`stream_freezing`), and the records of any dose refused (kind ``inhibitor_dose``);
-    ``found`` as for :func:`stream_freezing`."""
-    if not any(b.kind == "inject" for b in fs.blocks.values()):
-        return {}, []
-    block_doses, notes = found if found is not None else find_doses(fs, fluid, streams, steps,
-                                                                    params, outcomes)
-    return ({b: dose_details(d) for b, d in block_doses.items()},
-            [w for w in notes if w.kind == "inhibitor_dose"])
-
-
-def dose_details(d) -> dict:
-    """An ``inject`` block's details from its :func:`letdown.equipment.inject.dose` dict: the
-    rate, the aqueous wt % and the losses at the protected point, and the depression there by
-    each rule (keys as listed in :func:`stream_freezing`)."""
-    n = np.asarray(d["rate_kg_s"]).shape[0]
-    text = lambda v: np.full(n, v, dtype=object)
-    return {"inhibitor_rate_kg_s": d["rate_kg_s"], "inhibitor_wt_pct": d["wt_pct"],
-            "inhibitor_aqueous_kg_s": d["aqueous_kg_s"],
-            "inhibitor_to_vapour_kg_s": d["vapour_kg_s"],
-            "inhibitor_to_hc_liquid_kg_s": d["hc_liquid_kg_s"],
-            "hydrate_depression_K": d["depression_K"],
-            "hydrate_depression_nielsen_bucklin_K": d["depression_nielsen_bucklin_K"],
-            "hydrate_depression_hydrate_model_K": d["depression_hydrate_model_K"],
-            "sized_by": text(d["sized_by"]), "losses": text(d["losses"]),
-            "protected_stream": d["protected_stream"], "protected_T_K": d["protected_T_K"],
-            "protected_P_Pa": d["protected_P_Pa"]}
 
 
 def free_water(stream, water_dew_T, free=None) -> np.ndarray:

@@ -1,7 +1,7 @@
 """The flowsheet as a networkx graph: build it, check it, order it, tear its loops.
 
 Free functions over a plain graph (networkx habit): :func:`build_graph` turns a
-:class:`~letdown.sheet.spec.Flowsheet` into a ``networkx.MultiDiGraph`` (a subclass of
+:class:`~letdown.sheet.spec.SheetSpec` into a ``networkx.MultiDiGraph`` (a subclass of
 ``DiGraph``; several streams may join the same two blocks, e.g. a separator's vapour and liquid
 both going to one mixer, so edges are keyed by stream name):
 
@@ -24,7 +24,7 @@ from dataclasses import dataclass
 import networkx as nx
 
 from ..errors import TopologyError
-from .spec import Flowsheet, Where
+from .spec import SheetSpec, Where
 
 #: Above this many simple cycles in one component the exact tear search is not attempted and a
 #: greedy choice is used (``Step.exact`` is False). Flowsheet loops have a handful of cycles; the
@@ -60,7 +60,7 @@ class Step:
     exact: bool = True
 
 
-def downstream_streams(fs: Flowsheet, block: str) -> list:
+def downstream_streams(fs: SheetSpec, block: str) -> list:
     """The streams downstream of ``block``: its outlets and every stream reachable from them
     through the blocks (loops included once), nearest first."""
     seen: list = []
@@ -95,12 +95,12 @@ def _raise(message, where: Where | None, field: str | None, source):
                         line=where.line if where else None, field=field)
 
 
-def build_graph(fs: Flowsheet) -> nx.MultiDiGraph:
+def build_graph(fs: SheetSpec) -> nx.MultiDiGraph:
     """Build and check the flowsheet graph.
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
 
     Returns
     -------
@@ -215,8 +215,8 @@ def solve_order(G: nx.MultiDiGraph) -> list:
 
     Examples
     --------
-    >>> from letdown.sheet.spec import BlockSpec, FeedSpec, Flowsheet, GasSpec
-    >>> fs = Flowsheet("demo", GasSpec("peng-robinson", {"methane": 1.0}),
+    >>> from letdown.sheet.spec import BlockSpec, FeedSpec, SheetSpec, GasSpec
+    >>> fs = SheetSpec("demo", GasSpec("peng-robinson", {"methane": 1.0}),
     ...     {"a": FeedSpec("a", 300.0, 50e5, 1.0)},
     ...     {"mix": BlockSpec("mix", "mixer", {"in0": "a", "in1": "back"}, {"out": "b"}, {}),
     ...      "split": BlockSpec("split", "splitter", {"in": "b"}, {"c": "c", "back": "back"},

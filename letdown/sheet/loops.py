@@ -17,7 +17,7 @@ from .result import LoopRecord
 
 #: Wegstein's factor ``q`` is bounded to [Q_MIN, Q_MAX] = [-5, 0], the classical bounds (common
 #: practice): up to six-fold acceleration of a slowly converging variable, never damping. On the
-#: cold-separation loop of tests/test_solve.py damping (Q_MAX = 0.9) took 28 iterations and plain
+#: cold-separation loop of tests/sheet/test_solve.py damping (Q_MAX = 0.9) took 28 iterations and plain
 #: substitution 31, against 17 with these bounds (our measurement).
 WEGSTEIN_Q_MIN = -5.0
 WEGSTEIN_Q_MAX = 0.0

@@ -38,7 +38,7 @@ from ..errors import InputError
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow, parse_quantity
 from .inputtext import read_text
 from .kinds import MEASURABLE, PARAMETERS
-from .spec import Flowsheet, MeasurementSpec, Where
+from .spec import SheetSpec, MeasurementSpec, Where
 
 #: Stream quantities that may be measured, with their quantity kinds (:mod:`letdown.quantities`).
 STREAM_ATTRIBUTES = {"T": "temperature", "P": "pressure", "flow": "flow",
@@ -158,7 +158,7 @@ def parse_measurement(raw: dict, fs_parts, *, file, lines, field,
                            where=Where(file, lines.get("")), field=field)
 
 
-def stream_names(fs: Flowsheet) -> set:
+def stream_names(fs: SheetSpec) -> set:
     """Every stream of a flowsheet: its feeds and every block's outlets."""
     names = set(fs.feeds)
     for b in fs.blocks.values():
@@ -166,13 +166,13 @@ def stream_names(fs: Flowsheet) -> set:
     return names
 
 
-def read_csv(path, fs: Flowsheet) -> tuple:
+def read_csv(path, fs: SheetSpec) -> tuple:
     """Read measurements from a CSV file (columns ``at,value,uncertainty[,note]``, header first).
 
     Parameters
     ----------
     path : str or os.PathLike
-    fs : Flowsheet
+    fs : SheetSpec
         The flowsheet they belong to (for names and its atmosphere).
 
     Returns
@@ -232,17 +232,17 @@ def read_csv(path, fs: Flowsheet) -> tuple:
     return tuple(out)
 
 
-def with_measurements(fs: Flowsheet, more) -> Flowsheet:
+def with_measurements(fs: SheetSpec, more) -> SheetSpec:
     """The flowsheet with further measurements appended (a new value; ``fs`` is unchanged)."""
     return replace(fs, measurements=tuple(fs.measurements) + tuple(more))
 
 
-def parse_fit(fs: Flowsheet, parameter: str, within) -> tuple[str, tuple]:
+def parse_fit(fs: SheetSpec, parameter: str, within) -> tuple[str, tuple]:
     """Read ``--fit block.parameter --within LO HI``: the bracket in the parameter's units.
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     parameter : str
         ``block.parameter``.
     within : (str, str)

@@ -1,4 +1,5 @@
-"""The model a flowsheet without ``gas.model`` is solved with.
+"""The model a flowsheet without ``gas.model`` is solved with, and where a model does not cover a
+solved flowsheet (:func:`model_warnings`).
 
 A practitioner picks the reference equation for natural gas where it applies and a cubic equation
 where it does not:
@@ -24,6 +25,7 @@ import numpy as np
 from ..errors import ConvergenceError, LetdownError, ModelError
 from ..fluid.eos.gerg import GERG_NAMES
 from ..fluid.eos.gerg import _import as gerg_import
+from ..fluid.models import out_of_range
 from .result import BatchResult, WarningRecord
 
 #: The model for a file whose streams stay in one vapour-like phase and whose components GERG-2008
@@ -64,7 +66,7 @@ def solve_default_model(fs, solve_with) -> BatchResult:
 
     Parameters
     ----------
-    fs : letdown.sheet.spec.Flowsheet
+    fs : letdown.sheet.spec.SheetSpec
         A flowsheet whose file names no ``gas.model``.
     solve_with : callable
         ``solve_with(model) -> BatchResult``: the same solve on a named model.
@@ -110,3 +112,25 @@ def _noted(result: BatchResult, what: str) -> BatchResult:
     note = WarningRecord("gas", what, tuple(range(result.n_cases)), kind="model_choice",
                          severity="note")
     return replace(result, warnings=result.warnings + (note,))
+
+
+def model_warnings(fluid, streams) -> list:
+    """Where the model's data or tested range does not cover the flowsheet: pairs without a
+    published interaction parameter (``kij_missing``), and each flowing stream outside the model's
+    tested range (``model_range``, :func:`letdown.fluid.models.out_of_range`)."""
+    out = []
+    if fluid.missing_kij and fluid.model != "gerg-2008":
+        pairs = ", ".join(f"{a}-{b}" for a, b in fluid.missing_kij)
+        out.append(WarningRecord("gas", f"no published interaction parameter for {pairs}; "
+                                        "taken as zero (set gas.kij to override)",
+                                  kind="kij_missing", severity="check"))
+    components = tuple(fluid.components)
+    for name, stream in streams.items():
+        flowing = stream.flow > 0
+        for reason, cases in out_of_range(fluid.model, stream.T, stream.P, stream.zs,
+                                          components):
+            cases = cases & flowing
+            if cases.any():
+                out.append(WarningRecord(name, reason, tuple(np.flatnonzero(cases).tolist()),
+                                         kind="model_range", severity="check"))
+    return out

@@ -23,6 +23,7 @@ import numpy as np
 
 from ..equipment import StreamBatch, closures
 from ..caution import CAUTION
+from ..derived import liquid_volume_flow
 from ..errors import ConvergenceError
 from ..fluid.aqueous.inhibitor import INHIBITORS
 from ..fluid.aqueous.water import M_WATER
@@ -186,20 +187,6 @@ class StreamResult:
                 **(dict(self.freezing) if self.freezing is not None else {}),
                 **(dict(self.quality) if self.quality is not None else {}),
                 **(dict(self.dew) if self.dew is not None else {})}
-
-
-def liquid_volume_flow(flow, mass_flow, vapour_fraction, density):
-    """Volume flow of an all-liquid stream at its own temperature and pressure [m3/s] (an NGL or
-    condensate line: mass flow over density), NaN for a stream with vapour or no flow.
-
-    >>> liquid_volume_flow(1.0, 0.5, 0.0, 500.0)
-    0.001
-    """
-    flow, mass_flow, vf, rho = (np.asarray(v, dtype=float) for v in
-                                (flow, mass_flow, vapour_fraction, density))
-    with np.errstate(divide="ignore", invalid="ignore"):
-        out = np.where((vf == 0.0) & (flow > 0.0) & (rho > 0.0), mass_flow / rho, np.nan)
-    return float(out) if out.ndim == 0 else out
 
 
 def _gas_quality(components, zs) -> dict | None:

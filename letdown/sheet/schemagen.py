@@ -2,7 +2,7 @@
 (:data:`letdown.equipment.registry.REGISTRY`).
 
 The shipped ``flowsheet.schema.json`` holds the whole format; its ``$defs/block`` (the kind switch)
-and ``$defs/<kind>`` of every kind are this module's output, and ``tests/test_registry.py`` fails
+and ``$defs/<kind>`` of every kind are this module's output, and ``tests/sheet/test_registry.py`` fails
 if they differ. After declaring or changing a kind, write the file again::
 
     python -m letdown.sheet.schemagen

@@ -25,7 +25,7 @@ Loops
 Doses
     An ``inject`` block sized by ``depression`` protects the coldest gas-carrying stream downstream
     of it, solved after it. The solve therefore runs once, the protected point of each such block
-    is found from it (:func:`letdown.sheet.freezing.find_doses`; the block's own
+    is found from it (:func:`letdown.sheet.dosing.find_doses`; the block's own
     :func:`letdown.equipment.inject.dose` does the arithmetic), and the blocks run once more with
     the rates found (``params[common.DOSE_RATE]``), which each ``inject`` block adds to the
     inhibitor it carries. The inhibitor changes neither the gas nor the water, so that pass
@@ -42,45 +42,45 @@ Goals
     two bracket ends are evaluated together (one batch of ``2 n`` cases), then all cases iterate
     with the Illinois root finder of :mod:`letdown.numerics.rootfind`. Several goals nest, the
     first outermost.
+
+The case axis (the case variables checked and broadcast, the taking and spreading of the cases
+that leave a pass) is :mod:`letdown.sheet.casebatch`; the loops and goals are the engine's mixins
+:class:`letdown.sheet.loops.TearLoops` and :class:`letdown.sheet.goals.GoalSearch`.
 """
 from __future__ import annotations
 
 import dataclasses
-import re
+from warnings import warn
 
 import numpy as np
 
-from ..equipment import KINDS, BlockOutcome, Carry, StreamBatch, closures, flash_stream
+from ..equipment import KINDS, Carry, closures, flash_stream
 from ..equipment.common import BY_GOAL, DOSE_RATE, INHIBITOR_EQUILIBRIUM, TRIAL, WATER_METHOD
 from ..errors import ConvergenceError, InputError
 from ..fluid import Fluid
-from ..fluid.models import out_of_range
-from .freezing import (basis, feed_carries, find_doses, freezing_warnings, inject_doses,
-                       inject_params, stream_freezing)
+from .carried import feed_carries
+from .dosing import find_doses, inject_doses, inject_params
+from .freezing import basis, freezing_warnings, stream_freezing
+from .casebatch import (FEED_FIELDS, CASE_TEXT, _blank_stream, _case_arrays,  # noqa: F401
+                        _refusal_text, _spread_loop, _spread_outcome, _spread_stream,
+                        _take_outcome)  # (FEED_FIELDS re-exported: the sweep reads it)
 from .blockflags import FLAG_KINDS, flag_warning, limit_warnings  # noqa: F401 (FLAG_KINDS: block flag -> kind)
 from .evaluation import _CasesFailed, _Evaluation, _LoopEnd  # noqa: F401 (_LoopEnd re-exported)
 from .goals import GOAL_RELATIVE_FLOOR, UNITS, GoalSearch  # noqa: F401 (re-exported)
 from .graph import build_graph, solve_order
 from .loops import (CARRY_MAX_PASSES, CARRY_TOLERANCE, FLOW_TOLERANCE,  # noqa: F401 (re-exported)
                     WEGSTEIN_Q_MAX, WEGSTEIN_Q_MIN, TearLoops)
-from .kinds import NUMBERS
-from .modelchoice import solve_default_model
-from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, LoopRecord, Result,
-                     WarningRecord, _spread, spread_result as _spread_result)
-from .spec import Flowsheet, Where
+from .modelchoice import model_warnings, solve_default_model
+from .result import (ENERGY_CLOSURE, MOLE_CLOSURE, BatchResult, EquipmentBatch, Result,
+                     WarningRecord, spread_result as _spread_result)
+from .spec import SheetSpec, Where
 
-
-
-FEED_FIELDS = ("T", "P", "flow")
-
-#: The batch index a block puts in its messages (``common.case_text``).
-CASE_TEXT = re.compile(r" \(case \d+\)")
 
 
 # ------------------------------------------------------------------------------------------------
 # public entry points
 # ------------------------------------------------------------------------------------------------
-def make_fluid(fs: Flowsheet, model: str | None = None) -> Fluid:
+def make_fluid(fs: SheetSpec, model: str | None = None) -> Fluid:
     """The flowsheet's shared fluid (``fs.gas``), optionally on another model.
 
     Raises
@@ -94,13 +94,13 @@ def make_fluid(fs: Flowsheet, model: str | None = None) -> Fluid:
         raise exc.located(file=fs.source, field="gas" if model is None else "model") from None
 
 
-def solve(fs: Flowsheet, model: str | None = None) -> Result:
+def solve(fs: SheetSpec, model: str | None = None) -> Result:
     """Solve a flowsheet for its one case.
 
     Parameters
     ----------
-    fs : Flowsheet
-        From :func:`letdown.sheet.loader.load`.
+    fs : SheetSpec
+        From :func:`letdown.sheet.loader.read_spec`.
     model : str, optional
         Thermodynamic model overriding ``fs.gas.model``.
 
@@ -119,13 +119,13 @@ def solve(fs: Flowsheet, model: str | None = None) -> Result:
     return solve_cases(fs, None, model=model, margins=True).case(0)
 
 
-def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
+def solve_cases(fs: SheetSpec, cases=None, model: str | None = None, *,
                 strict: bool = True, margins: bool = False) -> BatchResult:
     """Solve a flowsheet for many cases at once.
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     cases : Mapping[str, array_like], optional
         ``"<feed>.T"`` [K], ``"<feed>.P"`` [Pa], ``"<feed>.flow"`` [mol/s], ``"<feed>.zs"``
         (compositions, shape (n, nc) in the gas's component order), ``"<block>.<parameter>"``
@@ -173,15 +173,16 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
 
 
 def load(path) -> "Sheet":
-    """Read a flowsheet file into a :class:`Sheet`.
+    """Read a flowsheet file into a :class:`Sheet`, ready to solve (``letdown.load``; the parsed
+    file alone is :func:`letdown.sheet.loader.read_spec`).
 
     Raises
     ------
     InputError
         If the file is not a valid flowsheet (file, line and field in the message).
     """
-    from .loader import load as load_flowsheet
-    return Sheet(load_flowsheet(path))
+    from .loader import read_spec
+    return Sheet(read_spec(path))
 
 
 class Sheet:
@@ -189,128 +190,36 @@ class Sheet:
 
     Parameters
     ----------
-    flowsheet : Flowsheet
+    spec : SheetSpec
+        The parsed file (:func:`letdown.sheet.loader.read_spec`), kept as :attr:`spec`.
     """
 
-    def __init__(self, flowsheet: Flowsheet):
-        self.flowsheet = flowsheet
+    def __init__(self, spec: SheetSpec):
+        self.spec = spec
+
+    @property
+    def flowsheet(self) -> SheetSpec:
+        """Deprecated name of :attr:`spec` (the parsed file); kept because a guide showed it."""
+        warn("Sheet.flowsheet is now Sheet.spec", DeprecationWarning, stacklevel=2)
+        return self.spec
 
     @property
     def title(self) -> str:
         """The flowsheet's title."""
-        return self.flowsheet.title
+        return self.spec.title
 
     def solve(self, model: str | None = None) -> Result:
         """Solve the one case of the file (see :func:`solve`)."""
-        return solve(self.flowsheet, model=model)
+        return solve(self.spec, model=model)
 
     def solve_cases(self, cases=None, model: str | None = None, *, strict: bool = True):
         """Solve many cases at once (see :func:`solve_cases`)."""
-        return solve_cases(self.flowsheet, cases, model=model, strict=strict)
+        return solve_cases(self.spec, cases, model=model, strict=strict)
 
     def __repr__(self) -> str:
-        fs = self.flowsheet
+        fs = self.spec
         return (f"Sheet({fs.title!r}, {len(fs.feeds)} feeds, {len(fs.blocks)} blocks, "
                 f"{len(fs.goals)} goals)")
-
-
-# ------------------------------------------------------------------------------------------------
-# cases
-# ------------------------------------------------------------------------------------------------
-def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
-    """Check the case keys and broadcast their values to one length."""
-    if not cases:
-        return {}, 1
-    arrays = {}
-    for key, values in cases.items():
-        name, _, attr = str(key).partition(".")
-        if name.startswith("goal") and name[4:].isdigit() and name not in fs.feeds \
-                and name not in fs.blocks:
-            ok = attr == "at" and 1 <= int(name[4:]) <= len(fs.goals)
-        elif name in fs.feeds:
-            ok = attr in FEED_FIELDS or attr == "zs"
-        elif name in fs.blocks:
-            ok = bool(attr) and attr != "fractions"
-        else:
-            ok = False
-        if not ok:
-            raise InputError(f"unknown case variable '{key}' (use <feed>.T, <feed>.P, <feed>.flow, "
-                             "<feed>.zs, <block>.<parameter> or goal<k>.at)", field=f"cases.{key}")
-        if attr == "zs":
-            a = np.atleast_2d(np.asarray(values, dtype=float))
-            if np.any(a < 0) or np.any(np.abs(a.sum(axis=1) - 1.0) > 1e-6):
-                raise InputError(f"case compositions '{key}' must be non-negative and sum to 1",
-                                 field=f"cases.{key}")
-            arrays[key] = a
-        else:
-            arrays[key] = np.atleast_1d(np.asarray(values, dtype=float))
-    lengths = {a.shape[0] for a in arrays.values() if a.shape[0] != 1}
-    if len(lengths) > 1:
-        raise InputError(f"case arrays have different lengths {sorted(lengths)}", field="cases")
-    n = lengths.pop() if lengths else 1
-    return {k: np.broadcast_to(a, (n,) + a.shape[1:]).copy() for k, a in arrays.items()}, n
-
-
-
-#: Which of duty, power and dP each kind of block reports: the blank outcome of a block that no
-#: case of a batch reached (every case failed before it) has the same fields as a solved one.
-KIND_NUMBERS = NUMBERS
-
-
-def _blank_stream(n: int, nc: int) -> StreamBatch:
-    """A stream of ``n`` failed cases: every number NaN, ``converged`` false."""
-    nan, nan2 = np.full(n, np.nan), np.full((n, nc), np.nan)
-    return StreamBatch(flow=nan, T=nan, P=nan, zs=nan2, h=nan, s=nan, Z=nan, density=nan,
-                       molar_mass=nan, vapour_fraction=nan, ys=nan2, xs=nan2,
-                       converged=np.zeros(n, dtype=bool))
-
-
-def _spread_stream(stream: StreamBatch | None, idx, n: int, nc: int) -> StreamBatch:
-    blank = _blank_stream(n, nc)
-    return blank if stream is None else blank.put(idx, stream)
-
-
-def _take_outcome(o: BlockOutcome, keep) -> BlockOutcome:
-    """The cases ``keep`` (bool mask) of a block's outcome."""
-    def t(a):
-        return None if a is None else np.asarray(a)[keep]
-    return BlockOutcome(outlets={p: s.take(keep) for p, s in o.outlets.items()},
-                        energy_in=t(o.energy_in), duty=t(o.duty), power=t(o.power), dP=t(o.dP),
-                        mole_closure=t(o.mole_closure), energy_closure=t(o.energy_closure),
-                        details={k: (v if isinstance(v, str) or np.ndim(v) == 0 else t(v))
-                                 for k, v in o.details.items()},
-                        flags={k: t(v) for k, v in o.flags.items()})
-
-
-def _spread_outcome(o: BlockOutcome | None, kind: str, outlets: dict, idx, n: int) -> BlockOutcome:
-    """A block's outcome over ``n`` cases from that of the cases ``idx`` (None: no case reached
-    the block), blank elsewhere."""
-    if o is None:
-        nan = np.full(n, np.nan)
-        numbers = KIND_NUMBERS[kind]
-        return BlockOutcome(outlets=outlets, energy_in=nan, mole_closure=nan, energy_closure=nan,
-                            **{k: nan for k in numbers})
-    return BlockOutcome(outlets=outlets, energy_in=_spread(o.energy_in, idx, n),
-                        duty=_spread(o.duty, idx, n), power=_spread(o.power, idx, n),
-                        dP=_spread(o.dP, idx, n), mole_closure=_spread(o.mole_closure, idx, n),
-                        energy_closure=_spread(o.energy_closure, idx, n),
-                        details={k: _spread(v, idx, n) for k, v in o.details.items()},
-                        flags={k: _spread(v, idx, n) for k, v in o.flags.items()})
-
-
-def _spread_loop(rec: LoopRecord, idx, n: int) -> LoopRecord:
-    return dataclasses.replace(rec, iterations=_spread(rec.iterations, idx, n),
-                               residual=_spread(rec.residual, idx, n),
-                               converged=_spread(rec.converged, idx, n))
-
-
-def _refusal_text(exc: InputError, n_failed: int) -> str:
-    """The reason recorded for the cases a block refused: its located message without the batch
-    index (which means nothing outside the block's own batch)."""
-    text = CASE_TEXT.sub("", str(exc))
-    if n_failed > 1:
-        text += " (the figures are those of the first case it refused in the batch)"
-    return text
 
 
 class _Engine(TearLoops, GoalSearch):
@@ -320,7 +229,7 @@ class _Engine(TearLoops, GoalSearch):
     further overrides (arrays aligned with ``sel``) -- how goals try values of their parameter.
     """
 
-    def __init__(self, fs: Flowsheet, fluid: Fluid, base: dict, n: int, strict: bool,
+    def __init__(self, fs: SheetSpec, fluid: Fluid, base: dict, n: int, strict: bool,
                  carry: bool = False):
         self.fs, self.fluid, self.base, self.n, self.strict = fs, fluid, base, n, strict
         # whether the streams carry the water and inhibitor beside the gas (letdown.equipment.
@@ -654,7 +563,7 @@ class _Engine(TearLoops, GoalSearch):
 
     def _doses(self, ev: _Evaluation):
         """The doses of the ``inject`` blocks, found on the cases that lived from their protected
-        points (:func:`letdown.sheet.freezing.find_doses`): (doses, notes), or None without any.
+        points (:func:`letdown.sheet.dosing.find_doses`): (doses, notes), or None without any.
         Where a rate differs from what the block added in this pass (a ``depression`` is sized
         only now), the blocks run once more with the rates found (module docstring, Doses), and
         ``ev`` takes that pass's streams and outcomes."""
@@ -711,7 +620,7 @@ class _Engine(TearLoops, GoalSearch):
                               f"{min_T - 273.15:.2f} degC", tuple(np.flatnonzero(cold).tolist()),
                         kind="min_T", severity="hazard",
                         numbers={"T_K": stream.T, "min_T_K": min_T, "margin_K": stream.T - min_T}))
-        warnings.extend(self._model_warnings(ev))
+        warnings.extend(model_warnings(self.fluid, ev.streams))
         freezing = None
         doses: dict = {}
         given = inject_params(self.fs, ev.outcomes)
@@ -767,25 +676,6 @@ class _Engine(TearLoops, GoalSearch):
                            min_T=self.fs.limits.get("min_T"),
                            freezing_basis=None if freezing is None else
                            basis(self.fs, self.fluid))
-
-    def _model_warnings(self, ev) -> list:
-        """Where the model's data or tested range does not cover the flowsheet."""
-        out = []
-        fluid = self.fluid
-        if fluid.missing_kij and fluid.model != "gerg-2008":
-            pairs = ", ".join(f"{a}-{b}" for a, b in fluid.missing_kij)
-            out.append(WarningRecord("gas", f"no published interaction parameter for {pairs}; "
-                                            "taken as zero (set gas.kij to override)",
-                                      kind="kij_missing", severity="check"))
-        for name, stream in ev.streams.items():
-            flowing = stream.flow > 0
-            for reason, cases in out_of_range(fluid.model, stream.T, stream.P, stream.zs,
-                                              self.components):
-                cases = cases & flowing
-                if cases.any():
-                    out.append(WarningRecord(name, reason, tuple(np.flatnonzero(cases).tolist()),
-                                             kind="model_range", severity="check"))
-        return out
 
     def _stream_order(self) -> list:
         """Streams in calculation order: feeds, then each block's outlets."""

@@ -196,7 +196,7 @@ class SolverSpec:
 
 
 @dataclass(frozen=True)
-class Flowsheet:
+class SheetSpec:
     """A parsed flowsheet file.
 
     Attributes

@@ -49,7 +49,7 @@ from ..equipment.throttle import SONIC_MACH
 from ..errors import InputError
 from ..numerics.rootfind import bracketed_root
 from ..sheet.solve import solve_cases
-from ..sheet.spec import Flowsheet
+from ..sheet.spec import SheetSpec
 from .size import _case_arrays
 
 #: Opening limit of a rated valve when ``limits.max_opening`` is absent: full travel [-].
@@ -214,7 +214,7 @@ class CapacityResult:
             "notes": list(self.notes), "caution": CAUTION}
 
 
-def _limits(fs: Flowsheet) -> dict:
+def _limits(fs: SheetSpec) -> dict:
     lim = fs.limits
     return {"opening": float(lim.get("max_opening", FULL_TRAVEL)),
             "velocity": lim.get("max_velocity"), "noise": lim.get("max_noise"),
@@ -261,13 +261,13 @@ def _reserve(res, keys):
     return F, np.where(ok, j, -1)
 
 
-def capacity(fs: Flowsheet, *, model: str | None = None) -> CapacityResult:
+def capacity(fs: SheetSpec, *, model: str | None = None) -> CapacityResult:
     """The largest flow of every operating case before a valve, velocity or noise limit
     (module docstring).
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     model : str, optional
         Thermodynamic model overriding the file's.
 

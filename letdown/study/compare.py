@@ -46,7 +46,7 @@ from ..quantities import SI_UNITS
 from ..sheet.loader import EXACTLY_ONE, PARAMETERS
 from ..sheet.measurements import UNITS
 from ..sheet.solve import solve_cases
-from ..sheet.spec import Flowsheet
+from ..sheet.spec import SheetSpec
 from .crosscheck import applicable_models, solve_each
 
 #: Step of the finite-difference derivative, as a fraction of the fit bracket [-]. The flash solves
@@ -314,7 +314,7 @@ def residuals_of(measurements, values) -> tuple:
     return tuple(out)
 
 
-def check_fit_parameter(fs: Flowsheet, parameter: str, within) -> tuple[str, tuple]:
+def check_fit_parameter(fs: SheetSpec, parameter: str, within) -> tuple[str, tuple]:
     """Check that ``block.parameter`` can be fitted inside ``within`` = (lo, hi) [SI].
 
     Raises
@@ -352,13 +352,13 @@ def check_fit_parameter(fs: Flowsheet, parameter: str, within) -> tuple[str, tup
     return parameter, (lo, hi)
 
 
-def compare(fs: Flowsheet, measurements=None, models=None, fit: str | None = None,
+def compare(fs: SheetSpec, measurements=None, models=None, fit: str | None = None,
             within=None) -> Comparison:
     """Compare a flowsheet with measurements, per model, and optionally fit one parameter.
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     measurements : sequence of MeasurementSpec, optional
         Default ``fs.measurements``.
     models : sequence of str, optional
@@ -412,12 +412,12 @@ def compare(fs: Flowsheet, measurements=None, models=None, fit: str | None = Non
     return Comparison(fs.title, tuple(models), results, failures, skipped, fit)
 
 
-def fit_parameter(fs: Flowsheet, measurements, model: str, parameter: str, within) -> Fit:
+def fit_parameter(fs: SheetSpec, measurements, model: str, parameter: str, within) -> Fit:
     """Fit one block parameter to the measurements with one model (weighted least squares).
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     measurements : sequence of MeasurementSpec
     model : str
     parameter : str

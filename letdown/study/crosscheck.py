@@ -18,7 +18,7 @@ from ..fluid.components import COMPONENTS
 from ..fluid.eos.gerg import GERG_NAMES
 from ..fluid.models import MODELS
 from ..sheet.solve import solve
-from ..sheet.spec import Flowsheet
+from ..sheet.spec import SheetSpec
 
 #: Spread thresholds above which a result is flagged (common practice: a kelvin is the resolution
 #: of station instruments and the margin engineers argue about; 5 % of duty or power is the usual
@@ -87,7 +87,7 @@ class CrossCheck:
         }
 
 
-def applicable_models(fs: Flowsheet) -> tuple[list, dict]:
+def applicable_models(fs: SheetSpec) -> tuple[list, dict]:
     """The models worth comparing for this flowsheet, and why others are left out."""
     names = list(fs.gas.composition)
     models = ["peng-robinson", "soave-redlich-kwong"]
@@ -105,7 +105,7 @@ def applicable_models(fs: Flowsheet) -> tuple[list, dict]:
     return models, skipped
 
 
-def solve_each(fs: Flowsheet, models, solver):
+def solve_each(fs: SheetSpec, models, solver):
     """Solve ``fs`` with each model through ``solver(fs, model=...)``.
 
     Returns
@@ -128,12 +128,12 @@ def solve_each(fs: Flowsheet, models, solver):
     return results, failures
 
 
-def crosscheck(fs: Flowsheet, models=None) -> CrossCheck:
+def crosscheck(fs: SheetSpec, models=None) -> CrossCheck:
     """Solve ``fs`` with each model and compare the key results.
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     models : sequence of str, optional
         Models to compare (default: :func:`applicable_models`).
 

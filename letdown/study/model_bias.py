@@ -9,7 +9,7 @@ GERG-2008 (ISO 20765-2, the reference for natural-gas properties in the single-p
 * ``size_duty_pct``: the design heat, cubic over GERG-2008 minus one [%];
 * ``year_heat_pct``: the year's heat, cubic over GERG-2008 minus one [%].
 
-The figures are re-measured by ``tests/test_size.py`` and ``tests/test_year.py``. They hold for
+The figures are re-measured by ``tests/study/test_size.py`` and ``tests/study/test_year.py``. They hold for
 this gas and these pressures; a richer gas or a larger pressure drop moves them.
 """
 from __future__ import annotations

@@ -59,7 +59,7 @@ from ..fluid.quality import quality
 from ..sheet.freezing import ICE_T, hydrate_margin
 from ..sheet.graph import downstream_streams
 from ..sheet.solve import make_fluid, solve_cases
-from ..sheet.spec import Flowsheet
+from ..sheet.spec import SheetSpec
 from .model_bias import bias_line
 from .sweep import _reasons
 
@@ -277,7 +277,7 @@ class SizeResult:
             "notes": list(self.notes), "model_bias": self.model_bias, "caution": CAUTION}
 
 
-def _sizing_goals(fs: Flowsheet) -> list:
+def _sizing_goals(fs: SheetSpec) -> list:
     """[(goal index, held stream, heater)] of the goals that hold a stream temperature by varying
     a heater (one per heater: a second goal on the same heater is left as written)."""
     out, seen = [], set()
@@ -296,7 +296,7 @@ def _sizing_goals(fs: Flowsheet) -> list:
     return out
 
 
-def _case_arrays(fs: Flowsheet):
+def _case_arrays(fs: SheetSpec):
     """(names, {key: values over the cases}) from the ``cases`` section."""
     if not fs.cases:
         return ("as written",), {}, ({},)
@@ -380,7 +380,7 @@ def stream_limits(T: float, fz: dict | None, margin: float, min_T: float | None,
     return {k: round(float(v), 12) for k, v in out.items() if v is not None and np.isfinite(v)}
 
 
-def _upstream_streams(fs: Flowsheet, block: str) -> set:
+def _upstream_streams(fs: SheetSpec, block: str) -> set:
     """Streams from which ``block`` is reached (its inlets and everything feeding them)."""
     producer = {s: b for b, spec in fs.blocks.items() for s in spec.outlets.values()}
     seen, todo = set(), list(fs.blocks[block].inlets.values())
@@ -409,13 +409,13 @@ def _shortfalls(res, i, streams, margin, min_T, free_water):
     return out, case
 
 
-def size(fs: Flowsheet, *, efficiency: float | None = None, model: str | None = None,
+def size(fs: SheetSpec, *, efficiency: float | None = None, model: str | None = None,
          free_water: str = "always", calorific: str = "gross") -> SizeResult:
     """Size the preheat of the station over the operating cases (module docstring).
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     efficiency : float, optional
         Heater efficiency [-] for heaters the file gives none (default
         :data:`DEFAULT_EFFICIENCY`, stated as assumed).

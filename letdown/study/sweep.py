@@ -35,7 +35,7 @@ from ..fluid.components import canonical_name
 from ..quantities import SI_UNITS, MassFlow, parse_quantity
 from ..sheet.solve import FEED_FIELDS, solve_cases
 from ..sheet.result import liquid_volume_flow
-from ..sheet.spec import Flowsheet
+from ..sheet.spec import SheetSpec
 
 FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
 #: Most cases one sweep may ask for (a grid's product or a range's count): a million-case typo
@@ -98,7 +98,7 @@ class SweepTable:
         return buf.getvalue()
 
 
-def parse_variable(fs: Flowsheet, spec: str) -> Variable:
+def parse_variable(fs: SheetSpec, spec: str) -> Variable:
     """``path=values`` into a :class:`Variable` (values: ``a:b:n`` range or ``a,b,c`` list).
 
     Raises
@@ -163,14 +163,14 @@ def case_count(variables, mode: str = "grid") -> int:
     return n
 
 
-def _feed_molar_mass(fs: Flowsheet, feed: str) -> float:
+def _feed_molar_mass(fs: SheetSpec, feed: str) -> float:
     """Molar mass of a feed's gas [kg/mol] (a swept mass flow becomes a molar flow with it)."""
     from ..fluid.components import COMPONENTS
     comp = fs.feeds[feed].composition or fs.gas.composition
     return sum(x * COMPONENTS[c].M for c, x in comp.items())
 
 
-def _check_values(fs: Flowsheet, path: str, text: str, values, field: str) -> None:
+def _check_values(fs: SheetSpec, path: str, text: str, values, field: str) -> None:
     """The checks the loader makes on the same field of a file, on every swept value."""
     from ..sheet.loader import parameter_problem
     name, _, attr = path.partition(".")
@@ -190,7 +190,7 @@ def _check_values(fs: Flowsheet, path: str, text: str, values, field: str) -> No
             raise InputError(f"{held} must be positive, got {text!r}", field=field)
 
 
-def variable_kind(fs: Flowsheet, path: str) -> str:
+def variable_kind(fs: SheetSpec, path: str) -> str:
     """Quantity kind of a sweepable path (see the module docstring)."""
     from ..sheet.loader import PARAMETERS
     name, _, attr = path.partition(".")
@@ -217,14 +217,14 @@ def _held_kind(fs, hold: str) -> str:
             "vapour_fraction": "fraction", "min_approach": "temperature_difference"}.get(attr, "fraction")
 
 
-def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = None,
+def sweep(fs: SheetSpec, variables, *, mode: str = "grid", model: str | None = None,
           outputs=None, executor=None, show_progress: bool = False,
           basis: str = "volume", given=None) -> SweepTable:
     """Solve ``fs`` for every case of the swept variables.
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     variables : sequence of Variable
     mode : {"grid", "zip"}
         Every combination, or the variables' values taken together (equal lengths).

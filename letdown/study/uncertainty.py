@@ -43,7 +43,7 @@ import numpy as np
 
 from ..errors import InputError
 from ..quantities import MassFlow, parse_quantity
-from ..sheet.spec import Flowsheet
+from ..sheet.spec import SheetSpec
 from .sweep import (MAX_CASES, Variable, _check_values, _feed_molar_mass, split_unit, sweep,
                     variable_kind)
 
@@ -135,7 +135,7 @@ def is_distribution(spec: str) -> bool:
     return bool(_SPEC.match(str(spec).partition("=")[2]))
 
 
-def parse_distribution(fs: Flowsheet, spec: str) -> Distribution:
+def parse_distribution(fs: SheetSpec, spec: str) -> Distribution:
     """``PATH=DIST(ARGS)`` into a :class:`Distribution`.
 
     Raises
@@ -329,7 +329,7 @@ class UncertaintyResult:
         return sum(1 for r in self.table.rows if not r[-2])
 
 
-def uncertainty(fs: Flowsheet, distributions, n: int, *, sampler: str = "lhs", seed: int = 0,
+def uncertainty(fs: SheetSpec, distributions, n: int, *, sampler: str = "lhs", seed: int = 0,
                 model: str | None = None, outputs=None, executor=None,
                 show_progress: bool = False, basis: str = "volume") -> UncertaintyResult:
     """Sample the uncertain inputs ``n`` times, solve every sample (one zip sweep) and take the

@@ -50,7 +50,7 @@ from ..caution import UPSET_CAUTION
 from ..equipment import valve as iec
 from ..numerics.rootfind import bracketed_root
 from ..sheet.solve import make_fluid, solve_cases
-from ..sheet.spec import Flowsheet
+from ..sheet.spec import SheetSpec
 from .size import _case_arrays
 from .year import _heaters_off
 
@@ -139,13 +139,13 @@ def _num(x):
     return x if np.isfinite(x) else None
 
 
-def upsets(fs: Flowsheet, *, model: str | None = None) -> UpsetResult:
+def upsets(fs: SheetSpec, *, model: str | None = None) -> UpsetResult:
     """Loss of preheat, regulators failing open, and series runs failing open (module
     docstring).
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     model : str, optional
         Thermodynamic model overriding the file's.
 

@@ -41,7 +41,7 @@ import numpy as np
 from ..errors import InputError
 from ..quantities import parse_quantity
 from ..sheet.solve import solve_cases
-from ..sheet.spec import Flowsheet
+from ..sheet.spec import SheetSpec
 from .executors import Serial, chunks
 from .model_bias import bias_line
 from .sweep import _reasons
@@ -145,7 +145,7 @@ def read_profile(path, atmosphere=None) -> Profile:
     return Profile(tuple(r[0] for r in data), values, file)
 
 
-def _heaters_off(fs: Flowsheet, names) -> Flowsheet:
+def _heaters_off(fs: SheetSpec, names) -> SheetSpec:
     """``fs`` with the heaters ``names`` at zero duty and the goals that vary them dropped."""
     blocks = dict(fs.blocks)
     for h in names:
@@ -423,14 +423,14 @@ class YearResult:
         return {"duty_W": float(total[i]), "time": self.profile.time[i]}
 
 
-def year(fs: Flowsheet, profile: Profile, *, efficiency: float | None = None,
+def year(fs: SheetSpec, profile: Profile, *, efficiency: float | None = None,
          feed: str | None = None, outlet_block: str | None = None, model: str | None = None,
          executor=None, show_progress: bool = False, calorific: str = "gross") -> YearResult:
     """Solve every hour of ``profile`` on ``fs`` with its goals held.
 
     Parameters
     ----------
-    fs : Flowsheet
+    fs : SheetSpec
     profile : Profile
     efficiency : float, optional
         Heater efficiency on the chosen calorific value [-] for heaters whose ``efficiency`` the

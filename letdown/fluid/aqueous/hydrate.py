@@ -27,7 +27,7 @@ Sign of dcp: the tabulated 39.16 J/(mol K) is applied as ``dh(T) = dh0 + 39.16 (
 dh = h(empty lattice) - h(liquid water). (That is the sign under which open-source implementations
 that cite Munck use it; physically cp of liquid water exceeds that of ice by about 38 J/(mol K), which
 would suggest the opposite sign for a lattice that resembles ice. The tests measure both against
-methane data -- see tests/test_hydrate.py -- and the constant :data:`DCP_SIGN` records the choice.)
+methane data -- see tests/fluid/test_hydrate.py -- and the constant :data:`DCP_SIGN` records the choice.)
 
 Near the ice point (:data:`LANGMUIR_CORRECTION`): with Munck's constants as published the model
 was 1.3 K low for methane, 1.1 K for H2S and 2.5 K for nitrogen at their lower quadruple points
@@ -35,7 +35,7 @@ was 1.3 K low for methane, 1.1 K for H2S and 2.5 K for nitrogen at their lower q
 The empty-lattice reference terms are shared by every guest of a structure and the misses differ
 in sign between sI guests (methane -1.3 K, CO2 +0.2 K), so each guest's Langmuir constants get a
 factor exp(a + b (T0/T - 1)) fitted on 262-303 K (``bench/fit_hydrate_langmuir.py``); it is held at
-its end values outside each guest's fitted range. Measured after the fit (tests/test_hydrate_ice.py):
+its end values outside each guest's fitted range. Measured after the fit (tests/fluid/test_hydrate_ice.py):
 lower quadruple points within 0.33 K (methane, propane, CO2, H2S, nitrogen); ethane follows the
 measured 273.68 K at 0.499 MPa (+0.10 K) instead of a remembered quadruple point that contradicts it.
 
@@ -47,7 +47,7 @@ Model statements (say them in reports):
 * Gas dissolved in the water lowers its activity: x_j = f_j / H_j(T) by Henry's law (:data:`HENRY`),
   a_w = 1 - sum x_j (ideal solution), on by default (``dissolved_gas=True``). It matters for CO2:
   without it pure-CO2 hydrate temperatures come out 0.8-3 K above the Carroll (2014) correlation
-  over 274-283 K, with it within 0.6 K (tests/test_hydrate.py); for methane it moves T by
+  over 274-283 K, with it within 0.6 K (tests/fluid/test_hydrate.py); for methane it moves T by
   0.1-0.45 K.
 * For the GERG-2008 model, the fugacities come from Peng-Robinson for the same gas (GERG-2008 is
   used for single-phase properties only here).

@@ -16,7 +16,7 @@ temperature, about 38 J/mol per K, is neglected); pressure lowers the ice point 
 0.0073 K/bar (common practice: within any margin).
 
 Against measured freezing points of methanol-water and MEG-water (Melinder 2010, as tabulated in
-CoolProp's incompressible-solution data; tests/test_aqueous.py) the ideal solution puts the freezing
+CoolProp's incompressible-solution data; tests/fluid/test_aqueous.py) the ideal solution puts the freezing
 point **warmer** than measured -- by 0.4 K at 10 wt % methanol, 2.1 K at 20 wt %, 5.1 K at
 30 wt %; 0.1 K at 10 wt % MEG, 3.0 K at 30 wt % -- the solutions are less ideal than x_w says, and the error is on the safe side for an ice
 check. In the dilute limit the equation gives the cryoscopic constant of water,
@@ -26,7 +26,7 @@ R T_m^2 M_w / dH_fus = 1.859 K kg/mol (1.86 in the textbooks).
 Eng. Data 20, 97 (his eq. for 0-150 degC at 1 atm, extended a few kelvin into supercooled water),
 the inhibitors as pure liquids at 20 degC (methanol 791.4, MEG 1113.5 kg/m3; CRC Handbook, from
 memory), volumes added (ideal mixing). Methanol-water shrinks on mixing, so the ideal volume
-puts the density low against Melinder (2010) (tests/test_aqueous.py): by 2.1 % at 20 wt %
+puts the density low against Melinder (2010) (tests/fluid/test_aqueous.py): by 2.1 % at 20 wt %
 methanol and 3.8 % at 40 wt %, by 1.3 % at 40 wt % MEG. Pressure (0.45 % per 100 bar) is
 neglected. An estimate for the report, not a design figure.
 

@@ -29,7 +29,7 @@ Conversions use ideal-gas standard volumes: ``Sm3`` at 15 degC and 101.325 kPa (
 
 Water vapour pressure: Wagner & Pruss, J. Phys. Chem. Ref. Data 31 (2002) 387, eq. (2.5), the
 auxiliary equation of IAPWS-95 (coefficients from memory, checked against CoolProp's IAPWS-95 in
-tests/test_water.py to 1e-5 relative, status C).
+tests/fluid/test_water.py to 1e-5 relative, status C).
 """
 from __future__ import annotations
 

@@ -20,7 +20,7 @@ takes the alpha of Twu, Bluck, Cunningham & Coon, Fluid Phase Equilib. 69 (1991)
 
 with L = 0.3865, M = 0.8720, N = 1.9693 for water (Le Guennec, Privat & Jaubert, Fluid Phase
 Equilib. 429 (2016) 301, fitted to water's vapour pressure, enthalpy of vaporisation and liquid
-heat capacity; values from memory, checked in tests/test_water_alpha.py: the vapour pressure of
+heat capacity; values from memory, checked in tests/fluid/test_water_alpha.py: the vapour pressure of
 water from this equation is within 1.5 % of IAPWS-95 from 250 to 550 K, where the Soave alpha is
 15-27 % low below 300 K). Without it the three-phase flash puts 20-25 % too little water in a cold
 gas. SRK keeps the Soave alpha for water (no Twu set for it here). Van der Waals one-fluid mixing:

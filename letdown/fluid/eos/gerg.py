@@ -116,7 +116,7 @@ TPD_WATER_TRIAL = 0.999
 #:   envelope has no point in the window and the bound is SKIP_T_MIN).
 #: The envelope is the composition's own (the fluid's interaction parameters). Measured against
 #: CoolProp's GERG-2008 mixture envelopes of six gases (lean, with butanes to hexane, CO2-rich,
-#: nitrogen-rich; tests/test_gerg_speed.py): every GERG-2008 envelope point lies at most 4.2 K
+#: nitrogen-rich; tests/fluid/test_gerg_speed.py): every GERG-2008 envelope point lies at most 4.2 K
 #: above the highest Peng-Robinson point within that pressure window, and the GERG-2008
 #: cricondenbar at most 4 % above Peng-Robinson's; outside the GERG-2008 envelope a mixture has no
 #: vapour-liquid split. The margin is more than twice the largest difference measured.

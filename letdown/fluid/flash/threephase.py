@@ -37,10 +37,10 @@ parameters (data/kij_pr.csv: the gas-phase values of Soreide & Whitson 1992 for 
 hydrocarbons and nitrogen, E-PPR78 at 298.15 K or DECHEMA for the others) and van der Waals
 one-fluid mixing; on Peng-Robinson, water has the Twu alpha (cubic.py), so its vapour pressure is
 right to 1.5 %. It gives the water content of the vapour within 2 % of the water-content route
-of letdown.fluid.aqueous.water (tests/test_threephase.py), but the gas dissolved in the water is far too
+of letdown.fluid.aqueous.water (tests/fluid/test_threephase.py), but the gas dissolved in the water is far too
 low with kij fitted to the gas side (common practice: constant kij cannot fit both sides of the
 water-hydrocarbon split): methane and nitrogen at 278-298 K and 50 bar come out 3-4 orders of
-magnitude below Henry's law with Sander's (2015) constants (measured, tests/test_threephase.py);
+magnitude below Henry's law with Sander's (2015) constants (measured, tests/fluid/test_threephase.py);
 CO2, whose kij is negative, within about 20 %. The aqueous phase is therefore taken as water
 (plus inhibitor) for everything downstream, and glycol or methanol in water, which need an
 activity-coefficient or association term, are outside it.
@@ -114,7 +114,7 @@ def _dry_liquid_trial_stability(eos, T, P, zs, lnph_z, iw):
     (x_i = z_i / K_i, water WATER_TRIAL_TRACE times that): where water is abundant, the usual
     liquid-like trial is mostly water and converges onto the aqueous phase, and a hydrocarbon
     liquid beside vapour and water can be missed (found so for 50 % water with n-hexane and
-    methane near 343 K and 6 bar, tests/test_flash_water.py)."""
+    methane near 343 K and 6 bar, tests/fluid/test_flash_water.py)."""
     present = zs > 0.0
     with np.errstate(divide="ignore", invalid="ignore", over="ignore"):
         W = np.where(present, zs / wilson_K(eos, T, P), 0.0)
@@ -609,12 +609,12 @@ def phase_properties(engine, T, P, zs, res: ThreePhaseResult) -> dict:
 #: The enthalpy target is met to this [J/mol]: a temperature error of at most 1e-6 K (the
 #: two-phase P-h flash's ``cubic_fluid.PH_RESIDUAL_K``) wherever the heat capacity exceeds
 #: 10 J/(mol K); the entropy target to this over T [J/(mol K)]. The enthalpy of splits converged
-#: to FUG_TOL scatters by about 1e-7 J/mol (measured on the wet gases of tests/test_flash_water.py),
+#: to FUG_TOL scatters by about 1e-7 J/mol (measured on the wet gases of tests/fluid/test_flash_water.py),
 #: 100 times below.
 PX_H_TOL = 1e-5
 #: Half-width of the first temperature step from the starting temperature [K]: the third phase
 #: shifts the temperature of gas with a little water by a few kelvin to about 15 K (measured on the
-#: LTS sheet of tests/test_separator_water.py: 12 K).
+#: LTS sheet of tests/equipment/test_separator_water.py: 12 K).
 BRACKET_STEP = 2.0
 #: Steps taken before a case is given up (at least doubling: 2 K * 2^8 = 512 K).
 BRACKET_GROWTHS = 9

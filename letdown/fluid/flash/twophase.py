@@ -76,7 +76,7 @@ EARLY_EXIT_TM = -1e-6
 #: present in the feed, a nearly pure trial phase of it (after the Wilson vapour and liquid trials
 #: and the nearly pure heaviest and lightest component). Their liquids separate from methane-rich
 #: liquids at low temperature (a CO2-rich second liquid). Measured: on 4,800 random natural gases
-#: of tests/test_flash_properties.py at 120-300 K (Peng-Robinson and Soave), the four standard
+#: of tests/fluid/test_flash_properties.py at 120-300 K (Peng-Robinson and Soave), the four standard
 #: trials called 97 states stable that a nearly pure CO2 trial proves unstable (tm down to -0.83),
 #: all at 120-143.5 K; a nearly pure trial of every other component found none. The fuzz sweep of
 #: issue 11 placed the missed cold splits of CO2-rich and sour gases at 150-215 K. 220 K covers
