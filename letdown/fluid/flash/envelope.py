@@ -76,6 +76,10 @@ from .landmarks import (  # noqa: F401
     CRIT_NODES, EXTREMUM_XTOL, NEARLY_PURE, NEARLY_PURE_BRACKET_K, NEARLY_PURE_SS_ITER,
     _extremum, _locate_critical, _start)
 
+#: The cricondentherm (cricondenbar) is the largest ln T (ln P) of the whole boundary: a turning
+#: point more than this below a traced point is a local one and is not reported [-] (the traced
+#: points lie below a true extremum to round-off, about 1e-12).
+EXTREMUM_LOCAL_TOL = 1e-7
 #: A line of constant vapour fraction with no first point at the start pressure is tried at this
 #: many pressures between it and the critical pressure (geometric ladder).
 LINE_START_RUNGS = 12
@@ -376,6 +380,21 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
         if best is None and which == "P" and open_top:
             status = ("none: the bubble branch still rises at the pressure limit past the critical "
                       "point (no largest pressure)")
+        # the extremum must be the largest value of the whole boundary: a turning point of one
+        # trace below a point of another (a wet gas's water dew line, the dew branch of a nearly
+        # pure fluid running to the pressure limit) is a local one, not the envelope's
+        top = max(float(np.max(np.array(trc.X)[:, nc + (which == "P")])) for trc in traces
+                  if len(trc.X))
+        if best is not None and best[nc + (which == "P")] < top - EXTREMUM_LOCAL_TOL:
+            unit = "K" if which == "T" else "Pa"
+            val, at = (np.exp(best[nc]), np.exp(best[nc + 1])) if which == "T" else \
+                (np.exp(best[nc + 1]), np.exp(best[nc]))
+            status = (f"none: the boundary reaches {np.exp(top):.6g} {unit}, beyond the turning "
+                      f"point at {val:.6g} {unit} ({'P' if which == 'T' else 'T'} = {at:.6g} "
+                      f"{'Pa' if which == 'T' else 'K'}), which is therefore not the largest (a "
+                      f"trace goes beyond it where it ends: a water dew line, a branch at the "
+                      f"pressure limit or one that stopped)")
+            best = None
         extrema[which] = None if best is None else EnvelopePoint(
             float(np.exp(best[nc])), float(np.exp(best[nc + 1])), np.exp(best[:nc]))
         reports[name] = TraceReport(best is not None, status,
