@@ -236,12 +236,20 @@ class Fluid:
         if len(given) != 2:
             raise InputError(f"flash needs exactly two of T, P, h, s (got {sorted(given) or 'none'})")
         scalar = all(np.ndim(v) == 0 for v in given.values()) and (zs is None or np.ndim(zs) == 1)
-        arrays = [np.atleast_1d(np.asarray(v, dtype=float)) for v in given.values()]
-        Z = self._zs if zs is None else np.asarray(zs, dtype=float)
-        n = max([a.shape[0] for a in arrays] + [Z.shape[0] if Z.ndim == 2 else 1])
-        arrays = [np.broadcast_to(a, (n,)).copy() for a in arrays]
-        Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
-        _check_composition(Zb, self.n_components)
+        if scalar and zs is None:
+            # one state of the fluid's own composition (checked when the fluid was made): the
+            # common call, without the broadcasting and the composition check of a batch
+            arrays = [np.array([float(v)]) for v in given.values()]
+            Zb = self._zs[None, :].copy()
+        else:
+            arrays = [np.atleast_1d(np.asarray(v, dtype=float)) for v in given.values()]
+            Z = self._zs if zs is None else np.asarray(zs, dtype=float)
+            n = max([a.shape[0] for a in arrays] + [Z.shape[0] if Z.ndim == 2 else 1])
+            arrays = [np.broadcast_to(a, (n,)).copy() for a in arrays]
+            Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
+            if zs is not None:
+                _check_composition(Zb, self.n_components)
+        n = Zb.shape[0]
         spec = dict(zip(given, arrays))
         eng = self._engine
         Tg = None if T_guess is None else np.broadcast_to(np.asarray(T_guess, float), (n,)).copy()
