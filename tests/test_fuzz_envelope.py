@@ -91,3 +91,43 @@ def test_a_local_turning_point_is_not_reported_as_the_cricondentherm_or_criconde
             got = value.T if name == "cricondentherm" else value.P
             assert got >= top * (1 - 1e-9), name
     assert env.cricondenbar is None and "not the largest" in env.reports["cricondenbar"].status
+
+
+def test_nearly_pure_propane_whose_first_newton_fails_starts_from_propane():
+    """Failed before (fuzz run, seed 20261202, SRK, given over a table with other components at
+    zero): 'phase envelope: the first point at 100000 Pa did not converge (residual 0.0177)'.
+    Propane with 166 ppm nitrogen (invented) now starts from
+    propane's saturation point (letdown's pure-fluid solver, a different algorithm) and its traced
+    points satisfy the equilibrium equations (evaluated in tests/test_envelope_edges.py)."""
+    from letdown.fluid.flash import twophase as fl
+    from tests.test_envelope_edges import FUGACITY_TOL, _residual
+    names = ("methane", "propane", "nitrogen", "water", "hydrogen")   # the others at zero
+    gas = letdown.Fluid(dict.fromkeys(names, 0.2), model="soave-redlich-kwong")
+    z = np.array([0.0, 0.9998344178905765, 0.00016558210942365997, 0.0, 0.0])
+    env = gas.envelope(zs=z)
+    T_sat = fl.pure_saturation_T(gas.engine.eos, np.array([1e5]), np.array([1]))[0]
+    assert env.dew.P[0] == pytest.approx(1e5, rel=1e-12)
+    assert abs(env.dew.T[0] - T_sat) < 0.5                 # measured: 0.004 K
+    res, closure = _residual(gas, env.dew, z)
+    assert res < FUGACITY_TOL and closure < FUGACITY_TOL
+    for r in env.reports.values():
+        assert r.converged or r.status
+
+
+@pytest.mark.parametrize("comp", [{"methane": 0.9997, "propane": 0.0003155},
+                                  {"propane": 0.9991, "nitrogen": 0.0009029}],
+                         ids=["methane", "propane"])
+def test_a_dew_point_too_close_to_the_critical_point_is_refused_not_nan(comp):
+    """Failed before (fuzz run, seed 7): at the cricondentherm's pressure of these nearly pure
+    invented gases dew_temperature returned NaN ("no liquid on this isobar") although the traced
+    envelope reaches that pressure; the two-phase range there (next to the critical point) is too
+    narrow for the stability test, so the solve now says so rather than answer NaN."""
+    from letdown.errors import ConvergenceError
+    gas = letdown.Fluid(comp, normalise=True)
+    env = gas.envelope()
+    assert env.converged
+    with pytest.raises(ConvergenceError, match="too narrow"):
+        gas.dew_temperature(env.cricondentherm.P)
+    # far from the critical point the dew point is answered and agrees with the trace
+    P = 0.3 * env.cricondenbar.P
+    assert np.isfinite(gas.dew_temperature(P))

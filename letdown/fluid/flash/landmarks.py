@@ -314,7 +314,14 @@ def _start(engine, system: EnvelopeSystem, P0: float):
     X0 = np.concatenate([lnK, [np.log(T), np.log(P0)]])
     X, t, _, res, ok = system.solve(X0, nc + 1, np.log(P0))
     if not ok:
-        return None, None, f"the first point at {P0:g} Pa did not converge (residual {res:.3g})"
+        msg = f"the first point at {P0:g} Pa did not converge (residual {res:.3g})"
+        if beta in (0.0, 1.0):
+            # a nearly pure fluid whose stability-based start is too rough for Newton (its dew
+            # and bubble points a few millikelvin apart) starts from its main component instead
+            Xp, tp, why = _start_nearly_pure(system, P0)
+            if Xp is not None:
+                return Xp, tp, why
+        return None, None, msg
     t = _unit(t)
     if t[nc + 1] < 0:
         t = -t

@@ -20,7 +20,10 @@ The solve has three steps, for all cases of a batch together:
    near a critical point, where the split itself may not converge, the flash's stability test
    finding the second phase) and just outside (one phase). A case that fails the check raises
    :class:`~letdown.errors.ConvergenceError`; NaN means that no two-phase state exists on the line
-   (the envelope, traced, does not cross it and no candidate is two-phase).
+   (the envelope, traced, does not cross it and no candidate is two-phase). A line the traced
+   envelope crosses (or, for a closed envelope, an isobar between its first point and its
+   cricondenbar) where no candidate is two-phase -- a range too narrow for the stability test,
+   next to the critical point of a nearly pure fluid -- raises as well, rather than answer NaN.
 
 Liquid-liquid splits the cubic models find far below a natural gas's freezing point (near 45 K
 above a lean gas's cricondenbar) are not dew points: candidates below ``T_floor`` (0.45 of the
@@ -227,6 +230,25 @@ def boundary(fluid, engine, fixed, zs, kind, axis, branch="upper"):
                     f"no two-phase state found on the {'isobar' if axis == 'T' else 'isotherm'} "
                     f"at {fixed[k]:.6g} {'Pa' if axis == 'T' else 'K'}, and the phase envelope "
                     f"could not be traced to show that there is none")
+            env = envs[k]
+            cr = (_crossings(env.T, env.P, fixed[k]) if axis == "T"
+                  else list(np.exp(_crossings(np.log(env.P), env.T, fixed[k]))))
+            if not cr and axis == "T" and env.converged and env.cricondenbar is not None \
+                    and env.P.min() <= fixed[k] <= env.cricondenbar.P:
+                # a closed envelope spans every pressure from its first point to its
+                # cricondenbar, even where the traced chords stay below a sharp top
+                cr = [env.cricondentherm.T if env.cricondentherm is not None
+                      else env.cricondenbar.T]
+            if cr and branch == "upper":
+                # the traced envelope crosses the line, but no candidate was two-phase: a range
+                # too narrow for the stability test (next to the critical point of a nearly pure
+                # fluid); NaN would say wrongly that there is no boundary
+                at = max(cr) if (top or axis == "P") else min(cr)
+                raise ConvergenceError(
+                    f"{kind} point at {fixed[k]:.6g} {'Pa' if axis == 'T' else 'K'}: the phase "
+                    f"envelope crosses this {'isobar' if axis == 'T' else 'isotherm'} (near "
+                    f"{at:.6g} {'K' if axis == 'T' else 'Pa'}), but the two-phase range there is "
+                    f"too narrow for the stability test to confirm the boundary")
             continue
         iu = np.nonzero(u)[0]
         j = iu[-1] if top else iu[0]          # a two-phase candidate of the wanted interval
