@@ -2,6 +2,7 @@
 from __future__ import annotations
 
 import csv
+import warnings
 from functools import lru_cache
 from importlib import resources
 
@@ -235,12 +236,20 @@ class Fluid:
         if len(given) != 2:
             raise InputError(f"flash needs exactly two of T, P, h, s (got {sorted(given) or 'none'})")
         scalar = all(np.ndim(v) == 0 for v in given.values()) and (zs is None or np.ndim(zs) == 1)
-        arrays = [np.atleast_1d(np.asarray(v, dtype=float)) for v in given.values()]
-        Z = self._zs if zs is None else np.asarray(zs, dtype=float)
-        n = max([a.shape[0] for a in arrays] + [Z.shape[0] if Z.ndim == 2 else 1])
-        arrays = [np.broadcast_to(a, (n,)).copy() for a in arrays]
-        Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
-        _check_composition(Zb, self.n_components)
+        if scalar and zs is None:
+            # one state of the fluid's own composition (checked when the fluid was made): the
+            # common call, without the broadcasting and the composition check of a batch
+            arrays = [np.array([float(v)]) for v in given.values()]
+            Zb = self._zs[None, :].copy()
+        else:
+            arrays = [np.atleast_1d(np.asarray(v, dtype=float)) for v in given.values()]
+            Z = self._zs if zs is None else np.asarray(zs, dtype=float)
+            n = max([a.shape[0] for a in arrays] + [Z.shape[0] if Z.ndim == 2 else 1])
+            arrays = [np.broadcast_to(a, (n,)).copy() for a in arrays]
+            Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
+            if zs is not None:
+                _check_composition(Zb, self.n_components)
+        n = Zb.shape[0]
         spec = dict(zip(given, arrays))
         eng = self._engine
         Tg = None if T_guess is None else np.broadcast_to(np.asarray(T_guess, float), (n,)).copy()
@@ -326,35 +335,151 @@ class Fluid:
         from .quality import quality
         return quality(self.components, self._zs if zs is None else zs, combustion_T, metering_T)
 
-    def dew_point(self, P=None, T=None, zs=None, branch="upper"):
-        """Dew point: temperature [K] at pressure P, or pressure [Pa] at temperature T.
+    def dew_temperature(self, P, zs=None, branch="upper"):
+        """Dew temperature [K] at pressure P [Pa]: where the first drop of liquid forms on an isobar.
 
-        At P: the upper dew point by default -- the highest temperature at which liquid exists
-        (the one a sales-gas specification means); ``branch="lower"`` gives the lower
-        (retrograde) dew point, which exists between the critical pressure and the cricondenbar
-        (NaN elsewhere); ``branch="both"`` gives the pair (upper, lower). At T: the lowest
-        pressure at which liquid exists. NaN where no liquid forms on that line (above the
-        cricondenbar, say). Mixtures on the cubic models are solved as verified boundaries (see
-        :mod:`letdown.fluid.flash.saturation`); a pure fluid's dew and bubble points are its saturation
-        point (GERG-2008 answers pure fluids only). Array inputs give arrays.
+        Parameters
+        ----------
+        P : float or ndarray (n,)
+            Pressure [Pa].
+        zs : ndarray, optional
+            Composition override, (nc,) or (n, nc), component order of :attr:`components` [-].
+        branch : {"upper", "lower", "both"}
+            ``"upper"`` (default): the upper dew point, the highest temperature at which liquid
+            exists (the one a sales-gas specification means). ``"lower"``: the lower (retrograde)
+            dew point, which exists only between the critical pressure and the cricondenbar.
+            ``"both"``: the pair (upper, lower).
+
+        Returns
+        -------
+        float or ndarray, or a pair of them for ``branch="both"``
+            [K]. NaN where no liquid forms on that isobar: above the cricondenbar for the upper
+            branch, and outside the critical pressure to cricondenbar band for the lower one (a
+            pure fluid has no lower dew point). Mixtures on the cubic models are solved as
+            verified boundaries (see :mod:`letdown.fluid.flash.saturation`); a pure fluid's dew
+            point is its saturation temperature.
 
         Raises
         ------
+        InputError
+            A non-positive or non-finite pressure, a bad composition, an unknown branch.
         ConvergenceError
             A boundary that could not be confirmed by flashes either side.
         ModelError
             A mixture on GERG-2008 (no phase equilibrium of mixtures on it here).
         """
         if branch == "both":
-            return (self._saturation("dew", P, T, zs, "upper"),
-                    self._saturation("dew", P, T, zs, "lower"))
-        return self._saturation("dew", P, T, zs, branch)
+            return (self._saturation("dew", P, None, zs, "upper"),
+                    self._saturation("dew", P, None, zs, "lower"))
+        return self._saturation("dew", P, None, zs, branch)
+
+    def dew_pressure(self, T, zs=None):
+        """Dew pressure [Pa] at temperature T [K]: the lowest pressure at which liquid exists on
+        the isotherm.
+
+        Parameters
+        ----------
+        T : float or ndarray (n,)
+            Temperature [K].
+        zs : ndarray, optional
+            Composition override, (nc,) or (n, nc) [-].
+
+        Returns
+        -------
+        float or ndarray
+            [Pa]. NaN where no liquid forms on that isotherm (above the cricondentherm).
+
+        Raises
+        ------
+        InputError
+            A non-positive or non-finite temperature, a bad composition.
+        ConvergenceError
+            A boundary that could not be confirmed by flashes either side.
+        ModelError
+            A mixture on GERG-2008.
+        """
+        return self._saturation("dew", None, T, zs, "upper")
+
+    def bubble_temperature(self, P, zs=None):
+        """Bubble temperature [K] at pressure P [Pa]: the lowest temperature at which vapour exists
+        on the isobar.
+
+        Parameters
+        ----------
+        P : float or ndarray (n,)
+            Pressure [Pa].
+        zs : ndarray, optional
+            Composition override, (nc,) or (n, nc) [-].
+
+        Returns
+        -------
+        float or ndarray
+            [K]. NaN where no vapour forms on that isobar above the search floor (above the
+            critical pressure of a pure fluid, say, or a wet gas whose water never boils off).
+
+        Raises
+        ------
+        InputError
+            A non-positive or non-finite pressure, a bad composition.
+        ConvergenceError
+            A boundary that could not be confirmed by flashes either side.
+        ModelError
+            A mixture on GERG-2008.
+        """
+        return self._saturation("bubble", P, None, zs, "upper")
+
+    def bubble_pressure(self, T, zs=None):
+        """Bubble pressure [Pa] at temperature T [K]: the highest pressure at which vapour exists
+        on the isotherm (above the critical temperature this is the upper, retrograde dew
+        pressure).
+
+        Parameters
+        ----------
+        T : float or ndarray (n,)
+            Temperature [K].
+        zs : ndarray, optional
+            Composition override, (nc,) or (n, nc) [-].
+
+        Returns
+        -------
+        float or ndarray
+            [Pa]. NaN where no two-phase state exists on that isotherm (above the
+            cricondentherm).
+
+        Raises
+        ------
+        InputError
+            A non-positive or non-finite temperature, a bad composition.
+        ConvergenceError
+            A boundary that could not be confirmed by flashes either side.
+        ModelError
+            A mixture on GERG-2008.
+        """
+        return self._saturation("bubble", None, T, zs, "upper")
+
+    def dew_point(self, P=None, T=None, zs=None, branch="upper"):
+        """Deprecated: use :meth:`dew_temperature` (at P) or :meth:`dew_pressure` (at T)."""
+        if (P is None) == (T is None):
+            raise InputError("dew point needs exactly one of P or T")
+        if P is not None:
+            _deprecated("dew_point(P=...)", "dew_temperature(P)")
+            return self.dew_temperature(P, zs=zs, branch=branch)
+        _deprecated("dew_point(T=...)", "dew_pressure(T)")
+        if branch not in ("upper", "lower", "both"):
+            raise InputError(f"branch must be 'upper', 'lower' or 'both' (got {branch!r})")
+        if branch != "upper":
+            raise InputError("the lower dew point is asked for at a pressure (P=...)")
+        return self.dew_pressure(T, zs=zs)
 
     def bubble_point(self, P=None, T=None, zs=None):
-        """Bubble point: temperature [K] at P (the lowest T at which vapour exists), or pressure
-        [Pa] at T (the highest P at which vapour exists; above the critical temperature this is the
-        upper, retrograde dew point)."""
-        return self._saturation("bubble", P, T, zs, "upper")
+        """Deprecated: use :meth:`bubble_temperature` (at P) or :meth:`bubble_pressure` (at T)."""
+        if (P is None) == (T is None):
+            raise InputError("bubble point needs exactly one of P or T")
+        if P is not None:
+            _deprecated("bubble_point(P=...)", "bubble_temperature(P)")
+            return self.bubble_temperature(P, zs=zs)
+        _deprecated("bubble_point(T=...)", "bubble_pressure(T)")
+        return self.bubble_pressure(T, zs=zs)
 
     def envelope(self, zs=None, betas=()):
         """Phase envelope: dew and bubble curves traced through the critical point.
@@ -515,6 +640,10 @@ class Fluid:
         :func:`letdown.fluid.aqueous.water.water_dew_point`."""
         from .aqueous.water import water_dew_point
         return water_dew_point(y_water, P, fluid=self, method=method)
+
+
+def _deprecated(old, new):
+    warnings.warn(f"Fluid.{old} is deprecated; use Fluid.{new}", DeprecationWarning, stacklevel=3)
 
 
 def _check_composition(zs, nc):

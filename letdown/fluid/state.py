@@ -46,6 +46,8 @@ class Phase:
 
 _SCALARS = ("T", "P", "h", "s", "Z", "cp", "cv", "jt", "w", "density", "molar_mass",
             "vapour_fraction", "converged")
+_FLOATS = _SCALARS[:-1]
+_PER_PHASE = ("Z", "density", "h", "s", "molar_mass")
 
 
 @dataclass(frozen=True)
@@ -109,15 +111,17 @@ class States:
         return int(self.T.shape[0])
 
     def __getitem__(self, i) -> "State":
-        if isinstance(i, slice) or np.ndim(i) > 0:
+        if not isinstance(i, (int, np.integer)) and (isinstance(i, slice) or np.ndim(i) > 0):
             return self.take(i)
-        vals = {k: (bool(getattr(self, k)[i]) if k == "converged" else float(getattr(self, k)[i]))
-                for k in _SCALARS}
+        # float(a.item(i)): the same value as float(a[i]), without the numpy scalar between
+        vals = {k: float(getattr(self, k).item(i)) for k in _FLOATS}
+        vals["converged"] = bool(self.converged.item(i))
         phases = []
         beta = vals["vapour_fraction"]
         if self.aqueous_fraction is None:
-            has_v = self.n_phases[i] == 2 or beta >= 1.0
-            has_l = self.n_phases[i] == 2 or beta <= 0.0
+            two = self.n_phases.item(i) == 2
+            has_v = two or beta >= 1.0
+            has_l = two or beta <= 0.0
         else:
             # a fluid with water: vapour and liquid where their fractions say so (two liquids,
             # hydrocarbon and aqueous, have vapour fraction 0)
@@ -125,13 +129,13 @@ class States:
             has_v = (many and beta > 0.0) or beta >= 1.0
             has_l = (many and beta < 1.0) or beta <= 0.0
         if has_v:
+            v = self.vapour
             phases.append(Phase("vapour", beta, self.ys[i].copy(),
-                                *(float(self.vapour[k][i]) for k in ("Z", "density", "h", "s",
-                                                                     "molar_mass"))))
+                                *[float(v[k].item(i)) for k in _PER_PHASE]))
         if has_l:
+            v = self.liquid
             phases.append(Phase("liquid", 1.0 - beta, self.xs[i].copy(),
-                                *(float(self.liquid[k][i]) for k in ("Z", "density", "h", "s",
-                                                                     "molar_mass"))))
+                                *[float(v[k].item(i)) for k in _PER_PHASE]))
         wet = {} if self.aqueous_fraction is None else {
             "aqueous_fraction": float(self.aqueous_fraction[i]),
             "phase_count": int(self.n_phases[i])}

@@ -264,8 +264,15 @@ def dew_points_text(result, units: str = "si", atmosphere: float = STANDARD_ATMO
         def t(key):
             v = dew.get(key)
             return "-" if v is None else f"{u['T'](v):.2f} {u['T'].label}"
-        lines.append(f"  {name}: hydrocarbon dew point {t('hc_dew_T_K')} at "
-                     f"{u['P'](pick(_get(s, 'P'))):.2f} {u['P'].label}; cricondentherm "
+        at = f"{u['P'](pick(_get(s, 'P'))):.2f} {u['P'].label}"
+        if dew.get("hc_dew_T_K") is None and dew.get("hc_dew_reason"):
+            why = dew["hc_dew_reason"]
+            if dew.get("cricondenbar_Pa") is not None and why == "above the cricondenbar":
+                why += f", {u['P'](dew['cricondenbar_Pa']):.2f} {u['P'].label}"
+            first = f"no hydrocarbon dew point at {at}: {why}"
+        else:
+            first = f"hydrocarbon dew point {t('hc_dew_T_K')} at {at}"
+        lines.append(f"  {name}: {first}; cricondentherm "
                      f"{t('cricondentherm_K')} ({dew.get('dew_point_model')})")
     if not lines:
         return ""

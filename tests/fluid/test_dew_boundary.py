@@ -1,6 +1,6 @@
 """Dew and bubble points as verified boundary solves (issue 11).
 
-Before: ``Fluid.dew_point(P=...)`` returned 63-145 K for gases whose dew curve at that pressure
+Before: ``Fluid.dew_point(P=...)`` (now ``Fluid.dew_temperature``) returned 63-145 K for gases whose dew curve at that pressure
 sits near 280-300 K (just below the cricondenbar: the stability grid missed the narrow two-phase
 range and found a liquid-liquid split far below), and NaN for methane with 0.1-0.2 % ethane.
 
@@ -68,7 +68,7 @@ def phases(gas, T, P):
 def test_upper_dew_point_near_the_cricondenbar(envelopes, name, frac):
     gas, env = envelopes[name]
     P = frac * env.cricondenbar.P
-    T = gas.dew_point(P=P)
+    T = gas.dew_temperature(P=P)
     assert np.isfinite(T)
     assert env.cricondenbar.T < T <= env.cricondentherm.T + 1e-6
     # the envelope equations, solved by Newton at this pressure, give the same temperature
@@ -88,10 +88,10 @@ def test_both_dew_points_above_the_critical_pressure(envelopes, name):
     that does not converge."""
     gas, env = envelopes[name]
     P = 0.5 * (max(env.critical.P, 0.9 * env.cricondenbar.P) + env.cricondenbar.P)
-    upper = gas.dew_point(P=P)
+    upper = gas.dew_temperature(P=P)
     assert upper == pytest.approx(envelope_equation_T(gas, P, upper, -0.01), abs=1e-3)
     try:
-        upper2, lower = gas.dew_point(P=P, branch="both")
+        upper2, lower = gas.dew_temperature(P=P, branch="both")
     except ConvergenceError as exc:
         assert "critical point" in str(exc) and name in ("propane-rich", "co2-rich")
         return
@@ -110,9 +110,9 @@ def test_lower_dew_point_below_the_critical_pressure_is_nan(envelopes):
     """Below the critical pressure the lower end of the two-phase range is a bubble point."""
     gas, env = envelopes["wet-co2"]
     P = 0.5 * env.critical.P
-    upper, lower = gas.dew_point(P=P, branch="both")
+    upper, lower = gas.dew_temperature(P=P, branch="both")
     assert np.isfinite(upper) and np.isnan(lower)
-    assert gas.bubble_point(P=P) < upper
+    assert gas.bubble_temperature(P=P) < upper
 
 
 @pytest.mark.parametrize("x_ethane", [0.001, 0.002])
@@ -121,7 +121,7 @@ def test_nearly_pure_methane_dew_and_bubble_points(x_ethane):
     Peng-Robinson model (dew VF = 1, bubble VF = 0) to 0.01 K, verified by flashes either side."""
     gas = letdown.Fluid({"methane": 1.0 - x_ethane, "ethane": x_ethane})
     P = 20e5
-    dew, bub = gas.dew_point(P=P), gas.bubble_point(P=P)
+    dew, bub = gas.dew_temperature(P=P), gas.bubble_temperature(P=P)
     flasher = thermo_flasher(gas)
     zs = gas.zs.tolist()
     assert dew == pytest.approx(flasher.flash(P=P, VF=1.0, zs=zs).T, abs=0.01)
@@ -134,16 +134,16 @@ def test_nearly_pure_methane_dew_and_bubble_points(x_ethane):
 def test_batch_of_pressures_and_no_dew_point_above_the_cricondenbar(envelopes):
     gas, env = envelopes["propane-rich"]
     Ps = np.array([0.5, 0.9, 0.995, 1.01]) * env.cricondenbar.P
-    Ts = gas.dew_point(P=Ps)
+    Ts = gas.dew_temperature(P=Ps)
     assert np.all(np.isfinite(Ts[:3])) and np.isnan(Ts[3])
     for k in range(3):
-        assert Ts[k] == pytest.approx(gas.dew_point(P=Ps[k]), rel=1e-12)
+        assert Ts[k] == pytest.approx(gas.dew_temperature(P=Ps[k]), rel=1e-12)
 
 
 def test_gerg_mixture_dew_point_is_refused_pure_is_answered():
     with pytest.raises(ModelError, match="use a cubic model"):
-        letdown.Fluid(GASES["wet-co2"], model="gerg-2008").dew_point(P=30e5)
-    assert 200 < letdown.Fluid({"propane": 1.0}, model="gerg-2008").dew_point(P=5e5) < 300
+        letdown.Fluid(GASES["wet-co2"], model="gerg-2008").dew_temperature(P=30e5)
+    assert 200 < letdown.Fluid({"propane": 1.0}, model="gerg-2008").dew_temperature(P=5e5) < 300
 
 
 def test_wet_gas_has_no_bubble_point_above_the_floor():
@@ -154,5 +154,5 @@ def test_wet_gas_has_no_bubble_point_above_the_floor():
                          "n-butane": 0.00351, "nitrogen": 0.01423, "carbon-dioxide": 0.00965,
                          "water": 0.00272})
     with pytest.raises(ConvergenceError, match="no bubble point"):
-        gas.bubble_point(P=25e5)
-    assert 273.0 < gas.dew_point(P=25e5) < 330.0      # the water dew point
+        gas.bubble_temperature(P=25e5)
+    assert 273.0 < gas.dew_temperature(P=25e5) < 330.0      # the water dew point

@@ -7,7 +7,7 @@ n-heptane and n-octane); a CO2-rich gas -- AGA Report No. 8 Part 2 App. B "High 
 Independent references:
 
 * the traced points against letdown's own stability-based dew and bubble points
-  (``Fluid.dew_point`` / ``Fluid.bubble_point``: grid scan and bisection on the sign of the
+  (``Fluid.dew_temperature`` / ``Fluid.bubble_temperature``: grid scan and bisection on the sign of the
   tangent-plane distance, Michelsen 1982 -- no Newton on the envelope equations);
 * the lines of constant vapour fraction against letdown's PT flash (successive substitution and
   Rachford-Rice, a different solver);
@@ -133,8 +133,8 @@ def test_traced_points_agree_with_stability_based_dew_and_bubble_points(gas):
         return idx[ok][::4]
     up, lo = sample(upper), sample(lower)
     assert up.size >= 5 and lo.size >= 5
-    np.testing.assert_allclose(fluid.dew_point(P=P[up]), T[up], rtol=0, atol=SATURATION_TOL_K)
-    np.testing.assert_allclose(fluid.bubble_point(P=P[lo]), T[lo], rtol=0, atol=SATURATION_TOL_K)
+    np.testing.assert_allclose(fluid.dew_temperature(P=P[up]), T[up], rtol=0, atol=SATURATION_TOL_K)
+    np.testing.assert_allclose(fluid.bubble_temperature(P=P[lo]), T[lo], rtol=0, atol=SATURATION_TOL_K)
 
 
 @pytest.mark.parametrize("gas", GASES, ids=lambda g: g.name)
@@ -301,7 +301,7 @@ def test_extrema_are_stationary_on_the_curve():
     at the cricondenbar no two-phase state exists a little above it (letdown's own stability test)."""
     fluid, env = envelope(GULF_COAST)
     ct, cb = env.cricondentherm, env.cricondenbar
-    Td = fluid.dew_point(P=np.array([0.95 * ct.P, ct.P, 1.05 * ct.P]))
+    Td = fluid.dew_temperature(P=np.array([0.95 * ct.P, ct.P, 1.05 * ct.P]))
     assert Td[1] == pytest.approx(ct.T, abs=SATURATION_TOL_K)
     assert Td[0] < ct.T and Td[2] < ct.T
     Ts = cb.T + np.linspace(-20.0, 20.0, 41)

@@ -118,7 +118,7 @@ def test_batch_flash_agrees_with_thermo():
 def test_dew_points_agree_with_thermo(gas, model):
     fluid, flasher = setup(gas, model)
     P = np.array(DEW_PRESSURES)
-    ours = fluid.dew_point(P=P)
+    ours = fluid.dew_temperature(P=P)
     for k, p in enumerate(P):
         ref = flasher.flash(P=float(p), VF=1.0, zs=fluid.zs.tolist())
         assert ours[k] == pytest.approx(ref.T, abs=DEW_TOL), f"P = {p / BAR:g} bar"
@@ -127,13 +127,13 @@ def test_dew_points_agree_with_thermo(gas, model):
 def test_scalar_dew_point_agrees_with_thermo():
     fluid, flasher = setup(RICH_GAS_C7PLUS, "peng-robinson")
     ref = flasher.flash(P=40 * BAR, VF=1.0, zs=fluid.zs.tolist())
-    assert fluid.dew_point(P=40 * BAR) == pytest.approx(ref.T, abs=DEW_TOL)
+    assert fluid.dew_temperature(P=40 * BAR) == pytest.approx(ref.T, abs=DEW_TOL)
 
 
 def test_just_above_dew_point_is_one_phase_just_below_is_two():
     """The dew point is a phase boundary in letdown's own PT flash too (0.05 K either side)."""
     fluid, _ = setup(RICH_GAS_C7PLUS, "peng-robinson")
-    Td = fluid.dew_point(P=40 * BAR)
+    Td = fluid.dew_temperature(P=40 * BAR)
     assert fluid.flash(T=Td + 0.05, P=40 * BAR).n_phases == 1
     below = fluid.flash(T=Td - 0.05, P=40 * BAR)
     assert below.n_phases == 2 and below.vapour_fraction > 0.999
@@ -148,5 +148,5 @@ def test_superheated_vapour_has_vapour_fraction_one():
     st = gas.flash(T=300.0, P=1 * BAR)
     assert ref.phase_count == 1 and ref.VF == 1.0
     assert st.n_phases == 1
-    assert gas.dew_point(P=1 * BAR) < 300.0
+    assert gas.dew_temperature(P=1 * BAR) < 300.0
     assert st.vapour_fraction == ref.VF

@@ -237,4 +237,4 @@ def test_two_phase_cases_in_a_batch_are_marked_not_converged():
 
 def test_dew_point_is_model_error():
     with pytest.raises(ModelError, match="use a cubic model"):
-        RICH_GAS_C7PLUS.fluid("gerg-2008").dew_point(P=30 * BAR)
+        RICH_GAS_C7PLUS.fluid("gerg-2008").dew_temperature(P=30 * BAR)

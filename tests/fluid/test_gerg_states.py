@@ -118,7 +118,7 @@ SAT_CASES = [("propane", 1.7 * BAR), ("propane", 16 * BAR), ("methane", 20 * BAR
 def test_pure_saturation_temperature_against_reference_equation(name, P):
     """Saturation temperature from GERG-2008 itself vs the reference equation (CoolProp): within
     0.1 K (the pure-fluid equations differ; measured when written: at most 0.03 K)."""
-    T = letdown.Fluid({name: 1.0}, model="gerg-2008").dew_point(P=P)
+    T = letdown.Fluid({name: 1.0}, model="gerg-2008").dew_temperature(P=P)
     AS = coolprop({name: 1.0})
     AS.update(CoolProp.PQ_INPUTS, P, 1.0)
     assert T == pytest.approx(AS.T(), abs=0.1)
@@ -131,7 +131,7 @@ def test_pure_ph_inside_the_dome_sits_at_saturation(quality):
     3 kJ/mol off the requested enthalpy, marked converged."""
     gas = letdown.Fluid({"propane": 1.0}, model="gerg-2008")
     P = 1.7 * BAR
-    Ts = gas.dew_point(P=P)
+    Ts = gas.dew_temperature(P=P)
     hl = gas.flash(T=Ts - 1e-6, P=P).h
     hv = gas.flash(T=Ts + 1e-6, P=P).h
     h = hl + quality * (hv - hl)
@@ -152,7 +152,7 @@ def test_pure_ph_inside_the_dome_sits_at_saturation(quality):
 def test_pure_ps_inside_the_dome_and_round_trip():
     gas = letdown.Fluid({"propane": 1.0}, model="gerg-2008")
     P = 5 * BAR
-    Ts = gas.dew_point(P=P)
+    Ts = gas.dew_temperature(P=P)
     sl = gas.flash(T=Ts - 1e-6, P=P).s
     sv = gas.flash(T=Ts + 1e-6, P=P).s
     st = gas.flash(P=P, s=0.4 * sl + 0.6 * sv)
@@ -226,9 +226,9 @@ def test_pure_saturation_pressure_against_reference_equation(name, cp_name, T):
     (measured when written: at most 0.08 %), and consistent with the saturation temperature."""
     from CoolProp.CoolProp import PropsSI
     gas = letdown.Fluid({name: 1.0}, model="gerg-2008")
-    P = gas.dew_point(T=T)
+    P = gas.dew_pressure(T=T)
     assert P == pytest.approx(PropsSI("P", "T", T, "Q", 1.0, cp_name), rel=2e-3)
-    assert gas.bubble_point(P=P) == pytest.approx(T, abs=1e-6)
+    assert gas.bubble_temperature(P=P) == pytest.approx(T, abs=1e-6)
 
 
 def test_cold_liquid_ps_round_trip():

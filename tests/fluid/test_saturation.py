@@ -43,8 +43,8 @@ def test_bubble_point_of_pure_fluid_is_its_saturation_temperature():
     gas = letdown.Fluid({"propane": 1.0})
     a = AbstractState("PR", "Propane")
     a.update(CP.PQ_INPUTS, 5e5, 0.0)
-    assert gas.bubble_point(P=5e5) == pytest.approx(gas.dew_point(P=5e5), abs=1e-9)
-    assert gas.bubble_point(P=5e5) == pytest.approx(a.T(), abs=0.01)
+    assert gas.bubble_temperature(P=5e5) == pytest.approx(gas.dew_temperature(P=5e5), abs=1e-9)
+    assert gas.bubble_temperature(P=5e5) == pytest.approx(a.T(), abs=0.01)
 
 
 @pytest.mark.parametrize("quality", [0.0, 0.3, 0.7, 1.0])
@@ -53,7 +53,7 @@ def test_pure_fluid_inside_its_dome(quality):
     saturation temperature and the lever-rule vapour fraction (they must not fail)."""
     gas = letdown.Fluid({"propane": 1.0})
     P = 5e5
-    Ts = gas.bubble_point(P=P)
+    Ts = gas.bubble_temperature(P=P)
     L = gas.flash(T=Ts - 1e-7, P=P)
     V = gas.flash(T=Ts + 1e-7, P=P)
     assert L.vapour_fraction == 0.0 and V.vapour_fraction == 1.0
@@ -85,13 +85,13 @@ def test_bubble_and_dew_points_match_thermo(model, exact, rel_rounded):
     flasher = thermo_flasher(gas)
     zs = gas.zs.tolist()
     P = 10e5
-    assert gas.bubble_point(P=P) == pytest.approx(flasher.flash(P=P, VF=0.0, zs=zs).T, abs=0.01)
-    assert gas.dew_point(P=P) == pytest.approx(flasher.flash(P=P, VF=1.0, zs=zs).T, abs=0.01)
+    assert gas.bubble_temperature(P=P) == pytest.approx(flasher.flash(P=P, VF=0.0, zs=zs).T, abs=0.01)
+    assert gas.dew_temperature(P=P) == pytest.approx(flasher.flash(P=P, VF=1.0, zs=zs).T, abs=0.01)
     T = 300.0
     ref_bubble = flasher.flash(T=T, VF=0.0, zs=zs).P
     ref_dew = flasher.flash(T=T, VF=1.0, zs=zs).P
-    assert gas.bubble_point(T=T) == pytest.approx(ref_bubble, rel=rel_rounded)
-    assert gas.dew_point(T=T) == pytest.approx(ref_dew, rel=rel_rounded)
+    assert gas.bubble_pressure(T=T) == pytest.approx(ref_bubble, rel=rel_rounded)
+    assert gas.dew_pressure(T=T) == pytest.approx(ref_dew, rel=rel_rounded)
     from letdown.fluid.flash.engine import CubicEngine
     engine = CubicEngine(gas.engine.comps, CubicEOS(gas.engine.comps, exact, gas.kijs))
     z = gas.zs[None, :]
@@ -107,6 +107,6 @@ def test_no_dew_point_above_the_cricondenbar():
                          "n-butane": 0.001007, "isopentane": 0.000473, "n-pentane": 0.000324,
                          "n-hexane": 0.000664})       # AGA8 Gulf Coast gas (tests/cases.py)
     env = gas.envelope()
-    assert np.isnan(gas.dew_point(P=1.001 * env.cricondenbar.P))
-    below = gas.dew_point(P=0.99 * env.cricondenbar.P)
+    assert np.isnan(gas.dew_temperature(P=1.001 * env.cricondenbar.P))
+    below = gas.dew_temperature(P=0.99 * env.cricondenbar.P)
     assert env.critical.T < below <= env.cricondentherm.T + 1e-6

@@ -28,7 +28,7 @@ def test_dew_point_and_cricondentherm_of_the_export_gas(solved):
     s = out.streams["export-gas"]
     gas = letdown.Fluid(dict(s.zs), model=res.model)
     # the same quantities computed directly (stability bisection; envelope extremum)
-    assert s.dew["hc_dew_T_K"] == pytest.approx(gas.dew_point(P=s.P), abs=1e-6)
+    assert s.dew["hc_dew_T_K"] == pytest.approx(gas.dew_temperature(P=s.P), abs=1e-6)
     assert s.dew["cricondentherm_K"] == pytest.approx(gas.envelope().cricondentherm.T, abs=1e-6)
     # the cricondentherm is the highest dew temperature at any pressure
     assert s.dew["cricondentherm_K"] >= s.dew["hc_dew_T_K"] - 1e-6
@@ -47,3 +47,37 @@ def test_json_carries_them_only_on_request():
     assert asked.returncode == 0
     export = json.loads(asked.stdout)["streams"]["export-gas"]
     assert export["hc_dew_T_K"] < export["cricondentherm_K"] + 1e-6
+
+
+# A lean gas (the gate station's invented composition) let down from 100 to 75 barg: 75 barg is
+# above its Peng-Robinson cricondenbar (about 58.9 bar), so no hydrocarbon dew point exists there.
+ABOVE_CRICONDENBAR = """\
+title: High-pressure export (test)
+gas:
+  model: peng-robinson
+  composition: {methane: 0.9135, ethane: 0.048, propane: 0.012, nitrogen: 0.015, carbon-dioxide: 0.0115}
+feeds:
+  supply: {T: 30 degC, P: 100 barg, flow: 85000 Sm3/h}
+equipment:
+  regulator: {kind: throttle, from: supply, to: export, P_out: 75 barg}
+"""
+
+
+def test_no_dew_point_above_the_cricondenbar_is_said_in_words(tmp_path, capsys):
+    """Before: the report printed 'hydrocarbon dew point -' and the JSON null, with no reason."""
+    from letdown.cli.app import main
+    path = tmp_path / "hp.yaml"
+    path.write_text(ABOVE_CRICONDENBAR)
+    assert main(["solve", str(path), "--dew-points", "--json"]) == 0
+    export = json.loads(capsys.readouterr().out)["streams"]["export"]
+    env = letdown.Fluid({"methane": 0.9135, "ethane": 0.048, "propane": 0.012, "nitrogen": 0.015,
+                         "carbon-dioxide": 0.0115}).envelope()
+    assert export["hc_dew_T_K"] is None
+    assert export["hc_dew_reason"] == "above the cricondenbar"
+    assert export["cricondenbar_Pa"] == pytest.approx(env.cricondenbar.P, rel=1e-9)
+    assert main(["solve", str(path), "--dew-points"]) == 0
+    text = capsys.readouterr().out
+    line = next(ln for ln in text.splitlines() if ln.strip().startswith("export:"))
+    assert "nan" not in line.lower()
+    bar_g = env.cricondenbar.P / 1e5 - 1.01325
+    assert f"no hydrocarbon dew point at 75.00 barg: above the cricondenbar, {bar_g:.2f} barg" in line

@@ -170,7 +170,7 @@ def test_low_pressure_limit_against_perrys_methanol_vapour_pressure(T):
     c = table.loc["67-56-1"]
     perry = np.exp(c.C1 + c.C2 / T + c.C3 * np.log(T) + c.C4 * T ** c.C5)
     pure = letdown.Fluid({"methanol": 1.0})
-    Psat = pure.bubble_point(T=T)
+    Psat = pure.bubble_pressure(T=T)
     Psat = float(getattr(Psat, "P", Psat))
     # Measured on this model: 0.83 (268.15 K), 0.86 (278.15 K), 0.92 (298.15 K) of Perry's --
     # the Soave-type alpha of Peng-Robinson with omega = 0.5625 (docs/models.md, known limits).

@@ -50,7 +50,7 @@ def _reference(zs):
 def _bias(zs, model):
     dews, ct = _reference(zs)
     gas = letdown.Fluid(zs, model=model)
-    ours = np.array([gas.dew_point(P=P) if np.isfinite(d) else np.nan
+    ours = np.array([gas.dew_temperature(P=P) if np.isfinite(d) else np.nan
                      for P, d in zip(PRESSURES, dews)])
     return ours - dews, gas.envelope().cricondentherm.T - ct
 

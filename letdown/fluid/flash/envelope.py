@@ -51,6 +51,11 @@ Edges (issue 11):
   reaches the limit without a critical point (a water dew line) says so;
 * a trace that stops early reports where (T, P) and why; only letdown errors leave this module.
 
+The code is in three rooms: :mod:`letdown.fluid.flash.continuation` (the equations, Newton's
+method, the tracer), :mod:`letdown.fluid.flash.landmarks` (the first point, the critical point,
+the extrema) and this module (the results and :func:`phase_envelope`, which runs the traces and
+assembles them; the names of the other two that callers use are importable from here).
+
 Everything is SI: T [K], P [Pa]; compositions and K-values [-].
 """
 from __future__ import annotations
@@ -58,75 +63,26 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 
 import numpy as np
-from scipy.optimize import brentq
 
 from ...errors import ConvergenceError, InputError
-from . import twophase as fl
 from ..eos.cubic import CubicEOS
+from .continuation import (  # noqa: F401  (public names of the tracer, importable from here)
+    CRIT_APPROACH, CRIT_JUMP, EASY_ITER, HARD_ITER, JACOBIAN_STEP, MAX_P, MAX_POINTS,
+    MAX_PREDICTION_MISS, MAX_STEP_LNK, MAX_STEP_LNP, MAX_STEP_LNT, MIN_T, NEWTON_F_NOISE,
+    NEWTON_F_TOL, NEWTON_MAX_CORRECTION, NEWTON_MAX_ITER, NEWTON_STEP_TOL, START_P, STEP_FIRST,
+    STEP_GROW, STEP_MAX, STEP_MIN, STEP_SHRINK, TRIVIAL_LNK, EnvelopeSystem, TraceReport, _Trace,
+    trace)
+from .landmarks import (  # noqa: F401
+    CRIT_NODES, EXTREMUM_XTOL, NEARLY_PURE, NEARLY_PURE_BRACKET_K, NEARLY_PURE_SS_ITER,
+    _extremum, _locate_critical, _start)
 
-#: Pressure of the first point (the low-pressure dew point) and of the last (the low-pressure
-#: bubble point) [Pa]: 1 bar, below every pressure of a let-down or chilling plant.
-START_P = 1e5
-#: Trace stops above this pressure [Pa]: 1000 bar, ten times a let-down or chilling plant's (a
-#: curve still rising there has no critical point or no upper turn in reach: a hydrogen- or
-#: helium-bearing liquid, a water dew line; the reports say so).
-MAX_P = 1e8
-#: Trace stops below this temperature [K] (the flash's own lower bound).
-MIN_T = fl.T_LOW
+#: The cricondentherm (cricondenbar) is the largest ln T (ln P) of the whole boundary: a turning
+#: point more than this below a traced point is a local one and is not reported [-] (the traced
+#: points lie below a true extremum to round-off, about 1e-12).
+EXTREMUM_LOCAL_TOL = 1e-7
 #: A line of constant vapour fraction with no first point at the start pressure is tried at this
 #: many pressures between it and the critical pressure (geometric ladder).
 LINE_START_RUNGS = 12
-#: Largest number of points in one trace.
-MAX_POINTS = 600
-#: Newton iterations per point; a point that needs more is retried with a shorter step.
-NEWTON_MAX_ITER = 15
-#: A point is converged when every equation residual is below this (ln of fugacity ratio) [-] and
-#: the last Newton step is below NEWTON_STEP_TOL; 1e-10 leaves a margin of 100 below the 1e-8
-#: promised for every traced point.
-NEWTON_F_TOL = 1e-10
-NEWTON_STEP_TOL = 1e-8
-#: Residual at the round-off level of the equations: converged whatever the last step (close to the
-#: critical point the Jacobian is nearly singular and the steps stay at its noise, ~1e-7).
-NEWTON_F_NOISE = 1e-12
-#: Largest Newton correction of any variable (ln K, ln T, ln P) in one iteration [-].
-NEWTON_MAX_CORRECTION = 1.0
-#: Central-difference step in the log variables [-]: truncation ~1e-12, round-off ~1e-10.
-JACOBIAN_STEP = 1e-6
-#: Arc-length steps in X space [-]: first, smallest (a trace that needs less has failed), largest.
-STEP_FIRST = 0.05
-STEP_MIN = 1e-6
-STEP_MAX = 0.5
-#: Largest change per step of ln T, ln P and any ln K [-] (keeps the curve finely drawn: about
-#: 5 K, 15 % in pressure).
-MAX_STEP_LNT = 0.02
-MAX_STEP_LNP = 0.15
-MAX_STEP_LNK = 0.25
-#: Step growth after a point that took at most EASY_ITER Newton iterations, shrink after one that
-#: took HARD_ITER or more.
-EASY_ITER = 3
-HARD_ITER = 6
-STEP_GROW = 1.5
-STEP_SHRINK = 0.6
-#: A converged point further than this multiple of the step from its prediction jumped to another
-#: branch (or the trivial solution) and is refused.
-MAX_PREDICTION_MISS = 0.5
-#: Near the critical point: a ln K specification predicted to cross zero from above this magnitude
-#: first steps to CRIT_APPROACH of its value; below it, the step jumps to -ln K (symmetric).
-CRIT_JUMP = 0.2
-CRIT_APPROACH = 0.3
-#: ln K values of the extra points either side of the critical point used to locate it [-].
-CRIT_NODES = np.array([0.05, 0.1, 0.15, 0.2])
-#: A point whose largest |ln K| is below this has fallen onto the trivial solution K = 1.
-TRIVIAL_LNK = 1e-6
-#: A composition whose largest fraction is at least this starts, where the stability scan finds no
-#: dew or bubble point, from the main component's saturation point (nearly pure fluids) [-].
-NEARLY_PURE = 0.95
-#: Nearly pure start: successive-substitution passes per trial temperature, and the half-widths of
-#: the brackets tried around the main component's saturation temperature [K].
-NEARLY_PURE_SS_ITER = 50
-NEARLY_PURE_BRACKET_K = (0.5, 2.0, 8.0, 30.0)
-#: Root finder tolerance for the extrema, in ln T or ln P [-] (1e-12 ~ 3e-10 K).
-EXTREMUM_XTOL = 1e-12
 
 
 @dataclass(frozen=True)
@@ -168,34 +124,6 @@ class Curve:
 
     def __len__(self) -> int:
         return int(self.T.shape[0])
-
-
-@dataclass(frozen=True)
-class TraceReport:
-    """Outcome of one continuation (the same fields as every letdown solver's report).
-
-    Attributes
-    ----------
-    converged : bool
-        True if the trace reached a proper end (low pressure, low temperature or the pressure
-        limit) with every point converged.
-    status : str
-        ``"complete"``, ``"ended at the pressure limit"``, ... or the reason of a failure.
-    message : str
-        What was traced.
-    iterations : int
-        Newton iterations over all points.
-    residual : float
-        Largest equation residual over the accepted points [-].
-    n_points : int
-    """
-
-    converged: bool
-    status: str
-    message: str
-    iterations: int
-    residual: float
-    n_points: int
 
 
 @dataclass(frozen=True)
@@ -268,512 +196,6 @@ class Envelope:
                             "n_points": r.n_points}
                         for k, r in self.reports.items()},
         }
-
-
-# ------------------------------------------------------------------------------------------------
-class EnvelopeSystem:
-    """The equations of one composition at one vapour fraction beta.
-
-    Parameters
-    ----------
-    eos : CubicEOS
-    zs : ndarray (nc,)
-        Composition [-].
-    beta : float
-        Molar fraction of the phase y [-]; 1 for the envelope (y = z).
-    """
-
-    def __init__(self, eos: CubicEOS, zs, beta: float = 1.0):
-        self.eos = eos
-        self.zs = np.asarray(zs, dtype=float)
-        self.nc = self.zs.shape[0]
-        self.beta = float(beta)
-        self.iT = self.nc
-        self.iP = self.nc + 1
-
-    def compositions(self, X):
-        """Phase compositions (x, y), normalised, for rows of X (m, nc + 2) [-]."""
-        K = np.exp(X[:, :self.nc])
-        x = self.zs / (1.0 - self.beta + self.beta * K)
-        y = K * x
-        return x, y
-
-    def residuals(self, X):
-        """Equations F_1 .. F_nc+1 for each row of X (m, nc + 2); shape (m, nc + 1)."""
-        m = X.shape[0]
-        nc = self.nc
-        K = np.exp(X[:, :nc])
-        x = self.zs / (1.0 - self.beta + self.beta * K)
-        y = K * x
-        T = np.exp(X[:, self.iT])
-        P = np.exp(X[:, self.iP])
-        xn = x / x.sum(axis=1, keepdims=True)
-        yn = y / y.sum(axis=1, keepdims=True)
-        lnphi, _ = self.eos.lnphi(np.concatenate([T, T]), np.concatenate([P, P]),
-                                  np.concatenate([yn, xn]), "stable")
-        F = np.empty((m, nc + 1))
-        F[:, :nc] = X[:, :nc] + lnphi[:m] - lnphi[m:]
-        F[:, nc] = np.sum(y - x, axis=1)
-        return F
-
-    def residual_jacobian(self, X):
-        """F (nc + 1) and dF/dX (nc + 1, nc + 2) at X by central differences (one EOS call)."""
-        n = X.shape[0]
-        E = JACOBIAN_STEP * np.eye(n)
-        Xs = np.concatenate([X[None, :], X + E, X - E])
-        F = self.residuals(Xs)
-        J = (F[1:n + 1] - F[n + 1:]).T / (2.0 * JACOBIAN_STEP)
-        return F[0], J
-
-    def solve(self, X0, s: int, S: float):
-        """Newton's method at X_s = S from X0.
-
-        Returns
-        -------
-        X : ndarray (nc + 2,), tangent : ndarray (nc + 2,) (dX/dS), iterations : int,
-        residual : float, ok : bool
-        """
-        X = np.array(X0, dtype=float)
-        X[s] = S
-        n = X.shape[0]
-        last = np.inf
-        for it in range(NEWTON_MAX_ITER + 1):
-            F, J = self.residual_jacobian(X)
-            if not np.all(np.isfinite(F)) or not np.all(np.isfinite(J)):
-                return X, None, it, np.inf, False
-            res = float(np.max(np.abs(F)))
-            A = np.vstack([J, np.eye(n)[s]])
-            if res < NEWTON_F_TOL and (last < NEWTON_STEP_TOL
-                                       or (it > 0 and res < NEWTON_F_NOISE)):
-                rhs = np.zeros(n)
-                rhs[-1] = 1.0
-                try:
-                    t = np.linalg.solve(A, rhs)
-                except np.linalg.LinAlgError:
-                    return X, None, it, res, False
-                ok = float(np.max(np.abs(X[:self.nc]))) > TRIVIAL_LNK
-                return X, t, it, res, ok
-            if it == NEWTON_MAX_ITER:
-                break
-            try:
-                dX = np.linalg.solve(A, -np.append(F, 0.0))
-            except np.linalg.LinAlgError:
-                return X, None, it, res, False
-            big = float(np.max(np.abs(dX)))
-            if not np.isfinite(big):
-                return X, None, it, res, False
-            if big > NEWTON_MAX_CORRECTION:
-                dX *= NEWTON_MAX_CORRECTION / big
-            X = X + dX
-            last = float(np.max(np.abs(dX)))
-        return X, None, NEWTON_MAX_ITER, res, False
-
-
-def _root(f, a, b, **kw):
-    """scipy's brentq, with its ValueError (no sign change, non-finite values) turned into
-    letdown's ConvergenceError: only letdown errors leave the fluid layer."""
-    try:
-        return brentq(f, a, b, **kw)
-    except ValueError as exc:
-        raise ConvergenceError(f"phase envelope: a bracketed root search failed ({exc})") from None
-
-
-def _unit(t, ref=None):
-    t = t / np.linalg.norm(t)
-    if ref is not None and np.dot(t, ref) < 0:
-        t = -t
-    return t
-
-
-def _hermite(X0, t0, X1, t1, L, sigma):
-    """Cubic Hermite through (0, X0, t0) and (L, X1, t1), evaluated at sigma (any real)."""
-    u = sigma / L
-    h00 = 2 * u ** 3 - 3 * u ** 2 + 1
-    h10 = u ** 3 - 2 * u ** 2 + u
-    h01 = -2 * u ** 3 + 3 * u ** 2
-    h11 = u ** 3 - u ** 2
-    return h00 * X0 + h10 * L * t0 + h01 * X1 + h11 * L * t1
-
-
-@dataclass
-class _Trace:
-    X: list
-    t: list
-    iterations: int = 0
-    residual: float = 0.0
-    status: str = ""
-    converged: bool = False
-    crossing: int | None = None       # index of the first point past the critical point
-
-
-def trace(system: EnvelopeSystem, X0, t0, P_end=START_P) -> _Trace:
-    """Continue from the converged point X0 (tangent t0, oriented along the trace) until the curve
-    comes back below ``P_end`` [Pa], leaves [MIN_T, MAX_P], or the step collapses."""
-    nc = system.nc
-    iT, iP = system.iT, system.iP
-    tr = _Trace([np.asarray(X0, float)], [_unit(np.asarray(t0, float))])
-    present = system.zs > 0
-    ref = int(np.argmax(np.where(present, np.abs(X0[:nc]), -1.0)))
-    sign0 = np.sign(X0[ref])
-    ln_end = np.log(P_end)
-    h = STEP_FIRST
-    crit_jump = CRIT_JUMP
-    rising_seen = False
-    while len(tr.X) < MAX_POINTS:
-        X, t = tr.X[-1], tr.t[-1]
-        caps = [MAX_STEP_LNT / max(abs(t[iT]), 1e-300), MAX_STEP_LNP / max(abs(t[iP]), 1e-300),
-                MAX_STEP_LNK / max(float(np.max(np.abs(t[:nc]))), 1e-300)]
-        h = min(h, STEP_MAX, *caps)
-        s = int(np.argmax(np.abs(t)))
-        if len(tr.X) >= 2:
-            Xp, tp = tr.X[-2], tr.t[-2]
-            L = float(np.linalg.norm(X - Xp))
-            guess = _hermite(Xp, tp, X, t, L, L + h)
-        else:
-            guess = X + h * t
-        S = guess[s]
-        final = False
-        if s < nc and X[s] != 0.0 and (np.sign(S) != np.sign(X[s])
-                                       or abs(S) < CRIT_APPROACH * abs(X[s])):
-            # about to cross (or come close to) the critical point on a ln K specification
-            S = -X[s] if abs(X[s]) <= crit_jump else CRIT_APPROACH * X[s]
-            jumping = S == -X[s]
-            guess = X + (S - X[s]) / t[s] * t
-        else:
-            jumping = False
-        if rising_seen and t[iP] < 0 and guess[iP] < ln_end and abs(t[iP]) > 0.3 * np.max(np.abs(t)):
-            # the last point exactly at the end pressure
-            s, S, final = iP, ln_end, True
-            guess = X + (ln_end - X[iP]) / t[iP] * t
-        Xn, tn, its, res, ok = system.solve(guess, s, S)
-        tr.iterations += its
-        step = float(np.linalg.norm(guess - X))
-        if ok and float(np.max(np.abs(Xn - guess))) > MAX_PREDICTION_MISS * max(step, 1e-12) + 1e-9:
-            ok = False
-        if not ok:
-            if jumping:
-                # approach closer before the next jump
-                crit_jump = 0.5 * abs(X[s])
-            h = min(h, step) * 0.5
-            if h < STEP_MIN:
-                tr.status = (f"step size fell below {STEP_MIN:g} at T = {np.exp(X[iT]):.6g} K, "
-                             f"P = {np.exp(X[iP]):.6g} Pa")
-                return tr
-            continue
-        tn = _unit(tn, t)
-        tr.X.append(Xn)
-        tr.t.append(tn)
-        tr.residual = max(tr.residual, res)
-        if tr.crossing is None and np.sign(Xn[ref]) != sign0:
-            tr.crossing = len(tr.X) - 1
-        if tn[iP] > 0:
-            rising_seen = True
-        if its <= EASY_ITER:
-            h = step * STEP_GROW
-        elif its >= HARD_ITER:
-            h = step * STEP_SHRINK
-        else:
-            h = step
-        if final or (rising_seen and tn[iP] < 0 and Xn[iP] <= ln_end + 1e-12):
-            tr.status, tr.converged = "complete", True
-            return tr
-        if Xn[iP] > np.log(MAX_P):
-            tr.status, tr.converged = f"ended at the pressure limit {MAX_P:g} Pa", True
-            return tr
-        if Xn[iT] < np.log(MIN_T):
-            tr.status, tr.converged = f"ended at the temperature limit {MIN_T:g} K", True
-            return tr
-    tr.status = f"more than {MAX_POINTS} points"
-    return tr
-
-
-# ------------------------------------------------------------------------------------------------
-def _critical_from(tr: _Trace, nc: int):
-    """Interpolated critical point (ln T, ln P) between the points bracketing the crossing."""
-    b = tr.crossing
-    Xa, ta, Xb, tb = tr.X[b - 1], tr.t[b - 1], tr.X[b], tr.t[b]
-    r = int(np.argmax(np.abs(Xb[:nc] - Xa[:nc])))
-    L = float(np.linalg.norm(Xb - Xa))
-
-    def lnK(sig):
-        return _hermite(Xa[r], ta[r], Xb[r], tb[r], L, sig)
-    sig = _root(lnK, 0.0, L, xtol=1e-14 * max(L, 1.0))
-    X = _hermite(Xa, ta, Xb, tb, L, sig)
-    return X[nc], X[nc + 1]
-
-
-def _locate_critical(system: EnvelopeSystem, tr: _Trace):
-    """(ln T, ln P, TraceReport) of the critical point crossed by a trace."""
-    lnT, lnP = _critical_from(tr, system.nc)
-    refined = _refine_critical(system, tr)
-    if refined is None:
-        return lnT, lnP, TraceReport(True, "interpolated", "critical point: cubic Hermite in arc "
-                                     "length between the two traced points around it", 0,
-                                     np.nan, 2)
-    lnT2, lnP2, spread = refined
-    return lnT2, lnP2, TraceReport(
-        True, "fitted", f"critical point: polynomial in ln K through points at ln K = "
-        f"+-{', '.join(f'{u:g}' for u in CRIT_NODES)} (differs from the Hermite estimate by "
-        f"{abs(np.exp(lnT2) - np.exp(lnT)):.2g} K, {abs(np.exp(lnP2) - np.exp(lnP)):.2g} Pa)",
-        0, spread, 2 * len(CRIT_NODES))
-
-
-def _refine_critical(system: EnvelopeSystem, tr: _Trace):
-    """The critical point from extra points at fixed ln K_r = +-CRIT_NODES (r: the ln K changing
-    fastest at the crossing), fitted by one polynomial in ln K_r through all of them and evaluated at
-    ln K_r = 0 (T and P are smooth functions of ln K_r through the critical point).
-
-    Returns (ln T, ln P, spread), spread being the largest change of ln T or ln P from dropping the
-    outermost pair of nodes (an estimate of the fit error), or None if fewer than two nodes on
-    either side converged.
-    """
-    nc = system.nc
-    b = tr.crossing
-    Xs = np.array(tr.X)
-    ts = np.array(tr.t)
-    r = int(np.argmax(np.abs(Xs[b, :nc] - Xs[b - 1, :nc])))
-    side = np.sign(Xs[b - 1, r])
-    sol = {}
-    for u in sorted(np.concatenate([CRIT_NODES, -CRIT_NODES]), key=abs):
-        # a guess from the trace: the Hermite arc between the traced pair bracketing ln K_r = u
-        lo = max(b - 6, 0)
-        hi = min(b + 6, len(Xs) - 1)
-        guess = None
-        for i in range(lo, hi):
-            a0, a1 = Xs[i, r] - u, Xs[i + 1, r] - u
-            if a0 == 0.0 or np.sign(a0) != np.sign(a1):
-                L = float(np.linalg.norm(Xs[i + 1] - Xs[i]))
-                sig = _root(lambda q: _hermite(Xs[i, r], ts[i, r], Xs[i + 1, r], ts[i + 1, r],
-                                                L, q) - u, 0.0, L)
-                guess = _hermite(Xs[i], ts[i], Xs[i + 1], ts[i + 1], L, sig)
-                break
-        if guess is None:
-            continue
-        X, _, _, _, ok = system.solve(guess, r, u)
-        # a node must lie on the traced branch (not the trivial solution, not another branch)
-        if ok and abs(X[nc] - guess[nc]) < 0.05 and abs(X[nc + 1] - guess[nc + 1]) < 0.2:
-            sol[u] = X
-    us = np.array(sorted(sol))
-    if np.count_nonzero(us * side > 0) < 2 or np.count_nonzero(us * side < 0) < 2:
-        return None
-    Y = np.array([sol[u][nc:] for u in us])
-    fit = np.polynomial.polynomial.polyfit(us, Y, len(us) - 1)[0]
-    inner = np.abs(us) < np.max(np.abs(us))
-    spread = np.inf
-    if np.count_nonzero(inner) >= 4:
-        fit2 = np.polynomial.polynomial.polyfit(us[inner], Y[inner], np.count_nonzero(inner) - 1)[0]
-        spread = float(np.max(np.abs(fit - fit2)))
-    return float(fit[0]), float(fit[1]), spread
-
-
-def _extremum(system: EnvelopeSystem, tr: _Trace, which: str):
-    """Cricondentherm (``which='T'``) or cricondenbar (``'P'``) on a trace, or None.
-
-    The extremum of X_e (e = ln T or ln P) is bracketed by the traced pair, around the largest
-    X_e, whose tangent component t_e changes sign. Along the curve there a parameter p is chosen
-    that is monotonic between the pair: the other variable o (ln P or ln T) if its tangent keeps
-    its sign, else the ln K changing fastest (a pair that straddles the critical point of a nearly
-    pure fluid, where the curve turns in T and P at once). g(p) = dX_e/dp on the curve is driven
-    to zero by Brent's method, each trial point solved with X_p specified. Where a trial point
-    cannot be solved (the trivial solution K = 1 next to the critical point) the extremum is taken
-    on the cubic Hermite arc between the pair, as the critical point is.
-
-    Returns (X or None, status).
-    """
-    nc = system.nc
-    e = system.iT if which == "T" else system.iP
-    o = system.iP if which == "T" else system.iT
-    Xs = np.array(tr.X)
-    ts = np.array(tr.t)
-    k = int(np.argmax(Xs[:, e]))
-    for a, b in ((k - 1, k), (k, k + 1)):
-        if a < 0 or b >= len(Xs):
-            continue
-        if np.sign(ts[a, e]) != np.sign(ts[b, e]):
-            break
-    else:
-        if k == len(Xs) - 1:
-            return None, "none: the curve still rises at the end of its trace"
-        return None, "no sign change of the tangent next to the largest value"
-    Xa, Xb = Xs[a], Xs[b]
-    r = int(np.argmax(np.abs(Xb[:nc] - Xa[:nc])))
-    if np.sign(ts[a, o]) == np.sign(ts[b, o]) and Xa[o] != Xb[o]:
-        q = o
-    elif np.sign(ts[a, r]) == np.sign(ts[b, r]) and Xa[r] != Xb[r]:
-        q = r
-    else:
-        q = None
-
-    def hermite_max():
-        L = float(np.linalg.norm(Xb - Xa))
-        sig = np.linspace(0.0, L, 201)
-        vals = _hermite(Xa[e], ts[a, e], Xb[e], ts[b, e], L, sig)
-        j = int(np.argmax(vals))
-        lo, hi = sig[max(j - 1, 0)], sig[min(j + 1, sig.size - 1)]
-
-        def d(u):
-            h = 1e-7 * L
-            return (_hermite(Xa[e], ts[a, e], Xb[e], ts[b, e], L, u + h)
-                    - _hermite(Xa[e], ts[a, e], Xb[e], ts[b, e], L, u - h))
-        if lo < hi and d(lo) > 0 > d(hi):
-            u = brentq(d, lo, hi, xtol=1e-14 * max(L, 1.0))
-        else:
-            u = sig[j]
-        return _hermite(Xa, ts[a], Xb, ts[b], L, u)
-
-    if q is None:
-        return hermite_max(), "interpolated on the arc between the two traced points around it"
-
-    def point(u):
-        w = (u - Xa[q]) / (Xb[q] - Xa[q])
-        X, t, _, _, ok = system.solve((1 - w) * Xa + w * Xb, q, u)
-        if not ok:
-            raise ConvergenceError(f"envelope point at X[{q}] = {u:.12g} did not converge while "
-                                   f"locating the extremum")
-        return X, t
-
-    def g(u):
-        if u == Xa[q]:
-            return ts[a, e] / ts[a, q]
-        if u == Xb[q]:
-            return ts[b, e] / ts[b, q]
-        return point(u)[1][e] / point(u)[1][q]
-    try:
-        u = _root(g, Xa[q], Xb[q], xtol=EXTREMUM_XTOL, rtol=4 * np.finfo(float).eps)
-        X, _ = point(u)
-    except ConvergenceError:
-        return hermite_max(), ("interpolated on the arc between two traced points (a trial point "
-                               "on the curve did not converge)")
-    return X, "found"
-
-
-def _start_nearly_pure(system: EnvelopeSystem, P0: float):
-    """First point of a nearly pure fluid, whose dew and bubble points are too close together for
-    the stability scan. With the roots fixed (the phase of composition z as vapour on the dew
-    side, as liquid on the bubble side, the incipient phase the other), the saturation temperature
-    is bracketed around the main component's and found by Brent's method on sum z/K - 1 (dew) or
-    sum K z - 1 (bubble), the K-values at each trial temperature by successive substitution from
-    infinite dilution in the main component; Newton on the envelope equations then polishes it.
-
-    Returns (X, tangent, message) or (None, None, why)."""
-    eos = system.eos
-    zs = system.zs
-    nc = system.nc
-    ip = int(np.argmax(zs))
-    if zs[ip] < NEARLY_PURE:
-        return None, None, "not nearly pure"
-    dew = system.beta == 1.0
-    P = np.array([P0])
-    Ts = fl.pure_saturation_T(eos, P, np.array([ip]))
-    if not np.all(np.isfinite(Ts)):
-        return None, None, f"the main component has no saturation temperature at {P0:g} Pa"
-    pure = np.zeros((2, nc))
-    pure[:, ip] = 1.0
-    lnphi, _ = eos.lnphi(np.repeat(Ts, 2), np.repeat(P, 2), pure, np.array([-1, 1]))
-    lnK0 = lnphi[0] - lnphi[1]              # ln(phi_L / phi_V) = ln(y / x) at infinite dilution
-    lnK0[ip] = 0.0
-    state = {"lnK": lnK0.copy()}
-
-    def g(T):
-        lnK = state["lnK"].copy()
-        for _ in range(NEARLY_PURE_SS_ITER):
-            K = np.exp(lnK)
-            if dew:
-                y, x = zs, zs / K
-            else:
-                x, y = zs, zs * K
-            xy = np.vstack([x / x.sum(), y / y.sum()])
-            lp, _ = eos.lnphi(np.full(2, T), np.full(2, P0), xy, np.array([-1, 1]))
-            new = lp[0] - lp[1]
-            if np.max(np.abs(new - lnK)) < 1e-12:
-                lnK = new
-                break
-            lnK = new
-        state["lnK"] = lnK
-        K = np.exp(lnK)
-        return float(np.sum(zs / K) - 1.0) if dew else float(np.sum(zs * K) - 1.0)
-
-    T_sat = float(Ts[0])
-    lo = hi = None
-    for d in NEARLY_PURE_BRACKET_K:
-        a, b = T_sat - d, T_sat + d
-        try:
-            state["lnK"] = lnK0.copy()
-            ga = g(a)
-            state["lnK"] = lnK0.copy()
-            gb = g(b)
-        except FloatingPointError:
-            continue
-        if np.isfinite(ga) and np.isfinite(gb) and np.sign(ga) != np.sign(gb):
-            lo, hi = a, b
-            break
-    if lo is None:
-        return None, None, "no saturation temperature bracketed around the main component's"
-    state["lnK"] = lnK0.copy()
-    try:
-        T = _root(g, lo, hi, xtol=1e-10)
-    except ConvergenceError as exc:
-        return None, None, str(exc)
-    g(T)
-    X0 = np.concatenate([state["lnK"], [np.log(T), np.log(P0)]])
-    X, t, _, res, ok = system.solve(X0, nc + 1, np.log(P0))
-    if not ok:
-        return None, None, (f"the first point of the nearly pure fluid at {P0:g} Pa did not "
-                            f"converge (residual {res:.3g})")
-    t = _unit(t)
-    if t[nc + 1] < 0:
-        t = -t
-    return X, t, "started from the main component's saturation point"
-
-
-def _start(engine, system: EnvelopeSystem, P0: float):
-    """Converged first point at P0 [Pa] and its tangent (oriented to rising pressure)."""
-    eos = engine.eos
-    zs = system.zs
-    nc = system.nc
-    z1 = zs[None, :]
-    P = np.array([P0])
-    beta = system.beta
-    present = zs > 0
-    lnKw = np.log(fl.wilson_K(eos, np.array([250.0]), P)[0])
-    if beta in (0.0, 1.0):
-        kind = "dew" if beta == 1.0 else "bubble"
-        T = float(engine.saturation_T(P, z1, kind)[0])
-        if not np.isfinite(T):
-            X, t, msg = _start_nearly_pure(system, P0)
-            if X is not None:
-                return X, t, msg
-            return None, None, f"no {kind} point found at {P0:g} Pa ({msg})"
-        # the incipient phase: the stability test's trial phase just inside the two-phase region
-        Ti = T * (1.0 - 1e-7) if kind == "dew" else T * (1.0 + 1e-7)
-        st = fl.stability(eos, np.array([Ti]), P, z1, cold=False)
-        w = st.ws[0]
-        with np.errstate(divide="ignore", invalid="ignore"):
-            lnK = np.log(zs / w) if kind == "dew" else np.log(w / zs)
-    else:
-        Td = float(engine.saturation_T(P, z1, "dew")[0])
-        Tb = float(engine.saturation_T(P, z1, "bubble")[0])
-        if not (np.isfinite(Td) and np.isfinite(Tb)):
-            return None, None, f"no two-phase range found at {P0:g} Pa"
-
-        def split(T):
-            return fl.flash_PT(eos, np.array([T]), P, z1, cold=False)
-
-        def f(T):
-            return float(split(T).beta[0]) - beta
-        T = _root(f, Tb, Td, xtol=1e-9)
-        sp = split(T)
-        with np.errstate(divide="ignore", invalid="ignore"):
-            lnK = np.log(sp.ys[0] / sp.xs[0])
-    lnK = np.where(present & np.isfinite(lnK), lnK, lnKw)
-    X0 = np.concatenate([lnK, [np.log(T), np.log(P0)]])
-    X, t, _, res, ok = system.solve(X0, nc + 1, np.log(P0))
-    if not ok:
-        return None, None, f"the first point at {P0:g} Pa did not converge (residual {res:.3g})"
-    t = _unit(t)
-    if t[nc + 1] < 0:
-        t = -t
-    return X, t, "started"
 
 
 def _curve(Xs, nc) -> Curve:
@@ -958,6 +380,21 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
         if best is None and which == "P" and open_top:
             status = ("none: the bubble branch still rises at the pressure limit past the critical "
                       "point (no largest pressure)")
+        # the extremum must be the largest value of the whole boundary: a turning point of one
+        # trace below a point of another (a wet gas's water dew line, the dew branch of a nearly
+        # pure fluid running to the pressure limit) is a local one, not the envelope's
+        top = max(float(np.max(np.array(trc.X)[:, nc + (which == "P")])) for trc in traces
+                  if len(trc.X))
+        if best is not None and best[nc + (which == "P")] < top - EXTREMUM_LOCAL_TOL:
+            unit = "K" if which == "T" else "Pa"
+            val, at = (np.exp(best[nc]), np.exp(best[nc + 1])) if which == "T" else \
+                (np.exp(best[nc + 1]), np.exp(best[nc]))
+            status = (f"none: the boundary reaches {np.exp(top):.6g} {unit}, beyond the turning "
+                      f"point at {val:.6g} {unit} ({'P' if which == 'T' else 'T'} = {at:.6g} "
+                      f"{'Pa' if which == 'T' else 'K'}), which is therefore not the largest (a "
+                      f"trace goes beyond it where it ends: a water dew line, a branch at the "
+                      f"pressure limit or one that stopped)")
+            best = None
         extrema[which] = None if best is None else EnvelopePoint(
             float(np.exp(best[nc])), float(np.exp(best[nc + 1])), np.exp(best[:nc]))
         reports[name] = TraceReport(best is not None, status,

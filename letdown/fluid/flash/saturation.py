@@ -20,11 +20,19 @@ The solve has three steps, for all cases of a batch together:
    near a critical point, where the split itself may not converge, the flash's stability test
    finding the second phase) and just outside (one phase). A case that fails the check raises
    :class:`~letdown.errors.ConvergenceError`; NaN means that no two-phase state exists on the line
-   (the envelope, traced, does not cross it and no candidate is two-phase).
+   (the envelope, traced, does not cross it and no candidate is two-phase). A line the traced
+   envelope crosses (or, for a closed envelope, an isobar between its first point and its
+   cricondenbar) where no candidate is two-phase -- a range too narrow for the stability test,
+   next to the critical point of a nearly pure fluid -- raises as well, rather than answer NaN.
 
 Liquid-liquid splits the cubic models find far below a natural gas's freezing point (near 45 K
 above a lean gas's cricondenbar) are not dew points: candidates below ``T_floor`` (0.45 of the
-gas's mole-averaged critical temperature, at least 60 K) are not used.
+gas's mole-averaged critical temperature, at least 60 K) are not used. Above that floor, CO2-rich
+and sour gases split into two liquids at 140-210 K (a methane-rich liquid of about 500 kg/m3 and
+an H2S- or CO2-rich one of about 1100 kg/m3, below the H2S and CO2 triple points; found by
+``bench/fuzz_envelope.py``): where the envelope of a water-free gas traces completely, an isobar
+above its cricondenbar (an isotherm above its cricondentherm) has no dew point, and NaN is the
+answer there whatever the stability test finds far below the envelope.
 """
 from __future__ import annotations
 
@@ -142,6 +150,20 @@ def _candidates(fluid, engine, fixed, z, axis):
     return np.unique(np.array(cand, dtype=float)), env
 
 
+def _beyond_envelope(engine, env, fixed, z, axis):
+    """True where a water-free gas's traced envelope shows that no dew point exists on the line:
+    an isobar above its cricondenbar, an isotherm above its cricondentherm (see the module
+    docstring: a split the stability test finds there is liquid-liquid, not a dew point)."""
+    if env is None or not env.converged:
+        return False
+    names = engine.comps.names
+    if "water" in names and z[names.index("water")] > 0.0:
+        return False            # a water dew line lies outside the hydrocarbon envelope
+    if axis == "T":
+        return env.cricondenbar is not None and fixed > env.cricondenbar.P
+    return env.cricondentherm is not None and fixed > env.cricondentherm.T
+
+
 def boundary(fluid, engine, fixed, zs, kind, axis, branch="upper"):
     """Phase boundaries of a batch on a cubic engine (see the module docstring).
 
@@ -185,6 +207,10 @@ def boundary(fluid, engine, fixed, zs, kind, axis, branch="upper"):
     zz = np.repeat(zs, sizes, axis=0)
     uns = (_unstable(engine, allc, fx, zz) if axis == "T" else _unstable(engine, fx, allc, zz))
     uns = np.split(uns, np.cumsum(sizes)[:-1]) if n else []
+    if kind == "dew":
+        for k in range(n):
+            if _beyond_envelope(engine, envs[k], fixed[k], zs[k], axis):
+                uns[k] = np.zeros_like(uns[k])
     # 2. brackets: a two-phase end (inside) and a single-phase end (outside)
     # on an isotherm the axis is ln P, so that "up" means rising pressure
     upper = {("dew", "T", "upper"): True, ("dew", "T", "lower"): False,
@@ -204,6 +230,25 @@ def boundary(fluid, engine, fixed, zs, kind, axis, branch="upper"):
                     f"no two-phase state found on the {'isobar' if axis == 'T' else 'isotherm'} "
                     f"at {fixed[k]:.6g} {'Pa' if axis == 'T' else 'K'}, and the phase envelope "
                     f"could not be traced to show that there is none")
+            env = envs[k]
+            cr = (_crossings(env.T, env.P, fixed[k]) if axis == "T"
+                  else list(np.exp(_crossings(np.log(env.P), env.T, fixed[k]))))
+            if not cr and axis == "T" and env.converged and env.cricondenbar is not None \
+                    and env.P.min() <= fixed[k] <= env.cricondenbar.P:
+                # a closed envelope spans every pressure from its first point to its
+                # cricondenbar, even where the traced chords stay below a sharp top
+                cr = [env.cricondentherm.T if env.cricondentherm is not None
+                      else env.cricondenbar.T]
+            if cr and branch == "upper":
+                # the traced envelope crosses the line, but no candidate was two-phase: a range
+                # too narrow for the stability test (next to the critical point of a nearly pure
+                # fluid); NaN would say wrongly that there is no boundary
+                at = max(cr) if (top or axis == "P") else min(cr)
+                raise ConvergenceError(
+                    f"{kind} point at {fixed[k]:.6g} {'Pa' if axis == 'T' else 'K'}: the phase "
+                    f"envelope crosses this {'isobar' if axis == 'T' else 'isotherm'} (near "
+                    f"{at:.6g} {'K' if axis == 'T' else 'Pa'}), but the two-phase range there is "
+                    f"too narrow for the stability test to confirm the boundary")
             continue
         iu = np.nonzero(u)[0]
         j = iu[-1] if top else iu[0]          # a two-phase candidate of the wanted interval

@@ -160,6 +160,20 @@ def _pack(eos):
     return par
 
 
+_PACK_PTRS: "weakref.WeakKeyDictionary" = weakref.WeakKeyDictionary()
+
+
+def _pack_ptrs(eos):
+    """References to the parameter block and the ideal-gas block of one CubicEOS (cached with
+    them: the blocks are cached per object and never change, and each reference keeps its block
+    alive)."""
+    ptrs = _PACK_PTRS.get(eos)
+    if ptrs is None:
+        ptrs = (_ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)))
+        _PACK_PTRS[eos] = ptrs
+    return ptrs
+
+
 def _f(a):
     return np.ascontiguousarray(a, dtype=np.float64)
 
@@ -456,8 +470,14 @@ def solve_T(eos, P, target, zs, is_s, T_guess, flash_constants, solve_constants)
     xs = np.empty((n, nc))
     ys = np.empty((n, nc))
     nph = np.empty(n, dtype=np.int32)
-    par, igp, fcp, svp = (_ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)), _ptr(fc),
-                          _ptr(sv))
+    par, igp = _pack_ptrs(eos)
+    fcp, svp = _ptr(fc), _ptr(sv)
+    if n < THREAD_MIN_CASES:
+        # one call on the whole batch (a scalar flash): no slices, no chunking
+        _check(_LIB.lf_solve_T(n, nc, par, igp, fcp, svp, _ptr(P), _ptr(target), _ptr(zs),
+                               1 if is_s else 0, None if Tg is None else _ptr(Tg), _ptr(T),
+                               _ptr(ok), _ptr(beta), _ptr(xs), _ptr(ys), _ptr(nph)))
+        return T, ok.astype(bool), beta, xs, ys, nph.astype(int)
 
     def run(lo, hi):
         return _LIB.lf_solve_T(hi - lo, nc, par, igp, fcp, svp, _ptr(P[lo:hi]),
@@ -488,8 +508,11 @@ def _run_chunked(n, run):
     """Call ``run(lo, hi)`` (a kernel call on cases lo..hi-1, returning its status) over all n
     cases: in one call for small batches, else in chunks on a thread pool created on first use."""
     global _POOL
+    if n < THREAD_MIN_CASES:
+        _check(run(0, n))
+        return
     workers = _n_threads()
-    if n < THREAD_MIN_CASES or workers < 2:
+    if workers < 2:
         _check(run(0, n))
         return
     if _POOL is None:
@@ -520,7 +543,8 @@ def assemble(eos, T, P, zs, n_phases, beta, xs, ys, volume_shift, dT, dP_rel, to
     beta, xs, ys = _f(beta), _f(xs), _f(ys)
     fc = _block(_FP_ORDER, constants)
     out = np.empty((len(_ASSEMBLE_ROWS) + 2 * len(_PER_PHASE), n))
-    par, igp, fcp = _ptr(_pack(eos)), _ptr(_ideal_gas_pack(eos.comps)), _ptr(fc)
+    par, igp = _pack_ptrs(eos)
+    fcp = _ptr(fc)
     vs = 1 if volume_shift else 0
     if n >= THREAD_MIN_CASES:
         rows = np.empty((n, out.shape[0]))      # chunks write rows; transposed below
