@@ -100,7 +100,7 @@ def test_nearly_pure_propane_whose_first_newton_fails_starts_from_propane():
     propane's saturation point (letdown's pure-fluid solver, a different algorithm) and its traced
     points satisfy the equilibrium equations (evaluated in tests/test_envelope_edges.py)."""
     from letdown.fluid.flash import twophase as fl
-    from tests.test_envelope_edges import FUGACITY_TOL, _residual
+    from tests.fluid.test_envelope_edges import FUGACITY_TOL, _residual
     names = ("methane", "propane", "nitrogen", "water", "hydrogen")   # the others at zero
     gas = letdown.Fluid(dict.fromkeys(names, 0.2), model="soave-redlich-kwong")
     z = np.array([0.0, 0.9998344178905765, 0.00016558210942365997, 0.0, 0.0])
