@@ -26,7 +26,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..errors import InputError
-from ..fluid.components import R
+from ..constants import R
 from ..fluid.flash.twophase import T_HIGH, T_LOW
 from .common import (TINY_FLOW, Refusals, array_param, by_goal, field_name, finish, one_of,
                      outlet_pressure, refuse)

@@ -55,7 +55,7 @@ import dataclasses
 
 import numpy as np
 
-from ..fluid.components import R
+from ..constants import R
 from ..fluid.flash.twophase import is_vapour_like
 from ..fluid.flash.threephase import PHASES, flash_PX_3, phase_properties
 from . import watersplit

@@ -115,6 +115,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..constants import ZERO_CELSIUS
 from ..equipment.stream import INHIBITOR_NAMES
 from ..equipment.watersplit import dry_flow
 from ..errors import ConvergenceError
@@ -131,7 +132,7 @@ from .result import WarningRecord
 
 #: The ice point used for the ice margin [K] (pure water at about 1 atm; the depression by pressure,
 #: 0.0073 K/bar, is within any margin; common practice).
-ICE_T = 273.15
+ICE_T = ZERO_CELSIUS
 #: The hydrate margin of the checks when the file gives no ``limits.hydrate_margin`` [K]: 3 K
 #: (about 5 degF) above the predicted hydrate temperature is what station engineers commonly keep
 #: (common practice; 3-5 K), covering the prediction's own error of 1-2 K and the swing of the

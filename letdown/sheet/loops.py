@@ -11,7 +11,7 @@ from ..equipment import Carry, StreamBatch, carry_rule, flash_stream
 from ..equipment.common import TINY_FLOW
 from ..equipment.stream import INHIBITOR_NAMES
 from ..errors import ConvergenceError, InputError
-from ..fluid.components import R
+from ..constants import R
 from .evaluation import _CasesFailed, _LoopEnd
 from .result import LoopRecord
 

@@ -53,6 +53,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..constants import STANDARD_T  # the fuel's standard volume: Sm3 at 15 degC (ISO 13443)
 from ..caution import CAUTION
 from ..errors import InputError
 from ..fluid.quality import quality
@@ -74,8 +75,6 @@ RAISE_TOL = 1e-5
 #: Passes of raising the held target (secant steps; a throttle chain is nearly linear in the
 #: held temperature, so two or three passes usually do).
 MAX_RAISES = 8
-#: Molar volume basis of the fuel's standard volume: Sm3 at 15 degC, 101.325 kPa (ISO 13443).
-STANDARD_T = 288.15
 #: The two ways to judge free water, and how the report states them.
 FREE_WATER = {
     "always": "free water assumed in every stream, whatever its water dew point (the default: "

@@ -11,9 +11,9 @@ from __future__ import annotations
 
 import numpy as np
 
+from ...constants import PSI
 from ...errors import InputError
 
-PSI = 6894.757293168   # [Pa] per psi (exact, from the pound and the inch)
 
 
 def _degF_to_K(t):

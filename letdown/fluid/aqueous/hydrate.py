@@ -68,12 +68,12 @@ from dataclasses import dataclass
 import numpy as np
 
 from ...errors import ConvergenceError, InputError
-from ..components import R
+from ...constants import R, STANDARD_ATMOSPHERE, ZERO_CELSIUS
 from ..flash.twophase import SolveReport
 from .correlations import PSI, hydrate_T_correlation  # noqa: F401  (re-exported: the gas-gravity room)
 
-T0 = 273.15            # reference temperature of the empty-lattice properties [K] (Munck 1988)
-ATM = 101325.0         # [Pa]; Munck's A is in K/atm
+T0 = ZERO_CELSIUS      # reference temperature of the empty-lattice properties [K] (Munck 1988)
+ATM = STANDARD_ATMOSPHERE  # [Pa]; Munck's A is in K/atm
 H_FUSION = 6009.5      # ice -> liquid water at T0 as used by Munck (1988) for the liquid reference [J/mol]
 DCP_SIGN = +1.0        # see the module docstring ("Sign of dcp")
 

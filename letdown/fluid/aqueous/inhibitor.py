@@ -50,6 +50,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ...constants import ZERO_CELSIUS
 from ...errors import ConvergenceError, InputError
 from ..components import COMPONENTS
 from ..flash.twophase import SolveReport
@@ -163,7 +164,7 @@ ACTIVITY = {"methanol": (-0.91617, 3.34376, -10.2599, 19.69926),
 #: :func:`vdwp_wt_pct` refuses a dose beyond it.
 ACTIVITY_X_MAX = {"methanol": 0.27264, "ethylene-glycol": 0.30332}
 #: Reference temperature of the temperature term [K].
-ACTIVITY_T0 = 273.15
+ACTIVITY_T0 = ZERO_CELSIUS
 #: The range the activity model is used in [K]: outside it gamma_w is taken at the nearer end (the
 #: freezing-point data reach down to 218 K, the NRTL points up to 373 K).
 ACTIVITY_T_RANGE = (218.0, 373.15)

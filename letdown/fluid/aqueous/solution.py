@@ -39,12 +39,12 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..components import R
+from ...constants import R, ZERO_CELSIUS
 
 #: Densities of the pure inhibitors as liquids at 20 degC [kg/m3] (CRC Handbook; from memory).
 INHIBITOR_DENSITY = {"methanol": 791.4, "ethylene-glycol": 1113.5}
 #: Ice point of pure water at about 1 atm [K].
-T_MELT = 273.15
+T_MELT = ZERO_CELSIUS
 #: Enthalpy of fusion of ice at 0 degC [J/mol] (CRC Handbook; from memory).
 DH_FUSION = 6010.0
 

@@ -35,17 +35,18 @@ from __future__ import annotations
 
 import numpy as np
 
+from ...constants import (CUBIC_FOOT, POUND, PSI, STANDARD_P, STANDARD_T,  # noqa: F401
+                          ZERO_CELSIUS)
 from ...errors import ConvergenceError, InputError
 from ..components import COMPONENTS, R
 from ..flash.twophase import SolveReport
 
-PSI = 6894.757293168          # [Pa]
 M_WATER = COMPONENTS["water"].M   # [kg/mol]
 #: Moles of ideal gas in one standard cubic metre (15 degC, 101.325 kPa, ISO 13443) [mol/Sm3]
-MOL_PER_SM3 = 101325.0 / (R * 288.15)
+MOL_PER_SM3 = STANDARD_P / (R * STANDARD_T)
 #: Moles of ideal gas in one standard cubic foot (60 degF, 14.696 psia) [mol/scf]
-MOL_PER_SCF = 14.696 * PSI * 0.028316846592 / (R * ((60.0 - 32.0) / 1.8 + 273.15))
-LB = 0.45359237               # [kg]
+MOL_PER_SCF = 14.696 * PSI * CUBIC_FOOT / (R * ((60.0 - 32.0) / 1.8 + ZERO_CELSIUS))
+LB = POUND                    # [kg]
 
 #: Wagner & Pruss (2002) eq. 2.5: critical point and coefficients a1..a6
 TC_WATER = 647.096            # [K]
