@@ -129,7 +129,8 @@ def solve_cases(fs: Flowsheet, cases=None, model: str | None = None, *,
     cases : Mapping[str, array_like], optional
         ``"<feed>.T"`` [K], ``"<feed>.P"`` [Pa], ``"<feed>.flow"`` [mol/s], ``"<feed>.zs"``
         (compositions, shape (n, nc) in the gas's component order), ``"<block>.<parameter>"``
-        (SI) or ``"goal<k>.at"`` (the target of the k-th goal, 1-based, SI) -> values over the
+        (SI) or ``"@goal<k>.at"`` (the target of the k-th goal, 1-based, SI; ``"goal<k>.at"``
+        where no feed or block is named ``goal<k>``) -> values over the
         cases; all of one length ``n`` (or one value for all). None: one case, as in the file.
     model : str, optional
         Thermodynamic model overriding ``fs.gas.model``. Where neither names one, the model is
@@ -224,8 +225,11 @@ def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
     arrays = {}
     for key, values in cases.items():
         name, _, attr = str(key).partition(".")
-        if name.startswith("goal") and name[4:].isdigit() and name not in fs.feeds \
-                and name not in fs.blocks:
+        axis = name.startswith("@goal")         # a goal's target, whatever the file's names
+        if axis:
+            name, key = name[1:], str(key)[1:]
+        if name.startswith("goal") and name[4:].isdigit() and (axis or name not in fs.feeds
+                                                               and name not in fs.blocks):
             ok = attr == "at" and 1 <= int(name[4:]) <= len(fs.goals)
         elif name in fs.feeds:
             ok = attr in FEED_FIELDS or attr == "zs"
@@ -235,7 +239,7 @@ def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
             ok = False
         if not ok:
             raise InputError(f"unknown case variable '{key}' (use <feed>.T, <feed>.P, <feed>.flow, "
-                             "<feed>.zs, <block>.<parameter> or goal<k>.at)", field=f"cases.{key}")
+                             "<feed>.zs, <block>.<parameter> or @goal<k>.at)", field=f"cases.{key}")
         if attr == "zs":
             a = np.atleast_2d(np.asarray(values, dtype=float))
             if np.any(a < 0) or np.any(np.abs(a.sum(axis=1) - 1.0) > 1e-6):

@@ -4,9 +4,18 @@ A swept variable is named by its path in the flowsheet file:
 
 * ``<feed>.T``, ``<feed>.P``, ``<feed>.flow`` -- a feed's state;
 * ``<block>.<parameter>`` -- any numeric block parameter (``preheat.T_out``, ``regulator.P_out``);
-* ``goal<k>.at`` -- the target of the k-th goal (1-based);
-* ``blend.<component>`` -- the mole fraction of a component blended into every feed (``blend.hydrogen``
-  from 0 to 0.3 gives the hydrogen blends of the supply gas: z = (1 - x) z_feed + x e_component).
+* ``<feed>.energy`` -- the energy a feed delivers (gross calorific value times standard flow); its
+  flow follows from each case's calorific value;
+* ``@goal<k>.at`` -- the target of the k-th goal (1-based);
+* ``@blend.<gas>`` -- the mole fraction of a component or of a named gas of the file's ``gases``
+  section blended into every feed (``@blend.hydrogen`` from 0 to 0.3 gives the hydrogen blends of
+  the supply gas: z = (1 - x) z_feed + x z_gas, z_gas a pure component's unit vector or the named
+  gas's composition).
+
+The study's own axes begin with ``@``, which no name of the file can contain (names are letters,
+digits, ``_`` and ``-``), so a block or feed named ``blend`` or ``goal1`` can be swept like any
+other. The older spellings without ``@`` (``blend.hydrogen``, ``goal1.at``) still work where no
+block or feed has that name, with a note that they are deprecated (:func:`spelling_note`).
 
 Values are written with units as in the file (``0 degC:20 degC:5`` is a range of 5 values, ``0 degC,
 5 degC`` a list; fractions may be plain numbers or percentages). Several variables make a grid (every
@@ -25,6 +34,7 @@ from __future__ import annotations
 import dataclasses
 import itertools
 import math
+import re
 from dataclasses import dataclass
 
 import numpy as np
@@ -33,11 +43,15 @@ from ..errors import InputError
 from ..fluid.aqueous.water import M_WATER
 from ..fluid.components import canonical_name
 from ..quantities import SI_UNITS, MassFlow, parse_quantity
-from ..sheet.solve import FEED_FIELDS, solve_cases
+from ..sheet.solve import solve_cases
 from ..sheet.result import liquid_volume_flow
 from ..sheet.spec import Flowsheet
 
-FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
+FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow", "energy": "power"}
+#: The first character of the study's own axes (``@blend.<gas>``, ``@goal<k>.at``, the output
+#: ``@goal<k>``): the file's names cannot contain it (``$defs/name`` of the schema).
+AXIS_PREFIX = "@"
+_GOAL = re.compile(r"goal([0-9]+)")
 #: Most cases one sweep may ask for (a grid's product or a range's count): a million-case typo
 #: would otherwise run for hours before anything is written (our choice; a year is 8,760 hours).
 MAX_CASES = 100_000
@@ -58,6 +72,8 @@ class Variable:
     path: str
     kind: str
     values: np.ndarray
+    #: A note for the user about the path as written (an old spelling), or "".
+    note: str = ""
 
     @property
     def unit(self) -> str:
@@ -140,11 +156,84 @@ def parse_variable(fs: Flowsheet, spec: str) -> Variable:
         values = np.array([q(t) for t in text.split(",") if t.strip()])
     if values.size == 0:
         raise InputError(f"no values for '{path}'", field=f"vary.{path}")
-    if path.startswith("blend.") and (np.any(values < 0) or np.any(values >= 1)):
+    if (study_axis(fs, path) or ("",))[0] == "blend" and (np.any(values < 0)
+                                                          or np.any(values >= 1)):
         raise InputError(f"blend fractions must lie in [0, 1) (got {values.min()}..{values.max()})",
                          field=field)
     _check_values(fs, path, text, values, field)
-    return Variable(path, kind, values)
+    return Variable(path, kind, values, spelling_note(fs, path))
+
+
+def study_axis(fs: Flowsheet, path: str):
+    """The study's own axis a path names: ``("blend", gas)``, ``("goal", k)`` (k 1-based), or None
+    for a path into the file (a feed's or block's quantity).
+
+    ``@blend.<gas>`` and ``@goal<k>.at`` always name the axes; the old spellings ``blend.<gas>``
+    and ``goal<k>.at`` do where no feed or block of the file has that name (the file's names win).
+
+    Raises
+    ------
+    InputError
+        A path beginning with ``@`` that is no axis.
+
+    >>> from letdown.sheet.loader import load
+    >>> fs = load("flowsheets/gate-station.yaml")
+    >>> study_axis(fs, "@blend.hydrogen"), study_axis(fs, "goal1.at"), study_axis(fs, "supply.T")
+    (('blend', 'hydrogen'), ('goal', 1), None)
+    """
+    head, _, attr = str(path).partition(".")
+    axis = head.startswith(AXIS_PREFIX)
+    if axis:
+        head = head[len(AXIS_PREFIX):]
+    elif head in fs.feeds or head in fs.blocks:
+        return None
+    goal = _GOAL.fullmatch(head)
+    if head == "blend" and attr:
+        return ("blend", attr)
+    if goal and attr == "at":
+        return ("goal", int(goal.group(1)))
+    if axis:
+        raise InputError(f"'{path}' is no study axis: the axes are {AXIS_PREFIX}blend.<component "
+                         f"or named gas> and {AXIS_PREFIX}goal<k>.at", field=f"vary.{path}")
+    return None
+
+
+def spelling_note(fs: Flowsheet, path: str) -> str:
+    """A note when ``path`` names a study axis in the old spelling (without ``@``), else "".
+
+    >>> from letdown.sheet.loader import load
+    >>> spelling_note(load("flowsheets/gate-station.yaml"), "blend.hydrogen")
+    "'blend.hydrogen' is the old spelling of '@blend.hydrogen' (deprecated: a block or feed named 'blend' would take it); write '@blend.hydrogen'"
+    """
+    path = str(path)
+    if path.startswith(AXIS_PREFIX) or study_axis(fs, path) is None:
+        return ""
+    head = path.partition(".")[0]
+    new = AXIS_PREFIX + path
+    return (f"'{path}' is the old spelling of '{new}' (deprecated: a block or feed named "
+            f"'{head}' would take it); write '{new}'")
+
+
+def blend_gas(fs: Flowsheet, name: str) -> dict:
+    """The composition a blend axis adds: a named gas of the file's ``gases`` section, or a pure
+    component ({canonical name: 1.0}).
+
+    Raises
+    ------
+    InputError
+        Neither a named gas nor a component (the nearest component names and the file's gases
+        are suggested).
+    """
+    gases = getattr(fs, "gases", None) or {}
+    if name in gases:
+        return dict(gases[name].composition)
+    try:
+        return {canonical_name(name): 1.0}
+    except InputError as exc:
+        where = (f"; the file's named gases: {', '.join(gases)}" if gases else
+                 "; a gas of your own goes in the file's 'gases' section")
+        raise InputError(f"cannot blend '{name}': {exc.message.split(' (known:')[0]} and no "
+                         f"named gas{where}", field=f"vary.{AXIS_PREFIX}blend.{name}") from None
 
 
 def case_count(variables, mode: str = "grid") -> int:
@@ -174,16 +263,18 @@ def _check_values(fs: Flowsheet, path: str, text: str, values, field: str) -> No
     """The checks the loader makes on the same field of a file, on every swept value."""
     from ..sheet.loader import parameter_problem
     name, _, attr = path.partition(".")
-    if name in fs.feeds and attr in ("P", "flow") and np.any(values <= 0.0):
+    axis = study_axis(fs, path)
+    if axis is None and name in fs.feeds and attr in ("P", "flow", "energy") \
+            and np.any(values <= 0.0):
         raise InputError(f"{attr} must be positive, got {text!r}", field=field)
-    if name in fs.blocks:
+    if axis is None and name in fs.blocks:
         kind = fs.blocks[name].kind
         for v in values:
             problem = parameter_problem(kind, attr, float(v), text)
             if problem is not None:
                 raise InputError(problem, field=field)
-    if name.startswith("goal") and name[4:].isdigit():
-        held = fs.goals[int(name[4:]) - 1].hold.partition(".")[2]
+    if axis is not None and axis[0] == "goal":
+        held = fs.goals[axis[1] - 1].hold.partition(".")[2]
         if held == "vapour_fraction" and np.any((values < 0.0) | (values > 1.0)):
             raise InputError(f"a vapour fraction lies in [0, 1], got {text!r}", field=field)
         if held in ("P", "flow") and np.any(values <= 0.0):
@@ -194,21 +285,34 @@ def variable_kind(fs: Flowsheet, path: str) -> str:
     """Quantity kind of a sweepable path (see the module docstring)."""
     from ..sheet.loader import PARAMETERS
     name, _, attr = path.partition(".")
-    if name == "blend":
-        canonical_name(attr)            # raises with suggestions for an unknown component
+    axis = study_axis(fs, path)
+    if axis is not None and axis[0] == "blend":
+        blend_gas(fs, axis[1])          # raises with suggestions for an unknown gas
         return "fraction"
-    if name in fs.feeds and attr in FEED_FIELDS:
+    if axis is not None:
+        k = axis[1]
+        if 1 <= k <= len(fs.goals):
+            return _held_kind(fs, fs.goals[k - 1].hold)
+        raise InputError(f"cannot sweep '{path}': the file has {len(fs.goals)} goal(s)",
+                         field=f"vary.{path}")
+    if name in fs.feeds and attr in FEED_KINDS:
+        energy = getattr(fs.feeds[name], "energy", None)
+        if attr == "flow" and energy is not None:
+            raise InputError(f"cannot sweep '{path}': feed '{name}' is given by its energy "
+                             f"({energy / 1e6:.6g} MW); sweep {name}.energy, or give the feed "
+                             f"a flow", field=f"vary.{path}")
         return FEED_KINDS[attr]
     if name in fs.blocks:
         kinds = PARAMETERS.get(fs.blocks[name].kind, {})
         if attr in kinds and kinds[attr] not in ("text",):
             return kinds[attr]
-    if name.startswith("goal") and name[4:].isdigit() and attr == "at":
-        k = int(name[4:])
-        if 1 <= k <= len(fs.goals):
-            return _held_kind(fs, fs.goals[k - 1].hold)
-    raise InputError(f"cannot sweep '{path}': use <feed>.T|P|flow, <block>.<parameter>, "
-                     f"goal<k>.at or blend.<component>", field=f"vary.{path}")
+    hint = ""
+    if name == "blend" or _GOAL.fullmatch(name):
+        hint = (f" ('{name}' is a name of the file here; the study's own axes are "
+                f"{AXIS_PREFIX}blend.<gas> and {AXIS_PREFIX}goal<k>.at)")
+    raise InputError(f"cannot sweep '{path}': use <feed>.T|P|flow|energy, <block>.<parameter>, "
+                     f"{AXIS_PREFIX}goal<k>.at or {AXIS_PREFIX}blend.<component or named gas>"
+                     f"{hint}", field=f"vary.{path}")
 
 
 def _held_kind(fs, hold: str) -> str:
@@ -233,7 +337,8 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
     outputs : sequence of str, optional
         Output paths: any stream or block quantity of the JSON result by its key without the unit
         suffix (``network.hydrate_margin``, ``network.gross_cv``, ``preheat.fuel``,
-        ``meoh.inhibitor_rate``) or with it (``network.hydrate_margin_K``), and ``goal<k>``;
+        ``meoh.inhibitor_rate``) or with it (``network.hydrate_margin_K``), and ``@goal<k>``
+        (the value of the parameter the goal varies);
         default (:func:`default_outputs`): every stream's T, P, vapour fraction and hydrate
         margin, every block's duty, fuel and power, every goal's value. The freezing margins are
         computed in every case whenever an output needs them (the default does).
@@ -271,17 +376,17 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
     if given and mode != "zip":
         raise InputError("per-case arrays go with a zip sweep", field="vary")
     n = next(iter(cols.values())).size if cols else len(next(iter(given.values())))
-    fs2 = _with_blend_components(fs, [v.path.split(".", 1)[1] for v in variables
-                                      if v.path.startswith("blend.")])
-    cases, goal_targets = _cases(fs2, cols, n)
+    axes = {v.path: study_axis(fs, v.path) for v in variables}
+    fs2 = _with_blend_components(fs, [blend_gas(fs, a[1]) for a in axes.values()
+                                      if a is not None and a[0] == "blend"])
+    cases, goal_targets = _cases(fs2, cols, n, axes)
     cases.update(given)
     if basis not in BASES:
         raise InputError(f"unknown basis '{basis}' (known: {', '.join(BASES)})", field="--basis")
-    extra = energy_basis(fs2, cases, n) if basis == "energy" else {}
-    if extra:
-        # the energy basis shows each scaled feed's flow and calorific value beside the outputs
-        feeds = [k.rsplit(".energy [W]", 1)[0] for k in extra if k.endswith(".energy [W]")]
-        outputs = list(outputs or [DEFAULT]) + [f"{f}.{q}" for f in feeds
+    extra, by_energy = energy_basis(fs2, cases, n, basis)
+    if by_energy:
+        # each feed whose flow follows from its energy shows its flow and calorific value
+        outputs = list(outputs or [DEFAULT]) + [f"{f}.{q}" for f in by_energy
                                                 for q in ("flow", "gross_cv")]
     out_rows = [None] * n
     columns = None
@@ -332,18 +437,27 @@ def sweep(fs: Flowsheet, variables, *, mode: str = "grid", model: str | None = N
 BASES = ("volume", "energy")
 
 
-def energy_basis(fs, cases, n) -> dict:
-    """Put the cases on the energy basis: each feed whose composition the sweep changes gets its
-    flow scaled by Hs(base) / Hs(case), Hs the gross calorific value of ISO 6976:2016 (15 degC
-    combustion, :mod:`letdown.fluid.quality`), so the energy it delivers, gross calorific value
-    times standard flow, stays at the base case's (the file's composition at the case's flow).
-    On a molar basis that energy is the ideal molar gross value times the molar flow: the real
-    volumetric value is that molar value over the real molar volume at 15 degC and 101.325 kPa,
-    and the real standard volume is the molar flow times the same molar volume.
+def energy_basis(fs, cases, n, basis: str = "energy") -> tuple:
+    """Set the flows of the feeds that deliver a given energy.
 
-    Changes ``cases`` in place; returns the extra columns {name: ndarray (n,)}: each such feed's
-    flow on the volume basis [mol/s] (what it would be at the same standard volume) and its
-    energy [W].
+    A feed's flow follows from its energy E, gross calorific value Hs times standard flow, as
+    flow = E / Hs(z) (Hs the ideal gross molar value of ISO 6976:2016, 15 degC combustion,
+    :mod:`letdown.fluid.quality`, and z each case's composition). On a molar basis E is the ideal
+    molar gross value times the molar flow: the real volumetric value is that molar value over
+    the real molar volume at 15 degC and 101.325 kPa, and the real standard volume is the molar
+    flow times the same molar volume. This applies to
+
+    * a feed whose energy the sweep varies (``<feed>.energy``);
+    * a feed the file gives by its energy (``energy: 250 MW``), when the case changes its
+      composition (a blend, a sampled composition): the energy stays the file's;
+    * with ``basis="energy"``, every other feed whose composition the case changes: its energy
+      stays the base case's, Hs(base) times the case's flow, Hs(base) that of the file's
+      composition.
+
+    Changes ``cases`` in place (``<feed>.energy`` is taken out, ``<feed>.flow`` set). Returns
+    (extra columns {name: ndarray (n,)}, names of the feeds so set): for each feed whose
+    composition changed, its flow on the volume basis [mol/s] (what it would be at the same
+    standard volume, E / Hs(base)) and its energy [W] (unless swept: then it is an input column).
 
     Raises
     ------
@@ -353,26 +467,39 @@ def energy_basis(fs, cases, n) -> dict:
     from ..fluid.quality import quality
     names = list(fs.gas.composition)
     base_all = np.array([fs.gas.composition[c] for c in names], dtype=float)
-    extra = {}
+    extra, by_energy = {}, []
     for feed_name, feed in fs.feeds.items():
         key = f"{feed_name}.zs"
-        if key not in cases:
+        swept = cases.pop(f"{feed_name}.energy", None)
+        given = getattr(feed, "energy", None)
+        changed = key in cases
+        if swept is None and not (changed and (given is not None or basis == "energy")):
             continue
         z = base_all if feed.composition is None else np.array(
             [feed.composition.get(c, 0.0) for c in names], dtype=float)
         z = z / z.sum()
         try:
             hs_base = float(np.asarray(quality(names, z).gross_molar).reshape(-1)[0])
-            hs = np.asarray(quality(names, cases[key]).gross_molar, dtype=float).reshape(-1)
+            hs = (np.asarray(quality(names, cases[key]).gross_molar, dtype=float).reshape(-1)
+                  if changed else np.full(n, hs_base))
         except InputError as exc:
-            raise InputError(f"the energy basis needs the calorific value of feed "
-                             f"'{feed_name}': {exc.message}", field="--basis") from None
-        flow = np.broadcast_to(np.asarray(cases.get(f"{feed_name}.flow", feed.flow), float),
-                               (n,)).copy()
+            raise InputError(f"the energy of feed '{feed_name}' needs its calorific value: "
+                             f"{exc.message}", field="--basis") from None
+        if swept is not None or given is not None:
+            energy = (np.broadcast_to(np.asarray(swept, float), (n,)).copy()
+                      if swept is not None else np.full(n, given))
+            flow = energy / hs_base
+        else:
+            flow = np.broadcast_to(np.asarray(cases.get(f"{feed_name}.flow", feed.flow), float),
+                                   (n,)).copy()
+            energy = hs_base * flow
         cases[f"{feed_name}.flow"] = flow * (hs_base / hs)
-        extra[f"{feed_name}.flow_volume_basis [mol/s]"] = flow
-        extra[f"{feed_name}.energy [W]"] = hs_base * flow
-    return extra
+        by_energy.append(feed_name)
+        if changed:
+            extra[f"{feed_name}.flow_volume_basis [mol/s]"] = flow
+            if swept is None:
+                extra[f"{feed_name}.energy [W]"] = energy
+    return extra, by_energy
 
 
 def _sweep_chunk(task):
@@ -384,9 +511,10 @@ def _sweep_chunk(task):
     return names, [np.asarray(v) for v in values], np.asarray(res.converged), _reasons(res, m), res.model
 
 
-def _with_blend_components(fs, comps):
-    """The flowsheet with blended components added to the gas at zero where missing."""
-    comps = [canonical_name(c) for c in comps]
+def _with_blend_components(fs, gases):
+    """The flowsheet with the components of the blended gases ({component: fraction} each)
+    added to the gas at zero where missing."""
+    comps = list(dict.fromkeys(c for g in gases for c in g))
     missing = [c for c in comps if c not in fs.gas.composition]
     if not missing:
         return fs
@@ -396,7 +524,9 @@ def _with_blend_components(fs, comps):
     return dataclasses.replace(fs, gas=dataclasses.replace(fs.gas, composition=composition))
 
 
-def _cases(fs, cols, n):
+def _cases(fs, cols, n, axes):
+    """The solver's case arrays of the swept columns, and the goals' targets {goal index:
+    values}; the blend axes make each feed's composition z = (1 - sum x) z_feed + sum x z_gas."""
     cases, goal_targets = {}, {}
     names = list(fs.gas.composition)
     base = np.array([fs.gas.composition[c] for c in names], dtype=float)
@@ -404,13 +534,14 @@ def _cases(fs, cols, n):
     blend = np.zeros((n, len(names)))
     x_total = np.zeros(n)
     for path, values in cols.items():
-        head, _, attr = path.partition(".")
-        if head == "blend":
-            j = names.index(canonical_name(attr))
-            blend[:, j] += values
+        axis = axes.get(path)
+        if axis is not None and axis[0] == "blend":
+            gas = blend_gas(fs, axis[1])
+            z_gas = np.array([gas.get(c, 0.0) for c in names], dtype=float)
+            blend += values[:, None] * (z_gas / z_gas.sum())[None, :]
             x_total += values
-        elif head.startswith("goal") and head[4:].isdigit():
-            goal_targets[int(head[4:]) - 1] = values
+        elif axis is not None:
+            goal_targets[axis[1] - 1] = values
         else:
             cases[path] = values
     if np.any(x_total > 0):
@@ -534,9 +665,21 @@ def _block_quantities(res, eq):
     return out
 
 
-def _available(res):
+def goal_column(fs, k: int) -> str:
+    """Column name of the k-th goal's (1-based) value: the parameter it varies, then which goal
+    and what it holds, then the unit (``preheat.T_out (goal1 holds network.T) [K]``)."""
+    goal = fs.goals[k - 1]
+    try:
+        unit = SI_UNITS.get(variable_kind(fs, goal.by), "SI")
+    except InputError:
+        unit = "SI"
+    return f"{goal.by} (goal{k} holds {goal.hold}) [{unit}]"
+
+
+def _available(res, fs=None):
     """{path: (column name, callable)} of every stream and block quantity of the JSON contract,
-    by its path (``network.hydrate_margin``) and by its full key (``network.hydrate_margin_K``)."""
+    by its path (``network.hydrate_margin``) and by its full key (``network.hydrate_margin_K``);
+    each goal's value by ``@goal<k>`` (and ``goal<k>``)."""
     m = res.n_cases
     avail = {}
 
@@ -553,7 +696,11 @@ def _available(res):
             add(name, key, get)
     for k, g in enumerate(res.goals):
         value = g["value"] if isinstance(g, dict) else getattr(g, "value")
-        avail[f"goal{k + 1}"] = (f"goal{k + 1} [SI]", lambda v=value: v)
+        col = goal_column(fs, k + 1) if fs is not None else f"goal{k + 1} [SI]"
+        for path in (f"{AXIS_PREFIX}goal{k + 1}", f"goal{k + 1}"):
+            avail[path] = (col, lambda v=value: v)
+        if fs is not None:          # and by the parameter it varies (preheat.T_out)
+            avail.setdefault(fs.goals[k].by, (col, lambda v=value: v))
     return avail
 
 
@@ -572,19 +719,20 @@ def default_outputs(res, margins: bool = True) -> list:
             paths.append(f"{name}.fuel")
         if eq.power is not None:
             paths.append(f"{name}.power")
-    paths += [f"goal{k + 1}" for k in range(len(res.goals))]
+    paths += [f"{AXIS_PREFIX}goal{k + 1}" for k in range(len(res.goals))]
     return paths
 
 
 def _outputs(res, fs, outputs, m):
-    avail = _available(res)
+    avail = _available(res, fs)
     paths = []
     for o in (outputs or [DEFAULT]):
         paths += default_outputs(res) if o == DEFAULT else [o]
     names, getters = [], []
     for o in paths:
         if o not in avail:
-            known = sorted({col.split(" [")[0] for col, _ in avail.values()})
+            known = sorted({col.split(" [")[0] for col, _ in avail.values() if " (goal" not in col}
+                           | {p for p in avail if p.startswith(AXIS_PREFIX)})
             raise InputError(f"unknown output '{o}' (known: {', '.join(known)})", field="outputs")
         col, get = avail[o]
         if col not in names:

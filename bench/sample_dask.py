@@ -1,0 +1,87 @@
+"""Uncertainty-study benchmark: ``letdown sweep flowsheets/gate-station.yaml --sample N`` serially,
+on a local pool of 2 processes (``--workers 2``) and on a local Dask cluster of 2 worker processes
+(``--dask``, one thread each), each run as the command a user types, in a fresh process.
+
+Run:  python bench/sample_dask.py [--samples N] [--configs serial,workers,dask]
+
+The study is the worked one of docs/guides/studies.md: the supply temperature normal(5 degC, 2 K),
+the flow uniform(60,000, 90,000 Sm3/h) and the gas quality dirichlet(500), Latin hypercube, seed 7,
+four outputs, written with ``--out``. Prints per configuration the wall time of the command, the
+peak resident memory of the command's process (``wait4``: the process and the children it reaped,
+so the pool's workers count) and, for Dask, of the largest worker (asked through the cluster), and
+the load average before each run. The figures go in docs/guides/studies.md (issue 14, item 4:
+"scales to 100,000 samples on Dask with the same code path as today's --dask"); the machine should
+be quiet (load average below 2.5), else measure fewer samples and say so.
+"""
+from __future__ import annotations
+
+import argparse
+import os
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+from _shared import GATE, ROOT, STUDY_VARY, child_env
+
+OUTPUTS = "preheat.duty,warm.T,network.hydrate_margin,supply.hydrate_margin"
+
+
+def _worker_peak_mb():
+    """Peak resident memory of the Dask worker process that runs this [MB]."""
+    import resource
+    return resource.getrusage(resource.RUSAGE_SELF).ru_maxrss / 1024.0
+
+
+def run_cli(args: list, env: dict) -> tuple:
+    """(wall time [s], peak RSS of the process and its reaped children [MB], exit code)."""
+    t0 = time.perf_counter()
+    child = subprocess.Popen([sys.executable, "-c", "import sys; from letdown.cli import main; "
+                              "sys.exit(main())"] + args, env=env, stdout=subprocess.DEVNULL,
+                             stderr=subprocess.DEVNULL)
+    _, status, usage = os.wait4(child.pid, 0)
+    child.returncode = os.waitstatus_to_exitcode(status)
+    wall = time.perf_counter() - t0
+    return wall, usage.ru_maxrss / 1024.0, os.waitstatus_to_exitcode(status)
+
+
+def main(argv=None):
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--samples", type=int, default=100_000)
+    ap.add_argument("--configs", default="serial,workers,dask")
+    args = ap.parse_args(argv)
+    env = child_env()
+    print(f"{os.cpu_count()} cpus, {args.samples:,} samples, load average "
+          f"{os.getloadavg()[0]:.2f}")
+    for config in args.configs.split(","):
+        with tempfile.TemporaryDirectory() as tmp:
+            cli = ["sweep", str(ROOT / GATE), "--sample", str(args.samples), "--seed", "7",
+                   "--outputs", OUTPUTS, "--out", str(Path(tmp) / "out"), "--quiet"]
+            for v in STUDY_VARY:
+                cli += ["--vary", v]
+            load = os.getloadavg()[0]
+            worker_mb = None
+            if config == "serial":
+                wall, rss, code = run_cli(cli, env)
+            elif config == "workers":
+                wall, rss, code = run_cli(cli + ["--workers", "2"], env)
+            elif config == "dask":
+                import distributed
+                with distributed.LocalCluster(n_workers=2, threads_per_worker=1, processes=True,
+                                              host="127.0.0.1", dashboard_address=None) as cl:
+                    wall, rss, code = run_cli(cli + ["--dask", cl.scheduler_address], env)
+                    with distributed.Client(cl.scheduler_address) as client:
+                        worker_mb = max(client.run(_worker_peak_mb).values())
+            else:
+                raise SystemExit(f"unknown configuration {config!r}")
+            lines = (Path(tmp) / "out" / "samples.csv").read_text().count("\n") - 1 \
+                if code in (0, 1) else 0
+        print(f"{config:8s} {wall:7.2f} s, peak RSS {rss:5.0f} MB"
+              + (f", largest Dask worker {worker_mb:.0f} MB" if worker_mb is not None else "")
+              + f", exit {code}, {lines:,} samples written, load average before {load:.2f}")
+        sys.stdout.flush()
+
+
+if __name__ == "__main__":
+    main()
