@@ -50,6 +50,11 @@ def main(argv=None):
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--samples", type=int, default=100_000)
     ap.add_argument("--configs", default="serial,workers,dask")
+    ap.add_argument("--settle", type=float, default=0.0, metavar="S",
+                    help="before each run, wait up to S seconds for the load average to fall "
+                         "below --quiet-load (the previous run's own load decays in about a "
+                         "minute)")
+    ap.add_argument("--quiet-load", type=float, default=1.0)
     args = ap.parse_args(argv)
     env = child_env()
     print(f"{os.cpu_count()} cpus, {args.samples:,} samples, load average "
@@ -60,6 +65,10 @@ def main(argv=None):
                    "--outputs", OUTPUTS, "--out", str(Path(tmp) / "out"), "--quiet"]
             for v in STUDY_VARY:
                 cli += ["--vary", v]
+            t_wait = time.perf_counter()
+            while (os.getloadavg()[0] >= args.quiet_load
+                   and time.perf_counter() - t_wait < args.settle):
+                time.sleep(5.0)
             load = os.getloadavg()[0]
             worker_mb = None
             if config == "serial":

@@ -287,3 +287,31 @@ def test_command_line_prints_the_deprecation_note(tmp_path, capsys):
     assert rc == 0
     assert "note: 'blend.biomethane' is the old spelling of '@blend.biomethane'" in out.err
     assert out.out.splitlines()[0] == "blend.biomethane [-],preheat.duty [W],converged,reason"
+
+
+def test_goal_column_converts_for_display_and_plots_by_its_parameter():
+    from letdown.report.sweep import column_unit, plot_series
+    fs = station()
+    t = sweep(fs, [parse_variable(fs, "supply.T=0degC,5degC")], outputs=["@goal1"])
+    label, fn = column_unit("preheat.T_out (goal1 holds network.T) [K]", "display")
+    assert label == "preheat.T_out (goal1 holds network.T) [degC]" and fn(273.15) == 0.0
+    x_label, panels = plot_series(t, "supply.T:preheat.T_out", "si", n_inputs=1)
+    ((name, x, y),) = panels["K"]
+    assert name == "preheat.T_out" and list(x) == [273.15, 278.15]
+    np.testing.assert_array_equal(y, t.column("preheat.T_out (goal1 holds network.T) [K]"))
+
+
+def test_energy_basis_of_a_feed_without_calorific_value_is_refused():
+    """An inert feed delivers no energy: keeping it would give a zero or NaN flow, quietly."""
+    text = STATION.replace("CO2: 0.0115}", "CO2: 0.0115, helium: 0.0}").replace(
+        "feeds:\n  supply: {T: 6 degC, P: 64 barg, FLOW}",
+        "feeds:\n  supply: {T: 6 degC, P: 64 barg, FLOW}\n"
+        "  inert: {T: 6 degC, P: 64 barg, flow: 10 kmol/h, composition: {helium: 1.0}}").replace(
+        "  preheat:   {kind: heater,   from: supply,",
+        "  join:      {kind: mixer, from: [supply, inert], to: mixed}\n"
+        "  preheat:   {kind: heater,   from: mixed,")
+    fs = station(text=text)
+    var = [parse_variable(fs, "@blend.biomethane=0,0.1")]
+    assert sweep(fs, var, outputs=["preheat.duty"]).column("converged").all()
+    with pytest.raises(InputError, match="feed 'inert' has a gas without calorific value"):
+        sweep(fs, var, basis="energy", outputs=["preheat.duty"])

@@ -227,10 +227,12 @@ def _case_arrays(fs: Flowsheet, cases) -> tuple[dict, int]:
         name, _, attr = str(key).partition(".")
         axis = name.startswith("@goal")         # a goal's target, whatever the file's names
         if axis:
-            name, key = name[1:], str(key)[1:]
+            name = name[1:]
         if name.startswith("goal") and name[4:].isdigit() and (axis or name not in fs.feeds
                                                                and name not in fs.blocks):
             ok = attr == "at" and 1 <= int(name[4:]) <= len(fs.goals)
+            # kept under the '@' key, which no block's parameters can take for their own
+            key = f"@{name}.{attr}" if ok else key
         elif name in fs.feeds:
             ok = attr in FEED_FIELDS or attr == "zs"
         elif name in fs.blocks:

@@ -462,7 +462,8 @@ def energy_basis(fs, cases, n, basis: str = "energy") -> tuple:
     Raises
     ------
     InputError
-        A component without ISO 6976 data in such a feed.
+        A component without ISO 6976 data in such a feed, or a gas without calorific value (an
+        inert feed: no flow delivers an energy).
     """
     from ..fluid.quality import quality
     names = list(fs.gas.composition)
@@ -485,6 +486,10 @@ def energy_basis(fs, cases, n, basis: str = "energy") -> tuple:
         except InputError as exc:
             raise InputError(f"the energy of feed '{feed_name}' needs its calorific value: "
                              f"{exc.message}", field="--basis") from None
+        if not (hs_base > 0.0 and np.all(hs > 0.0)):
+            raise InputError(f"feed '{feed_name}' has a gas without calorific value (in the file "
+                             f"or in a case), so no flow delivers an energy; sweep it on the "
+                             f"volume basis", field="--basis")
         if swept is not None or given is not None:
             energy = (np.broadcast_to(np.asarray(swept, float), (n,)).copy()
                       if swept is not None else np.full(n, given))
