@@ -44,8 +44,9 @@ import numpy as np
 from ..errors import InputError
 from ..quantities import MassFlow, parse_quantity
 from ..sheet.spec import Flowsheet
-from .sweep import (MAX_CASES, Variable, _check_values, _feed_molar_mass, split_unit, study_axis,
-                    sweep, variable_kind)
+from .paths import (MAX_CASES, Variable, _check_values, _feed_molar_mass, study_axis,
+                    variable_kind)
+from .sweep import split_unit, sweep
 
 #: The distributions and their argument names.
 DISTRIBUTIONS = {"normal": ("mean", "sigma"), "uniform": ("a", "b"),
