@@ -315,3 +315,22 @@ def test_energy_basis_of_a_feed_without_calorific_value_is_refused():
     assert sweep(fs, var, outputs=["preheat.duty"]).column("converged").all()
     with pytest.raises(InputError, match="feed 'inert' has a gas without calorific value"):
         sweep(fs, var, basis="energy", outputs=["preheat.duty"])
+
+
+def test_sampled_composition_of_an_energy_feed_keeps_its_energy():
+    fs = station("energy: 250 MW")
+    res = uncertainty(fs, [parse_distribution(fs, "supply.composition=dirichlet(200)")], 8,
+                      seed=11, outputs=["supply.flow"])
+    names = list(fs.gas.composition)
+    zs = np.column_stack([res.table.column(f"supply.composition.{c} [-]") for c in names])
+    assert np.ptp(zs[:, 0]) > 1e-3                               # the gas does vary
+    energy = np.asarray(quality(names, zs).gross_molar) * res.table.column("supply.flow [mol/s]")
+    np.testing.assert_allclose(energy, 250e6, rtol=1e-9)
+
+
+def test_energy_on_a_loop_guess_is_refused():
+    text = STATION.replace("goals:", "guesses:\n  warm: {T: 30 degC, P: 60 barg, energy: 5 MW}\n"
+                                     "goals:")
+    with pytest.raises(InputError, match="a guess gives its flow") as e:
+        station(text=text)
+    assert e.value.field == "guesses.warm.energy"
