@@ -10,13 +10,9 @@ state in the batch.
 """
 from __future__ import annotations
 
-import argparse
-import os
-import statistics
-import time
-
 import numpy as np
 
+from _shared import bench_parser, machine_line, median_time
 from letdown.fluid import Fluid
 from letdown.fluid.aqueous import hydrate as hy
 
@@ -25,36 +21,19 @@ GAS = {"methane": 0.9135, "ethane": 0.048, "propane": 0.012, "nitrogen": 0.015,
        "carbon-dioxide": 0.0115}
 
 
-def _median(fn, repeats):
-    times = []
-    for _ in range(repeats):
-        t0 = time.perf_counter()
-        fn()
-        times.append(time.perf_counter() - t0)
-    return statistics.median(times)
-
-
 def main(argv=None):
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--repeats", type=int, default=5)
-    ap.add_argument("--sample", type=int, default=200, help="pressures solved one by one")
-    args = ap.parse_args(argv)
-    try:
-        from letdown.fluid.kernels import native
-        kernels = "on" if native.AVAILABLE else "off"
-    except ImportError:
-        kernels = "not built"
-    print(f"{os.cpu_count()} cpus, compiled flash kernels {kernels}")
+    args = bench_parser(__doc__, 5, 200, "pressures solved one by one").parse_args(argv)
+    print(machine_line())
     fluid = Fluid(GAS)
     rng = np.random.default_rng(14)
     P = rng.uniform(10e5, 80e5, 8760)                 # 10-80 bar, the let-down range
     fluid.hydrate_T(P[:10])                           # warm-up (imports, thread pool)
-    t_batch = _median(lambda: fluid.hydrate_T(P), args.repeats) / P.size
+    t_batch = median_time(lambda: fluid.hydrate_T(P), args.repeats) / P.size
     print(f"batch of {P.size}: median {t_batch * 1e6:.1f} us/state; target <= 20 us")
 
     sample = P[: args.sample]
-    t_scalar = _median(lambda: [fluid.hydrate_T(float(p)) for p in sample],
-                       max(1, args.repeats // 2)) / sample.size
+    t_scalar = median_time(lambda: [fluid.hydrate_T(float(p)) for p in sample],
+                           max(1, args.repeats // 2)) / sample.size
     print(f"case by case ({sample.size} pressures): median {t_scalar * 1e6:.0f} us/state; "
           f"batch is {t_scalar / t_batch:.0f}x faster")
 
@@ -68,7 +47,7 @@ def main(argv=None):
         hy.formation_T(fug, P_old, names, hy.SI)
         hy.formation_T(fug, P_old, names, hy.SII)
 
-    t_old = _median(flash_every_T, max(1, args.repeats // 2)) / P_old.size
+    t_old = median_time(flash_every_T, max(1, args.repeats // 2)) / P_old.size
     print(f"flash at every temperature (batch of {P_old.size}): median {t_old * 1e6:.0f} us/state; "
           f"the fast path is {t_old / t_batch:.0f}x faster")
 

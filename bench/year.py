@@ -11,46 +11,23 @@ least 20x faster than one by one; issue 14: with margins on every stream in at m
 """
 from __future__ import annotations
 
-import argparse
-import os
-import statistics
 import time
 
 import numpy as np
 
+from _shared import GATE, PROFILE, bench_parser, machine_line, median_time
 from letdown.sheet.loader import read_spec
 from letdown.sheet.solve import solve_cases
 from letdown.study.year import read_profile, year
 
-GATE = "flowsheets/gate-station.yaml"
-PROFILE = "flowsheets/profiles/harrowfield-2026.csv"
-
-
-def _timed(fn):
-    t0 = time.perf_counter()
-    fn()
-    return time.perf_counter() - t0
-
 
 def main(argv=None):
-    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    ap.add_argument("--repeats", type=int, default=3)
-    ap.add_argument("--sample", type=int, default=40, help="hours solved one by one")
-    args = ap.parse_args(argv)
-    try:
-        from letdown.fluid.kernels import native
-        kernels = "on" if native.AVAILABLE else "off"
-    except ImportError:
-        kernels = "not built"
-    print(f"{os.cpu_count()} cpus, compiled flash kernels {kernels}")
+    args = bench_parser(__doc__, 3, 40, "hours solved one by one").parse_args(argv)
+    print(machine_line())
     fs = read_spec(GATE)
     prof = read_profile(PROFILE)
-    times = []
-    for _ in range(args.repeats):
-        t0 = time.perf_counter()
-        res = year(fs, prof)
-        times.append(time.perf_counter() - t0)
-    t_year = statistics.median(times)
+    res = year(fs, prof)
+    t_year = median_time(lambda: year(fs, prof), args.repeats)
     print(f"year, {prof.n} hours in batches, margins on every stream: median {t_year:.2f} s "
           f"({int((~res.converged).sum())} failed hours); target < 2 s (issue 14: 1 s)")
     hh = res.hydrate_hours()
@@ -60,8 +37,7 @@ def main(argv=None):
     pool = ProcessPool(2)
     try:
         year(fs, prof, executor=pool)                 # start the workers
-        t_pool = statistics.median([_timed(lambda: year(fs, prof, executor=pool))
-                                    for _ in range(args.repeats)])
+        t_pool = median_time(lambda: year(fs, prof, executor=pool), args.repeats)
     finally:
         pool.close()
     print(f"year on a pool of 2 processes: median {t_pool:.2f} s")

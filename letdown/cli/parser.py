@@ -61,8 +61,11 @@ def build_parser() -> argparse.ArgumentParser:
                        help="solve a flowsheet over a list, range or grid of input values")
     w.add_argument("file", metavar="FILE", help="the flowsheet file (YAML)")
     w.add_argument("--vary", action="append", required=True, metavar="PATH=VALUES",
-                   help="e.g. supply.T=0degC:20degC:5, blend.hydrogen=0:0.3:7, goal1.at=2degC,5degC; "
-                        "with --sample a distribution: supply.T=normal(5degC,2K), "
+                   help="e.g. supply.T=0degC:20degC:5, supply.energy=200MW:300MW:3, "
+                        "@goal1.at=2degC,5degC, @blend.hydrogen=0:0.3:7 (a component) or "
+                        "@blend.biomethane=0:0.3:7 (a gas of the file's 'gases' section); the "
+                        "study's own axes begin with '@' (blend.X and goalK.at without it are "
+                        "deprecated); with --sample a distribution: supply.T=normal(5degC,2K), "
                         "supply.flow=uniform(60000Sm3/h,90000Sm3/h), supply.P=triangular(a,m,b), "
                         "supply.composition=dirichlet(500)")
     w.add_argument("--sample", type=int, metavar="N",
@@ -77,21 +80,19 @@ def build_parser() -> argparse.ArgumentParser:
                         "run.json and the report)")
     w.add_argument("--zip", action="store_true", help="take the variables together, not as a grid")
     w.add_argument("--outputs", metavar="A,B", help="output paths: any stream or block quantity of "
-                   "the JSON result, e.g. network.T,network.hydrate_margin,network.gross_cv,preheat.fuel")
+                   "the JSON result, e.g. network.T,network.hydrate_margin,network.gross_cv,"
+                   "preheat.fuel; @goal1 the value the first goal finds")
     w.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
     w.add_argument("--basis", choices=("volume", "energy"), default="volume",
                    help="what a blend keeps: the feeds' standard flow (volume) or the energy they "
-                        "deliver, gross calorific value x standard flow (energy)")
-    w.add_argument("--out", metavar="DIR", help="write sweep.csv, run.json (and plots) to DIR; "
-                   "with --sample samples.csv, summary.csv, hydrate.csv, sensitivity.csv, run.json")
+                        "deliver, gross calorific value x standard flow (energy; a feed given "
+                        "by its energy in the file always keeps it)")
     w.add_argument("--plot", metavar="X:Y[,Y]", help="plot outputs Y against input X into DIR")
-    w.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
-    w.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")
-    w.add_argument("--units", choices=("si", "field", "display"), default="si",
-                   help="units of the printed table, plots and HTML: si (K, Pa, W; stdout stays "
-                        "CSV), display (degC, barg, kW) or field (degF, psig, MMBtu/h); "
-                        "sweep.csv stays SI")
-    _record_options(w)
+    _study_options(w, "write sweep.csv, run.json (and plots) to DIR; with --sample samples.csv, "
+                      "summary.csv, hydrate.csv, sensitivity.csv, run.json",
+                   "units of the printed table, plots and HTML: si (K, Pa, W; stdout stays "
+                   "CSV), display (degC, barg, kW) or field (degF, psig, MMBtu/h); "
+                   "sweep.csv stays SI", default_units="si")
 
     y = sub.add_parser("year", parents=[common],
                        help="solve every hour of an operating profile with the goals held")
@@ -105,14 +106,10 @@ def build_parser() -> argparse.ArgumentParser:
     y.add_argument("--feed", metavar="NAME", help="the feed the profile drives (default: the only one)")
     y.add_argument("--outlet", metavar="BLOCK", help="the throttle whose P_out the profile sets")
     y.add_argument("--model", metavar="M", help="override the file's thermodynamic model")
-    y.add_argument("--out", metavar="DIR", help="write hourly.csv, summary.json, run.json, plots")
-    y.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
-    y.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")
-    y.add_argument("--units", choices=("si", "field", "display"), default="display",
-                   help="units of the printed figures, plots and HTML: display (degC, kW, MWh; "
-                        "the default), si (K, W) or field (degF, MMBtu/h, MMBtu); hourly.csv "
-                        "stays SI")
-    _record_options(y)
+    _study_options(y, "write hourly.csv, summary.json, run.json, plots",
+                   "units of the printed figures, plots and HTML: display (degC, kW, MWh; the "
+                   "default), si (K, W) or field (degF, MMBtu/h, MMBtu); hourly.csv stays SI",
+                   default_units="display")
     sz = sub.add_parser("size", parents=[common],
                         help="size the preheater over the file's operating cases")
     sz.add_argument("file", metavar="FILE", help="the flowsheet file (YAML)")
@@ -198,6 +195,17 @@ display units of reports (--units): si (degC, barg, kW), field (degF, psig, MMBt
 sweep and year also take display, and their si is plain SI (K, Pa, W) as their CSV.
 Start with: letdown new station my-station.yaml
 """
+
+
+def _study_options(parser, out_help: str, units_help: str, default_units: str) -> None:
+    """The options ``sweep`` and ``year`` share: ``--out DIR``, ``--workers N``, ``--dask
+    ADDRESS``, ``--units`` (si, field, display) and the records (``--html``, ``--xlsx``)."""
+    parser.add_argument("--out", metavar="DIR", help=out_help)
+    parser.add_argument("--workers", type=int, metavar="N", help="solve on N local processes")
+    parser.add_argument("--dask", metavar="ADDRESS", help="solve on an existing Dask cluster")
+    parser.add_argument("--units", choices=("si", "field", "display"), default=default_units,
+                        help=units_help)
+    _record_options(parser)
 
 
 def _record_options(parser, html: bool = True, xlsx: bool = True) -> None:

@@ -26,6 +26,7 @@ def run(args) -> int:
         raise InputError("a distribution in --vary needs --sample N (the number of samples)",
                          field="--vary")
     variables = [parse_variable(fs, v) for v in args.vary]
+    _notes(v.note for v in variables)
     case_count(variables, "zip" if args.zip else "grid")
     outputs = [o.strip() for o in args.outputs.split(",")] if args.outputs else None
     target = csv_target(args.out) if args.out else None
@@ -80,6 +81,8 @@ def _uncertainty(args, fs, atm) -> int:
         if getattr(args, flag, None):
             raise InputError(f"--{flag} does not go with --sample", field=f"--{flag}")
     dists = [parse_distribution(fs, v) for v in args.vary]
+    from ..study.sweep import spelling_note
+    _notes(spelling_note(fs, d.path) for d in dists)
     seed = args.seed
     if seed is None:
         import numpy as np
@@ -105,3 +108,9 @@ def _uncertainty(args, fs, atm) -> int:
               f"solved ones; see the reason column of samples.csv)", file=sys.stderr)
     print(f"letdown: {CAUTION}", file=sys.stderr)
     return EXIT_FAILED_SOLVE if result.failed else EXIT_OK
+
+
+def _notes(notes) -> None:
+    """Print each note about the paths as written (an old spelling) once, on stderr."""
+    for note in dict.fromkeys(n for n in notes if n):
+        print(f"letdown: note: {note}", file=sys.stderr)

@@ -97,12 +97,22 @@ def display_table(table, units: str = "si", atmosphere: float = STANDARD_ATMOSPH
                  tuple(rows))
 
 
+def _plot_names(table) -> dict:
+    """{name a --plot may use: column}: each column's name without its unit, and a goal's column
+    (``preheat.T_out (goal1 holds network.T) [K]``) also by the parameter it varies."""
+    names = {c.split(" [")[0]: c for c in table.columns}
+    for name, col in list(names.items()):
+        if " (goal" in name:
+            names.setdefault(name.split(" (goal")[0], col)
+    return names
+
+
 def plot_series(table, spec: str, units: str = "si",
                 atmosphere: float = STANDARD_ATMOSPHERE, n_inputs: int | None = None):
     """What :func:`plot_files` draws: (x label, {unit: [(line label, x, y)]}), x sorted within
     each line, one panel per unit, one line per output and combination of the other inputs."""
     x_name, _, ys = spec.partition(":")
-    names = {c.split(" [")[0]: c for c in table.columns}
+    names = _plot_names(table)
     wanted = [x_name.strip()] + [y.strip() for y in ys.split(",") if y.strip()]
     missing = [w for w in wanted if w not in names]
     if not ys or missing:
@@ -146,7 +156,7 @@ def plot_files(table, spec: str, units: str = "si", atmosphere: float = STANDARD
     line per combination of the other inputs' values, labelled with them, instead of one line
     through every case."""
     x_name, _, ys = spec.partition(":")
-    names = {c.split(" [")[0]: c for c in table.columns}
+    names = _plot_names(table)
     wanted = [x_name.strip()] + [y.strip() for y in ys.split(",") if y.strip()]
     missing = [w for w in wanted if w not in names]
     if not ys or missing:

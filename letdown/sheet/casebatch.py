@@ -31,9 +31,14 @@ def _case_arrays(fs: SheetSpec, cases) -> tuple[dict, int]:
     arrays = {}
     for key, values in cases.items():
         name, _, attr = str(key).partition(".")
-        if name.startswith("goal") and name[4:].isdigit() and name not in fs.feeds \
-                and name not in fs.blocks:
+        axis = name.startswith("@goal")         # a goal's target, whatever the file's names
+        if axis:
+            name = name[1:]
+        if name.startswith("goal") and name[4:].isdigit() and (axis or name not in fs.feeds
+                                                               and name not in fs.blocks):
             ok = attr == "at" and 1 <= int(name[4:]) <= len(fs.goals)
+            # kept under the '@' key, which no block's parameters can take for their own
+            key = f"@{name}.{attr}" if ok else key
         elif name in fs.feeds:
             ok = attr in FEED_FIELDS or attr == "zs"
         elif name in fs.blocks:
@@ -42,7 +47,7 @@ def _case_arrays(fs: SheetSpec, cases) -> tuple[dict, int]:
             ok = False
         if not ok:
             raise InputError(f"unknown case variable '{key}' (use <feed>.T, <feed>.P, <feed>.flow, "
-                             "<feed>.zs, <block>.<parameter> or goal<k>.at)", field=f"cases.{key}")
+                             "<feed>.zs, <block>.<parameter> or @goal<k>.at)", field=f"cases.{key}")
         if attr == "zs":
             a = np.atleast_2d(np.asarray(values, dtype=float))
             if np.any(a < 0) or np.any(np.abs(a.sum(axis=1) - 1.0) > 1e-6):

@@ -43,7 +43,7 @@ class GoalSearch:
         m = len(sel)
         lo, hi = goal.within
         target = np.broadcast_to(np.asarray(
-            self._value(f"goal{number + 1}.at", sel, over, goal.target), dtype=float), (m,))
+            self._value(f"@goal{number + 1}.at", sel, over, goal.target), dtype=float), (m,))
         tol = np.maximum(self.fs.solver.goal_tolerance, GOAL_RELATIVE_FLOOR * np.abs(target))
 
         def run(local, x, trial=True):

@@ -38,6 +38,7 @@ from ..errors import InputError
 from ..quantities import STANDARD_ATMOSPHERE, MassFlow
 from .blocksection import _blocks, _check_parameter
 from .goalslimits import _goal_targets, _goals, _limits, _solver
+from .gases import energy_flow, feed_energy, named_gases
 from .inputtext import read_text
 from .kinds import EXACTLY_ONE, PARAMETERS
 from .spec import BlockSpec, CaseSpec, FeedSpec, GasSpec, SheetSpec, WaterSpec
@@ -149,7 +150,9 @@ def _feeds(doc: _Doc, q: _Quantities, gas: GasSpec, normalise: bool,
         if "composition" in raw:
             composition = _composition(doc, raw["composition"], path + ("composition",),
                                        normalise, allowed=tuple(gas.composition))
-        flow = q(raw["flow"], "flow", path + ("flow",))
+        energy = feed_energy(doc, q, raw, path)     # exactly one of flow and energy (gases.py)
+        flow = q(raw["flow"], "flow", path + ("flow",)) if energy is None else \
+            energy_flow(doc, energy, composition or gas.composition, path)
         if isinstance(flow, MassFlow):
             value, flow = flow.kg_s, flow.to_molar(_molar_mass(composition or gas.composition))
         else:
@@ -160,7 +163,7 @@ def _feeds(doc: _Doc, q: _Quantities, gas: GasSpec, normalise: bool,
         if value == 0.0:
             raise doc.err("zero flow; a flow must be positive", path + ("flow",), key=False)
         feeds[name] = FeedSpec(name=name, T=T, P=P, flow=flow, composition=composition,
-                               where=_where(doc, path))
+                               where=_where(doc, path), energy=energy)
     return feeds
 
 
@@ -380,7 +383,8 @@ def parse_spec(text: str, source: str = "<text>") -> SheetSpec:
     fs = SheetSpec(title=title, gas=gas, feeds=feeds, blocks=blocks, goals=goals,
                    limits=limits, solver=solver, source=source,
                    extra={"atmosphere": atmosphere, "normalise": normalise}, guesses=guesses,
-                   measurements=measurements, cases=cases)
+                   measurements=measurements, cases=cases,
+                   gases=named_gases(doc, normalise, _composition))
     from .graph import build_graph
     build_graph(fs)     # raises TopologyError with file:line
     return fs

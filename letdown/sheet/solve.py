@@ -129,7 +129,8 @@ def solve_cases(fs: SheetSpec, cases=None, model: str | None = None, *,
     cases : Mapping[str, array_like], optional
         ``"<feed>.T"`` [K], ``"<feed>.P"`` [Pa], ``"<feed>.flow"`` [mol/s], ``"<feed>.zs"``
         (compositions, shape (n, nc) in the gas's component order), ``"<block>.<parameter>"``
-        (SI) or ``"goal<k>.at"`` (the target of the k-th goal, 1-based, SI) -> values over the
+        (SI) or ``"@goal<k>.at"`` (the target of the k-th goal, 1-based, SI; ``"goal<k>.at"``
+        where no feed or block is named ``goal<k>``) -> values over the
         cases; all of one length ``n`` (or one value for all). None: one case, as in the file.
     model : str, optional
         Thermodynamic model overriding ``fs.gas.model``. Where neither names one, the model is

@@ -76,13 +76,38 @@ class WaterSpec:
 
 @dataclass(frozen=True)
 class FeedSpec:
-    """One feed stream: T [K], P [Pa], molar flow [mol/s], optional own composition."""
+    """One feed stream: T [K], P [Pa], molar flow [mol/s], optional own composition.
+
+    ``energy`` [W] is set when the file gives the feed by the energy it delivers (``energy:
+    250 MW``, :mod:`letdown.sheet.gases`): ``flow`` is then that energy over the gross molar
+    calorific value of the feed's gas, and a study that changes the composition keeps the energy.
+    """
 
     name: str
     T: float
     P: float
     flow: float
     composition: Mapping[str, float] | None = None
+    where: Where = Where()
+    energy: float | None = None
+
+
+@dataclass(frozen=True)
+class NamedGasSpec:
+    """A gas of the ``gases`` section (a biomethane, a hydrogen-rich gas) that a study can blend
+    into the feeds (``@blend.<name>``); it is no stream of the flowsheet.
+
+    Attributes
+    ----------
+    name : str
+    composition : Mapping[str, float]
+        Canonical component name -> mole fraction [-], summing to 1. Components need not be
+        listed under ``gas``: a blend adds them to the flowsheet's gas at zero.
+    where : Where
+    """
+
+    name: str
+    composition: Mapping[str, float]
     where: Where = Where()
 
 
@@ -222,6 +247,9 @@ class SheetSpec:
         ignores them.
     cases : tuple of CaseSpec
         Operating cases (the ``cases`` section) for ``letdown size``; a plain solve ignores them.
+    gases : Mapping[str, NamedGasSpec]
+        Named gases (the ``gases`` section) a sweep may blend into the feeds; a solve ignores
+        them.
     """
 
     title: str
@@ -236,3 +264,4 @@ class SheetSpec:
     guesses: Mapping[str, FeedSpec] = field(default_factory=dict)
     measurements: tuple = ()
     cases: tuple = ()
+    gases: Mapping[str, "NamedGasSpec"] = field(default_factory=dict)

@@ -497,7 +497,7 @@ def size(fs: SheetSpec, *, efficiency: float | None = None, model: str | None = 
     # own limit (secant steps on the largest shortfall, per case and sized heater)
     x, x_prev, g_prev = own.copy(), np.full((ng, n), np.nan), np.full((ng, n), np.nan)
     for _ in range(MAX_RAISES + 1):
-        res = solve_cases(fs, {**cases, **{f"goal{goals[j][0] + 1}.at": x[j] for j in range(ng)}},
+        res = solve_cases(fs, {**cases, **{f"@goal{goals[j][0] + 1}.at": x[j] for j in range(ng)}},
                           model=model, margins=True, strict=False)
         x_new, moved = x.copy(), False
         for i in range(n):

@@ -4,9 +4,18 @@ A swept variable is named by its path in the flowsheet file:
 
 * ``<feed>.T``, ``<feed>.P``, ``<feed>.flow`` -- a feed's state;
 * ``<block>.<parameter>`` -- any numeric block parameter (``preheat.T_out``, ``regulator.P_out``);
-* ``goal<k>.at`` -- the target of the k-th goal (1-based);
-* ``blend.<component>`` -- the mole fraction of a component blended into every feed (``blend.hydrogen``
-  from 0 to 0.3 gives the hydrogen blends of the supply gas: z = (1 - x) z_feed + x e_component).
+* ``<feed>.energy`` -- the energy a feed delivers (gross calorific value times standard flow); its
+  flow follows from each case's calorific value;
+* ``@goal<k>.at`` -- the target of the k-th goal (1-based);
+* ``@blend.<gas>`` -- the mole fraction of a component or of a named gas of the file's ``gases``
+  section blended into every feed (``@blend.hydrogen`` from 0 to 0.3 gives the hydrogen blends of
+  the supply gas: z = (1 - x) z_feed + x z_gas, z_gas a pure component's unit vector or the named
+  gas's composition).
+
+The study's own axes begin with ``@``, which no name of the file can contain (names are letters,
+digits, ``_`` and ``-``), so a block or feed named ``blend`` or ``goal1`` can be swept like any
+other. The older spellings without ``@`` (``blend.hydrogen``, ``goal1.at``) still work where no
+block or feed has that name, with a note that they are deprecated (:func:`spelling_note`).
 
 Values are written with units as in the file (``0 degC:20 degC:5`` is a range of 5 values, ``0 degC,
 5 degC`` a list; fractions may be plain numbers or percentages). Several variables make a grid (every
@@ -31,16 +40,15 @@ import numpy as np
 
 from ..errors import InputError
 from ..fluid.aqueous.water import M_WATER
-from ..fluid.components import canonical_name
-from ..quantities import SI_UNITS, MassFlow, parse_quantity
-from ..sheet.solve import FEED_FIELDS, solve_cases
+from ..quantities import SI_UNITS
+from ..sheet.solve import solve_cases
 from ..sheet.result import liquid_volume_flow
 from ..sheet.spec import SheetSpec
+# the inputs by path (re-exported: the CLI, the reports and the tests import them from here)
+from .paths import (AXIS_PREFIX, FEED_KINDS, MAX_CASES, Variable, _check_values,  # noqa: F401
+                    _feed_molar_mass, _held_kind, blend_gas, case_count, parse_variable,
+                    spelling_note, study_axis, variable_kind)
 
-FEED_KINDS = {"T": "temperature", "P": "pressure", "flow": "flow"}
-#: Most cases one sweep may ask for (a grid's product or a range's count): a million-case typo
-#: would otherwise run for hours before anything is written (our choice; a year is 8,760 hours).
-MAX_CASES = 100_000
 #: Cases per chunk when a progress bar is shown (each chunk is still one vectorised batch).
 PROGRESS_CHUNK = 500
 #: Most cases solved in one batch: a larger sweep is split into chunks of at most this many, so
@@ -49,19 +57,6 @@ PROGRESS_CHUNK = 500
 #: (on the gate station, chunks of 2,000 to 20,000 cases took the same time per case within the
 #: noise of a shared machine; measured 2026-12-02).
 MAX_CHUNK = 5_000
-
-
-@dataclass(frozen=True)
-class Variable:
-    """One swept input: its path, the quantity kind and the values in SI."""
-
-    path: str
-    kind: str
-    values: np.ndarray
-
-    @property
-    def unit(self) -> str:
-        return SI_UNITS.get(self.kind, "SI")
 
 
 @dataclass(frozen=True)
@@ -98,125 +93,6 @@ class SweepTable:
         return buf.getvalue()
 
 
-def parse_variable(fs: SheetSpec, spec: str) -> Variable:
-    """``path=values`` into a :class:`Variable` (values: ``a:b:n`` range or ``a,b,c`` list).
-
-    Raises
-    ------
-    InputError
-        Unknown path, unit of the wrong kind, an empty or malformed value list.
-    """
-    path, sep, text = str(spec).partition("=")
-    path, text = path.strip(), text.strip()
-    if not sep or not text:
-        raise InputError(f"sweep variable '{spec}' must read PATH=VALUES, e.g. supply.T=0degC:20degC:5",
-                         field="vary")
-    kind = variable_kind(fs, path)
-    atm = fs.extra.get("atmosphere") if fs.extra else None
-    kw = {"atmosphere": atm} if atm else {}
-    field = f"vary.{path}"
-
-    def q(t):
-        value = parse_quantity(t.strip(), kind, field=field, **kw)
-        if isinstance(value, MassFlow):
-            value = value.to_molar(_feed_molar_mass(fs, path.partition(".")[0]))
-        return float(value)
-
-    if ":" in text and "," not in text:
-        parts = text.split(":")
-        if len(parts) != 3:
-            raise InputError(f"range '{text}' must read START:STOP:COUNT", field=f"vary.{path}")
-        try:
-            count = int(parts[2])
-        except ValueError:
-            raise InputError(f"range '{text}': the count '{parts[2]}' is not a whole number",
-                             field=f"vary.{path}") from None
-        if count < 1:
-            raise InputError(f"range '{text}': the count must be at least 1", field=f"vary.{path}")
-        if count > MAX_CASES:
-            raise InputError(f"range '{text}': at most {MAX_CASES:,} values", field=f"vary.{path}")
-        values = np.linspace(q(parts[0]), q(parts[1]), count)
-    else:
-        values = np.array([q(t) for t in text.split(",") if t.strip()])
-    if values.size == 0:
-        raise InputError(f"no values for '{path}'", field=f"vary.{path}")
-    if path.startswith("blend.") and (np.any(values < 0) or np.any(values >= 1)):
-        raise InputError(f"blend fractions must lie in [0, 1) (got {values.min()}..{values.max()})",
-                         field=field)
-    _check_values(fs, path, text, values, field)
-    return Variable(path, kind, values)
-
-
-def case_count(variables, mode: str = "grid") -> int:
-    """Number of cases a sweep of ``variables`` makes (``grid``: the product; ``zip``: the length).
-
-    Raises
-    ------
-    InputError
-        More than :data:`MAX_CASES`.
-    """
-    sizes = [v.values.size for v in variables]
-    n = int(np.prod(sizes, dtype=float)) if mode == "grid" else max(sizes, default=0)
-    if n > MAX_CASES:
-        raise InputError(f"the sweep makes {n:,} cases; at most {MAX_CASES:,} (split it, or use "
-                         f"--zip to take the variables together)", field="vary")
-    return n
-
-
-def _feed_molar_mass(fs: SheetSpec, feed: str) -> float:
-    """Molar mass of a feed's gas [kg/mol] (a swept mass flow becomes a molar flow with it)."""
-    from ..fluid.components import COMPONENTS
-    comp = fs.feeds[feed].composition or fs.gas.composition
-    return sum(x * COMPONENTS[c].M for c, x in comp.items())
-
-
-def _check_values(fs: SheetSpec, path: str, text: str, values, field: str) -> None:
-    """The checks the loader makes on the same field of a file, on every swept value."""
-    from ..sheet.loader import parameter_problem
-    name, _, attr = path.partition(".")
-    if name in fs.feeds and attr in ("P", "flow") and np.any(values <= 0.0):
-        raise InputError(f"{attr} must be positive, got {text!r}", field=field)
-    if name in fs.blocks:
-        kind = fs.blocks[name].kind
-        for v in values:
-            problem = parameter_problem(kind, attr, float(v), text)
-            if problem is not None:
-                raise InputError(problem, field=field)
-    if name.startswith("goal") and name[4:].isdigit():
-        held = fs.goals[int(name[4:]) - 1].hold.partition(".")[2]
-        if held == "vapour_fraction" and np.any((values < 0.0) | (values > 1.0)):
-            raise InputError(f"a vapour fraction lies in [0, 1], got {text!r}", field=field)
-        if held in ("P", "flow") and np.any(values <= 0.0):
-            raise InputError(f"{held} must be positive, got {text!r}", field=field)
-
-
-def variable_kind(fs: SheetSpec, path: str) -> str:
-    """Quantity kind of a sweepable path (see the module docstring)."""
-    from ..sheet.loader import PARAMETERS
-    name, _, attr = path.partition(".")
-    if name == "blend":
-        canonical_name(attr)            # raises with suggestions for an unknown component
-        return "fraction"
-    if name in fs.feeds and attr in FEED_FIELDS:
-        return FEED_KINDS[attr]
-    if name in fs.blocks:
-        kinds = PARAMETERS.get(fs.blocks[name].kind, {})
-        if attr in kinds and kinds[attr] not in ("text",):
-            return kinds[attr]
-    if name.startswith("goal") and name[4:].isdigit() and attr == "at":
-        k = int(name[4:])
-        if 1 <= k <= len(fs.goals):
-            return _held_kind(fs, fs.goals[k - 1].hold)
-    raise InputError(f"cannot sweep '{path}': use <feed>.T|P|flow, <block>.<parameter>, "
-                     f"goal<k>.at or blend.<component>", field=f"vary.{path}")
-
-
-def _held_kind(fs, hold: str) -> str:
-    _, _, attr = hold.partition(".")
-    return {"T": "temperature", "P": "pressure", "flow": "flow", "duty": "power", "power": "power",
-            "vapour_fraction": "fraction", "min_approach": "temperature_difference"}.get(attr, "fraction")
-
-
 def sweep(fs: SheetSpec, variables, *, mode: str = "grid", model: str | None = None,
           outputs=None, executor=None, show_progress: bool = False,
           basis: str = "volume", given=None) -> SweepTable:
@@ -233,7 +109,8 @@ def sweep(fs: SheetSpec, variables, *, mode: str = "grid", model: str | None = N
     outputs : sequence of str, optional
         Output paths: any stream or block quantity of the JSON result by its key without the unit
         suffix (``network.hydrate_margin``, ``network.gross_cv``, ``preheat.fuel``,
-        ``meoh.inhibitor_rate``) or with it (``network.hydrate_margin_K``), and ``goal<k>``;
+        ``meoh.inhibitor_rate``) or with it (``network.hydrate_margin_K``), and ``@goal<k>``
+        (the value of the parameter the goal varies);
         default (:func:`default_outputs`): every stream's T, P, vapour fraction and hydrate
         margin, every block's duty, fuel and power, every goal's value. The freezing margins are
         computed in every case whenever an output needs them (the default does).
@@ -271,17 +148,17 @@ def sweep(fs: SheetSpec, variables, *, mode: str = "grid", model: str | None = N
     if given and mode != "zip":
         raise InputError("per-case arrays go with a zip sweep", field="vary")
     n = next(iter(cols.values())).size if cols else len(next(iter(given.values())))
-    fs2 = _with_blend_components(fs, [v.path.split(".", 1)[1] for v in variables
-                                      if v.path.startswith("blend.")])
-    cases, goal_targets = _cases(fs2, cols, n)
+    axes = {v.path: study_axis(fs, v.path) for v in variables}
+    fs2 = _with_blend_components(fs, [blend_gas(fs, a[1]) for a in axes.values()
+                                      if a is not None and a[0] == "blend"])
+    cases, goal_targets = _cases(fs2, cols, n, axes)
     cases.update(given)
     if basis not in BASES:
         raise InputError(f"unknown basis '{basis}' (known: {', '.join(BASES)})", field="--basis")
-    extra = energy_basis(fs2, cases, n) if basis == "energy" else {}
-    if extra:
-        # the energy basis shows each scaled feed's flow and calorific value beside the outputs
-        feeds = [k.rsplit(".energy [W]", 1)[0] for k in extra if k.endswith(".energy [W]")]
-        outputs = list(outputs or [DEFAULT]) + [f"{f}.{q}" for f in feeds
+    extra, by_energy = energy_basis(fs2, cases, n, basis)
+    if by_energy:
+        # each feed whose flow follows from its energy shows its flow and calorific value
+        outputs = list(outputs or [DEFAULT]) + [f"{f}.{q}" for f in by_energy
                                                 for q in ("flow", "gross_cv")]
     out_rows = [None] * n
     columns = None
@@ -332,47 +209,74 @@ def sweep(fs: SheetSpec, variables, *, mode: str = "grid", model: str | None = N
 BASES = ("volume", "energy")
 
 
-def energy_basis(fs, cases, n) -> dict:
-    """Put the cases on the energy basis: each feed whose composition the sweep changes gets its
-    flow scaled by Hs(base) / Hs(case), Hs the gross calorific value of ISO 6976:2016 (15 degC
-    combustion, :mod:`letdown.fluid.quality`), so the energy it delivers, gross calorific value
-    times standard flow, stays at the base case's (the file's composition at the case's flow).
-    On a molar basis that energy is the ideal molar gross value times the molar flow: the real
-    volumetric value is that molar value over the real molar volume at 15 degC and 101.325 kPa,
-    and the real standard volume is the molar flow times the same molar volume.
+def energy_basis(fs, cases, n, basis: str = "energy") -> tuple:
+    """Set the flows of the feeds that deliver a given energy.
 
-    Changes ``cases`` in place; returns the extra columns {name: ndarray (n,)}: each such feed's
-    flow on the volume basis [mol/s] (what it would be at the same standard volume) and its
-    energy [W].
+    A feed's flow follows from its energy E, gross calorific value Hs times standard flow, as
+    flow = E / Hs(z) (Hs the ideal gross molar value of ISO 6976:2016, 15 degC combustion,
+    :mod:`letdown.fluid.quality`, and z each case's composition). On a molar basis E is the ideal
+    molar gross value times the molar flow: the real volumetric value is that molar value over
+    the real molar volume at 15 degC and 101.325 kPa, and the real standard volume is the molar
+    flow times the same molar volume. This applies to
+
+    * a feed whose energy the sweep varies (``<feed>.energy``);
+    * a feed the file gives by its energy (``energy: 250 MW``), when the case changes its
+      composition (a blend, a sampled composition): the energy stays the file's;
+    * with ``basis="energy"``, every other feed whose composition the case changes: its energy
+      stays the base case's, Hs(base) times the case's flow, Hs(base) that of the file's
+      composition.
+
+    Changes ``cases`` in place (``<feed>.energy`` is taken out, ``<feed>.flow`` set). Returns
+    (extra columns {name: ndarray (n,)}, names of the feeds so set): for each feed whose
+    composition changed, its flow on the volume basis [mol/s] (what it would be at the same
+    standard volume, E / Hs(base)) and its energy [W] (unless swept: then it is an input column).
 
     Raises
     ------
     InputError
-        A component without ISO 6976 data in such a feed.
+        A component without ISO 6976 data in such a feed, or a gas without calorific value (an
+        inert feed: no flow delivers an energy).
     """
     from ..fluid.quality import quality
     names = list(fs.gas.composition)
     base_all = np.array([fs.gas.composition[c] for c in names], dtype=float)
-    extra = {}
+    extra, by_energy = {}, []
     for feed_name, feed in fs.feeds.items():
         key = f"{feed_name}.zs"
-        if key not in cases:
+        swept = cases.pop(f"{feed_name}.energy", None)
+        given = getattr(feed, "energy", None)
+        changed = key in cases
+        if swept is None and not (changed and (given is not None or basis == "energy")):
             continue
         z = base_all if feed.composition is None else np.array(
             [feed.composition.get(c, 0.0) for c in names], dtype=float)
         z = z / z.sum()
         try:
             hs_base = float(np.asarray(quality(names, z).gross_molar).reshape(-1)[0])
-            hs = np.asarray(quality(names, cases[key]).gross_molar, dtype=float).reshape(-1)
+            hs = (np.asarray(quality(names, cases[key]).gross_molar, dtype=float).reshape(-1)
+                  if changed else np.full(n, hs_base))
         except InputError as exc:
-            raise InputError(f"the energy basis needs the calorific value of feed "
-                             f"'{feed_name}': {exc.message}", field="--basis") from None
-        flow = np.broadcast_to(np.asarray(cases.get(f"{feed_name}.flow", feed.flow), float),
-                               (n,)).copy()
+            raise InputError(f"the energy of feed '{feed_name}' needs its calorific value: "
+                             f"{exc.message}", field="--basis") from None
+        if not (hs_base > 0.0 and np.all(hs > 0.0)):
+            raise InputError(f"feed '{feed_name}' has a gas without calorific value (in the file "
+                             f"or in a case), so no flow delivers an energy; sweep it on the "
+                             f"volume basis", field="--basis")
+        if swept is not None or given is not None:
+            energy = (np.broadcast_to(np.asarray(swept, float), (n,)).copy()
+                      if swept is not None else np.full(n, given))
+            flow = energy / hs_base
+        else:
+            flow = np.broadcast_to(np.asarray(cases.get(f"{feed_name}.flow", feed.flow), float),
+                                   (n,)).copy()
+            energy = hs_base * flow
         cases[f"{feed_name}.flow"] = flow * (hs_base / hs)
-        extra[f"{feed_name}.flow_volume_basis [mol/s]"] = flow
-        extra[f"{feed_name}.energy [W]"] = hs_base * flow
-    return extra
+        by_energy.append(feed_name)
+        if changed:
+            extra[f"{feed_name}.flow_volume_basis [mol/s]"] = flow
+            if swept is None:
+                extra[f"{feed_name}.energy [W]"] = energy
+    return extra, by_energy
 
 
 def _sweep_chunk(task):
@@ -384,9 +288,10 @@ def _sweep_chunk(task):
     return names, [np.asarray(v) for v in values], np.asarray(res.converged), _reasons(res, m), res.model
 
 
-def _with_blend_components(fs, comps):
-    """The flowsheet with blended components added to the gas at zero where missing."""
-    comps = [canonical_name(c) for c in comps]
+def _with_blend_components(fs, gases):
+    """The flowsheet with the components of the blended gases ({component: fraction} each)
+    added to the gas at zero where missing."""
+    comps = list(dict.fromkeys(c for g in gases for c in g))
     missing = [c for c in comps if c not in fs.gas.composition]
     if not missing:
         return fs
@@ -396,7 +301,9 @@ def _with_blend_components(fs, comps):
     return dataclasses.replace(fs, gas=dataclasses.replace(fs.gas, composition=composition))
 
 
-def _cases(fs, cols, n):
+def _cases(fs, cols, n, axes):
+    """The solver's case arrays of the swept columns, and the goals' targets {goal index:
+    values}; the blend axes make each feed's composition z = (1 - sum x) z_feed + sum x z_gas."""
     cases, goal_targets = {}, {}
     names = list(fs.gas.composition)
     base = np.array([fs.gas.composition[c] for c in names], dtype=float)
@@ -404,13 +311,14 @@ def _cases(fs, cols, n):
     blend = np.zeros((n, len(names)))
     x_total = np.zeros(n)
     for path, values in cols.items():
-        head, _, attr = path.partition(".")
-        if head == "blend":
-            j = names.index(canonical_name(attr))
-            blend[:, j] += values
+        axis = axes.get(path)
+        if axis is not None and axis[0] == "blend":
+            gas = blend_gas(fs, axis[1])
+            z_gas = np.array([gas.get(c, 0.0) for c in names], dtype=float)
+            blend += values[:, None] * (z_gas / z_gas.sum())[None, :]
             x_total += values
-        elif head.startswith("goal") and head[4:].isdigit():
-            goal_targets[int(head[4:]) - 1] = values
+        elif axis is not None:
+            goal_targets[axis[1] - 1] = values
         else:
             cases[path] = values
     if np.any(x_total > 0):
@@ -534,9 +442,21 @@ def _block_quantities(res, eq):
     return out
 
 
-def _available(res):
+def goal_column(fs, k: int) -> str:
+    """Column name of the k-th goal's (1-based) value: the parameter it varies, then which goal
+    and what it holds, then the unit (``preheat.T_out (goal1 holds network.T) [K]``)."""
+    goal = fs.goals[k - 1]
+    try:
+        unit = SI_UNITS.get(variable_kind(fs, goal.by), "SI")
+    except InputError:
+        unit = "SI"
+    return f"{goal.by} (goal{k} holds {goal.hold}) [{unit}]"
+
+
+def _available(res, fs=None):
     """{path: (column name, callable)} of every stream and block quantity of the JSON contract,
-    by its path (``network.hydrate_margin``) and by its full key (``network.hydrate_margin_K``)."""
+    by its path (``network.hydrate_margin``) and by its full key (``network.hydrate_margin_K``);
+    each goal's value by ``@goal<k>`` (and ``goal<k>``)."""
     m = res.n_cases
     avail = {}
 
@@ -553,7 +473,11 @@ def _available(res):
             add(name, key, get)
     for k, g in enumerate(res.goals):
         value = g["value"] if isinstance(g, dict) else getattr(g, "value")
-        avail[f"goal{k + 1}"] = (f"goal{k + 1} [SI]", lambda v=value: v)
+        col = goal_column(fs, k + 1) if fs is not None else f"goal{k + 1} [SI]"
+        for path in (f"{AXIS_PREFIX}goal{k + 1}", f"goal{k + 1}"):
+            avail[path] = (col, lambda v=value: v)
+        if fs is not None:          # and by the parameter it varies (preheat.T_out)
+            avail.setdefault(fs.goals[k].by, (col, lambda v=value: v))
     return avail
 
 
@@ -572,19 +496,20 @@ def default_outputs(res, margins: bool = True) -> list:
             paths.append(f"{name}.fuel")
         if eq.power is not None:
             paths.append(f"{name}.power")
-    paths += [f"goal{k + 1}" for k in range(len(res.goals))]
+    paths += [f"{AXIS_PREFIX}goal{k + 1}" for k in range(len(res.goals))]
     return paths
 
 
 def _outputs(res, fs, outputs, m):
-    avail = _available(res)
+    avail = _available(res, fs)
     paths = []
     for o in (outputs or [DEFAULT]):
         paths += default_outputs(res) if o == DEFAULT else [o]
     names, getters = [], []
     for o in paths:
         if o not in avail:
-            known = sorted({col.split(" [")[0] for col, _ in avail.values()})
+            known = sorted({col.split(" [")[0] for col, _ in avail.values() if " (goal" not in col}
+                           | {p for p in avail if p.startswith(AXIS_PREFIX)})
             raise InputError(f"unknown output '{o}' (known: {', '.join(known)})", field="outputs")
         col, get = avail[o]
         if col not in names:

@@ -44,8 +44,9 @@ import numpy as np
 from ..errors import InputError
 from ..quantities import MassFlow, parse_quantity
 from ..sheet.spec import SheetSpec
-from .sweep import (MAX_CASES, Variable, _check_values, _feed_molar_mass, split_unit, sweep,
+from .paths import (MAX_CASES, Variable, _check_values, _feed_molar_mass, study_axis,
                     variable_kind)
+from .sweep import split_unit, sweep
 
 #: The distributions and their argument names.
 DISTRIBUTIONS = {"normal": ("mean", "sigma"), "uniform": ("a", "b"),
@@ -201,7 +202,8 @@ def parse_distribution(fs: SheetSpec, spec: str) -> Distribution:
 
 def _check_range(fs, path, values, spec):
     try:
-        if path.startswith("blend.") and (np.any(values < 0) or np.any(values >= 1)):
+        if (study_axis(fs, path) or ("",))[0] == "blend" and (np.any(values < 0)
+                                                              or np.any(values >= 1)):
             raise InputError(f"blend fractions must lie in [0, 1) (got {values.min():g}.."
                              f"{values.max():g})", field="--vary")
         _check_values(fs, path, spec, values, "--vary")
@@ -350,7 +352,9 @@ def uncertainty(fs: SheetSpec, distributions, n: int, *, sampler: str = "lhs", s
     twice = sorted({p for p in paths if paths.count(p) > 1})
     if twice:
         raise InputError(f"'{twice[0]}' is given two distributions", field="--vary")
-    if any(d.name == "dirichlet" for d in dists) and any(p.startswith("blend.") for p in paths):
+    axes = {p: study_axis(fs, p) for p in paths}
+    if any(d.name == "dirichlet" for d in dists) and any(a is not None and a[0] == "blend"
+                                                         for a in axes.values()):
         raise InputError("a sampled composition (dirichlet) and a blend cannot be combined",
                          field="--vary")
     u = unit_samples(sum(d.dims for d in dists), n, sampler, seed)
@@ -364,11 +368,11 @@ def uncertainty(fs: SheetSpec, distributions, n: int, *, sampler: str = "lhs", s
             given[f"{d.feed}.zs"] = values
             for k, comp in enumerate(names):
                 inputs_extra[f"{d.path}.{comp} [-]"] = values[:, k]
-        elif d.path.startswith("goal"):
+        elif axes[d.path] is not None and axes[d.path][0] == "goal":
             # a goal's target per case goes straight to the batch solver (a sweep would make
             # each distinct target a solve of its own)
             _check_values(fs, d.path, d.text, values, "--vary")
-            given[d.path] = values
+            given[f"@goal{axes[d.path][1]}.at"] = values
             inputs_extra[f"{d.path} [{Variable(d.path, d.kind, values).unit}]"] = values
         else:
             try:
