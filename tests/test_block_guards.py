@@ -644,7 +644,7 @@ def test_hot_gas_is_named_vapour_on_both_flash_paths(T):
     saved = native.AVAILABLE
     try:
         native.AVAILABLE = False
-        split = fl.flash_PT(eos, np.array([T]), np.array([41e5]), zs)
+        split = fl.flash_TP(eos, np.array([T]), np.array([41e5]), zs)
     finally:
         native.AVAILABLE = saved
     assert split.n_phases[0] == 1 and split.single_is_vapour[0]

@@ -192,7 +192,7 @@ class CubicEngine:
         T2 = np.concatenate([T + TWO_PHASE_DT, T])
         P2 = np.concatenate([P, P * (1.0 + TWO_PHASE_DP_REL)])
         z2 = np.concatenate([zs, zs])
-        sp = fl.flash_PT(self.eos, T2, P2, z2, K_init=np.concatenate([K, K]),
+        sp = fl.flash_TP(self.eos, T2, P2, z2, K_init=np.concatenate([K, K]),
                          assume=np.full(2 * m, 2), tol=TWO_PHASE_DERIV_TOL)
         h2 = self._h_of_split(T2, P2, z2, sp)
         cp = (h2[:m] - h) / TWO_PHASE_DT
@@ -241,7 +241,7 @@ class CubicEngine:
         """Isothermal flash of a batch (three-phase where it applies, for a fluid with water);
         ``cold=False`` leaves out the stability test's cold trial phases (fl.stability)."""
         _check_TP(T, P)
-        split = fl.flash_PT(self.eos, T, P, zs, cold=cold)
+        split = fl.flash_TP(self.eos, T, P, zs, cold=cold)
         st = self._assemble(T, P, zs, split)
         if self._iw is None:
             return st
@@ -355,14 +355,14 @@ class CubicEngine:
     def _three_phase_TP(self, st: States, split: fl.PTSplit) -> States:
         """The PT states of a fluid with water: each converged two-phase result of a mixture with
         water is tested for stability (with a free-water trial); where it fails, the state is
-        the three-phase split's (:func:`letdown.fluid.flash.threephase.check_two_phase`)."""
+        the three-phase split's (:func:`letdown.fluid.flash.threephase.retest_two_phase`)."""
         from dataclasses import replace
         from . import threephase
         st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
         c = np.flatnonzero(self._wet_cases(st.zs) & split.report.converged)
         if c.size == 0:
             return st
-        res, unstable = threephase.check_two_phase(self.eos, st.T[c], st.P[c], st.zs[c],
+        res, unstable = threephase.retest_two_phase(self.eos, st.T[c], st.P[c], st.zs[c],
                                                    _take(split, c))
         if not unstable.any():
             return st
@@ -374,7 +374,7 @@ class CubicEngine:
         """The P-h (P-s) states of a fluid with water. The two-phase answer of a mixture with
         water is tested for stability at its temperature; where it is not stable (or the
         two-phase solve failed) T is solved again on the three-phase equilibrium
-        (:func:`letdown.fluid.flash.threephase.flash_PX_3`), started from ``T_guess`` where one is
+        (:func:`letdown.fluid.flash.threephase.flash_PX_three`), started from ``T_guess`` where one is
         given (a block's inlet temperature, a loop's last answer: often the answer itself), else
         from the two-phase temperature. h(T) of the true equilibrium rises with T, so a stable
         two-phase answer is the answer. A two-phase answer below
@@ -396,7 +396,7 @@ class CubicEngine:
             sp = fl.PTSplit(st.vapour_fraction[c], st.xs[c], st.ys[c], st.n_phases[c],
                             st.vapour_fraction[c] >= 1.0,
                             fl.SolveReport(np.ones(m, dtype=bool), np.zeros(m, int), np.zeros(m)))
-            res, unstable = threephase.check_two_phase(self.eos, st.T[c], st.P[c], st.zs[c], sp)
+            res, unstable = threephase.retest_two_phase(self.eos, st.T[c], st.P[c], st.zs[c], sp)
             unstable_idx = c[unstable]
             start = threephase.take_result(res, unstable)
         if failed.size:
@@ -411,7 +411,7 @@ class CubicEngine:
             guess = T_guess[s]
             T_start = np.where(np.isfinite(guess), guess, T_start)
             start = None
-        px = threephase.flash_PX_3(self, st.P[s], target[s], st.zs[s], which, T_start, start)
+        px = threephase.flash_PX_three(self, st.P[s], target[s], st.zs[s], which, T_start, start)
         return st.put(s, self._assemble_three(px.T, st.P[s], st.zs[s], px.flash,
                                               px.report.converged))
 
@@ -520,7 +520,7 @@ class CubicEngine:
             Ti, Pi, zi = T[i], P[i], zs[i]
             check = conv[i]                      # converged on trust: this pass verifies
             a = np.where(check, 0, assume[i])
-            sp = _flash_PT_mixed_tol(eos, Ti, Pi, zi, K[i], a, loose[i])
+            sp = _flash_TP_mixed_tol(eos, Ti, Pi, zi, K[i], a, loose[i])
             two = sp.n_phases == 2
             beta[i], xs[i], ys[i], nph[i] = sp.beta, sp.xs, sp.ys, sp.n_phases
             K[i] = np.where(two[:, None], _k_values(sp.ys, sp.xs), K[i])
@@ -562,7 +562,7 @@ class CubicEngine:
             if need_fd.any():
                 j = np.nonzero(need_fd)[0]
                 dT = PH_FD_STEP
-                sp2 = fl.flash_PT(eos, Ti[j] + dT, Pi[j], zi[j], K_init=K[i[j]],
+                sp2 = fl.flash_TP(eos, Ti[j] + dT, Pi[j], zi[j], K_init=K[i[j]],
                                   assume=np.full(j.size, 2), tol=LOOSE_TOL)
                 h2, s2, _ = self._hs_of_split(Ti[j] + dT, Pi[j], zi[j], sp2)
                 secant[j] = ((h2 if which == "h" else s2) - target[i[j]] - f[j]) / dT
@@ -612,7 +612,7 @@ class CubicEngine:
         c = np.nonzero(ok & (split.n_phases == 2) & (T < fl.COLD_TRIAL_T))[0]
         if c.size == 0:
             return ok
-        sp = fl.flash_PT(self.eos, T[c], P[c], zs[c])
+        sp = fl.flash_TP(self.eos, T[c], P[c], zs[c])
         same = (sp.report.converged & (sp.n_phases == 2)
                 & (np.abs(sp.beta - split.beta[c]) < VERIFY_SPLIT_TOL)
                 & (np.max(np.abs(sp.xs - split.xs[c]), axis=1) < VERIFY_SPLIT_TOL)
@@ -636,7 +636,7 @@ class CubicEngine:
 
         def f(Tx, idx):
             i = bad[idx]
-            sp = fl.flash_PT(eos, Tx, P[i], zs[i])
+            sp = fl.flash_TP(eos, Tx, P[i], zs[i])
             h, s, _ = self._hs_of_split(Tx, P[i], zs[i], sp)
             return np.where(sp.report.converged, (h if which == "h" else s) - target[i], np.nan)
 
@@ -659,7 +659,7 @@ class CubicEngine:
             return T, ok, split
         i = bad[j[good]]
         Tn = rep.x[good]
-        sp = fl.flash_PT(eos, Tn, P[i], zs[i])
+        sp = fl.flash_TP(eos, Tn, P[i], zs[i])
         T = T.copy()
         T[i] = Tn
         ok = ok.copy()
@@ -828,14 +828,14 @@ class CubicEngine:
         return out
 
 
-def _flash_PT_mixed_tol(eos, T, P, zs, K, assume, loose):
-    """flash_PT on a batch where some cases take the loose split tolerance, the rest the full one."""
+def _flash_TP_mixed_tol(eos, T, P, zs, K, assume, loose):
+    """flash_TP on a batch where some cases take the loose split tolerance, the rest the full one."""
     if loose.all() or not loose.any():
         tol = LOOSE_TOL if loose.all() else fl.LN_TOL
-        return fl.flash_PT(eos, T, P, zs, K_init=K, assume=assume, tol=tol)
+        return fl.flash_TP(eos, T, P, zs, K_init=K, assume=assume, tol=tol)
     parts = []
     for m, tol in ((loose, LOOSE_TOL), (~loose, fl.LN_TOL)):
-        parts.append((m, fl.flash_PT(eos, T[m], P[m], zs[m], K_init=K[m], assume=assume[m],
+        parts.append((m, fl.flash_TP(eos, T[m], P[m], zs[m], K_init=K[m], assume=assume[m],
                                      tol=tol)))
     n = T.shape[0]
     beta = np.empty(n)

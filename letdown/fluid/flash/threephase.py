@@ -2,7 +2,7 @@
 
 Sequence, per case of a batch:
 
-1. The two-phase flash :func:`letdown.fluid.flash.twophase.flash_PT` (stability test and split).
+1. The two-phase flash :func:`letdown.fluid.flash.twophase.flash_TP` (stability test and split).
 2. A tangent-plane stability test (Michelsen, Fluid Phase Equilib. 9 (1982) 1) of every phase of
    that result, with the trials of :func:`letdown.fluid.flash.twophase.stability` plus a nearly-pure-water
    trial (water 1, every other component 1e-6 of its fraction in the tested phase), which finds a
@@ -22,8 +22,8 @@ Sequence, per case of a batch:
    phase fraction that ends negative removes that phase and the remaining pair is split by
    :func:`letdown.fluid.flash.twophase.two_phase_flash`.
 
-:func:`check_two_phase` runs steps 2-3 on a two-phase result already at hand (``Fluid.flash``
-of a fluid with water does so on every case with water). :func:`flash_PX_3` solves the
+:func:`retest_two_phase` runs steps 2-3 on a two-phase result already at hand (``Fluid.flash``
+of a fluid with water does so on every case with water). :func:`flash_PX_three` solves the
 temperature at which the three-phase equilibrium has a given enthalpy or entropy (P-h, P-s; the
 bracketed root finder of :mod:`letdown.numerics.rootfind`), for ``Fluid.flash`` and the separator.
 
@@ -55,7 +55,7 @@ import numpy as np
 
 from ..components import R
 from ..eos.cubic import CubicEOS
-from .twophase import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, SolveReport, _gdem, flash_PT,
+from .twophase import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, SolveReport, _gdem, flash_TP,
                        is_vapour_like, stability, two_phase_flash, wilson_K)
 from ...numerics.rootfind import bracketed_root
 
@@ -361,7 +361,7 @@ def _mass_density(eos, T, P, xs):
 
 
 # ------------------------------------------------------------------------------------------------
-def flash_PT_3(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
+def flash_TP_three(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
     """Vapour / hydrocarbon liquid / aqueous liquid PT flash of a batch.
 
     Parameters
@@ -379,10 +379,10 @@ def flash_PT_3(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
     -------
     ThreePhaseResult
     """
-    return check_two_phase(eos, T, P, zs, split)[0]
+    return retest_two_phase(eos, T, P, zs, split)[0]
 
 
-def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
+def retest_two_phase(eos: CubicEOS, T, P, zs, split=None):
     """Stability test of a two-phase result and, where it fails, the three-phase split.
 
     Steps 2 and 3 of the module's sequence on the two-phase flash ``split`` of the cases (step 1
@@ -412,7 +412,7 @@ def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
     n, nc = zs.shape
     names = list(eos.comps.names)
     iw = names.index("water") if "water" in names else None
-    sp = flash_PT(eos, T, P, zs) if split is None else split
+    sp = flash_TP(eos, T, P, zs) if split is None else split
     # phases of the two-phase result: (n, 2, nc), betas (n, 2); a single phase sits in slot 0
     X = np.stack([sp.ys, sp.xs], axis=1)
     B = np.stack([sp.beta, 1.0 - sp.beta], axis=1)
@@ -629,7 +629,7 @@ T_DEFAULT = 280.0
 
 @dataclass(frozen=True)
 class ThreePhasePX:
-    """Outcome of :func:`flash_PX_3`.
+    """Outcome of :func:`flash_PX_three`.
 
     Attributes
     ----------
@@ -686,14 +686,14 @@ class _ResultStore:
                                                              "three-phase PT flash"))
 
 
-def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> ThreePhasePX:
+def flash_PX_three(engine, P, target, zs, which="h", T_start=None, start=None) -> ThreePhasePX:
     """Temperature at which the three-phase equilibrium has the given enthalpy (or entropy).
 
     Solves, per case, at the pressure P
 
         h(T) = sum_phases beta_k h_k(T) = h_target     (or the same with s)
 
-    over the equilibrium of :func:`flash_PT_3` (three phases where they exist, otherwise two or
+    over the equilibrium of :func:`flash_TP_three` (three phases where they exist, otherwise two or
     one), whose h(T) rises with T at fixed P. A first evaluation at ``T_start``; a case already
     within the tolerance ends there. Otherwise the bracket is grown from ``T_start`` in the
     direction the residual's sign gives (a first step of :data:`BRACKET_STEP`, then the secant
@@ -704,7 +704,7 @@ def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> Th
 
     Iterates next to a three-phase state start their split from its phases (a few substitution
     steps instead of the stability tests); one that loses a phase or does not converge is flashed
-    in full. The answer is then checked by the full :func:`flash_PT_3` at its temperature (so it
+    in full. The answer is then checked by the full :func:`flash_TP_three` at its temperature (so it
     is exactly the P-T state there); a case whose full flash misses the target is solved again
     with full flashes throughout. The adiabatic three-phase separator and the P-h / P-s flashes of
     :class:`letdown.fluid.flash.engine.CubicEngine` for fluids with water both use this routine.
@@ -741,7 +741,7 @@ def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> Th
     # to it; elsewhere the last flash of the case was the full one at T
     w = np.flatnonzero(~full)
     if w.size:
-        res_w = flash_PT_3(engine.eos, T[w], P[w], zs[w])
+        res_w = flash_TP_three(engine.eos, T[w], P[w], zs[w])
         flashes[w] += 1
         value = phase_properties(engine, T[w], P[w], zs[w], res_w)["whole"][which]
         fw = value - target[w]
@@ -772,7 +772,7 @@ TRIVIAL_SPLIT = 1e-7
 
 
 def _px_solve(engine, P, target, zs, which, T0, start, ftol, warm):
-    """The bracket and root of :func:`flash_PX_3` (``warm``: iterates start from the phases of
+    """The bracket and root of :func:`flash_PX_three` (``warm``: iterates start from the phases of
     the case's last three-phase state). Returns T, converged, residual, flashes per case, the
     store of the last flash of each case, and whether that flash is a full one at T."""
     eos = engine.eos
@@ -783,7 +783,7 @@ def _px_solve(engine, P, target, zs, which, T0, start, ftol, warm):
 
     def flash(T, idx):
         if not warm:
-            return flash_PT_3(eos, T, P[idx], zs[idx]), np.zeros(idx.size, dtype=bool)
+            return flash_TP_three(eos, T, P[idx], zs[idx]), np.zeros(idx.size, dtype=bool)
         near = np.flatnonzero((store.nph[idx] == 3) & store.conv[idx])
         out = _ResultStore(idx.size, nc)
         good = np.zeros(idx.size, dtype=bool)
@@ -802,7 +802,7 @@ def _px_solve(engine, P, target, zs, which, T0, start, ftol, warm):
                 good[near[g]] = True
         rest = np.flatnonzero(~good)
         if rest.size:
-            out.put(rest, T[rest], flash_PT_3(eos, T[rest], P[idx[rest]], zs[idx[rest]]))
+            out.put(rest, T[rest], flash_TP_three(eos, T[rest], P[idx[rest]], zs[idx[rest]]))
         return out.result(), good
 
     def f(T, idx, res=None):
@@ -865,7 +865,7 @@ def enthalpy_near(engine, T, P, zs, near: ThreePhaseResult, tol=FUG_TOL):
 
     Where ``near`` has three phases, the three-phase split is started from its compositions (a few
     substitution steps) and kept if it converges to ``tol`` with every phase present; elsewhere,
-    and where that fails, the full :func:`flash_PT_3`. For the effective heat capacity and
+    and where that fails, the full :func:`flash_TP_three`. For the effective heat capacity and
     Joule-Thomson coefficient of multiphase states by finite differences.
 
     Parameters
@@ -903,6 +903,6 @@ def enthalpy_near(engine, T, P, zs, near: ThreePhaseResult, tol=FUG_TOL):
             done[g] = True
     rest = np.flatnonzero(~done)
     if rest.size:
-        r = flash_PT_3(engine.eos, T[rest], P[rest], zs[rest])
+        r = flash_TP_three(engine.eos, T[rest], P[rest], zs[rest])
         h[rest] = phase_properties(engine, T[rest], P[rest], zs[rest], r)["whole"]["h"]
     return h

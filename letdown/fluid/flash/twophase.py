@@ -89,7 +89,7 @@ COLD_TRIAL_MAX = 2
 N_TRIALS = 4 + COLD_TRIAL_MAX
 #: Trial phases whose converged compositions lie closer than this (sum of squared differences)
 #: reached the same stationary point of the tangent plane: the flash converges a split from the
-#: first of them only (see :func:`flash_PT`). Trials converged to LN_TOL on ln W that found the same
+#: first of them only (see :func:`flash_TP`). Trials converged to LN_TOL on ln W that found the same
 #: point differ by ~1e-20 in this measure; different points differ by far more than 1e-7.
 DISTINCT_TRIAL_DIST = TRIVIAL_DIST
 #: Largest |ln K| at which a split has collapsed onto the feed (the trivial solution) [-].
@@ -612,7 +612,7 @@ def is_vapour_like(eos: CubicEOS, T, P, zs):
         phase_identification(eos, T, P, zs) <= PHASE_ID_LIQUID)
 
 
-def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL, cold=True):
+def flash_TP(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL, cold=True):
     """Isothermal flash of a batch.
 
     Parameters
@@ -635,7 +635,7 @@ def flash_PT(eos: CubicEOS, T, P, zs, *, K_init=None, assume=None, tol=LN_TOL, c
     """
     n, nc = zs.shape
     if native.AVAILABLE:
-        return _flash_PT_native(eos, T, P, zs, K_init, assume, tol, cold)
+        return _flash_TP_native(eos, T, P, zs, K_init, assume, tol, cold)
     beta = np.where(is_vapour_like(eos, T, P, zs), 1.0, 0.0)
     xs = zs.copy()
     ys = zs.copy()
@@ -763,12 +763,12 @@ def native_flash_constants():
 
 
 def native_flash_constants_no_cold():
-    """native_flash_constants without the cold trial phases (flash_PT(cold=False))."""
+    """native_flash_constants without the cold trial phases (flash_TP(cold=False))."""
     return dict(native_flash_constants(), cold_trial_T=-np.inf)
 
 
-def _flash_PT_native(eos, T, P, zs, K_init, assume, tol, cold=True):
-    """flash_PT through the compiled driver (letdown/fluid/_flashkernels.c, one case at a time);
+def _flash_TP_native(eos, T, P, zs, K_init, assume, tol, cold=True):
+    """flash_TP through the compiled driver (letdown/fluid/_flashkernels.c, one case at a time);
     pure components are named here, as in the numpy path."""
     beta, xs, ys, nph, conv, iters, resid = native.flash_pt(
         eos, T, P, zs, K_init, assume, tol,
