@@ -175,9 +175,13 @@ def _thermo_compare(tally, fluid, flasher, T, P, st, family):
         b = float(st.vapour_fraction)
         mine = [(b, np.asarray(st.ys)), (1.0 - b, np.asarray(st.xs))]
         if st.n_phases == 3:
-            # three phases (with water): compare with thermo only when it finds three too
-            tally.add("three-phase state (thermo VL reference not comparable)")
-            return
+            if not st.liquid_phases:
+                # three phases with water: thermo's FlashVL has no aqueous phase to compare
+                tally.add("three-phase state (thermo VL reference not comparable)")
+                return
+            # two hydrocarbon liquids: thermo's answer (two phases at most) must not be lower
+            mine = [(b, np.asarray(st.ys))] + [(ph.fraction, ph.zs) for ph in st.liquid_phases]
+            tally.add("three-phase (VLL) states compared with thermo's two-phase answer")
     g_mine = gibbs_rt(eos, T, P, mine)
     g_ref = gibbs_rt(eos, T, P, ref_ph)
     if g_mine > g_ref + GIBBS_TOL * max(1.0, abs(g_ref)):
@@ -315,6 +319,8 @@ def _one_composition(tally, fluid, family, T, P, rng, thermo):
         cold_pt = T[idx] < COLD_SPLIT_T
         tally.add("cold CO2/sour PT states in two phases",
                   int(np.count_nonzero(cold_pt & (np.asarray(st.n_phases)[idx] == 2))))
+        tally.add("cold CO2/sour PT states given as three phases (VLL)",
+                  int(np.count_nonzero(cold_pt & (np.asarray(st.n_phases)[idx] == 3))))
         tally.add("cold CO2/sour PT states: three-phase (VLL) given as two phases",
                   _three_phase_count(fluid, T[idx], P[idx], st, idx, cold_pt))
     # batch vs scalar (PT)

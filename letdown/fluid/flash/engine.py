@@ -17,15 +17,10 @@ from ..kernels import native
 from ..components import P_REF, R, ComponentSet
 from ..eos.cubic import CubicEOS
 from ..state import States
+from .steps import (TWO_PHASE_DERIV_TOL, TWO_PHASE_DP_REL, TWO_PHASE_DT,  # noqa: F401
+                    blank_unconverged as _blank_unconverged, take_split as _take)
+from .threestates import ThreePhaseStates
 
-#: Temperature step for the effective two-phase heat capacity and Joule-Thomson coefficient [K];
-#: forward differences with warm-started flashes (truncation error ~1e-4 relative, well inside
-#: what these effective properties are used for).
-TWO_PHASE_DT = 0.01
-#: Pressure step (relative) for the two-phase Joule-Thomson coefficient [-].
-TWO_PHASE_DP_REL = 1e-5
-#: Split tolerance for those neighbouring flashes: h differences of ~0.3 J/mol need ~1e-9 in ln K.
-TWO_PHASE_DERIV_TOL = 1e-10
 #: Grid for locating phase boundaries by the stability test.
 SAT_GRID_POINTS = 48
 #: Lowest temperature searched for dew and bubble points of mixtures [K]: below the triple points
@@ -86,7 +81,7 @@ def native_solve_constants():
                 ideal_T_steps=IDEAL_T_STEPS, ideal_T_margin=IDEAL_T_MARGIN)
 
 
-class CubicEngine:
+class CubicEngine(ThreePhaseStates):
     """Flash calculations for one component set on one cubic EOS.
 
     Parameters
@@ -238,12 +233,12 @@ class CubicEngine:
 
     # ----------------------------------------------------------------- flashes
     def flash_TP(self, T, P, zs, cold=True) -> States:
-        """Isothermal flash of a batch (three-phase where it applies, for a fluid with water);
+        """Isothermal flash of a batch (three-phase where it applies: :mod:`.threestates`);
         ``cold=False`` leaves out the stability test's cold trial phases (fl.stability)."""
         _check_TP(T, P)
         split = fl.flash_TP(self.eos, T, P, zs, cold=cold)
         st = self._assemble(T, P, zs, split)
-        if self._iw is None:
+        if self._iw is None and not (split.n_phases == 2).any():
             return st
         return self._three_phase_TP(st, split)
 
@@ -257,7 +252,7 @@ class CubicEngine:
 
     def _flash_P_X(self, P, target, zs, which, T_guess):
         st = self._flash_P_X_two(P, target, zs, which, T_guess)
-        if self._iw is None:
+        if self._iw is None and st.converged.all() and not (st.n_phases == 2).any():
             return st
         return self._three_phase_PX(st, target, which, T_guess)
 
@@ -337,142 +332,6 @@ class CubicEngine:
         from dataclasses import replace
         return replace(st, h=h, s=s, Z=Z, density=rho, cp=cp, cv=cv, jt=jt, w=w, vapour=vap,
                        liquid=liq)
-
-    # ----------------------------------------------------------------- three phases (water)
-    def _wet_cases(self, zs):
-        """Cases that take the three-phase test: a mixture holding water."""
-        pure, _ = fl._pure_index(zs)
-        return (zs[:, self._iw] > 0.0) & ~pure
-
-    def _aqueous_of_two(self, st: States):
-        """Aqueous fraction of states from the two-phase flash [-]: the liquid's fraction where
-        water is its largest component, else 0."""
-        aq = np.argmax(st.xs, axis=1) == self._iw
-        beta = st.vapour_fraction
-        with np.errstate(invalid="ignore"):
-            return np.where(aq & (beta < 1.0), 1.0 - beta, 0.0)
-
-    def _three_phase_TP(self, st: States, split: fl.PTSplit) -> States:
-        """The PT states of a fluid with water: each converged two-phase result of a mixture with
-        water is tested for stability (with a free-water trial); where it fails, the state is
-        the three-phase split's (:func:`letdown.fluid.flash.threephase.retest_two_phase`)."""
-        from dataclasses import replace
-        from . import threephase
-        st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
-        c = np.flatnonzero(self._wet_cases(st.zs) & split.report.converged)
-        if c.size == 0:
-            return st
-        res, unstable = threephase.retest_two_phase(self.eos, st.T[c], st.P[c], st.zs[c],
-                                                   _take(split, c))
-        if not unstable.any():
-            return st
-        u = c[unstable]
-        return st.put(u, self._assemble_three(st.T[u], st.P[u], st.zs[u],
-                                              threephase.take_result(res, unstable)))
-
-    def _three_phase_PX(self, st: States, target, which, T_guess=None) -> States:
-        """The P-h (P-s) states of a fluid with water. The two-phase answer of a mixture with
-        water is tested for stability at its temperature; where it is not stable (or the
-        two-phase solve failed) T is solved again on the three-phase equilibrium
-        (:func:`letdown.fluid.flash.threephase.flash_PX_three`), started from ``T_guess`` where one is
-        given (a block's inlet temperature, a loop's last answer: often the answer itself), else
-        from the two-phase temperature. h(T) of the true equilibrium rises with T, so a stable
-        two-phase answer is the answer. A two-phase answer below
-        :data:`letdown.fluid.flash.threephase.T_FLOOR` is solved again too."""
-        from dataclasses import replace
-        from . import threephase
-        st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
-        wet = self._wet_cases(st.zs)
-        # a two-phase answer below the three-phase solve's floor is not trusted either: water in
-        # the cubic's liquid there (tens of kelvin) is no state of a gas with water, and such an
-        # answer has been seen to meet h on a branch far from the equilibrium (61 K for 343 K)
-        suspect = ~st.converged | (st.T < threephase.T_FLOOR)
-        failed = np.flatnonzero(wet & suspect)
-        c = np.flatnonzero(wet & ~suspect)
-        unstable_idx = np.zeros(0, dtype=int)
-        start = None
-        if c.size:
-            m = c.size
-            sp = fl.PTSplit(st.vapour_fraction[c], st.xs[c], st.ys[c], st.n_phases[c],
-                            st.vapour_fraction[c] >= 1.0,
-                            fl.SolveReport(np.ones(m, dtype=bool), np.zeros(m, int), np.zeros(m)))
-            res, unstable = threephase.retest_two_phase(self.eos, st.T[c], st.P[c], st.zs[c], sp)
-            unstable_idx = c[unstable]
-            start = threephase.take_result(res, unstable)
-        if failed.size:
-            s = np.concatenate([unstable_idx, failed])
-            start = None
-        else:
-            s = unstable_idx
-        if s.size == 0:
-            return st
-        T_start = st.T[s]
-        if T_guess is not None:
-            guess = T_guess[s]
-            T_start = np.where(np.isfinite(guess), guess, T_start)
-            start = None
-        px = threephase.flash_PX_three(self, st.P[s], target[s], st.zs[s], which, T_start, start)
-        return st.put(s, self._assemble_three(px.T, st.P[s], st.zs[s], px.flash,
-                                              px.report.converged))
-
-    def _assemble_three(self, T, P, zs, res, extra_conv=None) -> States:
-        """States of a three-phase flash result: the whole from the phases present (h, s and
-        volume mole-weighted), the vapour, and the hydrocarbon and aqueous liquids lumped as the
-        liquid (composition and h, s mole-weighted, volumes added). Heat capacity and
-        Joule-Thomson coefficient of several phases by forward differences (steps
-        TWO_PHASE_DT, TWO_PHASE_DP_REL) along the equilibrium; of a single phase, analytic."""
-        from .threephase import enthalpy_near, phase_properties
-        n = T.shape[0]
-        props = phase_properties(self, T, P, zs, res)
-        bV, bL, bW = res.beta_V, res.beta_L, res.beta_W
-        whole = props["whole"]
-        M = zs @ self.comps.Ms
-        nan = np.full(n, np.nan)
-        fields = ("Z", "density", "h", "s", "molar_mass")
-        has_v = bV > 0.0
-        vap = {k: np.where(has_v, props["vapour"][k], nan) for k in fields}
-        b_liq = bL + bW
-        has_l = b_liq > 0.0
-        wl = np.where(has_l, bL / np.where(has_l, b_liq, 1.0), 0.0)   # hydrocarbon share
-        pl, pw = props["liquid"], props["aqueous"]
-        lump = {k: wl * pl[k] + (1.0 - wl) * pw[k] for k in ("h", "s", "v", "molar_mass")}
-        lump["Z"] = P * lump["v"] / (R * T)
-        lump["density"] = lump["molar_mass"] / lump["v"]
-        liq = {k: np.where(has_l, lump[k], nan) for k in fields}
-        ys = np.where(has_v[:, None], res.y, zs)
-        x_l = np.where((bL > 0.0)[:, None], res.x, 0.0)
-        x_w = np.where((bW > 0.0)[:, None], res.w, 0.0)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            xs = np.where(has_l[:, None], (bL[:, None] * x_l + bW[:, None] * x_w)
-                          / np.where(has_l, b_liq, 1.0)[:, None], zs)
-        v = whole["v"]
-        conv = res.report.converged.copy()
-        if extra_conv is not None:
-            conv &= extra_conv
-        cp = nan.copy()
-        cv = nan.copy()
-        jt = nan.copy()
-        w = nan.copy()
-        many = np.flatnonzero(conv & (res.n_phases >= 2))
-        if many.size:
-            r = _take3(res, many)
-            m = many.size
-            T2 = np.concatenate([T[many] + TWO_PHASE_DT, T[many]])
-            P2 = np.concatenate([P[many], P[many] * (1.0 + TWO_PHASE_DP_REL)])
-            z2 = np.concatenate([zs[many], zs[many]])
-            h2 = enthalpy_near(self, T2, P2, z2, _concat3(r, r), TWO_PHASE_DERIV_TOL)
-            cp[many] = (h2[:m] - whole["h"][many]) / TWO_PHASE_DT
-            jt[many] = -(h2[m:] - whole["h"][many]) / (TWO_PHASE_DP_REL * P[many]) / cp[many]
-        one = np.flatnonzero(conv & (res.n_phases == 1))
-        if one.size:
-            A = self._phase(T[one], P[one], zs[one], 0)
-            cp[one], cv[one], jt[one], w[one] = A["cp"], A["cv"], A["jt"], A["w"]
-        st = States(T=T.copy(), P=P.copy(), h=whole["h"].copy(), s=whole["s"].copy(),
-                    Z=P * v / (R * T), cp=cp, cv=cv, jt=jt, w=w, density=M / v, molar_mass=M,
-                    vapour_fraction=bV.copy(), zs=zs.copy(), ys=ys, xs=xs,
-                    n_phases=res.n_phases.copy(), converged=conv, vapour=vap, liquid=liq,
-                    components=self.comps.names, model=self.model, aqueous_fraction=bW.copy())
-        return _blank_unconverged(st)
 
     def _solve_T_mixture(self, P, target, zs, which, T_guess):
         """Safeguarded Newton on T for h(T, P) = target or s(T, P) = target.
@@ -858,30 +717,6 @@ def _k_values(ys, xs):
         return np.where((xs > 0) & (ys > 0), ys / np.where(xs > 0, xs, 1.0), 1.0)
 
 
-def _take(sp: fl.PTSplit, m) -> fl.PTSplit:
-    r = sp.report
-    return fl.PTSplit(sp.beta[m], sp.xs[m], sp.ys[m], sp.n_phases[m], sp.single_is_vapour[m],
-                      fl.SolveReport(r.converged[m], r.iterations[m], r.residual[m], r.message))
-
-
-def _take3(res, idx):
-    from .threephase import take_result
-    return take_result(res, idx)
-
-
-def _concat3(a, b):
-    """Two three-phase results as one batch (a's cases first)."""
-    from .threephase import ThreePhaseResult
-    ra, rb = a.report, b.report
-    cat = np.concatenate
-    return ThreePhaseResult(cat([a.beta_V, b.beta_V]), cat([a.beta_L, b.beta_L]),
-                            cat([a.beta_W, b.beta_W]), cat([a.y, b.y]), cat([a.x, b.x]),
-                            cat([a.w, b.w]), cat([a.n_phases, b.n_phases]),
-                            fl.SolveReport(cat([ra.converged, rb.converged]),
-                                           cat([ra.iterations, rb.iterations]),
-                                           cat([ra.residual, rb.residual]), ra.message))
-
-
 def _bisect(lo, hi, T, f):
     """Bisection inside the bracket; where one side is still the global bound, step by 20 %."""
     open_lo = lo <= fl.T_LOW
@@ -898,16 +733,3 @@ def _check_TP(T, P):
         raise InputError(f"temperature must be a positive number of kelvin (got {T[~(T > 0)][:3]})")
     if not (np.isfinite(P).all() and (P > 0).all()):
         raise InputError(f"pressure must be positive (got {P[~(P > 0)][:3]} Pa)")
-
-
-def _blank_unconverged(st: States) -> States:
-    if st.converged.all():
-        return st
-    bad = ~st.converged
-    from dataclasses import replace
-    upd = {}
-    for k in ("h", "s", "Z", "cp", "cv", "jt", "w", "density", "vapour_fraction"):
-        a = getattr(st, k).copy()
-        a[bad] = np.nan
-        upd[k] = a
-    return replace(st, **upd)

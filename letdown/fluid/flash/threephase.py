@@ -55,8 +55,9 @@ import numpy as np
 
 from ..components import R
 from ..eos.cubic import CubicEOS
-from .twophase import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, SolveReport, _gdem, flash_TP,
-                       is_vapour_like, stability, two_phase_flash, wilson_K)
+from .twophase import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, PTSplit, SolveReport, _gdem,
+                       _gibbs_split, flash_TP, is_vapour_like, stability, two_phase_flash,
+                       wilson_K)
 from ...numerics.rootfind import bracketed_root
 
 #: Converged when the largest difference of ln f_i between phases is below this [-].
@@ -382,7 +383,7 @@ def flash_TP_three(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
     return retest_two_phase(eos, T, P, zs, split)[0]
 
 
-def retest_two_phase(eos: CubicEOS, T, P, zs, split=None):
+def retest_two_phase(eos: CubicEOS, T, P, zs, split=None, _depth=0):
     """Stability test of a two-phase result and, where it fails, the three-phase split.
 
     Steps 2 and 3 of the module's sequence on the two-phase flash ``split`` of the cases (step 1
@@ -493,11 +494,78 @@ def retest_two_phase(eos: CubicEOS, T, P, zs, split=None):
             conv[dd[~good]] = False
         conv[u[~ok3]] = False
         resid[u[~ok3]] = res3[~ok3]
+        # no three-phase split and no pair from it (a binary, where three phases exist only on
+        # a line of (T, P), or a split that does not converge): the other two-phase splits
+        # with the trial phase, the one of lowest Gibbs energy retested in turn
+        lost = u[~conv[u]]
+        if lost.size and _depth < RESPLIT_DEPTH:
+            _resplit_pairs(eos, T, P, zs, X, B, nph, conv, iters, resid, lost, w_best,
+                           single, _depth)
     else:
         X = np.concatenate([X, np.zeros((n, 1, nc))], axis=1)
         B = np.concatenate([B, np.zeros((n, 1))], axis=1)
     return _name_phases(eos, T, P, zs, X, B, nph, iw, SolveReport(
         conv, iters, resid, "three-phase PT flash")), unstable | untested
+
+
+#: Retests of a two-phase split found by :func:`_resplit_pairs` (each may find another).
+RESPLIT_DEPTH = 2
+
+
+def _resplit_pairs(eos, T, P, zs, X, B, nph, conv, iters, resid, lost, w_best, single, depth):
+    """Cases ``lost`` of :func:`retest_two_phase` (an unstable answer with no three-phase split):
+    two-phase splits of the feed from K = trial / phase for each phase of the answer (the
+    trial phase replacing it), the converged one of lowest Gibbs energy, lower than the
+    answer's, retested by :func:`retest_two_phase` (to ``RESPLIT_DEPTH``); X, B, nph, conv,
+    iters and resid updated in place (the cases stay unconverged where nothing is found)."""
+    m = lost.size
+    Tl, Pl, zl, wl = T[lost], P[lost], zs[lost], w_best[lost]
+    best_g = np.full(m, np.inf)
+    best = None
+    # the answer's Gibbs energy: each phase present on its stable root
+    g0 = np.zeros(m)
+    for k in range(2):
+        b = B[lost, k]
+        xk = np.where((b > 0.0)[:, None], X[lost, k], zl)
+        lnph, _ = eos.lnphi(Tl, Pl, xk, "stable")
+        with np.errstate(divide="ignore", invalid="ignore"):
+            gk = np.sum(np.where(xk > 0, xk * (np.log(xk) + lnph), 0.0), axis=1)
+        g0 += np.where(b > 0.0, b * gk, 0.0)
+    for k in range(2):
+        ref = np.where(single[lost][:, None] | (B[lost, k] <= 0.0)[:, None], zl, X[lost, k])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            K = np.where(zl > 0, wl / ref, 1.0)
+        K = np.where(np.isfinite(K), K, 1.0)
+        tp = two_phase_flash(eos, Tl, Pl, zl, np.clip(K, *K_CLIP))
+        ok = tp.report.converged & (tp.beta > 0) & (tp.beta < 1) \
+            & (np.sum((tp.xs - tp.ys) ** 2, axis=1) > TRIVIAL_SPLIT)
+        g = np.where(ok, _gibbs_split(eos, Tl, Pl, tp), np.inf)
+        take = g < best_g
+        best_g = np.where(take, g, best_g)
+        if best is None:
+            best = [tp.beta.copy(), tp.xs.copy(), tp.ys.copy()]
+        else:
+            best[0] = np.where(take, tp.beta, best[0])
+            best[1] = np.where(take[:, None], tp.xs, best[1])
+            best[2] = np.where(take[:, None], tp.ys, best[2])
+    found = np.isfinite(best_g) & (best_g < g0 - GIBBS_LOWER)
+    if not found.any():
+        return
+    f = np.flatnonzero(found)
+    i = lost[f]
+    sp = PTSplit(best[0][f], best[1][f], best[2][f], np.full(f.size, 2), best[0][f] >= 1.0,
+                 SolveReport(np.ones(f.size, dtype=bool), np.zeros(f.size, int), np.zeros(f.size)))
+    res, _ = retest_two_phase(eos, T[i], P[i], zs[i], sp, _depth=depth + 1)
+    X[i] = np.stack([res.y, res.x, res.w], axis=1)
+    B[i] = np.stack([res.beta_V, res.beta_L, res.beta_W], axis=1)
+    nph[i] = res.n_phases
+    conv[i] = res.report.converged
+    iters[i] += res.report.iterations
+    resid[i] = res.report.residual
+
+
+#: A split found by :func:`_resplit_pairs` must lower G/RT by more than this [-].
+GIBBS_LOWER = 1e-10
 
 
 def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
@@ -655,6 +723,28 @@ def take_result(res: ThreePhaseResult, idx) -> ThreePhaseResult:
                             res.x[idx], res.w[idx], res.n_phases[idx],
                             SolveReport(r.converged[idx], r.iterations[idx], r.residual[idx],
                                         r.message))
+
+
+def concat_results(a: ThreePhaseResult, b: ThreePhaseResult) -> ThreePhaseResult:
+    """Two three-phase results as one batch (a's cases first)."""
+    ra, rb = a.report, b.report
+    cat = np.concatenate
+    return ThreePhaseResult(cat([a.beta_V, b.beta_V]), cat([a.beta_L, b.beta_L]),
+                            cat([a.beta_W, b.beta_W]), cat([a.y, b.y]), cat([a.x, b.x]),
+                            cat([a.w, b.w]), cat([a.n_phases, b.n_phases]),
+                            SolveReport(cat([ra.converged, rb.converged]),
+                                        cat([ra.iterations, rb.iterations]),
+                                        cat([ra.residual, rb.residual]), ra.message))
+
+
+def aqueous_third(res: ThreePhaseResult, iw) -> np.ndarray:
+    """Whether the third slot of each case holds an aqueous liquid (present, with water, index
+    ``iw`` or None, as its largest component), (n,) bool; elsewhere it holds a second
+    hydrocarbon liquid or nothing."""
+    if iw is None:
+        return np.zeros(res.beta_W.shape[0], dtype=bool)
+    w = np.where(np.isfinite(res.w), res.w, -1.0)
+    return (res.beta_W > 0.0) & (np.argmax(w, axis=1) == iw)
 
 
 class _ResultStore:

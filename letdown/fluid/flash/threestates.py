@@ -1,0 +1,215 @@
+"""The cubic engine's three-phase states: which cases take the three-phase path, the P-T and
+P-h / P-s states on it, and their assembly as :class:`letdown.fluid.state.States`.
+
+A mixin of :class:`letdown.fluid.flash.engine.CubicEngine` (the engine's two-phase flash, phase
+properties and assembly stay there); the equilibrium itself is computed by
+:mod:`letdown.fluid.flash.threephase`.
+
+Which cases are retested for a third phase (:meth:`ThreePhaseStates._three_phase_cases`):
+
+* a mixture holding water: every converged answer (a free-water phase can appear at any
+  temperature);
+* a mixture without water: every converged two-phase answer below :data:`VLL_SCREEN_T` (a
+  single-phase answer has passed the stability test already). Above it nothing is done, so the
+  common warm path costs one comparison per case.
+
+The third phase of a water-free fluid is a second hydrocarbon liquid (vapour-liquid-liquid, e.g.
+a CO2- or H2S-rich liquid beside a methane-rich one). It is never put in the aqueous slot of the
+state: ``aqueous_fraction`` stays None (0 for a fluid with water whose two liquids are both
+hydrocarbon-rich), the two liquids are reported apart in ``States.two_liquids`` and lumped in
+``xs`` / ``liquid`` (what a two-outlet separator's liquid outlet carries).
+"""
+from __future__ import annotations
+
+from dataclasses import replace
+
+import numpy as np
+
+from . import twophase as fl
+from . import threephase
+from .steps import (TWO_PHASE_DERIV_TOL, TWO_PHASE_DP_REL, TWO_PHASE_DT, blank_unconverged,
+                    take_split)
+from ..components import R
+from ..state import States, empty_two_liquids
+
+#: Water-free mixtures: two-phase answers below this temperature [K] are retested for a second
+#: liquid. Measured (2026-12-02, /tmp scans of random compositions of the bench/fuzz_flash.py
+#: families and of binaries with ethane and propane, 100-320 K, 1-200 bar, PR and SRK, about
+#: 30,000 two-phase answers): the warmest two-phase answer with an unstable phase was 227.4 K
+#: (CO2 + n-decane on PR); sour gases 213 K, CO2-rich 177 K, lean and hydrogen blends 152 K. The
+#: screen sits 23 K above the warmest found.
+VLL_SCREEN_T = 250.0
+#: Components that make a liquid-liquid split with hydrocarbons at any temperature (common
+#: practice: methanol and glycols are only partly miscible with hydrocarbon liquids): a
+#: water-free fluid holding one is retested at every temperature.
+POLAR = ("methanol", "ethylene-glycol")
+
+
+class ThreePhaseStates:
+    """Three-phase steps of :class:`letdown.fluid.flash.engine.CubicEngine` (a mixin: it uses the
+    engine's ``comps``, ``eos``, ``_iw``, ``_phase`` and ``model``)."""
+
+    def _three_phase_cases(self, zs, T, n_phases):
+        """Cases to retest for a third phase: (wet, dry) boolean masks (n,) (module docstring)."""
+        pure, _ = fl._pure_index(zs)
+        n = zs.shape[0]
+        wet = np.zeros(n, dtype=bool) if self._iw is None else (zs[:, self._iw] > 0.0) & ~pure
+        polar = [self.comps.names.index(p) for p in POLAR if p in self.comps.names]
+        with np.errstate(invalid="ignore"):
+            cold = T < VLL_SCREEN_T
+        if polar:
+            cold = cold | np.any(zs[:, polar] > 0.0, axis=1)
+        dry = ~pure & ~wet & (n_phases == 2) & cold
+        return wet, dry
+
+    def _aqueous_of_two(self, st: States):
+        """Aqueous fraction of states from the two-phase flash [-]: the liquid's fraction where
+        water is its largest component, else 0."""
+        aq = np.argmax(st.xs, axis=1) == self._iw
+        beta = st.vapour_fraction
+        with np.errstate(invalid="ignore"):
+            return np.where(aq & (beta < 1.0), 1.0 - beta, 0.0)
+
+    def _three_phase_TP(self, st: States, split: fl.PTSplit) -> States:
+        """The PT states with a third phase where one exists: each converged answer of the cases
+        of :meth:`_three_phase_cases` is tested for stability (with the free-water trials where
+        the case holds water); where it fails, the state is the three-phase split's
+        (:func:`letdown.fluid.flash.threephase.retest_two_phase`)."""
+        if self._iw is not None:
+            st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
+        wet, dry = self._three_phase_cases(st.zs, st.T, split.n_phases)
+        c = np.flatnonzero((wet | dry) & split.report.converged)
+        if c.size == 0:
+            return st
+        res, unstable = threephase.retest_two_phase(self.eos, st.T[c], st.P[c], st.zs[c],
+                                                    take_split(split, c))
+        if not unstable.any():
+            return st
+        u = c[unstable]
+        return st.put(u, self._assemble_three(st.T[u], st.P[u], st.zs[u],
+                                              threephase.take_result(res, unstable)))
+
+    def _three_phase_PX(self, st: States, target, which, T_guess=None) -> States:
+        """The P-h (P-s) states with a third phase where one exists. The two-phase answer of a
+        case of :meth:`_three_phase_cases` is tested for stability at its temperature; where it
+        is not stable (or the two-phase solve failed) T is solved again on the three-phase
+        equilibrium (:func:`letdown.fluid.flash.threephase.flash_PX_three`), started from
+        ``T_guess`` where one is given (a block's inlet temperature, a loop's last answer: often
+        the answer itself), else from the two-phase temperature. h(T) of the true equilibrium
+        rises with T, so a stable answer is the answer. With water, a two-phase answer below
+        :data:`letdown.fluid.flash.threephase.T_FLOOR` is solved again too; without water, a
+        failed solve whose last temperature is below :data:`VLL_SCREEN_T` (or not finite)."""
+        if self._iw is not None:
+            st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
+        wet, dry = self._three_phase_cases(st.zs, st.T, st.n_phases)
+        # a failed two-phase solve of a water-free mixture is retried on the three-phase
+        # equilibrium where it ended cold or nowhere (any phase count: its last split says little)
+        _, dry_any = self._three_phase_cases(st.zs, np.where(np.isfinite(st.T), st.T, 0.0),
+                                             np.full(len(st), 2))
+        # with water, a two-phase answer below the three-phase solve's floor is not trusted
+        # either: water in the cubic's liquid there (tens of kelvin) is no state of a gas with
+        # water, and such an answer has been seen to meet h on a branch far from the
+        # equilibrium (61 K for 343 K)
+        suspect = ~st.converged | (wet & (st.T < threephase.T_FLOOR))
+        failed = np.flatnonzero((wet & suspect) | (dry_any & ~st.converged))
+        c = np.flatnonzero((wet | dry) & ~suspect)
+        unstable_idx = np.zeros(0, dtype=int)
+        start = None
+        if c.size:
+            m = c.size
+            sp = fl.PTSplit(st.vapour_fraction[c], st.xs[c], st.ys[c], st.n_phases[c],
+                            st.vapour_fraction[c] >= 1.0,
+                            fl.SolveReport(np.ones(m, dtype=bool), np.zeros(m, int), np.zeros(m)))
+            res, unstable = threephase.retest_two_phase(self.eos, st.T[c], st.P[c], st.zs[c], sp)
+            unstable_idx = c[unstable]
+            start = threephase.take_result(res, unstable)
+        if failed.size:
+            s = np.concatenate([unstable_idx, failed])
+            start = None
+        else:
+            s = unstable_idx
+        if s.size == 0:
+            return st
+        T_start = np.where(np.isfinite(st.T[s]), st.T[s], np.nan)
+        if T_guess is not None:
+            guess = T_guess[s]
+            T_start = np.where(np.isfinite(guess), guess, T_start)
+            start = None
+        px = threephase.flash_PX_three(self, st.P[s], target[s], st.zs[s], which, T_start,
+                                       start)
+        return st.put(s, self._assemble_three(px.T, st.P[s], st.zs[s], px.flash,
+                                              px.report.converged))
+
+    def _assemble_three(self, T, P, zs, res, extra_conv=None) -> States:
+        """States of a three-phase flash result: the whole from the phases present (h, s and
+        volume mole-weighted), the vapour, and the two liquids lumped as the liquid (composition
+        and h, s mole-weighted, volumes added). The third slot of ``res`` is the aqueous liquid
+        where water is its largest component (``aqueous_fraction``), else a second hydrocarbon
+        liquid (``two_liquids``, never the aqueous fraction). Heat capacity and Joule-Thomson
+        coefficient of several phases by forward differences (steps TWO_PHASE_DT,
+        TWO_PHASE_DP_REL) along the equilibrium; of a single phase, analytic."""
+        from .threephase import enthalpy_near, phase_properties
+        n = T.shape[0]
+        props = phase_properties(self, T, P, zs, res)
+        bV, bL, bW = res.beta_V, res.beta_L, res.beta_W
+        whole = props["whole"]
+        M = zs @ self.comps.Ms
+        nan = np.full(n, np.nan)
+        fields = ("Z", "density", "h", "s", "molar_mass")
+        has_v = bV > 0.0
+        vap = {k: np.where(has_v, props["vapour"][k], nan) for k in fields}
+        b_liq = bL + bW
+        has_l = b_liq > 0.0
+        wl = np.where(has_l, bL / np.where(has_l, b_liq, 1.0), 0.0)   # first liquid's share
+        pl, pw = props["liquid"], props["aqueous"]
+        lump = {k: wl * pl[k] + (1.0 - wl) * pw[k] for k in ("h", "s", "v", "molar_mass")}
+        lump["Z"] = P * lump["v"] / (R * T)
+        lump["density"] = lump["molar_mass"] / lump["v"]
+        liq = {k: np.where(has_l, lump[k], nan) for k in fields}
+        ys = np.where(has_v[:, None], res.y, zs)
+        x_l = np.where((bL > 0.0)[:, None], res.x, 0.0)
+        x_w = np.where((bW > 0.0)[:, None], res.w, 0.0)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            xs = np.where(has_l[:, None], (bL[:, None] * x_l + bW[:, None] * x_w)
+                          / np.where(has_l, b_liq, 1.0)[:, None], zs)
+        aq = threephase.aqueous_third(res, self._iw)
+        two_liq = (bW > 0.0) & ~aq & (bL > 0.0)
+        two_liquids = None
+        if two_liq.any():
+            two_liquids = empty_two_liquids(n, zs.shape[1])
+            for side, beta, x, p in (("light", bL, res.x, pl), ("heavy", bW, res.w, pw)):
+                two_liquids[f"{side}_fraction"] = np.where(two_liq, beta, 0.0)
+                two_liquids[f"{side}_zs"] = np.where(two_liq[:, None], x, np.nan)
+                for k in fields:
+                    two_liquids[f"{side}_{k}"] = np.where(two_liq, p[k], np.nan)
+        v = whole["v"]
+        conv = res.report.converged.copy()
+        if extra_conv is not None:
+            conv &= extra_conv
+        cp = nan.copy()
+        cv = nan.copy()
+        jt = nan.copy()
+        w = nan.copy()
+        many = np.flatnonzero(conv & (res.n_phases >= 2))
+        if many.size:
+            r = threephase.take_result(res, many)
+            m = many.size
+            T2 = np.concatenate([T[many] + TWO_PHASE_DT, T[many]])
+            P2 = np.concatenate([P[many], P[many] * (1.0 + TWO_PHASE_DP_REL)])
+            z2 = np.concatenate([zs[many], zs[many]])
+            h2 = enthalpy_near(self, T2, P2, z2, threephase.concat_results(r, r),
+                               TWO_PHASE_DERIV_TOL)
+            cp[many] = (h2[:m] - whole["h"][many]) / TWO_PHASE_DT
+            jt[many] = -(h2[m:] - whole["h"][many]) / (TWO_PHASE_DP_REL * P[many]) / cp[many]
+        one = np.flatnonzero(conv & (res.n_phases == 1))
+        if one.size:
+            A = self._phase(T[one], P[one], zs[one], 0)
+            cp[one], cv[one], jt[one], w[one] = A["cp"], A["cv"], A["jt"], A["w"]
+        st = States(T=T.copy(), P=P.copy(), h=whole["h"].copy(), s=whole["s"].copy(),
+                    Z=P * v / (R * T), cp=cp, cv=cv, jt=jt, w=w, density=M / v, molar_mass=M,
+                    vapour_fraction=bV.copy(), zs=zs.copy(), ys=ys, xs=xs,
+                    n_phases=res.n_phases.copy(), converged=conv, vapour=vap, liquid=liq,
+                    components=self.comps.names, model=self.model,
+                    aqueous_fraction=None if self._iw is None else np.where(aq, bW, 0.0),
+                    two_liquids=two_liquids)
+        return blank_unconverged(st)
