@@ -12,7 +12,7 @@ import letdown
 from letdown.errors import ModelError
 from letdown.fluid.flash import twophase as fl
 from letdown.fluid.components import R
-from letdown.fluid.flash.threephase import PX_H_TOL
+from letdown.fluid.flash.threephase_px import PX_H_TOL
 from letdown.sheet.loader import loads
 from letdown.sheet.solve import Sheet
 

@@ -26,7 +26,7 @@ from dataclasses import replace
 import numpy as np
 
 from . import twophase as fl
-from . import threephase
+from . import threephase, threephase_px
 from .steps import (TWO_PHASE_DERIV_TOL, TWO_PHASE_DP_REL, TWO_PHASE_DT, blank_unconverged,
                     take_split)
 from ..components import R
@@ -93,11 +93,11 @@ class ThreePhaseStates:
         """The P-h (P-s) states with a third phase where one exists. The two-phase answer of a
         case of :meth:`_three_phase_cases` is tested for stability at its temperature; where it
         is not stable (or the two-phase solve failed) T is solved again on the three-phase
-        equilibrium (:func:`letdown.fluid.flash.threephase.flash_PX_three`), started from
+        equilibrium (:func:`letdown.fluid.flash.threephase_px.flash_PX_three`), started from
         ``T_guess`` where one is given (a block's inlet temperature, a loop's last answer: often
         the answer itself), else from the two-phase temperature. h(T) of the true equilibrium
         rises with T, so a stable answer is the answer. With water, a two-phase answer below
-        :data:`letdown.fluid.flash.threephase.T_FLOOR` is solved again too; without water, a
+        :data:`letdown.fluid.flash.threephase_px.T_FLOOR` is solved again too; without water, a
         failed solve whose last temperature is below :data:`VLL_SCREEN_T` (or not finite)."""
         if self._iw is not None:
             st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
@@ -110,7 +110,7 @@ class ThreePhaseStates:
         # either: water in the cubic's liquid there (tens of kelvin) is no state of a gas with
         # water, and such an answer has been seen to meet h on a branch far from the
         # equilibrium (61 K for 343 K)
-        suspect = ~st.converged | (wet & (st.T < threephase.T_FLOOR))
+        suspect = ~st.converged | (wet & (st.T < threephase_px.T_FLOOR))
         failed = np.flatnonzero((wet & suspect) | (dry_any & ~st.converged))
         c = np.flatnonzero((wet | dry) & ~suspect)
         unstable_idx = np.zeros(0, dtype=int)
@@ -135,7 +135,7 @@ class ThreePhaseStates:
             guess = T_guess[s]
             T_start = np.where(np.isfinite(guess), guess, T_start)
             start = None
-        px = threephase.flash_PX_three(self, st.P[s], target[s], st.zs[s], which, T_start,
+        px = threephase_px.flash_PX_three(self, st.P[s], target[s], st.zs[s], which, T_start,
                                        start)
         return st.put(s, self._assemble_three(px.T, st.P[s], st.zs[s], px.flash,
                                               px.report.converged))
@@ -148,7 +148,8 @@ class ThreePhaseStates:
         liquid (``two_liquids``, never the aqueous fraction). Heat capacity and Joule-Thomson
         coefficient of several phases by forward differences (steps TWO_PHASE_DT,
         TWO_PHASE_DP_REL) along the equilibrium; of a single phase, analytic."""
-        from .threephase import enthalpy_near, phase_properties
+        from .threephase import phase_properties
+        from .threephase_px import enthalpy_near
         n = T.shape[0]
         props = phase_properties(self, T, P, zs, res)
         bV, bL, bW = res.beta_V, res.beta_L, res.beta_W
