@@ -118,9 +118,10 @@ def _compare_states(a, b):
 
 def _compare_properties(a, b):
     """The other properties of the whole and of each phase: NaN in the same places, 1e-9 relative,
-    except the two-phase cp and Joule-Thomson coefficient: forward differences over 0.01 K and
-    1e-5 P of h, which multiply the round-off of h by ~1e2 and ~1e4 (1e-7 and 1e-6 relative)."""
-    two = a.n_phases == 2
+    except the two-phase (and three-phase) cp and Joule-Thomson coefficient: forward differences
+    over 0.01 K and 1e-5 P of h, which multiply the round-off of h by ~1e2 and ~1e4 (1e-7 and 1e-6
+    relative)."""
+    two = a.n_phases >= 2
     for key in ("cp", "cv", "jt", "w", "Z", "density", "molar_mass"):
         u, v = getattr(a, key), getattr(b, key)
         fin = np.isfinite(v)
