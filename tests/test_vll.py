@@ -239,3 +239,22 @@ def test_separator_liquid_outlet_carries_both_liquids():
     assert vap.flow[0] == pytest.approx(10.0 * st.vapour_fraction, rel=1e-6)
     assert liq.flow[0] == pytest.approx(10.0 * (1.0 - st.vapour_fraction), rel=1e-6)
     assert np.max(np.abs(np.asarray(liq.zs)[0] - st.xs)) < 1e-6
+
+
+def test_acid_rich_mixture_is_retested_above_the_screen():
+    """An acid-rich mixture (CO2 0.83 with n-decane; threestates.ACID_RICH) has a second liquid
+    above VLL_SCREEN_T on Peng-Robinson (found by a grid scan, 2026-12-02: up to 300 K); it is
+    retested at every temperature, and the answer is a stable three-phase equilibrium."""
+    f = letdown.Fluid({"carbon-dioxide": 0.83, "n-decane": 0.10, "methane": 0.07},
+                      model="peng-robinson")
+    eos = f.engine.eos
+    T, P = 256.0, 2667268.6083966
+    assert T > VLL_SCREEN_T
+    old = fl.flash_TP(eos, np.array([T]), np.array([P]), f.zs[None, :])
+    assert fl.stability(eos, np.array([T]), np.array([P]), old.xs).tm[0] < -1e-6
+    st = f.flash(T=T, P=P)
+    assert st.converged and st.n_phases == 3
+    X = np.array([x for _, x in _phases(st)])
+    assert np.all(fl.stability(eos, np.full(3, T), np.full(3, P), X).tm >= -TM_TOL)
+    back = f.flash(P=P, h=st.h)
+    assert abs(back.T - T) < ROUND_TRIP_K and back.n_phases == 3

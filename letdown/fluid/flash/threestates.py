@@ -9,9 +9,10 @@ Which cases are retested for a third phase (:meth:`ThreePhaseStates._three_phase
 
 * a mixture holding water: every converged answer (a free-water phase can appear at any
   temperature);
-* a mixture without water: every converged two-phase answer below :data:`VLL_SCREEN_T` (a
-  single-phase answer has passed the stability test already). Above it nothing is done, so the
-  common warm path costs one comparison per case.
+* a mixture without water: every converged two-phase answer below :data:`VLL_SCREEN_T`, and at
+  any temperature where the mixture holds :data:`ACID_RICH` or more of CO2 + H2S, or methanol or
+  glycol (:data:`POLAR`); a single-phase answer has passed the stability test already. Elsewhere
+  nothing is done, so the common warm path costs one comparison per case.
 
 The third phase of a water-free fluid is a second hydrocarbon liquid (vapour-liquid-liquid, e.g.
 a CO2- or H2S-rich liquid beside a methane-rich one). It is never put in the aqueous slot of the
@@ -33,12 +34,20 @@ from ..components import R
 from ..state import States, empty_two_liquids
 
 #: Water-free mixtures: two-phase answers below this temperature [K] are retested for a second
-#: liquid. Measured (2026-12-02, /tmp scans of random compositions of the bench/fuzz_flash.py
-#: families and of binaries with ethane and propane, 100-320 K, 1-200 bar, PR and SRK, about
-#: 30,000 two-phase answers): the warmest two-phase answer with an unstable phase was 227.4 K
-#: (CO2 + n-decane on PR); sour gases 213 K, CO2-rich 177 K, lean and hydrogen blends 152 K. The
-#: screen sits 23 K above the warmest found.
-VLL_SCREEN_T = 250.0
+#: liquid. Measured (2026-12-02, scans of random compositions of the bench/fuzz_flash.py
+#: families and of random mixtures of methane, ethane, propane, nitrogen with CO2 or H2S and
+#: n-hexane to n-decane, 100-330 K, 1-200 bar, PR and SRK, about 80,000 two-phase answers): the
+#: lean, rich and hydrogen-blend gases showed a second liquid up to 153 K, CO2-rich 180 K, sour
+#: 217 K, and every mixture with less than 0.327 of CO2 + H2S up to 221 K (methane + H2S with
+#: ethane and propane, PR). Warmer ones all held at least 0.327 of CO2 + H2S (up to 293 K: 0.83
+#: of CO2 or H2S with 0.10 of a heavy alkane): :data:`ACID_RICH`. The screen sits 14 K above 221 K
+#: and costs the 8,760 P-h batch of bench/flash.py the retest of its 807 outlets below it.
+VLL_SCREEN_T = 235.0
+#: A water-free mixture holding at least this mole fraction of CO2 + H2S [-] is retested at every
+#: temperature (the scans above: the least acid-gas content of a second liquid above 221 K was
+#: 0.327).
+ACID_RICH = 0.25
+ACID = ("carbon-dioxide", "hydrogen-sulfide")
 #: Components that make a liquid-liquid split with hydrocarbons at any temperature (common
 #: practice: methanol and glycols are only partly miscible with hydrocarbon liquids): a
 #: water-free fluid holding one is retested at every temperature.
@@ -54,11 +63,15 @@ class ThreePhaseStates:
         pure, _ = fl._pure_index(zs)
         n = zs.shape[0]
         wet = np.zeros(n, dtype=bool) if self._iw is None else (zs[:, self._iw] > 0.0) & ~pure
-        polar = [self.comps.names.index(p) for p in POLAR if p in self.comps.names]
+        names = self.comps.names
+        polar = [names.index(p) for p in POLAR if p in names]
+        acid = [names.index(p) for p in ACID if p in names]
         with np.errstate(invalid="ignore"):
             cold = T < VLL_SCREEN_T
         if polar:
             cold = cold | np.any(zs[:, polar] > 0.0, axis=1)
+        if acid:
+            cold = cold | (np.sum(zs[:, acid], axis=1) >= ACID_RICH)
         dry = ~pure & ~wet & (n_phases == 2) & cold
         return wet, dry
 
@@ -98,7 +111,7 @@ class ThreePhaseStates:
         the answer itself), else from the two-phase temperature. h(T) of the true equilibrium
         rises with T, so a stable answer is the answer. With water, a two-phase answer below
         :data:`letdown.fluid.flash.threephase_px.T_FLOOR` is solved again too; without water, a
-        failed solve whose last temperature is below :data:`VLL_SCREEN_T` (or not finite)."""
+        failed solve whose last temperature is screened (or not finite)."""
         if self._iw is not None:
             st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
         wet, dry = self._three_phase_cases(st.zs, st.T, st.n_phases)
