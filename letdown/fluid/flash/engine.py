@@ -238,7 +238,7 @@ class CubicEngine(ThreePhaseStates):
         _check_TP(T, P)
         split = fl.flash_TP(self.eos, T, P, zs, cold=cold)
         st = self._assemble(T, P, zs, split)
-        if self._iw is None and not (split.n_phases == 2).any():
+        if not self._three_phase_needed(st):
             return st
         return self._three_phase_TP(st, split)
 
@@ -252,7 +252,7 @@ class CubicEngine(ThreePhaseStates):
 
     def _flash_P_X(self, P, target, zs, which, T_guess):
         st = self._flash_P_X_two(P, target, zs, which, T_guess)
-        if self._iw is None and st.converged.all() and not (st.n_phases == 2).any():
+        if not self._three_phase_needed(st):
             return st
         return self._three_phase_PX(st, target, which, T_guess)
 

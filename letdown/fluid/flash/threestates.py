@@ -35,14 +35,16 @@ from ..state import States, empty_two_liquids
 
 #: Water-free mixtures: two-phase answers below this temperature [K] are retested for a second
 #: liquid. Measured (2026-12-02, scans of random compositions of the bench/fuzz_flash.py
-#: families and of random mixtures of methane, ethane, propane, nitrogen with CO2 or H2S and
-#: n-hexane to n-decane, 100-330 K, 1-200 bar, PR and SRK, about 80,000 two-phase answers): the
-#: lean, rich and hydrogen-blend gases showed a second liquid up to 153 K, CO2-rich 180 K, sour
-#: 217 K, and every mixture with less than 0.327 of CO2 + H2S up to 221 K (methane + H2S with
-#: ethane and propane, PR). Warmer ones all held at least 0.327 of CO2 + H2S (up to 293 K: 0.83
-#: of CO2 or H2S with 0.10 of a heavy alkane): :data:`ACID_RICH`. The screen sits 14 K above 221 K
-#: and costs the 8,760 P-h batch of bench/flash.py the retest of its 807 outlets below it.
-VLL_SCREEN_T = 235.0
+#: families and of random mixtures of methane, ethane, propane, n-butane, nitrogen with CO2 or
+#: H2S and n-hexane to n-decane, 100-330 K, 1-200 bar, PR and SRK, about 90,000 two-phase
+#: answers): the lean, rich and hydrogen-blend gases showed a second liquid up to 153 K,
+#: CO2-rich 180 K, sour 217 K, and every mixture with less than 0.327 of CO2 + H2S up to 221 K
+#: (methane + H2S with ethane and propane, PR; a further 13,000 two-phase answers of such
+#: nine-component mixtures at 200-260 K: up to 216 K). Warmer ones all held at least 0.327 of
+#: CO2 + H2S (up to 293-300 K with 0.83 of CO2 or H2S and 0.10 of n-decane): :data:`ACID_RICH`.
+#: The screen sits 9 K above 221 K; it costs the 8,760 P-h batch of bench/flash.py the retest of
+#: its 232 outlets below it (of 2,828 two-phase; 235 K would take 807, 250 K all).
+VLL_SCREEN_T = 230.0
 #: A water-free mixture holding at least this mole fraction of CO2 + H2S [-] is retested at every
 #: temperature (the scans above: the least acid-gas content of a second liquid above 221 K was
 #: 0.327).
@@ -58,21 +60,54 @@ class ThreePhaseStates:
     """Three-phase steps of :class:`letdown.fluid.flash.engine.CubicEngine` (a mixin: it uses the
     engine's ``comps``, ``eos``, ``_iw``, ``_phase`` and ``model``)."""
 
-    def _three_phase_cases(self, zs, T, n_phases):
-        """Cases to retest for a third phase: (wet, dry) boolean masks (n,) (module docstring)."""
-        pure, _ = fl._pure_index(zs)
-        n = zs.shape[0]
-        wet = np.zeros(n, dtype=bool) if self._iw is None else (zs[:, self._iw] > 0.0) & ~pure
-        names = self.comps.names
-        polar = [names.index(p) for p in POLAR if p in names]
-        acid = [names.index(p) for p in ACID if p in names]
+    def _screen_weights(self):
+        """0/1 weights (nc,) of the acid-gas and of the polar components, or None where the
+        fluid has none (cached on the engine)."""
+        w = getattr(self, "_screen_w", None)
+        if w is None:
+            names = list(self.comps.names)
+            acid = np.array([n in ACID for n in names], dtype=float)
+            polar = np.array([n in POLAR for n in names], dtype=float)
+            w = (acid if acid.any() else None, polar if polar.any() else None)
+            self._screen_w = w
+        return w
+
+    def _dry_candidates(self, zs, T, n_phases):
+        """Two-phase answers a water-free mixture's screen retests (module docstring), pure
+        fluids not yet excluded: (n,) bool. A few array comparisons (the common path)."""
+        acid, polar = self._screen_weights()
         with np.errstate(invalid="ignore"):
             cold = T < VLL_SCREEN_T
-        if polar:
-            cold = cold | np.any(zs[:, polar] > 0.0, axis=1)
-        if acid:
-            cold = cold | (np.sum(zs[:, acid], axis=1) >= ACID_RICH)
-        dry = ~pure & ~wet & (n_phases == 2) & cold
+        if acid is not None:
+            cold = cold | (zs @ acid >= ACID_RICH)
+        if polar is not None:
+            cold = cold | (zs @ polar > 0.0)
+        return (n_phases == 2) & cold
+
+    def _three_phase_needed(self, st: States) -> bool:
+        """Whether any case of these (two-phase flash) states takes a three-phase step."""
+        if self._iw is not None:
+            return True
+        return bool(self._dry_candidates(st.zs, st.T, st.n_phases).any()
+                    or not st.converged.all())
+
+    def _three_phase_cases(self, zs, T, n_phases):
+        """Cases to retest for a third phase: (wet, dry) boolean masks (n,) (module docstring)."""
+        n = zs.shape[0]
+        dry = self._dry_candidates(zs, T, n_phases)
+        wet = np.zeros(n, dtype=bool)
+        if self._iw is not None:
+            wet = zs[:, self._iw] > 0.0
+            dry &= ~wet
+            check = wet | dry
+        else:
+            check = dry
+        if check.any():
+            # pure fluids never: their two phases share the composition
+            i = np.flatnonzero(check)
+            pure, _ = fl._pure_index(zs[i])
+            wet[i[pure]] = False
+            dry[i[pure]] = False
         return wet, dry
 
     def _aqueous_of_two(self, st: States):
