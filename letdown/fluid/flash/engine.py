@@ -3,10 +3,12 @@
 This is the engine behind :class:`letdown.Fluid` for the cubic models. Everything is vectorised over
 cases: T, P, h, s of shape (n,) and compositions of shape (n, nc).
 
-A fluid with water among its components takes one more step: each two-phase answer of a case with
-water is tested for a third phase, and where one is found the state is the three-phase
-equilibrium (:mod:`letdown.fluid.flash.threephase`; P-h and P-s solve T again on it). Other fluids'
-states are exactly the two-phase flash's.
+Some answers take one more step (:mod:`letdown.fluid.flash.threestates`): every answer of a
+case with water, and the cold (or acid-gas-rich) two-phase answers of water-free mixtures, are
+tested for a third phase, and where one is found the state is the three-phase equilibrium
+(:mod:`letdown.fluid.flash.threephase`; P-h and P-s solve T again on it,
+:mod:`letdown.fluid.flash.threephase_px`). Other states are exactly the two-phase flash's. The
+boundary scans (``saturation_T``, ``saturation_P``) are in :mod:`letdown.fluid.flash.boundaryscan`.
 """
 from __future__ import annotations
 
@@ -19,14 +21,9 @@ from ..eos.cubic import CubicEOS
 from ..state import States
 from .steps import (TWO_PHASE_DERIV_TOL, TWO_PHASE_DP_REL, TWO_PHASE_DT,  # noqa: F401
                     blank_unconverged as _blank_unconverged, take_split as _take)
+from .boundaryscan import BoundaryScan
 from .threestates import ThreePhaseStates
 
-#: Grid for locating phase boundaries by the stability test.
-SAT_GRID_POINTS = 48
-#: Lowest temperature searched for dew and bubble points of mixtures [K]: below the triple points
-#: of methane (90.7 K) and nitrogen (63.2 K) a natural gas is solid; the cubic equation still finds
-#: liquid-liquid splits there (near 45 K above a lean gas's cricondenbar), which are not dew points.
-SAT_T_FLOOR = 60.0
 #: P-h/P-s iterations allowed on a trusted single phase before every iterate is stability-tested
 #: (Newton from the ideal-gas guess needs 3-5 in one phase).
 TRUST_ITERATIONS = 8
@@ -41,7 +38,6 @@ PH_RESIDUAL_K = 1e-6
 #: this temperature error [K]; looser than PH_RESIDUAL_K, since its Newton loop stops on the step
 #: (PH_TOL_T), but far below anything a report shows.
 PURE_RESIDUAL_K = 1e-5
-SAT_BISECTIONS = 48
 #: Temperature step of the forward difference that gives the slope on a first two-phase P-h
 #: iterate [K].
 PH_FD_STEP = 1e-3
@@ -81,7 +77,7 @@ def native_solve_constants():
                 ideal_T_steps=IDEAL_T_STEPS, ideal_T_margin=IDEAL_T_MARGIN)
 
 
-class CubicEngine(ThreePhaseStates):
+class CubicEngine(ThreePhaseStates, BoundaryScan):
     """Flash calculations for one component set on one cubic EOS.
 
     Parameters
@@ -605,86 +601,6 @@ class CubicEngine(ThreePhaseStates):
             sc = code == 0
             beta[i[sc]] = np.where(Ti[sc] > self.comps.Tcs[ip[i[sc]]], 1.0, 0.0)
         return T, beta, conv
-
-    # ----------------------------------------------------------------- saturation
-    def saturation_T(self, P, zs, kind):
-        """Dew ('dew': highest T with a second phase) or bubble ('bubble': lowest T) temperature."""
-        return self._boundary(P, zs, kind, axis="T")
-
-    def saturation_P(self, T, zs, kind):
-        """Dew ('dew': lowest P with a second phase) or upper ('bubble': highest P) boundary."""
-        return self._boundary(T, zs, kind, axis="P")
-
-    def _unstable(self, T, P, zs):
-        pure, ip = fl._pure_index(zs)
-        res = np.zeros(T.shape, dtype=bool)
-        if (~pure).any():
-            i = np.nonzero(~pure)[0]
-            st = fl.stability(self.eos, T[i], P[i], zs[i], early_exit=True, cold=False)
-            res[i] = st.unstable
-        return res
-
-    def _boundary(self, fixed, zs, kind, axis):
-        n = fixed.shape[0]
-        pure, ip = fl._pure_index(zs)
-        out = np.full(n, np.nan)
-        if pure.any():
-            i = np.nonzero(pure)[0]
-            if axis == "T":
-                out[i] = fl.pure_saturation_T(self.eos, fixed[i], ip[i])
-            else:
-                out[i] = fl.pure_saturation_P(self.eos, fixed[i], ip[i])[0]
-        m = np.nonzero(~pure)[0]
-        if m.size == 0:
-            return out
-        Tcs = self.comps.Tcs
-        if axis == "T":
-            lo_v = np.maximum(0.3 * np.min(np.where(zs[m] > 0, Tcs, np.inf), axis=1), SAT_T_FLOOR)
-            hi_v = np.full(m.size, 1.6 * np.max(np.where(zs[m] > 0, Tcs, -np.inf), axis=1))
-            grid = np.linspace(0.0, 1.0, SAT_GRID_POINTS)[None, :] * (hi_v - lo_v)[:, None] + lo_v[:, None]
-        else:
-            grid = np.exp(np.linspace(np.log(1e4), np.log(5e7), SAT_GRID_POINTS))[None, :].repeat(m.size, 0)
-        G = grid.size // m.size
-        fx = np.repeat(fixed[m], G)
-        gv = grid.ravel()
-        zz = np.repeat(zs[m], G, axis=0)
-        if axis == "T":
-            uns = self._unstable(gv, fx, zz).reshape(m.size, G)
-        else:
-            uns = self._unstable(fx, gv, zz).reshape(m.size, G)
-        upper = (kind == "dew") if axis == "T" else (kind == "bubble")
-        a = np.full(m.size, np.nan)
-        b = np.full(m.size, np.nan)
-        for r in range(m.size):
-            u = np.nonzero(uns[r])[0]
-            if u.size == 0:
-                continue
-            # the two-phase run that reaches highest on the grid: the dew curve at the top in T
-            # (the bubble curve at the top in P); its lower end is the other boundary, and a run
-            # that reaches the end of the grid has no boundary there
-            top = u[-1]
-            if upper:
-                if top + 1 < G:
-                    a[r], b[r] = grid[r, top], grid[r, top + 1]     # a unstable, b stable
-            else:
-                stable_below = np.nonzero(~uns[r, :top])[0]
-                if stable_below.size:
-                    k = stable_below[-1] + 1
-                    a[r], b[r] = grid[r, k], grid[r, k - 1]
-        ok = np.isfinite(a)
-        for _ in range(SAT_BISECTIONS):
-            if not ok.any():
-                break
-            mid = 0.5 * (a + b) if axis == "T" else np.sqrt(a * b)
-            j = np.nonzero(ok)[0]
-            if axis == "T":
-                u = self._unstable(mid[j], fixed[m[j]], zs[m[j]])
-            else:
-                u = self._unstable(fixed[m[j]], mid[j], zs[m[j]])
-            a[j] = np.where(u, mid[j], a[j])
-            b[j] = np.where(u, b[j], mid[j])
-        out[m] = np.where(ok, 0.5 * (a + b) if axis == "T" else np.sqrt(a * b), np.nan)
-        return out
 
 
 def _flash_TP_mixed_tol(eos, T, P, zs, K, assume, loose):
