@@ -189,6 +189,10 @@ def _thermo_compare(tally, fluid, flasher, T, P, st, family):
         key = "cold CO2/sour split missed (left for later)" if cold else "WRONG ROOT / MISSED SPLIT"
         tally.add(key, example=f"{fluid!r} T={T:.3f} P={P:.6g}: G/RT {g_mine:.9f} vs "
                                f"thermo {g_ref:.9f} ({st.n_phases} vs {ref.phase_count} phases)")
+    elif st.n_phases == 3:
+        low = g_mine < g_ref - GIBBS_TOL * max(1.0, abs(g_ref))
+        tally.add("three-phase (VLL) states below thermo's two-phase answer" if low else
+                  "three-phase (VLL) states at thermo's Gibbs energy (thermo found them too?)")
     elif st.n_phases != ref.phase_count:
         tally.add("phase count differs at equal Gibbs energy (thermo's split not lower)")
 

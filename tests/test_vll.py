@@ -258,3 +258,24 @@ def test_acid_rich_mixture_is_retested_above_the_screen():
     assert np.all(fl.stability(eos, np.full(3, T), np.full(3, P), X).tm >= -TM_TOL)
     back = f.flash(P=P, h=st.h)
     assert abs(back.T - T) < ROUND_TRIP_K and back.n_phases == 3
+
+
+def test_wet_lean_gas_round_trip_of_the_fuzz():
+    """The one round trip bench/fuzz_flash.py --seed 1 left unconverged (SRK wet lean gas,
+    201.96 K, 50.1 bar: vapour, hydrocarbon liquid and free water). At the two-phase P-h answer
+    (201.60 K, vapour + free water) the three-phase split from the two phases as reference gave
+    NaN, so the answer was marked unconverged; its second start (the trial phase as reference,
+    threephase.RETRY_BETA_SCALE) converges."""
+    f = letdown.Fluid({"methane": 0.9499, "ethane": 0.02682, "propane": 0.001454,
+                       "n-butane": 0.004993, "nitrogen": 0.005398, "carbon-dioxide": 0.00676,
+                       "water": 0.004719}, model="soave-redlich-kwong", normalise=True)
+    T, P = 201.9633, 5.00999e6
+    st = f.flash(T=T, P=P)
+    assert st.converged and st.n_phases == 3 and st.aqueous_fraction > 0.0
+    for which in ("h", "s"):
+        back = f.flash(P=P, **{which: float(getattr(st, which))})
+        assert back.converged and back.n_phases == 3
+        assert abs(back.T - T) < ROUND_TRIP_K
+    # the state at the former two-phase answer's temperature is a converged three-phase one
+    mid = f.flash(T=201.6003896, P=P)
+    assert mid.converged and mid.n_phases == 3

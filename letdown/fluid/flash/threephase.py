@@ -274,7 +274,10 @@ def _split3(eos, T, P, zs, X0, tol=FUG_TOL, beta0=None):
                                             beta[left], tol)
         lnK[left], beta[left], X[left], conv[left], resid[left] = lk, b, Xn, ok, res
         iters[left] += nit
-    betas = np.concatenate([(1.0 - beta.sum(axis=1))[:, None], beta], axis=1)
+    # a lost case (fractions +-inf: a binary has no three-phase split off its three-phase line)
+    # gives NaN here quietly; it is marked unconverged
+    with np.errstate(invalid="ignore"):
+        betas = np.concatenate([(1.0 - beta.sum(axis=1))[:, None], beta], axis=1)
     return betas, X, conv, iters, resid
 
 
@@ -470,6 +473,18 @@ def retest_two_phase(eos: CubicEOS, T, P, zs, split=None, _depth=0):
             X0[~two & ~np.isin(u, s1[ok])] = np.stack(
                 [zs[s1], w_best[s1], w_best[s1]], axis=1)[~ok]
         betas, X3, ok3, it3, res3 = _split3(eos, T[u], P[u], zs[u], X0)
+        # a split that failed from the two phases as reference: once more with the trial phase
+        # as the reference and the two phases near their fractions (a fuzz find: a wet lean gas
+        # on SRK at 201.6 K, 50 bar, vapour + free water with a methane-butane liquid trial at
+        # tm -0.11, NaN from the first start, 0.924 / 0.071 / 0.0047 from this one)
+        again = np.flatnonzero(~ok3 & two)
+        if again.size:
+            r = u[again]
+            X0b = np.stack([w_best[r], X[r, 0], X[r, 1]], axis=1)
+            b2, X2, ok2, it2, res2 = _split3(eos, T[r], P[r], zs[r], X0b,
+                                             beta0=RETRY_BETA_SCALE * B[r, :2])
+            betas[again], X3[again], ok3[again], res3[again] = b2, X2, ok2, res2
+            it3[again] += it2
         iters[u] += it3
         all_pos = ok3 & np.all(betas > 0.0, axis=1)
         a = u[all_pos]
@@ -508,6 +523,9 @@ def retest_two_phase(eos: CubicEOS, T, P, zs, split=None, _depth=0):
         conv, iters, resid, "three-phase PT flash")), unstable | untested
 
 
+#: The second start of a failed three-phase split takes the two phases found at this share of
+#: their fractions (the trial phase the rest) [-].
+RETRY_BETA_SCALE = 0.9
 #: Retests of a two-phase split found by :func:`_resplit_pairs` (each may find another).
 RESPLIT_DEPTH = 2
 
