@@ -454,6 +454,10 @@ def retest_two_phase(eos: CubicEOS, T, P, zs, split=None, _depth=0):
         # as the reference and the two phases near their fractions (a fuzz find: a wet lean gas
         # on SRK at 201.6 K, 50 bar, vapour + free water with a methane-butane liquid trial at
         # tm -0.11, NaN from the first start, 0.924 / 0.071 / 0.0047 from this one)
+        # A "converged" split with fractions far outside [0, 1] is degenerate (two of its phases
+        # alike, the Rachford-Rice singular: seen at +-7e27 on the compiled path for that gas):
+        # a failure, not a phase to drop.
+        ok3 &= _sane_fractions(betas)
         again = np.flatnonzero(~ok3 & two)
         if again.size:
             r = u[again]
@@ -461,6 +465,7 @@ def retest_two_phase(eos: CubicEOS, T, P, zs, split=None, _depth=0):
             b2, X2, ok2, it2, res2 = _split3(eos, T[r], P[r], zs[r], X0b,
                                              beta0=RETRY_BETA_SCALE * B[r, :2])
             betas[again], X3[again], ok3[again], res3[again] = b2, X2, ok2, res2
+            ok3[again] &= _sane_fractions(b2)
             it3[again] += it2
         iters[u] += it3
         all_pos = ok3 & np.all(betas > 0.0, axis=1)
@@ -484,6 +489,21 @@ def retest_two_phase(eos: CubicEOS, T, P, zs, split=None, _depth=0):
             B[g] = np.stack([tp.beta[good], 1.0 - tp.beta[good], 0.0 * tp.beta[good]], axis=1)
             nph[g] = 2
             conv[dd[~good]] = False
+            # the pair left is an answer only if stable itself (it can be the very split found
+            # unstable): retested, and unconverged where the retests run out
+            if g.size and _depth < RESPLIT_DEPTH:
+                m_ = g.size
+                sp_g = PTSplit(tp.beta[good], tp.xs[good], tp.ys[good], np.full(m_, 2),
+                               tp.beta[good] >= 1.0,
+                               SolveReport(np.ones(m_, dtype=bool), np.zeros(m_, int),
+                                           np.zeros(m_)))
+                res_g, _ = retest_two_phase(eos, T[g], P[g], zs[g], sp_g, _depth=_depth + 1)
+                X[g] = np.stack([res_g.y, res_g.x, res_g.w], axis=1)
+                B[g] = np.stack([res_g.beta_V, res_g.beta_L, res_g.beta_W], axis=1)
+                nph[g] = res_g.n_phases
+                conv[g] = res_g.report.converged
+            elif g.size:
+                conv[g] = False
         conv[u[~ok3]] = False
         resid[u[~ok3]] = res3[~ok3]
         # no three-phase split and no pair from it (a binary, where three phases exist only on
@@ -503,6 +523,18 @@ def retest_two_phase(eos: CubicEOS, T, P, zs, split=None, _depth=0):
 #: The second start of a failed three-phase split takes the two phases found at this share of
 #: their fractions (the trial phase the rest) [-].
 RETRY_BETA_SCALE = 0.9
+#: A three-phase split whose phase fractions leave [-DEGENERATE_BETA, 1 + DEGENERATE_BETA] is
+#: degenerate (two phases alike), not converged [-].
+DEGENERATE_BETA = 10.0
+
+
+def _sane_fractions(betas):
+    """Cases (n,) whose phase fractions (n, 3) are finite and not far outside [0, 1]."""
+    with np.errstate(invalid="ignore"):
+        return np.all(np.isfinite(betas) & (betas > -DEGENERATE_BETA)
+                      & (betas < 1.0 + DEGENERATE_BETA), axis=1)
+
+
 #: Retests of a two-phase split found by :func:`_resplit_pairs` (each may find another).
 RESPLIT_DEPTH = 2
 
