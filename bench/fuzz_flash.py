@@ -62,7 +62,7 @@ unstable liquid 275 -> 0, 293 of them now three-phase (each of the 27 compared w
 two-phase flash lower in Gibbs energy than thermo's answer), cold two-phase states 1,076 -> 783;
 round trips unconverged 1 + 1 -> 0 (the wet lean gas on SRK at 201.96 K, 50.1 bar); every other
 count unchanged, every target 0. Seed 2: the same zeros (297 VLL states, 23 compared with thermo,
-all lower). Time 26 s -> 65 s: the three-phase splits of the cold and CO2-rich states (a profile of
+all lower). Time 26 s -> 50-65 s: the three-phase splits of the cold and CO2-rich states (a profile of
 the CO2-rich and sour compositions on PR: the three-phase substitution 11.0 of 12.8 s).
 """
 from __future__ import annotations
