@@ -285,3 +285,20 @@ def test_wet_lean_gas_round_trip_of_the_fuzz(compiled, monkeypatch):
     # the state at the former two-phase answer's temperature is a converged three-phase one
     mid = f.flash(T=201.6003896, P=P)
     assert mid.converged and mid.n_phases == 3
+
+
+def test_four_phase_state_is_refused_not_given_as_three():
+    """A wet sour gas at 189.5 K, 8.9 bar (found by a scan, 2026-12-02): its three-phase answer
+    (vapour, hydrocarbon liquid, water) has an unstable vapour (tm -0.018: a second hydrocarbon
+    liquid beside the water, four phases), which the flash does not seek: the state is refused
+    (unconverged; the scalar flash raises), never given as three-phase."""
+    from letdown.errors import ConvergenceError
+    f = letdown.Fluid({"methane": 0.5733170249741028, "hydrogen-sulfide": 0.2857640263930919,
+                       "carbon-dioxide": 0.05113275528143616, "ethane": 0.05, "propane": 0.03,
+                       "water": 0.009786193351369338}, model="peng-robinson", normalise=True)
+    T, P = 189.47812907967693, 886856.8004012957
+    st = f.flash(T=np.array([T, 290.0]), P=np.array([P, P]))
+    assert not st.converged[0] and np.isnan(st.h[0])
+    assert st.converged[1]
+    with pytest.raises(ConvergenceError):
+        f.flash(T=T, P=P)

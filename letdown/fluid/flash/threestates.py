@@ -50,6 +50,10 @@ VLL_SCREEN_T = 230.0
 #: 0.327).
 ACID_RICH = 0.25
 ACID = ("carbon-dioxide", "hydrogen-sulfide")
+#: A phase of a three-phase answer with a trial below this tangent-plane distance [-] shows a
+#: fourth phase (the early-exit level of the stability test, clear of round-off: a converged
+#: phase of an equilibrium gives 0 to about 1e-14).
+FOURTH_PHASE_TM = -1e-6
 #: Components that make a liquid-liquid split with hydrocarbons at any temperature (common
 #: practice: methanol and glycols are only partly miscible with hydrocarbon liquids): a
 #: water-free fluid holding one is retested at every temperature.
@@ -109,6 +113,23 @@ class ThreePhaseStates:
             wet[i[pure]] = False
             dry[i[pure]] = False
         return wet, dry
+
+    def _fourth_phase(self, T, P, zs, res, conv):
+        """Three-phase answers in the screen (:meth:`_dry_candidates`: cold, acid-gas-rich or
+        polar) whose vapour or first liquid is unstable, (n,) bool: a fourth phase (vapour, two
+        hydrocarbon liquids and water: found in 629 of 1,396 three-phase states of wet sour gases
+        at 150-215 K) is not sought, so such a state is refused (unconverged), not given as
+        three-phase. Elsewhere False without a test."""
+        out = np.zeros(T.shape[0], dtype=bool)
+        c = np.flatnonzero(conv & (res.n_phases == 3)
+                           & self._dry_candidates(zs, T, np.full(T.shape[0], 2)))
+        if c.size == 0:
+            return out
+        for beta, x in ((res.beta_V, res.y), (res.beta_L, res.x)):
+            i = c[beta[c] > 0.0]
+            if i.size:
+                out[i] |= fl.stability(self.eos, T[i], P[i], x[i]).tm < FOURTH_PHASE_TM
+        return out
 
     def _aqueous_of_two(self, st: States):
         """Aqueous fraction of states from the two-phase flash [-]: the liquid's fraction where
@@ -235,6 +256,7 @@ class ThreePhaseStates:
         conv = res.report.converged.copy()
         if extra_conv is not None:
             conv &= extra_conv
+        conv &= ~self._fourth_phase(T, P, zs, res, conv)
         cp = nan.copy()
         cv = nan.copy()
         jt = nan.copy()
