@@ -25,7 +25,7 @@ Data:
   solutions of 5-60 wt % form hydrate with natural gas at 3-20 MPa) over the x of the freezing
   points. MEG has no verified VLE set here. Without this term (C = D = 0, the freezing points
   alone) the hydrate model with 40-50 wt % MEG was 0.7-1.3 K below that correlation
-  (non-conservative; tests/test_hydrate_inhibited.py).
+  (non-conservative; tests/fluid/test_hydrate_inhibited.py).
 """
 import numpy as np
 import CoolProp.CoolProp as CP

@@ -21,9 +21,9 @@ temperature T solves
     beta_V h_V(T) + beta_L h_L(T) + beta_W h_W(T) = h_in
 
 at the outlet pressure, the phase fractions and compositions from the three-phase PT flash
-(:func:`letdown.fluid.flash.threephase.flash_PT_3`) and each phase's enthalpy from the cubic equation
+(:func:`letdown.fluid.flash.threephase.flash_TP_three`) and each phase's enthalpy from the cubic equation
 plus the ideal-gas part (:func:`letdown.fluid.flash.threephase.phase_properties`). T is found by
-:func:`letdown.fluid.flash.threephase.flash_PX_3` (the bracketed root finder on the three-phase h(T)),
+:func:`letdown.fluid.flash.threephase_px.flash_PX_three` (the bracketed root finder on the three-phase h(T)),
 started from the temperature of the inlet's P-h flash (``Fluid.flash`` with the inlet temperature
 as its guess, which for fluids with water uses the same routine), so the drum usually ends at
 that first evaluation. The vapour,
@@ -57,7 +57,8 @@ import numpy as np
 
 from ..constants import R
 from ..fluid.flash.twophase import is_vapour_like
-from ..fluid.flash.threephase import PHASES, flash_PX_3, phase_properties
+from ..fluid.flash.threephase import PHASES, aqueous_third, phase_properties
+from ..fluid.flash.threephase_px import flash_PX_three
 from . import watersplit
 from .common import TINY_FLOW, finish, outlet_pressure, pseudo_critical
 from .stream import StreamBatch
@@ -66,7 +67,7 @@ from .stream import StreamBatch
 PHASE_FIELDS = ("h", "s", "Z", "density", "molar_mass")
 #: The three-phase drum is flagged when its temperature differs from the P-h flash of its inlet
 #: (``Fluid.flash``) by more than this [K]. Both are the three-phase equilibrium now (the same
-#: routine, :func:`letdown.fluid.flash.threephase.flash_PX_3`), so the difference is within the solver's
+#: routine, :func:`letdown.fluid.flash.threephase_px.flash_PX_three`), so the difference is within the solver's
 #: tolerance; the flag stays as a check that the blocks upstream and the drum agree.
 T_SHIFT_FLAG = 0.1
 
@@ -174,7 +175,7 @@ def _three_phase(fluid, inlet, P_out, states, water_port: bool):
     zs = np.asarray(inlet.zs, dtype=float)
     h = np.asarray(inlet.h, dtype=float)
     F = np.asarray(inlet.flow, dtype=float)
-    drum = flash_PX_3(fluid.engine, P_out, h, zs, "h", np.asarray(states.T, dtype=float))
+    drum = flash_PX_three(fluid.engine, P_out, h, zs, "h", np.asarray(states.T, dtype=float))
     T, res = drum.T, drum.flash
     ok = drum.report.converged & np.asarray(inlet.converged, dtype=bool)
     props = phase_properties(fluid.engine, T, P_out, zs, res)
@@ -196,8 +197,12 @@ def _three_phase(fluid, inlet, P_out, states, water_port: bool):
     rest = F[:, None] * zs - flows["vapour"] - flows["liquid"]
     flows["aqueous"] = np.where((betas["aqueous"] > 0.0)[:, None], np.maximum(rest, 0.0), 0.0)
     moles = {name: betas[name] * F for name in betas}
-    if not water_port:
-        # the aqueous phase leaves with the hydrocarbon liquid: moles, h, s and volume add
+    # the third phase leaves with the hydrocarbon liquid where the water port is not connected,
+    # and where it is not aqueous (a second hydrocarbon liquid: never out of the water port)
+    iw = list(fluid.components).index("water")
+    merge = ~aqueous_third(res, iw) | (not water_port)
+    if merge.any():
+        # moles, h, s and volume add
         L, W = moles["liquid"], moles["aqueous"]
         both = L + W
         pl, pw = props["liquid"], props["aqueous"]
@@ -206,11 +211,14 @@ def _three_phase(fluid, inlet, P_out, states, water_port: bool):
         mixed = {k: wl * pl[k] + (1.0 - wl) * pw[k] for k in ("h", "s", "v", "molar_mass")}
         mixed["Z"] = P_out * mixed["v"] / (R * T)
         mixed["density"] = mixed["molar_mass"] / mixed["v"]
-        props = {**props, "liquid": mixed}
-        flows = {"vapour": flows["vapour"], "liquid": flows["liquid"] + flows["aqueous"],
-                 "aqueous": np.zeros_like(zs)}
-        betas = {**betas, "liquid": betas["liquid"] + betas["aqueous"],
-                 "aqueous": np.zeros_like(F)}
+        props = {**props, "liquid": {k: np.where(merge, mixed[k], pl[k]) for k in pl}}
+        m2 = merge[:, None]
+        flows = {"vapour": flows["vapour"],
+                 "liquid": np.where(m2, flows["liquid"] + flows["aqueous"], flows["liquid"]),
+                 "aqueous": np.where(m2, 0.0, flows["aqueous"])}
+        betas = {**betas, "liquid": np.where(merge, betas["liquid"] + betas["aqueous"],
+                                             betas["liquid"]),
+                 "aqueous": np.where(merge, 0.0, betas["aqueous"])}
     whole = props["whole"]
     out = {}
     for port, name in (("vapour", "vapour"), ("liquid", "liquid"), ("water", "aqueous")):

@@ -294,7 +294,7 @@ def critical_temperature_estimate(comps: ComponentSet, zs) -> np.ndarray:
     phi_i = x_i V_c,i / sum_j x_j V_c,j, here with the critical volumes taken in proportion to
     R T_c,i / P_c,i (a common critical compressibility; the cubic equations' co-volumes b_i are in
     that proportion), so it needs no data beyond T_c and P_c. Against the critical points of
-    letdown's own envelope (Peng-Robinson, measured in tests/test_phase_naming.py) it is within 3 %
+    letdown's own envelope (Peng-Robinson, measured in tests/fluid/test_phase_naming.py) it is within 3 %
     for the natural gases of tests/cases.py and methane + CO2, propane or n-hexane; it overstates
     methane + 10 % n-decane (379 K against 330 K) and understates a 20 % hydrogen blend (177 K
     against 192 K); Kay's mole-fraction average understates all of them (by 121 K for methane +

@@ -300,7 +300,7 @@ class Fluid:
         if self.model == "gerg-2008":
             raise ModelError("GERG-2008 is used for single-phase states only here; use a cubic "
                              "model for the three-phase flash")
-        from .flash.threephase import flash_PT_3
+        from .flash.threephase import flash_TP_three
         Ta = np.atleast_1d(np.asarray(T, dtype=float))
         Pa = np.atleast_1d(np.asarray(P, dtype=float))
         Z = self._zs if zs is None else np.asarray(zs, dtype=float)
@@ -311,7 +311,7 @@ class Fluid:
             raise InputError("flash_three_phase needs positive, finite temperatures and pressures")
         Zb = np.broadcast_to(Z, (n, self.n_components)).copy()
         _check_composition(Zb, self.n_components)
-        res = flash_PT_3(self._engine.eos, Ta, Pa, Zb)
+        res = flash_TP_three(self._engine.eos, Ta, Pa, Zb)
         if not res.report.all_converged:
             raise ConvergenceError(f"three-phase flash did not converge ({res.report!r})",
                                    result=res)

@@ -81,6 +81,14 @@ class States:
         water among its components. Where the liquid is two liquids (hydrocarbon and aqueous,
         ``n_phases`` 3), ``xs`` and ``liquid`` describe them lumped: the mole-weighted overall
         composition, h and s mole-weighted, volumes added.
+    two_liquids : dict of ndarray or None  the two liquids of a vapour-liquid-liquid state apart,
+        where neither is aqueous (two hydrocarbon-rich liquids, e.g. a CO2- or H2S-rich liquid
+        beside a methane-rich one below about 230 K): ``light_fraction``, ``heavy_fraction``
+        (molar phase fractions [-], 0 where the state has not two such liquids), ``light_zs``,
+        ``heavy_zs`` (n, nc) and ``light_``/``heavy_`` ``Z``, ``density``, ``h``, ``s``,
+        ``molar_mass`` (NaN where absent); light and heavy by mass density. ``xs`` and
+        ``liquid`` describe the two lumped, as the whole liquid a separator's liquid outlet
+        carries. None where no state of the batch has them.
     """
 
     T: np.ndarray
@@ -106,6 +114,7 @@ class States:
     model: str
     K: np.ndarray | None = None
     aqueous_fraction: np.ndarray | None = None
+    two_liquids: dict | None = None
 
     def __len__(self) -> int:
         return int(self.T.shape[0])
@@ -118,16 +127,12 @@ class States:
         vals["converged"] = bool(self.converged.item(i))
         phases = []
         beta = vals["vapour_fraction"]
-        if self.aqueous_fraction is None:
-            two = self.n_phases.item(i) == 2
-            has_v = two or beta >= 1.0
-            has_l = two or beta <= 0.0
-        else:
-            # a fluid with water: vapour and liquid where their fractions say so (two liquids,
-            # hydrocarbon and aqueous, have vapour fraction 0)
-            many = int(self.n_phases[i]) >= 2
-            has_v = (many and beta > 0.0) or beta >= 1.0
-            has_l = (many and beta < 1.0) or beta <= 0.0
+        # vapour and liquid where their fractions say so (two liquids, hydrocarbon and aqueous
+        # or two hydrocarbon liquids, have vapour fraction 0; a pure fluid's or a two-phase
+        # split's fractions lie strictly between 0 and 1)
+        many = self.n_phases.item(i) >= 2
+        has_v = (many and beta > 0.0) or beta >= 1.0
+        has_l = (many and beta < 1.0) or beta <= 0.0
         if has_v:
             v = self.vapour
             phases.append(Phase("vapour", beta, self.ys[i].copy(),
@@ -139,6 +144,15 @@ class States:
         wet = {} if self.aqueous_fraction is None else {
             "aqueous_fraction": float(self.aqueous_fraction[i]),
             "phase_count": int(self.n_phases[i])}
+        tl = self.two_liquids
+        if tl is not None and tl["heavy_fraction"][i] > 0.0:
+            wet["phase_count"] = int(self.n_phases[i])
+            wet["liquid_phases"] = tuple(
+                Phase(f"{side} liquid", float(tl[f"{side}_fraction"][i]),
+                      tl[f"{side}_zs"][i].copy(),
+                      *(float(tl[f"{side}_{k}"][i]) for k in ("Z", "density", "h", "s",
+                                                              "molar_mass")))
+                for side in ("light", "heavy"))
         return State(**vals, zs=self.zs[i].copy(), ys=self.ys[i].copy(), xs=self.xs[i].copy(),
                      phases=tuple(phases), components=self.components, model=self.model, **wet)
 
@@ -193,13 +207,17 @@ class States:
     def put(self, idx, other: "States") -> "States":
         """A new batch: these states with the cases ``idx`` (indices) replaced by ``other``'s.
 
-        An optional field (``K``, ``aqueous_fraction``) that only one of the two carries is
-        filled with NaN (``K``) or 0 (``aqueous_fraction``) for the cases of the other.
+        An optional field (``K``, ``aqueous_fraction``, ``two_liquids``) that only one of the two
+        carries is filled with NaN (``K``), 0 (``aqueous_fraction``) or no second liquid
+        (``two_liquids``: fractions 0, the rest NaN) for the cases of the other.
         """
         n = len(self)
         out = {}
         for f in fields(self):
             v, w = getattr(self, f.name), getattr(other, f.name)
+            if f.name == "two_liquids" and (v is None) != (w is None):
+                v = empty_two_liquids(n, len(self.components)) if v is None else v
+                w = empty_two_liquids(len(other), len(self.components)) if w is None else w
             if isinstance(v, dict):
                 merged = {}
                 for k, a in v.items():
@@ -221,6 +239,17 @@ class States:
         return States(**out)
 
 
+def empty_two_liquids(n: int, nc: int) -> dict:
+    """The ``two_liquids`` of n states without two hydrocarbon liquids (fractions 0, NaN else)."""
+    out = {}
+    for side in ("light", "heavy"):
+        out[f"{side}_fraction"] = np.zeros(n)
+        out[f"{side}_zs"] = np.full((n, nc), np.nan)
+        for k in ("Z", "density", "h", "s", "molar_mass"):
+            out[f"{side}_{k}"] = np.full(n, np.nan)
+    return out
+
+
 @dataclass(frozen=True)
 class State:
     """One equilibrium state; attributes as in :class:`States` but scalar.
@@ -228,7 +257,10 @@ class State:
     ``phases`` holds one :class:`Phase` per phase present, vapour first; a hydrocarbon liquid
     beside an aqueous one is one lumped ``liquid`` phase there (as in :class:`States`), and
     ``n_phases`` counts them apart. ``aqueous_fraction`` is the aqueous liquid's molar fraction
-    [-] (0 where there is none or the fluid has no water).
+    [-] (0 where there is none or the fluid has no water). Where the liquid is two hydrocarbon
+    liquids (vapour-liquid-liquid), ``phases`` holds their lump as ``liquid`` and
+    ``liquid_phases`` the two apart (``light liquid``, ``heavy liquid``, by mass density);
+    elsewhere ``liquid_phases`` is empty.
     """
 
     T: float
@@ -252,6 +284,7 @@ class State:
     model: str
     aqueous_fraction: float = 0.0
     phase_count: int | None = None
+    liquid_phases: tuple = ()
 
     @property
     def n_phases(self) -> int:

@@ -7,7 +7,7 @@ instance where the function is infinite at one end) falls back to bisection.
 
 Used by the exchanger (duty meeting a minimum approach or a UA), by the flowsheet goals (through
 :mod:`letdown.equipment.rootfind`) and by the three-phase P-h / P-s flash
-(:func:`letdown.fluid.flash.threephase.flash_PX_3`).
+(:func:`letdown.fluid.flash.threephase_px.flash_PX_three`).
 """
 from __future__ import annotations
 

@@ -65,10 +65,14 @@ def test_cold_splits_lower_the_gibbs_energy_against_thermo(model):
     found = fl.stability(eos, T, P, zs).unstable & ~fl.stability(eos, T, P, zs, cold=False).unstable
     idx = np.nonzero(found)[0][:12]
     st = fluid.flash(T=T[idx], P=P[idx], zs=zs[idx])
-    assert np.all(st.converged) and np.all(st.n_phases == 2)
+    # two phases, or three (vapour and two liquids, issue 11: one SRK state of this batch)
+    assert np.all(st.converged) and np.all(st.n_phases >= 2)
     for j, k in enumerate(idx):
         b = float(st.vapour_fraction[j])
-        mine = _g_rt(eos, T[k], P[k], [(b, np.asarray(st.ys[j])), (1.0 - b, np.asarray(st.xs[j]))])
+        one = st[int(j)]
+        mine = _g_rt(eos, T[k], P[k], [(b, np.asarray(st.ys[j]))] + (
+            [(p.fraction, p.zs) for p in one.liquid_phases] if one.liquid_phases
+            else [(1.0 - b, np.asarray(st.xs[j]))]))
         single = _g_rt(eos, T[k], P[k], [(1.0, zs[k])])
         assert mine < single - 1e-7               # seen: 2.4e-6 to 6.3e-3 lower
         sub = fluid.with_composition(zs[k])
@@ -88,11 +92,11 @@ def test_cold_trials_agree_on_both_paths(model, monkeypatch):
     eos = FLUIDS[model].engine.eos
     zs, T, P = _cold_batch(model, n_comp=20, per=20)
     a = fl.stability(eos, T, P, zs)
-    sa = fl.flash_PT(eos, T, P, zs)
+    sa = fl.flash_TP(eos, T, P, zs)
     with monkeypatch.context() as m:
         m.setattr(native, "AVAILABLE", False)
         b = fl.stability(eos, T, P, zs)
-        sb = fl.flash_PT(eos, T, P, zs)
+        sb = fl.flash_TP(eos, T, P, zs)
     assert np.array_equal(a.unstable, b.unstable)
     # relative: trials that run away carry tm of order -1e9 (on either path alike)
     assert np.max(np.abs(a.tm - b.tm) / np.maximum(1.0, np.abs(b.tm))) < 1e-10

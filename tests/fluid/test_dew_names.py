@@ -3,7 +3,7 @@
 ``dew_temperature(P)``, ``dew_pressure(T)``, ``bubble_temperature(P)``, ``bubble_pressure(T)``;
 the old ``dew_point``/``bubble_point`` stay as aliases that warn and give the very same numbers.
 The gas is an invented rich gas (the python-api page's example); the reference for the numbers
-themselves is in tests/test_saturation.py (thermo) and tests/test_dew_boundary.py.
+themselves is in tests/fluid/test_saturation.py (thermo) and tests/fluid/test_dew_boundary.py.
 """
 import warnings
 

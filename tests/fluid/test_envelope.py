@@ -30,6 +30,7 @@ import pytest
 from scipy.optimize import brentq, fsolve, minimize_scalar
 
 import letdown
+from letdown.fluid.flash.threestates import VLL_SCREEN_T
 from letdown.errors import InputError, ModelError
 from letdown.fluid.components import R
 from tests.cases import BAR, GULF_COAST, HIGH_CO2, RICH_GAS_C7PLUS
@@ -150,7 +151,15 @@ def test_lines_of_constant_vapour_fraction_agree_with_the_pt_flash(gas):
         far = np.abs(np.log(P / env.critical.P)) > 0.1
         st = fluid.flash(T=T[far], P=P[far])
         assert np.all(st.converged)
-        np.testing.assert_allclose(st.vapour_fraction, beta, rtol=0, atol=LINE_BETA_TOL)
+        # A line of constant vapour fraction is a two-phase construct. Where the flash finds a
+        # second liquid (vapour + two liquids, letdown.fluid.flash.threestates) the line runs
+        # through a three-phase region and is metastable: measured on gulf-coast (beta 0.9,
+        # 114-121 K, about 1 bar) and high-co2 (107-170 K, 1-9 bar), both below the screen's
+        # 230 K. Everywhere else the flash meets the line.
+        three = np.asarray(st.n_phases) == 3
+        assert np.all(T[far][three] < VLL_SCREEN_T)
+        np.testing.assert_allclose(st.vapour_fraction[~three], beta, rtol=0, atol=LINE_BETA_TOL)
+        assert np.count_nonzero(~three) >= 0.5 * np.count_nonzero(far)
 
 
 # ---------------------------------------------------------------------------------------------

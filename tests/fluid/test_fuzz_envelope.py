@@ -98,7 +98,7 @@ def test_nearly_pure_propane_whose_first_newton_fails_starts_from_propane():
     zero): 'phase envelope: the first point at 100000 Pa did not converge (residual 0.0177)'.
     Propane with 166 ppm nitrogen (invented) now starts from
     propane's saturation point (letdown's pure-fluid solver, a different algorithm) and its traced
-    points satisfy the equilibrium equations (evaluated in tests/test_envelope_edges.py)."""
+    points satisfy the equilibrium equations (evaluated in tests/fluid/test_envelope_edges.py)."""
     from letdown.fluid.flash import twophase as fl
     from tests.fluid.test_envelope_edges import FUGACITY_TOL, _residual
     names = ("methane", "propane", "nitrogen", "water", "hydrogen")   # the others at zero

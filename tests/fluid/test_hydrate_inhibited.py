@@ -25,7 +25,7 @@ Sources beside each check:
 
 The check: the vdW-P hydrate temperature with our water activity (a_w = gamma_w x_w, gamma_w at
 the hydrate temperature; ``inhibited_hydrate_T``) against the same vdW-P model run at the
-correlation's a_w. The uninhibited model is checked elsewhere (tests/test_hydrate.py,
+correlation's a_w. The uninhibited model is checked elsewhere (tests/fluid/test_hydrate.py,
 test_hydrate_ice.py), so this isolates the water-activity model at the temperatures where hydrates
 form (245-293 K here), which the freezing-point data behind it (218-272 K) do not reach for
 concentrated solutions. Positive = our temperature is higher (conservative).

@@ -12,7 +12,7 @@ Sources beside each check:
   Chemistry Data Series Vol. I/1, 1977, p. 61), as tabulated in the ChemSep NRTL file distributed
   with the thermo package and evaluated with thermo's own NRTL (test-only reference).
 * Published inhibited hydrate equilibria (methane with methanol or MEG solutions): no experimental
-  point could be verified in this work; tests/test_hydrate_inhibited.py checks against a published
+  point could be verified in this work; tests/fluid/test_hydrate_inhibited.py checks against a published
   correlation of them (Hu, Sa, Lee & Sum 2018) instead (docs/models.md, known limits).
 """
 import json
@@ -109,7 +109,7 @@ def test_meg_hydrate_temperature_against_the_water_activity_of_the_freezing_data
     Melinder's freezing point gives for that solution (237-259 K). Failed before the activity
     model: the ideal a_w = x_w was 1.7 K (30 wt %) and 6.0 K (50 wt %) too warm at 7 MPa. Until the
     MEG temperature term (fitted to the Hu-Lee-Sum correlation's a_w at 253-293 K,
-    tests/test_hydrate_inhibited.py) the two agreed to the fit's miss (-0.06 K, -0.16 K); the term
+    tests/fluid/test_hydrate_inhibited.py) the two agreed to the fit's miss (-0.06 K, -0.16 K); the term
     lets gamma_w rise from the freezing point toward the hydrate temperature (about 270 K at
     7 MPa), as methanol's does (1.25 K above this at 30 wt %). Measured now: +0.22 K (30 wt %),
     +0.62 K (50 wt %): conservative."""

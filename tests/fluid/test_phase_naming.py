@@ -31,7 +31,7 @@ def _both_paths(fluid, T, P):
     saved = native.AVAILABLE
     try:
         native.AVAILABLE = False
-        split = fl.flash_PT(eos, np.asarray(T, float), np.asarray(P, float), zs)
+        split = fl.flash_TP(eos, np.asarray(T, float), np.asarray(P, float), zs)
     finally:
         native.AVAILABLE = saved
     numpy_vf = np.where(split.n_phases == 1, np.where(split.single_is_vapour, 1.0, 0.0), split.beta)

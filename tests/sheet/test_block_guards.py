@@ -319,7 +319,7 @@ def test_separator_with_a_dense_phase_inlet_is_flagged_per_case():
 
 def test_separator_passes_a_dense_gas_above_its_critical_temperature_out_of_the_gas_outlet():
     """The same rich gas at 290 K and 150 bar is a single phase above its estimated critical
-    temperature (240 K; tests/test_phase_naming.py): a gas, which leaves by the vapour outlet with no
+    temperature (240 K; tests/fluid/test_phase_naming.py): a gas, which leaves by the vapour outlet with no
     hazard (before the naming rule of test_phase_naming it went down the liquid outlet)."""
     gas = fluid("rich")
     inlet = feed(gas, 290.0, 150e5, 10.0)
@@ -637,7 +637,7 @@ def test_hot_gas_is_named_vapour_on_both_flash_paths(T):
     saved = native.AVAILABLE
     try:
         native.AVAILABLE = False
-        split = fl.flash_PT(eos, np.array([T]), np.array([41e5]), zs)
+        split = fl.flash_TP(eos, np.array([T]), np.array([41e5]), zs)
     finally:
         native.AVAILABLE = saved
     assert split.n_phases[0] == 1 and split.single_is_vapour[0]

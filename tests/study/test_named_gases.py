@@ -37,7 +37,7 @@ goals:
 
 #: Ideal gross molar calorific values at 15 degC [J/mol], ISO 6976:2016 Table A.4, 15 degC column
 #: (inert components 0), typed in here from the same transcription letdown/fluid/quality.py holds
-#: (tests/test_quality.py checks that against the standard's Annex D examples): a check of the
+#: (tests/fluid/test_quality.py checks that against the standard's Annex D examples): a check of the
 #: flow-from-energy arithmetic, not of the data.
 HS_15C = {"methane": 891.51e3, "ethane": 1562.14e3, "propane": 2221.10e3, "nitrogen": 0.0,
           "carbon-dioxide": 0.0, "oxygen": 0.0, "hydrogen": 286.15e3}

@@ -25,7 +25,7 @@ Three ways to the hydrate temperature depression dT of an aqueous phase holding 
   solutions form hydrate. Without that term the freezing points alone, taken 30 K above them,
   left the hydrate model 1.0-1.3 K below the correlation at 50 wt % MEG (non-conservative); with
   it, -0.49 to +0.08 K at 5-60 wt % and 3-20 MPa, and methanol -0.18 to +1.54 K at 5-40 wt %
-  (tests/test_hydrate_inhibited.py; no experimental inhibited point was available to this work).
+  (tests/fluid/test_hydrate_inhibited.py; no experimental inhibited point was available to this work).
   The data reach 40 wt % methanol and 60 wt % MEG: beyond, gamma_w is held at its value there
   (:data:`ACTIVITY_X_MAX`) and :func:`vdwp_wt_pct` refuses a dose.
 

@@ -177,7 +177,7 @@ def partition(fluid, T, P, zs_dry, water_ratio, inhibitor_ratio, pf=None) -> Par
     -----
     The model's limits for these mixtures (a cubic with van der Waals one-fluid mixing and
     constant kij; docs/models.md, known limits): methanol's vapour pressure and its activity in water
-    are both off (tests/test_inhibitor_loss.py measures them), and methanol-methane and all MEG
+    are both off (tests/sheet/test_inhibitor_loss.py measures them), and methanol-methane and all MEG
     pairs have no published kij here (zero), so the losses are estimates to a factor of about
     two, not design figures.
     """

@@ -3,10 +3,12 @@
 This is the engine behind :class:`letdown.Fluid` for the cubic models. Everything is vectorised over
 cases: T, P, h, s of shape (n,) and compositions of shape (n, nc).
 
-A fluid with water among its components takes one more step: each two-phase answer of a case with
-water is tested for a third phase, and where one is found the state is the three-phase
-equilibrium (:mod:`letdown.fluid.flash.threephase`; P-h and P-s solve T again on it). Other fluids'
-states are exactly the two-phase flash's.
+Some answers take one more step (:mod:`letdown.fluid.flash.threestates`): every answer of a
+case with water, and the cold (or acid-gas-rich) two-phase answers of water-free mixtures, are
+tested for a third phase, and where one is found the state is the three-phase equilibrium
+(:mod:`letdown.fluid.flash.threephase`; P-h and P-s solve T again on it,
+:mod:`letdown.fluid.flash.threephase_px`). Other states are exactly the two-phase flash's. The
+boundary scans (``saturation_T``, ``saturation_P``) are in :mod:`letdown.fluid.flash.boundaryscan`.
 """
 from __future__ import annotations
 
@@ -17,21 +19,11 @@ from ..kernels import native
 from ..components import P_REF, R, ComponentSet
 from ..eos.cubic import CubicEOS
 from ..state import States
+from .steps import (TWO_PHASE_DERIV_TOL, TWO_PHASE_DP_REL, TWO_PHASE_DT,  # noqa: F401
+                    blank_unconverged as _blank_unconverged, take_split as _take)
+from .boundaryscan import BoundaryScan
+from .threestates import ThreePhaseStates
 
-#: Temperature step for the effective two-phase heat capacity and Joule-Thomson coefficient [K];
-#: forward differences with warm-started flashes (truncation error ~1e-4 relative, well inside
-#: what these effective properties are used for).
-TWO_PHASE_DT = 0.01
-#: Pressure step (relative) for the two-phase Joule-Thomson coefficient [-].
-TWO_PHASE_DP_REL = 1e-5
-#: Split tolerance for those neighbouring flashes: h differences of ~0.3 J/mol need ~1e-9 in ln K.
-TWO_PHASE_DERIV_TOL = 1e-10
-#: Grid for locating phase boundaries by the stability test.
-SAT_GRID_POINTS = 48
-#: Lowest temperature searched for dew and bubble points of mixtures [K]: below the triple points
-#: of methane (90.7 K) and nitrogen (63.2 K) a natural gas is solid; the cubic equation still finds
-#: liquid-liquid splits there (near 45 K above a lean gas's cricondenbar), which are not dew points.
-SAT_T_FLOOR = 60.0
 #: P-h/P-s iterations allowed on a trusted single phase before every iterate is stability-tested
 #: (Newton from the ideal-gas guess needs 3-5 in one phase).
 TRUST_ITERATIONS = 8
@@ -46,7 +38,6 @@ PH_RESIDUAL_K = 1e-6
 #: this temperature error [K]; looser than PH_RESIDUAL_K, since its Newton loop stops on the step
 #: (PH_TOL_T), but far below anything a report shows.
 PURE_RESIDUAL_K = 1e-5
-SAT_BISECTIONS = 48
 #: Temperature step of the forward difference that gives the slope on a first two-phase P-h
 #: iterate [K].
 PH_FD_STEP = 1e-3
@@ -86,7 +77,7 @@ def native_solve_constants():
                 ideal_T_steps=IDEAL_T_STEPS, ideal_T_margin=IDEAL_T_MARGIN)
 
 
-class CubicEngine:
+class CubicEngine(ThreePhaseStates, BoundaryScan):
     """Flash calculations for one component set on one cubic EOS.
 
     Parameters
@@ -192,7 +183,7 @@ class CubicEngine:
         T2 = np.concatenate([T + TWO_PHASE_DT, T])
         P2 = np.concatenate([P, P * (1.0 + TWO_PHASE_DP_REL)])
         z2 = np.concatenate([zs, zs])
-        sp = fl.flash_PT(self.eos, T2, P2, z2, K_init=np.concatenate([K, K]),
+        sp = fl.flash_TP(self.eos, T2, P2, z2, K_init=np.concatenate([K, K]),
                          assume=np.full(2 * m, 2), tol=TWO_PHASE_DERIV_TOL)
         h2 = self._h_of_split(T2, P2, z2, sp)
         cp = (h2[:m] - h) / TWO_PHASE_DT
@@ -238,12 +229,12 @@ class CubicEngine:
 
     # ----------------------------------------------------------------- flashes
     def flash_TP(self, T, P, zs, cold=True) -> States:
-        """Isothermal flash of a batch (three-phase where it applies, for a fluid with water);
+        """Isothermal flash of a batch (three-phase where it applies: :mod:`.threestates`);
         ``cold=False`` leaves out the stability test's cold trial phases (fl.stability)."""
         _check_TP(T, P)
-        split = fl.flash_PT(self.eos, T, P, zs, cold=cold)
+        split = fl.flash_TP(self.eos, T, P, zs, cold=cold)
         st = self._assemble(T, P, zs, split)
-        if self._iw is None:
+        if not self._three_phase_needed(st):
             return st
         return self._three_phase_TP(st, split)
 
@@ -257,7 +248,7 @@ class CubicEngine:
 
     def _flash_P_X(self, P, target, zs, which, T_guess):
         st = self._flash_P_X_two(P, target, zs, which, T_guess)
-        if self._iw is None:
+        if not self._three_phase_needed(st):
             return st
         return self._three_phase_PX(st, target, which, T_guess)
 
@@ -338,142 +329,6 @@ class CubicEngine:
         return replace(st, h=h, s=s, Z=Z, density=rho, cp=cp, cv=cv, jt=jt, w=w, vapour=vap,
                        liquid=liq)
 
-    # ----------------------------------------------------------------- three phases (water)
-    def _wet_cases(self, zs):
-        """Cases that take the three-phase test: a mixture holding water."""
-        pure, _ = fl._pure_index(zs)
-        return (zs[:, self._iw] > 0.0) & ~pure
-
-    def _aqueous_of_two(self, st: States):
-        """Aqueous fraction of states from the two-phase flash [-]: the liquid's fraction where
-        water is its largest component, else 0."""
-        aq = np.argmax(st.xs, axis=1) == self._iw
-        beta = st.vapour_fraction
-        with np.errstate(invalid="ignore"):
-            return np.where(aq & (beta < 1.0), 1.0 - beta, 0.0)
-
-    def _three_phase_TP(self, st: States, split: fl.PTSplit) -> States:
-        """The PT states of a fluid with water: each converged two-phase result of a mixture with
-        water is tested for stability (with a free-water trial); where it fails, the state is
-        the three-phase split's (:func:`letdown.fluid.flash.threephase.check_two_phase`)."""
-        from dataclasses import replace
-        from . import threephase
-        st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
-        c = np.flatnonzero(self._wet_cases(st.zs) & split.report.converged)
-        if c.size == 0:
-            return st
-        res, unstable = threephase.check_two_phase(self.eos, st.T[c], st.P[c], st.zs[c],
-                                                   _take(split, c))
-        if not unstable.any():
-            return st
-        u = c[unstable]
-        return st.put(u, self._assemble_three(st.T[u], st.P[u], st.zs[u],
-                                              threephase.take_result(res, unstable)))
-
-    def _three_phase_PX(self, st: States, target, which, T_guess=None) -> States:
-        """The P-h (P-s) states of a fluid with water. The two-phase answer of a mixture with
-        water is tested for stability at its temperature; where it is not stable (or the
-        two-phase solve failed) T is solved again on the three-phase equilibrium
-        (:func:`letdown.fluid.flash.threephase.flash_PX_3`), started from ``T_guess`` where one is
-        given (a block's inlet temperature, a loop's last answer: often the answer itself), else
-        from the two-phase temperature. h(T) of the true equilibrium rises with T, so a stable
-        two-phase answer is the answer. A two-phase answer below
-        :data:`letdown.fluid.flash.threephase.T_FLOOR` is solved again too."""
-        from dataclasses import replace
-        from . import threephase
-        st = replace(st, aqueous_fraction=self._aqueous_of_two(st))
-        wet = self._wet_cases(st.zs)
-        # a two-phase answer below the three-phase solve's floor is not trusted either: water in
-        # the cubic's liquid there (tens of kelvin) is no state of a gas with water, and such an
-        # answer has been seen to meet h on a branch far from the equilibrium (61 K for 343 K)
-        suspect = ~st.converged | (st.T < threephase.T_FLOOR)
-        failed = np.flatnonzero(wet & suspect)
-        c = np.flatnonzero(wet & ~suspect)
-        unstable_idx = np.zeros(0, dtype=int)
-        start = None
-        if c.size:
-            m = c.size
-            sp = fl.PTSplit(st.vapour_fraction[c], st.xs[c], st.ys[c], st.n_phases[c],
-                            st.vapour_fraction[c] >= 1.0,
-                            fl.SolveReport(np.ones(m, dtype=bool), np.zeros(m, int), np.zeros(m)))
-            res, unstable = threephase.check_two_phase(self.eos, st.T[c], st.P[c], st.zs[c], sp)
-            unstable_idx = c[unstable]
-            start = threephase.take_result(res, unstable)
-        if failed.size:
-            s = np.concatenate([unstable_idx, failed])
-            start = None
-        else:
-            s = unstable_idx
-        if s.size == 0:
-            return st
-        T_start = st.T[s]
-        if T_guess is not None:
-            guess = T_guess[s]
-            T_start = np.where(np.isfinite(guess), guess, T_start)
-            start = None
-        px = threephase.flash_PX_3(self, st.P[s], target[s], st.zs[s], which, T_start, start)
-        return st.put(s, self._assemble_three(px.T, st.P[s], st.zs[s], px.flash,
-                                              px.report.converged))
-
-    def _assemble_three(self, T, P, zs, res, extra_conv=None) -> States:
-        """States of a three-phase flash result: the whole from the phases present (h, s and
-        volume mole-weighted), the vapour, and the hydrocarbon and aqueous liquids lumped as the
-        liquid (composition and h, s mole-weighted, volumes added). Heat capacity and
-        Joule-Thomson coefficient of several phases by forward differences (steps
-        TWO_PHASE_DT, TWO_PHASE_DP_REL) along the equilibrium; of a single phase, analytic."""
-        from .threephase import enthalpy_near, phase_properties
-        n = T.shape[0]
-        props = phase_properties(self, T, P, zs, res)
-        bV, bL, bW = res.beta_V, res.beta_L, res.beta_W
-        whole = props["whole"]
-        M = zs @ self.comps.Ms
-        nan = np.full(n, np.nan)
-        fields = ("Z", "density", "h", "s", "molar_mass")
-        has_v = bV > 0.0
-        vap = {k: np.where(has_v, props["vapour"][k], nan) for k in fields}
-        b_liq = bL + bW
-        has_l = b_liq > 0.0
-        wl = np.where(has_l, bL / np.where(has_l, b_liq, 1.0), 0.0)   # hydrocarbon share
-        pl, pw = props["liquid"], props["aqueous"]
-        lump = {k: wl * pl[k] + (1.0 - wl) * pw[k] for k in ("h", "s", "v", "molar_mass")}
-        lump["Z"] = P * lump["v"] / (R * T)
-        lump["density"] = lump["molar_mass"] / lump["v"]
-        liq = {k: np.where(has_l, lump[k], nan) for k in fields}
-        ys = np.where(has_v[:, None], res.y, zs)
-        x_l = np.where((bL > 0.0)[:, None], res.x, 0.0)
-        x_w = np.where((bW > 0.0)[:, None], res.w, 0.0)
-        with np.errstate(invalid="ignore", divide="ignore"):
-            xs = np.where(has_l[:, None], (bL[:, None] * x_l + bW[:, None] * x_w)
-                          / np.where(has_l, b_liq, 1.0)[:, None], zs)
-        v = whole["v"]
-        conv = res.report.converged.copy()
-        if extra_conv is not None:
-            conv &= extra_conv
-        cp = nan.copy()
-        cv = nan.copy()
-        jt = nan.copy()
-        w = nan.copy()
-        many = np.flatnonzero(conv & (res.n_phases >= 2))
-        if many.size:
-            r = _take3(res, many)
-            m = many.size
-            T2 = np.concatenate([T[many] + TWO_PHASE_DT, T[many]])
-            P2 = np.concatenate([P[many], P[many] * (1.0 + TWO_PHASE_DP_REL)])
-            z2 = np.concatenate([zs[many], zs[many]])
-            h2 = enthalpy_near(self, T2, P2, z2, _concat3(r, r), TWO_PHASE_DERIV_TOL)
-            cp[many] = (h2[:m] - whole["h"][many]) / TWO_PHASE_DT
-            jt[many] = -(h2[m:] - whole["h"][many]) / (TWO_PHASE_DP_REL * P[many]) / cp[many]
-        one = np.flatnonzero(conv & (res.n_phases == 1))
-        if one.size:
-            A = self._phase(T[one], P[one], zs[one], 0)
-            cp[one], cv[one], jt[one], w[one] = A["cp"], A["cv"], A["jt"], A["w"]
-        st = States(T=T.copy(), P=P.copy(), h=whole["h"].copy(), s=whole["s"].copy(),
-                    Z=P * v / (R * T), cp=cp, cv=cv, jt=jt, w=w, density=M / v, molar_mass=M,
-                    vapour_fraction=bV.copy(), zs=zs.copy(), ys=ys, xs=xs,
-                    n_phases=res.n_phases.copy(), converged=conv, vapour=vap, liquid=liq,
-                    components=self.comps.names, model=self.model, aqueous_fraction=bW.copy())
-        return _blank_unconverged(st)
-
     def _solve_T_mixture(self, P, target, zs, which, T_guess):
         """Safeguarded Newton on T for h(T, P) = target or s(T, P) = target.
 
@@ -520,7 +375,7 @@ class CubicEngine:
             Ti, Pi, zi = T[i], P[i], zs[i]
             check = conv[i]                      # converged on trust: this pass verifies
             a = np.where(check, 0, assume[i])
-            sp = _flash_PT_mixed_tol(eos, Ti, Pi, zi, K[i], a, loose[i])
+            sp = _flash_TP_mixed_tol(eos, Ti, Pi, zi, K[i], a, loose[i])
             two = sp.n_phases == 2
             beta[i], xs[i], ys[i], nph[i] = sp.beta, sp.xs, sp.ys, sp.n_phases
             K[i] = np.where(two[:, None], _k_values(sp.ys, sp.xs), K[i])
@@ -562,7 +417,7 @@ class CubicEngine:
             if need_fd.any():
                 j = np.nonzero(need_fd)[0]
                 dT = PH_FD_STEP
-                sp2 = fl.flash_PT(eos, Ti[j] + dT, Pi[j], zi[j], K_init=K[i[j]],
+                sp2 = fl.flash_TP(eos, Ti[j] + dT, Pi[j], zi[j], K_init=K[i[j]],
                                   assume=np.full(j.size, 2), tol=LOOSE_TOL)
                 h2, s2, _ = self._hs_of_split(Ti[j] + dT, Pi[j], zi[j], sp2)
                 secant[j] = ((h2 if which == "h" else s2) - target[i[j]] - f[j]) / dT
@@ -612,7 +467,7 @@ class CubicEngine:
         c = np.nonzero(ok & (split.n_phases == 2) & (T < fl.COLD_TRIAL_T))[0]
         if c.size == 0:
             return ok
-        sp = fl.flash_PT(self.eos, T[c], P[c], zs[c])
+        sp = fl.flash_TP(self.eos, T[c], P[c], zs[c])
         same = (sp.report.converged & (sp.n_phases == 2)
                 & (np.abs(sp.beta - split.beta[c]) < VERIFY_SPLIT_TOL)
                 & (np.max(np.abs(sp.xs - split.xs[c]), axis=1) < VERIFY_SPLIT_TOL)
@@ -636,7 +491,7 @@ class CubicEngine:
 
         def f(Tx, idx):
             i = bad[idx]
-            sp = fl.flash_PT(eos, Tx, P[i], zs[i])
+            sp = fl.flash_TP(eos, Tx, P[i], zs[i])
             h, s, _ = self._hs_of_split(Tx, P[i], zs[i], sp)
             return np.where(sp.report.converged, (h if which == "h" else s) - target[i], np.nan)
 
@@ -659,7 +514,7 @@ class CubicEngine:
             return T, ok, split
         i = bad[j[good]]
         Tn = rep.x[good]
-        sp = fl.flash_PT(eos, Tn, P[i], zs[i])
+        sp = fl.flash_TP(eos, Tn, P[i], zs[i])
         T = T.copy()
         T[i] = Tn
         ok = ok.copy()
@@ -747,95 +602,15 @@ class CubicEngine:
             beta[i[sc]] = np.where(Ti[sc] > self.comps.Tcs[ip[i[sc]]], 1.0, 0.0)
         return T, beta, conv
 
-    # ----------------------------------------------------------------- saturation
-    def saturation_T(self, P, zs, kind):
-        """Dew ('dew': highest T with a second phase) or bubble ('bubble': lowest T) temperature."""
-        return self._boundary(P, zs, kind, axis="T")
 
-    def saturation_P(self, T, zs, kind):
-        """Dew ('dew': lowest P with a second phase) or upper ('bubble': highest P) boundary."""
-        return self._boundary(T, zs, kind, axis="P")
-
-    def _unstable(self, T, P, zs):
-        pure, ip = fl._pure_index(zs)
-        res = np.zeros(T.shape, dtype=bool)
-        if (~pure).any():
-            i = np.nonzero(~pure)[0]
-            st = fl.stability(self.eos, T[i], P[i], zs[i], early_exit=True, cold=False)
-            res[i] = st.unstable
-        return res
-
-    def _boundary(self, fixed, zs, kind, axis):
-        n = fixed.shape[0]
-        pure, ip = fl._pure_index(zs)
-        out = np.full(n, np.nan)
-        if pure.any():
-            i = np.nonzero(pure)[0]
-            if axis == "T":
-                out[i] = fl.pure_saturation_T(self.eos, fixed[i], ip[i])
-            else:
-                out[i] = fl.pure_saturation_P(self.eos, fixed[i], ip[i])[0]
-        m = np.nonzero(~pure)[0]
-        if m.size == 0:
-            return out
-        Tcs = self.comps.Tcs
-        if axis == "T":
-            lo_v = np.maximum(0.3 * np.min(np.where(zs[m] > 0, Tcs, np.inf), axis=1), SAT_T_FLOOR)
-            hi_v = np.full(m.size, 1.6 * np.max(np.where(zs[m] > 0, Tcs, -np.inf), axis=1))
-            grid = np.linspace(0.0, 1.0, SAT_GRID_POINTS)[None, :] * (hi_v - lo_v)[:, None] + lo_v[:, None]
-        else:
-            grid = np.exp(np.linspace(np.log(1e4), np.log(5e7), SAT_GRID_POINTS))[None, :].repeat(m.size, 0)
-        G = grid.size // m.size
-        fx = np.repeat(fixed[m], G)
-        gv = grid.ravel()
-        zz = np.repeat(zs[m], G, axis=0)
-        if axis == "T":
-            uns = self._unstable(gv, fx, zz).reshape(m.size, G)
-        else:
-            uns = self._unstable(fx, gv, zz).reshape(m.size, G)
-        upper = (kind == "dew") if axis == "T" else (kind == "bubble")
-        a = np.full(m.size, np.nan)
-        b = np.full(m.size, np.nan)
-        for r in range(m.size):
-            u = np.nonzero(uns[r])[0]
-            if u.size == 0:
-                continue
-            # the two-phase run that reaches highest on the grid: the dew curve at the top in T
-            # (the bubble curve at the top in P); its lower end is the other boundary, and a run
-            # that reaches the end of the grid has no boundary there
-            top = u[-1]
-            if upper:
-                if top + 1 < G:
-                    a[r], b[r] = grid[r, top], grid[r, top + 1]     # a unstable, b stable
-            else:
-                stable_below = np.nonzero(~uns[r, :top])[0]
-                if stable_below.size:
-                    k = stable_below[-1] + 1
-                    a[r], b[r] = grid[r, k], grid[r, k - 1]
-        ok = np.isfinite(a)
-        for _ in range(SAT_BISECTIONS):
-            if not ok.any():
-                break
-            mid = 0.5 * (a + b) if axis == "T" else np.sqrt(a * b)
-            j = np.nonzero(ok)[0]
-            if axis == "T":
-                u = self._unstable(mid[j], fixed[m[j]], zs[m[j]])
-            else:
-                u = self._unstable(fixed[m[j]], mid[j], zs[m[j]])
-            a[j] = np.where(u, mid[j], a[j])
-            b[j] = np.where(u, b[j], mid[j])
-        out[m] = np.where(ok, 0.5 * (a + b) if axis == "T" else np.sqrt(a * b), np.nan)
-        return out
-
-
-def _flash_PT_mixed_tol(eos, T, P, zs, K, assume, loose):
-    """flash_PT on a batch where some cases take the loose split tolerance, the rest the full one."""
+def _flash_TP_mixed_tol(eos, T, P, zs, K, assume, loose):
+    """flash_TP on a batch where some cases take the loose split tolerance, the rest the full one."""
     if loose.all() or not loose.any():
         tol = LOOSE_TOL if loose.all() else fl.LN_TOL
-        return fl.flash_PT(eos, T, P, zs, K_init=K, assume=assume, tol=tol)
+        return fl.flash_TP(eos, T, P, zs, K_init=K, assume=assume, tol=tol)
     parts = []
     for m, tol in ((loose, LOOSE_TOL), (~loose, fl.LN_TOL)):
-        parts.append((m, fl.flash_PT(eos, T[m], P[m], zs[m], K_init=K[m], assume=assume[m],
+        parts.append((m, fl.flash_TP(eos, T[m], P[m], zs[m], K_init=K[m], assume=assume[m],
                                      tol=tol)))
     n = T.shape[0]
     beta = np.empty(n)
@@ -858,30 +633,6 @@ def _k_values(ys, xs):
         return np.where((xs > 0) & (ys > 0), ys / np.where(xs > 0, xs, 1.0), 1.0)
 
 
-def _take(sp: fl.PTSplit, m) -> fl.PTSplit:
-    r = sp.report
-    return fl.PTSplit(sp.beta[m], sp.xs[m], sp.ys[m], sp.n_phases[m], sp.single_is_vapour[m],
-                      fl.SolveReport(r.converged[m], r.iterations[m], r.residual[m], r.message))
-
-
-def _take3(res, idx):
-    from .threephase import take_result
-    return take_result(res, idx)
-
-
-def _concat3(a, b):
-    """Two three-phase results as one batch (a's cases first)."""
-    from .threephase import ThreePhaseResult
-    ra, rb = a.report, b.report
-    cat = np.concatenate
-    return ThreePhaseResult(cat([a.beta_V, b.beta_V]), cat([a.beta_L, b.beta_L]),
-                            cat([a.beta_W, b.beta_W]), cat([a.y, b.y]), cat([a.x, b.x]),
-                            cat([a.w, b.w]), cat([a.n_phases, b.n_phases]),
-                            fl.SolveReport(cat([ra.converged, rb.converged]),
-                                           cat([ra.iterations, rb.iterations]),
-                                           cat([ra.residual, rb.residual]), ra.message))
-
-
 def _bisect(lo, hi, T, f):
     """Bisection inside the bracket; where one side is still the global bound, step by 20 %."""
     open_lo = lo <= fl.T_LOW
@@ -898,16 +649,3 @@ def _check_TP(T, P):
         raise InputError(f"temperature must be a positive number of kelvin (got {T[~(T > 0)][:3]})")
     if not (np.isfinite(P).all() and (P > 0).all()):
         raise InputError(f"pressure must be positive (got {P[~(P > 0)][:3]} Pa)")
-
-
-def _blank_unconverged(st: States) -> States:
-    if st.converged.all():
-        return st
-    bad = ~st.converged
-    from dataclasses import replace
-    upd = {}
-    for k in ("h", "s", "Z", "cp", "cv", "jt", "w", "density", "vapour_fraction"):
-        a = getattr(st, k).copy()
-        a[bad] = np.nan
-        upd[k] = a
-    return replace(st, **upd)

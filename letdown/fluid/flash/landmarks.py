@@ -302,7 +302,7 @@ def _start(engine, system: EnvelopeSystem, P0: float):
             return None, None, f"no two-phase range found at {P0:g} Pa"
 
         def split(T):
-            return fl.flash_PT(eos, np.array([T]), P, z1, cold=False)
+            return fl.flash_TP(eos, np.array([T]), P, z1, cold=False)
 
         def f(T):
             return float(split(T).beta[0]) - beta

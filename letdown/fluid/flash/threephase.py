@@ -2,7 +2,7 @@
 
 Sequence, per case of a batch:
 
-1. The two-phase flash :func:`letdown.fluid.flash.twophase.flash_PT` (stability test and split).
+1. The two-phase flash :func:`letdown.fluid.flash.twophase.flash_TP` (stability test and split).
 2. A tangent-plane stability test (Michelsen, Fluid Phase Equilib. 9 (1982) 1) of every phase of
    that result, with the trials of :func:`letdown.fluid.flash.twophase.stability` plus a nearly-pure-water
    trial (water 1, every other component 1e-6 of its fraction in the tested phase), which finds a
@@ -22,8 +22,9 @@ Sequence, per case of a batch:
    phase fraction that ends negative removes that phase and the remaining pair is split by
    :func:`letdown.fluid.flash.twophase.two_phase_flash`.
 
-:func:`check_two_phase` runs steps 2-3 on a two-phase result already at hand (``Fluid.flash``
-of a fluid with water does so on every case with water). :func:`flash_PX_3` solves the
+:func:`retest_two_phase` runs steps 2-3 on a two-phase result already at hand (``Fluid.flash``
+of a fluid with water does so on every case with water, and on every cold two-phase answer of a
+water-free mixture: :mod:`letdown.fluid.flash.threestates`). :func:`letdown.fluid.flash.threephase_px.flash_PX_three` solves the
 temperature at which the three-phase equilibrium has a given enthalpy or entropy (P-h, P-s; the
 bracketed root finder of :mod:`letdown.numerics.rootfind`), for ``Fluid.flash`` and the separator.
 
@@ -49,15 +50,17 @@ Temperatures [K], pressures [Pa], compositions mole fractions; cases on axis 0.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
-
 import numpy as np
 
 from ..components import R
 from ..eos.cubic import CubicEOS
-from .twophase import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, SolveReport, _gdem, flash_PT,
-                       is_vapour_like, stability, two_phase_flash, wilson_K)
-from ...numerics.rootfind import bracketed_root
+# the result type, its sub-batches and the phase properties live in threephase_result (issue 12:
+# module size); their names stay importable from here
+from .threephase_result import (PHASES, ThreePhaseResult, aqueous_third,  # noqa: F401
+                               concat_results, phase_properties, take_result)
+from .twophase import (ACCELERATE_EVERY, K_CLIP, TM_UNSTABLE, PTSplit, SolveReport, _gdem,
+                       _gibbs_split, flash_TP, is_vapour_like, stability, two_phase_flash,
+                       wilson_K)
 
 #: Converged when the largest difference of ln f_i between phases is below this [-].
 FUG_TOL = 1e-9
@@ -71,31 +74,6 @@ RR_BOUNDARY_FRACTION = 0.9
 WATER_TRIAL_TRACE = 1e-6
 STAB_MAX_ITER = 200
 STAB_TOL = 1e-11
-
-
-@dataclass(frozen=True)
-class ThreePhaseResult:
-    """Phase fractions and compositions of a three-phase PT flash.
-
-    Attributes
-    ----------
-    beta_V, beta_L, beta_W : ndarray (n,)
-        Mole fractions of vapour, hydrocarbon liquid and aqueous liquid [-] (0 where absent).
-    y, x, w : ndarray (n, nc)
-        Compositions of vapour, hydrocarbon liquid, aqueous liquid [-] (NaN where absent).
-    n_phases : ndarray of int (n,)
-    report : SolveReport
-        Convergence per case; residual = largest ln-fugacity difference between present phases.
-    """
-
-    beta_V: np.ndarray
-    beta_L: np.ndarray
-    beta_W: np.ndarray
-    y: np.ndarray
-    x: np.ndarray
-    w: np.ndarray
-    n_phases: np.ndarray
-    report: SolveReport
 
 
 # ------------------------------------------------------------------------------------------------
@@ -273,7 +251,10 @@ def _split3(eos, T, P, zs, X0, tol=FUG_TOL, beta0=None):
                                             beta[left], tol)
         lnK[left], beta[left], X[left], conv[left], resid[left] = lk, b, Xn, ok, res
         iters[left] += nit
-    betas = np.concatenate([(1.0 - beta.sum(axis=1))[:, None], beta], axis=1)
+    # a lost case (fractions +-inf: a binary has no three-phase split off its three-phase line)
+    # gives NaN here quietly; it is marked unconverged
+    with np.errstate(invalid="ignore"):
+        betas = np.concatenate([(1.0 - beta.sum(axis=1))[:, None], beta], axis=1)
     return betas, X, conv, iters, resid
 
 
@@ -361,7 +342,7 @@ def _mass_density(eos, T, P, xs):
 
 
 # ------------------------------------------------------------------------------------------------
-def flash_PT_3(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
+def flash_TP_three(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
     """Vapour / hydrocarbon liquid / aqueous liquid PT flash of a batch.
 
     Parameters
@@ -379,10 +360,10 @@ def flash_PT_3(eos: CubicEOS, T, P, zs, split=None) -> ThreePhaseResult:
     -------
     ThreePhaseResult
     """
-    return check_two_phase(eos, T, P, zs, split)[0]
+    return retest_two_phase(eos, T, P, zs, split)[0]
 
 
-def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
+def retest_two_phase(eos: CubicEOS, T, P, zs, split=None, _depth=0):
     """Stability test of a two-phase result and, where it fails, the three-phase split.
 
     Steps 2 and 3 of the module's sequence on the two-phase flash ``split`` of the cases (step 1
@@ -412,7 +393,7 @@ def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
     n, nc = zs.shape
     names = list(eos.comps.names)
     iw = names.index("water") if "water" in names else None
-    sp = flash_PT(eos, T, P, zs) if split is None else split
+    sp = flash_TP(eos, T, P, zs) if split is None else split
     # phases of the two-phase result: (n, 2, nc), betas (n, 2); a single phase sits in slot 0
     X = np.stack([sp.ys, sp.xs], axis=1)
     B = np.stack([sp.beta, 1.0 - sp.beta], axis=1)
@@ -469,6 +450,23 @@ def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
             X0[~two & ~np.isin(u, s1[ok])] = np.stack(
                 [zs[s1], w_best[s1], w_best[s1]], axis=1)[~ok]
         betas, X3, ok3, it3, res3 = _split3(eos, T[u], P[u], zs[u], X0)
+        # a split that failed from the two phases as reference: once more with the trial phase
+        # as the reference and the two phases near their fractions (a fuzz find: a wet lean gas
+        # on SRK at 201.6 K, 50 bar, vapour + free water with a methane-butane liquid trial at
+        # tm -0.11, NaN from the first start, 0.924 / 0.071 / 0.0047 from this one)
+        # A "converged" split with fractions far outside [0, 1] is degenerate (two of its phases
+        # alike, the Rachford-Rice singular: seen at +-7e27 on the compiled path for that gas):
+        # a failure, not a phase to drop.
+        ok3 &= _sane_fractions(betas)
+        again = np.flatnonzero(~ok3 & two)
+        if again.size:
+            r = u[again]
+            X0b = np.stack([w_best[r], X[r, 0], X[r, 1]], axis=1)
+            b2, X2, ok2, it2, res2 = _split3(eos, T[r], P[r], zs[r], X0b,
+                                             beta0=RETRY_BETA_SCALE * B[r, :2])
+            betas[again], X3[again], ok3[again], res3[again] = b2, X2, ok2, res2
+            ok3[again] &= _sane_fractions(b2)
+            it3[again] += it2
         iters[u] += it3
         all_pos = ok3 & np.all(betas > 0.0, axis=1)
         a = u[all_pos]
@@ -491,13 +489,110 @@ def check_two_phase(eos: CubicEOS, T, P, zs, split=None):
             B[g] = np.stack([tp.beta[good], 1.0 - tp.beta[good], 0.0 * tp.beta[good]], axis=1)
             nph[g] = 2
             conv[dd[~good]] = False
+            # the pair left is an answer only if stable itself (it can be the very split found
+            # unstable): retested, and unconverged where the retests run out
+            if g.size and _depth < RESPLIT_DEPTH:
+                m_ = g.size
+                sp_g = PTSplit(tp.beta[good], tp.xs[good], tp.ys[good], np.full(m_, 2),
+                               tp.beta[good] >= 1.0,
+                               SolveReport(np.ones(m_, dtype=bool), np.zeros(m_, int),
+                                           np.zeros(m_)))
+                res_g, _ = retest_two_phase(eos, T[g], P[g], zs[g], sp_g, _depth=_depth + 1)
+                X[g] = np.stack([res_g.y, res_g.x, res_g.w], axis=1)
+                B[g] = np.stack([res_g.beta_V, res_g.beta_L, res_g.beta_W], axis=1)
+                nph[g] = res_g.n_phases
+                conv[g] = res_g.report.converged
+            elif g.size:
+                conv[g] = False
         conv[u[~ok3]] = False
         resid[u[~ok3]] = res3[~ok3]
+        # no three-phase split and no pair from it (a binary, where three phases exist only on
+        # a line of (T, P), or a split that does not converge): the other two-phase splits
+        # with the trial phase, the one of lowest Gibbs energy retested in turn
+        lost = u[~conv[u]]
+        if lost.size and _depth < RESPLIT_DEPTH:
+            _resplit_pairs(eos, T, P, zs, X, B, nph, conv, iters, resid, lost, w_best,
+                           single, _depth)
     else:
         X = np.concatenate([X, np.zeros((n, 1, nc))], axis=1)
         B = np.concatenate([B, np.zeros((n, 1))], axis=1)
     return _name_phases(eos, T, P, zs, X, B, nph, iw, SolveReport(
         conv, iters, resid, "three-phase PT flash")), unstable | untested
+
+
+#: The second start of a failed three-phase split takes the two phases found at this share of
+#: their fractions (the trial phase the rest) [-].
+RETRY_BETA_SCALE = 0.9
+#: A three-phase split whose phase fractions leave [-DEGENERATE_BETA, 1 + DEGENERATE_BETA] is
+#: degenerate (two phases alike), not converged [-].
+DEGENERATE_BETA = 10.0
+
+
+def _sane_fractions(betas):
+    """Cases (n,) whose phase fractions (n, 3) are finite and not far outside [0, 1]."""
+    with np.errstate(invalid="ignore"):
+        return np.all(np.isfinite(betas) & (betas > -DEGENERATE_BETA)
+                      & (betas < 1.0 + DEGENERATE_BETA), axis=1)
+
+
+#: Retests of a two-phase split found by :func:`_resplit_pairs` (each may find another).
+RESPLIT_DEPTH = 2
+
+
+def _resplit_pairs(eos, T, P, zs, X, B, nph, conv, iters, resid, lost, w_best, single, depth):
+    """Cases ``lost`` of :func:`retest_two_phase` (an unstable answer with no three-phase split):
+    two-phase splits of the feed from K = trial / phase for each phase of the answer (the
+    trial phase replacing it), the converged one of lowest Gibbs energy, lower than the
+    answer's, retested by :func:`retest_two_phase` (to ``RESPLIT_DEPTH``); X, B, nph, conv,
+    iters and resid updated in place (the cases stay unconverged where nothing is found)."""
+    m = lost.size
+    Tl, Pl, zl, wl = T[lost], P[lost], zs[lost], w_best[lost]
+    best_g = np.full(m, np.inf)
+    best = None
+    # the answer's Gibbs energy: each phase present on its stable root
+    g0 = np.zeros(m)
+    for k in range(2):
+        b = B[lost, k]
+        xk = np.where((b > 0.0)[:, None], X[lost, k], zl)
+        lnph, _ = eos.lnphi(Tl, Pl, xk, "stable")
+        with np.errstate(divide="ignore", invalid="ignore"):
+            gk = np.sum(np.where(xk > 0, xk * (np.log(xk) + lnph), 0.0), axis=1)
+        g0 += np.where(b > 0.0, b * gk, 0.0)
+    for k in range(2):
+        ref = np.where(single[lost][:, None] | (B[lost, k] <= 0.0)[:, None], zl, X[lost, k])
+        with np.errstate(divide="ignore", invalid="ignore"):
+            K = np.where(zl > 0, wl / ref, 1.0)
+        K = np.where(np.isfinite(K), K, 1.0)
+        tp = two_phase_flash(eos, Tl, Pl, zl, np.clip(K, *K_CLIP))
+        ok = tp.report.converged & (tp.beta > 0) & (tp.beta < 1) \
+            & (np.sum((tp.xs - tp.ys) ** 2, axis=1) > TRIVIAL_SPLIT)
+        g = np.where(ok, _gibbs_split(eos, Tl, Pl, tp), np.inf)
+        take = g < best_g
+        best_g = np.where(take, g, best_g)
+        if best is None:
+            best = [tp.beta.copy(), tp.xs.copy(), tp.ys.copy()]
+        else:
+            best[0] = np.where(take, tp.beta, best[0])
+            best[1] = np.where(take[:, None], tp.xs, best[1])
+            best[2] = np.where(take[:, None], tp.ys, best[2])
+    found = np.isfinite(best_g) & (best_g < g0 - GIBBS_LOWER)
+    if not found.any():
+        return
+    f = np.flatnonzero(found)
+    i = lost[f]
+    sp = PTSplit(best[0][f], best[1][f], best[2][f], np.full(f.size, 2), best[0][f] >= 1.0,
+                 SolveReport(np.ones(f.size, dtype=bool), np.zeros(f.size, int), np.zeros(f.size)))
+    res, _ = retest_two_phase(eos, T[i], P[i], zs[i], sp, _depth=depth + 1)
+    X[i] = np.stack([res.y, res.x, res.w], axis=1)
+    B[i] = np.stack([res.beta_V, res.beta_L, res.beta_W], axis=1)
+    nph[i] = res.n_phases
+    conv[i] = res.report.converged
+    iters[i] += res.report.iterations
+    resid[i] = res.report.residual
+
+
+#: A split found by :func:`_resplit_pairs` must lower G/RT by more than this [-].
+GIBBS_LOWER = 1e-10
 
 
 def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
@@ -554,355 +649,7 @@ def _name_phases(eos, T, P, zs, X, B, nph, iw, report):
                             out_x[:, 2], nph, report)
 
 
-# ------------------------------------------------------------------------------------------------
-# ------------------------------------------------------------------------------------------------
-#: The phases of a :class:`ThreePhaseResult`, in its order, with their fraction and composition
-#: attributes.
-PHASES = (("vapour", "beta_V", "y"), ("liquid", "beta_L", "x"), ("aqueous", "beta_W", "w"))
-
-
-def phase_properties(engine, T, P, zs, res: ThreePhaseResult) -> dict:
-    """Properties of each phase of a three-phase PT flash, and of the whole.
-
-    Each phase's properties are the engine's single-phase ones at its composition (stable root):
-    h = sum_i x_i h0_i(T) + h_res (ideal-gas part plus the cubic's residual part, as
-    :class:`letdown.fluid.flash.engine.CubicEngine` builds every state); the whole is the sum over
-    the phases present weighted by their fractions (h, s, molar volume v).
-
-    Parameters
-    ----------
-    engine : letdown.fluid.flash.engine.CubicEngine
-    T, P : ndarray (n,)
-        [K], [Pa].
-    zs : ndarray (n, nc)
-        Feed compositions [-].
-    res : ThreePhaseResult
-        The flash of (T, P, zs).
-
-    Returns
-    -------
-    dict
-        ``"vapour"``, ``"liquid"``, ``"aqueous"``: dicts of ndarrays (n,) ``h`` [J/mol], ``s``
-        [J/(mol K)], ``Z`` [-], ``density`` [kg/m3], ``molar_mass`` [kg/mol], ``v`` [m3/mol]
-        (those of the feed where the phase is absent), plus ``"whole"``: ``h``, ``s``, ``v``.
-    """
-    T = np.asarray(T, dtype=float)
-    P = np.asarray(P, dtype=float)
-    zs = np.asarray(zs, dtype=float)
-    out = {}
-    whole = {k: np.zeros(T.shape[0]) for k in ("h", "s", "v")}
-    for name, beta_attr, x_attr in PHASES:
-        beta = getattr(res, beta_attr)
-        present = beta > 0.0
-        xs = np.where(present[:, None], getattr(res, x_attr), zs)
-        props = engine._phase(T, P, xs, 0)
-        out[name] = {k: np.asarray(props[k], dtype=float)
-                     for k in ("h", "s", "Z", "density", "molar_mass", "v")}
-        for k in whole:
-            whole[k] = whole[k] + np.where(present, beta * out[name][k], 0.0)
-    out["whole"] = whole
-    return out
-
-
-# ------------------------------------------------------------------------------------------------
-# P-h and P-s on the three-phase equilibrium
-#: The enthalpy target is met to this [J/mol]: a temperature error of at most 1e-6 K (the
-#: two-phase P-h flash's ``cubic_fluid.PH_RESIDUAL_K``) wherever the heat capacity exceeds
-#: 10 J/(mol K); the entropy target to this over T [J/(mol K)]. The enthalpy of splits converged
-#: to FUG_TOL scatters by about 1e-7 J/mol (measured on the wet gases of tests/fluid/test_flash_water.py),
-#: 100 times below.
-PX_H_TOL = 1e-5
-#: Half-width of the first temperature step from the starting temperature [K]: the third phase
-#: shifts the temperature of gas with a little water by a few kelvin to about 15 K (measured on the
-#: LTS sheet of tests/equipment/test_separator_water.py: 12 K).
-BRACKET_STEP = 2.0
-#: Steps taken before a case is given up (at least doubling: 2 K * 2^8 = 512 K).
-BRACKET_GROWTHS = 9
-#: Lowest and highest temperatures the bracket may reach [K] (common practice: a gas with free
-#: water lies far inside).
-T_FLOOR, T_CEILING = 100.0, 700.0
-#: Regula falsi evaluations per case (each a batch three-phase flash); Illinois converges in 10-20.
-PX_MAX_ITERATIONS = 60
-#: Starting temperature where none is given [K].
-T_DEFAULT = 280.0
-
-
-@dataclass(frozen=True)
-class ThreePhasePX:
-    """Outcome of :func:`flash_PX_3`.
-
-    Attributes
-    ----------
-    T : ndarray (n,)
-        Temperature [K] (the last iterate where a case did not converge).
-    flash : ThreePhaseResult
-        The three-phase PT flash at ``T``.
-    report : SolveReport
-        ``converged`` (a bracket found, the target met and the flash at T converged),
-        ``iterations`` (three-phase flashes spent on the case), ``residual`` (target minus value,
-        [J/mol] or [J/(mol K)]).
-    """
-
-    T: np.ndarray
-    flash: ThreePhaseResult
-    report: SolveReport
-
-
-def take_result(res: ThreePhaseResult, idx) -> ThreePhaseResult:
-    """The cases ``idx`` (indices or mask) of a three-phase result."""
-    r = res.report
-    return ThreePhaseResult(res.beta_V[idx], res.beta_L[idx], res.beta_W[idx], res.y[idx],
-                            res.x[idx], res.w[idx], res.n_phases[idx],
-                            SolveReport(r.converged[idx], r.iterations[idx], r.residual[idx],
-                                        r.message))
-
-
-class _ResultStore:
-    """Per-case three-phase results, the last one computed for each case, with its temperature."""
-
-    def __init__(self, n, nc):
-        self.T = np.full(n, np.nan)
-        self.b = np.zeros((n, 3))
-        self.X = np.full((n, 3, nc), np.nan)
-        self.nph = np.zeros(n, dtype=int)
-        self.conv = np.zeros(n, dtype=bool)
-        self.iters = np.zeros(n, dtype=int)
-        self.resid = np.zeros(n)
-
-    def put(self, idx, T, res: ThreePhaseResult):
-        self.T[idx] = T
-        self.b[idx] = np.stack([res.beta_V, res.beta_L, res.beta_W], axis=1)
-        self.X[idx] = np.stack([res.y, res.x, res.w], axis=1)
-        self.nph[idx] = res.n_phases
-        self.conv[idx] = res.report.converged
-        self.iters[idx] = res.report.iterations
-        self.resid[idx] = res.report.residual
-
-    def result(self) -> ThreePhaseResult:
-        return ThreePhaseResult(self.b[:, 0].copy(), self.b[:, 1].copy(), self.b[:, 2].copy(),
-                                self.X[:, 0].copy(), self.X[:, 1].copy(), self.X[:, 2].copy(),
-                                self.nph.copy(), SolveReport(self.conv.copy(), self.iters.copy(),
-                                                             self.resid.copy(),
-                                                             "three-phase PT flash"))
-
-
-def flash_PX_3(engine, P, target, zs, which="h", T_start=None, start=None) -> ThreePhasePX:
-    """Temperature at which the three-phase equilibrium has the given enthalpy (or entropy).
-
-    Solves, per case, at the pressure P
-
-        h(T) = sum_phases beta_k h_k(T) = h_target     (or the same with s)
-
-    over the equilibrium of :func:`flash_PT_3` (three phases where they exist, otherwise two or
-    one), whose h(T) rises with T at fixed P. A first evaluation at ``T_start``; a case already
-    within the tolerance ends there. Otherwise the bracket is grown from ``T_start`` in the
-    direction the residual's sign gives (a first step of :data:`BRACKET_STEP`, then the secant
-    through the last two points overshot by :data:`BRACKET_OVERSHOOT`, never less than the step
-    before; at most :data:`BRACKET_GROWTHS` steps inside [:data:`T_FLOOR`, :data:`T_CEILING`]) and
-    closed by the bracketed root finder (Illinois regula falsi,
-    :func:`letdown.numerics.rootfind.bracketed_root`).
-
-    Iterates next to a three-phase state start their split from its phases (a few substitution
-    steps instead of the stability tests); one that loses a phase or does not converge is flashed
-    in full. The answer is then checked by the full :func:`flash_PT_3` at its temperature (so it
-    is exactly the P-T state there); a case whose full flash misses the target is solved again
-    with full flashes throughout. The adiabatic three-phase separator and the P-h / P-s flashes of
-    :class:`letdown.fluid.flash.engine.CubicEngine` for fluids with water both use this routine.
-
-    Parameters
-    ----------
-    engine : letdown.fluid.flash.engine.CubicEngine
-    P : ndarray (n,)
-        Pressure [Pa].
-    target : ndarray (n,)
-        Enthalpy [J/mol] (``which="h"``) or entropy [J/(mol K)] (``which="s"``).
-    zs : ndarray (n, nc)
-        Feed compositions [-].
-    which : {"h", "s"}
-    T_start : ndarray (n,), optional
-        Starting temperature [K] (NaN or None: :data:`T_DEFAULT`).
-    start : ThreePhaseResult, optional
-        The three-phase flash at ``T_start`` if already done (saves one flash).
-
-    Returns
-    -------
-    ThreePhasePX
-    """
-    P = np.asarray(P, dtype=float)
-    target = np.asarray(target, dtype=float)
-    zs = np.asarray(zs, dtype=float)
-    n, nc = zs.shape
-    T0 = np.full(n, T_DEFAULT) if T_start is None else np.asarray(T_start, dtype=float)
-    T0 = np.clip(np.where(np.isfinite(T0), T0, T_DEFAULT), T_FLOOR, T_CEILING)
-    ftol = np.full(n, PX_H_TOL) if which == "h" else PX_H_TOL / T0
-    T, ok, resid, flashes, store, full = _px_solve(engine, P, target, zs, which, T0, start,
-                                                    ftol, True)
-    # the answer by the full flash where a warm-started split (or an earlier bracket end) led
-    # to it; elsewhere the last flash of the case was the full one at T
-    w = np.flatnonzero(~full)
-    if w.size:
-        res_w = flash_PT_3(engine.eos, T[w], P[w], zs[w])
-        flashes[w] += 1
-        value = phase_properties(engine, T[w], P[w], zs[w], res_w)["whole"][which]
-        fw = value - target[w]
-        store.put(w, T[w], res_w)
-        resid[w] = np.where(ok[w], fw, resid[w])
-        miss = ok[w] & (np.abs(fw) > ftol[w])
-        if miss.any():
-            # the warm-started path was not the equilibrium: full flashes throughout
-            m = w[miss]
-            Tm, okm, rm, fm, sm, _ = _px_solve(engine, P[m], target[m], zs[m], which, T0[m],
-                                               None, ftol[m], False)
-            T[m], ok[m], resid[m] = Tm, okm, rm
-            flashes[m] += fm
-            store.put(m, Tm, sm.result())
-    res = store.result()
-    ok &= res.report.converged
-    return ThreePhasePX(T, res, SolveReport(ok, flashes, resid, f"three-phase P-{which} flash"))
-
-
-#: Bracket growth after the first step: the secant's distance to the root times this [-] (with
-#: a little margin) so that the next point lands past the root; common practice for a monotone
-#: function whose slope changes slowly.
-BRACKET_OVERSHOOT = 1.25
 #: Phases of a warm-started three-phase split closer than this (sum of squared differences of
 #: mole fractions) are one phase: the split is trivial and the case is flashed in full (as
 #: letdown.fluid.flash.twophase.TRIVIAL_DIST).
 TRIVIAL_SPLIT = 1e-7
-
-
-def _px_solve(engine, P, target, zs, which, T0, start, ftol, warm):
-    """The bracket and root of :func:`flash_PX_3` (``warm``: iterates start from the phases of
-    the case's last three-phase state). Returns T, converged, residual, flashes per case, the
-    store of the last flash of each case, and whether that flash is a full one at T."""
-    eos = engine.eos
-    n, nc = zs.shape
-    store = _ResultStore(n, nc)
-    flashes = np.zeros(n, dtype=int)
-    was_warm = np.zeros(n, dtype=bool)
-
-    def flash(T, idx):
-        if not warm:
-            return flash_PT_3(eos, T, P[idx], zs[idx]), np.zeros(idx.size, dtype=bool)
-        near = np.flatnonzero((store.nph[idx] == 3) & store.conv[idx])
-        out = _ResultStore(idx.size, nc)
-        good = np.zeros(idx.size, dtype=bool)
-        if near.size:
-            j = idx[near]
-            betas, X, conv, iters, resid = _split3(eos, T[near], P[j], zs[j], store.X[j],
-                                                   beta0=store.b[j, 1:])
-            distinct = np.ones(near.size, dtype=bool)
-            for a_, b_ in ((0, 1), (0, 2), (1, 2)):
-                distinct &= np.sum((X[:, a_] - X[:, b_]) ** 2, axis=1) > TRIVIAL_SPLIT
-            g = conv & np.all(betas > 0.0, axis=1) & distinct
-            if g.any():
-                out.put(near[g], T[near[g]], ThreePhaseResult(
-                    betas[g, 0], betas[g, 1], betas[g, 2], X[g, 0], X[g, 1], X[g, 2],
-                    np.full(int(g.sum()), 3), SolveReport(conv[g], iters[g], resid[g])))
-                good[near[g]] = True
-        rest = np.flatnonzero(~good)
-        if rest.size:
-            out.put(rest, T[rest], flash_PT_3(eos, T[rest], P[idx[rest]], zs[idx[rest]]))
-        return out.result(), good
-
-    def f(T, idx, res=None):
-        w = np.zeros(idx.size, dtype=bool)
-        if res is None:
-            res, w = flash(T, idx)
-        store.put(idx, T, res)
-        was_warm[idx] = w
-        flashes[idx] += 1
-        value = phase_properties(engine, T, P[idx], zs[idx], res)["whole"][which]
-        return value - target[idx]
-
-    f0 = f(T0, np.arange(n), start)
-    lo, hi = T0.copy(), T0.copy()
-    f_lo, f_hi = f0.copy(), f0.copy()
-    # grow the bracket on the side the residual points to: h below target -> root above
-    up = f0 < -ftol
-    down = f0 > ftol
-    step = np.full(n, BRACKET_STEP)
-    for k in range(BRACKET_GROWTHS):
-        go_up = np.flatnonzero(up & (f_hi < 0.0) & (hi < T_CEILING))
-        go_down = np.flatnonzero(down & (f_lo > 0.0) & (lo > T_FLOOR))
-        if go_up.size == 0 and go_down.size == 0:
-            break
-        for i, sign in ((go_up, 1.0), (go_down, -1.0)):
-            if i.size == 0:
-                continue
-            if k > 0:
-                with np.errstate(divide="ignore", invalid="ignore"):
-                    far, f_far = (hi[i], f_hi[i]) if sign > 0 else (lo[i], f_lo[i])
-                    near, f_near = (lo[i], f_lo[i]) if sign > 0 else (hi[i], f_hi[i])
-                    ds = -f_far * (far - near) / (f_far - f_near) * sign
-                secant = np.isfinite(ds) & (ds > 0.0)
-                step[i] = np.where(secant, np.maximum(BRACKET_OVERSHOOT * ds + 0.05 * step[i],
-                                                      step[i]), 2.0 * step[i])
-            if sign > 0:
-                lo[i], f_lo[i] = hi[i], f_hi[i]
-                hi[i] = np.minimum(lo[i] + step[i], T_CEILING)
-                f_hi[i] = f(hi[i], i)
-            else:
-                hi[i], f_hi[i] = lo[i], f_lo[i]
-                lo[i] = np.maximum(hi[i] - step[i], T_FLOOR)
-                f_lo[i] = f(lo[i], i)
-    T = T0.copy()
-    resid = f0.copy()
-    ok = ~(up | down)
-    b = np.flatnonzero((up | down) & (f_lo <= 0.0) & (f_hi >= 0.0))
-    if b.size:
-        root = bracketed_root(lambda x, idx: f(x, b[idx]), lo[b], hi[b], f_lo[b], f_hi[b],
-                              ftol=ftol[b], max_iterations=PX_MAX_ITERATIONS)
-        T[b] = root.x
-        resid[b] = root.fx
-        ok[b] = root.converged
-    # the answer may be a bracket end evaluated before the last flash of its case
-    return T, ok, resid, flashes, store, ~was_warm & (store.T == T)
-
-
-def enthalpy_near(engine, T, P, zs, near: ThreePhaseResult, tol=FUG_TOL):
-    """Equilibrium enthalpy [J/mol] at (T, P) close to the state of a known three-phase result.
-
-    Where ``near`` has three phases, the three-phase split is started from its compositions (a few
-    substitution steps) and kept if it converges to ``tol`` with every phase present; elsewhere,
-    and where that fails, the full :func:`flash_PT_3`. For the effective heat capacity and
-    Joule-Thomson coefficient of multiphase states by finite differences.
-
-    Parameters
-    ----------
-    engine : letdown.fluid.flash.engine.CubicEngine
-    T, P : ndarray (n,)
-        [K], [Pa].
-    zs : ndarray (n, nc)
-        Feed compositions [-].
-    near : ThreePhaseResult
-        The flash of the same feeds at a nearby (T, P).
-    tol : float
-        Convergence of the warm-started split on ln f [-].
-
-    Returns
-    -------
-    ndarray (n,)
-    """
-    n = T.shape[0]
-    h = np.empty(n)
-    done = np.zeros(n, dtype=bool)
-    i = np.flatnonzero(near.n_phases == 3)
-    if i.size:
-        X0 = np.stack([near.y[i], near.x[i], near.w[i]], axis=1)
-        betas, X, conv, iters, resid = _split3(
-            engine.eos, T[i], P[i], zs[i], X0, tol,
-            beta0=np.stack([near.beta_L[i], near.beta_W[i]], axis=1))
-        good = conv & np.all(betas > 0.0, axis=1)
-        g = i[good]
-        if g.size:
-            r = ThreePhaseResult(betas[good, 0], betas[good, 1], betas[good, 2], X[good, 0],
-                                 X[good, 1], X[good, 2], np.full(g.size, 3),
-                                 SolveReport(conv[good], iters[good], resid[good], ""))
-            h[g] = phase_properties(engine, T[g], P[g], zs[g], r)["whole"]["h"]
-            done[g] = True
-    rest = np.flatnonzero(~done)
-    if rest.size:
-        r = flash_PT_3(engine.eos, T[rest], P[rest], zs[rest])
-        h[rest] = phase_properties(engine, T[rest], P[rest], zs[rest], r)["whole"]["h"]
-    return h

@@ -10,7 +10,7 @@
  *   lf_split_finish the final negative-flash Rachford-Rice, phase compositions and stable-root Z of
  *                   both phases (the end of flash.two_phase_flash)
  *   lf_properties   CubicEOS.properties (residual and derivative properties of one phase)
- *   lf_flash_pt     the whole of flash.flash_PT for mixtures (phase naming by the phase
+ *   lf_flash_pt     the whole of flash.flash_TP for mixtures (phase naming by the phase
  *                   identification parameter, warm start and re-test, stability, split with its
  *                   Newton finish, Gibbs-energy acceptance, phases named by molar volume)
  *   lf_hs_of_split  CubicEngine._hs_of_split (ideal-gas h0, s0, cp0 plus residual parts)
@@ -808,7 +808,7 @@ static double phase_id(const eos_t *e, double T, double P, const double *x, doub
     return v * (P_Tv / P_T - P_vv / P_v);
 }
 
-/* ---------------------------------------------------------------- the P-T flash (flash.flash_PT) */
+/* ---------------------------------------------------------------- the P-T flash (flash.flash_TP) */
 /* Constants of flash.py, in this order (native.py builds the block) */
 enum {
     FP_LN_TOL, FP_TRIVIAL_DIST, FP_ST_MAX_ITER, FP_EARLY_TM, FP_SS_MAX_ITER, FP_ACCEL_EVERY,
@@ -982,7 +982,7 @@ typedef struct {
     int nph, conv, iters;
 } pt_t;
 
-/* converge() and store() of flash.flash_PT for one case: converge from K (work copy), accept by
+/* converge() and store() of flash.flash_TP for one case: converge from K (work copy), accept by
  * the Gibbs energy (G/RT of the split to *g_out), store an accepted split into x, y, r (the
  * iterations are added to r in any case). work: 20 nc + nc^2 */
 static void split_case(const eos_t *e, const double *fc, double T, double P, const double *z,
@@ -1032,7 +1032,7 @@ static void split_case(const eos_t *e, const double *fc, double T, double P, con
 
 #define PT_WORK(nc) ((32 + ST_NT) * (size_t)(nc) + (size_t)(nc) * (nc))
 
-/* flash.flash_PT for one case (mixtures; a pure component is left with x = y = z, one phase,
+/* flash.flash_TP for one case (mixtures; a pure component is left with x = y = z, one phase,
  * beta NaN, for the caller to name). Kin may be NULL. work: PT_WORK(nc) */
 static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, const double *z,
                           const double *Kin, int assume, double tol, double *x, double *y, pt_t *r,
@@ -1150,7 +1150,7 @@ static void flash_pt_case(const eos_t *e, const double *fc, double T, double P, 
     }
 }
 
-/* flash.flash_PT over n cases; Kin (n x nc) and assume (n) may be NULL; tol per case. */
+/* flash.flash_TP over n cases; Kin (n x nc) and assume (n) may be NULL; tol per case. */
 LF_EXPORT int lf_flash_pt(int n, int nc, const double *par, const double *fc, const double *T,
                           const double *P, const double *zs, const double *Kin, const int *assume,
                           const double *tol, double *beta, double *xs, double *ys, int *nph,

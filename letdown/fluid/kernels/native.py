@@ -13,13 +13,13 @@ for, case by case, with the constants passed in from :mod:`letdown.fluid.flash.t
   :func:`letdown.fluid.flash.twophase.two_phase_flash`;
 * :func:`split_finish` -- its final Rachford-Rice solve, phase compositions and phase Z;
 * :func:`properties` -- :meth:`CubicEOS.properties <letdown.fluid.eos.cubic.CubicEOS.properties>`;
-* :func:`flash_pt` -- the whole :func:`letdown.fluid.flash.twophase.flash_PT` for mixtures;
+* :func:`flash_pt` -- the whole :func:`letdown.fluid.flash.twophase.flash_TP` for mixtures;
 * :func:`hs_of_split` and :func:`phase` -- the ideal-gas plus residual properties of
   :class:`letdown.fluid.flash.engine.CubicEngine` (``_hs_of_split``, ``_phase``);
 * :func:`solve_T` -- the P-h / P-s temperature iteration ``CubicEngine._solve_T_mixture``;
 * :func:`assemble` -- the numbers of ``CubicEngine._assemble``.
 
-:meth:`CubicEOS.lnphi` and :meth:`CubicEOS.properties`, :func:`letdown.fluid.flash.twophase.flash_PT` and
+:meth:`CubicEOS.lnphi` and :meth:`CubicEOS.properties`, :func:`letdown.fluid.flash.twophase.flash_TP` and
 the engine's P-h / P-s iteration dispatch here when ``AVAILABLE``.
 
 ``AVAILABLE`` is False (and every caller keeps to numpy) when the compiled module is missing, when
@@ -373,7 +373,7 @@ def _ideal_gas_pack(comps):
 
 
 def flash_pt(eos, T, P, zs, K_init, assume, tol, constants):
-    """The P-T flash of :func:`letdown.fluid.flash.twophase.flash_PT` for every mixture of a batch
+    """The P-T flash of :func:`letdown.fluid.flash.twophase.flash_TP` for every mixture of a batch
     (pure components come back as one phase with vapour fraction NaN, for the caller to name).
 
     Parameters
