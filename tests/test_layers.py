@@ -164,4 +164,27 @@ def test_the_constants_leaf_imports_nothing():
 
 def test_the_numerics_leaf_imports_nothing_of_letdown():
     g = import_graph()
-    assert not [(a, b) for a, b in g.edges if a.startswith("letdown.numerics")]
+    assert not [(a, b) for a, b in g.edges
+                if a.startswith("letdown.numerics") and not b.startswith("letdown.numerics")]
+
+
+def test_every_solver_report_is_the_one_report_type():
+    """Issue 12: one result type. The root finder's, the envelope tracer's and the flashes' reports
+    are all :class:`letdown.numerics.report.SolveReport` (with their extra fields), so any report
+    reads through converged, iterations, residual, message and status."""
+    import numpy as np
+
+    from letdown.fluid.flash import twophase
+    from letdown.fluid.flash.continuation import TraceReport, trace_report
+    from letdown.numerics.report import SolveReport
+    from letdown.numerics.rootfind import RootReport, bracketed_root
+
+    assert twophase.SolveReport is SolveReport
+    assert issubclass(RootReport, SolveReport) and issubclass(TraceReport, SolveReport)
+    root = bracketed_root(lambda x, idx: x - 2.0, np.array([0.0]), np.array([5.0]),
+                          np.array([-2.0]), np.array([3.0]), ftol=1e-12, max_iterations=60)
+    assert isinstance(root, SolveReport) and root.all_converged and root.status == "converged"
+    assert abs(root.x[0] - 2.0) < 1e-12
+    rep = trace_report(True, "complete", "dew branch", 12, 1e-11, 40)
+    assert isinstance(rep, SolveReport) and rep.all_converged and rep.n_points == 40
+    assert "1/1 converged" in repr(rep)

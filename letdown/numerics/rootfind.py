@@ -15,14 +15,17 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from .report import SolveReport
+
 #: Bracket width below which a case stops, relative to the bracket it started with: a few
 #: hundred units of double rounding (common practice) -- narrower brackets carry no information.
 XTOL_RELATIVE = 1e-13
 
 
-@dataclass(frozen=True)
-class RootReport:
-    """Outcome of :func:`bracketed_root` (arrays over cases).
+@dataclass(frozen=True, kw_only=True, repr=False)
+class RootReport(SolveReport):
+    """Outcome of :func:`bracketed_root` (arrays over cases): the fields of every letdown solver's
+    :class:`letdown.numerics.report.SolveReport` and the root.
 
     Attributes
     ----------
@@ -42,13 +45,8 @@ class RootReport:
         Largest ``|fx|`` over the cases.
     """
 
-    x: np.ndarray
-    fx: np.ndarray
-    converged: np.ndarray
-    iterations: np.ndarray
-    status: str
-    message: str
-    residual: float
+    x: np.ndarray = None
+    fx: np.ndarray = None
 
 
 def bracketed_root(f, lo, hi, f_lo, f_hi, *, ftol, max_iterations: int) -> RootReport:

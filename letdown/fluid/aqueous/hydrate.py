@@ -69,7 +69,7 @@ import numpy as np
 
 from ...errors import ConvergenceError, InputError
 from ...constants import R, STANDARD_ATMOSPHERE, ZERO_CELSIUS
-from ..flash.twophase import SolveReport
+from ...numerics.report import SolveReport
 from .correlations import PSI, hydrate_T_correlation  # noqa: F401  (re-exported: the gas-gravity room)
 
 T0 = ZERO_CELSIUS      # reference temperature of the empty-lattice properties [K] (Munck 1988)

@@ -53,7 +53,7 @@ import numpy as np
 from ...constants import ZERO_CELSIUS
 from ...errors import ConvergenceError, InputError
 from ..components import COMPONENTS
-from ..flash.twophase import SolveReport
+from ...numerics.report import SolveReport
 from ...numerics.rootfind import bracketed_root
 
 

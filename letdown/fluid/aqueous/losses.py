@@ -26,7 +26,7 @@ import numpy as np
 
 from ...errors import ConvergenceError
 from ...numerics.rootfind import bracketed_root
-from ..flash.twophase import SolveReport
+from ...numerics.report import SolveReport
 from .inhibitor import INHIBITORS, M_WATER_G, _out, _wt, inhibitor, water_activity_coefficient
 
 #: Components the partition flash adds to the gas: water and both inhibitors (in this order).

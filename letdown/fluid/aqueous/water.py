@@ -39,7 +39,7 @@ from ...constants import (CUBIC_FOOT, POUND, PSI, STANDARD_P, STANDARD_T,  # noq
                           ZERO_CELSIUS)
 from ...errors import ConvergenceError, InputError
 from ..components import COMPONENTS, R
-from ..flash.twophase import SolveReport
+from ...numerics.report import SolveReport
 
 M_WATER = COMPONENTS["water"].M   # [kg/mol]
 #: Moles of ideal gas in one standard cubic metre (15 degC, 101.325 kPa, ISO 13443) [mol/Sm3]

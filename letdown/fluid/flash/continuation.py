@@ -21,6 +21,7 @@ import numpy as np
 from scipy.optimize import brentq
 
 from ...errors import ConvergenceError
+from ...numerics.report import SolveReport
 from . import twophase as fl
 from ..eos.cubic import CubicEOS
 
@@ -76,9 +77,10 @@ TRIVIAL_LNK = 1e-6
 
 
 # ------------------------------------------------------------------------------------------------
-@dataclass(frozen=True)
-class TraceReport:
-    """Outcome of one continuation (the same fields as every letdown solver's report).
+@dataclass(frozen=True, kw_only=True, repr=False)
+class TraceReport(SolveReport):
+    """Outcome of one continuation: the fields of every letdown solver's
+    :class:`letdown.numerics.report.SolveReport` (scalars here) and the points traced.
 
     Attributes
     ----------
@@ -96,12 +98,13 @@ class TraceReport:
     n_points : int
     """
 
-    converged: bool
-    status: str
-    message: str
-    iterations: int
-    residual: float
-    n_points: int
+    n_points: int = 0
+
+
+def trace_report(converged, status, message, iterations, residual, n_points) -> TraceReport:
+    """A :class:`TraceReport` from its fields in the order the tracer knows them."""
+    return TraceReport(converged=converged, iterations=iterations, residual=residual,
+                       message=message, status=status, n_points=n_points)
 
 
 class EnvelopeSystem:

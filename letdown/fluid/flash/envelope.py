@@ -71,7 +71,7 @@ from .continuation import (  # noqa: F401  (public names of the tracer, importab
     MAX_PREDICTION_MISS, MAX_STEP_LNK, MAX_STEP_LNP, MAX_STEP_LNT, MIN_T, NEWTON_F_NOISE,
     NEWTON_F_TOL, NEWTON_MAX_CORRECTION, NEWTON_MAX_ITER, NEWTON_STEP_TOL, START_P, STEP_FIRST,
     STEP_GROW, STEP_MAX, STEP_MIN, STEP_SHRINK, TRIVIAL_LNK, EnvelopeSystem, TraceReport, _Trace,
-    trace)
+    trace, trace_report)
 from .landmarks import (  # noqa: F401
     CRIT_NODES, EXTREMUM_XTOL, NEARLY_PURE, NEARLY_PURE_BRACKET_K, NEARLY_PURE_SS_ITER,
     _extremum, _locate_critical, _start)
@@ -205,8 +205,8 @@ def _curve(Xs, nc) -> Curve:
 
 def _report(tr: _Trace | None, message: str, status: str | None = None) -> TraceReport:
     if tr is None:
-        return TraceReport(False, status or "not started", message, 0, np.nan, 0)
-    return TraceReport(tr.converged, tr.status, message, tr.iterations, tr.residual, len(tr.X))
+        return trace_report(False, status or "not started", message, 0, np.nan, 0)
+    return trace_report(tr.converged, tr.status, message, tr.iterations, tr.residual, len(tr.X))
 
 
 def _sub_engine(engine, present):
@@ -327,7 +327,7 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
             # liquid that dissolves a supercritical component (hydrogen, helium) needs ever higher
             # pressure; the trace stops at the limit and says so
             open_top = True
-            reports["envelope"] = TraceReport(
+            reports["envelope"] = trace_report(
                 True, f"open: past the critical point the bubble branch still rises at the pressure "
                 f"limit {MAX_P:g} Pa (no upper turn: a supercritical component such as hydrogen "
                 f"dissolving in the liquid)", reports["envelope"].message, tr.iterations,
@@ -340,7 +340,7 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
     else:
         # no critical point on the way (the trace ended at a limit or failed): the bubble branch
         # from its own low-pressure end
-        reports["critical"] = TraceReport(
+        reports["critical"] = trace_report(
             False, "none: the dew branch " + (
                 f"rises to the pressure limit {MAX_P:g} Pa without a critical point (a component "
                 f"that forms a second liquid, such as water, or a supercritical one)" if at_limit
@@ -397,7 +397,7 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
             best = None
         extrema[which] = None if best is None else EnvelopePoint(
             float(np.exp(best[nc])), float(np.exp(best[nc + 1])), np.exp(best[:nc]))
-        reports[name] = TraceReport(best is not None, status,
+        reports[name] = trace_report(best is not None, status,
                                     f"{name}: extremum on the curve by Brent's method", 0,
                                     0.0 if best is not None else np.nan, 1 if best is not None else 0)
     lines = {}
@@ -433,7 +433,7 @@ def phase_envelope(engine, zs, betas=(), P_start: float = START_P) -> Envelope:
         reports[key] = _report(ltr, f"line of vapour fraction {b:g} (and {1 - b:g} past the "
                                     f"critical point){started}")
         if ltr.crossing is None:
-            reports[key] = TraceReport(False, "no critical point reached: " + ltr.status,
+            reports[key] = trace_report(False, "no critical point reached: " + ltr.status,
                                        reports[key].message, ltr.iterations, ltr.residual,
                                        len(ltr.X))
             lines[b] = _curve(ltr.X, nc)

@@ -18,7 +18,7 @@ from scipy.optimize import brentq
 
 from ...errors import ConvergenceError
 from . import twophase as fl
-from .continuation import EnvelopeSystem, TraceReport, _Trace, _hermite, _root, _unit
+from .continuation import EnvelopeSystem, TraceReport, _Trace, trace_report, _hermite, _root, _unit
 
 #: ln K values of the extra points either side of the critical point used to locate it [-].
 CRIT_NODES = np.array([0.05, 0.1, 0.15, 0.2])
@@ -52,11 +52,11 @@ def _locate_critical(system: EnvelopeSystem, tr: _Trace):
     lnT, lnP = _critical_from(tr, system.nc)
     refined = _refine_critical(system, tr)
     if refined is None:
-        return lnT, lnP, TraceReport(True, "interpolated", "critical point: cubic Hermite in arc "
+        return lnT, lnP, trace_report(True, "interpolated", "critical point: cubic Hermite in arc "
                                      "length between the two traced points around it", 0,
                                      np.nan, 2)
     lnT2, lnP2, spread = refined
-    return lnT2, lnP2, TraceReport(
+    return lnT2, lnP2, trace_report(
         True, "fitted", f"critical point: polynomial in ln K through points at ln K = "
         f"+-{', '.join(f'{u:g}' for u in CRIT_NODES)} (differs from the Hermite estimate by "
         f"{abs(np.exp(lnT2) - np.exp(lnT)):.2g} K, {abs(np.exp(lnP2) - np.exp(lnP)):.2g} Pa)",

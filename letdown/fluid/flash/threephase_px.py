@@ -13,7 +13,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .twophase import SolveReport
+from ...numerics.report import SolveReport
 from .threephase import (FUG_TOL, TRIVIAL_SPLIT, ThreePhaseResult, _split3, flash_TP_three,
                          phase_properties)
 from ...numerics.rootfind import bracketed_root

@@ -9,7 +9,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .twophase import SolveReport
+from ...numerics.report import SolveReport
 
 
 @dataclass(frozen=True)

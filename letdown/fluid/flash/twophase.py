@@ -34,6 +34,7 @@ import numpy as np
 from ..kernels import native
 from ..components import COLD_TRIAL_COMPONENTS, R, cold_trial_flags  # noqa: F401 (re-exported)
 from ..components import critical_temperature_estimate
+from ...numerics.report import SolveReport
 from ..eos.cubic import CubicEOS, phase_identification
 # the stability test and pure-component saturation live in their own modules (issue 12: module
 # size); their names stay importable from here, as the rest of the code uses them
@@ -98,35 +99,6 @@ PHASE_ID_LIQUID = 1.0
 #: NGL) keeps its liquid name.
 VAPOUR_ABOVE_TC = 1.0
 
-
-
-@dataclass(frozen=True)
-class SolveReport:
-    """Outcome of an iterative solve, the same fields for every solver in letdown.
-
-    Attributes
-    ----------
-    converged : ndarray of bool (n,)
-    iterations : ndarray of int (n,)
-    residual : ndarray (n,)
-        Final residual in the solver's own measure.
-    message : str
-    """
-
-    converged: np.ndarray
-    iterations: np.ndarray
-    residual: np.ndarray
-    message: str = ""
-
-    @property
-    def all_converged(self) -> bool:
-        return bool(np.all(self.converged))
-
-    def __repr__(self):
-        n = len(self.converged)
-        return (f"SolveReport({int(self.converged.sum())}/{n} converged, "
-                f"max iterations {int(self.iterations.max(initial=0))}, "
-                f"max residual {float(np.nanmax(self.residual, initial=0.0)):.3g}; {self.message})")
 
 
 # ------------------------------------------------------------------------------------------------
