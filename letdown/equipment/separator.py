@@ -63,7 +63,7 @@ from . import watersplit
 from .common import TINY_FLOW, finish, outlet_pressure, pseudo_critical
 from .stream import StreamBatch
 
-#: Phase properties the fluid's batch ``States`` gives per phase (``States.vapour``/``.liquid``).
+#: Phase properties the fluid's batch ``StateBatch`` gives per phase (``StateBatch.vapour``/``.liquid``).
 PHASE_FIELDS = ("h", "s", "Z", "density", "molar_mass")
 #: The three-phase drum is flagged when its temperature differs from the P-h flash of its inlet
 #: (``Fluid.flash``) by more than this [K]. Both are the three-phase equilibrium now (the same

@@ -31,7 +31,7 @@ from ..fluid.aqueous.inhibitor import INHIBITORS
 #: The inhibitors a :class:`Carry` holds, in the column order of its inhibitor arrays.
 INHIBITOR_NAMES = tuple(INHIBITORS)
 
-#: Properties copied from the fluid's batch ``States`` into a stream (all SI, molar).
+#: Properties copied from the fluid's batch ``StateBatch`` into a stream (all SI, molar).
 STATE_FIELDS = ("T", "P", "h", "s", "Z", "density", "molar_mass", "vapour_fraction")
 
 
@@ -200,7 +200,7 @@ class StreamBatch:
 
         Parameters
         ----------
-        states : letdown.fluid States
+        states : letdown.fluid StateBatch
             Result of a batch ``Fluid.flash`` (attributes of shape (n,) and (n, nc)).
         flow : array_like (n,) or float
             Molar flow [mol/s].

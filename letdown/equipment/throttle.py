@@ -84,7 +84,7 @@ def run(fluid, name: str, inlets, params):
     if rating is None:
         out = flash_stream(fluid, inlet.flow, inlet.zs, P=P_out, h=inlet.h)
     else:
-        # the outlet's own States are kept: the rating needs its speed of sound
+        # the outlet's own states are kept: the rating needs its speed of sound
         out_states = fluid.flash(zs=np.asarray(inlet.zs), P=P_out, h=np.asarray(inlet.h))
         out = StreamBatch.from_states(out_states, inlet.flow)
     lo, hi = TWO_PHASE_BOUNDS
@@ -225,7 +225,7 @@ def rate(v, inlet, in_states, out, out_states):
         The ``valve`` mapping (checked by :func:`valve_problem`).
     inlet, out : StreamBatch
         The throttle's inlet and outlet.
-    in_states, out_states : States
+    in_states, out_states : StateBatch
         Their flashed states (for the speed of sound).
 
     Returns

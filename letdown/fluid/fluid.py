@@ -207,7 +207,7 @@ class Fluid:
         """Equilibrium state from any two of T [K], P [Pa], h [J/mol], s [J/(mol K)].
 
         Scalars give a :class:`State`; arrays of shape (n,) (or ``zs`` of shape (n, nc)) give a
-        :class:`States` batch computed in one vectorised pass.
+        :class:`StateBatch` batch computed in one vectorised pass.
 
         On the cubic models, a fluid with water among its components gets the three-phase
         equilibrium where it applies (vapour, hydrocarbon liquid, aqueous liquid; see

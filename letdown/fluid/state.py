@@ -1,7 +1,7 @@
-"""Thermodynamic states as immutable values: one :class:`State`, or a batch :class:`States`.
+"""Thermodynamic states as immutable values: one :class:`State`, or a batch :class:`StateBatch`.
 
 A state is named by the pair that fixed it (T and P, P and h, P and s); every property carries its
-unit in the docstring. Batches hold arrays over cases (axis 0); ``States[i]`` is a :class:`State`.
+unit in the docstring. Batches hold arrays over cases (axis 0); ``StateBatch[i]`` is a :class:`State`.
 """
 from __future__ import annotations
 
@@ -51,7 +51,7 @@ _PER_PHASE = ("Z", "density", "h", "s", "molar_mass")
 
 
 @dataclass(frozen=True)
-class States:
+class StateBatch:
     """A batch of equilibrium states (arrays over cases, axis 0).
 
     Attributes
@@ -191,7 +191,7 @@ class States:
         :attr:`viscosity`)."""
         return self._whole(1)
 
-    def take(self, idx) -> "States":
+    def take(self, idx) -> "StateBatch":
         """A sub-batch of the cases ``idx`` (indices, slice or boolean mask)."""
         out = {}
         for f in fields(self):
@@ -202,9 +202,9 @@ class States:
                 out[f.name] = {k: a[idx] for k, a in v.items()}
             else:
                 out[f.name] = v
-        return States(**out)
+        return StateBatch(**out)
 
-    def put(self, idx, other: "States") -> "States":
+    def put(self, idx, other: "StateBatch") -> "StateBatch":
         """A new batch: these states with the cases ``idx`` (indices) replaced by ``other``'s.
 
         An optional field (``K``, ``aqueous_fraction``, ``two_liquids``) that only one of the two
@@ -236,7 +236,7 @@ class States:
                 out[f.name] = a
             else:
                 out[f.name] = v
-        return States(**out)
+        return StateBatch(**out)
 
 
 def empty_two_liquids(n: int, nc: int) -> dict:
@@ -252,10 +252,10 @@ def empty_two_liquids(n: int, nc: int) -> dict:
 
 @dataclass(frozen=True)
 class State:
-    """One equilibrium state; attributes as in :class:`States` but scalar.
+    """One equilibrium state; attributes as in :class:`StateBatch` but scalar.
 
     ``phases`` holds one :class:`Phase` per phase present, vapour first; a hydrocarbon liquid
-    beside an aqueous one is one lumped ``liquid`` phase there (as in :class:`States`), and
+    beside an aqueous one is one lumped ``liquid`` phase there (as in :class:`StateBatch`), and
     ``n_phases`` counts them apart. ``aqueous_fraction`` is the aqueous liquid's molar fraction
     [-] (0 where there is none or the fluid has no water). Where the liquid is two hydrocarbon
     liquids (vapour-liquid-liquid), ``phases`` holds their lump as ``liquid`` and

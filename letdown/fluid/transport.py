@@ -251,7 +251,7 @@ def homogeneous_viscosity(mu_vapour, mu_liquid, x_mass):
 
 
 def phase_transport(states):
-    """Per-phase viscosity and conductivity of a batch of :class:`letdown.fluid.state.States`.
+    """Per-phase viscosity and conductivity of a batch of :class:`letdown.fluid.state.StateBatch`.
 
     Returns
     -------

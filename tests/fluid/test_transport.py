@@ -1,5 +1,5 @@
 """Viscosity and thermal conductivity (Chung et al. 1988) against CoolProp's reference
-implementations, and the State / States interface.
+implementations, and the State / StateBatch interface.
 
 Reference: CoolProp 8.0.0 (``PropsSI("V" / "L", ...)``): for methane, ethane and nitrogen its
 pure-fluid reference correlations (viscosity and conductivity fitted to measurements, with the

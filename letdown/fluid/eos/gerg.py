@@ -53,7 +53,7 @@ from ...errors import ModelError
 from ..flash import twophase as fl
 from ..components import ComponentSet, critical_temperature_estimate
 from .cubic import PR, CubicEOS
-from ..state import States
+from ..state import StateBatch
 from .gerg_binding import (  # noqa: F401  (the binding's names, importable from here as before)
     GERG_NAMES, P_MAX, PIP_LIQUID, R_GERG, T_RANGE, _import, _Root)
 from .gerg_stability import (  # noqa: F401  (the stability test's constants, as before)
@@ -341,7 +341,7 @@ class GergEngine(GergStability):
             ph["s"][k] = r.s
             ph["molar_mass"][k] = Ms[k]
         conv = ok & np.isfinite(out["h"])
-        return States(T=T.copy(), P=P.copy(), h=out["h"], s=out["s"], Z=out["Z"], cp=out["cp"],
+        return StateBatch(T=T.copy(), P=P.copy(), h=out["h"], s=out["s"], Z=out["Z"], cp=out["cp"],
                       cv=out["cv"], jt=out["jt"], w=out["w"], density=out["density"],
                       molar_mass=Ms, vapour_fraction=np.where(conv, beta, np.nan),
                       zs=zs.copy(), ys=zs.copy(), xs=zs.copy(), n_phases=nph,
@@ -354,7 +354,7 @@ class GergEngine(GergStability):
             raise ModelError(_TWO_PHASE_MSG)
 
     # ----------------------------------------------------------------- batch API
-    def flash_TP(self, T, P, zs) -> States:
+    def flash_TP(self, T, P, zs) -> StateBatch:
         n = T.shape[0]
         pure, _ = fl._pure_index(zs)
         roots = [None] * n
@@ -369,10 +369,10 @@ class GergEngine(GergStability):
         self._refuse(two)
         return self._states(T, P, zs, roots, ok & ~two)
 
-    def flash_PH(self, P, h, zs, T_guess=None) -> States:
+    def flash_PH(self, P, h, zs, T_guess=None) -> StateBatch:
         return self._flash_P_X(P, h, zs, "h", T_guess)
 
-    def flash_PS(self, P, s, zs, T_guess=None) -> States:
+    def flash_PS(self, P, s, zs, T_guess=None) -> StateBatch:
         return self._flash_P_X(P, s, zs, "s", T_guess)
 
     def _solve_T(self, P, target, which, t, lo, hi):

@@ -18,7 +18,7 @@ from . import twophase as fl
 from ..kernels import native
 from ..components import P_REF, R, ComponentSet
 from ..eos.cubic import CubicEOS
-from ..state import States
+from ..state import StateBatch
 from .steps import (TWO_PHASE_DERIV_TOL, TWO_PHASE_DP_REL, TWO_PHASE_DT,  # noqa: F401
                     blank_unconverged as _blank_unconverged, take_split as _take)
 from .boundaryscan import BoundaryScan
@@ -137,7 +137,7 @@ class CubicEngine(ThreePhaseStates, BoundaryScan):
         if extra_conv is not None:
             conv &= extra_conv
         M = zs @ self.comps.Ms
-        res = States(T=T.copy(), P=P.copy(), h=out["h"], s=out["s"], Z=out["Z"], cp=out["cp"],
+        res = StateBatch(T=T.copy(), P=P.copy(), h=out["h"], s=out["s"], Z=out["Z"], cp=out["cp"],
                      cv=out["cv"], jt=out["jt"], w=out["w"], density=out["density"],
                      molar_mass=M, vapour_fraction=beta.copy(), zs=zs.copy(), ys=split.ys.copy(),
                      xs=split.xs.copy(), n_phases=split.n_phases.copy(), converged=conv,
@@ -228,7 +228,7 @@ class CubicEngine(ThreePhaseStates, BoundaryScan):
         return h, s, cp
 
     # ----------------------------------------------------------------- flashes
-    def flash_TP(self, T, P, zs, cold=True) -> States:
+    def flash_TP(self, T, P, zs, cold=True) -> StateBatch:
         """Isothermal flash of a batch (three-phase where it applies: :mod:`.threestates`);
         ``cold=False`` leaves out the stability test's cold trial phases (fl.stability)."""
         _check_TP(T, P)
@@ -238,11 +238,11 @@ class CubicEngine(ThreePhaseStates, BoundaryScan):
             return st
         return self._three_phase_TP(st, split)
 
-    def flash_PH(self, P, h, zs, T_guess=None) -> States:
+    def flash_PH(self, P, h, zs, T_guess=None) -> StateBatch:
         """Isenthalpic flash of a batch (h in J/mol)."""
         return self._flash_P_X(P, h, zs, "h", T_guess)
 
-    def flash_PS(self, P, s, zs, T_guess=None) -> States:
+    def flash_PS(self, P, s, zs, T_guess=None) -> StateBatch:
         """Isentropic flash of a batch (s in J/(mol K))."""
         return self._flash_P_X(P, s, zs, "s", T_guess)
 
@@ -298,7 +298,7 @@ class CubicEngine(ThreePhaseStates, BoundaryScan):
             st = self._fix_pure_two_phase(st, pure)
         return st
 
-    def _fix_pure_two_phase(self, st: States, pure):
+    def _fix_pure_two_phase(self, st: StateBatch, pure):
         """For a pure fluid in its dome, phases share the composition; recompute both phases."""
         i = np.nonzero(pure & (st.n_phases == 2))[0]
         if i.size == 0:

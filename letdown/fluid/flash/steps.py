@@ -9,7 +9,7 @@ from dataclasses import replace
 import numpy as np
 
 from . import twophase as fl
-from ..state import States
+from ..state import StateBatch
 
 #: Temperature step for the effective two-phase heat capacity and Joule-Thomson coefficient [K];
 #: forward differences with warm-started flashes (truncation error ~1e-4 relative, well inside
@@ -28,7 +28,7 @@ def take_split(sp: fl.PTSplit, m) -> fl.PTSplit:
                       fl.SolveReport(r.converged[m], r.iterations[m], r.residual[m], r.message))
 
 
-def blank_unconverged(st: States) -> States:
+def blank_unconverged(st: StateBatch) -> StateBatch:
     """The states with every number of an unconverged case set to NaN."""
     if st.converged.all():
         return st

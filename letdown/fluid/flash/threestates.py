@@ -1,5 +1,5 @@
 """The cubic engine's three-phase states: which cases take the three-phase path, the P-T and
-P-h / P-s states on it, and their assembly as :class:`letdown.fluid.state.States`.
+P-h / P-s states on it, and their assembly as :class:`letdown.fluid.state.StateBatch`.
 
 A mixin of :class:`letdown.fluid.flash.engine.CubicEngine` (the engine's two-phase flash, phase
 properties and assembly stay there); the equilibrium itself is computed by
@@ -17,7 +17,7 @@ Which cases are retested for a third phase (:meth:`ThreePhaseStates._three_phase
 The third phase of a water-free fluid is a second hydrocarbon liquid (vapour-liquid-liquid, e.g.
 a CO2- or H2S-rich liquid beside a methane-rich one). It is never put in the aqueous slot of the
 state: ``aqueous_fraction`` stays None (0 for a fluid with water whose two liquids are both
-hydrocarbon-rich), the two liquids are reported apart in ``States.two_liquids`` and lumped in
+hydrocarbon-rich), the two liquids are reported apart in ``StateBatch.two_liquids`` and lumped in
 ``xs`` / ``liquid`` (what a two-outlet separator's liquid outlet carries).
 """
 from __future__ import annotations
@@ -31,7 +31,7 @@ from . import threephase, threephase_px
 from .steps import (TWO_PHASE_DERIV_TOL, TWO_PHASE_DP_REL, TWO_PHASE_DT, blank_unconverged,
                     take_split)
 from ..components import R
-from ..state import States, empty_two_liquids
+from ..state import StateBatch, empty_two_liquids
 
 #: Water-free mixtures: two-phase answers below this temperature [K] are retested for a second
 #: liquid. Measured (2026-12-02, scans of random compositions of the bench/fuzz_flash.py
@@ -88,7 +88,7 @@ class ThreePhaseStates:
             cold = cold | (zs @ polar > 0.0)
         return (n_phases == 2) & cold
 
-    def _three_phase_needed(self, st: States) -> bool:
+    def _three_phase_needed(self, st: StateBatch) -> bool:
         """Whether any case of these (two-phase flash) states takes a three-phase step."""
         if self._iw is not None:
             return True
@@ -131,7 +131,7 @@ class ThreePhaseStates:
                 out[i] |= fl.stability(self.eos, T[i], P[i], x[i]).tm < FOURTH_PHASE_TM
         return out
 
-    def _aqueous_of_two(self, st: States):
+    def _aqueous_of_two(self, st: StateBatch):
         """Aqueous fraction of states from the two-phase flash [-]: the liquid's fraction where
         water is its largest component, else 0."""
         aq = np.argmax(st.xs, axis=1) == self._iw
@@ -139,7 +139,7 @@ class ThreePhaseStates:
         with np.errstate(invalid="ignore"):
             return np.where(aq & (beta < 1.0), 1.0 - beta, 0.0)
 
-    def _three_phase_TP(self, st: States, split: fl.PTSplit) -> States:
+    def _three_phase_TP(self, st: StateBatch, split: fl.PTSplit) -> StateBatch:
         """The PT states with a third phase where one exists: each converged answer of the cases
         of :meth:`_three_phase_cases` is tested for stability (with the free-water trials where
         the case holds water); where it fails, the state is the three-phase split's
@@ -158,7 +158,7 @@ class ThreePhaseStates:
         return st.put(u, self._assemble_three(st.T[u], st.P[u], st.zs[u],
                                               threephase.take_result(res, unstable)))
 
-    def _three_phase_PX(self, st: States, target, which, T_guess=None) -> States:
+    def _three_phase_PX(self, st: StateBatch, target, which, T_guess=None) -> StateBatch:
         """The P-h (P-s) states with a third phase where one exists. The two-phase answer of a
         case of :meth:`_three_phase_cases` is tested for stability at its temperature; where it
         is not stable (or the two-phase solve failed) T is solved again on the three-phase
@@ -209,7 +209,7 @@ class ThreePhaseStates:
         return st.put(s, self._assemble_three(px.T, st.P[s], st.zs[s], px.flash,
                                               px.report.converged))
 
-    def _assemble_three(self, T, P, zs, res, extra_conv=None) -> States:
+    def _assemble_three(self, T, P, zs, res, extra_conv=None) -> StateBatch:
         """States of a three-phase flash result: the whole from the phases present (h, s and
         volume mole-weighted), the vapour, and the two liquids lumped as the liquid (composition
         and h, s mole-weighted, volumes added). The third slot of ``res`` is the aqueous liquid
@@ -276,7 +276,7 @@ class ThreePhaseStates:
         if one.size:
             A = self._phase(T[one], P[one], zs[one], 0)
             cp[one], cv[one], jt[one], w[one] = A["cp"], A["cv"], A["jt"], A["w"]
-        st = States(T=T.copy(), P=P.copy(), h=whole["h"].copy(), s=whole["s"].copy(),
+        st = StateBatch(T=T.copy(), P=P.copy(), h=whole["h"].copy(), s=whole["s"].copy(),
                     Z=P * v / (R * T), cp=cp, cv=cv, jt=jt, w=w, density=M / v, molar_mass=M,
                     vapour_fraction=bV.copy(), zs=zs.copy(), ys=ys, xs=xs,
                     n_phases=res.n_phases.copy(), converged=conv, vapour=vap, liquid=liq,
