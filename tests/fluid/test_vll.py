@@ -302,3 +302,32 @@ def test_four_phase_state_is_refused_not_given_as_three():
     assert st.converged[1]
     with pytest.raises(ConvergenceError):
         f.flash(T=T, P=P)
+
+
+def test_a_wet_gas_whose_third_phase_is_a_hydrocarbon_liquid_sends_it_out_of_the_liquid_port():
+    """A fluid holding water (10 ppm) whose three phases are vapour and two hydrocarbon liquids
+    (CO2-rich and n-decane-rich; the water stays dissolved: the flash reports an aqueous fraction
+    of 0, found by a grid scan at 240-300 K, 20-80 bar, 2026-12-02). The third slot of that
+    equilibrium holds a hydrocarbon liquid, so a separator with its water port connected must send
+    it out of the liquid port with the other liquid, and nothing out of the water port (the
+    separator's rule with letdown.fluid.flash.threephase.aqueous_third, which had no test of its
+    own)."""
+    from tests.blocks import assert_balanced, feed
+    from letdown.equipment import separator
+    w = 1e-5
+    comp = {"carbon-dioxide": 0.83 * (1 - w), "methane": 0.07 * (1 - w), "n-decane": 0.10 * (1 - w),
+            "water": w}
+    f = letdown.Fluid(comp, model="peng-robinson")
+    T, P = 245.0, 20e5
+    st = f.flash(T=T, P=P)
+    assert st.converged and st.n_phases == 3 and st.aqueous_fraction == 0.0
+    assert 0.0 < st.vapour_fraction < 1.0
+    inlet = feed(f, T=np.array([T]), P=np.array([P]), flow=np.array([10.0]))
+    out = separator.run(f, "drum", {"in": inlet}, {"water_port": True})
+    water, liq, vap = out.outlets["water"], out.outlets["liquid"], out.outlets["vapour"]
+    assert water.flow[0] == 0.0
+    assert liq.flow[0] == pytest.approx(10.0 * (1.0 - st.vapour_fraction), rel=1e-6)
+    assert vap.flow[0] == pytest.approx(10.0 * st.vapour_fraction, rel=1e-6)
+    # both liquids, lumped: the state's liquid composition
+    assert np.max(np.abs(np.asarray(liq.zs)[0] - st.xs)) < 1e-6
+    assert_balanced({"in": inlet}, out)
