@@ -70,14 +70,14 @@ def test_both_paths_agree_on_random_dense_states():
 @pytest.mark.parametrize("name", ["gulf-coast", "amarillo", "ekofisk", "high-n2", "high-co2",
                                   "demo-station"])
 def test_estimate_is_near_the_envelope_critical_point(name):
-    """Measured when the rule was written: within 3 % (1 % on these gases) of the critical point
-    of letdown's own Peng-Robinson envelope (gulf-coast 198.6 / 199.7 K, ekofisk 218.0 / 219.7 K,
-    demo-station 203.4 / 205.7 K)."""
+    """Measured when the rule was written: 1.3 % at most below the critical point of letdown's own
+    Peng-Robinson envelope on these gases (gulf-coast 198.6 / 199.7 K, ekofisk 218.0 / 219.7 K,
+    high-n2 193.1 / 195.6 K, demo-station 203.4 / 205.7 K); asserted within 2 %."""
     gas = next(g for g in vars(cases).values() if isinstance(g, cases.Gas) and g.name == name)
     fluid = letdown.Fluid(gas.composition)
     crit = fluid.envelope().critical
     est = critical_temperature_estimate(fluid.engine.eos.comps, fluid.zs)[0]
-    assert abs(est - crit.T) / crit.T < 0.03
+    assert abs(est - crit.T) / crit.T < 0.02
 
 
 def test_estimate_matches_li_rule_from_chemicals():
