@@ -34,3 +34,12 @@ INCH = 0.0254                       # [m]
 POUND = 0.45359237                  # [kg]
 PSI = 6894.757293168361             # [Pa] one pound-force per square inch
 CUBIC_FOOT = FOOT ** 3              # [m3]
+
+#: Standard conditions of US gas volumes, scf: 60 degF and 14.696 psia (common practice in North
+#: America).
+SCF_T = (60.0 + 459.67) / 1.8       # [K]
+SCF_P = 14.696 * PSI                # [Pa]
+
+#: Moles of ideal gas in one standard cubic metre (ISO 13443) and in one scf [mol].
+MOL_PER_SM3 = STANDARD_P / (R * STANDARD_T)
+MOL_PER_SCF = SCF_P * CUBIC_FOOT / (R * SCF_T)

@@ -44,7 +44,7 @@ import math
 import re
 from dataclasses import dataclass
 
-from .constants import PSI, R, STANDARD_ATMOSPHERE  # noqa: F401  (re-exported: the units' constants)
+from .constants import CUBIC_FOOT, PSI, R, SCF_P, SCF_T, STANDARD_ATMOSPHERE  # noqa: F401  (re-exported)
 from .errors import InputError
 
 
@@ -145,9 +145,9 @@ class StandardConditions:
         return self.volume / self.molar_volume
 
 
-_FT3 = 0.3048 ** 3          # cubic foot [m3]; 1 ft = 0.3048 m exactly (NIST SP 811)
-_SCF_T = (60.0 + 459.67) / 1.8   # 60 degF [K]
-_SCF_P = 14.696 * PSI           # 14.696 psia [Pa]
+_FT3 = CUBIC_FOOT            # cubic foot [m3]; 1 ft = 0.3048 m exactly (NIST SP 811)
+_SCF_T = SCF_T               # 60 degF [K]
+_SCF_P = SCF_P               # 14.696 psia [Pa]
 
 #: Standard-volume units, keyed by lower-case symbol.
 STANDARD_CONDITIONS: dict[str, StandardConditions] = {

@@ -11,15 +11,14 @@ import re
 from typing import Mapping
 
 from ..caution import CAUTION
-from ..constants import CUBIC_FOOT, POUND, PSI, R, STANDARD_P, STANDARD_T
+from ..constants import MOL_PER_SCF, MOL_PER_SM3, POUND
 from ..quantities import (STANDARD_ATMOSPHERE, STANDARD_CONDITIONS, format_number, unit_system)
 from .tables import DEFAULT_WIDTH, Table, equipment_table, pick, render, stream_table
 
 #: lb of water per MMscf (60 degF, 14.696 psia) in one mg per Sm3 (15 degC, 101.325 kPa), both per
 #: ideal-gas standard volume: (1e-6 / 0.45359237 lb) * (moles in 1e6 scf) / (moles in 1 Sm3), so
 #: 1 lb/MMscf = 16.049 mg/Sm3 (REFERENCE_DATA.md section 3 says "about 16.02", status C).
-LB_MMSCF_PER_MG_SM3 = 1e-6 / POUND * 1e6 * (14.696 * PSI * CUBIC_FOOT / (R * 288.7055556)) \
-    / (STANDARD_P / (R * STANDARD_T))
+LB_MMSCF_PER_MG_SM3 = 1e-6 / POUND * 1e6 * MOL_PER_SCF / MOL_PER_SM3
 
 #: Unit kind of a held stream or block quantity / a varied block parameter (by attribute name).
 _ATTRIBUTE_UNIT = {

@@ -35,17 +35,14 @@ from __future__ import annotations
 
 import numpy as np
 
-from ...constants import (CUBIC_FOOT, POUND, PSI, STANDARD_P, STANDARD_T,  # noqa: F401
-                          ZERO_CELSIUS)
+from ...constants import MOL_PER_SCF, MOL_PER_SM3, POUND, PSI  # noqa: F401  (PSI re-exported)
 from ...errors import ConvergenceError, InputError
 from ..components import COMPONENTS, R
 from ...numerics.report import SolveReport
 
 M_WATER = COMPONENTS["water"].M   # [kg/mol]
-#: Moles of ideal gas in one standard cubic metre (15 degC, 101.325 kPa, ISO 13443) [mol/Sm3]
-MOL_PER_SM3 = STANDARD_P / (R * STANDARD_T)
-#: Moles of ideal gas in one standard cubic foot (60 degF, 14.696 psia) [mol/scf]
-MOL_PER_SCF = 14.696 * PSI * CUBIC_FOOT / (R * ((60.0 - 32.0) / 1.8 + ZERO_CELSIUS))
+#: MOL_PER_SM3 and MOL_PER_SCF (letdown.constants): moles of ideal gas in one standard cubic metre
+#: (15 degC, 101.325 kPa, ISO 13443) and in one standard cubic foot (60 degF, 14.696 psia).
 LB = POUND                    # [kg]
 
 #: Wagner & Pruss (2002) eq. 2.5: critical point and coefficients a1..a6
